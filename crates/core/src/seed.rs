@@ -73,7 +73,8 @@ impl StreamKey {
         let base = mix64(self.trial_hash() ^ hash_bytes(2, stream.as_bytes()));
         let mut seed = [0u8; 32];
         for (lane, chunk) in seed.chunks_mut(8).enumerate() {
-            let word = mix64(base.wrapping_add((lane as u64 + 1).wrapping_mul(0x9e37_79b9_7f4a_7c15)));
+            let word =
+                mix64(base.wrapping_add((lane as u64 + 1).wrapping_mul(0x9e37_79b9_7f4a_7c15)));
             chunk.copy_from_slice(&word.to_le_bytes());
         }
         seed

@@ -1,1 +1,85 @@
-//! placeholder
+//! Motion models: what moves in a room, as a set of point echoes over time.
+//!
+//! Every actor of a scene (a walking person, a breathing person, a swaying
+//! plant, a fan, a pet, a door, a bench reflector) is turned into a handful of
+//! point echoes, each with a position, a velocity and a signed amplitude
+//! `√σ` (square root of its radar cross-section, in metres). The scene crate
+//! owns the radar: it applies the antenna pattern, the R⁻² amplitude law and
+//! the round-trip phase 4πR/λ. Keeping the models radar-agnostic means one
+//! synthesis loop serves every actor, and the models can be tested on their
+//! kinematics alone.
+//!
+//! Models are evaluated at a modest "node" rate that each model declares
+//! ([`MotionModel::node_rate_hz`]); the synthesizer interpolates ranges between
+//! nodes with cubic Hermite polynomials, using the velocities given here.
+//! Calls come with non-decreasing times, so a model may keep state (a random
+//! gust process, for instance) and advance it.
+#![deny(missing_docs)]
+
+pub mod animal;
+pub mod breathing;
+pub mod door;
+pub mod fan;
+pub mod path;
+pub mod rcs;
+pub mod reflector;
+pub mod sway;
+pub mod walker;
+
+/// Room coordinates: x, y horizontal, z up, metres.
+pub type Vec3 = [f64; 3];
+
+/// One point echo at one instant.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Echo {
+    /// Position in room coordinates, m.
+    pub position_m: Vec3,
+    /// Velocity in room coordinates, m/s (used to interpolate the range between nodes).
+    pub velocity_mps: Vec3,
+    /// Signed amplitude √σ in m (σ = radar cross-section in m²). A sign change
+    /// flips the echo's phase by π, as a sinc-shaped blade return does.
+    pub amplitude_m: f64,
+}
+
+/// A moving thing, seen as point echoes.
+pub trait MotionModel: Send {
+    /// Appends this model's echoes at time `t_s` (seconds from trial start).
+    ///
+    /// `sensor_m` is the sensor position: aspect-dependent cross-sections
+    /// (body-segment ellipsoids, fan blades, door plates) need the line of
+    /// sight. Calls come with non-decreasing `t_s`. An absent actor appends nothing
+    /// or echoes of zero amplitude; the number of echoes may not change while
+    /// the actor is present (the synthesizer pairs echoes between nodes by index),
+    /// so models that appear and disappear keep their echo count and ramp amplitudes.
+    fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>);
+
+    /// Number of echoes [`echoes`](MotionModel::echoes) appends on every call.
+    fn echo_count(&self) -> usize;
+
+    /// The lowest rate, in Hz, at which this model must be evaluated so that
+    /// cubic interpolation of its ranges (and linear interpolation of its
+    /// amplitudes) stays accurate at wavelength `wavelength_m`.
+    fn node_rate_hz(&self, wavelength_m: f64) -> f64;
+
+    /// An upper bound on the speed of any of its echoes, m/s (sets the
+    /// synthesizer's oversampling factor from the largest Doppler 2v/λ).
+    fn max_speed_mps(&self) -> f64;
+
+    /// Intervals (seconds) in which the actor is present and moving, for the ground truth.
+    fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)>;
+}
+
+/// Euclidean norm.
+pub fn norm(v: Vec3) -> f64 {
+    (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()
+}
+
+/// `a - b`.
+pub fn sub(a: Vec3, b: Vec3) -> Vec3 {
+    [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
+}
+
+/// Dot product.
+pub fn dot(a: Vec3, b: Vec3) -> f64 {
+    a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
+}
