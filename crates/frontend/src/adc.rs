@@ -1,0 +1,165 @@
+//! The ADC: uniform quantization to integer codes with clipping.
+//!
+//! Ideal N-bit converter over a span [low, high]: LSB q = (high − low)/2^N
+//! (physics.md §4: 12 bit at 3.3 V → 0.806 mV). Conversion rounds to the
+//! nearest level (mid-tread): code k stands for low + k·q, k = 0 … 2^N − 1, so
+//! inside the span the error is uniform on ±q/2 with power q²/12 (Bennett 1948)
+//! and a full-scale sine has SNR 6.02·N + 1.76 dB. Inputs beyond the span clip
+//! to the end codes. With [`AdcCoding::TwosComplement`] the same levels are
+//! numbered −2^(N−1) … 2^(N−1) − 1 (a ±V converter); the mid-span level is code
+//! 2^(N−1) offset-binary or 0 two's complement.
+
+use crate::error::{finite, positive, ParamError};
+
+/// Most bits accepted (codes must fit i32 with room; 24 bit is the usual top).
+pub const MAX_ADC_BITS: u8 = 24;
+
+/// How the levels are numbered.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum AdcCoding {
+    /// 0 … 2^N − 1 from the low to the high end of the span (unipolar MCU ADCs).
+    OffsetBinary,
+    /// −2^(N−1) … 2^(N−1) − 1 (bipolar converters).
+    TwosComplement,
+}
+
+/// An ideal N-bit ADC.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Adc {
+    bits: u8,
+    low_v: f64,
+    high_v: f64,
+    lsb_v: f64,
+    top_index: f64,
+    code_offset: i32,
+}
+
+impl Adc {
+    /// A unipolar ADC over 0 … `full_scale_v`, offset-binary codes 0 … 2^N − 1
+    /// (the usual microcontroller ADC; a mid-rail bias centres the IF on it).
+    ///
+    /// # Errors
+    /// When `bits` is not in 1 ..= 24 or `full_scale_v` is not finite and positive.
+    ///
+    /// ```
+    /// use echobench_frontend::Adc;
+    /// let adc = Adc::new(12, 3.3).unwrap();
+    /// assert!((adc.lsb_v() - 0.806e-3).abs() < 1e-6);
+    /// assert_eq!(adc.code(1.65), 2048);
+    /// assert_eq!(adc.code(5.0), 4095);
+    /// assert_eq!(adc.code(-1.0), 0);
+    /// ```
+    pub fn new(bits: u8, full_scale_v: f64) -> Result<Self, ParamError> {
+        let full_scale_v = positive("full_scale_v", full_scale_v)?;
+        Self::with_span(bits, 0.0, full_scale_v, AdcCoding::OffsetBinary)
+    }
+
+    /// A bipolar ADC over −`half_span_v` … +`half_span_v`, two's-complement codes.
+    ///
+    /// # Errors
+    /// When `bits` is not in 1 ..= 24 or `half_span_v` is not finite and positive.
+    pub fn bipolar(bits: u8, half_span_v: f64) -> Result<Self, ParamError> {
+        let half_span_v = positive("half_span_v", half_span_v)?;
+        Self::with_span(bits, -half_span_v, half_span_v, AdcCoding::TwosComplement)
+    }
+
+    /// An ADC over any span [low_v, high_v] with either coding.
+    ///
+    /// # Errors
+    /// When `bits` is not in 1 ..= 24, or the span ends are not finite with
+    /// low_v < high_v.
+    pub fn with_span(
+        bits: u8,
+        low_v: f64,
+        high_v: f64,
+        coding: AdcCoding,
+    ) -> Result<Self, ParamError> {
+        if bits == 0 || bits > MAX_ADC_BITS {
+            return Err(ParamError::new(
+                "bits",
+                f64::from(bits),
+                format!("must be in 1 ..= {MAX_ADC_BITS}"),
+            ));
+        }
+        let low_v = finite("low_v", low_v)?;
+        let high_v = finite("high_v", high_v)?;
+        if low_v >= high_v {
+            return Err(ParamError::new(
+                "high_v",
+                high_v,
+                format!("must be above low_v = {low_v}"),
+            ));
+        }
+        let levels = 1u32 << bits;
+        let code_offset = match coding {
+            AdcCoding::OffsetBinary => 0,
+            AdcCoding::TwosComplement => 1i32 << (bits - 1),
+        };
+        Ok(Adc {
+            bits,
+            low_v,
+            high_v,
+            lsb_v: (high_v - low_v) / f64::from(levels),
+            top_index: f64::from(levels - 1),
+            code_offset,
+        })
+    }
+
+    /// Resolution in bits.
+    pub fn bits(&self) -> u8 {
+        self.bits
+    }
+
+    /// One LSB, q = span/2^N, V.
+    pub fn lsb_v(&self) -> f64 {
+        self.lsb_v
+    }
+
+    /// Low end of the span, V (the level of the lowest code).
+    pub fn low_v(&self) -> f64 {
+        self.low_v
+    }
+
+    /// High end of the span, V (the highest code stands for high − q).
+    pub fn high_v(&self) -> f64 {
+        self.high_v
+    }
+
+    /// The lowest code (0, or −2^(N−1) two's complement).
+    pub fn min_code(&self) -> i32 {
+        -self.code_offset
+    }
+
+    /// The highest code (2^N − 1, or 2^(N−1) − 1 two's complement).
+    pub fn max_code(&self) -> i32 {
+        self.top_index as i32 - self.code_offset
+    }
+
+    /// Converts a voltage: rounds to the nearest level and clips to the codes.
+    /// A NaN input gives the lowest code.
+    #[inline]
+    pub fn code(&self, input_v: f64) -> i32 {
+        let index = ((input_v - self.low_v) / self.lsb_v).round();
+        // `as` saturates and maps NaN to 0, so no input can panic here.
+        let index = index.clamp(0.0, self.top_index) as i32;
+        index - self.code_offset
+    }
+
+    /// The voltage a code stands for, V.
+    #[inline]
+    pub fn volts(&self, code: i32) -> f64 {
+        self.low_v + f64::from(code + self.code_offset) * self.lsb_v
+    }
+
+    /// Converts a block, appending the codes to `codes_out`.
+    pub fn codes_into(&self, input_v: &[f64], codes_out: &mut Vec<i32>) {
+        codes_out.extend(input_v.iter().map(|&v| self.code(v)));
+    }
+}
+
+/// SNR of an ideal N-bit converter for a full-scale sine:
+/// 10·log10(1.5·2^(2N)) = 6.02·N + 1.76 dB (Bennett 1948; physics.md §4:
+/// 10/12/16 bit → 62.0/74.0/98.1 dB).
+pub fn ideal_sine_snr_db(bits: u8) -> f64 {
+    10.0 * (1.5f64).log10() + 20.0 * f64::from(bits) * 2f64.log10()
+}
