@@ -7,6 +7,7 @@
 //! makes every trial reproducible whatever the thread count or shard split.
 #![deny(missing_docs)]
 
+pub mod atomic;
 pub mod seed;
 
 use std::fmt;

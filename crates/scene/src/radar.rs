@@ -1,0 +1,130 @@
+//! Radar relations: wavelength, Doppler, the range equation and the antenna pattern.
+
+/// Speed of light in vacuum, m/s (exact by the SI definition).
+pub const SPEED_OF_LIGHT_MPS: f64 = 299_792_458.0;
+
+/// Wavelength λ = c / f0, m.
+pub fn wavelength_m(carrier_hz: f64) -> f64 {
+    SPEED_OF_LIGHT_MPS / carrier_hz
+}
+
+/// Doppler shift of a radial speed, Hz: f_d = 2 v / λ (Skolnik, *Introduction to Radar Systems*, ch. 3).
+pub fn doppler_hz(radial_speed_mps: f64, carrier_hz: f64) -> f64 {
+    2.0 * radial_speed_mps / wavelength_m(carrier_hz)
+}
+
+/// Received power by the radar range equation, W:
+/// P_r = P_t G_t G_r λ² σ / ((4π)³ R⁴) (Skolnik, ch. 2).
+pub fn received_power_w(tx_power_w: f64, gain_tx: f64, gain_rx: f64, wavelength_m: f64, rcs_m2: f64, range_m: f64) -> f64 {
+    let four_pi_cubed = (4.0 * std::f64::consts::PI).powi(3);
+    tx_power_w * gain_tx * gain_rx * wavelength_m * wavelength_m * rcs_m2 / (four_pi_cubed * range_m.powi(4))
+}
+
+/// dBm to watts.
+pub fn dbm_to_w(dbm: f64) -> f64 {
+    1e-3 * 10f64.powf(dbm / 10.0)
+}
+
+/// The transmit and mixer figures that set the IF amplitude of an echo.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LinkBudget {
+    /// Transmit power, dBm.
+    pub tx_power_dbm: f64,
+    /// Boresight gain of each antenna (TX = RX), dBi.
+    pub antenna_gain_dbi: f64,
+    /// Mixer conversion loss from RF to IF, dB.
+    pub conversion_loss_db: f64,
+    /// Impedance the received power develops its voltage across, Ω.
+    pub load_ohm: f64,
+}
+
+impl LinkBudget {
+    /// IF peak amplitude (V) of a 1 m² echo at 1 m on boresight.
+    ///
+    /// In its small-signal regime the mixer's IF voltage is proportional to the
+    /// received RF voltage, √(2 P_r R_load), less the conversion loss; every
+    /// echo then scales as √σ / R² times the two-way pattern (physics.md §1.2,
+    /// common practice).
+    pub fn amplitude_v_at_1m_1m2(&self, wavelength_m: f64) -> f64 {
+        let gain = 10f64.powf(self.antenna_gain_dbi / 10.0);
+        let power = received_power_w(dbm_to_w(self.tx_power_dbm), gain, gain, wavelength_m, 1.0, 1.0);
+        (2.0 * power * self.load_ohm).sqrt() * 10f64.powf(-self.conversion_loss_db / 20.0)
+    }
+}
+
+/// A cosⁿ beam with separate azimuth and elevation widths and a floor for the
+/// side and back lobes.
+///
+/// One-way power gain G(θ)/G0 = cosⁿθ with n = ln 0.5 / ln cos(θ₃dB/2)
+/// (physics.md §1.2, common practice); the two-way amplitude pattern of equal
+/// TX and RX antennas is the same number.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Beam {
+    exponent_azimuth: f64,
+    exponent_elevation: f64,
+    floor: f64,
+}
+
+/// The cosⁿ exponent that puts the one-way −3 dB points at ±width/2.
+pub fn cos_exponent_for_width(width_3db_deg: f64) -> f64 {
+    0.5f64.ln() / (0.5 * width_3db_deg).to_radians().cos().ln()
+}
+
+impl Beam {
+    /// A beam with the given full −3 dB widths (degrees, in (0, 180)) and a lobe floor in dB (< 0).
+    pub fn new(azimuth_3db_deg: f64, elevation_3db_deg: f64, floor_db: f64) -> Beam {
+        Beam {
+            exponent_azimuth: cos_exponent_for_width(azimuth_3db_deg),
+            exponent_elevation: cos_exponent_for_width(elevation_3db_deg),
+            floor: 10f64.powf(floor_db / 10.0),
+        }
+    }
+
+    /// Two-way amplitude pattern for a direction given in the antenna frame
+    /// (`forward` along boresight, `left`, `up`, not necessarily normalised).
+    pub fn gain(&self, forward: f64, left: f64, up: f64) -> f64 {
+        if forward <= 0.0 {
+            return self.floor;
+        }
+        let cos_az = forward / forward.hypot(left);
+        let cos_el = forward.hypot(left) / (forward * forward + left * left + up * up).sqrt();
+        (cos_az.powf(self.exponent_azimuth) * cos_el.powf(self.exponent_elevation)).max(self.floor)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn wavelengths_and_doppler_match_reference_table() {
+        // physics.md §6 checks 1–3 [C, c exact; formula Skolnik].
+        for (f0, lambda_mm, fd) in [(2.45e9, 122.364, 16.345), (5.8e9, 51.688, 38.693), (10.525e9, 28.484, 70.215), (24.125e9, 12.427, 160.945)] {
+            assert!((wavelength_m(f0) * 1e3 - lambda_mm).abs() < 1e-3);
+            assert!((doppler_hz(1.0, f0) - fd).abs() < 1e-3);
+        }
+        assert!((doppler_hz(0.44704, 10.525e9) - 31.39).abs() < 0.01); // 1 mph, check 3
+    }
+
+    #[test]
+    fn range_equation_example() {
+        // physics.md check 7 [C from Skolnik's range equation]: 10 dBm, 6 dBi × 2, 1 m², 5 m, 5.8 GHz → −64.67 dBm.
+        let g = 10f64.powf(0.6);
+        let p = received_power_w(dbm_to_w(10.0), g, g, wavelength_m(5.8e9), 1.0, 5.0);
+        let dbm = 10.0 * (p / 1e-3).log10();
+        assert!((dbm - (-64.67)).abs() < 0.01, "{dbm}");
+    }
+
+    #[test]
+    fn beam_exponent_and_half_power_points() {
+        // physics.md check 28 [C]: 80° HPBW → n = 2.601; 60° → 4.82.
+        assert!((cos_exponent_for_width(80.0) - 2.601).abs() < 1e-3);
+        assert!((cos_exponent_for_width(60.0) - 4.82).abs() < 1e-2);
+        let beam = Beam::new(80.0, 40.0, -30.0);
+        let az = 40f64.to_radians();
+        assert!((beam.gain(az.cos(), az.sin(), 0.0) - 0.5).abs() < 1e-12);
+        let el = 20f64.to_radians();
+        assert!((beam.gain(el.cos(), 0.0, el.sin()) - 0.5).abs() < 1e-12);
+        assert_eq!(beam.gain(-1.0, 0.0, 0.0), 1e-3);
+    }
+}
