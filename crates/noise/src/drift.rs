@@ -1,9 +1,14 @@
-//! Slow DC drift (temperature) as an Ornstein–Uhlenbeck process.
+//! Slow DC drift (temperature) as a smooth second-order random process.
 //!
 //! Temperature drift moves the stationary-clutter phase and the mixer's DC level
-//! slowly (physics.md §4; the IF high-pass removes most of it). An
-//! Ornstein–Uhlenbeck process has the two parameters one can state for such
-//! drift, its RMS and its correlation time, and a Lorentzian spectrum.
+//! slowly (physics.md §4; the IF high-pass removes most of it). It is stated by
+//! its RMS and its correlation time. A plain Ornstein–Uhlenbeck process with
+//! those two numbers has a Lorentzian spectrum whose 1/f² tail would put
+//! tens of µV/√Hz of "drift" into the Hz band, far above a module's noise floor;
+//! a temperature follows its heat source through a thermal lag, so the drift
+//! here is an OU process passed through a first-order lag of the same time
+//! constant: spectrum ∝ 1/(1 + (2πfτ)²)², autocorrelation (1 + |lag|/τ)·e^{−|lag|/τ}
+//! (common practice for a thermally smoothed random walk).
 
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, StandardNormal};
@@ -51,14 +56,16 @@ impl OrnsteinUhlenbeck {
 pub struct DcDriftParams {
     /// Standard deviation of the drift, V.
     pub rms_v: f64,
-    /// Correlation time τ (autocorrelation e^{−lag/τ}), s.
+    /// Time constant τ of the process and of the thermal lag (autocorrelation (1 + lag/τ)·e^{−lag/τ}), s.
     pub time_constant_s: f64,
 }
 
-/// Slow zero-mean DC wander: an Ornstein–Uhlenbeck process.
+/// Slow zero-mean DC wander: an OU process through a first-order thermal lag.
 #[derive(Debug, Clone)]
 pub struct DcDrift {
     process: OrnsteinUhlenbeck,
+    lag_pole: f64,
+    lagged: f64,
     rng: ChaCha8Rng,
 }
 
@@ -86,15 +93,22 @@ impl DcDrift {
         let rms_v = non_negative("rms_v", params.rms_v)?;
         let time_constant_s = positive("time_constant_s", params.time_constant_s)?;
         let mut rng = rng_from_seed(seed);
-        let process = OrnsteinUhlenbeck::new(rms_v, time_constant_s, fs, &mut rng);
-        Ok(DcDrift { process, rng })
+        // A unit OU input through the lag 1/(1 + sτ) comes out with variance 1/2,
+        // so the input carries √2·rms. Stationary start: the lagged state given the
+        // input x is N(x/2, rms²/2) (their covariance is rms²).
+        let process = OrnsteinUhlenbeck::new(std::f64::consts::SQRT_2 * rms_v, time_constant_s, fs, &mut rng);
+        let z: f64 = StandardNormal.sample(&mut rng);
+        let lagged = 0.5 * process.value() + rms_v * std::f64::consts::FRAC_1_SQRT_2 * z;
+        let lag_pole = (-1.0 / (time_constant_s * fs)).exp();
+        Ok(DcDrift { process, lag_pole, lagged, rng })
     }
 }
 
 impl AdditiveNoise for DcDrift {
     fn add_to(&mut self, out: &mut [f64]) {
         for sample in out.iter_mut() {
-            *sample += self.process.value();
+            *sample += self.lagged;
+            self.lagged = self.lag_pole * self.lagged + (1.0 - self.lag_pole) * self.process.value();
             self.process.advance(&mut self.rng);
         }
     }

@@ -104,8 +104,8 @@ fn beat_above_nyquist_does_not_alias() {
     }
 }
 
-/// Ornstein–Uhlenbeck DC drift: RMS as configured and autocorrelation e^{−1} at a
-/// lag of one time constant (exact discretization of the OU process).
+/// Smoothed DC drift: RMS as configured and autocorrelation (1 + 1)·e^{−1} = 0.736 at a
+/// lag of one time constant (OU process through a first-order lag of the same τ).
 #[test]
 fn dc_drift_has_rms_and_correlation_time() {
     let fs = 100.0;
@@ -132,7 +132,7 @@ fn dc_drift_has_rms_and_correlation_time() {
         / (n - lag as f64);
     let correlation = covariance / variance;
     assert!(
-        (correlation - (-1f64).exp()).abs() < 0.05,
+        (correlation - 2.0 * (-1f64).exp()).abs() < 0.05,
         "r(τ) = {correlation}"
     );
 }
