@@ -31,7 +31,10 @@ where
 }
 
 fn temporary_name(path: &Path) -> PathBuf {
-    let mut name = path.file_name().map(|n| n.to_os_string()).unwrap_or_default();
+    let mut name = path
+        .file_name()
+        .map(|n| n.to_os_string())
+        .unwrap_or_default();
     name.push(format!(".partial-{}", std::process::id()));
     path.with_file_name(name)
 }

@@ -8,6 +8,7 @@
 #![deny(missing_docs)]
 
 pub mod atomic;
+pub mod detector;
 pub mod seed;
 
 use std::fmt;

@@ -1,0 +1,510 @@
+//! The detector plugin interface.
+//!
+//! Detectors are **pushed** blocks of samples of any length and **emit
+//! scores**, not decisions:
+//!
+//! - Push, because the same detector must run on a synthetic trial held in
+//!   memory, on a recording streamed from disk and, in the end, on a
+//!   microcontroller's DMA buffers: whoever owns the samples decides the block
+//!   size, and the detector keeps whatever state it needs between blocks. The
+//!   caller owns the output buffer too, so the hot path never allocates.
+//! - Scores, because the threshold is what a product team tunes: the harness
+//!   sweeps it to draw ROC curves and to find the operating point that meets a
+//!   false-alarm budget, and the alarm logic (threshold, hold time, M-of-N)
+//!   lives once in the harness, the same for every detector.
+//!
+//! A plugin declares its parameters ([`ParamSpec`]: name, unit, default,
+//! allowed range), so that `echobench detectors` can list them and a bad value
+//! is refused with a message naming the parameter, the value and the range,
+//! before any trial runs. It also declares its cost ([`Cost`]): state memory
+//! and arithmetic per sample, for a team that must fit it in a small MCU.
+
+use crate::{Score, StreamInfo};
+use std::collections::BTreeMap;
+use std::fmt;
+
+/// A running detector: state for one stream.
+pub trait Detector: Send {
+    /// Consumes `block` (any length, including 0 and 1; I/Q streams interleave
+    /// I, Q) and pushes one [`Score`] per completed decision frame, in time
+    /// order, onto `out`. Scores must not depend on how the stream is split
+    /// into blocks.
+    fn process(&mut self, block: &[f32], out: &mut Vec<Score>);
+
+    /// Forgets all state, as if freshly built.
+    fn reset(&mut self);
+}
+
+/// A kind of detector that can be built from parameters.
+pub trait DetectorPlugin: Send + Sync {
+    /// Stable identifier used in suite files, e.g. `"ca-cfar"`.
+    fn id(&self) -> &'static str;
+
+    /// One line for `echobench detectors`.
+    fn about(&self) -> &'static str;
+
+    /// The parameters it takes, with defaults and ranges.
+    fn params(&self) -> &'static [ParamSpec];
+
+    /// Builds a detector for a stream.
+    ///
+    /// # Errors
+    /// When the parameters do not fit together or do not fit the stream
+    /// (a band above Nyquist, guard cells ≥ training cells, ...).
+    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError>;
+
+    /// What it costs on a small processor with these parameters.
+    ///
+    /// # Errors
+    /// As [`DetectorPlugin::build`].
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError>;
+}
+
+/// Declared resources of a configured detector.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Cost {
+    /// State memory, bytes, at the data types a port to an MCU would use
+    /// (as implemented here; say so in the plugin doc where they differ).
+    pub state_bytes: usize,
+    /// Arithmetic operations (multiply, add, compare) per input sample, an estimate.
+    pub ops_per_sample: f64,
+}
+
+/// The kind and range of a parameter.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ParamKind {
+    /// A real number in `[min, max]`.
+    Real {
+        /// Smallest allowed value.
+        min: f64,
+        /// Largest allowed value.
+        max: f64,
+    },
+    /// A whole number in `[min, max]`.
+    Integer {
+        /// Smallest allowed value.
+        min: i64,
+        /// Largest allowed value.
+        max: i64,
+    },
+    /// One of a list of names.
+    Choice(&'static [&'static str]),
+    /// True or false.
+    Flag,
+}
+
+/// A parameter value.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ParamValue {
+    /// A real number.
+    Real(f64),
+    /// A whole number.
+    Integer(i64),
+    /// A name (for [`ParamKind::Choice`]).
+    Text(String),
+    /// A flag.
+    Flag(bool),
+}
+
+impl fmt::Display for ParamValue {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ParamValue::Real(x) => write!(f, "{x}"),
+            ParamValue::Integer(i) => write!(f, "{i}"),
+            ParamValue::Text(s) => f.write_str(s),
+            ParamValue::Flag(b) => write!(f, "{b}"),
+        }
+    }
+}
+
+/// A declared parameter.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ParamSpec {
+    /// Name, with its unit as a suffix where it has one (`frame_len`, `hold_s`, `low_hz`).
+    pub name: &'static str,
+    /// Unit for display ("Hz", "s", "samples", "" for none).
+    pub unit: &'static str,
+    /// What it does, one line.
+    pub about: &'static str,
+    /// Kind and range.
+    pub kind: ParamKind,
+    /// Value used when the suite does not set it.
+    pub default: DefaultValue,
+}
+
+/// A default that can live in a `static` table.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum DefaultValue {
+    /// A real number.
+    Real(f64),
+    /// A whole number.
+    Integer(i64),
+    /// A name.
+    Text(&'static str),
+    /// A flag.
+    Flag(bool),
+}
+
+impl DefaultValue {
+    fn to_value(self) -> ParamValue {
+        match self {
+            DefaultValue::Real(x) => ParamValue::Real(x),
+            DefaultValue::Integer(i) => ParamValue::Integer(i),
+            DefaultValue::Text(s) => ParamValue::Text(s.to_string()),
+            DefaultValue::Flag(b) => ParamValue::Flag(b),
+        }
+    }
+}
+
+impl ParamSpec {
+    /// The allowed values, for messages and listings.
+    pub fn allowed(&self) -> String {
+        match self.kind {
+            ParamKind::Real { min, max } => format!("a number in [{min}, {max}]"),
+            ParamKind::Integer { min, max } => format!("a whole number in [{min}, {max}]"),
+            ParamKind::Choice(names) => format!("one of {}", names.join(", ")),
+            ParamKind::Flag => "true or false".to_string(),
+        }
+    }
+
+    /// The default as a value.
+    pub fn default_value(&self) -> ParamValue {
+        self.default.to_value()
+    }
+
+    fn check(&self, value: &ParamValue) -> Result<ParamValue, String> {
+        match (self.kind, value) {
+            (ParamKind::Real { min, max }, ParamValue::Real(x))
+                if x.is_finite() && *x >= min && *x <= max =>
+            {
+                Ok(ParamValue::Real(*x))
+            }
+            (ParamKind::Real { min, max }, ParamValue::Integer(i))
+                if (*i as f64) >= min && (*i as f64) <= max =>
+            {
+                Ok(ParamValue::Real(*i as f64))
+            }
+            (ParamKind::Integer { min, max }, ParamValue::Integer(i)) if *i >= min && *i <= max => {
+                Ok(ParamValue::Integer(*i))
+            }
+            (ParamKind::Choice(names), ParamValue::Text(s)) if names.contains(&s.as_str()) => {
+                Ok(value.clone())
+            }
+            (ParamKind::Flag, ParamValue::Flag(_)) => Ok(value.clone()),
+            _ => Err(format!("expected {}", self.allowed())),
+        }
+    }
+}
+
+/// Why a detector could not be configured.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ParamError {
+    /// The detector's id.
+    pub detector: String,
+    /// The parameter (or parameters, for a relation between them).
+    pub param: String,
+    /// The value given, as written.
+    pub value: String,
+    /// What would have been accepted.
+    pub message: String,
+}
+
+impl fmt::Display for ParamError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "detector `{}`: parameter `{}` = {}: {}",
+            self.detector, self.param, self.value, self.message
+        )
+    }
+}
+
+impl std::error::Error for ParamError {}
+
+impl ParamError {
+    /// An error about `param` of `detector`.
+    pub fn new(
+        detector: &str,
+        param: &str,
+        value: impl fmt::Display,
+        message: impl Into<String>,
+    ) -> Self {
+        ParamError {
+            detector: detector.to_string(),
+            param: param.to_string(),
+            value: value.to_string(),
+            message: message.into(),
+        }
+    }
+}
+
+/// Resolved parameters: every declared parameter has a checked value.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Params {
+    values: BTreeMap<&'static str, ParamValue>,
+}
+
+impl Params {
+    /// Fills the defaults of `specs`, then applies `given` (name, value) pairs,
+    /// checking names and ranges.
+    ///
+    /// # Errors
+    /// An unknown name (with the nearest known name suggested) or a value outside its range.
+    ///
+    /// ```
+    /// use echobench_core::detector::{DefaultValue, ParamKind, ParamSpec, ParamValue, Params};
+    /// static SPECS: [ParamSpec; 1] = [ParamSpec {
+    ///     name: "frame_len", unit: "samples", about: "frame length",
+    ///     kind: ParamKind::Integer { min: 8, max: 4096 }, default: DefaultValue::Integer(256),
+    /// }];
+    /// let p = Params::resolve("demo", &SPECS, &[]).unwrap();
+    /// assert_eq!(p.integer("frame_len"), 256);
+    /// let bad = Params::resolve("demo", &SPECS, &[("frame_len".into(), ParamValue::Integer(-4))]);
+    /// assert!(bad.unwrap_err().to_string().contains("whole number in [8, 4096]"));
+    /// ```
+    pub fn resolve(
+        detector: &str,
+        specs: &'static [ParamSpec],
+        given: &[(String, ParamValue)],
+    ) -> Result<Params, ParamError> {
+        let mut values: BTreeMap<&'static str, ParamValue> =
+            specs.iter().map(|s| (s.name, s.default_value())).collect();
+        for (name, value) in given {
+            let Some(spec) = specs.iter().find(|s| s.name == name) else {
+                let names: Vec<&str> = specs.iter().map(|s| s.name).collect();
+                let hint = nearest(name, &names).map_or_else(
+                    || format!("known parameters: {}", names.join(", ")),
+                    |n| format!("did you mean `{n}`?"),
+                );
+                return Err(ParamError::new(
+                    detector,
+                    name,
+                    value,
+                    format!("unknown parameter ({hint})"),
+                ));
+            };
+            let checked = spec
+                .check(value)
+                .map_err(|m| ParamError::new(detector, name, value, m))?;
+            values.insert(spec.name, checked);
+        }
+        Ok(Params { values })
+    }
+
+    /// The defaults of `specs`.
+    pub fn defaults(specs: &'static [ParamSpec]) -> Params {
+        Params {
+            values: specs.iter().map(|s| (s.name, s.default_value())).collect(),
+        }
+    }
+
+    /// A real parameter.
+    ///
+    /// # Panics
+    /// When `name` is not a declared real parameter: a bug in the plugin, not in the input.
+    pub fn real(&self, name: &str) -> f64 {
+        match self.values.get(name) {
+            Some(ParamValue::Real(x)) => *x,
+            Some(ParamValue::Integer(i)) => *i as f64,
+            other => panic!("plugin bug: parameter `{name}` is not a declared number ({other:?})"),
+        }
+    }
+
+    /// An integer parameter.
+    ///
+    /// # Panics
+    /// When `name` is not a declared integer parameter.
+    pub fn integer(&self, name: &str) -> i64 {
+        match self.values.get(name) {
+            Some(ParamValue::Integer(i)) => *i,
+            other => {
+                panic!("plugin bug: parameter `{name}` is not a declared whole number ({other:?})")
+            }
+        }
+    }
+
+    /// A choice parameter.
+    ///
+    /// # Panics
+    /// When `name` is not a declared choice parameter.
+    pub fn text(&self, name: &str) -> &str {
+        match self.values.get(name) {
+            Some(ParamValue::Text(s)) => s,
+            other => panic!("plugin bug: parameter `{name}` is not a declared choice ({other:?})"),
+        }
+    }
+
+    /// A flag parameter.
+    ///
+    /// # Panics
+    /// When `name` is not a declared flag.
+    pub fn flag(&self, name: &str) -> bool {
+        match self.values.get(name) {
+            Some(ParamValue::Flag(b)) => *b,
+            other => panic!("plugin bug: parameter `{name}` is not a declared flag ({other:?})"),
+        }
+    }
+
+    /// All values, by name (for summaries).
+    pub fn iter(&self) -> impl Iterator<Item = (&'static str, &ParamValue)> {
+        self.values.iter().map(|(k, v)| (*k, v))
+    }
+}
+
+fn nearest<'a>(word: &str, options: &[&'a str]) -> Option<&'a str> {
+    fn distance(a: &str, b: &str) -> usize {
+        let b: Vec<char> = b.chars().collect();
+        let mut previous: Vec<usize> = (0..=b.len()).collect();
+        for (i, ca) in a.chars().enumerate() {
+            let mut current = vec![i + 1; b.len() + 1];
+            for (j, cb) in b.iter().enumerate() {
+                current[j + 1] = (previous[j] + usize::from(ca != *cb))
+                    .min(previous[j + 1] + 1)
+                    .min(current[j] + 1);
+            }
+            previous = current;
+        }
+        previous[b.len()]
+    }
+    let limit = 2.max(word.chars().count() / 3);
+    options
+        .iter()
+        .map(|o| (distance(word, o), *o))
+        .filter(|(d, _)| *d <= limit)
+        .min_by_key(|(d, _)| *d)
+        .map(|(_, o)| o)
+}
+
+/// Checks a finished score trace: finite values in non-decreasing time order.
+///
+/// The harness calls this on every detector's output, so a plugin that
+/// returns NaN or scrambles its time stamps is reported, not silently scored.
+///
+/// # Errors
+/// The index and a description of the first bad score.
+pub fn check_scores(scores: &[Score]) -> Result<(), (usize, String)> {
+    let mut previous = f64::NEG_INFINITY;
+    for (i, s) in scores.iter().enumerate() {
+        if !s.value.is_finite() {
+            return Err((
+                i,
+                format!("score {} at t = {} s is not finite", s.value, s.t_s),
+            ));
+        }
+        if !s.t_s.is_finite() || s.t_s < previous {
+            return Err((
+                i,
+                format!("time stamp {} s comes after {} s", s.t_s, previous),
+            ));
+        }
+        previous = s.t_s;
+    }
+    Ok(())
+}
+
+/// The stream an MCU-style test would feed: handy for plugin unit tests.
+pub fn test_stream(sample_rate_hz: f64) -> StreamInfo {
+    StreamInfo {
+        sample_rate_hz,
+        channels: crate::Channels::Real,
+        adc_bits: 12,
+        carrier_hz: 24.125e9,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    static SPECS: [ParamSpec; 3] = [
+        ParamSpec {
+            name: "low_hz",
+            unit: "Hz",
+            about: "lower band edge",
+            kind: ParamKind::Real { min: 0.0, max: 1e4 },
+            default: DefaultValue::Real(10.0),
+        },
+        ParamSpec {
+            name: "window",
+            unit: "",
+            about: "window",
+            kind: ParamKind::Choice(&["hann", "rect"]),
+            default: DefaultValue::Text("hann"),
+        },
+        ParamSpec {
+            name: "smooth",
+            unit: "",
+            about: "smoothing",
+            kind: ParamKind::Flag,
+            default: DefaultValue::Flag(false),
+        },
+    ];
+
+    #[test]
+    fn defaults_and_overrides() {
+        let p = Params::resolve(
+            "t",
+            &SPECS,
+            &[
+                ("low_hz".into(), ParamValue::Integer(20)),
+                ("window".into(), ParamValue::Text("rect".into())),
+            ],
+        )
+        .unwrap();
+        assert_eq!(p.real("low_hz"), 20.0);
+        assert_eq!(p.text("window"), "rect");
+        assert!(!p.flag("smooth"));
+    }
+
+    #[test]
+    fn unknown_and_out_of_range_are_refused_with_names() {
+        let e =
+            Params::resolve("t", &SPECS, &[("low_hx".into(), ParamValue::Real(1.0))]).unwrap_err();
+        assert!(e.to_string().contains("did you mean `low_hz`?"), "{e}");
+        let e = Params::resolve(
+            "t",
+            &SPECS,
+            &[("window".into(), ParamValue::Text("hamming".into()))],
+        )
+        .unwrap_err();
+        assert!(e.to_string().contains("one of hann, rect"), "{e}");
+        let e = Params::resolve(
+            "t",
+            &SPECS,
+            &[("low_hz".into(), ParamValue::Real(f64::NAN))],
+        )
+        .unwrap_err();
+        assert!(e.to_string().contains("number in [0, 10000]"), "{e}");
+    }
+
+    #[test]
+    fn score_checks_find_nan_and_disorder() {
+        let good = [
+            Score {
+                t_s: 0.1,
+                value: 1.0,
+            },
+            Score {
+                t_s: 0.2,
+                value: 2.0,
+            },
+        ];
+        assert!(check_scores(&good).is_ok());
+        let nan = [Score {
+            t_s: 0.1,
+            value: f64::NAN,
+        }];
+        assert_eq!(check_scores(&nan).unwrap_err().0, 0);
+        let backwards = [
+            Score {
+                t_s: 0.2,
+                value: 1.0,
+            },
+            Score {
+                t_s: 0.1,
+                value: 1.0,
+            },
+        ];
+        assert_eq!(check_scores(&backwards).unwrap_err().0, 1);
+    }
+}
