@@ -35,8 +35,11 @@ const SPEED_MARGIN: f64 = 1.1;
 /// for an isolated jump, 43 measured on the walker, 30 taken for margin.
 const KNOT_ERROR_DIVISOR: f64 = 30.0;
 
-/// Lowest node rate, Hz (see `node_rate_hz`).
-const NODE_RATE_FLOOR_HZ: f64 = 400.0;
+/// Lowest node rate, Hz (see `node_rate_hz`). Above the phase criteria, which
+/// fall with the wavelength, this floor keeps the linear interpolation of the
+/// aspect-dependent segment RCS within 1 % up to 2.6 m/s (measured by
+/// `node_rate_keeps_hermite_interpolation_within_the_phase_tolerance`: 1.6 % at 196 Hz).
+const NODE_RATE_FLOOR_HZ: f64 = 250.0;
 
 /// A walking person on a path.
 #[derive(Debug, Clone)]
@@ -578,14 +581,14 @@ mod tests {
         // The slow, obvious version: exact ranges at points between nodes.
         let tolerance = crate::reflector::NODE_PHASE_TOLERANCE_RAD;
         for (height_m, speed_mps) in [(1.8, 1.4), (1.8, 2.6), (1.2, 1.0)] {
-            for carrier_hz in [5.8e9, 24.125e9] {
+            for carrier_hz in [2.45e9, 5.8e9, 24.125e9] {
                 let wavelength_m = C_MPS / carrier_hz;
                 let gait = Gait::new(height_m, speed_mps).expect("valid gait");
                 // Passing 0.3 m beside a sensor at knee height, 2 s of walking.
                 let path = Path::straight([2.0, 0.3], PI, speed_mps, 0.0, 100.0, vec![]);
                 let mut walker = Walker::new(gait, path, 1.0).expect("valid walker");
                 let rate = walker.node_rate_hz(wavelength_m);
-                assert!((400.0..=2000.0).contains(&rate), "{rate}");
+                assert!((NODE_RATE_FLOOR_HZ..=2000.0).contains(&rate), "{rate}");
                 let (phase, amplitude) = interpolation_errors(
                     &mut walker,
                     rate,

@@ -96,11 +96,21 @@ impl DcDrift {
         // A unit OU input through the lag 1/(1 + sτ) comes out with variance 1/2,
         // so the input carries √2·rms. Stationary start: the lagged state given the
         // input x is N(x/2, rms²/2) (their covariance is rms²).
-        let process = OrnsteinUhlenbeck::new(std::f64::consts::SQRT_2 * rms_v, time_constant_s, fs, &mut rng);
+        let process = OrnsteinUhlenbeck::new(
+            std::f64::consts::SQRT_2 * rms_v,
+            time_constant_s,
+            fs,
+            &mut rng,
+        );
         let z: f64 = StandardNormal.sample(&mut rng);
         let lagged = 0.5 * process.value() + rms_v * std::f64::consts::FRAC_1_SQRT_2 * z;
         let lag_pole = (-1.0 / (time_constant_s * fs)).exp();
-        Ok(DcDrift { process, lag_pole, lagged, rng })
+        Ok(DcDrift {
+            process,
+            lag_pole,
+            lagged,
+            rng,
+        })
     }
 }
 
@@ -108,7 +118,8 @@ impl AdditiveNoise for DcDrift {
     fn add_to(&mut self, out: &mut [f64]) {
         for sample in out.iter_mut() {
             *sample += self.lagged;
-            self.lagged = self.lag_pole * self.lagged + (1.0 - self.lag_pole) * self.process.value();
+            self.lagged =
+                self.lag_pole * self.lagged + (1.0 - self.lag_pole) * self.process.value();
             self.process.advance(&mut self.rng);
         }
     }
