@@ -307,6 +307,18 @@ impl MotionModel for Fan {
             + p.mains_vibration_m * 2.0 * PI * 2.0 * p.mains_hz
     }
 
+    /// The tip Doppler plus the housing's vibration rates (Carson's rule for
+    /// the sidebands of a vibrating echo; Chen, Li, Ho, Wechsler, IEEE T-AES 42(1), 2006).
+    fn max_doppler_hz(&self, wavelength_m: f64) -> f64 {
+        let p = &self.params;
+        let vibration_hz = if p.mains_vibration_m > 0.0 {
+            2.0 * p.mains_hz
+        } else {
+            0.0
+        };
+        2.0 * self.max_speed_mps() / wavelength_m + vibration_hz + p.revolutions_per_s.abs()
+    }
+
     fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
         let p = &self.params;
         let moves = p.revolutions_per_s != 0.0 || p.mains_vibration_m > 0.0;

@@ -65,6 +65,15 @@ pub trait MotionModel: Send {
     /// synthesizer's oversampling factor from the largest Doppler 2v/λ).
     fn max_speed_mps(&self) -> f64;
 
+    /// The highest frequency, Hz, in this model's echoes at `wavelength_m`:
+    /// the largest Doppler 2v/λ, plus any modulation rate that widens the
+    /// spectrum beyond it (a shaker or a housing vibrating at f_v puts
+    /// sidebands out to about 2v/λ + f_v, Carson's rule). Sets the
+    /// synthesizer's internal rate.
+    fn max_doppler_hz(&self, wavelength_m: f64) -> f64 {
+        2.0 * self.max_speed_mps() / wavelength_m
+    }
+
     /// Intervals (seconds) in which the actor is present and moving, for the ground truth.
     fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)>;
 }

@@ -409,6 +409,18 @@ impl MotionModel for Reflector {
         line + shaker
     }
 
+    /// The peak Doppler plus the shaker frequency: a vibrating reflector's
+    /// spectrum has lines at n·f_v weighted by J_n(4πa/λ) (Chen, Li, Ho,
+    /// Wechsler, IEEE T-AES 42(1), 2006), reaching about 2v/λ + f_v (Carson's rule).
+    fn max_doppler_hz(&self, wavelength_m: f64) -> f64 {
+        let shaker_hz = if self.shaker_moves {
+            self.params.shaker_frequency_hz
+        } else {
+            0.0
+        };
+        2.0 * self.max_speed_mps() / wavelength_m + shaker_hz
+    }
+
     fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
         if duration_s.is_nan() || duration_s <= 0.0 {
             return Vec::new();

@@ -5,7 +5,15 @@ use crate::spec::read_param_array;
 use echobench_yaml_reader::{Fields, Node, Reader, Value};
 
 /// The kinds of actor a scene can hold.
-pub const ACTOR_KINDS: [&str; 7] = ["walker", "breathing", "sway", "fan", "animal", "door", "reflector"];
+pub const ACTOR_KINDS: [&str; 7] = [
+    "walker",
+    "breathing",
+    "sway",
+    "fan",
+    "animal",
+    "door",
+    "reflector",
+];
 
 /// One actor of a scene.
 #[derive(Debug, Clone, PartialEq)]
@@ -268,13 +276,19 @@ fn read_path(node: &Node, path: &str, reader: &mut Reader) -> Option<PathSpec> {
         (true, false) => {
             let start_m = array::<2>(&mut f, "start_m", Bounds::ANY);
             let heading_deg = f.param("heading_deg", ANGLE);
-            heading_deg.map(|heading_deg| Route::Straight { start_m, heading_deg })
+            heading_deg.map(|heading_deg| Route::Straight {
+                start_m,
+                heading_deg,
+            })
         }
         (false, true) => {
             let points: Option<Vec<[f64; 2]>> = f.required("points_m");
             match points {
                 Some(points) if points.len() >= 2 => {
-                    let length: f64 = points.windows(2).map(|w| (w[1][0] - w[0][0]).hypot(w[1][1] - w[0][1])).sum();
+                    let length: f64 = points
+                        .windows(2)
+                        .map(|w| (w[1][0] - w[0][0]).hypot(w[1][1] - w[0][1]))
+                        .sum();
                     if length <= 0.0 {
                         f.error_at("points_m", "the points must not all coincide");
                         None
@@ -290,11 +304,17 @@ fn read_path(node: &Node, path: &str, reader: &mut Reader) -> Option<PathSpec> {
             }
         }
         (true, true) => {
-            f.error_at("points_m", "give either `start_m` with `heading_deg`, or `points_m`, not both");
+            f.error_at(
+                "points_m",
+                "give either `start_m` with `heading_deg`, or `points_m`, not both",
+            );
             None
         }
         (false, false) => {
-            f.error_at("start_m", "missing: give `start_m` with `heading_deg`, or `points_m`");
+            f.error_at(
+                "start_m",
+                "missing: give `start_m` with `heading_deg`, or `points_m`",
+            );
             None
         }
     };
@@ -316,7 +336,9 @@ fn read_path(node: &Node, path: &str, reader: &mut Reader) -> Option<PathSpec> {
                     let duration_s = g.param("duration_s", Bounds::POSITIVE);
                     g.finish();
                     match (at_s, duration_s) {
-                        (Some(at_s), Some(duration_s)) => pauses.push(PauseSpec { at_s, duration_s }),
+                        (Some(at_s), Some(duration_s)) => {
+                            pauses.push(PauseSpec { at_s, duration_s })
+                        }
                         _ => ok = false,
                     }
                 }
@@ -327,19 +349,26 @@ fn read_path(node: &Node, path: &str, reader: &mut Reader) -> Option<PathSpec> {
             }
         }
     }
-    if let (Some(leave), Param::Fixed(enter)) = (&leave_s, &enter_s) {
-        if let Param::Fixed(leave) = leave {
-            if leave <= enter {
-                f.error_at("leave_s", format!("leave time {leave} s is not after the entry time {enter} s"));
-                ok = false;
-            }
+    if let (Some(Param::Fixed(leave)), Param::Fixed(enter)) = (&leave_s, &enter_s) {
+        if leave <= enter {
+            f.error_at(
+                "leave_s",
+                format!("leave time {leave} s is not after the entry time {enter} s"),
+            );
+            ok = false;
         }
     }
     f.finish();
     if !ok {
         return None;
     }
-    Some(PathSpec { route: route?, speed_mps: speed_mps?, enter_s, leave_s, pauses })
+    Some(PathSpec {
+        route: route?,
+        speed_mps: speed_mps?,
+        enter_s,
+        leave_s,
+        pauses,
+    })
 }
 
 fn sub_path(f: &mut Fields<'_, '_>, key: &'static str) -> Option<PathSpec> {
@@ -360,14 +389,17 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
     let id = f.optional_or("id", format!("{}-{index}", kind.unwrap_or("actor")));
     let target_node = f.raw("target");
     // With an unknown kind, the other fields cannot be judged: report the kind alone.
-    let Some(kind) = kind else { return None };
-    let kind = match kind {
+    let kind = match kind? {
         "walker" => {
             let height_m = f.param_or("height_m", Bounds::closed(0.5, 2.5), 1.75);
             let rcs_scale = f.param_or("rcs_scale", Bounds::POSITIVE, 1.0);
             let path = sub_path(&mut f, "path");
             match path {
-                Some(path) => ActorKind::Walker(WalkerSpec { height_m, rcs_scale, path }),
+                Some(path) => ActorKind::Walker(WalkerSpec {
+                    height_m,
+                    rcs_scale,
+                    path,
+                }),
                 None => {
                     f.finish();
                     return None;
@@ -381,10 +413,18 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
                 chest_height_m: f.param_or("chest_height_m", Bounds::closed(0.1, 2.5), 1.1),
                 facing_deg: f.param_or("facing_deg", ANGLE, 180.0),
                 rate_per_min: f.param_or("rate_per_min", Bounds::closed(4.0, 60.0), 15.0),
-                displacement_pp_m: f.param_or("displacement_pp_m", Bounds::closed(0.0, 0.05), 0.005),
+                displacement_pp_m: f.param_or(
+                    "displacement_pp_m",
+                    Bounds::closed(0.0, 0.05),
+                    0.005,
+                ),
                 rcs_m2: f.param_or("rcs_m2", Bounds::POSITIVE, 0.3),
                 heartbeat_pp_m: f.param_or("heartbeat_pp_m", Bounds::closed(0.0, 0.002), 0.0003),
-                heart_rate_per_min: f.param_or("heart_rate_per_min", Bounds::closed(30.0, 200.0), 70.0),
+                heart_rate_per_min: f.param_or(
+                    "heart_rate_per_min",
+                    Bounds::closed(30.0, 200.0),
+                    70.0,
+                ),
                 fidgets_per_min: f.param_or("fidgets_per_min", Bounds::closed(0.0, 30.0), 0.0),
                 enter_s: f.param_or("enter_s", TIME, 0.0),
                 leave_s: f.param_opt("leave_s", TIME),
@@ -407,14 +447,22 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
             let spec = FanSpec {
                 position_m: [Param::Fixed(0.0), Param::Fixed(0.0), Param::Fixed(0.0)],
                 axis_azimuth_deg: f.param_or("axis_azimuth_deg", ANGLE, 180.0),
-                axis_elevation_deg: f.param_or("axis_elevation_deg", Bounds::closed(-90.0, 90.0), 0.0),
+                axis_elevation_deg: f.param_or(
+                    "axis_elevation_deg",
+                    Bounds::closed(-90.0, 90.0),
+                    0.0,
+                ),
                 blades: f.param_or("blades", Bounds::closed(1.0, 16.0), 3.0),
                 root_radius_m: f.param_or("root_radius_m", Bounds::NON_NEGATIVE, 0.03),
                 tip_radius_m: required(&mut f, "tip_radius_m", Bounds::above(0.0, 3.0)),
                 rev_per_s: required(&mut f, "rev_per_s", Bounds::above(0.0, 100.0)),
                 blade_tilt_deg: f.param_or("blade_tilt_deg", Bounds::closed(0.0, 60.0), 12.0),
                 blade_rcs_m2: f.param_or("blade_rcs_m2", Bounds::POSITIVE, 0.01),
-                housing_vibration_m: f.param_or("housing_vibration_m", Bounds::closed(0.0, 0.01), 2e-5),
+                housing_vibration_m: f.param_or(
+                    "housing_vibration_m",
+                    Bounds::closed(0.0, 0.01),
+                    2e-5,
+                ),
                 housing_rcs_m2: f.param_or("housing_rcs_m2", Bounds::NON_NEGATIVE, 0.05),
                 mains_hz: f.param_or("mains_hz", Bounds::closed(50.0, 60.0), 50.0),
             };
@@ -425,7 +473,11 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
             let rcs_m2 = f.param_opt("rcs_m2", Bounds::POSITIVE);
             let path = sub_path(&mut f, "path");
             match path {
-                Some(path) => ActorKind::Animal(AnimalSpec { mass_kg, rcs_m2, path }),
+                Some(path) => ActorKind::Animal(AnimalSpec {
+                    mass_kg,
+                    rcs_m2,
+                    path,
+                }),
                 None => {
                     f.finish();
                     return None;
@@ -466,7 +518,10 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
     };
     let default_target = matches!(kind, ActorKind::Walker(_));
     let target = match target_node {
-        Some(node) => f.reader().read::<bool>(node, &format!("{path}.target")).unwrap_or(default_target),
+        Some(node) => f
+            .reader()
+            .read::<bool>(node, &format!("{path}.target"))
+            .unwrap_or(default_target),
         None => default_target,
     };
     f.finish();

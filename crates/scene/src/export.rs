@@ -39,7 +39,9 @@ pub fn write_wav(path: &Path, trial: &Trial) -> io::Result<()> {
     write_atomically(path, |w| {
         let mut writer = hound::WavWriter::new(w, spec).map_err(to_io)?;
         for &code in &trial.codes {
-            writer.write_sample((code - offset) << shift).map_err(to_io)?;
+            writer
+                .write_sample((code - offset) << shift)
+                .map_err(to_io)?;
         }
         writer.finalize().map_err(to_io)
     })
@@ -68,7 +70,12 @@ pub fn write_samples_csv(path: &Path, trial: &Trial) -> io::Result<()> {
         }
         Channels::Iq => {
             writeln!(w, "t_s,i_volts,q_volts,i_code,q_code")?;
-            for (i, (v, c)) in trial.samples.chunks_exact(2).zip(trial.codes.chunks_exact(2)).enumerate() {
+            for (i, (v, c)) in trial
+                .samples
+                .chunks_exact(2)
+                .zip(trial.codes.chunks_exact(2))
+                .enumerate()
+            {
                 writeln!(w, "{},{},{},{},{}", i as f64 / fs, v[0], v[1], c[0], c[1])?;
             }
             Ok(())
@@ -84,13 +91,34 @@ pub fn write_truth_csv(path: &Path, truth: &Truth) -> io::Result<()> {
     write_atomically(path, |w| {
         writeln!(w, "start_s,end_s,role,source,kind")?;
         for e in &truth.events {
-            writeln!(w, "{},{},target,{},{}", e.interval.start_s(), e.interval.end_s(), e.actor_id, e.kind)?;
+            writeln!(
+                w,
+                "{},{},target,{},{}",
+                e.interval.start_s(),
+                e.interval.end_s(),
+                e.actor_id,
+                e.kind
+            )?;
         }
         for e in &truth.outside_coverage {
-            writeln!(w, "{},{},target-outside-coverage,{},{}", e.interval.start_s(), e.interval.end_s(), e.actor_id, e.kind)?;
+            writeln!(
+                w,
+                "{},{},target-outside-coverage,{},{}",
+                e.interval.start_s(),
+                e.interval.end_s(),
+                e.actor_id,
+                e.kind
+            )?;
         }
         for n in &truth.nuisances {
-            writeln!(w, "{},{},nuisance,{},{}", n.interval.start_s(), n.interval.end_s(), n.source_id, n.kind)?;
+            writeln!(
+                w,
+                "{},{},nuisance,{},{}",
+                n.interval.start_s(),
+                n.interval.end_s(),
+                n.source_id,
+                n.kind
+            )?;
         }
         Ok(())
     })

@@ -9,9 +9,10 @@
 //! far under the 16-bit ADC step of 1.5e-5 of full scale.
 
 const FRAC_2_PI: f64 = std::f64::consts::FRAC_2_PI;
-// π/2 split into a high part with trailing zero bits and a low correction.
-const PI_2_HI: f64 = 1.570_796_326_794_896_558e0;
-const PI_2_LO: f64 = 6.123_233_995_736_766e-17;
+// π/2 split as in fdlibm's argument reduction (pio2_1, pio2_1t): the high part
+// has 33 significant bits, so n·PI_2_HI is exact for |n| < 2^20 (Cody–Waite).
+const PI_2_HI: f64 = 1.570_796_326_734_125_6;
+const PI_2_LO: f64 = 6.077_100_506_506_192e-11;
 // Adding and subtracting 1.5·2^52 rounds to the nearest integer without a branch.
 const ROUND_MAGIC: f64 = 6_755_399_441_055_744.0;
 
@@ -28,14 +29,18 @@ pub fn sin_cos(x: f64) -> (f64, f64) {
                 + r2 * (1.0 / 120.0
                     + r2 * (-1.0 / 5040.0
                         + r2 * (1.0 / 362_880.0
-                            + r2 * (-1.0 / 39_916_800.0 + r2 * (1.0 / 6_227_020_800.0 + r2 * (-1.0 / 1_307_674_368_000.0))))))));
+                            + r2 * (-1.0 / 39_916_800.0
+                                + r2 * (1.0 / 6_227_020_800.0
+                                    + r2 * (-1.0 / 1_307_674_368_000.0))))))));
     let c = 1.0
         + r2 * (-0.5
             + r2 * (1.0 / 24.0
                 + r2 * (-1.0 / 720.0
                     + r2 * (1.0 / 40_320.0
                         + r2 * (-1.0 / 3_628_800.0
-                            + r2 * (1.0 / 479_001_600.0 + r2 * (-1.0 / 87_178_291_200.0 + r2 * (1.0 / 20_922_789_888_000.0))))))));
+                            + r2 * (1.0 / 479_001_600.0
+                                + r2 * (-1.0 / 87_178_291_200.0
+                                    + r2 * (1.0 / 20_922_789_888_000.0))))))));
     let quadrant = (n as i64) & 3;
     let odd = quadrant & 1 == 1;
     let (sin_base, cos_base) = if odd { (c, s) } else { (s, c) };

@@ -27,7 +27,10 @@ pub mod truth;
 
 pub use build::{oversampling_for, radar_geometry, trial_truth, MAX_OVERSAMPLING};
 pub use echobench_core::seed::StreamKey;
-pub use spec::{load_scene_node, load_scene_text, load_scene_text_with_warnings, SceneSpec, MAX_SAMPLES_PER_TRIAL};
+pub use spec::{
+    load_scene_node, load_scene_text, load_scene_text_with_warnings, SceneSpec,
+    MAX_SAMPLES_PER_TRIAL,
+};
 pub use synth::{synthesize, SynthError, Synthesizer, Trial, BLOCK_OUTPUT_SAMPLES};
 pub use truth::Truth;
 
@@ -64,7 +67,14 @@ pub fn load_scene_file(path: &std::path::Path) -> Result<(SceneSpec, Report), Re
 pub fn scene_sanity(scene: &SceneSpec, file: &str) -> Report {
     let mut report = Report::default();
     let mut push = |severity, field: String, message: String| {
-        report.problems.push(Problem { severity, file: file.to_string(), location: None, field, message, hint: None })
+        report.problems.push(Problem {
+            severity,
+            file: file.to_string(),
+            location: None,
+            field,
+            message,
+            hint: None,
+        })
     };
     let key = StreamKey::new(0, scene.name.clone(), 0);
     match trial_truth(scene, &key) {

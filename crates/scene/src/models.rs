@@ -25,14 +25,22 @@ fn unit_from_angles(azimuth_deg: f64, elevation_deg: f64) -> [f64; 3] {
 }
 
 /// Builds the model of one actor from its spec, drawing its params from `rng`.
-pub fn build(kind: &ActorKind, field: &str, duration_s: f64, wavelength_m: f64, rng: &mut ChaCha8Rng, seed: [u8; 32]) -> Result<Box<dyn MotionModel>, SynthError> {
+pub fn build(
+    kind: &ActorKind,
+    field: &str,
+    duration_s: f64,
+    wavelength_m: f64,
+    rng: &mut ChaCha8Rng,
+    seed: [u8; 32],
+) -> Result<Box<dyn MotionModel>, SynthError> {
     let model_error = |e: &dyn std::fmt::Display| fail(field.to_string(), e);
     Ok(match kind {
         ActorKind::Walker(w) => {
             let height = w.height_m.draw(rng);
             let rcs_scale = w.rcs_scale.draw(rng);
             let path = build_path(&w.path, duration_s, rng, &format!("{field}.path"))?;
-            let gait = echobench_gait::Gait::new(height, path.speed_mps()).map_err(|e| fail(format!("{field}.path.speed_mps"), e))?;
+            let gait = echobench_gait::Gait::new(height, path.speed_mps())
+                .map_err(|e| fail(format!("{field}.path.speed_mps"), e))?;
             Box::new(Walker::new(gait, path, rcs_scale).map_err(|e| model_error(&e))?)
         }
         ActorKind::Breathing(b) => {
@@ -51,7 +59,11 @@ pub fn build(kind: &ActorKind, field: &str, duration_s: f64, wavelength_m: f64, 
             Box::new(Breathing::new(params, seed).map_err(|e| model_error(&e))?)
         }
         ActorKind::Sway(s) => {
-            let pivot = [s.pivot_m[0].draw(rng), s.pivot_m[1].draw(rng), s.pivot_m[2].draw(rng)];
+            let pivot = [
+                s.pivot_m[0].draw(rng),
+                s.pivot_m[1].draw(rng),
+                s.pivot_m[2].draw(rng),
+            ];
             let arm_length = s.arm_length_m.draw(rng);
             let natural = match &s.natural_hz {
                 Some(p) => p.draw(rng),
@@ -60,7 +72,11 @@ pub fn build(kind: &ActorKind, field: &str, duration_s: f64, wavelength_m: f64, 
             let direction = s.direction_deg.draw(rng).to_radians();
             let params = SwayParams {
                 pivot_m: pivot,
-                arm_direction: if s.hanging { [0.0, 0.0, -1.0] } else { [0.0, 0.0, 1.0] },
+                arm_direction: if s.hanging {
+                    [0.0, 0.0, -1.0]
+                } else {
+                    [0.0, 0.0, 1.0]
+                },
                 arm_length_m: arm_length,
                 sway_direction: [direction.cos(), direction.sin(), 0.0],
                 natural_frequency_hz: natural,
@@ -74,8 +90,13 @@ pub fn build(kind: &ActorKind, field: &str, duration_s: f64, wavelength_m: f64, 
             Box::new(Sway::new(params, seed).map_err(|e| model_error(&e))?)
         }
         ActorKind::Fan(f) => {
-            let hub = [f.position_m[0].draw(rng), f.position_m[1].draw(rng), f.position_m[2].draw(rng)];
-            let axis = unit_from_angles(f.axis_azimuth_deg.draw(rng), f.axis_elevation_deg.draw(rng));
+            let hub = [
+                f.position_m[0].draw(rng),
+                f.position_m[1].draw(rng),
+                f.position_m[2].draw(rng),
+            ];
+            let axis =
+                unit_from_angles(f.axis_azimuth_deg.draw(rng), f.axis_elevation_deg.draw(rng));
             let blades = f.blades.draw(rng).round() as usize;
             let vibration = f.housing_vibration_m.draw(rng);
             let params = FanParams {
@@ -122,7 +143,11 @@ pub fn build(kind: &ActorKind, field: &str, duration_s: f64, wavelength_m: f64, 
             Box::new(Door::new(params, wavelength_m).map_err(|e| model_error(&e))?)
         }
         ActorKind::Reflector(r) => {
-            let start = [r.position_m[0].draw(rng), r.position_m[1].draw(rng), r.position_m[2].draw(rng)];
+            let start = [
+                r.position_m[0].draw(rng),
+                r.position_m[1].draw(rng),
+                r.position_m[2].draw(rng),
+            ];
             let direction = unit_from_angles(r.azimuth_deg.draw(rng), r.elevation_deg.draw(rng));
             let params = ReflectorParams {
                 rcs_m2: r.rcs_m2.draw(rng),
@@ -130,7 +155,10 @@ pub fn build(kind: &ActorKind, field: &str, duration_s: f64, wavelength_m: f64, 
                 travel_direction: direction,
                 speed_mps: r.speed_mps.draw(rng),
                 move_start_s: r.move_start_s.draw(rng),
-                move_stop_s: r.move_stop_s.as_ref().map_or(f64::INFINITY, |p| p.draw(rng)),
+                move_stop_s: r
+                    .move_stop_s
+                    .as_ref()
+                    .map_or(f64::INFINITY, |p| p.draw(rng)),
                 shaker_amplitude_m: r.shaker_amplitude_m.draw(rng),
                 shaker_frequency_hz: r.shaker_hz.draw(rng),
                 shaker_direction: direction,

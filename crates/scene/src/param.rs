@@ -47,25 +47,49 @@ pub struct Bounds {
 
 impl Bounds {
     /// Any finite number.
-    pub const ANY: Bounds = Bounds { min: f64::NEG_INFINITY, max: f64::INFINITY, min_inclusive: true };
+    pub const ANY: Bounds = Bounds {
+        min: f64::NEG_INFINITY,
+        max: f64::INFINITY,
+        min_inclusive: true,
+    };
     /// Strictly positive.
-    pub const POSITIVE: Bounds = Bounds { min: 0.0, max: f64::INFINITY, min_inclusive: false };
+    pub const POSITIVE: Bounds = Bounds {
+        min: 0.0,
+        max: f64::INFINITY,
+        min_inclusive: false,
+    };
     /// Zero or more.
-    pub const NON_NEGATIVE: Bounds = Bounds { min: 0.0, max: f64::INFINITY, min_inclusive: true };
+    pub const NON_NEGATIVE: Bounds = Bounds {
+        min: 0.0,
+        max: f64::INFINITY,
+        min_inclusive: true,
+    };
 
     /// `[min, max]`.
     pub const fn closed(min: f64, max: f64) -> Bounds {
-        Bounds { min, max, min_inclusive: true }
+        Bounds {
+            min,
+            max,
+            min_inclusive: true,
+        }
     }
 
     /// `(min, max]`.
     pub const fn above(min: f64, max: f64) -> Bounds {
-        Bounds { min, max, min_inclusive: false }
+        Bounds {
+            min,
+            max,
+            min_inclusive: false,
+        }
     }
 
     /// True when `x` is allowed.
     pub fn allows(&self, x: f64) -> bool {
-        let low_ok = if self.min_inclusive { x >= self.min } else { x > self.min };
+        let low_ok = if self.min_inclusive {
+            x >= self.min
+        } else {
+            x > self.min
+        };
         low_ok && x <= self.max
     }
 
@@ -92,7 +116,11 @@ impl Param {
             Param::Fixed(x) => (*x, *x),
             Param::Uniform { low, high } => (*low, *high),
             Param::Normal { min, max, .. } => (*min, *max),
-            Param::Choice(values) => values.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| (lo.min(*v), hi.max(*v))),
+            Param::Choice(values) => values
+                .iter()
+                .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+                    (lo.min(*v), hi.max(*v))
+                }),
         }
     }
 
@@ -138,7 +166,11 @@ impl Param {
                     "uniform" => {
                         let [low, high]: [f64; 2] = reader.read(value, &inner)?;
                         if low > high {
-                            reader.error(value.location, &inner, format!("low end {low} is above high end {high}"));
+                            reader.error(
+                                value.location,
+                                &inner,
+                                format!("low end {low} is above high end {high}"),
+                            );
                             return None;
                         }
                         Param::Uniform { low, high }
@@ -152,17 +184,33 @@ impl Param {
                         f.finish();
                         let (mean, sd) = (mean?, sd?);
                         if sd <= 0.0 {
-                            reader.error(value.location, &format!("{inner}.sd"), "must be positive");
+                            reader.error(
+                                value.location,
+                                &format!("{inner}.sd"),
+                                "must be positive",
+                            );
                             return None;
                         }
-                        if mean < min || mean > max || (min.max(mean - 6.0 * sd) >= max.min(mean + 6.0 * sd)) {
-                            reader.error(value.location, &inner, "the mean must lie inside [min, max]");
+                        if mean < min
+                            || mean > max
+                            || (min.max(mean - 6.0 * sd) >= max.min(mean + 6.0 * sd))
+                        {
+                            reader.error(
+                                value.location,
+                                &inner,
+                                "the mean must lie inside [min, max]",
+                            );
                             return None;
                         }
                         // Without declared truncation a normal is cut at mean ± 6 sd; its support
                         // is then checked against the field's bounds below, so a normal that
                         // could reach an impossible value is refused rather than clipped.
-                        Param::Normal { mean, sd, min: min.max(mean - 6.0 * sd), max: max.min(mean + 6.0 * sd) }
+                        Param::Normal {
+                            mean,
+                            sd,
+                            min: min.max(mean - 6.0 * sd),
+                            max: max.min(mean + 6.0 * sd),
+                        }
                     }
                     "choice" => {
                         let values: Vec<f64> = reader.read(value, &inner)?;
@@ -185,16 +233,27 @@ impl Param {
                 reader.error_with_hint(
                     node.location,
                     path,
-                    format!("expected a number or a distribution, found {}", node.kind_name()),
+                    format!(
+                        "expected a number or a distribution, found {}",
+                        node.kind_name()
+                    ),
                     "use a number, {uniform: [low, high]}, {normal: {mean, sd}} or {choice: [...]}",
                 );
                 return None;
             }
         };
-        param.check_bounds(node.location, path, bounds, reader).then_some(param)
+        param
+            .check_bounds(node.location, path, bounds, reader)
+            .then_some(param)
     }
 
-    fn check_bounds(&self, location: Location, path: &str, bounds: Bounds, reader: &mut Reader) -> bool {
+    fn check_bounds(
+        &self,
+        location: Location,
+        path: &str,
+        bounds: Bounds,
+        reader: &mut Reader,
+    ) -> bool {
         let (low, high) = self.support();
         if bounds.allows(low) && bounds.allows(high) {
             return true;
@@ -208,7 +267,9 @@ impl Param {
             _ => format!("values from {low} to {high} reach outside the allowed range {}", bounds.describe()),
         };
         match self {
-            Param::Normal { .. } => reader.error_with_hint(location, path, message, "add `min`/`max` to truncate it"),
+            Param::Normal { .. } => {
+                reader.error_with_hint(location, path, message, "add `min`/`max` to truncate it")
+            }
             _ => reader.error(location, path, message),
         }
         false
@@ -232,7 +293,8 @@ impl ParamFields for Fields<'_, '_> {
             Some(node) => Param::read(node, &path, bounds, self.reader()),
             None => {
                 let location = self.node().location;
-                self.reader().error(location, &path, "missing required field");
+                self.reader()
+                    .error(location, &path, "missing required field");
                 None
             }
         }
@@ -274,7 +336,10 @@ mod tests {
             let v = p.as_ref().unwrap().draw(&mut rng);
             assert!((1.0..=2.0).contains(&v));
         }
-        let (p, _) = read("x: {normal: {mean: 1.4, sd: 0.2, min: 1.0}}", Bounds::POSITIVE);
+        let (p, _) = read(
+            "x: {normal: {mean: 1.4, sd: 0.2, min: 1.0}}",
+            Bounds::POSITIVE,
+        );
         for _ in 0..100 {
             let v = p.as_ref().unwrap().draw(&mut rng);
             assert!((1.0..=2.6).contains(&v));
@@ -288,12 +353,18 @@ mod tests {
     #[test]
     fn impossible_supports_are_refused() {
         let (p, text) = read("x: -1", Bounds::POSITIVE);
-        assert!(p.is_none() && text.contains("outside the allowed range (0, ∞]"), "{text}");
+        assert!(
+            p.is_none() && text.contains("outside the allowed range (0, ∞]"),
+            "{text}"
+        );
         let (p, text) = read("x: {normal: {mean: 0.5, sd: 0.3}}", Bounds::POSITIVE);
         assert!(p.is_none() && text.contains("add `min`/`max`"), "{text}");
         let (p, text) = read("x: {uniform: [3, 1]}", Bounds::POSITIVE);
         assert!(p.is_none() && text.contains("above high end"), "{text}");
         let (p, text) = read("x: {unifrom: [1, 3]}", Bounds::POSITIVE);
-        assert!(p.is_none() && text.contains("did you mean `uniform`?"), "{text}");
+        assert!(
+            p.is_none() && text.contains("did you mean `uniform`?"),
+            "{text}"
+        );
     }
 }

@@ -15,9 +15,17 @@ pub fn doppler_hz(radial_speed_mps: f64, carrier_hz: f64) -> f64 {
 
 /// Received power by the radar range equation, W:
 /// P_r = P_t G_t G_r λ² σ / ((4π)³ R⁴) (Skolnik, ch. 2).
-pub fn received_power_w(tx_power_w: f64, gain_tx: f64, gain_rx: f64, wavelength_m: f64, rcs_m2: f64, range_m: f64) -> f64 {
+pub fn received_power_w(
+    tx_power_w: f64,
+    gain_tx: f64,
+    gain_rx: f64,
+    wavelength_m: f64,
+    rcs_m2: f64,
+    range_m: f64,
+) -> f64 {
     let four_pi_cubed = (4.0 * std::f64::consts::PI).powi(3);
-    tx_power_w * gain_tx * gain_rx * wavelength_m * wavelength_m * rcs_m2 / (four_pi_cubed * range_m.powi(4))
+    tx_power_w * gain_tx * gain_rx * wavelength_m * wavelength_m * rcs_m2
+        / (four_pi_cubed * range_m.powi(4))
 }
 
 /// dBm to watts.
@@ -47,7 +55,14 @@ impl LinkBudget {
     /// common practice).
     pub fn amplitude_v_at_1m_1m2(&self, wavelength_m: f64) -> f64 {
         let gain = 10f64.powf(self.antenna_gain_dbi / 10.0);
-        let power = received_power_w(dbm_to_w(self.tx_power_dbm), gain, gain, wavelength_m, 1.0, 1.0);
+        let power = received_power_w(
+            dbm_to_w(self.tx_power_dbm),
+            gain,
+            gain,
+            wavelength_m,
+            1.0,
+            1.0,
+        );
         (2.0 * power * self.load_ohm).sqrt() * 10f64.powf(-self.conversion_loss_db / 20.0)
     }
 }
@@ -99,7 +114,12 @@ mod tests {
     #[test]
     fn wavelengths_and_doppler_match_reference_table() {
         // physics.md §6 checks 1–3 [C, c exact; formula Skolnik].
-        for (f0, lambda_mm, fd) in [(2.45e9, 122.364, 16.345), (5.8e9, 51.688, 38.693), (10.525e9, 28.484, 70.215), (24.125e9, 12.427, 160.945)] {
+        for (f0, lambda_mm, fd) in [
+            (2.45e9, 122.364, 16.345),
+            (5.8e9, 51.688, 38.693),
+            (10.525e9, 28.484, 70.215),
+            (24.125e9, 12.427, 160.945),
+        ] {
             assert!((wavelength_m(f0) * 1e3 - lambda_mm).abs() < 1e-3);
             assert!((doppler_hz(1.0, f0) - fd).abs() < 1e-3);
         }

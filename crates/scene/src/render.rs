@@ -45,7 +45,14 @@ pub struct EchoNode {
 
 impl RadarGeometry {
     /// Builds the antenna frame from the boresight azimuth and elevation (degrees).
-    pub fn new(position_m: Vec3, azimuth_deg: f64, elevation_deg: f64, beam: Beam, amplitude_v_at_1m: f64, wavelength_m: f64) -> Self {
+    pub fn new(
+        position_m: Vec3,
+        azimuth_deg: f64,
+        elevation_deg: f64,
+        beam: Beam,
+        amplitude_v_at_1m: f64,
+        wavelength_m: f64,
+    ) -> Self {
         let (sa, ca) = azimuth_deg.to_radians().sin_cos();
         let (se, ce) = elevation_deg.to_radians().sin_cos();
         let forward = [ca * ce, sa * ce, se];
@@ -68,7 +75,11 @@ impl RadarGeometry {
         // Echoes closer than 5 cm would be in the antenna's reactive near field; clamp the range.
         let range_m = dot(offset, offset).sqrt().max(0.05);
         let range_rate_mps = dot(offset, echo.velocity_mps) / range_m;
-        let gain = self.beam.gain(dot(offset, self.forward), dot(offset, self.left), dot(offset, self.up));
+        let gain = self.beam.gain(
+            dot(offset, self.forward),
+            dot(offset, self.left),
+            dot(offset, self.up),
+        );
         EchoNode {
             range_m,
             range_rate_mps,
@@ -107,7 +118,12 @@ pub struct ActorTrack {
 
 impl ActorTrack {
     /// A track for `model` with nodes every `samples_per_node` samples of the internal rate `sim_rate_hz`.
-    pub fn new(model: Box<dyn MotionModel>, samples_per_node: usize, sim_rate_hz: f64, radar: &RadarGeometry) -> Self {
+    pub fn new(
+        model: Box<dyn MotionModel>,
+        samples_per_node: usize,
+        sim_rate_hz: f64,
+        radar: &RadarGeometry,
+    ) -> Self {
         let samples_per_node = samples_per_node.max(1);
         let mut track = ActorTrack {
             model,
@@ -118,7 +134,9 @@ impl ActorTrack {
             start: Vec::new(),
             end: Vec::new(),
             scratch: Vec::new(),
-            unit: (0..samples_per_node).map(|i| i as f64 / samples_per_node as f64).collect(),
+            unit: (0..samples_per_node)
+                .map(|i| i as f64 / samples_per_node as f64)
+                .collect(),
             phase: vec![0.0; samples_per_node],
         };
         let mut start = Vec::new();
@@ -139,7 +157,12 @@ impl ActorTrack {
     }
 
     /// Adds this actor's contribution to `in_phase` (and `quadrature`, for I/Q) for the next `in_phase.len()` samples.
-    pub fn render(&mut self, radar: &RadarGeometry, in_phase: &mut [f64], mut quadrature: Option<&mut [f64]>) {
+    pub fn render(
+        &mut self,
+        radar: &RadarGeometry,
+        in_phase: &mut [f64],
+        mut quadrature: Option<&mut [f64]>,
+    ) {
         let total = in_phase.len();
         let mut done = 0;
         let h = self.samples_per_node as f64 / self.sim_rate_hz;
@@ -175,7 +198,12 @@ impl ActorTrack {
                     Some(q) => {
                         // z = A·e^{−jφ}: an approaching echo (φ falling) turns positive (physics.md §0).
                         let out_q = &mut q[done..done + take];
-                        for (((oi, oq), &p), &u) in out_i.iter_mut().zip(out_q.iter_mut()).zip(phase.iter()).zip(units) {
+                        for (((oi, oq), &p), &u) in out_i
+                            .iter_mut()
+                            .zip(out_q.iter_mut())
+                            .zip(phase.iter())
+                            .zip(units)
+                        {
                             let (s, c) = sin_cos(p);
                             let amp = a0 + da * u;
                             *oi += amp * c;

@@ -201,7 +201,10 @@ pub fn load_scene_text(file: &str, text: &str) -> Result<SceneSpec, Report> {
 ///
 /// # Errors
 /// As [`load_scene_text`].
-pub fn load_scene_text_with_warnings(file: &str, text: &str) -> Result<(SceneSpec, Report), Report> {
+pub fn load_scene_text_with_warnings(
+    file: &str,
+    text: &str,
+) -> Result<(SceneSpec, Report), Report> {
     let root = parse(file, text, &SCENE_FIELDS_LIMITS)?;
     load_scene_node(file, &root)
 }
@@ -247,7 +250,10 @@ fn read_scene(root: &Node, default_name: &str, reader: &mut Reader) -> Option<Sc
                 }
             }
             _ => {
-                f.error_at("actors", format!("expected a list of actors, found {}", node.kind_name()));
+                f.error_at(
+                    "actors",
+                    format!("expected a list of actors, found {}", node.kind_name()),
+                );
                 actors_ok = false;
             }
         }
@@ -283,7 +289,15 @@ fn read_scene(root: &Node, default_name: &str, reader: &mut Reader) -> Option<Sc
     if !actors_ok {
         return None;
     }
-    Some(SceneSpec { name, description, duration_s, sensor, coverage, environment, actors })
+    Some(SceneSpec {
+        name,
+        description,
+        duration_s,
+        sensor,
+        coverage,
+        environment,
+        actors,
+    })
 }
 
 fn read_coverage(node: &Node, sensor: &SensorSpec, reader: &mut Reader) -> Option<CoverageSpec> {
@@ -299,7 +313,10 @@ fn read_coverage(node: &Node, sensor: &SensorSpec, reader: &mut Reader) -> Optio
         f.error_at("azimuth_half_deg", "must be in (0, 180] degrees");
     }
     f.finish();
-    Some(CoverageSpec { range_m: range_m?, azimuth_half_deg })
+    Some(CoverageSpec {
+        range_m: range_m?,
+        azimuth_half_deg,
+    })
 }
 
 impl EnvironmentSpec {
@@ -318,7 +335,12 @@ impl EnvironmentSpec {
 }
 
 /// Reads a fixed-length list of params (e.g. a position whose coordinates may be drawn).
-pub fn read_param_array<const N: usize>(node: &Node, path: &str, bounds: Bounds, reader: &mut Reader) -> Option<[Param; N]> {
+pub fn read_param_array<const N: usize>(
+    node: &Node,
+    path: &str,
+    bounds: Bounds,
+    reader: &mut Reader,
+) -> Option<[Param; N]> {
     match &node.value {
         echobench_yaml_reader::Value::Seq(items) if items.len() == N => {
             let mut out: Vec<Param> = Vec::with_capacity(N);
@@ -335,7 +357,11 @@ pub fn read_param_array<const N: usize>(node: &Node, path: &str, bounds: Bounds,
             out.try_into().ok()
         }
         _ => {
-            reader.error(node.location, path, format!("expected a list of {N} numbers"));
+            reader.error(
+                node.location,
+                path,
+                format!("expected a list of {N} numbers"),
+            );
             None
         }
     }
@@ -355,7 +381,11 @@ fn read_params(node: &Node, path: &str, bounds: Bounds, reader: &mut Reader) -> 
             ok.then_some(out)
         }
         _ => {
-            reader.error(node.location, path, "expected a non-empty list of amplitudes");
+            reader.error(
+                node.location,
+                path,
+                "expected a non-empty list of amplitudes",
+            );
             None
         }
     }
@@ -379,7 +409,9 @@ fn read_environment(node: &Node, path: &str, reader: &mut Reader) -> Option<Envi
                     let rcs_m2 = g.param("rcs_m2", Bounds::POSITIVE);
                     let position_path = g.path_of("position_m");
                     let position_m = match position {
-                        Some(p) => read_param_array::<3>(p, &position_path, Bounds::ANY, g.reader()),
+                        Some(p) => {
+                            read_param_array::<3>(p, &position_path, Bounds::ANY, g.reader())
+                        }
                         None => {
                             g.error_at("position_m", "missing required field");
                             None
@@ -387,7 +419,9 @@ fn read_environment(node: &Node, path: &str, reader: &mut Reader) -> Option<Envi
                     };
                     g.finish();
                     match (position_m, rcs_m2) {
-                        (Some(position_m), Some(rcs_m2)) => static_clutter.push(StaticReflector { position_m, rcs_m2 }),
+                        (Some(position_m), Some(rcs_m2)) => {
+                            static_clutter.push(StaticReflector { position_m, rcs_m2 })
+                        }
                         _ => ok = false,
                     }
                 }
@@ -422,7 +456,10 @@ fn read_environment(node: &Node, path: &str, reader: &mut Reader) -> Option<Envi
             };
             g.finish();
             match (frequency_hz, harmonics_v) {
-                (Some(frequency_hz), Some(harmonics_v)) => Some(MainsSpec { frequency_hz, harmonics_v }),
+                (Some(frequency_hz), Some(harmonics_v)) => Some(MainsSpec {
+                    frequency_hz,
+                    harmonics_v,
+                }),
                 _ => {
                     ok = false;
                     None
@@ -456,7 +493,10 @@ fn read_environment(node: &Node, path: &str, reader: &mut Reader) -> Option<Envi
         None => None,
     };
     if lamp.is_some() && mains.is_none() {
-        f.error_at("lamp", "lamp flicker runs at twice the mains frequency: add `mains` with its frequency_hz");
+        f.error_at(
+            "lamp",
+            "lamp flicker runs at twice the mains frequency: add `mains` with its frequency_hz",
+        );
         ok = false;
     }
     let radio_bursts = match f.raw("radio_bursts") {
@@ -470,7 +510,13 @@ fn read_environment(node: &Node, path: &str, reader: &mut Reader) -> Option<Envi
             let amplitude_spread_db = g.param_or("amplitude_spread_db", Bounds::NON_NEGATIVE, 0.0);
             g.finish();
             let spec = match (width_s, amplitude_v) {
-                (Some(width_s), Some(amplitude_v)) => Some(BurstSpec { rate_hz, period_s, width_s, amplitude_v, amplitude_spread_db }),
+                (Some(width_s), Some(amplitude_v)) => Some(BurstSpec {
+                    rate_hz,
+                    period_s,
+                    width_s,
+                    amplitude_v,
+                    amplitude_spread_db,
+                }),
                 _ => None,
             };
             if spec.is_none() {
@@ -490,7 +536,12 @@ fn read_environment(node: &Node, path: &str, reader: &mut Reader) -> Option<Envi
             let drift_period_s = g.param_or("drift_period_s", Bounds::POSITIVE, 60.0);
             g.finish();
             match (amplitude_v, offset_hz) {
-                (Some(amplitude_v), Some(offset_hz)) => Some(NeighbourSpec { amplitude_v, offset_hz, drift_hz, drift_period_s }),
+                (Some(amplitude_v), Some(offset_hz)) => Some(NeighbourSpec {
+                    amplitude_v,
+                    offset_hz,
+                    drift_hz,
+                    drift_period_s,
+                }),
                 _ => {
                     ok = false;
                     None
@@ -543,7 +594,10 @@ impl FromNode for SensorSpec {
                 g.error_at("time_constant_s", "must be positive");
             }
             g.finish();
-            Some(DriftSpec { rms_v: rms_v?, time_constant_s: time_constant_s? })
+            Some(DriftSpec {
+                rms_v: rms_v?,
+                time_constant_s: time_constant_s?,
+            })
         });
         let front_end: Option<FrontEndSpec> = f.required("front_end");
         let adc: Option<AdcSpec> = f.required("adc");
@@ -558,9 +612,15 @@ impl FromNode for SensorSpec {
                 f.error_at(key, "must be positive");
             }
         }
-        for (key, width) in [("beam_azimuth_3db_deg", beam_azimuth_3db_deg), ("beam_elevation_3db_deg", beam_elevation_3db_deg)] {
+        for (key, width) in [
+            ("beam_azimuth_3db_deg", beam_azimuth_3db_deg),
+            ("beam_elevation_3db_deg", beam_elevation_3db_deg),
+        ] {
             if !(width > 0.0 && width < 180.0) {
-                f.error_at(key, format!("a −3 dB width must be in (0, 180) degrees, found {width}"));
+                f.error_at(
+                    key,
+                    format!("a −3 dB width must be in (0, 180) degrees, found {width}"),
+                );
             }
         }
         if beam_floor_db >= 0.0 {
@@ -568,7 +628,10 @@ impl FromNode for SensorSpec {
         }
         if let Some(carrier) = carrier_hz {
             if carrier > 0.0 && !(1e8..=3e11).contains(&carrier) {
-                f.warn_at("carrier_hz", format!("{carrier} Hz is far from the usual 2.4–24 GHz motion-sensor bands"));
+                f.warn_at(
+                    "carrier_hz",
+                    format!("{carrier} Hz is far from the usual 2.4–24 GHz motion-sensor bands"),
+                );
             }
         }
         if let (Some(fe), Some(fs)) = (&front_end, sample_rate_hz) {
@@ -622,7 +685,11 @@ fn read_corner(node: &Node, path: &str, reader: &mut Reader) -> Option<f64> {
         _ => {
             let hz: f64 = reader.read(node, path)?;
             if hz <= 0.0 {
-                reader.error(node.location, path, format!("a corner frequency must be positive, found {hz}"));
+                reader.error(
+                    node.location,
+                    path,
+                    format!("a corner frequency must be positive, found {hz}"),
+                );
                 return None;
             }
             Some(hz)
@@ -631,7 +698,9 @@ fn read_corner(node: &Node, path: &str, reader: &mut Reader) -> Option<f64> {
 }
 
 fn read_corners(node: Option<&Node>, path: &str, reader: &mut Reader) -> Option<Vec<f64>> {
-    let Some(node) = node else { return Some(Vec::new()) };
+    let Some(node) = node else {
+        return Some(Vec::new());
+    };
     match &node.value {
         echobench_yaml_reader::Value::Seq(items) => {
             let mut out = Vec::new();
@@ -676,7 +745,13 @@ impl FromNode for FrontEndSpec {
             }
         }
         f.finish();
-        Some(FrontEndSpec { high_pass_hz: high_pass_hz?, low_pass_hz: low_pass_hz?, gain_db, rails_v, bias_v })
+        Some(FrontEndSpec {
+            high_pass_hz: high_pass_hz?,
+            low_pass_hz: low_pass_hz?,
+            gain_db,
+            rails_v,
+            bias_v,
+        })
     }
 }
 
@@ -686,7 +761,10 @@ impl FromNode for AdcSpec {
         let bits: u8 = f.optional_or("bits", 12);
         let full_scale_v: f64 = f.optional_or("full_scale_v", 3.3);
         if !(1..=24).contains(&bits) {
-            f.error_at("bits", format!("ADC resolution must be 1 to 24 bits, found {bits}"));
+            f.error_at(
+                "bits",
+                format!("ADC resolution must be 1 to 24 bits, found {bits}"),
+            );
         }
         if full_scale_v <= 0.0 {
             f.error_at("full_scale_v", "must be positive");

@@ -111,7 +111,12 @@ impl Synthesizer {
 
     /// Appends up to `max_instants` more sample instants (volts less bias, and codes) to the
     /// buffers; returns how many instants were added (0 at the end). I/Q adds two values per instant.
-    pub fn next_block(&mut self, volts: &mut Vec<f32>, codes: &mut Vec<i32>, max_instants: usize) -> usize {
+    pub fn next_block(
+        &mut self,
+        volts: &mut Vec<f32>,
+        codes: &mut Vec<i32>,
+        max_instants: usize,
+    ) -> usize {
         let n = self.remaining().min(max_instants).min(BLOCK_OUTPUT_SAMPLES);
         if n == 0 {
             return 0;

@@ -66,7 +66,12 @@ fn centroid(echoes: &[Echo]) -> Option<[f64; 3]> {
 ///
 /// `model` must be a fresh instance (same seed as the one rendered): it is
 /// advanced from t = 0.
-pub fn coverage_intervals(model: &mut dyn MotionModel, radar: &RadarGeometry, coverage: &CoverageSpec, duration_s: f64) -> Vec<Interval> {
+pub fn coverage_intervals(
+    model: &mut dyn MotionModel,
+    radar: &RadarGeometry,
+    coverage: &CoverageSpec,
+    duration_s: f64,
+) -> Vec<Interval> {
     let steps = (duration_s * TRUTH_RATE_HZ).ceil() as u64;
     let mut echoes = Vec::with_capacity(model.echo_count());
     let mut intervals = Vec::new();
@@ -158,7 +163,10 @@ mod tests {
     fn interval_algebra() {
         let a = [iv(0.0, 5.0), iv(8.0, 12.0)];
         let b = [iv(3.0, 9.0), iv(11.0, 20.0)];
-        assert_eq!(intersect(&a, &b), vec![iv(3.0, 5.0), iv(8.0, 9.0), iv(11.0, 12.0)]);
+        assert_eq!(
+            intersect(&a, &b),
+            vec![iv(3.0, 5.0), iv(8.0, 9.0), iv(11.0, 12.0)]
+        );
         assert_eq!(subtract(&a, &b), vec![iv(0.0, 3.0), iv(9.0, 11.0)]);
     }
 }
