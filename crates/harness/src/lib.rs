@@ -1,0 +1,4 @@
+//! Suites, the parallel runner, scoring and aggregation.
+#![deny(missing_docs)]
+
+pub mod events;
