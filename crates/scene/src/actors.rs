@@ -256,6 +256,41 @@ fn required(f: &mut Fields<'_, '_>, key: &'static str, bounds: Bounds) -> Param 
     f.param(key, bounds).unwrap_or(FAILED)
 }
 
+/// Records an error unless every draw of `earlier` comes before every draw of `later`.
+fn require_before(
+    f: &mut Fields<'_, '_>,
+    earlier: (&'static str, &Param),
+    later: (&'static str, &Param),
+    what: &str,
+) {
+    let (_, earliest_max) = earlier.1.support();
+    let (later_min, _) = later.1.support();
+    if earliest_max.is_finite() && later_min.is_finite() && earliest_max >= later_min {
+        f.error_at(
+            later.0,
+            format!(
+                "{what}: `{}` (up to {earliest_max}) must stay below `{}` (from {later_min})",
+                earlier.0, later.0
+            ),
+        );
+    }
+}
+
+/// Records an error unless every value `param` can take is a whole number.
+fn require_whole(f: &mut Fields<'_, '_>, key: &'static str, param: &Param) {
+    let whole = match param {
+        Param::Fixed(x) => x.fract() == 0.0,
+        Param::Choice(values) => values.iter().all(|x| x.fract() == 0.0),
+        Param::Uniform { .. } | Param::Normal { .. } => false,
+    };
+    if !whole {
+        f.error_at(
+            key,
+            "must be a whole number (use {choice: [...]} to vary it)",
+        );
+    }
+}
+
 fn array<const N: usize>(f: &mut Fields<'_, '_>, key: &'static str, bounds: Bounds) -> [Param; N] {
     let path = f.path_of(key);
     let read = match f.raw(key) {
@@ -304,6 +339,8 @@ fn read_path(node: &Node, path: &str, reader: &mut Reader) -> Option<PathSpec> {
             }
         }
         (true, true) => {
+            // `heading_deg` belongs to a path too: not an unknown field here.
+            f.has("heading_deg");
             f.error_at(
                 "points_m",
                 "give either `start_m` with `heading_deg`, or `points_m`, not both",
@@ -429,6 +466,14 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
                 enter_s: f.param_or("enter_s", TIME, 0.0),
                 leave_s: f.param_opt("leave_s", TIME),
             };
+            if let Some(leave) = &spec.leave_s {
+                require_before(
+                    &mut f,
+                    ("enter_s", &spec.enter_s),
+                    ("leave_s", leave),
+                    "the person must arrive before leaving",
+                );
+            }
             ActorKind::Breathing(BreathingSpec { position_m, ..spec })
         }
         "sway" => ActorKind::Sway(SwaySpec {
@@ -466,6 +511,13 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
                 housing_rcs_m2: f.param_or("housing_rcs_m2", Bounds::NON_NEGATIVE, 0.05),
                 mains_hz: f.param_or("mains_hz", Bounds::closed(50.0, 60.0), 50.0),
             };
+            require_whole(&mut f, "blades", &spec.blades);
+            require_before(
+                &mut f,
+                ("root_radius_m", &spec.root_radius_m),
+                ("tip_radius_m", &spec.tip_radius_m),
+                "a blade runs from root to tip",
+            );
             ActorKind::Fan(FanSpec { position_m, ..spec })
         }
         "animal" => {
@@ -497,6 +549,16 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
                 close_at_s: f.param_opt("close_at_s", TIME),
                 edge_rcs_m2: f.param_or("edge_rcs_m2", Bounds::NON_NEGATIVE, 0.1),
             };
+            if let Some(close) = &spec.close_at_s {
+                // The door must finish opening before it starts closing.
+                let open_max = spec.open_at_s.support().1 + spec.swing_s.support().1;
+                if close.support().0 < open_max {
+                    f.error_at(
+                        "close_at_s",
+                        format!("the door closes (from {} s) before it has opened (`open_at_s` + `swing_s` up to {open_max} s)", close.support().0),
+                    );
+                }
+            }
             ActorKind::Door(DoorSpec { hinge_m, ..spec })
         }
         "reflector" => {
@@ -512,6 +574,14 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
                 shaker_amplitude_m: f.param_or("shaker_amplitude_m", Bounds::closed(0.0, 0.5), 0.0),
                 shaker_hz: f.param_or("shaker_hz", Bounds::closed(0.0, 2000.0), 0.0),
             };
+            if let Some(stop) = &spec.move_stop_s {
+                require_before(
+                    &mut f,
+                    ("move_start_s", &spec.move_start_s),
+                    ("move_stop_s", stop),
+                    "the stage must start before it stops",
+                );
+            }
             ActorKind::Reflector(ReflectorSpec { position_m, ..spec })
         }
         _ => unreachable!("required_choice returns one of ACTOR_KINDS"),

@@ -12,7 +12,7 @@ use crate::render::{ActorTrack, RadarGeometry};
 use crate::spec::SceneSpec;
 use crate::synth::SynthError;
 use crate::truth::{
-    active_intervals, coverage_intervals, intersect, subtract, NuisanceActivity, TargetEvent, Truth,
+    active_intervals, coverage_intervals, subtract, NuisanceActivity, TargetEvent, Truth,
 };
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, StreamInfo};
@@ -184,9 +184,7 @@ pub fn trial_truth(scene: &SceneSpec, key: &StreamKey) -> Result<Truth, SynthErr
         let mut model = build_model(scene, index, key)?;
         let active = active_intervals(model.as_ref(), scene.duration_s);
         if actor.target {
-            let covered =
-                coverage_intervals(model.as_mut(), &radar, &scene.coverage, scene.duration_s);
-            let inside = intersect(&active, &covered);
+            let inside = coverage_intervals(model.as_mut(), &radar, &scene.coverage, &active);
             let outside = subtract(&active, &inside);
             let event = |interval: Interval| TargetEvent {
                 interval,

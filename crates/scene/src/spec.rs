@@ -9,6 +9,10 @@ use echobench_yaml_reader::{parse, FromNode, Limits, Node, Reader, Report};
 /// trial is written whole by `echobench synth`, so its length is capped.
 pub const MAX_SAMPLES_PER_TRIAL: f64 = 50.0e6;
 
+/// Longest trial, s (one day): long negative trials give false-alarm exposure,
+/// but a trial is also the unit of parallel work and of ground-truth sampling.
+pub const MAX_TRIAL_DURATION_S: f64 = 86_400.0;
+
 /// A scene: one sensor, its environment and what moves in front of it.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SceneSpec {
@@ -261,6 +265,23 @@ fn read_scene(root: &Node, default_name: &str, reader: &mut Reader) -> Option<Sc
     if let Some(d) = duration_s {
         if d <= 0.0 {
             f.error_at("duration_s", "must be positive");
+        } else if d > MAX_TRIAL_DURATION_S {
+            f.error_at("duration_s", format!("{d} s is longer than the cap of {MAX_TRIAL_DURATION_S} s (one day) per trial; use more trials"));
+        }
+    }
+    for (i, actor) in actors.iter().enumerate() {
+        if actors[..i].iter().any(|a: &ActorSpec| a.id == actor.id) {
+            let location = root.get("actors").and_then(|list| match &list.value {
+                echobench_yaml_reader::Value::Seq(items) => items
+                    .get(i)
+                    .map(|n| n.get("id").map_or(n.location, |id| id.location)),
+                _ => None,
+            });
+            f.reader().error(
+                location.unwrap_or(root.location),
+                &format!("actors[{i}].id"),
+                format!("actor id `{}` is used twice; ids must be unique", actor.id),
+            );
         }
     }
     f.finish();
@@ -731,8 +752,8 @@ impl FromNode for FrontEndSpec {
         let bias_v = f.optional_or("bias_v", 0.5 * (rails_v[0] + rails_v[1]));
         if rails_v[0] >= rails_v[1] {
             f.error_at("rails_v", "the low rail must be below the high rail");
-        } else if !(rails_v[0]..=rails_v[1]).contains(&bias_v) {
-            f.error_at("bias_v", "the bias must lie between the rails");
+        } else if !(bias_v > rails_v[0] && bias_v < rails_v[1]) {
+            f.error_at("bias_v", "the bias must lie strictly between the rails");
         }
         if let (Some(hp), Some(lp)) = (&high_pass_hz, &low_pass_hz) {
             let highest_hp = hp.iter().cloned().fold(f64::NEG_INFINITY, f64::max);

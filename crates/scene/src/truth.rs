@@ -62,39 +62,60 @@ fn centroid(echoes: &[Echo]) -> Option<[f64; 3]> {
     (weight > 0.0).then(|| sum.map(|s| s / weight))
 }
 
-/// Intervals within `[0, duration_s]` in which `model` is inside the coverage zone.
+/// The parts of `active` (sorted, disjoint intervals in which the actor moves)
+/// in which `model` is inside the coverage zone.
 ///
 /// `model` must be a fresh instance (same seed as the one rendered): it is
-/// advanced from t = 0.
+/// advanced in time order, and only inside `active`, so the cost follows the
+/// time the actor moves, not the trial length.
 pub fn coverage_intervals(
     model: &mut dyn MotionModel,
     radar: &RadarGeometry,
     coverage: &CoverageSpec,
-    duration_s: f64,
+    active: &[Interval],
 ) -> Vec<Interval> {
-    let steps = (duration_s * TRUTH_RATE_HZ).ceil() as u64;
     let mut echoes = Vec::with_capacity(model.echo_count());
     let mut intervals = Vec::new();
-    let mut inside_since: Option<f64> = None;
-    for step in 0..=steps {
-        let t = (step as f64 / TRUTH_RATE_HZ).min(duration_s);
-        echoes.clear();
-        model.echoes(t, radar.position_m, &mut echoes);
-        let inside = centroid(&echoes).is_some_and(|c| {
-            let (range, azimuth) = radar.horizontal_polar(c);
-            range <= coverage.range_m && azimuth.abs() <= coverage.azimuth_half_deg
-        });
-        match (inside, inside_since) {
-            (true, None) => inside_since = Some(t),
-            (false, Some(start)) => {
-                intervals.extend(Interval::new(start, t).ok());
-                inside_since = None;
+    for span in active {
+        let first = (span.start_s() * TRUTH_RATE_HZ).ceil() as u64;
+        let last = (span.end_s() * TRUTH_RATE_HZ).floor() as u64;
+        let times = std::iter::once(span.start_s())
+            .chain((first..=last).map(|step| step as f64 / TRUTH_RATE_HZ))
+            .chain(std::iter::once(span.end_s()))
+            .filter(|t| *t >= span.start_s() && *t <= span.end_s());
+        let mut inside_since: Option<f64> = None;
+        let mut previous = span.start_s();
+        for t in times {
+            if t < previous {
+                continue;
             }
-            _ => {}
+            previous = t;
+            echoes.clear();
+            model.echoes(t, radar.position_m, &mut echoes);
+            let inside = centroid(&echoes).is_some_and(|c| {
+                let (range, azimuth) = radar.horizontal_polar(c);
+                range <= coverage.range_m && azimuth.abs() <= coverage.azimuth_half_deg
+            });
+            match (inside, inside_since) {
+                (true, None) => inside_since = Some(t),
+                (false, Some(start)) => {
+                    intervals.extend(
+                        Interval::new(start, t)
+                            .ok()
+                            .filter(|i| i.duration_s() > 0.0),
+                    );
+                    inside_since = None;
+                }
+                _ => {}
+            }
         }
-    }
-    if let Some(start) = inside_since {
-        intervals.extend(Interval::new(start, duration_s).ok());
+        if let Some(start) = inside_since {
+            intervals.extend(
+                Interval::new(start, span.end_s())
+                    .ok()
+                    .filter(|i| i.duration_s() > 0.0),
+            );
+        }
     }
     intervals
 }
