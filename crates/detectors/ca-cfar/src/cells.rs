@@ -1,0 +1,168 @@
+//! Which bins are tested and which bins estimate their noise.
+//!
+//! The plan is made once in `build`: for every cell under test (CUT) the
+//! indices of its `2·train` training cells, edges already resolved, so the
+//! per-frame loop is a gather and a sum.
+
+/// How the Doppler axis continues past the ends of the spectrum.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum DopplerAxis {
+    /// One-sided spectrum of a real signal, bins `0..bins` (`bins = N/2 + 1`,
+    /// N even). The power spectrum of a real signal is even in frequency, so
+    /// an index below 0 is reflected about DC (−j → j) and one above the top
+    /// (Nyquist) bin is reflected about it (`bins − 1 + j → bins − 1 − j`).
+    Reflected {
+        /// Number of bins, N/2 + 1.
+        bins: usize,
+    },
+    /// Two-sided spectrum of an I/Q signal, `bins = N` in FFT order. The DFT
+    /// is periodic in frequency, so the axis wraps: −j is bin N − j, the bin
+    /// just above +fs/2 is the one just above −fs/2.
+    Circular {
+        /// Number of bins, N.
+        bins: usize,
+    },
+}
+
+impl DopplerAxis {
+    /// Number of bins on the axis.
+    pub fn bins(self) -> usize {
+        match self {
+            DopplerAxis::Reflected { bins } | DopplerAxis::Circular { bins } => bins,
+        }
+    }
+
+    /// The largest `guard + train` for which every CUT still has `2·train`
+    /// well-defined cells: one reflection at most (real), no cell met twice
+    /// by wrapping (I/Q).
+    pub fn max_reach(self) -> usize {
+        match self {
+            DopplerAxis::Reflected { bins } => bins.saturating_sub(1),
+            DopplerAxis::Circular { bins } => bins.saturating_sub(1) / 2,
+        }
+    }
+
+    /// The bin reached from `cut` by `offset` bins (`|offset| ≤ max_reach`).
+    pub fn cell(self, cut: usize, offset: i64) -> usize {
+        let position = cut as i64 + offset;
+        match self {
+            DopplerAxis::Reflected { bins } => {
+                let top = bins as i64 - 1;
+                let folded = position.abs();
+                let folded = if folded > top {
+                    2 * top - folded
+                } else {
+                    folded
+                };
+                folded.clamp(0, top.max(0)) as usize
+            }
+            DopplerAxis::Circular { bins } => position.rem_euclid(bins.max(1) as i64) as usize,
+        }
+    }
+
+    /// |f| of bin `k` in Hz, for a frame of `frame_len` samples at `sample_rate_hz`.
+    ///
+    /// Computed as `k · fs / N` (multiply first), the way the reference
+    /// pipeline builds its frequency vector, so band edges that fall exactly
+    /// on a bin select the same bins.
+    pub fn bin_hz(self, k: usize, frame_len: usize, sample_rate_hz: f64) -> f64 {
+        let signed_index = match self {
+            DopplerAxis::Reflected { .. } => k,
+            // Bins above N/2 are negative Doppler; bin N/2 (N even) is ±fs/2.
+            DopplerAxis::Circular { bins } if 2 * k > bins => bins - k,
+            DopplerAxis::Circular { .. } => k,
+        };
+        signed_index as f64 * sample_rate_hz / frame_len as f64
+    }
+}
+
+/// Offsets of the training cells of a CUT, lowest first: −(guard + train)
+/// ..= −(guard + 1), then guard + 1 ..= guard + train.
+pub fn training_offsets(guard: usize, train: usize) -> impl Iterator<Item = i64> {
+    let (guard, train) = (guard as i64, train as i64);
+    (-(guard + train)..=-(guard + 1)).chain(guard + 1..=guard + train)
+}
+
+/// The cells under test and the flattened table of their training cells.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct CellPlan {
+    /// Bins tested, ascending.
+    pub cut_bins: Vec<usize>,
+    /// `2·train` training bins per CUT, CUT after CUT.
+    pub training: Vec<usize>,
+    /// `2·train`.
+    pub cells_per_cut: usize,
+}
+
+impl CellPlan {
+    /// Tests every bin with `low_hz ≤ |f| ≤ high_hz`.
+    pub fn new(
+        axis: DopplerAxis,
+        frame_len: usize,
+        sample_rate_hz: f64,
+        (low_hz, high_hz): (f64, f64),
+        guard: usize,
+        train: usize,
+    ) -> CellPlan {
+        let cut_bins: Vec<usize> = (0..axis.bins())
+            .filter(|&k| {
+                let f = axis.bin_hz(k, frame_len, sample_rate_hz);
+                f >= low_hz && f <= high_hz
+            })
+            .collect();
+        let training = cut_bins
+            .iter()
+            .flat_map(|&k| training_offsets(guard, train).map(move |o| axis.cell(k, o)))
+            .collect();
+        CellPlan {
+            cut_bins,
+            training,
+            cells_per_cut: 2 * train,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn reflection_matches_the_reference_pipeline_example() {
+        // bench/README.md: "bin 1 uses bins 2–9 and 4–11" (guard 2, train 8, 129 bins).
+        let axis = DopplerAxis::Reflected { bins: 129 };
+        let cells: Vec<usize> = training_offsets(2, 8).map(|o| axis.cell(1, o)).collect();
+        assert_eq!(
+            cells,
+            vec![9, 8, 7, 6, 5, 4, 3, 2, 4, 5, 6, 7, 8, 9, 10, 11]
+        );
+        // Top edge: reflect about bin 128 (Nyquist), as `cfar_weights` does.
+        let top: Vec<usize> = training_offsets(0, 3).map(|o| axis.cell(127, o)).collect();
+        assert_eq!(top, vec![124, 125, 126, 128, 127, 126]);
+    }
+
+    #[test]
+    fn wrapping_for_iq_spectra() {
+        let axis = DopplerAxis::Circular { bins: 16 };
+        let cells: Vec<usize> = training_offsets(1, 3).map(|o| axis.cell(1, o)).collect();
+        assert_eq!(cells, vec![13, 14, 15, 3, 4, 5]);
+        assert_eq!(axis.max_reach(), 7);
+        // |f| of the negative-frequency half, fs = 16 Hz, N = 16.
+        assert_eq!(axis.bin_hz(15, 16, 16.0), 1.0);
+        assert_eq!(axis.bin_hz(8, 16, 16.0), 8.0);
+    }
+
+    #[test]
+    fn reference_band_is_bins_1_to_12() {
+        // bench/README.md: f in [1, 100] Hz at 7.8125 Hz per bin = bins 1–12.
+        let plan = CellPlan::new(
+            DopplerAxis::Reflected { bins: 129 },
+            256,
+            2000.0,
+            (1.0, 100.0),
+            2,
+            8,
+        );
+        assert_eq!(plan.cut_bins, (1..=12).collect::<Vec<_>>());
+        assert_eq!(plan.training.len(), 12 * 16);
+    }
+}
