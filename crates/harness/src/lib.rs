@@ -2,3 +2,5 @@
 #![deny(missing_docs)]
 
 pub mod events;
+pub mod suite;
+pub mod suite_file;

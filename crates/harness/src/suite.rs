@@ -1,0 +1,125 @@
+//! Suite files: which scenes, how many trials, which detectors, and how to score them.
+//!
+//! A suite is a YAML file (or the built-in default suite). Scenes are files
+//! (paths relative to the suite file) or inline mappings, each with a label
+//! saying whether it contains a target, and optionally a sweep: one field of
+//! the scene set in turn to each value of a list (a walker's start range, a
+//! fan's speed), each value giving a scene variant.
+
+use echobench_core::detector::ParamValue;
+use echobench_scene::SceneSpec;
+
+/// A whole suite, read and checked.
+#[derive(Debug, Clone)]
+pub struct Suite {
+    /// Name, for outputs.
+    pub name: String,
+    /// Where it came from (a path, or `<built-in default suite>`).
+    pub source: String,
+    /// Seed of every trial's random streams.
+    pub seed: u64,
+    /// Test trials per scene variant (a scene may override it).
+    pub trials: u64,
+    /// Calibration trials per scene variant (own seeds; used to fix thresholds).
+    pub calibration_trials: u64,
+    /// The scenes.
+    pub scenes: Vec<SuiteScene>,
+    /// The detectors, each with its label and parameters.
+    pub detectors: Vec<DetectorEntry>,
+    /// How score traces become alarms.
+    pub alarm: AlarmSpec,
+    /// How alarms are scored.
+    pub scoring: ScoringSpec,
+}
+
+/// Whether a scene contains something to detect.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SceneLabel {
+    /// It contains a target: a trial is a positive for the trial-level ROC.
+    Target,
+    /// It contains only nuisances or nothing: a negative.
+    Nuisance,
+}
+
+/// One scene entry of a suite, expanded into its variants.
+#[derive(Debug, Clone)]
+pub struct SuiteScene {
+    /// Stable id (the scene's name, or the entry's `id`): part of every trial's seed.
+    pub id: String,
+    /// Target or nuisance.
+    pub label: SceneLabel,
+    /// Test trials per variant.
+    pub trials: u64,
+    /// Calibration trials per variant.
+    pub calibration_trials: u64,
+    /// The swept field's path, when there is a sweep.
+    pub sweep_field: Option<String>,
+    /// The variants: one without a sweep, one per sweep value with it.
+    pub variants: Vec<SceneVariant>,
+}
+
+/// One scene variant.
+#[derive(Debug, Clone)]
+pub struct SceneVariant {
+    /// Index of the sweep point (0 without a sweep).
+    pub sweep_point: u64,
+    /// The swept value as written (e.g. `"6"`), `None` without a sweep.
+    pub sweep_value: Option<String>,
+    /// The swept value as a number, when it is one (for detection-vs-range tables).
+    pub sweep_number: Option<f64>,
+    /// The scene with the sweep applied.
+    pub scene: SceneSpec,
+}
+
+/// One detector configuration of a suite.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DetectorEntry {
+    /// Unique label in the suite (defaults to the plugin id).
+    pub label: String,
+    /// The plugin's id.
+    pub plugin: String,
+    /// Parameters set by the suite (the rest take their defaults).
+    pub params: Vec<(String, ParamValue)>,
+}
+
+/// Alarm logic, the same for every detector.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AlarmSpec {
+    /// Non-retriggerable hold after a counted alarm, s.
+    pub hold_s: f64,
+    /// Optional M-of-N: an alarm needs M of the last N frames above threshold.
+    pub m_of_n: Option<(u32, u32)>,
+}
+
+/// Scoring settings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScoringSpec {
+    /// An alarm up to this long before an event's start still detects it, s (τ_pre).
+    pub early_s: f64,
+    /// An alarm up to this long after an event's end still detects it, s (τ_post).
+    pub late_s: f64,
+    /// False-alarm rates at which operating thresholds are chosen, per hour (e.g. 1 and 1/24).
+    pub target_false_alarms_per_hour: Vec<f64>,
+    /// Number of thresholds in each detector's ROC sweep.
+    pub threshold_count: usize,
+    /// Absolute false-alarm budget for the CI gate, per hour (`None`: no budget).
+    pub false_alarm_budget_per_hour: Option<f64>,
+}
+
+impl Default for AlarmSpec {
+    fn default() -> Self {
+        AlarmSpec { hold_s: 5.0, m_of_n: None }
+    }
+}
+
+impl Default for ScoringSpec {
+    fn default() -> Self {
+        ScoringSpec {
+            early_s: 0.5,
+            late_s: 2.0,
+            target_false_alarms_per_hour: vec![1.0, 1.0 / 24.0],
+            threshold_count: 120,
+            false_alarm_budget_per_hour: None,
+        }
+    }
+}
