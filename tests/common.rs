@@ -18,5 +18,8 @@ pub fn trial(scene: &SceneSpec, seed: u64, trial: u64) -> Trial {
 
 /// The workspace root (the folder holding `scenarios/`).
 pub fn workspace_root() -> std::path::PathBuf {
-    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).parent().expect("tests/ has a parent").to_path_buf()
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .parent()
+        .expect("tests/ has a parent")
+        .to_path_buf()
 }

@@ -7,7 +7,11 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 #[derive(Parser)]
-#[command(name = "echobench", version, about = "Proving ground for CW Doppler motion-sensor detection algorithms")]
+#[command(
+    name = "echobench",
+    version,
+    about = "Proving ground for CW Doppler motion-sensor detection algorithms"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -15,6 +19,35 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Command {
+    /// Run a suite (the built-in default suite when none is given) and score every detector.
+    Run {
+        /// The suite file (YAML); omit it for the built-in default suite.
+        suite: Option<PathBuf>,
+        /// Output folder (default: a new folder under runs/).
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Run only the test trials of shard K of N (e.g. 2/8); merge the shards' folders with `merge`.
+        #[arg(long)]
+        shard: Option<String>,
+        /// Worker threads (default: one per core).
+        #[arg(long)]
+        threads: Option<usize>,
+        /// Override the suite's seed.
+        #[arg(long)]
+        seed: Option<u64>,
+    },
+    /// Merge the tallies of shard runs into one run folder.
+    Merge {
+        /// Shard run folders (each holding tallies.json).
+        #[arg(required = true)]
+        runs: Vec<PathBuf>,
+        /// Output folder.
+        #[arg(long)]
+        out: PathBuf,
+        /// The suite file the shards ran (omit for the built-in default suite).
+        #[arg(long)]
+        suite: Option<PathBuf>,
+    },
     /// Synthesize one trial of a scene: WAV and CSV samples, truth CSV and a spectrogram picture.
     Synth {
         /// The scene file (YAML).
@@ -29,6 +62,15 @@ enum Command {
         #[arg(long)]
         out: PathBuf,
     },
+    /// List the built-in detectors: parameters with units, defaults and ranges; state memory and cost.
+    Detectors {
+        /// Sample rate the cost figures are computed for, Hz.
+        #[arg(long, default_value_t = 2000.0)]
+        sample_rate_hz: f64,
+        /// Carrier the speed-derived bands are computed for, Hz.
+        #[arg(long, default_value_t = 24.125e9)]
+        carrier_hz: f64,
+    },
     /// Validate scene files; prints every problem and exits non-zero on any error.
     Check {
         /// Files to check.
@@ -40,8 +82,25 @@ enum Command {
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match cli.command {
-        Command::Synth { scene, trial, seed, out } => run_synth(&scene, trial, seed, &out),
+        Command::Synth {
+            scene,
+            trial,
+            seed,
+            out,
+        } => run_synth(&scene, trial, seed, &out),
         Command::Check { files } => run_check(&files),
+        Command::Run {
+            suite,
+            out,
+            shard,
+            threads,
+            seed,
+        } => run_suite(suite.as_deref(), out, shard.as_deref(), threads, seed),
+        Command::Merge { runs, out, suite } => run_merge(&runs, &out, suite.as_deref()),
+        Command::Detectors {
+            sample_rate_hz,
+            carrier_hz,
+        } => run_detectors(sample_rate_hz, carrier_hz),
     };
     match result {
         Ok(code) => code,
@@ -52,22 +111,238 @@ fn main() -> ExitCode {
     }
 }
 
+fn load_suite(path: Option<&Path>) -> Result<echobench_harness::suite::Suite> {
+    let plugins = echobench_detectors::builtin();
+    let loaded = match path {
+        Some(p) => echobench_harness::suite_file::load_suite_file(p, &plugins),
+        None => echobench_harness::suite_file::default_suite(&plugins)
+            .map(|suite| (suite, Default::default())),
+    };
+    match loaded {
+        Ok((suite, warnings)) => {
+            eprint!("{warnings}");
+            Ok(suite)
+        }
+        Err(report) => {
+            eprint!("{report}");
+            bail!("the suite has {} errors", report.error_count())
+        }
+    }
+}
+
+fn new_run_folder(suite_name: &str) -> PathBuf {
+    let stamp = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map_or(0, |d| d.as_secs());
+    PathBuf::from("runs").join(format!("{suite_name}-{stamp}"))
+}
+
+fn write_run_outputs(
+    out: &Path,
+    suite: &echobench_harness::suite::Suite,
+    tallies: &echobench_harness::runner::Tallies,
+    timing: Option<&echobench_harness::runner::Timing>,
+) -> Result<()> {
+    use echobench_harness::summary;
+    std::fs::create_dir_all(out).with_context(|| format!("creating {}", out.display()))?;
+    let summary = summary::summarise(tallies, suite);
+    summary::write_json(&out.join("tallies.json"), tallies)?;
+    summary::write_json(&out.join("summary.json"), &summary)?;
+    summary::write_roc_csv(&out.join("roc.csv"), tallies)?;
+    summary::write_events_csv(&out.join("events.csv"), &summary)?;
+    if let Some(t) = timing {
+        summary::write_json(&out.join("timing.json"), t)?;
+    }
+    print!("{}", summary::console_table(&summary, timing));
+    println!(
+        "wrote {}/{{summary.json, roc.csv, events.csv, tallies.json}}",
+        out.display()
+    );
+    Ok(())
+}
+
+fn run_suite(
+    path: Option<&Path>,
+    out: Option<PathBuf>,
+    shard: Option<&str>,
+    threads: Option<usize>,
+    seed: Option<u64>,
+) -> Result<ExitCode> {
+    use echobench_harness::runner::{resolve_detectors, run_suite as run, Progress, Shard};
+    let mut suite = load_suite(path)?;
+    if let Some(seed) = seed {
+        suite.seed = seed;
+    }
+    let shard = shard
+        .map(Shard::parse)
+        .transpose()
+        .map_err(anyhow::Error::msg)?;
+    if let Some(n) = threads {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build_global()
+            .context("setting the thread count")?;
+    }
+    let plugins = echobench_detectors::builtin();
+    let detectors = resolve_detectors(&suite, &plugins)?;
+    let bar = progress_bar();
+    let report = |p: Progress| bar.update(p);
+    let (tallies, timing) = run(&suite, &detectors, shard, &report)?;
+    bar.finish();
+    let out = out.unwrap_or_else(|| new_run_folder(&suite.name));
+    write_run_outputs(&out, &suite, &tallies, Some(&timing))?;
+    Ok(ExitCode::SUCCESS)
+}
+
+fn run_merge(runs: &[PathBuf], out: &Path, suite_path: Option<&Path>) -> Result<ExitCode> {
+    let suite = load_suite(suite_path)?;
+    let mut parts = Vec::new();
+    for run in runs {
+        let file = run.join("tallies.json");
+        let text = std::fs::read_to_string(&file)
+            .with_context(|| format!("reading {}", file.display()))?;
+        let tallies: echobench_harness::runner::Tallies =
+            serde_json::from_str(&text).with_context(|| format!("parsing {}", file.display()))?;
+        parts.push(tallies);
+    }
+    let merged = echobench_harness::runner::merge_tallies(parts)?;
+    if merged.suite != suite.name {
+        bail!(
+            "the shards ran suite `{}`, not `{}`: pass it with --suite",
+            merged.suite,
+            suite.name
+        );
+    }
+    write_run_outputs(out, &suite, &merged, None)?;
+    Ok(ExitCode::SUCCESS)
+}
+
+/// Progress on stderr: a bar on a terminal, plain lines otherwise.
+struct ProgressDisplay {
+    bar: Option<indicatif::ProgressBar>,
+    last_line: std::sync::Mutex<(bool, u64)>,
+}
+
+fn progress_bar() -> ProgressDisplay {
+    use std::io::IsTerminal;
+    let bar = std::io::stderr().is_terminal().then(|| {
+        let bar = indicatif::ProgressBar::new(0);
+        bar.set_style(
+            indicatif::ProgressStyle::with_template(
+                "{msg:12} [{bar:40}] {pos}/{len} trials {elapsed}",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+        );
+        bar
+    });
+    ProgressDisplay {
+        bar,
+        last_line: std::sync::Mutex::new((true, 0)),
+    }
+}
+
+impl ProgressDisplay {
+    fn update(&self, p: echobench_harness::runner::Progress) {
+        let phase = if p.calibration { "calibration" } else { "test" };
+        match &self.bar {
+            Some(bar) => {
+                bar.set_message(phase);
+                bar.set_length(p.total);
+                bar.set_position(p.done);
+            }
+            None => {
+                // Plain lines at every tenth of a phase, for logs.
+                let mut last = self.last_line.lock().unwrap_or_else(|e| e.into_inner());
+                let step = (p.total / 10).max(1);
+                if last.0 != p.calibration || p.done == p.total || p.done >= last.1 + step {
+                    *last = (p.calibration, p.done);
+                    eprintln!("{phase}: {}/{} trials", p.done, p.total);
+                }
+            }
+        }
+    }
+
+    fn finish(&self) {
+        if let Some(bar) = &self.bar {
+            bar.finish_and_clear();
+        }
+    }
+}
+
+fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
+    use echobench_core::detector::{ParamKind, Params};
+    let info = echobench_core::StreamInfo {
+        sample_rate_hz,
+        channels: echobench_core::Channels::Real,
+        adc_bits: 12,
+        carrier_hz,
+    };
+    for plugin in echobench_detectors::builtin() {
+        let defaults = Params::defaults(plugin.params());
+        println!("{}: {}", plugin.id(), plugin.about());
+        match plugin.cost(&defaults, &info) {
+            Ok(cost) => println!(
+                "  cost at defaults, {} Hz real input: state {} bytes, ~{:.0} operations per sample",
+                sample_rate_hz, cost.state_bytes, cost.ops_per_sample
+            ),
+            Err(e) => println!("  cost at defaults: not available at this stream ({e})"),
+        }
+        for spec in plugin.params() {
+            let unit = if spec.unit.is_empty() {
+                String::new()
+            } else {
+                format!(" [{}]", spec.unit)
+            };
+            let range = match spec.kind {
+                ParamKind::Real { min, max } => format!("{min} to {max}"),
+                ParamKind::Integer { min, max } => format!("{min} to {max}"),
+                ParamKind::Choice(names) => names.join(" | "),
+                ParamKind::Flag => "true | false".to_string(),
+            };
+            println!(
+                "  {:<22} default {:<10} range {:<22} {}{}",
+                spec.name,
+                spec.default_value(),
+                range,
+                spec.about,
+                unit
+            );
+        }
+        println!();
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
 fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
     let mut failed = 0;
     for file in files {
         match load_scene_file(file) {
             Ok((scene, warnings)) => {
                 eprint!("{warnings}");
-                println!("ok: {} (scene `{}`, {} actors, {} s)", file.display(), scene.name, scene.actors.len(), scene.duration_s);
+                println!(
+                    "ok: {} (scene `{}`, {} actors, {} s)",
+                    file.display(),
+                    scene.name,
+                    scene.actors.len(),
+                    scene.duration_s
+                );
             }
             Err(report) => {
                 failed += 1;
                 eprint!("{report}");
-                println!("failed: {} ({} errors)", file.display(), report.error_count());
+                println!(
+                    "failed: {} ({} errors)",
+                    file.display(),
+                    report.error_count()
+                );
             }
         }
     }
-    Ok(if failed == 0 { ExitCode::SUCCESS } else { ExitCode::from(1) })
+    Ok(if failed == 0 {
+        ExitCode::SUCCESS
+    } else {
+        ExitCode::from(1)
+    })
 }
 
 fn run_synth(scene_path: &Path, trial: u64, seed: u64, out: &Path) -> Result<ExitCode> {
@@ -75,13 +350,18 @@ fn run_synth(scene_path: &Path, trial: u64, seed: u64, out: &Path) -> Result<Exi
         Ok(pair) => pair,
         Err(report) => {
             eprint!("{report}");
-            bail!("{} has {} errors", scene_path.display(), report.error_count());
+            bail!(
+                "{} has {} errors",
+                scene_path.display(),
+                report.error_count()
+            );
         }
     };
     eprint!("{warnings}");
     std::fs::create_dir_all(out).with_context(|| format!("creating {}", out.display()))?;
     let key = StreamKey::new(seed, scene.name.clone(), trial);
-    let trial_data = synthesize(&scene, &key).with_context(|| format!("synthesizing {}", scene_path.display()))?;
+    let trial_data = synthesize(&scene, &key)
+        .with_context(|| format!("synthesizing {}", scene_path.display()))?;
     let stem = format!("{}-trial{}", scene.name, trial);
     let wav = out.join(format!("{stem}.wav"));
     let csv = out.join(format!("{stem}.csv"));
@@ -94,18 +374,42 @@ fn run_synth(scene_path: &Path, trial: u64, seed: u64, out: &Path) -> Result<Exi
         .truth
         .events
         .iter()
-        .map(|e| echobench_spectrogram::Marked { start_s: e.interval.start_s(), end_s: e.interval.end_s(), label: e.actor_id.clone(), is_target: true })
-        .chain(trial_data.truth.nuisances.iter().filter(|n| n.kind != "interference").map(|n| echobench_spectrogram::Marked {
-            start_s: n.interval.start_s(),
-            end_s: n.interval.end_s(),
-            label: n.source_id.clone(),
-            is_target: false,
-        }))
+        .map(|e| echobench_spectrogram::Marked {
+            start_s: e.interval.start_s(),
+            end_s: e.interval.end_s(),
+            label: e.actor_id.clone(),
+            is_target: true,
+        })
+        .chain(
+            trial_data
+                .truth
+                .nuisances
+                .iter()
+                .filter(|n| n.kind != "interference")
+                .map(|n| echobench_spectrogram::Marked {
+                    start_s: n.interval.start_s(),
+                    end_s: n.interval.end_s(),
+                    label: n.source_id.clone(),
+                    is_target: false,
+                }),
+        )
         .collect();
     let channels = trial_data.info.channels.count();
-    let spectrum = echobench_spectrogram::short_time_spectrum(&trial_data.samples, trial_data.info.channels, trial_data.info.sample_rate_hz, 256, 64)?;
+    let spectrum = echobench_spectrogram::short_time_spectrum(
+        &trial_data.samples,
+        trial_data.info.channels,
+        trial_data.info.sample_rate_hz,
+        256,
+        64,
+    )?;
     let options = echobench_spectrogram::SpectrogramOptions {
-        title: format!("{} — trial {} (seed {}), {:.3} GHz", scene.name, trial, seed, scene.sensor.carrier_hz / 1e9),
+        title: format!(
+            "{} — trial {} (seed {}), {:.3} GHz",
+            scene.name,
+            trial,
+            seed,
+            scene.sensor.carrier_hz / 1e9
+        ),
         ..Default::default()
     };
     echobench_spectrogram::write_picture(&picture, &spectrum, &marks, &options)?;

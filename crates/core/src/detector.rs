@@ -58,6 +58,28 @@ pub trait DetectorPlugin: Send + Sync {
     /// # Errors
     /// As [`DetectorPlugin::build`].
     fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError>;
+
+    /// For detectors with a closed-form false-alarm law (CFAR): the score
+    /// threshold their theory sets and the per-frame false-alarm probability it
+    /// promises, valid only under that theory's assumptions (independent
+    /// exponential cells). The harness reports it beside the measured rate.
+    /// `None` (the default) for detectors without one.
+    fn nominal_operating_point(
+        &self,
+        _params: &Params,
+        _info: &StreamInfo,
+    ) -> Option<NominalPoint> {
+        None
+    }
+}
+
+/// A detector's theoretical operating point.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NominalPoint {
+    /// Score threshold set by the closed form.
+    pub threshold: f64,
+    /// Per-frame false-alarm probability the closed form promises at that threshold.
+    pub frame_pfa: f64,
 }
 
 /// Declared resources of a configured detector.

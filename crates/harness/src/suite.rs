@@ -108,7 +108,10 @@ pub struct ScoringSpec {
 
 impl Default for AlarmSpec {
     fn default() -> Self {
-        AlarmSpec { hold_s: 5.0, m_of_n: None }
+        AlarmSpec {
+            hold_s: 5.0,
+            m_of_n: None,
+        }
     }
 }
 

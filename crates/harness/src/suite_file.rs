@@ -1,1 +1,1630 @@
-//! placeholder
+//! Reading suite files strictly, and the built-in default suite.
+//!
+//! A suite file names its scenes (files relative to the suite, or inline
+//! mappings), the detectors to score (plugin id, label, parameters), the alarm
+//! logic and the scoring settings:
+//!
+//! ```yaml
+//! name: default
+//! seed: 20261201
+//! trials: 8                  # test trials per scene variant
+//! calibration_trials: 4      # calibration trials per variant, separate seeds
+//! scenes:
+//!   - file: suite-scenes/corridor-walker.yaml
+//!     label: target          # target | nuisance
+//!     trials: 6              # optional override (also calibration_trials)
+//!     sweep:                 # in a flow mapping `{...}`, quote the field: `[` is YAML syntax there
+//!       field: actors[0].path.start_m[0]
+//!       values: [2, 4, 6, 8, 10, 12]
+//!   - id: quiet-room         # inline scenes need an id
+//!     label: nuisance
+//!     scene: { ...a whole scene mapping... }
+//! detectors:
+//!   - plugin: ca-cfar
+//!     label: ca-cfar-rect    # optional, unique, default = plugin id
+//!     params: {window: rect, hop: 256}
+//! alarm: {hold_s: 5, m_of_n: [2, 3]}
+//! scoring: {early_s: 0.5, late_s: 2, target_false_alarms_per_hour: [1, 0.0416667],
+//!           threshold_count: 120, false_alarm_budget_per_hour: 2}
+//! ```
+//!
+//! **A sweep edits the scene's YAML tree, not its typed form.** The swept
+//! value is written into the parsed scene at the field path before the scene
+//! is read, so any field of any scene can be swept (a walker's start, a fan's
+//! speed, a burst rate, even a distribution), and each variant goes through
+//! exactly the same strict reading and checks as a hand-written scene. A
+//! problem caused by the swept value is reported at the value in the suite.
+//!
+//! The harness knows no detector crate: the caller passes the list of plugins
+//! (`echobench-detectors` holds the built-ins), and every `params` entry is
+//! resolved against its plugin's declared parameters at load time, then the
+//! configuration is tried against each scene's stream, so a bad value is
+//! refused before any trial runs.
+
+use crate::suite::{
+    AlarmSpec, DetectorEntry, SceneLabel, SceneVariant, ScoringSpec, Suite, SuiteScene,
+};
+use echobench_core::detector::{DetectorPlugin, ParamValue, Params};
+use echobench_core::{Channels, StreamInfo};
+use echobench_scene::{load_scene_node, scene_sanity, SceneSpec};
+use echobench_yaml_reader::{
+    parse, suggest, Limits, Location, Node, Problem, Reader, Report, Severity, Value,
+};
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::path::{Path, PathBuf};
+
+/// Where the scene files named by a suite come from.
+pub trait SceneSource {
+    /// The text of the scene file written as `relative` in the suite.
+    ///
+    /// # Errors
+    /// Why it cannot be read, in words (the message is shown to the user).
+    fn read(&self, relative: &str) -> Result<String, String>;
+
+    /// How the file is named in messages (a path the user can open).
+    fn display_name(&self, relative: &str) -> String;
+}
+
+/// Scene files on disk, relative to the suite file's folder.
+#[derive(Debug, Clone)]
+pub struct FolderSource {
+    folder: PathBuf,
+}
+
+impl FolderSource {
+    /// Scene paths are resolved against `folder`.
+    pub fn new(folder: impl Into<PathBuf>) -> Self {
+        FolderSource {
+            folder: folder.into(),
+        }
+    }
+
+    fn path_of(&self, relative: &str) -> PathBuf {
+        self.folder.join(relative)
+    }
+}
+
+impl SceneSource for FolderSource {
+    fn read(&self, relative: &str) -> Result<String, String> {
+        let path = self.path_of(relative);
+        std::fs::read_to_string(&path).map_err(|e| format!("cannot read `{}`: {e}", path.display()))
+    }
+
+    fn display_name(&self, relative: &str) -> String {
+        self.path_of(relative).display().to_string()
+    }
+}
+
+/// Scene files held in memory as (name, text) pairs, e.g. compiled into the binary.
+#[derive(Debug, Clone, Copy)]
+pub struct EmbeddedSource {
+    files: &'static [(&'static str, &'static str)],
+}
+
+impl EmbeddedSource {
+    /// A source serving `files`, each named as the suite names it.
+    pub const fn new(files: &'static [(&'static str, &'static str)]) -> Self {
+        EmbeddedSource { files }
+    }
+
+    /// The scene files of the built-in default suite.
+    pub const fn default_suite() -> Self {
+        EmbeddedSource::new(&DEFAULT_SUITE_SCENES)
+    }
+}
+
+impl SceneSource for EmbeddedSource {
+    fn read(&self, relative: &str) -> Result<String, String> {
+        match self.files.iter().find(|(name, _)| *name == relative) {
+            Some((_, text)) => Ok((*text).to_string()),
+            None => {
+                let names: Vec<&str> = self.files.iter().map(|(name, _)| *name).collect();
+                let hint = suggest(relative, &names)
+                    .map_or_else(String::new, |near| format!(" (did you mean `{near}`?)"));
+                Err(format!(
+                    "no built-in scene file `{relative}`{hint}; the built-in files are: {}",
+                    names.join(", ")
+                ))
+            }
+        }
+    }
+
+    fn display_name(&self, relative: &str) -> String {
+        format!("<built-in>/{relative}")
+    }
+}
+
+/// How the built-in default suite is named in messages.
+pub const DEFAULT_SUITE_FILE_NAME: &str = "<built-in>/default-suite.yaml";
+
+/// `Suite::source` of the built-in default suite.
+pub const DEFAULT_SUITE_SOURCE: &str = "<built-in default suite>";
+
+/// The text of the built-in default suite (`scenarios/default-suite.yaml`).
+pub const DEFAULT_SUITE_YAML: &str = include_str!("../../../scenarios/default-suite.yaml");
+
+/// Every scene file the default suite names, as (name in the suite, text).
+///
+/// One explicit table, so that the binary carries exactly these files; a test
+/// checks it against the folder `scenarios/suite-scenes/` and the suite.
+pub static DEFAULT_SUITE_SCENES: [(&str, &str); 13] = [
+    (
+        "suite-scenes/office-corridor-range.yaml",
+        include_str!("../../../scenarios/suite-scenes/office-corridor-range.yaml"),
+    ),
+    (
+        "suite-scenes/warehouse-aisle-crossing.yaml",
+        include_str!("../../../scenarios/suite-scenes/warehouse-aisle-crossing.yaml"),
+    ),
+    (
+        "suite-scenes/hotel-lobby-diagonal.yaml",
+        include_str!("../../../scenarios/suite-scenes/hotel-lobby-diagonal.yaml"),
+    ),
+    (
+        "suite-scenes/care-home-slow-walker.yaml",
+        include_str!("../../../scenarios/suite-scenes/care-home-slow-walker.yaml"),
+    ),
+    (
+        "suite-scenes/reading-chair-breathing.yaml",
+        include_str!("../../../scenarios/suite-scenes/reading-chair-breathing.yaml"),
+    ),
+    (
+        "suite-scenes/study-desk-fan.yaml",
+        include_str!("../../../scenarios/suite-scenes/study-desk-fan.yaml"),
+    ),
+    (
+        "suite-scenes/porch-palm-gusts.yaml",
+        include_str!("../../../scenarios/suite-scenes/porch-palm-gusts.yaml"),
+    ),
+    (
+        "suite-scenes/bedroom-curtain-draught.yaml",
+        include_str!("../../../scenarios/suite-scenes/bedroom-curtain-draught.yaml"),
+    ),
+    (
+        "suite-scenes/night-office-mains-lamp.yaml",
+        include_str!("../../../scenarios/suite-scenes/night-office-mains-lamp.yaml"),
+    ),
+    (
+        "suite-scenes/stockroom-radio-bursts.yaml",
+        include_str!("../../../scenarios/suite-scenes/stockroom-radio-bursts.yaml"),
+    ),
+    (
+        "suite-scenes/shop-entrance-neighbour.yaml",
+        include_str!("../../../scenarios/suite-scenes/shop-entrance-neighbour.yaml"),
+    ),
+    (
+        "suite-scenes/kitchen-cat.yaml",
+        include_str!("../../../scenarios/suite-scenes/kitchen-cat.yaml"),
+    ),
+    (
+        "suite-scenes/empty-lab-bench.yaml",
+        include_str!("../../../scenarios/suite-scenes/empty-lab-bench.yaml"),
+    ),
+];
+
+/// Bounds on a suite file: inline scenes make it larger than a scene, so the default limits.
+const SUITE_LIMITS: Limits = Limits {
+    max_bytes: 4 << 20,
+    max_nodes: 200_000,
+    max_depth: 64,
+};
+
+/// Bounds on a scene file named by a suite, as the scene crate reads scene files.
+const SCENE_LIMITS: Limits = Limits {
+    max_bytes: 1 << 20,
+    max_nodes: 100_000,
+    max_depth: 32,
+};
+
+/// Allowed number of thresholds in a ROC sweep: fewer draws a coarse curve,
+/// more costs memory per detector and trial without a visible gain.
+const THRESHOLD_COUNT_RANGE: std::ops::RangeInclusive<usize> = 10..=10_000;
+
+/// Largest N of an M-of-N rule: the harness keeps the last N frame decisions as bits of a u64.
+const MAX_M_OF_N_FRAMES: u32 = 64;
+
+/// Reads a suite file; scene paths are relative to its folder.
+///
+/// `plugins` are the detectors the suite may name (their ids and parameter specs).
+///
+/// # Errors
+/// An unreadable file, or the report of every problem found in the suite and its scenes.
+pub fn load_suite_file(
+    path: &Path,
+    plugins: &[&dyn DetectorPlugin],
+) -> Result<(Suite, Report), Report> {
+    let name = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| Report {
+        problems: vec![Problem {
+            severity: Severity::Error,
+            file: name.clone(),
+            location: None,
+            field: String::new(),
+            message: format!("cannot read the suite file: {e}"),
+            hint: None,
+        }],
+    })?;
+    let folder = path.parent().unwrap_or_else(|| Path::new(""));
+    load_suite_text(&name, &text, &FolderSource::new(folder), plugins)
+}
+
+/// Reads a suite from text; `name` names it in messages and gives the default suite name.
+///
+/// # Errors
+/// The report of every problem found in the suite and in the scenes it names.
+pub fn load_suite_text(
+    name: &str,
+    text: &str,
+    scenes: &dyn SceneSource,
+    plugins: &[&dyn DetectorPlugin],
+) -> Result<(Suite, Report), Report> {
+    let root = parse(name, text, &SUITE_LIMITS)?;
+    let mut report = Report::default();
+    let suite = read_suite(&root, name, scenes, plugins, &mut report);
+    match suite {
+        Some(suite) if !report.has_errors() => Ok((suite, report)),
+        _ => Err(report),
+    }
+}
+
+/// The built-in default suite, read and checked against `plugins`.
+///
+/// # Errors
+/// Every problem found: none for the built-in detectors (a test holds it so),
+/// but a plugin list without one of them is refused.
+pub fn default_suite(plugins: &[&dyn DetectorPlugin]) -> Result<Suite, Report> {
+    let (mut suite, _warnings) = load_suite_text(
+        DEFAULT_SUITE_FILE_NAME,
+        DEFAULT_SUITE_YAML,
+        &EmbeddedSource::default_suite(),
+        plugins,
+    )?;
+    suite.source = DEFAULT_SUITE_SOURCE.to_string();
+    Ok(suite)
+}
+
+fn problem(
+    severity: Severity,
+    file: &str,
+    location: Location,
+    field: String,
+    message: String,
+    hint: Option<String>,
+) -> Problem {
+    Problem {
+        severity,
+        file: file.to_string(),
+        location: Some(location),
+        field,
+        message,
+        hint,
+    }
+}
+
+fn error(file: &str, location: Location, field: String, message: String) -> Problem {
+    problem(Severity::Error, file, location, field, message, None)
+}
+
+fn read_suite(
+    root: &Node,
+    name: &str,
+    scenes: &dyn SceneSource,
+    plugins: &[&dyn DetectorPlugin],
+    report: &mut Report,
+) -> Option<Suite> {
+    let default_name = Path::new(name)
+        .file_stem()
+        .map_or_else(|| "suite".to_string(), |s| s.to_string_lossy().into_owned());
+    let mut reader = Reader::new(name);
+    let Some(mut f) = reader.fields(root, "") else {
+        report.extend(reader.finish());
+        return None;
+    };
+    let suite_name: String = f.optional_or("name", default_name);
+    let seed: Option<u64> = f.required("seed");
+    let trials: Option<u64> = f.required("trials");
+    let calibration_trials: Option<u64> = f.required("calibration_trials");
+    let scenes_node = f.raw("scenes");
+    let detectors_node = f.raw("detectors");
+    let alarm_node = f.raw("alarm");
+    let scoring_node = f.raw("scoring");
+    if suite_name.trim().is_empty() {
+        f.error_at("name", "must not be empty");
+    }
+    for (key, count) in [
+        ("trials", trials),
+        ("calibration_trials", calibration_trials),
+    ] {
+        if count == Some(0) {
+            f.error_at(key, "must be at least 1");
+        }
+    }
+    if scenes_node.is_none() {
+        f.error_at("scenes", "missing required field");
+    }
+    if detectors_node.is_none() {
+        f.error_at("detectors", "missing required field");
+    }
+    f.finish();
+    report.extend(reader.finish());
+
+    let defaults = TrialCounts {
+        trials: trials.unwrap_or(1),
+        calibration_trials: calibration_trials.unwrap_or(1),
+    };
+    let suite_scenes =
+        scenes_node.and_then(|node| read_scenes(node, name, scenes, defaults, report));
+    let detectors = detectors_node.and_then(|node| read_detectors(node, name, plugins, report));
+    let alarm = match alarm_node {
+        Some(node) => read_alarm(node, name, report),
+        None => Some(AlarmSpec::default()),
+    };
+    let scoring = match scoring_node {
+        Some(node) => read_scoring(node, name, report),
+        None => Some(ScoringSpec::default()),
+    };
+    if let (Some(scenes), Some(detectors)) = (&suite_scenes, &detectors) {
+        check_streams(scenes, detectors, plugins, name, report);
+    }
+    Some(Suite {
+        name: suite_name,
+        source: name.to_string(),
+        seed: seed?,
+        trials: trials?,
+        calibration_trials: calibration_trials?,
+        scenes: suite_scenes?,
+        detectors: detectors?.into_iter().map(|d| d.entry).collect(),
+        alarm: alarm?,
+        scoring: scoring?,
+    })
+}
+
+#[derive(Debug, Clone, Copy)]
+struct TrialCounts {
+    trials: u64,
+    calibration_trials: u64,
+}
+
+// ---------------------------------------------------------------- scenes
+
+fn read_scenes(
+    node: &Node,
+    suite_file: &str,
+    source: &dyn SceneSource,
+    defaults: TrialCounts,
+    report: &mut Report,
+) -> Option<Vec<SuiteScene>> {
+    let Value::Seq(items) = &node.value else {
+        report.problems.push(error(
+            suite_file,
+            node.location,
+            "scenes".into(),
+            format!(
+                "expected a list of scene entries, found {}",
+                node.kind_name()
+            ),
+        ));
+        return None;
+    };
+    if items.is_empty() {
+        report.problems.push(error(
+            suite_file,
+            node.location,
+            "scenes".into(),
+            "a suite needs at least one scene".into(),
+        ));
+        return None;
+    }
+    let mut out = Vec::new();
+    let mut ids: Vec<(String, Location)> = Vec::new();
+    let mut ok = true;
+    for (index, item) in items.iter().enumerate() {
+        match read_scene_entry(item, index, suite_file, source, defaults, report) {
+            Some((scene, id_location)) => {
+                if let Some((_, first)) = ids.iter().find(|(id, _)| *id == scene.id) {
+                    report.problems.push(problem(
+                        Severity::Error,
+                        suite_file,
+                        id_location,
+                        format!("scenes[{index}]"),
+                        format!(
+                            "scene id `{}` is used twice (first on line {}); ids must be unique, as they seed the trials",
+                            scene.id, first.line
+                        ),
+                        Some("give one of the entries its own `id`".into()),
+                    ));
+                    ok = false;
+                }
+                ids.push((scene.id.clone(), id_location));
+                out.push(scene);
+            }
+            None => ok = false,
+        }
+    }
+    ok.then_some(out)
+}
+
+/// Where an entry's scene comes from.
+enum Origin<'n> {
+    File {
+        relative: String,
+        location: Location,
+    },
+    Inline(&'n Node),
+}
+
+/// An entry's sweep, as written.
+struct SweepRead<'n> {
+    field: String,
+    field_location: Location,
+    steps: Vec<Step>,
+    values: Vec<&'n Node>,
+}
+
+/// Reads one entry of `scenes:` and its variants; returns the scene and the location of its id.
+fn read_scene_entry(
+    node: &Node,
+    index: usize,
+    suite_file: &str,
+    source: &dyn SceneSource,
+    defaults: TrialCounts,
+    report: &mut Report,
+) -> Option<(SuiteScene, Location)> {
+    let path = format!("scenes[{index}]");
+    let mut reader = Reader::new(suite_file);
+    let Some(mut f) = reader.fields(node, &path) else {
+        report.extend(reader.finish());
+        return None;
+    };
+    let mut ok = true;
+    let file_node = f.raw("file");
+    let scene_node = f.raw("scene");
+    let id_node = f.raw("id");
+    let id: Option<String> = f.optional("id");
+    let label = match f.required_choice("label", &["target", "nuisance"]) {
+        Some("target") => Some(SceneLabel::Target),
+        Some(_) => Some(SceneLabel::Nuisance),
+        None => None,
+    };
+    let label_location = f.raw("label").map_or(node.location, |n| n.location);
+    // Overrides are checked here; the suite-wide counts where they are written.
+    let trials_override: Option<u64> = f.optional("trials");
+    let calibration_override: Option<u64> = f.optional("calibration_trials");
+    for (key, count) in [
+        ("trials", trials_override),
+        ("calibration_trials", calibration_override),
+    ] {
+        if count == Some(0) {
+            f.error_at(key, "must be at least 1");
+        }
+    }
+    let trials = trials_override.unwrap_or(defaults.trials);
+    let calibration_trials = calibration_override.unwrap_or(defaults.calibration_trials);
+    if id.as_ref().is_some_and(|id| id.trim().is_empty()) {
+        f.error_at("id", "must not be empty");
+    }
+    let origin = match (file_node, scene_node) {
+        (Some(file), None) => {
+            let relative: Option<String> = f.optional("file");
+            match relative {
+                Some(relative) if !relative.trim().is_empty() => Some(Origin::File {
+                    relative,
+                    location: file.location,
+                }),
+                Some(_) => {
+                    f.error_at("file", "must name a scene file");
+                    None
+                }
+                None => None,
+            }
+        }
+        (None, Some(scene)) => {
+            if id.is_none() {
+                f.error_at(
+                    "id",
+                    "an inline scene needs an `id` (it names the scene in results and seeds its trials)",
+                );
+            }
+            Some(Origin::Inline(scene))
+        }
+        (Some(_), Some(_)) => {
+            f.error_at(
+                "scene",
+                "give either `file` (a scene file) or `scene` (an inline scene), not both",
+            );
+            None
+        }
+        (None, None) => {
+            f.error_at(
+                "file",
+                "missing: give `file` (a path relative to the suite) or `scene` (an inline scene with an `id`)",
+            );
+            None
+        }
+    };
+    let sweep = match f.raw("sweep") {
+        Some(sweep_node) => {
+            let sweep_path = f.path_of("sweep");
+            let sweep = read_sweep(sweep_node, &sweep_path, f.reader());
+            if sweep.is_none() {
+                ok = false;
+            }
+            sweep
+        }
+        None => None,
+    };
+    f.finish();
+    let entry_problems = reader.finish();
+    ok &= !entry_problems.has_errors();
+    report.extend(entry_problems);
+    let origin = origin?;
+    let (tree, scene_file, inline) =
+        scene_tree(origin, id.as_deref(), suite_file, &path, source, report)?;
+    let context = VariantContext {
+        suite_file,
+        scene_file: &scene_file,
+        entry_path: &path,
+        inline,
+    };
+    let variants_read = read_variants(&tree, sweep.as_ref(), &context, report)?;
+    report_variant_problems(
+        &variants_read,
+        sweep.as_ref().map(|s| s.field.as_str()),
+        report,
+    );
+
+    let mut variants = Vec::with_capacity(variants_read.len());
+    for (point, variant) in variants_read.into_iter().enumerate() {
+        let (sweep_value, sweep_number) = match variant.written {
+            Some(written) => (Some(written.text), written.number),
+            None => (None, None),
+        };
+        variants.push(SceneVariant {
+            sweep_point: point as u64,
+            sweep_value,
+            sweep_number,
+            scene: variant.scene?,
+        });
+    }
+    let first = &variants.first()?.scene;
+    let label = label?;
+    check_label(label, first, suite_file, label_location, &path, report);
+    if !ok {
+        return None;
+    }
+    let id = id.unwrap_or_else(|| first.name.clone());
+    let id_location = id_node.map_or(node.location, |n| n.location);
+    Some((
+        SuiteScene {
+            id,
+            label,
+            trials,
+            calibration_trials,
+            sweep_field: sweep.map(|s| s.field),
+            variants,
+        },
+        id_location,
+    ))
+}
+
+/// The scene's YAML tree, the file its problems are reported in, and whether it is inline.
+fn scene_tree(
+    origin: Origin<'_>,
+    id: Option<&str>,
+    suite_file: &str,
+    path: &str,
+    source: &dyn SceneSource,
+    report: &mut Report,
+) -> Option<(Node, String, bool)> {
+    match origin {
+        Origin::File { relative, location } => {
+            let display = source.display_name(&relative);
+            let text = match source.read(&relative) {
+                Ok(text) => text,
+                Err(message) => {
+                    report.problems.push(error(
+                        suite_file,
+                        location,
+                        format!("{path}.file"),
+                        format!("scene file not found: {message}"),
+                    ));
+                    return None;
+                }
+            };
+            match parse(&display, &text, &SCENE_LIMITS) {
+                Ok(tree) => Some((tree, display, false)),
+                Err(problems) => {
+                    report.extend(problems);
+                    None
+                }
+            }
+        }
+        Origin::Inline(scene) => {
+            let mut tree = scene.clone();
+            // Without a `name`, the scene reader would name it after the suite file.
+            if let (Value::Map(entries), Some(id)) = (&mut tree.value, id) {
+                if !entries.iter().any(|(key, _, _)| key == "name") {
+                    let at = tree.location;
+                    let name = Node {
+                        value: Value::Str(id.to_string()),
+                        location: at,
+                    };
+                    entries.insert(0, ("name".to_string(), name, at));
+                }
+            }
+            Some((tree, suite_file.to_string(), true))
+        }
+    }
+}
+
+/// A problem of a variant, with whether it is about the swept value itself
+/// (then already moved to the value in the suite).
+type AttributedProblem = (Problem, bool);
+
+/// One variant as read: the scene if it is sound, its problems, the value written.
+struct VariantRead {
+    scene: Option<SceneSpec>,
+    problems: Vec<AttributedProblem>,
+    written: Option<WrittenValue>,
+}
+
+/// A swept value as written in the suite.
+struct WrittenValue {
+    text: String,
+    number: Option<f64>,
+}
+
+/// Reads the variants of an entry: the tree as is, or one per sweep value written into it.
+fn read_variants(
+    tree: &Node,
+    sweep: Option<&SweepRead<'_>>,
+    context: &VariantContext<'_>,
+    report: &mut Report,
+) -> Option<Vec<VariantRead>> {
+    let Some(sweep) = sweep else {
+        let (scene, problems) = context.read_variant(tree, None);
+        return Some(vec![VariantRead {
+            scene,
+            problems,
+            written: None,
+        }]);
+    };
+    if let Err(miss) = node_at(tree, &sweep.steps) {
+        let message = format!(
+            "the field to sweep is not in the scene `{}`: {}",
+            context.scene_file, miss.message
+        );
+        report.problems.push(problem(
+            Severity::Error,
+            context.suite_file,
+            sweep.field_location,
+            format!("{}.sweep.field", context.entry_path),
+            message,
+            miss.hint,
+        ));
+        return None;
+    }
+    let mut variants = Vec::with_capacity(sweep.values.len());
+    for (point, value) in sweep.values.iter().enumerate() {
+        let mut variant = tree.clone();
+        let target = node_at_mut(&mut variant, &sweep.steps)?;
+        let mut new_value = (*value).clone();
+        if !context.inline {
+            // Located at the field it replaces, so that the scene file's locations
+            // stay true; problems of the value itself are moved to the suite.
+            relocate(&mut new_value, target.location);
+        }
+        *target = new_value;
+        let text = render_value(value);
+        let applied = AppliedSweep {
+            field: &sweep.field,
+            value_text: &text,
+            value_location: value.location,
+            value_path: format!("{}.sweep.values[{point}]", context.entry_path),
+        };
+        let (scene, problems) = context.read_variant(&variant, Some(&applied));
+        variants.push(VariantRead {
+            scene,
+            problems,
+            written: Some(WrittenValue {
+                text,
+                number: number_of(value),
+            }),
+        });
+    }
+    Some(variants)
+}
+
+/// Moves the variants' problems into `report`: one found in every variant once
+/// as it is, the others prefixed with their variant's swept value.
+fn report_variant_problems(
+    variants: &[VariantRead],
+    sweep_field: Option<&str>,
+    report: &mut Report,
+) {
+    let mut reported: Vec<Problem> = Vec::new();
+    for variant in variants {
+        for (p, of_the_value) in &variant.problems {
+            let common = variants.len() > 1
+                && !of_the_value
+                && variants
+                    .iter()
+                    .all(|other| other.problems.iter().any(|(o, _)| o == p));
+            if common {
+                if !reported.contains(p) {
+                    reported.push(p.clone());
+                }
+                continue;
+            }
+            let mut p = p.clone();
+            if let (Some(field), Some(written), false) =
+                (sweep_field, &variant.written, *of_the_value)
+            {
+                p.message = format!("with `{field}` = {}: {}", written.text, p.message);
+            }
+            reported.push(p);
+        }
+    }
+    report.problems.extend(reported);
+}
+
+/// Warns when the label says the opposite of the scene's actors.
+fn check_label(
+    label: SceneLabel,
+    scene: &SceneSpec,
+    suite_file: &str,
+    label_location: Location,
+    path: &str,
+    report: &mut Report,
+) {
+    let target = scene.actors.iter().find(|a| a.target);
+    let (message, hint) = match (label, target) {
+        (SceneLabel::Target, None) => (
+            format!(
+                "labelled `target`, but scene `{}` has no target actor: its trials count as positives with nothing to detect",
+                scene.name
+            ),
+            "set `target: true` on the actor to detect, or label the scene `nuisance`",
+        ),
+        (SceneLabel::Nuisance, Some(actor)) => (
+            format!(
+                "labelled `nuisance`, but actor `{}` of scene `{}` is a target: its trials count as negatives although it is to be detected",
+                actor.id, scene.name
+            ),
+            "label the scene `target`, or set `target: false` on the actor",
+        ),
+        _ => return,
+    };
+    report.problems.push(problem(
+        Severity::Warning,
+        suite_file,
+        label_location,
+        format!("{path}.label"),
+        message,
+        Some(hint.to_string()),
+    ));
+}
+
+fn read_sweep<'n>(node: &'n Node, path: &str, reader: &mut Reader) -> Option<SweepRead<'n>> {
+    let mut f = reader.fields(node, path)?;
+    let field: Option<String> = f.required("field");
+    let field_location = f.raw("field").map_or(node.location, |n| n.location);
+    let values_node = f.raw("values");
+    let values_path = f.path_of("values");
+    let steps = match &field {
+        Some(field) => match parse_field_path(field) {
+            Ok(steps) => Some(steps),
+            Err(message) => {
+                f.error_at("field", message);
+                None
+            }
+        },
+        None => None,
+    };
+    let mut values = Vec::new();
+    let mut values_ok = true;
+    match values_node {
+        None => {
+            f.error_at("values", "missing required field");
+            values_ok = false;
+        }
+        Some(list) => match &list.value {
+            Value::Seq(items) if items.is_empty() => {
+                f.error_at(
+                    "values",
+                    "a sweep needs at least one value (each value is one scene variant)",
+                );
+                values_ok = false;
+            }
+            Value::Seq(items) => {
+                for (i, item) in items.iter().enumerate() {
+                    let item_path = format!("{values_path}[{i}]");
+                    let refusal = sweep_value_refusal(item);
+                    if let Some(message) = refusal {
+                        f.reader().error(item.location, &item_path, message);
+                        values_ok = false;
+                        continue;
+                    }
+                    if let Some(j) = values[..]
+                        .iter()
+                        .position(|v: &&Node| v.value == item.value)
+                    {
+                        let message = format!(
+                            "the same value as `values[{j}]`: two variants of one scene point"
+                        );
+                        f.reader().warn(item.location, &item_path, message);
+                    }
+                    values.push(item);
+                }
+            }
+            _ => {
+                f.error_at(
+                    "values",
+                    format!("expected a list of values, found {}", list.kind_name()),
+                );
+                values_ok = false;
+            }
+        },
+    }
+    f.finish();
+    if !values_ok {
+        return None;
+    }
+    Some(SweepRead {
+        field: field?,
+        field_location,
+        steps: steps?,
+        values,
+    })
+}
+
+/// Why `value` cannot be written into a scene as a swept value, if it cannot.
+fn sweep_value_refusal(value: &Node) -> Option<String> {
+    const EXPECTED: &str = "expected a number, a name or a distribution";
+    match &value.value {
+        Value::Int(_) | Value::Str(_) | Value::Bool(_) | Value::Map(_) => None,
+        Value::Float(x) if x.is_finite() => None,
+        Value::Float(x) => Some(format!("must be a finite number, found {x}")),
+        Value::Null => Some(format!("{EXPECTED}, found nothing (null)")),
+        Value::Seq(_) => Some(format!(
+            "{EXPECTED}, found a list (sweep one element, e.g. `start_m[0]`)"
+        )),
+    }
+}
+
+/// What a variant's problems are rewritten with.
+struct VariantContext<'a> {
+    suite_file: &'a str,
+    scene_file: &'a str,
+    entry_path: &'a str,
+    inline: bool,
+}
+
+/// The sweep value written into one variant.
+struct AppliedSweep<'a> {
+    field: &'a str,
+    value_text: &'a str,
+    value_location: Location,
+    value_path: String,
+}
+
+impl VariantContext<'_> {
+    /// Reads one variant's tree as a scene and checks it; its problems, located and
+    /// attributed, each with whether it is about the swept value (then moved to the suite).
+    fn read_variant(
+        &self,
+        tree: &Node,
+        sweep: Option<&AppliedSweep<'_>>,
+    ) -> (Option<SceneSpec>, Vec<AttributedProblem>) {
+        let (scene, problems) = match load_scene_node(self.scene_file, tree) {
+            Ok((scene, warnings)) => {
+                let mut problems = warnings;
+                let sanity = scene_sanity(&scene, self.scene_file);
+                let failed = sanity.has_errors();
+                problems.extend(sanity);
+                (if failed { None } else { Some(scene) }, problems.problems)
+            }
+            Err(report) => (None, report.problems),
+        };
+        let mut attributed = Vec::with_capacity(problems.len());
+        for mut p in problems {
+            if p.location.is_none() {
+                p.location = Some(deepest_location(tree, &p.field));
+            }
+            if let Some(sweep) = sweep.filter(|s| field_is_within(&p.field, s.field)) {
+                p.message = format!(
+                    "{} (the swept value {} written at `{}`)",
+                    p.message, sweep.value_text, sweep.field
+                );
+                p.file = self.suite_file.to_string();
+                p.location = Some(sweep.value_location);
+                p.field = sweep.value_path.clone();
+                attributed.push((p, true));
+                continue;
+            }
+            if self.inline {
+                p.field = if p.field.is_empty() {
+                    format!("{}.scene", self.entry_path)
+                } else {
+                    format!("{}.scene.{}", self.entry_path, p.field)
+                };
+            }
+            attributed.push((p, false));
+        }
+        (scene, attributed)
+    }
+}
+
+/// True when `field` is `prefix` or a field inside it.
+fn field_is_within(field: &str, prefix: &str) -> bool {
+    match field.strip_prefix(prefix) {
+        Some(rest) => rest.is_empty() || rest.starts_with('.') || rest.starts_with('['),
+        None => false,
+    }
+}
+
+/// The swept value as written, for tables and messages.
+fn render_value(node: &Node) -> String {
+    match &node.value {
+        Value::Null => "null".into(),
+        Value::Bool(b) => b.to_string(),
+        Value::Int(i) => i.to_string(),
+        Value::Float(x) => x.to_string(),
+        Value::Str(s) => s.clone(),
+        Value::Seq(items) => {
+            let items: Vec<String> = items.iter().map(render_value).collect();
+            format!("[{}]", items.join(", "))
+        }
+        Value::Map(entries) => {
+            let entries: Vec<String> = entries
+                .iter()
+                .map(|(key, value, _)| format!("{key}: {}", render_value(value)))
+                .collect();
+            format!("{{{}}}", entries.join(", "))
+        }
+    }
+}
+
+fn number_of(node: &Node) -> Option<f64> {
+    match node.value {
+        Value::Int(i) => Some(i as f64),
+        Value::Float(x) => Some(x),
+        _ => None,
+    }
+}
+
+fn relocate(node: &mut Node, location: Location) {
+    node.location = location;
+    match &mut node.value {
+        Value::Seq(items) => items.iter_mut().for_each(|item| relocate(item, location)),
+        Value::Map(entries) => {
+            for (_, value, key_location) in entries.iter_mut() {
+                *key_location = location;
+                relocate(value, location);
+            }
+        }
+        _ => {}
+    }
+}
+
+// ---------------------------------------------------------------- field paths
+
+/// One step of a field path: a mapping key or a list index.
+#[derive(Debug, Clone, PartialEq)]
+enum Step {
+    Key(String),
+    Index(usize),
+}
+
+/// Parses `actors[0].path.start_m[0]` into steps.
+fn parse_field_path(text: &str) -> Result<Vec<Step>, String> {
+    let bad =
+        |why: &str| format!("`{text}` is not a field path like `actors[0].path.start_m[0]`: {why}");
+    if text.is_empty() {
+        return Err(bad("it is empty"));
+    }
+    let mut steps = Vec::new();
+    for segment in text.split('.') {
+        let (name, mut rest) = match segment.find('[') {
+            Some(i) => (&segment[..i], &segment[i..]),
+            None => (segment, ""),
+        };
+        if name.is_empty() {
+            return Err(bad("a field name is missing"));
+        }
+        if !name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+        {
+            return Err(bad(&format!("`{name}` is not a field name")));
+        }
+        steps.push(Step::Key(name.to_string()));
+        while !rest.is_empty() {
+            let Some(inner) = rest.strip_prefix('[') else {
+                return Err(bad(&format!("unexpected `{rest}` after an index")));
+            };
+            let Some(close) = inner.find(']') else {
+                return Err(bad("a `[` is not closed"));
+            };
+            let index: usize = inner[..close]
+                .parse()
+                .map_err(|_| bad(&format!("`[{}]` is not a list index", &inner[..close])))?;
+            steps.push(Step::Index(index));
+            rest = &inner[close + 1..];
+        }
+    }
+    Ok(steps)
+}
+
+fn render_steps(steps: &[Step]) -> String {
+    let mut out = String::new();
+    for step in steps {
+        match step {
+            Step::Key(key) if out.is_empty() => out.push_str(key),
+            Step::Key(key) => {
+                out.push('.');
+                out.push_str(key);
+            }
+            Step::Index(i) => out.push_str(&format!("[{i}]")),
+        }
+    }
+    out
+}
+
+/// Why a field path does not lead to a node.
+struct PathMiss {
+    message: String,
+    hint: Option<String>,
+}
+
+fn node_at<'a>(root: &'a Node, steps: &[Step]) -> Result<&'a Node, PathMiss> {
+    let mut node = root;
+    for (depth, step) in steps.iter().enumerate() {
+        let here = render_steps(&steps[..depth]);
+        let here_named = if here.is_empty() {
+            "the scene".to_string()
+        } else {
+            format!("`{here}`")
+        };
+        node = match (step, &node.value) {
+            (Step::Key(key), Value::Map(entries)) => {
+                match entries.iter().find(|(k, _, _)| k == key) {
+                    Some((_, value, _)) => value,
+                    None => {
+                        let keys: Vec<&str> = entries.iter().map(|(k, _, _)| k.as_str()).collect();
+                        let full = render_steps(&steps[..=depth]);
+                        let hint = match suggest(key, &keys) {
+                            Some(near) => {
+                                let mut fixed = steps[..=depth].to_vec();
+                                fixed[depth] = Step::Key(near.to_string());
+                                Some(format!("did you mean `{}`?", render_steps(&fixed)))
+                            }
+                            None if keys.is_empty() => None,
+                            None => Some(format!("fields there: {}", keys.join(", "))),
+                        };
+                        return Err(PathMiss {
+                            message: format!(
+                                "{here_named} has no field `{key}`, so `{full}` does not exist; a sweep only replaces a value the scene writes"
+                            ),
+                            hint,
+                        });
+                    }
+                }
+            }
+            (Step::Index(i), Value::Seq(items)) => match items.get(*i) {
+                Some(item) => item,
+                None => {
+                    return Err(PathMiss {
+                        message: format!(
+                            "{here_named} has {} {} (indices count from 0), so there is no `[{i}]`",
+                            items.len(),
+                            if items.len() == 1 { "entry" } else { "entries" }
+                        ),
+                        hint: None,
+                    })
+                }
+            },
+            (Step::Key(key), _) => {
+                return Err(PathMiss {
+                    message: format!(
+                        "{here_named} is {}, not a mapping with a field `{key}`",
+                        node.kind_name()
+                    ),
+                    hint: None,
+                })
+            }
+            (Step::Index(i), _) => {
+                return Err(PathMiss {
+                    message: format!(
+                        "{here_named} is {}, not a list with an entry `[{i}]`",
+                        node.kind_name()
+                    ),
+                    hint: None,
+                })
+            }
+        };
+    }
+    Ok(node)
+}
+
+fn node_at_mut<'a>(root: &'a mut Node, steps: &[Step]) -> Option<&'a mut Node> {
+    let mut node = root;
+    for step in steps {
+        node = match (step, &mut node.value) {
+            (Step::Key(key), Value::Map(entries)) => {
+                let position = entries.iter().position(|(k, _, _)| k == key)?;
+                &mut entries[position].1
+            }
+            (Step::Index(i), Value::Seq(items)) => items.get_mut(*i)?,
+            _ => return None,
+        };
+    }
+    Some(node)
+}
+
+/// The location of the deepest node on `field`'s path that exists (the root's when none).
+fn deepest_location(root: &Node, field: &str) -> Location {
+    let Ok(steps) = parse_field_path(field) else {
+        return root.location;
+    };
+    let mut node = root;
+    for step in &steps {
+        let next = match (step, &node.value) {
+            (Step::Key(key), Value::Map(entries)) => {
+                entries.iter().find(|(k, _, _)| k == key).map(|(_, v, _)| v)
+            }
+            (Step::Index(i), Value::Seq(items)) => items.get(*i),
+            _ => None,
+        };
+        match next {
+            Some(next) => node = next,
+            None => break,
+        }
+    }
+    node.location
+}
+
+// ---------------------------------------------------------------- detectors
+
+/// A detector entry with what the stream checks need.
+struct DetectorRead {
+    entry: DetectorEntry,
+    plugin_index: usize,
+    params: Params,
+    location: Location,
+    path: String,
+    /// Where each given parameter's value is written.
+    param_locations: Vec<(String, Location)>,
+}
+
+fn read_detectors(
+    node: &Node,
+    suite_file: &str,
+    plugins: &[&dyn DetectorPlugin],
+    report: &mut Report,
+) -> Option<Vec<DetectorRead>> {
+    let mut reader = Reader::new(suite_file);
+    let items = match &node.value {
+        Value::Seq(items) if !items.is_empty() => items,
+        Value::Seq(_) => {
+            reader.error(
+                node.location,
+                "detectors",
+                "a suite needs at least one detector",
+            );
+            report.extend(reader.finish());
+            return None;
+        }
+        _ => {
+            reader.error(
+                node.location,
+                "detectors",
+                format!(
+                    "expected a list of detector entries, found {}",
+                    node.kind_name()
+                ),
+            );
+            report.extend(reader.finish());
+            return None;
+        }
+    };
+    let ids: Vec<&str> = plugins.iter().map(|p| p.id()).collect();
+    let mut out: Vec<DetectorRead> = Vec::new();
+    let mut ok = true;
+    for (index, item) in items.iter().enumerate() {
+        let path = format!("detectors[{index}]");
+        let Some(mut f) = reader.fields(item, &path) else {
+            ok = false;
+            continue;
+        };
+        let plugin_id: Option<String> = f.required("plugin");
+        let plugin_location = f.raw("plugin").map_or(item.location, |n| n.location);
+        let label: Option<String> = f.optional("label");
+        let label_location = f.raw("label").map_or(plugin_location, |n| n.location);
+        let params_node = f.raw("params");
+        let params_path = f.path_of("params");
+        let plugin_index = match &plugin_id {
+            Some(id) => match plugins.iter().position(|p| p.id() == id) {
+                Some(i) => Some(i),
+                None => {
+                    let message = format!("unknown detector plugin `{id}`");
+                    let hint = match suggest(id, &ids) {
+                        Some(near) => format!("did you mean `{near}`?"),
+                        None => format!("known plugins: {}", ids.join(", ")),
+                    };
+                    let plugin_path = f.path_of("plugin");
+                    f.reader()
+                        .error_with_hint(plugin_location, &plugin_path, message, hint);
+                    None
+                }
+            },
+            None => None,
+        };
+        if label.as_ref().is_some_and(|l| l.trim().is_empty()) {
+            f.error_at("label", "must not be empty");
+        }
+        let given = match params_node {
+            Some(params) => read_param_values(params, &params_path, f.reader()),
+            None => Some(Vec::new()),
+        };
+        f.finish();
+        let (Some(plugin_id), Some(plugin_index), Some(given)) = (plugin_id, plugin_index, given)
+        else {
+            ok = false;
+            continue;
+        };
+        // Each entry on its own, so that every refused parameter is reported, not the first.
+        let plugin = plugins[plugin_index];
+        let mut params_ok = true;
+        for (name, value, key_location, value_location) in &given {
+            let one = [(name.clone(), value.clone())];
+            if let Err(e) = Params::resolve(plugin.id(), plugin.params(), &one) {
+                let known = plugin.params().iter().any(|s| s.name == name);
+                let location = if known {
+                    *value_location
+                } else {
+                    *key_location
+                };
+                reader.error(
+                    location,
+                    &format!("{params_path}.{name}"),
+                    format!("{} = {}: {}", name, value, e.message),
+                );
+                params_ok = false;
+            }
+        }
+        let param_locations: Vec<(String, Location)> = given
+            .iter()
+            .map(|(name, _, _, value_location)| (name.clone(), *value_location))
+            .collect();
+        let given: Vec<(String, ParamValue)> =
+            given.into_iter().map(|(n, v, _, _)| (n, v)).collect();
+        let params = if params_ok {
+            match Params::resolve(plugin.id(), plugin.params(), &given) {
+                Ok(params) => Some(params),
+                Err(e) => {
+                    reader.error(item.location, &params_path, e.to_string());
+                    None
+                }
+            }
+        } else {
+            None
+        };
+        let label = label.unwrap_or_else(|| plugin_id.clone());
+        if let Some(first) = out.iter().find(|d| d.entry.label == label) {
+            reader.error_with_hint(
+                label_location,
+                &format!("{path}.label"),
+                format!(
+                    "detector label `{label}` is used twice (first on line {}); labels name the results and must be unique",
+                    first.location.line
+                ),
+                "give each entry its own `label`",
+            );
+            ok = false;
+        }
+        let Some(params) = params else {
+            ok = false;
+            continue;
+        };
+        out.push(DetectorRead {
+            entry: DetectorEntry {
+                label,
+                plugin: plugin_id,
+                params: given,
+            },
+            plugin_index,
+            params,
+            location: plugin_location,
+            path,
+            param_locations,
+        });
+    }
+    report.extend(reader.finish());
+    ok.then_some(out)
+}
+
+/// A parameter value with the locations of its key and value.
+type GivenParam = (String, ParamValue, Location, Location);
+
+fn read_param_values(node: &Node, path: &str, reader: &mut Reader) -> Option<Vec<GivenParam>> {
+    let Value::Map(entries) = &node.value else {
+        reader.error(
+            node.location,
+            path,
+            format!(
+                "expected a mapping of parameter names to values, found {}",
+                node.kind_name()
+            ),
+        );
+        return None;
+    };
+    let mut out = Vec::new();
+    let mut ok = true;
+    for (name, value, key_location) in entries {
+        let converted = match &value.value {
+            Value::Int(i) => Some(ParamValue::Integer(*i)),
+            Value::Float(x) if x.is_finite() => Some(ParamValue::Real(*x)),
+            Value::Str(s) => Some(ParamValue::Text(s.clone())),
+            Value::Bool(b) => Some(ParamValue::Flag(*b)),
+            Value::Float(x) => {
+                reader.error(
+                    value.location,
+                    &format!("{path}.{name}"),
+                    format!("must be a finite number, found {x}"),
+                );
+                None
+            }
+            Value::Null | Value::Seq(_) | Value::Map(_) => {
+                reader.error(
+                    value.location,
+                    &format!("{path}.{name}"),
+                    format!(
+                        "expected a number, a name or true/false, found {}",
+                        value.kind_name()
+                    ),
+                );
+                None
+            }
+        };
+        match converted {
+            Some(v) => out.push((name.clone(), v, *key_location, value.location)),
+            None => ok = false,
+        }
+    }
+    ok.then_some(out)
+}
+
+/// Tries each detector on each distinct stream of the suite's scenes, so that a
+/// configuration a plugin refuses for a stream (a band above Nyquist, I/Q not
+/// supported) is reported now, not as a failure of every trial.
+fn check_streams(
+    scenes: &[SuiteScene],
+    detectors: &[DetectorRead],
+    plugins: &[&dyn DetectorPlugin],
+    suite_file: &str,
+    report: &mut Report,
+) {
+    let mut streams: Vec<(StreamInfo, &str)> = Vec::new();
+    for scene in scenes {
+        for variant in &scene.variants {
+            let info = stream_of(&variant.scene);
+            if !streams.iter().any(|(known, _)| *known == info) {
+                streams.push((info, scene.id.as_str()));
+            }
+        }
+    }
+    for detector in detectors {
+        let plugin = plugins[detector.plugin_index];
+        let mut refusals: Vec<String> = Vec::new();
+        for (info, scene_id) in &streams {
+            let outcome = catch_unwind(AssertUnwindSafe(|| plugin.cost(&detector.params, info)));
+            let (refusal, param) = match outcome {
+                Ok(Ok(_)) => (None, None),
+                Ok(Err(e)) => (
+                    Some(format!(
+                        "parameter `{}` = {}: {}",
+                        e.param, e.value, e.message
+                    )),
+                    Some(e.param),
+                ),
+                Err(_) => (
+                    Some("the plugin panicked while checking its configuration".to_string()),
+                    None,
+                ),
+            };
+            if let Some(why) = refusal {
+                let channels = match info.channels {
+                    Channels::Real => "real",
+                    Channels::Iq => "I/Q",
+                };
+                let message = format!(
+                    "plugin `{}` refuses the stream of scene `{scene_id}` ({} Hz, {channels}, {}-bit, {} GHz): {why}",
+                    plugin.id(),
+                    info.sample_rate_hz,
+                    info.adc_bits,
+                    info.carrier_hz / 1e9
+                );
+                // At the parameter the plugin names, when the suite sets it.
+                let (location, field) = match detector
+                    .param_locations
+                    .iter()
+                    .find(|(name, _)| Some(name) == param.as_ref())
+                {
+                    Some((name, at)) => (*at, format!("{}.params.{name}", detector.path)),
+                    None => (detector.location, detector.path.clone()),
+                };
+                if !refusals.contains(&why) {
+                    report
+                        .problems
+                        .push(error(suite_file, location, field, message));
+                    refusals.push(why);
+                }
+            }
+        }
+    }
+}
+
+fn stream_of(scene: &SceneSpec) -> StreamInfo {
+    StreamInfo {
+        sample_rate_hz: scene.sensor.sample_rate_hz,
+        channels: scene.sensor.output,
+        adc_bits: scene.sensor.adc.bits,
+        carrier_hz: scene.sensor.carrier_hz,
+    }
+}
+
+// ---------------------------------------------------------------- alarm and scoring
+
+fn read_alarm(node: &Node, suite_file: &str, report: &mut Report) -> Option<AlarmSpec> {
+    let mut reader = Reader::new(suite_file);
+    let alarm = (|| {
+        let mut f = reader.fields(node, "alarm")?;
+        let defaults = AlarmSpec::default();
+        let hold_s: f64 = f.optional_or("hold_s", defaults.hold_s);
+        let m_of_n: Option<[u32; 2]> = f.optional("m_of_n");
+        let mut ok = true;
+        if hold_s < 0.0 {
+            f.error_at(
+                "hold_s",
+                format!("the hold time must not be negative, found {hold_s} s"),
+            );
+            ok = false;
+        }
+        if let Some([m, n]) = m_of_n {
+            if !(1 <= m && m <= n && n <= MAX_M_OF_N_FRAMES) {
+                f.error_at(
+                    "m_of_n",
+                    format!("[M, N] = [{m}, {n}] must have 1 ≤ M ≤ N ≤ {MAX_M_OF_N_FRAMES}"),
+                );
+                ok = false;
+            }
+        }
+        f.finish();
+        ok.then_some(AlarmSpec {
+            hold_s,
+            m_of_n: m_of_n.map(|[m, n]| (m, n)),
+        })
+    })();
+    let problems = reader.finish();
+    let failed = problems.has_errors();
+    report.extend(problems);
+    if failed {
+        None
+    } else {
+        alarm
+    }
+}
+
+fn read_scoring(node: &Node, suite_file: &str, report: &mut Report) -> Option<ScoringSpec> {
+    let mut reader = Reader::new(suite_file);
+    let scoring = (|| {
+        let mut f = reader.fields(node, "scoring")?;
+        let defaults = ScoringSpec::default();
+        let early_s: f64 = f.optional_or("early_s", defaults.early_s);
+        let late_s: f64 = f.optional_or("late_s", defaults.late_s);
+        let rates: Vec<f64> = f.optional_or(
+            "target_false_alarms_per_hour",
+            defaults.target_false_alarms_per_hour.clone(),
+        );
+        let threshold_count: usize = f.optional_or("threshold_count", defaults.threshold_count);
+        let budget: Option<f64> = f.optional("false_alarm_budget_per_hour");
+        let mut ok = true;
+        for (key, value) in [("early_s", early_s), ("late_s", late_s)] {
+            if value < 0.0 {
+                f.error_at(
+                    key,
+                    format!("a tolerance must not be negative, found {value} s"),
+                );
+                ok = false;
+            }
+        }
+        if rates.is_empty() {
+            f.error_at(
+                "target_false_alarms_per_hour",
+                "give at least one false-alarm rate at which to choose an operating threshold",
+            );
+            ok = false;
+        }
+        if let Some(bad) = rates.iter().find(|r| **r <= 0.0) {
+            f.error_at(
+                "target_false_alarms_per_hour",
+                format!("every rate must be positive, found {bad}"),
+            );
+            ok = false;
+        }
+        if !THRESHOLD_COUNT_RANGE.contains(&threshold_count) {
+            f.error_at(
+                "threshold_count",
+                format!(
+                    "must be {} to {}, found {threshold_count}",
+                    THRESHOLD_COUNT_RANGE.start(),
+                    THRESHOLD_COUNT_RANGE.end()
+                ),
+            );
+            ok = false;
+        }
+        if let Some(b) = budget.filter(|b| *b <= 0.0) {
+            f.error_at(
+                "false_alarm_budget_per_hour",
+                format!("must be positive, found {b}"),
+            );
+            ok = false;
+        }
+        f.finish();
+        ok.then_some(ScoringSpec {
+            early_s,
+            late_s,
+            target_false_alarms_per_hour: rates,
+            threshold_count,
+            false_alarm_budget_per_hour: budget,
+        })
+    })();
+    let problems = reader.finish();
+    let failed = problems.has_errors();
+    report.extend(problems);
+    if failed {
+        None
+    } else {
+        scoring
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn field_paths_parse_and_render_back() {
+        let steps = parse_field_path("actors[0].path.start_m[1]").unwrap();
+        assert_eq!(
+            steps,
+            vec![
+                Step::Key("actors".into()),
+                Step::Index(0),
+                Step::Key("path".into()),
+                Step::Key("start_m".into()),
+                Step::Index(1),
+            ]
+        );
+        assert_eq!(render_steps(&steps), "actors[0].path.start_m[1]");
+        for bad in ["", "a..b", "a[", "a[x]", "a[0]b", "[0]", "a b"] {
+            assert!(parse_field_path(bad).is_err(), "{bad}");
+        }
+    }
+
+    #[test]
+    fn field_containment_respects_segment_boundaries() {
+        assert!(field_is_within("actors[0].path", "actors[0].path"));
+        assert!(field_is_within(
+            "actors[0].path.speed_mps",
+            "actors[0].path"
+        ));
+        assert!(field_is_within(
+            "actors[0].path.start_m[0]",
+            "actors[0].path.start_m"
+        ));
+        assert!(!field_is_within("actors[0].pathway", "actors[0].path"));
+        assert!(!field_is_within("actors[10]", "actors[1]"));
+    }
+}

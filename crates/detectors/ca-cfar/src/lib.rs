@@ -535,6 +535,24 @@ impl DetectorPlugin for CaCfarPlugin {
         let layout = validate(&config, info)?;
         Ok(cost_of(&config, &layout))
     }
+
+    /// The CA-CFAR multiplier α for the configured `pfa`, and the per-frame
+    /// false-alarm probability 1 − (1 − pfa)^(cells under test) that it promises
+    /// when the cells are independent (rectangular window, no overlap); with a
+    /// Hann window or overlap the real rate differs (detection.md §2.4).
+    fn nominal_operating_point(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Option<echobench_core::detector::NominalPoint> {
+        let config = CaCfarConfig::from_params(params).ok()?;
+        let layout = validate(&config, info).ok()?;
+        let cuts = layout.plan.cut_bins.len() as i32;
+        Some(echobench_core::detector::NominalPoint {
+            threshold: config.nominal_multiplier(),
+            frame_pfa: 1.0 - (1.0 - config.pfa).powi(cuts),
+        })
+    }
 }
 
 /// Memory and arithmetic of a configured detector, as implemented (f64 values,

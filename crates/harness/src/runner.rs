@@ -1,0 +1,937 @@
+//! The parallel trial runner: calibration, then test trials, into mergeable tallies.
+//!
+//! A run has two phases. **Calibration** trials (their own seeds, run by every
+//! shard identically) fix each detector's threshold grid (pooled score
+//! quantiles) and its operating thresholds (the lowest grid threshold whose
+//! calibration false-alarm rate meets each target). **Test** trials are then
+//! tallied at those fixed thresholds, so Pd and false-alarm rates at the
+//! operating points are not optimistically biased (detection.md §4), and so
+//! shards' tallies add up exactly.
+//!
+//! Only tallies are kept, never trials: each test trial is synthesized in
+//! blocks, fed to every detector, scored, and dropped. Tallies are integer
+//! counts and integer nanoseconds of exposure, so adding them is exact and
+//! independent of the order in which threads finish; the few lists (per-trial
+//! maximum scores, latencies of detected events) are sorted by trial key before
+//! they are written. The result is bit-identical for any thread count and any
+//! shard split.
+
+use crate::events::{score_thresholds, AlarmLogic, MOfN, MatchWindow, TrialTruth};
+use crate::suite::{SceneLabel, Suite};
+use echobench_core::detector::{check_scores, Detector, DetectorPlugin, Params};
+use echobench_core::seed::StreamKey;
+use echobench_core::{Interval, Score};
+use echobench_scene::Synthesizer;
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::time::Instant;
+
+/// Version of the tallies and summary schema.
+pub const SCHEMA_VERSION: u32 = 1;
+
+/// Output samples synthesized per block fed to the detectors.
+const BLOCK: usize = 4096;
+
+/// A part of the test trials: those whose key hashes to `index` of `count` (1-based).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Shard {
+    /// Which shard, 1..=count.
+    pub index: u64,
+    /// How many shards.
+    pub count: u64,
+}
+
+impl Shard {
+    /// Parses `K/N`.
+    ///
+    /// # Errors
+    /// When the text is not `K/N` with 1 ≤ K ≤ N.
+    pub fn parse(text: &str) -> Result<Shard, String> {
+        let (k, n) = text
+            .split_once('/')
+            .ok_or_else(|| format!("`{text}` is not K/N"))?;
+        let index: u64 = k
+            .trim()
+            .parse()
+            .map_err(|_| format!("`{k}` is not a whole number"))?;
+        let count: u64 = n
+            .trim()
+            .parse()
+            .map_err(|_| format!("`{n}` is not a whole number"))?;
+        if index == 0 || index > count {
+            return Err(format!("shard {index}/{count}: need 1 ≤ K ≤ N"));
+        }
+        Ok(Shard { index, count })
+    }
+
+    fn owns(&self, key: &StreamKey) -> bool {
+        key.trial_hash() % self.count == self.index - 1
+    }
+}
+
+/// A detector of the run: its suite entry resolved against a plugin.
+pub struct RunDetector<'a> {
+    /// Label in the suite.
+    pub label: String,
+    /// The plugin.
+    pub plugin: &'a dyn DetectorPlugin,
+    /// Resolved parameters.
+    pub params: Params,
+}
+
+/// What happened to one detector on one trial when it misbehaved.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize, PartialOrd, Ord)]
+pub struct Failure {
+    /// Scene id.
+    pub scene: String,
+    /// Sweep point.
+    pub sweep_point: u64,
+    /// Trial index.
+    pub trial: u64,
+    /// `calibration` or `test`.
+    pub phase: String,
+    /// What went wrong (panic message, NaN score, time order).
+    pub message: String,
+}
+
+/// An operating threshold chosen on the calibration trials.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct OperatingPoint {
+    /// The false-alarm rate it was chosen to meet, per hour.
+    pub target_per_hour: f64,
+    /// Its index in the threshold grid.
+    pub grid_index: usize,
+    /// The threshold.
+    pub threshold: f64,
+    /// False alarms at that threshold in calibration.
+    pub calibration_false_alarms: u64,
+    /// Noise-only exposure of the calibration trials, ns.
+    pub calibration_exposure_ns: u64,
+}
+
+/// Counts at one operating point for one scene variant.
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+pub struct OperatingTally {
+    /// Events detected.
+    pub detected: u64,
+    /// False alarms.
+    pub false_alarms: u64,
+    /// Latencies of detected events, ms, sorted.
+    pub latencies_ms: Vec<i64>,
+    /// False alarms by the nuisance sources active at their time (`none` when none was).
+    pub false_alarms_by_source: BTreeMap<String, u64>,
+}
+
+/// Tallies of one detector on one scene variant.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct VariantTally {
+    /// Scene id.
+    pub scene: String,
+    /// Sweep point index.
+    pub sweep_point: u64,
+    /// Swept value as written.
+    pub sweep_value: Option<String>,
+    /// Swept value as a number.
+    pub sweep_number: Option<f64>,
+    /// Target or nuisance scene.
+    pub label: String,
+    /// Test trials tallied.
+    pub trials: u64,
+    /// Target events (after merging overlapping windows).
+    pub events: u64,
+    /// Noise-only exposure, ns.
+    pub exposure_ns: u64,
+    /// Events detected at each grid threshold.
+    pub detected: Vec<u64>,
+    /// False alarms at each grid threshold.
+    pub false_alarms: Vec<u64>,
+    /// Re-triggers inside event windows at each grid threshold.
+    pub retriggers: Vec<u64>,
+    /// At each operating point.
+    pub operating: Vec<OperatingTally>,
+    /// (trial, maximum score of the trial), sorted by trial.
+    pub max_scores: Vec<(u64, f64)>,
+    /// Frames outside event windows.
+    pub noise_frames: u64,
+    /// Of those, frames at or above the nominal threshold.
+    pub noise_frames_above_nominal: u64,
+}
+
+/// Tallies of one detector over the whole run.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DetectorTally {
+    /// Label.
+    pub label: String,
+    /// Plugin id.
+    pub plugin: String,
+    /// Parameters as resolved (name, value).
+    pub params: Vec<(String, String)>,
+    /// The threshold grid, ascending.
+    pub thresholds: Vec<f64>,
+    /// Operating points, one per target rate.
+    pub operating: Vec<OperatingPoint>,
+    /// Nominal threshold and per-frame Pfa from the detector's closed form, if any.
+    pub nominal: Option<(f64, f64)>,
+    /// Per scene variant, in suite order.
+    pub variants: Vec<VariantTally>,
+    /// Trials on which the detector failed (excluded from the tallies).
+    pub failures: Vec<Failure>,
+}
+
+/// Everything a run (or a shard of one) keeps; shards merge by adding these.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Tallies {
+    /// Schema version.
+    pub schema: u32,
+    /// Suite name.
+    pub suite: String,
+    /// Suite seed.
+    pub seed: u64,
+    /// Shards included (empty: the whole run).
+    pub shards: Vec<Shard>,
+    /// Test trials run.
+    pub test_trials: u64,
+    /// Seconds of signal in the test trials, ms.
+    pub test_signal_ms: u64,
+    /// Per detector, in suite order.
+    pub detectors: Vec<DetectorTally>,
+}
+
+/// Wall-clock figures of a run (not part of the deterministic outputs).
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+pub struct Timing {
+    /// Whole run, s.
+    pub wall_s: f64,
+    /// Synthesis time summed over threads, s.
+    pub synthesis_s: f64,
+    /// Per detector label: processing time summed over threads, s.
+    pub detector_s: BTreeMap<String, f64>,
+    /// Samples fed to each detector.
+    pub samples: u64,
+}
+
+/// Progress of a run, for a progress display.
+#[derive(Debug, Clone, Copy)]
+pub struct Progress {
+    /// `true` in calibration, `false` in the test phase.
+    pub calibration: bool,
+    /// Trials done in this phase.
+    pub done: u64,
+    /// Trials in this phase.
+    pub total: u64,
+}
+
+/// Why a run could not be made.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RunError(pub String);
+
+impl std::fmt::Display for RunError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.0)
+    }
+}
+
+impl std::error::Error for RunError {}
+
+/// Resolves the suite's detectors against the available plugins.
+///
+/// # Errors
+/// An unknown plugin id or a refused parameter (the suite loader catches these first).
+pub fn resolve_detectors<'a>(
+    suite: &Suite,
+    plugins: &[&'a dyn DetectorPlugin],
+) -> Result<Vec<RunDetector<'a>>, RunError> {
+    suite
+        .detectors
+        .iter()
+        .map(|entry| {
+            let plugin = plugins
+                .iter()
+                .find(|p| p.id() == entry.plugin)
+                .ok_or_else(|| {
+                    RunError(format!(
+                        "detector `{}`: no plugin `{}`",
+                        entry.label, entry.plugin
+                    ))
+                })?;
+            let params = Params::resolve(&entry.label, plugin.params(), &entry.params)
+                .map_err(|e| RunError(e.to_string()))?;
+            Ok(RunDetector {
+                label: entry.label.clone(),
+                plugin: *plugin,
+                params,
+            })
+        })
+        .collect()
+}
+
+#[derive(Clone)]
+struct Job {
+    scene: usize,
+    variant: usize,
+    key: StreamKey,
+}
+
+/// The key of a trial; calibration trials live in their own seed space.
+pub fn trial_key(
+    suite: &Suite,
+    scene: usize,
+    variant: usize,
+    trial: u64,
+    calibration: bool,
+) -> StreamKey {
+    let s = &suite.scenes[scene];
+    let scene_id = if calibration {
+        format!("calibration/{}", s.id)
+    } else {
+        s.id.clone()
+    };
+    StreamKey {
+        suite_seed: suite.seed,
+        scene_id,
+        sweep_point: s.variants[variant].sweep_point,
+        trial,
+    }
+}
+
+fn jobs(suite: &Suite, calibration: bool, shard: Option<Shard>) -> Vec<Job> {
+    let mut out = Vec::new();
+    for (si, scene) in suite.scenes.iter().enumerate() {
+        let count = if calibration {
+            scene.calibration_trials
+        } else {
+            scene.trials
+        };
+        for vi in 0..scene.variants.len() {
+            for trial in 0..count {
+                let key = trial_key(suite, si, vi, trial, calibration);
+                if calibration || shard.is_none_or(|s| s.owns(&key)) {
+                    out.push(Job {
+                        scene: si,
+                        variant: vi,
+                        key,
+                    });
+                }
+            }
+        }
+    }
+    out
+}
+
+/// One detector's output on one trial.
+enum Trace {
+    Ok { scores: Vec<Score>, busy_s: f64 },
+    Failed(String),
+}
+
+struct TrialOutput {
+    traces: Vec<Trace>,
+    truth: Vec<Interval>,
+    nuisances: Vec<(Interval, String)>,
+    duration_s: f64,
+    synthesis_s: f64,
+    samples: u64,
+}
+
+fn panic_message(payload: Box<dyn std::any::Any + Send>) -> String {
+    if let Some(s) = payload.downcast_ref::<&str>() {
+        format!("panicked: {s}")
+    } else if let Some(s) = payload.downcast_ref::<String>() {
+        format!("panicked: {s}")
+    } else {
+        "panicked".to_string()
+    }
+}
+
+/// Synthesizes a trial and feeds every detector, catching panics and bad scores per detector.
+fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<TrialOutput, RunError> {
+    let scene = &suite.scenes[job.scene].variants[job.variant].scene;
+    let started = Instant::now();
+    let mut synth = Synthesizer::new(scene, &job.key).map_err(|e| {
+        RunError(format!(
+            "scene `{}` trial {}: {e}",
+            suite.scenes[job.scene].id, job.key.trial
+        ))
+    })?;
+    let info = synth.info();
+    let mut built: Vec<Result<Box<dyn Detector>, String>> = detectors
+        .iter()
+        .map(
+            |d| match catch_unwind(AssertUnwindSafe(|| d.plugin.build(&d.params, &info))) {
+                Ok(Ok(det)) => Ok(det),
+                Ok(Err(e)) => Err(e.to_string()),
+                Err(p) => Err(panic_message(p)),
+            },
+        )
+        .collect();
+    let mut scores: Vec<Vec<Score>> = vec![Vec::new(); detectors.len()];
+    let mut busy = vec![0.0f64; detectors.len()];
+    let mut volts = Vec::with_capacity(BLOCK * 2);
+    let mut codes = Vec::with_capacity(BLOCK * 2);
+    let mut synthesis_s = 0.0;
+    let mut samples = 0u64;
+    loop {
+        volts.clear();
+        codes.clear();
+        let t0 = Instant::now();
+        let added = synth.next_block(&mut volts, &mut codes, BLOCK);
+        synthesis_s += t0.elapsed().as_secs_f64();
+        if added == 0 {
+            break;
+        }
+        samples += added as u64;
+        for (i, slot) in built.iter_mut().enumerate() {
+            let Ok(detector) = slot else { continue };
+            let t1 = Instant::now();
+            let result = catch_unwind(AssertUnwindSafe(|| {
+                detector.process(&volts, &mut scores[i])
+            }));
+            busy[i] += t1.elapsed().as_secs_f64();
+            if let Err(p) = result {
+                *slot = Err(panic_message(p));
+            }
+        }
+    }
+    let _ = started;
+    let truth = synth.truth();
+    let traces = built
+        .into_iter()
+        .zip(scores)
+        .zip(busy)
+        .map(|((slot, trace), busy_s)| match slot {
+            Err(message) => Trace::Failed(message),
+            Ok(_) => match check_scores(&trace) {
+                Ok(()) => Trace::Ok {
+                    scores: trace,
+                    busy_s,
+                },
+                Err((i, message)) => Trace::Failed(format!("score {i}: {message}")),
+            },
+        })
+        .collect();
+    Ok(TrialOutput {
+        traces,
+        truth: truth.events.iter().map(|e| e.interval).collect(),
+        nuisances: truth
+            .nuisances
+            .iter()
+            .map(|n| (n.interval, n.source_id.clone()))
+            .collect(),
+        duration_s: scene.duration_s,
+        synthesis_s,
+        samples,
+    })
+}
+
+fn alarm_logic(suite: &Suite) -> Result<(AlarmLogic, MatchWindow), RunError> {
+    let m_of_n = match suite.alarm.m_of_n {
+        Some((m, n)) => MOfN::new(m as usize, n as usize),
+        None => MOfN::new(1, 1),
+    }
+    .map_err(|e| RunError(e.to_string()))?;
+    let logic = AlarmLogic::new(suite.alarm.hold_s, m_of_n).map_err(|e| RunError(e.to_string()))?;
+    let window = MatchWindow::new(suite.scoring.early_s, suite.scoring.late_s)
+        .map_err(|e| RunError(e.to_string()))?;
+    Ok((logic, window))
+}
+
+/// Threshold grid from pooled calibration scores: half the points at evenly
+/// spaced quantiles, half crowded into the upper tail (quantiles 1 − 10^−x), where
+/// the operating points of low false-alarm rates lie; plus one just above the
+/// largest score, where nothing alarms.
+pub fn threshold_grid(mut pooled: Vec<f64>, count: usize) -> Vec<f64> {
+    pooled.retain(|x| x.is_finite());
+    if pooled.is_empty() {
+        return vec![0.0, 1.0];
+    }
+    pooled.sort_by(f64::total_cmp);
+    let n = pooled.len();
+    let at = |q: f64| pooled[((q * (n - 1) as f64).round() as usize).min(n - 1)];
+    let mut grid = Vec::with_capacity(count + 1);
+    let half = count / 2;
+    for i in 0..half {
+        grid.push(at(i as f64 / half as f64));
+    }
+    let decades = (n as f64).log10().max(1.0);
+    for i in 0..(count - half) {
+        let x = 1.0 + decades * i as f64 / (count - half).max(1) as f64;
+        grid.push(at(1.0 - 10f64.powf(-x)));
+    }
+    let top = pooled[n - 1];
+    grid.push(if top > 0.0 {
+        top * (1.0 + 1e-9) + f64::MIN_POSITIVE
+    } else {
+        top + 1e-12
+    });
+    grid.sort_by(f64::total_cmp);
+    grid.dedup();
+    grid
+}
+
+fn ns(seconds: f64) -> u64 {
+    (seconds * 1e9).round().max(0.0) as u64
+}
+
+/// Runs a suite (or a shard of it) and returns its tallies and timing.
+///
+/// # Errors
+/// A scene whose drawn values a model refuses, or a detector that cannot be
+/// configured at all. Misbehaving detectors (panics, NaN, time disorder) are
+/// not errors: they are recorded per trial in [`DetectorTally::failures`].
+pub fn run_suite(
+    suite: &Suite,
+    detectors: &[RunDetector],
+    shard: Option<Shard>,
+    progress: &(dyn Fn(Progress) + Sync),
+) -> Result<(Tallies, Timing), RunError> {
+    let started = Instant::now();
+    let (logic, window) = alarm_logic(suite)?;
+    let mut timing = Timing::default();
+
+    // Calibration: every shard runs the same trials and gets the same thresholds.
+    let calibration_jobs = jobs(suite, true, None);
+    let done = std::sync::atomic::AtomicU64::new(0);
+    let calibration: Vec<TrialOutput> = calibration_jobs
+        .par_iter()
+        .map(|job| {
+            let out = run_trial(suite, detectors, job);
+            let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            progress(Progress {
+                calibration: true,
+                done: d,
+                total: calibration_jobs.len() as u64,
+            });
+            out
+        })
+        .collect::<Result<_, _>>()?;
+    let mut tallies: Vec<DetectorTally> = Vec::with_capacity(detectors.len());
+    for (di, detector) in detectors.iter().enumerate() {
+        let pooled: Vec<f64> = calibration
+            .iter()
+            .filter_map(|t| match &t.traces[di] {
+                Trace::Ok { scores, .. } => Some(scores.iter().map(|s| s.value)),
+                Trace::Failed(_) => None,
+            })
+            .flatten()
+            .collect();
+        let thresholds = threshold_grid(pooled, suite.scoring.threshold_count);
+        let mut false_alarms = vec![0u64; thresholds.len()];
+        let mut exposure_ns = 0u64;
+        let mut failures = Vec::new();
+        for (job, trial) in calibration_jobs.iter().zip(&calibration) {
+            match &trial.traces[di] {
+                Trace::Ok { scores, .. } => {
+                    let truth = TrialTruth::new(&trial.truth, trial.duration_s, window)
+                        .map_err(|e| RunError(e.to_string()))?;
+                    exposure_ns += ns(truth.exposure_s());
+                    for (g, result) in score_thresholds(scores, &truth, &logic, &thresholds)
+                        .iter()
+                        .enumerate()
+                    {
+                        false_alarms[g] += result.false_alarms() as u64;
+                    }
+                }
+                Trace::Failed(message) => failures.push(Failure {
+                    scene: suite.scenes[job.scene].id.clone(),
+                    sweep_point: job.key.sweep_point,
+                    trial: job.key.trial,
+                    phase: "calibration".into(),
+                    message: message.clone(),
+                }),
+            }
+        }
+        let exposure_h = exposure_ns as f64 / 3.6e12;
+        let operating = suite
+            .scoring
+            .target_false_alarms_per_hour
+            .iter()
+            .map(|&target| {
+                // The lowest threshold whose calibration rate meets the target; the top
+                // of the grid (nothing alarms in calibration) when none does.
+                let grid_index = (0..thresholds.len())
+                    .find(|&g| exposure_h > 0.0 && false_alarms[g] as f64 / exposure_h <= target)
+                    .unwrap_or(thresholds.len() - 1);
+                OperatingPoint {
+                    target_per_hour: target,
+                    grid_index,
+                    threshold: thresholds[grid_index],
+                    calibration_false_alarms: false_alarms[grid_index],
+                    calibration_exposure_ns: exposure_ns,
+                }
+            })
+            .collect::<Vec<_>>();
+        let nominal = detector
+            .plugin
+            .nominal_operating_point(&detector.params, &suite_stream_info(suite))
+            .map(|p| (p.threshold, p.frame_pfa));
+        let (grid_len, operating_len) = (thresholds.len(), operating.len());
+        let variants = suite
+            .scenes
+            .iter()
+            .flat_map(|s| {
+                s.variants.iter().map(move |v| VariantTally {
+                    scene: s.id.clone(),
+                    sweep_point: v.sweep_point,
+                    sweep_value: v.sweep_value.clone(),
+                    sweep_number: v.sweep_number,
+                    label: match s.label {
+                        SceneLabel::Target => "target".into(),
+                        SceneLabel::Nuisance => "nuisance".into(),
+                    },
+                    trials: 0,
+                    events: 0,
+                    exposure_ns: 0,
+                    detected: vec![0; grid_len],
+                    false_alarms: vec![0; grid_len],
+                    retriggers: vec![0; grid_len],
+                    operating: vec![OperatingTally::default(); operating_len],
+                    max_scores: Vec::new(),
+                    noise_frames: 0,
+                    noise_frames_above_nominal: 0,
+                })
+            })
+            .collect();
+        tallies.push(DetectorTally {
+            label: detector.label.clone(),
+            plugin: detector.plugin.id().to_string(),
+            params: detector
+                .params
+                .iter()
+                .map(|(k, v)| (k.to_string(), v.to_string()))
+                .collect(),
+            thresholds,
+            operating,
+            nominal,
+            variants,
+            failures,
+        });
+    }
+    drop(calibration);
+
+    // Test trials: each is tallied and dropped; tallies are folded per thread and added.
+    let test_jobs = jobs(suite, false, shard);
+    let variant_index: Vec<Vec<usize>> = {
+        let mut next = 0;
+        suite
+            .scenes
+            .iter()
+            .map(|s| {
+                let ids = (next..next + s.variants.len()).collect();
+                next += s.variants.len();
+                ids
+            })
+            .collect()
+    };
+    let empty = || {
+        (
+            tallies
+                .iter()
+                .map(empty_like)
+                .collect::<Vec<DetectorTally>>(),
+            Timing::default(),
+            0u64,
+            0u64,
+        )
+    };
+    let done = std::sync::atomic::AtomicU64::new(0);
+    let folded = test_jobs
+        .par_iter()
+        .try_fold(empty, |mut acc, job| -> Result<_, RunError> {
+            let trial = run_trial(suite, detectors, job)?;
+            let truth = TrialTruth::new(&trial.truth, trial.duration_s, window)
+                .map_err(|e| RunError(e.to_string()))?;
+            let vi = variant_index[job.scene][job.variant];
+            acc.1.synthesis_s += trial.synthesis_s;
+            acc.1.samples += trial.samples;
+            acc.2 += 1;
+            acc.3 += (trial.duration_s * 1e3).round() as u64;
+            for (di, trace) in trial.traces.iter().enumerate() {
+                let tally = &mut acc.0[di];
+                match trace {
+                    Trace::Failed(message) => tally.failures.push(Failure {
+                        scene: suite.scenes[job.scene].id.clone(),
+                        sweep_point: job.key.sweep_point,
+                        trial: job.key.trial,
+                        phase: "test".into(),
+                        message: message.clone(),
+                    }),
+                    Trace::Ok { scores, busy_s } => {
+                        *acc.1.detector_s.entry(tally.label.clone()).or_default() += busy_s;
+                        let thresholds = tallies[di].thresholds.clone();
+                        let operating: Vec<usize> =
+                            tallies[di].operating.iter().map(|o| o.grid_index).collect();
+                        let nominal = tallies[di].nominal.map(|n| n.0);
+                        tally_trial(
+                            &mut tally.variants[vi],
+                            scores,
+                            &truth,
+                            &trial,
+                            &logic,
+                            &thresholds,
+                            &operating,
+                            nominal,
+                            job.key.trial,
+                        );
+                    }
+                }
+            }
+            let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            progress(Progress {
+                calibration: false,
+                done: d,
+                total: test_jobs.len() as u64,
+            });
+            Ok(acc)
+        })
+        .try_reduce(empty, |a, b| Ok(add_partials(a, b)))?;
+    let (parts, part_timing, test_trials, test_signal_ms) = folded;
+    for (tally, part) in tallies.iter_mut().zip(parts) {
+        merge_detector(tally, part);
+        normalise(tally);
+    }
+    timing.synthesis_s = part_timing.synthesis_s;
+    timing.samples = part_timing.samples;
+    timing.detector_s = part_timing.detector_s;
+    timing.wall_s = started.elapsed().as_secs_f64();
+    Ok((
+        Tallies {
+            schema: SCHEMA_VERSION,
+            suite: suite.name.clone(),
+            seed: suite.seed,
+            shards: shard.into_iter().collect(),
+            test_trials,
+            test_signal_ms,
+            detectors: tallies,
+        },
+        timing,
+    ))
+}
+
+/// The stream of the suite's first scene (for nominal operating points, which
+/// depend on the sample rate only through bin layouts).
+fn suite_stream_info(suite: &Suite) -> echobench_core::StreamInfo {
+    let s = &suite.scenes[0].variants[0].scene.sensor;
+    echobench_core::StreamInfo {
+        sample_rate_hz: s.sample_rate_hz,
+        channels: s.output,
+        adc_bits: s.adc.bits,
+        carrier_hz: s.carrier_hz,
+    }
+}
+
+fn empty_like(t: &DetectorTally) -> DetectorTally {
+    DetectorTally {
+        label: t.label.clone(),
+        plugin: t.plugin.clone(),
+        params: t.params.clone(),
+        thresholds: t.thresholds.clone(),
+        operating: t.operating.clone(),
+        nominal: t.nominal,
+        variants: t.variants.clone(),
+        failures: Vec::new(),
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn tally_trial(
+    v: &mut VariantTally,
+    scores: &[Score],
+    truth: &TrialTruth,
+    trial: &TrialOutput,
+    logic: &AlarmLogic,
+    thresholds: &[f64],
+    operating: &[usize],
+    nominal: Option<f64>,
+    trial_index: u64,
+) {
+    v.trials += 1;
+    v.events += truth.events().len() as u64;
+    v.exposure_ns += ns(truth.exposure_s());
+    let results = score_thresholds(scores, truth, logic, thresholds);
+    for (g, r) in results.iter().enumerate() {
+        v.detected[g] += r.events_detected() as u64;
+        v.false_alarms[g] += r.false_alarms() as u64;
+        v.retriggers[g] += r.retriggers as u64;
+    }
+    for (o, &g) in operating.iter().enumerate() {
+        let r = &results[g];
+        let op = &mut v.operating[o];
+        op.detected += r.events_detected() as u64;
+        op.false_alarms += r.false_alarms() as u64;
+        op.latencies_ms
+            .extend(r.latencies_s().iter().map(|l| (l * 1e3).round() as i64));
+        for sources in
+            crate::events::attribute_false_alarms(&r.false_alarm_times_s, &trial.nuisances, 0.0)
+        {
+            if sources.is_empty() {
+                *op.false_alarms_by_source.entry("none".into()).or_default() += 1;
+            }
+            for source in sources {
+                *op.false_alarms_by_source.entry(source).or_default() += 1;
+            }
+        }
+    }
+    let max = scores
+        .iter()
+        .map(|s| s.value)
+        .fold(f64::NEG_INFINITY, f64::max);
+    v.max_scores
+        .push((trial_index, if max.is_finite() { max } else { 0.0 }));
+    for s in scores {
+        if truth.event_at(s.t_s).is_none() {
+            v.noise_frames += 1;
+            if nominal.is_some_and(|n| s.value >= n) {
+                v.noise_frames_above_nominal += 1;
+            }
+        }
+    }
+}
+
+fn add_partials(
+    mut a: (Vec<DetectorTally>, Timing, u64, u64),
+    b: (Vec<DetectorTally>, Timing, u64, u64),
+) -> (Vec<DetectorTally>, Timing, u64, u64) {
+    for (x, y) in a.0.iter_mut().zip(b.0) {
+        merge_detector(x, y);
+    }
+    a.1.synthesis_s += b.1.synthesis_s;
+    a.1.samples += b.1.samples;
+    for (k, v) in b.1.detector_s {
+        *a.1.detector_s.entry(k).or_default() += v;
+    }
+    (a.0, a.1, a.2 + b.2, a.3 + b.3)
+}
+
+/// Adds `other`'s counts into `into` (same suite, same thresholds).
+pub fn merge_detector(into: &mut DetectorTally, other: DetectorTally) {
+    for (a, b) in into.variants.iter_mut().zip(other.variants) {
+        a.trials += b.trials;
+        a.events += b.events;
+        a.exposure_ns += b.exposure_ns;
+        for (x, y) in a.detected.iter_mut().zip(&b.detected) {
+            *x += y;
+        }
+        for (x, y) in a.false_alarms.iter_mut().zip(&b.false_alarms) {
+            *x += y;
+        }
+        for (x, y) in a.retriggers.iter_mut().zip(&b.retriggers) {
+            *x += y;
+        }
+        for (x, y) in a.operating.iter_mut().zip(b.operating) {
+            x.detected += y.detected;
+            x.false_alarms += y.false_alarms;
+            x.latencies_ms.extend(y.latencies_ms);
+            for (k, v) in y.false_alarms_by_source {
+                *x.false_alarms_by_source.entry(k).or_default() += v;
+            }
+        }
+        a.max_scores.extend(b.max_scores);
+        a.noise_frames += b.noise_frames;
+        a.noise_frames_above_nominal += b.noise_frames_above_nominal;
+    }
+    into.failures.extend(other.failures);
+}
+
+/// Puts every list in its canonical order, so outputs do not depend on thread timing.
+pub fn normalise(tally: &mut DetectorTally) {
+    for v in &mut tally.variants {
+        v.max_scores
+            .sort_by(|a, b| a.0.cmp(&b.0).then(a.1.total_cmp(&b.1)));
+        for op in &mut v.operating {
+            op.latencies_ms.sort_unstable();
+        }
+    }
+    tally.failures.sort();
+}
+
+/// Merges shard tallies of one suite into one.
+///
+/// # Errors
+/// When the tallies come from different suites, seeds or threshold grids, or a shard appears twice.
+pub fn merge_tallies(parts: Vec<Tallies>) -> Result<Tallies, RunError> {
+    let mut iter = parts.into_iter();
+    let mut merged = iter
+        .next()
+        .ok_or_else(|| RunError("nothing to merge".into()))?;
+    for part in iter {
+        if part.suite != merged.suite || part.seed != merged.seed || part.schema != merged.schema {
+            return Err(RunError(format!(
+                "cannot merge suite `{}` seed {} with suite `{}` seed {}",
+                part.suite, part.seed, merged.suite, merged.seed
+            )));
+        }
+        for shard in &part.shards {
+            if merged.shards.contains(shard) {
+                return Err(RunError(format!(
+                    "shard {}/{} appears twice",
+                    shard.index, shard.count
+                )));
+            }
+        }
+        if merged.shards.is_empty() || part.shards.is_empty() {
+            return Err(RunError(
+                "a whole run cannot be merged with another run".into(),
+            ));
+        }
+        merged.shards.extend(part.shards);
+        merged.test_trials += part.test_trials;
+        merged.test_signal_ms += part.test_signal_ms;
+        for (a, b) in merged.detectors.iter_mut().zip(part.detectors) {
+            if a.thresholds != b.thresholds || a.label != b.label {
+                return Err(RunError(format!(
+                    "detector `{}`: the shards' threshold grids differ",
+                    a.label
+                )));
+            }
+            merge_detector(a, b);
+        }
+    }
+    merged.shards.sort_by_key(|s| s.index);
+    let count = merged.shards[0].count;
+    if merged.shards.iter().any(|s| s.count != count) {
+        return Err(RunError(
+            "the shards come from splits of different sizes".into(),
+        ));
+    }
+    if merged.shards.len() as u64 == count {
+        // Every shard is present: the merged tallies are the whole run.
+        merged.shards.clear();
+    }
+    for d in &mut merged.detectors {
+        normalise(d);
+    }
+    Ok(merged)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shards_parse_and_split_every_key_once() {
+        assert_eq!(Shard::parse("2/3").unwrap(), Shard { index: 2, count: 3 });
+        assert!(
+            Shard::parse("0/3").is_err()
+                && Shard::parse("4/3").is_err()
+                && Shard::parse("x").is_err()
+        );
+        let shards: Vec<Shard> = (1..=3).map(|k| Shard { index: k, count: 3 }).collect();
+        for trial in 0..100 {
+            let key = StreamKey::new(5, "scene", trial);
+            assert_eq!(shards.iter().filter(|s| s.owns(&key)).count(), 1);
+        }
+    }
+
+    #[test]
+    fn grid_is_sorted_unique_and_tops_the_largest_score() {
+        let scores: Vec<f64> = (0..10_000)
+            .map(|i| (i as f64 * 0.37).sin().abs() * 10.0)
+            .collect();
+        let grid = threshold_grid(scores.clone(), 120);
+        assert!(grid.windows(2).all(|w| w[0] < w[1]));
+        assert!(*grid.last().unwrap() > scores.iter().cloned().fold(0.0, f64::max));
+        assert!(grid.len() > 60);
+    }
+}
