@@ -517,10 +517,21 @@ pub fn console_table(summary: &Summary, timing: Option<&Timing>) -> String {
             .first()
             .and_then(|d| d.operating_points.get(1))
         {
-            out.push_str(&format!(
-                " and {:.4} (thresholds chosen on calibration trials)",
-                second.target_false_alarms_per_hour
-            ));
+            out.push_str(&format!(" and {:.4}", second.target_false_alarms_per_hour));
+        }
+        out.push_str(&format!(
+            "; thresholds chosen on {:.2} h of calibration noise-only time",
+            first.calibration_exposure_hours
+        ));
+        let too_short = summary
+            .detectors
+            .iter()
+            .flat_map(|d| &d.operating_points)
+            .any(|o| o.target_false_alarms_per_hour * o.calibration_exposure_hours < 1.0);
+        if too_short {
+            out.push_str(
+                ",\n  too short to tell targets below one alarm per calibration period apart (their threshold is the lowest with no calibration alarm): add calibration trials to separate them",
+            );
         }
         out.push('\n');
     }
