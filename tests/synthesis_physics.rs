@@ -1063,3 +1063,39 @@ fn actor_entering_after_the_end_is_simply_absent() {
         trial.truth.events
     );
 }
+
+/// The front end starts settled on what is already there at t = 0: a plant
+/// swaying from the first instant must not arrive as a step that rings through
+/// the coupling high-pass (common practice: a module that has been on for a
+/// while is in steady state; the reference pipeline starts its filters so too).
+#[test]
+fn actors_present_at_the_start_do_not_ring_the_high_pass() {
+    let scene = echobench_integration_tests::scene_from_yaml(
+        r#"
+duration_s: 6
+sensor:
+  carrier_hz: 24.125e9
+  sample_rate_hz: 1000
+  front_end: {high_pass_hz: [0.5], low_pass_hz: [200], gain_db: 40}
+  adc: {bits: 16, full_scale_v: 3.3}
+environment: {white_noise_v_per_rthz: 0}
+actors:
+  - kind: sway
+    pivot_m: [1.5, 0, 0.4]
+    arm_length_m: 0.5
+    natural_hz: 0.5
+    rms_displacement_m: 0.0001
+    rcs_m2: 0.5
+"#,
+    );
+    let trial = echobench_integration_tests::trial(&scene, 3, 0);
+    let rms = |s: &[f32]| {
+        (s.iter().map(|&x| f64::from(x) * f64::from(x)).sum::<f64>() / s.len() as f64).sqrt()
+    };
+    let first = rms(&trial.samples[..200]);
+    let rest = rms(&trial.samples[1000..]);
+    assert!(
+        first < 3.0 * rest,
+        "first 0.2 s rms {first} vs later {rest}"
+    );
+}

@@ -376,7 +376,7 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
         ((highest_corner / (0.45 * s.sample_rate_hz)).ceil() as usize).clamp(1, MAX_OVERSAMPLING),
     );
     let sim_rate_hz = s.sample_rate_hz * oversampling as f64;
-    let tracks = models
+    let tracks: Vec<ActorTrack> = models
         .into_iter()
         .map(|model| {
             let samples_per_node =
@@ -421,15 +421,26 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
             knee_v: OutputSwing::TYPICAL_KNEE_V.min(0.2 * (fe.rails_v[1] - fe.rails_v[0])),
         },
     };
-    // The module has been on for a while: every section starts settled on the static DC.
+    // The module has been on for a while: every section starts settled on the
+    // static DC plus what the actors present at t = 0 contribute, so a swaying
+    // plant or a running fan does not arrive as a step that rings through the
+    // high-pass (the analog equivalent of starting the filters in steady state).
+    let (start_i, start_q) = tracks.iter().fold((0.0, 0.0), |(i, q), t| {
+        let (ti, tq) = t.value_at_start(&radar);
+        (i + ti, q + tq)
+    });
     let make_chain = |dc: f64| -> Result<AnalogChain, SynthError> {
         let mut chain = AnalogChain::new(&chain_params, sim_rate_hz)
             .map_err(|e| fail("sensor.front_end", e))?;
         chain.settle_to_input(dc);
         Ok(chain)
     };
-    let chain_i = make_chain(dc_v[0])?;
-    let chain_q = if iq { Some(make_chain(dc_v[1])?) } else { None };
+    let chain_i = make_chain(dc_v[0] + start_i)?;
+    let chain_q = if iq {
+        Some(make_chain(dc_v[1] + start_q)?)
+    } else {
+        None
+    };
     let decimator = || Decimator::new(oversampling).map_err(|e| fail("sensor.sample_rate_hz", e));
     let adc = Adc::new(s.adc.bits, s.adc.full_scale_v).map_err(|e| fail("sensor.adc", e))?;
     let truth = trial_truth(scene, key)?;

@@ -156,6 +156,18 @@ impl ActorTrack {
         out.extend(self.scratch.iter().map(|e| radar.see(e)));
     }
 
+    /// The actor's contribution (I, Q) at t = 0, so the front end can start
+    /// settled on everything already present when the trial begins.
+    pub fn value_at_start(&self, radar: &RadarGeometry) -> (f64, f64) {
+        self.start.iter().fold((0.0, 0.0), |(i, q), e| {
+            let phase = radar.phase_per_m * e.range_m;
+            (
+                i + e.amplitude_v * phase.cos(),
+                q - e.amplitude_v * phase.sin(),
+            )
+        })
+    }
+
     /// Adds this actor's contribution to `in_phase` (and `quadrature`, for I/Q) for the next `in_phase.len()` samples.
     pub fn render(
         &mut self,
