@@ -537,8 +537,11 @@ fn single_channel_spectra_of_approach_and_recession_are_the_same() {
     // give the same |spectrum|. The two runs are each other's time reversal (6 m → 2.8 m
     // vs 2.8 m → 6 m in 4 s), and a periodic Hann window is symmetric under that
     // reversal, so the windowed magnitude spectra should agree up to the front end's
-    // phase at f_d (it shifts the line's phase oppositely in the two runs) and the
-    // one sample the reversal does not map: a few per mille of the spectrum's norm.
+    // phase at f_d (it shifts the line's phase oppositely in the two runs), the
+    // one sample the reversal does not map, and the start: the front end begins
+    // settled on the echo present at t = 0 (a module switched on long before),
+    // which the reversal maps onto the unsettled end of the other run. Together
+    // about 1 % of the spectrum's norm.
     let carrier_hz = 10.525e9;
     let speed_mps = 0.8;
     let run = |azimuth_deg: f64, start_m: f64| {
@@ -568,7 +571,7 @@ fn single_channel_spectra_of_approach_and_recession_are_the_same() {
         .sqrt();
     let norm: f64 = approaching.iter().map(|a| a * a).sum::<f64>().sqrt();
     assert!(
-        difference / norm < 0.005,
+        difference / norm < 0.02,
         "|X(+v)| and |X(−v)| differ by {:.4} of the norm",
         difference / norm
     );
