@@ -70,7 +70,10 @@ impl Framer {
             let v = f64::from(v);
             self.ring[self.head] = v;
             self.ring[self.head + n] = v;
-            self.head = (self.head + 1) % n;
+            self.head += 1;
+            if self.head == n {
+                self.head = 0;
+            }
             self.filled = (self.filled + 1).min(n);
             self.consumed += 1;
             self.countdown -= 1;
