@@ -84,3 +84,88 @@ fn detectors_lists_every_built_in_with_its_cost() {
     assert_eq!(text.matches("cost at defaults").count(), 7, "{text}");
     assert!(text.contains("bytes") && text.contains("operations per sample"));
 }
+
+/// Shards run apart, written to files and merged give the very bytes of the
+/// unsharded run (the tallies survive their JSON round trip exactly).
+#[test]
+fn merged_shard_folders_equal_the_unsharded_run_byte_for_byte() {
+    let echobench = binary();
+    let dir = std::env::temp_dir().join(format!("echobench-cli-shards-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let suite = dir.join("suite.yaml");
+    std::fs::write(
+        &suite,
+        r#"
+name: shard-check
+seed: 5
+trials: 6
+calibration_trials: 1
+scenes:
+  - id: corridor
+    label: target
+    scene:
+      duration_s: 6
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 1000
+        front_end: {high_pass_hz: [0.5], low_pass_hz: [80], gain_db: 60}
+        adc: {bits: 12, full_scale_v: 3.3}
+      actors:
+        - kind: walker
+          path: {start_m: [{uniform: [3, 8]}, 0], heading_deg: 180, speed_mps: 1.2, enter_s: 1}
+  - id: fan
+    label: nuisance
+    scene:
+      duration_s: 6
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 1000
+        front_end: {high_pass_hz: [0.5], low_pass_hz: [80], gain_db: 60}
+        adc: {bits: 12, full_scale_v: 3.3}
+      actors:
+        - {kind: fan, position_m: [3, 0.5, 1], tip_radius_m: 0.15, rev_per_s: {uniform: [10, 20]}}
+detectors:
+  - plugin: energy
+  - plugin: band-ratio
+"#,
+    )
+    .unwrap();
+    let run = |args: &[&str], out: &str| {
+        let result = Command::new(&echobench)
+            .args(args)
+            .arg("--out")
+            .arg(dir.join(out))
+            .output()
+            .unwrap();
+        assert!(
+            result.status.success(),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&result.stderr)
+        );
+    };
+    let suite_arg = suite.to_str().unwrap();
+    run(&["run", suite_arg], "whole");
+    run(&["run", suite_arg, "--shard", "1/2"], "shard1");
+    run(&["run", suite_arg, "--shard", "2/2"], "shard2");
+    let shard1 = dir.join("shard1");
+    let shard2 = dir.join("shard2");
+    run(
+        &[
+            "merge",
+            shard1.to_str().unwrap(),
+            shard2.to_str().unwrap(),
+            "--suite",
+            suite_arg,
+        ],
+        "merged",
+    );
+    for file in ["summary.json", "roc.csv", "events.csv", "tallies.json"] {
+        let whole = std::fs::read(dir.join("whole").join(file)).unwrap();
+        let merged = std::fs::read(dir.join("merged").join(file)).unwrap();
+        assert!(
+            whole == merged,
+            "{file} differs between the merged shards and the whole run"
+        );
+    }
+    std::fs::remove_dir_all(&dir).unwrap();
+}
