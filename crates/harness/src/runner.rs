@@ -348,7 +348,6 @@ fn panic_message(payload: Box<dyn std::any::Any + Send>) -> String {
 /// Synthesizes a trial and feeds every detector, catching panics and bad scores per detector.
 fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<TrialOutput, RunError> {
     let scene = &suite.scenes[job.scene].variants[job.variant].scene;
-    let started = Instant::now();
     let mut synth = Synthesizer::new(scene, &job.key).map_err(|e| {
         RunError(format!(
             "scene `{}` trial {}: {e}",
@@ -394,7 +393,6 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
             }
         }
     }
-    let _ = started;
     let truth = synth.truth();
     let traces = built
         .into_iter()
