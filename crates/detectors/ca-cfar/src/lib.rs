@@ -65,18 +65,17 @@
 //! score at all.
 #![deny(missing_docs)]
 
-mod cells;
 mod closed_form;
 
-pub use cells::{training_offsets, DopplerAxis};
 pub use closed_form::{ca_multiplier, ca_pfa, ca_ratio, NOISE_FLOOR};
+pub use echobench_detector_dsp::cfar_cells::{training_offsets, DopplerAxis};
 
-use cells::CellPlan;
 use closed_form::ratio_to_mean;
 use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::{Channels, Score, StreamInfo};
+use echobench_detector_dsp::cfar_cells::CellPlan;
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 
 /// The plugin id used in suite files.

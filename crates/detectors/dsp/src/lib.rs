@@ -10,6 +10,8 @@
 //! not allocate.
 #![deny(missing_docs)]
 
+pub mod cfar_cells;
+
 use realfft::{RealFftPlanner, RealToComplex};
 use rustfft::num_complex::Complex;
 use rustfft::{Fft, FftPlanner};

@@ -54,16 +54,15 @@
 //! finite scores. A stream shorter than one frame gives no score.
 #![deny(missing_docs)]
 
-mod cells;
 mod closed_form;
 
 pub use closed_form::{os_multiplier, os_pfa, os_ratio, NOISE_FLOOR};
 
-use cells::{CellPlan, DopplerAxis};
 use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::{Channels, Score, StreamInfo};
+use echobench_detector_dsp::cfar_cells::{CellPlan, DopplerAxis};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 
 /// The plugin id used in suite files.

@@ -1,6 +1,9 @@
-//! Which bins are tested and which bins estimate their noise.
+//! CFAR cell plans: which bins are tested and which bins estimate their noise.
 //!
-//! The plan is made once in `build`: for every cell under test (CUT) the
+//! Shared by the cell-averaging and ordered-statistic CFAR detectors. The
+//! edge rule is the reference pipeline's (`cfar_weights`): reflect about DC and
+//! the Nyquist bin for the one-sided spectrum of a real signal, wrap for the
+//! two-sided I/Q spectrum. The plan is made once in `build`: for every cell under test (CUT) the
 //! indices of its `2·train` training cells, edges already resolved, so the
 //! per-frame loop is a gather and a sum.
 
@@ -85,7 +88,7 @@ pub fn training_offsets(guard: usize, train: usize) -> impl Iterator<Item = i64>
 
 /// The cells under test and the flattened table of their training cells.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct CellPlan {
+pub struct CellPlan {
     /// Bins tested, ascending.
     pub cut_bins: Vec<usize>,
     /// `2·train` training bins per CUT, CUT after CUT.
@@ -164,5 +167,43 @@ mod tests {
         );
         assert_eq!(plan.cut_bins, (1..=12).collect::<Vec<_>>());
         assert_eq!(plan.training.len(), 12 * 16);
+    }
+
+    #[test]
+    fn edges_reflect_for_real_and_wrap_for_iq() {
+        // bench/README.md: with guard 2, train 8, bin 1 uses bins 2–9 and 4–11.
+        let real = CellPlan::new(
+            DopplerAxis::Reflected { bins: 129 },
+            256,
+            2000.0,
+            (1.0, 100.0),
+            2,
+            8,
+        );
+        assert_eq!(real.cut_bins, (1..=12).collect::<Vec<_>>());
+        assert_eq!(
+            &real.training[..16],
+            &[9, 8, 7, 6, 5, 4, 3, 2, 4, 5, 6, 7, 8, 9, 10, 11]
+        );
+        let top = CellPlan::new(
+            DopplerAxis::Reflected { bins: 129 },
+            256,
+            2000.0,
+            (990.0, 1000.0),
+            0,
+            3,
+        );
+        assert_eq!(top.cut_bins, vec![127, 128]);
+        assert_eq!(&top.training[..6], &[124, 125, 126, 128, 127, 126]);
+        let iq = CellPlan::new(
+            DopplerAxis::Circular { bins: 16 },
+            16,
+            16.0,
+            (0.5, 1.5),
+            1,
+            3,
+        );
+        assert_eq!(iq.cut_bins, vec![1, 15]);
+        assert_eq!(&iq.training[..6], &[13, 14, 15, 3, 4, 5]);
     }
 }
