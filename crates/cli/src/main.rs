@@ -3,6 +3,7 @@
 use anyhow::{bail, Context, Result};
 use clap::{Parser, Subcommand};
 use echobench_scene::{export, load_scene_file, synthesize, StreamKey};
+use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
@@ -130,6 +131,14 @@ fn load_suite(path: Option<&Path>) -> Result<echobench_harness::suite::Suite> {
     }
 }
 
+/// The suite's text as run, kept in the run folder beside the results.
+fn suite_text(path: Option<&Path>) -> Result<String> {
+    match path {
+        Some(p) => std::fs::read_to_string(p).with_context(|| format!("reading {}", p.display())),
+        None => Ok(echobench_harness::suite_file::DEFAULT_SUITE_YAML.to_string()),
+    }
+}
+
 fn new_run_folder(suite_name: &str) -> PathBuf {
     let stamp = std::time::SystemTime::now()
         .duration_since(std::time::UNIX_EPOCH)
@@ -140,12 +149,16 @@ fn new_run_folder(suite_name: &str) -> PathBuf {
 fn write_run_outputs(
     out: &Path,
     suite: &echobench_harness::suite::Suite,
+    suite_text: &str,
     tallies: &echobench_harness::runner::Tallies,
     timing: Option<&echobench_harness::runner::Timing>,
 ) -> Result<()> {
     use echobench_harness::summary;
     std::fs::create_dir_all(out).with_context(|| format!("creating {}", out.display()))?;
     let summary = summary::summarise(tallies, suite);
+    echobench_core::atomic::write_atomically(&out.join("suite.yaml"), |w| {
+        w.write_all(suite_text.as_bytes())
+    })?;
     summary::write_json(&out.join("tallies.json"), tallies)?;
     summary::write_json(&out.join("summary.json"), &summary)?;
     summary::write_roc_csv(&out.join("roc.csv"), tallies)?;
@@ -155,7 +168,7 @@ fn write_run_outputs(
     }
     print!("{}", summary::console_table(&summary, timing));
     println!(
-        "wrote {}/{{summary.json, roc.csv, events.csv, tallies.json}}",
+        "wrote {}/{{summary.json, roc.csv, events.csv, tallies.json, suite.yaml}}",
         out.display()
     );
     Ok(())
@@ -190,7 +203,7 @@ fn run_suite(
     let (tallies, timing) = run(&suite, &detectors, shard, &report)?;
     bar.finish();
     let out = out.unwrap_or_else(|| new_run_folder(&suite.name));
-    write_run_outputs(&out, &suite, &tallies, Some(&timing))?;
+    write_run_outputs(&out, &suite, &suite_text(path)?, &tallies, Some(&timing))?;
     Ok(ExitCode::SUCCESS)
 }
 
@@ -213,7 +226,7 @@ fn run_merge(runs: &[PathBuf], out: &Path, suite_path: Option<&Path>) -> Result<
             suite.name
         );
     }
-    write_run_outputs(out, &suite, &merged, None)?;
+    write_run_outputs(out, &suite, &suite_text(suite_path)?, &merged, None)?;
     Ok(ExitCode::SUCCESS)
 }
 

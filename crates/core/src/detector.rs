@@ -33,6 +33,14 @@ pub trait Detector: Send {
 
     /// Forgets all state, as if freshly built.
     fn reset(&mut self);
+
+    /// Why this detector can no longer produce scores, once it cannot (an
+    /// external program that crashed or replied out of protocol, say). The
+    /// runner asks after every block and reports the trial as failed for this
+    /// detector; in-process detectors never fail this way.
+    fn failure(&self) -> Option<String> {
+        None
+    }
 }
 
 /// A kind of detector that can be built from parameters.

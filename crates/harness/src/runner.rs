@@ -29,7 +29,7 @@ use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::time::Instant;
 
 /// Version of the tallies and summary schema.
-pub const SCHEMA_VERSION: u32 = 1;
+pub const SCHEMA_VERSION: u32 = 2;
 
 /// Output samples synthesized per block fed to the detectors.
 const BLOCK: usize = 4096;
@@ -79,6 +79,9 @@ pub struct RunDetector<'a> {
     pub plugin: &'a dyn DetectorPlugin,
     /// Resolved parameters.
     pub params: Params,
+    /// Thresholds fixed from a baseline run, tallied beside the calibrated ones
+    /// (see `echobench gate`); empty for an ordinary run.
+    pub pinned: Vec<PinnedPoint>,
 }
 
 /// What happened to one detector on one trial when it misbehaved.
@@ -111,6 +114,39 @@ pub struct OperatingPoint {
     pub calibration_exposure_ns: u64,
 }
 
+/// A threshold taken from a baseline run, so a candidate is scored where the
+/// baseline operates (`echobench gate`).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct PinnedPoint {
+    /// The false-alarm rate the baseline chose it for, per hour.
+    pub target_per_hour: f64,
+    /// The threshold.
+    pub threshold: f64,
+}
+
+/// One test trial's outcome at one threshold: what the paired comparison of two
+/// runs on the same seeds needs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
+pub struct TrialOutcome {
+    /// Trial index (with the variant, the trial's seed).
+    pub trial: u64,
+    /// False alarms in the trial.
+    pub false_alarms: u32,
+    /// Target events in the trial.
+    pub events: u32,
+    /// Of those, detected.
+    pub detected: u32,
+}
+
+/// State memory and arithmetic a detector declares (`DetectorPlugin::cost`).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct DeclaredCost {
+    /// State memory, bytes.
+    pub state_bytes: u64,
+    /// Arithmetic operations per input sample.
+    pub ops_per_sample: f64,
+}
+
 /// Counts at one operating point for one scene variant.
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
 pub struct OperatingTally {
@@ -122,6 +158,8 @@ pub struct OperatingTally {
     pub latencies_ms: Vec<i64>,
     /// False alarms by the nuisance sources active at their time (`none` when none was).
     pub false_alarms_by_source: BTreeMap<String, u64>,
+    /// Per test trial, sorted by trial.
+    pub trials: Vec<TrialOutcome>,
 }
 
 /// Tallies of one detector on one scene variant.
@@ -151,6 +189,8 @@ pub struct VariantTally {
     pub retriggers: Vec<u64>,
     /// At each operating point.
     pub operating: Vec<OperatingTally>,
+    /// At each pinned threshold.
+    pub pinned: Vec<OperatingTally>,
     /// (trial, maximum score of the trial), sorted by trial.
     pub max_scores: Vec<(u64, f64)>,
     /// Frames outside event windows.
@@ -174,6 +214,10 @@ pub struct DetectorTally {
     pub operating: Vec<OperatingPoint>,
     /// Nominal threshold and per-frame Pfa from the detector's closed form, if any.
     pub nominal: Option<(f64, f64)>,
+    /// Thresholds pinned from a baseline run, if any.
+    pub pinned: Vec<PinnedPoint>,
+    /// What the plugin declares it costs, for the suite's stream.
+    pub cost: Option<DeclaredCost>,
     /// Per scene variant, in suite order.
     pub variants: Vec<VariantTally>,
     /// Trials on which the detector failed (excluded from the tallies).
@@ -262,6 +306,7 @@ pub fn resolve_detectors<'a>(
                 label: entry.label.clone(),
                 plugin: *plugin,
                 params,
+                pinned: Vec::new(),
             })
         })
         .collect()
@@ -388,8 +433,13 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
                 detector.process(&volts, &mut scores[i])
             }));
             busy[i] += t1.elapsed().as_secs_f64();
-            if let Err(p) = result {
-                *slot = Err(panic_message(p));
+            match result {
+                Err(p) => *slot = Err(panic_message(p)),
+                Ok(()) => {
+                    if let Some(message) = detector.failure() {
+                        *slot = Err(message);
+                    }
+                }
             }
         }
     }
@@ -564,6 +614,15 @@ pub fn run_suite(
             .plugin
             .nominal_operating_point(&detector.params, &suite_stream_info(suite))
             .map(|p| (p.threshold, p.frame_pfa));
+        let cost = detector
+            .plugin
+            .cost(&detector.params, &suite_stream_info(suite))
+            .ok()
+            .map(|c| DeclaredCost {
+                state_bytes: c.state_bytes as u64,
+                ops_per_sample: c.ops_per_sample,
+            });
+        let pinned_len = detector.pinned.len();
         let (grid_len, operating_len) = (thresholds.len(), operating.len());
         let variants = suite
             .scenes
@@ -585,6 +644,7 @@ pub fn run_suite(
                     false_alarms: vec![0; grid_len],
                     retriggers: vec![0; grid_len],
                     operating: vec![OperatingTally::default(); operating_len],
+                    pinned: vec![OperatingTally::default(); pinned_len],
                     max_scores: Vec::new(),
                     noise_frames: 0,
                     noise_frames_above_nominal: 0,
@@ -602,6 +662,8 @@ pub fn run_suite(
             thresholds,
             operating,
             nominal,
+            pinned: detector.pinned.clone(),
+            cost,
             variants,
             failures,
         });
@@ -661,6 +723,8 @@ pub fn run_suite(
                         let operating: Vec<usize> =
                             tallies[di].operating.iter().map(|o| o.grid_index).collect();
                         let nominal = tallies[di].nominal.map(|n| n.0);
+                        let pinned: Vec<f64> =
+                            tallies[di].pinned.iter().map(|p| p.threshold).collect();
                         tally_trial(
                             &mut tally.variants[vi],
                             scores,
@@ -669,6 +733,7 @@ pub fn run_suite(
                             &logic,
                             &thresholds,
                             &operating,
+                            &pinned,
                             nominal,
                             job.key.trial,
                         );
@@ -727,6 +792,8 @@ fn empty_like(t: &DetectorTally) -> DetectorTally {
         thresholds: t.thresholds.clone(),
         operating: t.operating.clone(),
         nominal: t.nominal,
+        pinned: t.pinned.clone(),
+        cost: t.cost,
         variants: t.variants.clone(),
         failures: Vec::new(),
     }
@@ -741,6 +808,7 @@ fn tally_trial(
     logic: &AlarmLogic,
     thresholds: &[f64],
     operating: &[usize],
+    pinned: &[f64],
     nominal: Option<f64>,
     trial_index: u64,
 ) {
@@ -754,21 +822,12 @@ fn tally_trial(
         v.retriggers[g] += r.retriggers as u64;
     }
     for (o, &g) in operating.iter().enumerate() {
-        let r = &results[g];
-        let op = &mut v.operating[o];
-        op.detected += r.events_detected() as u64;
-        op.false_alarms += r.false_alarms() as u64;
-        op.latencies_ms
-            .extend(r.latencies_s().iter().map(|l| (l * 1e3).round() as i64));
-        for sources in
-            crate::events::attribute_false_alarms(&r.false_alarm_times_s, &trial.nuisances, 0.0)
-        {
-            if sources.is_empty() {
-                *op.false_alarms_by_source.entry("none".into()).or_default() += 1;
-            }
-            for source in sources {
-                *op.false_alarms_by_source.entry(source).or_default() += 1;
-            }
+        tally_operating(&mut v.operating[o], &results[g], trial, trial_index);
+    }
+    if !pinned.is_empty() {
+        let pinned_results = score_thresholds(scores, truth, logic, pinned);
+        for (op, r) in v.pinned.iter_mut().zip(&pinned_results) {
+            tally_operating(op, r, trial, trial_index);
         }
     }
     let max = scores
@@ -785,6 +844,34 @@ fn tally_trial(
             }
         }
     }
+}
+
+fn tally_operating(
+    op: &mut OperatingTally,
+    r: &crate::events::TrialEventScore,
+    trial: &TrialOutput,
+    trial_index: u64,
+) {
+    op.detected += r.events_detected() as u64;
+    op.false_alarms += r.false_alarms() as u64;
+    op.latencies_ms
+        .extend(r.latencies_s().iter().map(|l| (l * 1e3).round() as i64));
+    for sources in
+        crate::events::attribute_false_alarms(&r.false_alarm_times_s, &trial.nuisances, 0.0)
+    {
+        if sources.is_empty() {
+            *op.false_alarms_by_source.entry("none".into()).or_default() += 1;
+        }
+        for source in sources {
+            *op.false_alarms_by_source.entry(source).or_default() += 1;
+        }
+    }
+    op.trials.push(TrialOutcome {
+        trial: trial_index,
+        false_alarms: r.false_alarms() as u32,
+        events: r.events_total() as u32,
+        detected: r.events_detected() as u32,
+    });
 }
 
 fn add_partials(
@@ -817,13 +904,19 @@ pub fn merge_detector(into: &mut DetectorTally, other: DetectorTally) {
         for (x, y) in a.retriggers.iter_mut().zip(&b.retriggers) {
             *x += y;
         }
-        for (x, y) in a.operating.iter_mut().zip(b.operating) {
+        for (x, y) in a
+            .operating
+            .iter_mut()
+            .zip(b.operating)
+            .chain(a.pinned.iter_mut().zip(b.pinned))
+        {
             x.detected += y.detected;
             x.false_alarms += y.false_alarms;
             x.latencies_ms.extend(y.latencies_ms);
             for (k, v) in y.false_alarms_by_source {
                 *x.false_alarms_by_source.entry(k).or_default() += v;
             }
+            x.trials.extend(y.trials);
         }
         a.max_scores.extend(b.max_scores);
         a.noise_frames += b.noise_frames;
@@ -837,8 +930,9 @@ pub fn normalise(tally: &mut DetectorTally) {
     for v in &mut tally.variants {
         v.max_scores
             .sort_by(|a, b| a.0.cmp(&b.0).then(a.1.total_cmp(&b.1)));
-        for op in &mut v.operating {
+        for op in v.operating.iter_mut().chain(v.pinned.iter_mut()) {
             op.latencies_ms.sort_unstable();
+            op.trials.sort_unstable();
         }
     }
     tally.failures.sort();
@@ -877,7 +971,7 @@ pub fn merge_tallies(parts: Vec<Tallies>) -> Result<Tallies, RunError> {
         merged.test_trials += part.test_trials;
         merged.test_signal_ms += part.test_signal_ms;
         for (a, b) in merged.detectors.iter_mut().zip(part.detectors) {
-            if a.thresholds != b.thresholds || a.label != b.label {
+            if a.thresholds != b.thresholds || a.label != b.label || a.pinned != b.pinned {
                 return Err(RunError(format!(
                     "detector `{}`: the shards' threshold grids differ",
                     a.label

@@ -7,7 +7,7 @@
 use crate::runner::{DetectorTally, Tallies, Timing, VariantTally, SCHEMA_VERSION};
 use crate::suite::Suite;
 use echobench_core::atomic::write_atomically;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::io::{self, Write};
 use std::path::Path;
@@ -16,7 +16,7 @@ use std::path::Path;
 pub const CONFIDENCE: f64 = 0.95;
 
 /// A rate or proportion with its interval.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Estimate {
     /// Point estimate (`null` in JSON when undefined, e.g. no events).
     pub value: Option<f64>,
@@ -59,7 +59,7 @@ impl Estimate {
 }
 
 /// Counts and rates of one slice of a run at one threshold.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Outcome {
     /// Target events.
     pub events: u64,
@@ -96,7 +96,7 @@ fn outcome(events: u64, detected: u64, false_alarms: u64, exposure_ns: u64) -> O
 }
 
 /// One scene variant at one operating point.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SceneOutcome {
     /// Scene id.
     pub scene: String,
@@ -114,7 +114,7 @@ pub struct SceneOutcome {
 }
 
 /// A detector at one operating threshold.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct OperatingSummary {
     /// The false-alarm rate the threshold was chosen for on the calibration trials, per hour.
     pub target_false_alarms_per_hour: f64,
@@ -140,7 +140,7 @@ pub struct OperatingSummary {
 }
 
 /// The closed-form operating point of a CFAR-type detector against the measured rate.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct NominalSummary {
     /// Threshold from the closed form.
     pub threshold: f64,
@@ -155,7 +155,7 @@ pub struct NominalSummary {
 }
 
 /// Everything about one detector.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DetectorSummary {
     /// Label in the suite.
     pub label: String,
@@ -177,10 +177,12 @@ pub struct DetectorSummary {
     pub nominal: Option<NominalSummary>,
     /// Trials on which the detector failed.
     pub failures: Vec<crate::runner::Failure>,
+    /// State memory and arithmetic per sample the plugin declares.
+    pub declared_cost: Option<crate::runner::DeclaredCost>,
 }
 
 /// The run's summary (`summary.json`).
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Summary {
     /// Schema version of this file.
     pub schema: u32,
@@ -203,7 +205,7 @@ pub struct Summary {
     /// Per detector.
     pub detectors: Vec<DetectorSummary>,
     /// The cautions that go with every result.
-    pub cautions: &'static str,
+    pub cautions: String,
 }
 
 /// The cautions printed with every result.
@@ -235,6 +237,7 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
     let auc_se = auc.and_then(|a| {
         echobench_stats::auc_standard_error_hanley_mcneil(a, positives.len(), negatives.len())
     });
+    let declared_cost = d.cost;
     let operating_points = d
         .operating
         .iter()
@@ -322,6 +325,7 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
         operating_points,
         nominal,
         failures: d.failures.clone(),
+        declared_cost,
     }
 }
 
@@ -349,7 +353,7 @@ pub fn summarise(tallies: &Tallies, suite: &Suite) -> Summary {
         event_tolerance_s: (suite.scoring.early_s, suite.scoring.late_s),
         false_alarm_budget_per_hour: suite.scoring.false_alarm_budget_per_hour,
         detectors: tallies.detectors.iter().map(summarise_detector).collect(),
-        cautions: CAUTIONS,
+        cautions: CAUTIONS.to_string(),
     }
 }
 
