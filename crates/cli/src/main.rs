@@ -36,6 +36,44 @@ enum Command {
         /// Override the suite's seed.
         #[arg(long)]
         seed: Option<u64>,
+        /// Also score every detector at this baseline's operating thresholds, so that
+        /// `echobench gate` can compare the run with it (a run or baseline folder).
+        #[arg(long)]
+        baseline: Option<PathBuf>,
+    },
+    /// Compare a run with a baseline; exit 0 when nothing regressed, 1 on a regression, 2 on an error.
+    Gate {
+        /// The run folder (made with `echobench run --baseline BASELINE`).
+        run: PathBuf,
+        /// The baseline folder (from `echobench save-baseline`, or any whole run folder).
+        #[arg(long)]
+        baseline: PathBuf,
+        /// A false-alarm rise must exceed this rate ratio to count as a regression.
+        #[arg(long, default_value_t = 1.25)]
+        ratio_margin: f64,
+        /// Family-wise significance of each detector's tests of one kind (Holm).
+        #[arg(long, default_value_t = 0.01)]
+        alpha: f64,
+        /// Absolute false-alarm budget per hour (default: the suite's `false_alarm_budget_per_hour`).
+        #[arg(long)]
+        budget_per_hour: Option<f64>,
+        /// Markdown summary file (default RUN/gate.md).
+        #[arg(long)]
+        markdown: Option<PathBuf>,
+        /// JUnit XML file (default RUN/gate-junit.xml).
+        #[arg(long)]
+        junit: Option<PathBuf>,
+        /// Print every check, not only the pooled ones and the regressions.
+        #[arg(long)]
+        all: bool,
+    },
+    /// Save a whole run folder as a baseline folder for `run --baseline` and `gate`.
+    SaveBaseline {
+        /// The run folder.
+        run: PathBuf,
+        /// The baseline folder to write (files are replaced atomically).
+        #[arg(long)]
+        to: PathBuf,
     },
     /// Merge the tallies of shard runs into one run folder.
     Merge {
@@ -96,7 +134,38 @@ fn main() -> ExitCode {
             shard,
             threads,
             seed,
-        } => run_suite(suite.as_deref(), out, shard.as_deref(), threads, seed),
+            baseline,
+        } => run_suite(
+            suite.as_deref(),
+            out,
+            shard.as_deref(),
+            threads,
+            seed,
+            baseline.as_deref(),
+        ),
+        Command::Gate {
+            run,
+            baseline,
+            ratio_margin,
+            alpha,
+            budget_per_hour,
+            markdown,
+            junit,
+            all,
+        } => run_gate(
+            &run,
+            &baseline,
+            echobench_harness::gate::GateSettings {
+                ratio_margin,
+                alpha,
+                budget_per_hour,
+                budget_confidence: 0.95,
+            },
+            markdown,
+            junit,
+            all,
+        ),
+        Command::SaveBaseline { run, to } => save_baseline(&run, &to),
         Command::Merge { runs, out, suite } => run_merge(&runs, &out, suite.as_deref()),
         Command::Detectors {
             sample_rate_hz,
@@ -180,6 +249,7 @@ fn run_suite(
     shard: Option<&str>,
     threads: Option<usize>,
     seed: Option<u64>,
+    baseline: Option<&Path>,
 ) -> Result<ExitCode> {
     use echobench_harness::runner::{resolve_detectors, run_suite as run, Progress, Shard};
     let mut suite = load_suite(path)?;
@@ -197,13 +267,134 @@ fn run_suite(
             .context("setting the thread count")?;
     }
     let plugins = echobench_detectors::builtin();
-    let detectors = resolve_detectors(&suite, &plugins)?;
+    let mut detectors = resolve_detectors(&suite, &plugins)?;
+    if let Some(dir) = baseline {
+        let base = read_tallies(dir)?;
+        if base.suite != suite.name {
+            bail!(
+                "the baseline {} is of suite `{}`, this run of suite `{}`",
+                dir.display(),
+                base.suite,
+                suite.name
+            );
+        }
+        for note in echobench_harness::gate::pin_to_baseline(&mut detectors, &base) {
+            eprintln!("note: {note}");
+        }
+    }
     let bar = progress_bar();
     let report = |p: Progress| bar.update(p);
     let (tallies, timing) = run(&suite, &detectors, shard, &report)?;
     bar.finish();
     let out = out.unwrap_or_else(|| new_run_folder(&suite.name));
     write_run_outputs(&out, &suite, &suite_text(path)?, &tallies, Some(&timing))?;
+    Ok(ExitCode::SUCCESS)
+}
+
+/// The tallies of a run or baseline folder (or of a tallies.json file given directly).
+fn read_tallies(path: &Path) -> Result<echobench_harness::runner::Tallies> {
+    let file = if path.is_dir() {
+        path.join("tallies.json")
+    } else {
+        path.to_path_buf()
+    };
+    let text =
+        std::fs::read_to_string(&file).with_context(|| format!("reading {}", file.display()))?;
+    let tallies: echobench_harness::runner::Tallies =
+        serde_json::from_str(&text).with_context(|| format!("parsing {}", file.display()))?;
+    if tallies.schema != echobench_harness::runner::SCHEMA_VERSION {
+        bail!(
+            "{} has schema {}, this echobench reads schema {}: rerun it",
+            file.display(),
+            tallies.schema,
+            echobench_harness::runner::SCHEMA_VERSION
+        );
+    }
+    Ok(tallies)
+}
+
+fn run_gate(
+    run: &Path,
+    baseline: &Path,
+    mut settings: echobench_harness::gate::GateSettings,
+    markdown: Option<PathBuf>,
+    junit: Option<PathBuf>,
+    all: bool,
+) -> Result<ExitCode> {
+    use echobench_core::atomic::write_atomically;
+    let candidate = read_tallies(run)?;
+    let base = read_tallies(baseline)?;
+    if settings.budget_per_hour.is_none() && run.is_dir() {
+        let file = run.join("summary.json");
+        let text = std::fs::read_to_string(&file)
+            .with_context(|| format!("reading {}", file.display()))?;
+        let summary: echobench_harness::summary::Summary =
+            serde_json::from_str(&text).with_context(|| format!("parsing {}", file.display()))?;
+        settings.budget_per_hour = summary.false_alarm_budget_per_hour;
+    }
+    let report = echobench_harness::gate::gate(&candidate, &base, &settings)?;
+    let folder = if run.is_dir() { run } else { Path::new(".") };
+    let markdown = markdown.unwrap_or_else(|| folder.join("gate.md"));
+    let junit = junit.unwrap_or_else(|| folder.join("gate-junit.xml"));
+    write_atomically(&markdown, |w| w.write_all(report.markdown().as_bytes()))?;
+    write_atomically(&junit, |w| w.write_all(report.junit_xml().as_bytes()))?;
+    print!(
+        "{}",
+        if all {
+            report.full_table()
+        } else {
+            report.table()
+        }
+    );
+    println!("wrote {} and {}", markdown.display(), junit.display());
+    if report.passed() {
+        println!("gate: pass");
+        Ok(ExitCode::SUCCESS)
+    } else {
+        println!("gate: REGRESSION");
+        Ok(ExitCode::from(1))
+    }
+}
+
+fn save_baseline(run: &Path, to: &Path) -> Result<ExitCode> {
+    let tallies = read_tallies(run)?;
+    if !tallies.shards.is_empty() {
+        bail!(
+            "{} holds only some shards: merge them first (`echobench merge`)",
+            run.display()
+        );
+    }
+    let failures: usize = tallies.detectors.iter().map(|d| d.failures.len()).sum();
+    if failures > 0 {
+        eprintln!("warning: the run has {failures} failed detector trials; they are not in the baseline's counts");
+    }
+    std::fs::create_dir_all(to).with_context(|| format!("creating {}", to.display()))?;
+    for name in [
+        "tallies.json",
+        "summary.json",
+        "suite.yaml",
+        "roc.csv",
+        "events.csv",
+    ] {
+        let from = run.join(name);
+        match std::fs::read(&from) {
+            Ok(bytes) => {
+                echobench_core::atomic::write_atomically(&to.join(name), |w| w.write_all(&bytes))?
+            }
+            Err(e) if name == "tallies.json" => {
+                return Err(e).with_context(|| format!("reading {}", from.display()))
+            }
+            Err(_) => eprintln!("note: {} has no {name}", run.display()),
+        }
+    }
+    println!(
+        "saved {} as the baseline {} (suite `{}`, seed {}, {} detectors)",
+        run.display(),
+        to.display(),
+        tallies.suite,
+        tallies.seed,
+        tallies.detectors.len()
+    );
     Ok(ExitCode::SUCCESS)
 }
 

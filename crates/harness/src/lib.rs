@@ -2,6 +2,7 @@
 #![deny(missing_docs)]
 
 pub mod events;
+pub mod gate;
 pub mod runner;
 pub mod suite;
 pub mod suite_file;
