@@ -169,3 +169,125 @@ detectors:
     }
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// The gate as CI meets it: save a baseline, run against it, and read the exit codes —
+/// 0 for an unchanged run, 1 for a baseline doctored to have had fewer false alarms
+/// (the failure named in the table, the Markdown and the JUnit file), 2 for a run that
+/// was not scored at the baseline's thresholds.
+#[test]
+fn gate_exit_codes_and_files() {
+    let echobench = binary();
+    let dir = std::env::temp_dir().join(format!("echobench-cli-gate-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let suite = dir.join("suite.yaml");
+    std::fs::write(
+        &suite,
+        r#"
+name: gate-check
+seed: 9
+trials: 12
+calibration_trials: 4
+scenes:
+  - id: palm
+    label: nuisance
+    scene:
+      duration_s: 20
+      sensor:
+        carrier_hz: 24.125e9
+        sample_rate_hz: 1000
+        front_end: {high_pass_hz: [0.5], low_pass_hz: [200], gain_db: 60}
+        adc: {bits: 12, full_scale_v: 3.3}
+      environment: {white_noise_v_per_rthz: 30.0e-9}
+      actors:
+        - kind: sway
+          id: palm
+          pivot_m: [2.5, 1.5, 0.4]
+          hanging: false
+          arm_length_m: 1.4
+          natural_hz: {uniform: [0.4, 0.9]}
+          damping_ratio: 0.06
+          rms_displacement_m: {uniform: [0.03, 0.08]}
+          direction_deg: {uniform: [0, 180]}
+          rcs_m2: 0.2
+detectors:
+  - plugin: energy
+scoring:
+  target_false_alarms_per_hour: [200]
+"#,
+    )
+    .unwrap();
+    let suite_arg = suite.to_str().unwrap();
+    let path = |name: &str| dir.join(name).to_str().unwrap().to_string();
+    let call = |args: &[&str]| Command::new(&echobench).args(args).output().unwrap();
+    let ok = |args: &[&str]| {
+        let result = call(args);
+        assert!(
+            result.status.success(),
+            "{args:?}: {}{}",
+            String::from_utf8_lossy(&result.stdout),
+            String::from_utf8_lossy(&result.stderr)
+        );
+    };
+    ok(&["run", suite_arg, "--out", &path("before")]);
+    ok(&["save-baseline", &path("before"), "--to", &path("base")]);
+    ok(&[
+        "run",
+        suite_arg,
+        "--baseline",
+        &path("base"),
+        "--out",
+        &path("after"),
+    ]);
+
+    let result = call(&["gate", &path("after"), "--baseline", &path("base")]);
+    let stdout = String::from_utf8_lossy(&result.stdout);
+    assert_eq!(result.status.code(), Some(0), "{stdout}");
+    assert!(stdout.contains("gate: pass"));
+
+    // Doctor the baseline: no false alarms at all.
+    let tallies_file = dir.join("base").join("tallies.json");
+    let mut tallies: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&tallies_file).unwrap()).unwrap();
+    let mut candidate_alarms = 0;
+    for variant in tallies["detectors"][0]["variants"].as_array_mut().unwrap() {
+        for op in variant["operating"].as_array_mut().unwrap() {
+            candidate_alarms += op["false_alarms"].as_u64().unwrap();
+            op["false_alarms"] = 0.into();
+            for trial in op["trials"].as_array_mut().unwrap() {
+                trial["false_alarms"] = 0.into();
+            }
+        }
+    }
+    assert!(
+        candidate_alarms >= 10,
+        "the suite must raise false alarms: {candidate_alarms}"
+    );
+    std::fs::write(&tallies_file, serde_json::to_string(&tallies).unwrap()).unwrap();
+    let result = call(&["gate", &path("after"), "--baseline", &path("base")]);
+    let stdout = String::from_utf8_lossy(&result.stdout);
+    assert_eq!(result.status.code(), Some(1), "{stdout}");
+    assert!(
+        stdout.contains("REGRESSION") && stdout.contains("energy"),
+        "{stdout}"
+    );
+    let markdown = std::fs::read_to_string(dir.join("after").join("gate.md")).unwrap();
+    assert!(
+        markdown.starts_with("## echobench gate: REGRESSION"),
+        "{markdown}"
+    );
+    let junit = std::fs::read_to_string(dir.join("after").join("gate-junit.xml")).unwrap();
+    let doc = roxmltree::Document::parse(&junit).unwrap();
+    assert!(doc
+        .descendants()
+        .filter(|n| n.has_tag_name("testcase"))
+        .any(
+            |n| n.attribute("classname") == Some("echobench.gate.energy")
+                && n.children().any(|c| c.has_tag_name("failure"))
+        ));
+
+    // A run made without --baseline: an error, exit 2, and the message says what to do.
+    let result = call(&["gate", &path("before"), "--baseline", &path("base")]);
+    assert_eq!(result.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&result.stderr).contains("--baseline"));
+    std::fs::remove_dir_all(&dir).unwrap();
+}

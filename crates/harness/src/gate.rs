@@ -208,6 +208,13 @@ pub fn gate(
     let paired = candidate.seed == baseline.seed;
     let mut checks = Vec::new();
     let mut notes = Vec::new();
+    if settings.budget_per_hour.is_none() {
+        notes.push(
+            "no false-alarm budget is set (suite `false_alarm_budget_per_hour` or --budget-per-hour): \
+             the budget is not checked"
+                .into(),
+        );
+    }
     if !paired {
         notes.push(format!(
             "the runs used different seeds ({} and {}): paired tests are not possible",
@@ -262,7 +269,7 @@ pub fn gate(
                 let name = group.clone().unwrap_or_else(|| "all scenes".into());
                 detector_checks.push(rate_check(&at, &name, &sb, &sc, settings));
                 detector_checks.push(paired_false_alarm_check(&at, &name, &pairs, o, p, paired));
-                if group.is_none() {
+                if group.is_none() && settings.budget_per_hour.is_some() {
                     detector_checks.push(budget_check(&at, &sc, settings));
                 }
                 if sb.events > 0 || sc.events > 0 {
@@ -595,6 +602,15 @@ fn fmt_opt(x: Option<f64>, digits: usize) -> String {
     x.map_or_else(|| "—".into(), |v| format!("{v:.digits$}"))
 }
 
+/// Four significant digits, enough to recognise a threshold.
+fn fmt_threshold(t: f64) -> String {
+    if t != 0.0 && (t.abs() < 1e-3 || t.abs() >= 1e6) {
+        format!("{t:.3e}")
+    } else {
+        format!("{}", (t * 1e4).round() / 1e4)
+    }
+}
+
 fn fmt_p(x: Option<f64>) -> String {
     match x {
         None => "—".into(),
@@ -728,7 +744,7 @@ impl GateReport {
                 c.detector,
                 c.metric.name(),
                 c.target_per_hour,
-                c.threshold,
+                fmt_threshold(c.threshold),
                 c.group,
                 c.baseline,
                 c.candidate,

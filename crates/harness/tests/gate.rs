@@ -163,9 +163,17 @@ fn a_budget_below_the_measured_rate_fails_and_an_unpinned_run_is_refused() {
     // Every detector has tens of false alarms per hour at the 60/h point: over a 0.5/h budget.
     assert!(!over.is_empty(), "{}", report.table());
     assert!(over.iter().all(|c| c.bound.unwrap() > 0.5));
-    // No budget set: the budget checks are not tested, never failed.
+    // No budget set: no budget checks, and a note that says so.
     let report = gate(&candidate, &baseline, &GateSettings::default()).unwrap();
     assert!(report.passed());
+    assert!(!report
+        .checks
+        .iter()
+        .any(|c| c.metric == Metric::FalseAlarmBudget));
+    assert!(report
+        .notes
+        .iter()
+        .any(|n| n.contains("no false-alarm budget")));
 
     // A run made without --baseline cannot be gated: it says how to fix it.
     let err = gate(&baseline, &baseline, &GateSettings::default()).unwrap_err();
