@@ -338,6 +338,8 @@ fn run_gate(
     let junit = junit.unwrap_or_else(|| folder.join("gate-junit.xml"));
     write_atomically(&markdown, |w| w.write_all(report.markdown().as_bytes()))?;
     write_atomically(&junit, |w| w.write_all(report.junit_xml().as_bytes()))?;
+    let json = folder.join("gate.json");
+    echobench_harness::summary::write_json(&json, &report)?;
     print!(
         "{}",
         if all {
@@ -346,7 +348,12 @@ fn run_gate(
             report.table()
         }
     );
-    println!("wrote {} and {}", markdown.display(), junit.display());
+    println!(
+        "wrote {}, {} and {}",
+        markdown.display(),
+        junit.display(),
+        json.display()
+    );
     if report.passed() {
         println!("gate: pass");
         Ok(ExitCode::SUCCESS)
