@@ -40,6 +40,10 @@ enum Command {
         /// `echobench gate` can compare the run with it (a run or baseline folder).
         #[arg(long)]
         baseline: Option<PathBuf>,
+        /// Let detectors of the `external` plugin run the programs the suite names (off by
+        /// default: a suite file alone must not start programs).
+        #[arg(long)]
+        allow_exec: bool,
     },
     /// Compare a run with a baseline; exit 0 when nothing regressed, 1 on a regression, 2 on an error.
     Gate {
@@ -66,6 +70,18 @@ enum Command {
         /// Print every check, not only the pooled ones and the regressions.
         #[arg(long)]
         all: bool,
+    },
+    /// Write a run's HTML report: one self-contained page (inline SVG, opens offline).
+    Report {
+        /// The run folder.
+        run: PathBuf,
+        /// A baseline to compare with (side by side; with the gate's verdict when the run
+        /// was made with `--baseline` of the same baseline).
+        #[arg(long)]
+        baseline: Option<PathBuf>,
+        /// The HTML file to write (default RUN/report.html).
+        #[arg(long)]
+        out: Option<PathBuf>,
     },
     /// Save a whole run folder as a baseline folder for `run --baseline` and `gate`.
     SaveBaseline {
@@ -110,7 +126,7 @@ enum Command {
         #[arg(long, default_value_t = 24.125e9)]
         carrier_hz: f64,
     },
-    /// Validate scene files; prints every problem and exits non-zero on any error.
+    /// Validate scene and suite files; prints every problem and exits non-zero on any error.
     Check {
         /// Files to check.
         #[arg(required = true)]
@@ -135,6 +151,7 @@ fn main() -> ExitCode {
             threads,
             seed,
             baseline,
+            allow_exec,
         } => run_suite(
             suite.as_deref(),
             out,
@@ -142,6 +159,7 @@ fn main() -> ExitCode {
             threads,
             seed,
             baseline.as_deref(),
+            allow_exec,
         ),
         Command::Gate {
             run,
@@ -166,6 +184,7 @@ fn main() -> ExitCode {
             all,
         ),
         Command::SaveBaseline { run, to } => save_baseline(&run, &to),
+        Command::Report { run, baseline, out } => run_report(&run, baseline.as_deref(), out),
         Command::Merge { runs, out, suite } => run_merge(&runs, &out, suite.as_deref()),
         Command::Detectors {
             sample_rate_hz,
@@ -181,8 +200,8 @@ fn main() -> ExitCode {
     }
 }
 
-fn load_suite(path: Option<&Path>) -> Result<echobench_harness::suite::Suite> {
-    let plugins = echobench_detectors::builtin();
+fn load_suite(path: Option<&Path>, allow_exec: bool) -> Result<echobench_harness::suite::Suite> {
+    let plugins = echobench_detectors::with_external(allow_exec);
     let loaded = match path {
         Some(p) => echobench_harness::suite_file::load_suite_file(p, &plugins),
         None => echobench_harness::suite_file::default_suite(&plugins)
@@ -235,9 +254,19 @@ fn write_run_outputs(
     if let Some(t) = timing {
         summary::write_json(&out.join("timing.json"), t)?;
     }
+    let folder = echobench_report::RunFolder {
+        summary: summary.clone(),
+        tallies: tallies.clone(),
+        timing: timing.cloned(),
+        suite_text: Some(suite_text.to_string()),
+    };
+    let html = echobench_report::render_html(&folder, None, &[]);
+    echobench_core::atomic::write_atomically(&out.join("report.html"), |w| {
+        w.write_all(html.as_bytes())
+    })?;
     print!("{}", summary::console_table(&summary, timing));
     println!(
-        "wrote {}/{{summary.json, roc.csv, events.csv, tallies.json, suite.yaml}}",
+        "wrote {}/{{summary.json, roc.csv, events.csv, tallies.json, suite.yaml, report.html}}",
         out.display()
     );
     Ok(())
@@ -250,9 +279,10 @@ fn run_suite(
     threads: Option<usize>,
     seed: Option<u64>,
     baseline: Option<&Path>,
+    allow_exec: bool,
 ) -> Result<ExitCode> {
     use echobench_harness::runner::{resolve_detectors, run_suite as run, Progress, Shard};
-    let mut suite = load_suite(path)?;
+    let mut suite = load_suite(path, allow_exec)?;
     if let Some(seed) = seed {
         suite.seed = seed;
     }
@@ -266,7 +296,7 @@ fn run_suite(
             .build_global()
             .context("setting the thread count")?;
     }
-    let plugins = echobench_detectors::builtin();
+    let plugins = echobench_detectors::with_external(allow_exec);
     let mut detectors = resolve_detectors(&suite, &plugins)?;
     if let Some(dir) = baseline {
         let base = read_tallies(dir)?;
@@ -363,6 +393,28 @@ fn run_gate(
     }
 }
 
+fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Result<ExitCode> {
+    use echobench_report::{gate_section, render_html, RunFolder};
+    let folder = RunFolder::load(run)?;
+    let base = baseline.map(RunFolder::load).transpose()?;
+    let mut extra = Vec::new();
+    if let Some(b) = &base {
+        let settings = echobench_harness::gate::GateSettings {
+            budget_per_hour: folder.summary.false_alarm_budget_per_hour,
+            ..Default::default()
+        };
+        match echobench_harness::gate::gate(&folder.tallies, &b.tallies, &settings) {
+            Ok(report) => extra.push(gate_section(&report)),
+            Err(e) => eprintln!("note: no gate verdict in the report: {e}"),
+        }
+    }
+    let html = render_html(&folder, base.as_ref(), &extra);
+    let out = out.unwrap_or_else(|| run.join("report.html"));
+    echobench_core::atomic::write_atomically(&out, |w| w.write_all(html.as_bytes()))?;
+    println!("wrote {}", out.display());
+    Ok(ExitCode::SUCCESS)
+}
+
 fn save_baseline(run: &Path, to: &Path) -> Result<ExitCode> {
     let tallies = read_tallies(run)?;
     if !tallies.shards.is_empty() {
@@ -406,7 +458,7 @@ fn save_baseline(run: &Path, to: &Path) -> Result<ExitCode> {
 }
 
 fn run_merge(runs: &[PathBuf], out: &Path, suite_path: Option<&Path>) -> Result<ExitCode> {
-    let suite = load_suite(suite_path)?;
+    let suite = load_suite(suite_path, false)?;
     let mut parts = Vec::new();
     for run in runs {
         let file = run.join("tallies.json");
@@ -488,7 +540,7 @@ fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
         adc_bits: 12,
         carrier_hz,
     };
-    for plugin in echobench_detectors::builtin() {
+    for plugin in echobench_detectors::with_external(false) {
         let defaults = Params::defaults(plugin.params());
         println!("{}: {}", plugin.id(), plugin.about());
         match plugin.cost(&defaults, &info) {
@@ -509,6 +561,7 @@ fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
                 ParamKind::Integer { min, max } => format!("{min} to {max}"),
                 ParamKind::Choice(names) => names.join(" | "),
                 ParamKind::Flag => "true | false".to_string(),
+                ParamKind::Text => "text".to_string(),
             };
             println!(
                 "  {:<22} default {:<10} range {:<22} {}{}",
@@ -527,6 +580,34 @@ fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
 fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
     let mut failed = 0;
     for file in files {
+        if is_suite_file(file) {
+            // `check` never runs a program, so `external` detectors are checked as if allowed.
+            let plugins = echobench_detectors::with_external(true);
+            match echobench_harness::suite_file::load_suite_file(file, &plugins) {
+                Ok((suite, warnings)) => {
+                    eprint!("{warnings}");
+                    let variants: usize = suite.scenes.iter().map(|s| s.variants.len()).sum();
+                    println!(
+                        "ok: {} (suite `{}`, {} scenes, {} variants, {} detectors)",
+                        file.display(),
+                        suite.name,
+                        suite.scenes.len(),
+                        variants,
+                        suite.detectors.len()
+                    );
+                }
+                Err(report) => {
+                    failed += 1;
+                    eprint!("{report}");
+                    println!(
+                        "failed: {} ({} errors)",
+                        file.display(),
+                        report.error_count()
+                    );
+                }
+            }
+            continue;
+        }
         match load_scene_file(file) {
             Ok((scene, warnings)) => {
                 eprint!("{warnings}");
@@ -553,6 +634,14 @@ fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
         ExitCode::SUCCESS
     } else {
         ExitCode::from(1)
+    })
+}
+
+/// A suite file has a top-level `scenes:` key; a scene file never does.
+fn is_suite_file(file: &Path) -> bool {
+    std::fs::read_to_string(file).is_ok_and(|text| {
+        text.lines()
+            .any(|line| line.starts_with("scenes:") || line.starts_with("detectors:"))
     })
 }
 

@@ -121,6 +121,8 @@ pub enum ParamKind {
     Choice(&'static [&'static str]),
     /// True or false.
     Flag,
+    /// Free text (a program path, its arguments).
+    Text,
 }
 
 /// A parameter value.
@@ -130,7 +132,7 @@ pub enum ParamValue {
     Real(f64),
     /// A whole number.
     Integer(i64),
-    /// A name (for [`ParamKind::Choice`]).
+    /// A name (for [`ParamKind::Choice`]) or free text (for [`ParamKind::Text`]).
     Text(String),
     /// A flag.
     Flag(bool),
@@ -194,6 +196,7 @@ impl ParamSpec {
             ParamKind::Integer { min, max } => format!("a whole number in [{min}, {max}]"),
             ParamKind::Choice(names) => format!("one of {}", names.join(", ")),
             ParamKind::Flag => "true or false".to_string(),
+            ParamKind::Text => "any text".to_string(),
         }
     }
 
@@ -221,6 +224,7 @@ impl ParamSpec {
                 Ok(value.clone())
             }
             (ParamKind::Flag, ParamValue::Flag(_)) => Ok(value.clone()),
+            (ParamKind::Text, ParamValue::Text(_)) => Ok(value.clone()),
             _ => Err(format!("expected {}", self.allowed())),
         }
     }

@@ -319,7 +319,7 @@ fn refine(sequence: &mut [f64], free: &[bool], lowest_hz: f64, fs: f64) -> f64 {
         .map(|f| (std::f64::consts::PI * f / fs).sin().powi(2))
         .collect();
     // A pole (even position) divides the PSD, a zero (odd position) multiplies it.
-    let sign = |i: usize| if i % 2 == 0 { -1.0 } else { 1.0 };
+    let sign = |i: usize| if i.is_multiple_of(2) { -1.0 } else { 1.0 };
     // ln f plus the log PSD of the fixed entries (the target is −ln f).
     let fixed: Vec<f64> = grid
         .iter()

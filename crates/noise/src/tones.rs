@@ -133,7 +133,7 @@ impl HarmonicSeries {
         for tone in &mut self.tones {
             for (offset, sample) in out.iter_mut().enumerate() {
                 let index = self.sample_index + offset as u64;
-                if index % RESYNC_SAMPLES == 0 {
+                if index.is_multiple_of(RESYNC_SAMPLES) {
                     tone.phasor = tone.exact_phasor(index);
                 }
                 *sample += tone.amplitude_v * tone.phasor.0;

@@ -101,7 +101,7 @@ pub fn short_time_spectrum(
     }
     let mut analyser = FrameAnalyser::new(channels, frame_len, sample_rate_hz)?;
     let values_per_instant = channels.count();
-    if samples.len() % values_per_instant != 0 {
+    if !samples.len().is_multiple_of(values_per_instant) {
         return Err(SpectrogramError::OddIqLength {
             values: samples.len(),
         });

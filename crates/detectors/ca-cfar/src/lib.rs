@@ -273,7 +273,7 @@ fn validate(config: &CaCfarConfig, info: &StreamInfo) -> Result<Layout, ParamErr
             format!("expected a whole number in [{MIN_FRAME_LEN}, {MAX_FRAME_LEN}]"),
         ));
     }
-    if info.channels == Channels::Real && frame_len % 2 != 0 {
+    if info.channels == Channels::Real && !frame_len.is_multiple_of(2) {
         return Err(ParamError::new(
             ID,
             "frame_len",

@@ -254,7 +254,7 @@ fn validate(c: &OsCfarConfig, info: &StreamInfo) -> Result<Layout, ParamError> {
         let range = format!("expected a whole number in [{MIN_FRAME_LEN}, {MAX_FRAME_LEN}]");
         return Err(refuse("frame_len", c.frame_len, range));
     }
-    if info.channels == Channels::Real && c.frame_len % 2 != 0 {
+    if info.channels == Channels::Real && !c.frame_len.is_multiple_of(2) {
         return Err(refuse(
             "frame_len",
             c.frame_len,

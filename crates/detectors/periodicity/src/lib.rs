@@ -719,7 +719,7 @@ impl BinLayout {
     /// real χ²₁ power) and without a real stream's Nyquist bin (also χ²₁).
     fn usable_bins_in(&self, (low_hz, high_hz): (f64, f64)) -> Vec<usize> {
         let real_nyquist = match self.channels {
-            Channels::Real if self.frame_len % 2 == 0 => Some(self.frame_len / 2),
+            Channels::Real if self.frame_len.is_multiple_of(2) => Some(self.frame_len / 2),
             _ => None,
         };
         (1..self.bin_count())
@@ -836,7 +836,7 @@ impl State {
         }
         self.frames_seen += 1;
         let w = self.analysis_frames as u64;
-        if self.frames_seen >= w && (self.frames_seen - w) % self.decision_frames as u64 == 0 {
+        if self.frames_seen >= w && (self.frames_seen - w).is_multiple_of(self.decision_frames as u64) {
             let t_s = (end_index / self.values_per_sample) as f64 / self.sample_rate_hz;
             let reading = self.analyse(t_s);
             out.push(Score {

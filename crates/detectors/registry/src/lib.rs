@@ -20,6 +20,28 @@ pub fn builtin() -> Vec<&'static dyn DetectorPlugin> {
     ]
 }
 
+/// The external-program plugin, refusing to run anything.
+static EXTERNAL_REFUSED: echobench_detector_external::ExternalPlugin =
+    echobench_detector_external::ExternalPlugin::new(false);
+
+/// The external-program plugin, allowed to run the programs a suite names.
+static EXTERNAL_ALLOWED: echobench_detector_external::ExternalPlugin =
+    echobench_detector_external::ExternalPlugin::new(true);
+
+/// The built-ins plus the `external` plugin, which runs a program named in the suite as a
+/// detector. Running programs is off unless `allow_exec` is set (the command line's
+/// `--allow-exec`): a suite file from an untrusted branch must not start programs on a CI
+/// machine by itself. Without it, a suite that names `external` is refused when loaded.
+pub fn with_external(allow_exec: bool) -> Vec<&'static dyn DetectorPlugin> {
+    let mut plugins = builtin();
+    plugins.push(if allow_exec {
+        &EXTERNAL_ALLOWED
+    } else {
+        &EXTERNAL_REFUSED
+    });
+    plugins
+}
+
 /// The plugin with this id.
 pub fn find(id: &str) -> Option<&'static dyn DetectorPlugin> {
     builtin().into_iter().find(|p| p.id() == id)

@@ -1,0 +1,303 @@
+//! The numbers behind the plots, taken from the tallies the way the harness's own files take
+//! them, so a curve in the report is the same curve as in `roc.csv`.
+
+use echobench_harness::runner::{DetectorTally, Tallies};
+use echobench_harness::summary::{Estimate, CONFIDENCE};
+
+/// Nanoseconds per hour: tallies keep exposure in integer nanoseconds.
+const NS_PER_HOUR: f64 = 3.6e12;
+
+/// One vertex of the event-level ROC: a grid threshold with Pd and false alarms per hour,
+/// all scenes pooled (as a row of `roc.csv`).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct GridRocPoint {
+    /// The grid threshold.
+    pub threshold: f64,
+    /// Detected events over all events; `None` without target events.
+    pub pd: Option<f64>,
+    /// False alarms per hour of noise-only time; `None` without noise-only time.
+    pub false_alarms_per_hour: Option<f64>,
+}
+
+/// The event-level ROC of a detector over its threshold grid, ascending in threshold (so
+/// descending in Pd and false-alarm rate), pooled over scene variants exactly as
+/// `echobench_harness::summary::write_roc_csv` pools them.
+pub fn grid_roc(detector: &DetectorTally) -> Vec<GridRocPoint> {
+    let events: u64 = detector.variants.iter().map(|v| v.events).sum();
+    let exposure_ns: u64 = detector.variants.iter().map(|v| v.exposure_ns).sum();
+    let hours = exposure_ns as f64 / NS_PER_HOUR;
+    detector
+        .thresholds
+        .iter()
+        .enumerate()
+        .map(|(g, &threshold)| {
+            let detected: u64 = detector
+                .variants
+                .iter()
+                .map(|v| v.detected.get(g).copied().unwrap_or(0))
+                .sum();
+            let false_alarms: u64 = detector
+                .variants
+                .iter()
+                .map(|v| v.false_alarms.get(g).copied().unwrap_or(0))
+                .sum();
+            GridRocPoint {
+                threshold,
+                pd: (events > 0).then(|| detected as f64 / events as f64),
+                false_alarms_per_hour: (hours > 0.0).then(|| false_alarms as f64 / hours),
+            }
+        })
+        .collect()
+}
+
+/// The maximum score of every test trial, split into target-scene trials (positives) and
+/// nuisance-scene trials (negatives): the inputs of the trial-level ROC.
+pub fn trial_max_scores(detector: &DetectorTally) -> (Vec<f64>, Vec<f64>) {
+    let mut positives = Vec::new();
+    let mut negatives = Vec::new();
+    for v in &detector.variants {
+        let list = if v.label == "target" {
+            &mut positives
+        } else {
+            &mut negatives
+        };
+        list.extend(v.max_scores.iter().map(|(_, s)| *s));
+    }
+    (positives, negatives)
+}
+
+/// A trial-level ROC with its area and the area's standard error.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TrialRoc {
+    /// Vertices `(pfa, pd, threshold)` from `echobench_stats::roc_points`.
+    pub points: Vec<echobench_stats::RocPoint>,
+    /// Mann–Whitney AUC.
+    pub auc: f64,
+    /// Hanley–McNeil standard error.
+    pub auc_se: Option<f64>,
+    /// Target trials.
+    pub positives: usize,
+    /// Nuisance trials.
+    pub negatives: usize,
+}
+
+/// The trial-level ROC of a detector; `None` when either class has no trial.
+pub fn trial_roc(detector: &DetectorTally) -> Option<TrialRoc> {
+    let (positives, negatives) = trial_max_scores(detector);
+    let points = echobench_stats::roc_points(&positives, &negatives);
+    if points.is_empty() {
+        return None;
+    }
+    // AUC = U/(n₁n₀) (Bamber 1975; Hanley & McNeil 1982), the same number summary.json holds.
+    let auc = echobench_stats::auc_mann_whitney(&positives, &negatives);
+    Some(TrialRoc {
+        auc_se: echobench_stats::auc_standard_error_hanley_mcneil(
+            auc,
+            positives.len(),
+            negatives.len(),
+        ),
+        points,
+        auc,
+        positives: positives.len(),
+        negatives: negatives.len(),
+    })
+}
+
+/// All latencies of detected events at operating point `op`, seconds, ascending.
+pub fn latencies_s(detector: &DetectorTally, op: usize) -> Vec<f64> {
+    let mut ms: Vec<i64> = detector
+        .variants
+        .iter()
+        .filter_map(|v| v.operating.get(op))
+        .flat_map(|t| t.latencies_ms.iter().copied())
+        .collect();
+    ms.sort_unstable();
+    ms.into_iter().map(|l| l as f64 / 1e3).collect()
+}
+
+/// A proportion with its Wilson interval (Wilson 1927), as the summary gives them.
+pub fn proportion(k: u64, n: u64) -> Estimate {
+    Estimate::proportion(k, n)
+}
+
+/// A rate per hour with its exact Garwood interval (Garwood 1936); `hours` from nanoseconds.
+pub fn rate_per_hour(k: u64, exposure_ns: u64) -> Estimate {
+    Estimate::rate(k, exposure_ns as f64 / NS_PER_HOUR)
+}
+
+/// One point of a detection-vs-sweep curve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SweepPoint {
+    /// The value as written in the suite.
+    pub value_text: String,
+    /// The value as a number, when it is one.
+    pub value: Option<f64>,
+    /// Pd with its Wilson interval (target scenes).
+    pub pd: Estimate,
+    /// False alarms per hour with the Garwood interval (nuisance scenes).
+    pub false_alarms_per_hour: Estimate,
+    /// Events and detected.
+    pub events: u64,
+    /// Detected events.
+    pub detected: u64,
+    /// False alarms.
+    pub false_alarms: u64,
+}
+
+/// A swept scene: its id, label and, per detector, one point per sweep value.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Sweep {
+    /// Scene id.
+    pub scene: String,
+    /// `target` or `nuisance`.
+    pub label: String,
+    /// Index of the scene among the suite's scenes (for the swept field's name).
+    pub scene_index: usize,
+    /// Per detector (in run order): the points.
+    pub by_detector: Vec<Vec<SweepPoint>>,
+}
+
+/// The distinct scene ids of a run, in suite order.
+pub fn scene_ids(tallies: &Tallies) -> Vec<String> {
+    let mut ids: Vec<String> = Vec::new();
+    if let Some(d) = tallies.detectors.first() {
+        for v in &d.variants {
+            if ids.last() != Some(&v.scene) {
+                ids.push(v.scene.clone());
+            }
+        }
+    }
+    ids
+}
+
+/// The swept scenes of a run at operating point `op`.
+pub fn sweeps(tallies: &Tallies, op: usize) -> Vec<Sweep> {
+    let ids = scene_ids(tallies);
+    let Some(first) = tallies.detectors.first() else {
+        return Vec::new();
+    };
+    let mut out = Vec::new();
+    for (scene_index, id) in ids.iter().enumerate() {
+        let swept = first
+            .variants
+            .iter()
+            .any(|v| &v.scene == id && v.sweep_value.is_some());
+        if !swept {
+            continue;
+        }
+        let label = first
+            .variants
+            .iter()
+            .find(|v| &v.scene == id)
+            .map_or_else(String::new, |v| v.label.clone());
+        let by_detector = tallies
+            .detectors
+            .iter()
+            .map(|d| {
+                d.variants
+                    .iter()
+                    .filter(|v| &v.scene == id)
+                    .map(|v| {
+                        let at = v.operating.get(op);
+                        let detected = at.map_or(0, |t| t.detected);
+                        let false_alarms = at.map_or(0, |t| t.false_alarms);
+                        SweepPoint {
+                            value_text: v.sweep_value.clone().unwrap_or_default(),
+                            value: v.sweep_number.filter(|x| x.is_finite()),
+                            pd: proportion(detected, v.events),
+                            false_alarms_per_hour: rate_per_hour(false_alarms, v.exposure_ns),
+                            events: v.events,
+                            detected,
+                            false_alarms,
+                        }
+                    })
+                    .collect()
+            })
+            .collect();
+        out.push(Sweep {
+            scene: id.clone(),
+            label,
+            scene_index,
+            by_detector,
+        });
+    }
+    out
+}
+
+/// The swept field of each scene entry of a suite text (`scenes[i].sweep.field`), by entry
+/// index; empty when the text does not parse.
+pub fn sweep_fields(suite_text: &str) -> Vec<Option<String>> {
+    let Ok(root) = echobench_yaml_reader::parse(
+        "suite.yaml",
+        suite_text,
+        &echobench_yaml_reader::Limits::default(),
+    ) else {
+        return Vec::new();
+    };
+    match root.get("scenes").map(|n| &n.value) {
+        Some(echobench_yaml_reader::Value::Seq(entries)) => entries
+            .iter()
+            .map(|entry| {
+                match entry
+                    .get("sweep")
+                    .and_then(|s| s.get("field"))
+                    .map(|f| &f.value)
+                {
+                    Some(echobench_yaml_reader::Value::Str(field)) => Some(field.clone()),
+                    _ => None,
+                }
+            })
+            .collect(),
+        _ => Vec::new(),
+    }
+}
+
+/// The unit a field name's suffix gives (`start_m[0]` → `m`), by the project's naming rule.
+pub fn unit_of_field(field: &str) -> Option<&'static str> {
+    let last = field.rsplit('.').next().unwrap_or(field);
+    let name = last.split('[').next().unwrap_or(last);
+    let units: [(&str, &str); 10] = [
+        ("_mps", "m/s"),
+        ("_hz", "Hz"),
+        ("_db", "dB"),
+        ("_deg", "°"),
+        ("_rpm", "rpm"),
+        ("_dbsm", "dBsm"),
+        ("_m2", "m²"),
+        ("_m", "m"),
+        ("_s", "s"),
+        ("_v", "V"),
+    ];
+    units
+        .iter()
+        .find(|(suffix, _)| name.ends_with(suffix))
+        .map(|(_, unit)| *unit)
+}
+
+/// Confidence level of the intervals, for captions.
+pub fn confidence_percent() -> String {
+    format!("{:.0} %", CONFIDENCE * 100.0)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sweep_fields_follow_the_scene_entries() {
+        let text = "name: x\nscenes:\n  - file: a.yaml\n    label: target\n    sweep:\n      field: actors[0].path.start_m[0]\n      values: [2, 4]\n  - file: b.yaml\n    label: nuisance\n";
+        assert_eq!(
+            sweep_fields(text),
+            vec![Some("actors[0].path.start_m[0]".to_string()), None]
+        );
+        assert!(sweep_fields("scenes: [unclosed").is_empty());
+    }
+
+    #[test]
+    fn units_come_from_the_name_suffix() {
+        assert_eq!(unit_of_field("actors[0].path.start_m[0]"), Some("m"));
+        assert_eq!(unit_of_field("actors[1].speed_mps"), Some("m/s"));
+        assert_eq!(unit_of_field("sensor.carrier_hz"), Some("Hz"));
+        assert_eq!(unit_of_field("actors[0].kind"), None);
+    }
+}

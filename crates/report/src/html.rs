@@ -1,0 +1,1683 @@
+//! The report page: its sections, tables, figures, style sheet and self-check.
+
+use crate::data::{self, GridRocPoint, Sweep};
+use crate::plot::{
+    escape, format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
+    MarkedPoint, Marker, ReferenceLine, Series, Style,
+};
+use crate::run_folder::RunFolder;
+use echobench_harness::summary::{DetectorSummary, Estimate, OperatingSummary};
+use std::fmt::Write as _;
+
+/// A section added by the caller (e.g. the gate's verdict): a title, escaped when rendered,
+/// and a body of HTML inserted as given, so it must come from trusted code.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Section {
+    /// Heading.
+    pub title: String,
+    /// Body, HTML.
+    pub html: String,
+}
+
+/// Series colours: hues that stay apart for the common colour-vision deficiencies because
+/// they also differ in lightness; each detector also gets its own marker shape, so the plots
+/// read in greyscale print too.
+const PALETTE: [&str; 8] = [
+    "#1b5e9e", "#e07b00", "#1a8f6e", "#a2388f", "#56a8e0", "#9c7c00", "#c23b22", "#4a4a4a",
+];
+const MARKERS: [Marker; 8] = [
+    Marker::Circle,
+    Marker::Square,
+    Marker::TriangleUp,
+    Marker::Diamond,
+    Marker::TriangleDown,
+    Marker::Cross,
+    Marker::Plus,
+    Marker::Hexagon,
+];
+
+fn style_for(index: usize, dashed: bool) -> Style {
+    Style {
+        colour: PALETTE[index % PALETTE.len()].to_string(),
+        dashed,
+        // Past eight detectors, shift the shapes so no two share colour and shape.
+        marker: MARKERS[(index + index / PALETTE.len()) % MARKERS.len()],
+    }
+}
+
+const FIXED_CAUTIONS: [&str; 3] = [
+    "Simulated results do not certify a product: they rank algorithms on models of rooms, people and nuisances, not on the installation a product will meet.",
+    "Motion sensing used for safety (machine guarding, automatic doors, anything that protects people) needs certified equipment and must meet the local standards.",
+    "Radio rules (frequency bands, transmit power, field strength) are local: check them where the product will be sold and used.",
+];
+
+const CSS: &str = r#"
+:root { color-scheme: light; }
+body { font-family: sans-serif; color: #1a1a1a; background: #ffffff; margin: 0; line-height: 1.45; font-size: 15px; }
+main, header, nav, aside.cautions { max-width: 1160px; margin: 0 auto; padding: 0 24px; }
+header { padding-top: 18px; }
+h1 { font-size: 26px; margin: 8px 0 12px; }
+h2 { font-size: 20px; margin: 34px 0 8px; padding-top: 8px; border-top: 2px solid #cfcfcf; }
+h3 { font-size: 16px; margin: 20px 0 6px; }
+code, pre { font-family: monospace; font-size: 13px; }
+pre { background: #f5f5f5; border: 1px solid #dddddd; padding: 10px; overflow-x: auto; white-space: pre-wrap; }
+dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: 3px 18px; margin: 0 0 12px; }
+dl.facts dt { font-weight: bold; }
+dl.facts dd { margin: 0; }
+aside.cautions > div { border: 2px solid #8a5a00; border-left-width: 10px; background: #fff6e0; padding: 8px 16px; margin: 12px 0; }
+aside.cautions h2 { border: none; margin: 6px 0; padding: 0; }
+aside.cautions li { margin: 3px 0; }
+nav.toc ol { columns: 3; margin: 6px 0 0; padding-left: 22px; }
+table { border-collapse: collapse; margin: 8px 0 14px; font-size: 14px; }
+th, td { border: 1px solid #cccccc; padding: 3px 8px; text-align: left; vertical-align: top; }
+th { background: #eeeeee; }
+td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+tr.meets td { background: #eef6ee; }
+tr.fails td { background: #ffffff; }
+figure { margin: 10px 0 18px; break-inside: avoid; page-break-inside: avoid; }
+figure svg { max-width: 100%; height: auto; display: block; }
+figcaption { font-size: 14px; color: #333333; max-width: 900px; margin-top: 4px; }
+.grid2 { display: grid; grid-template-columns: repeat(auto-fill, minmax(440px, 1fr)); gap: 8px 18px; }
+.nw { white-space: nowrap; }
+.swatch { display: inline-block; width: 12px; height: 12px; margin-right: 5px; vertical-align: -1px; border: 1px solid #555555; }
+.note { color: #444444; font-size: 14px; }
+.bad { color: #9a1c00; font-weight: bold; }
+.good { color: #1d5e1d; font-weight: bold; }
+@media print {
+  body { font-size: 11pt; }
+  nav.toc { display: none; }
+  h2 { break-after: avoid; page-break-after: avoid; }
+  tr.meets td { background: #ffffff; font-weight: bold; }
+}
+"#;
+
+/// Records script errors and console errors before anything else runs.
+const ERROR_CAPTURE: &str = r#"window.__reportErrors = [];
+window.addEventListener('error', function (e) { window.__reportErrors.push('error: ' + (e.message || 'a resource failed to load')); }, true);
+(function () { var original = console.error; console.error = function () { var parts = []; for (var i = 0; i < arguments.length; i++) { parts.push(String(arguments[i])); } window.__reportErrors.push('console.error: ' + parts.join(' ')); if (original) { original.apply(console, arguments); } }; })();"#;
+
+/// Checks that every plot drew something with an area or a length, and writes the result on
+/// `<body>`: `data-plots-total`, `-ok`, `-empty` (plots that say they have nothing to draw),
+/// `-bad` (figure ids), `data-errors` (JSON list) and `data-page-height` (px).
+const SELF_CHECK: &str = r#"(function () {
+  var body = document.body, errors = window.__reportErrors || [];
+  var plots = document.querySelectorAll('svg.plot'), ok = 0, empty = 0, bad = [];
+  try {
+    for (var i = 0; i < plots.length; i++) {
+      var svg = plots[i];
+      if (svg.classList.contains('empty')) { empty++; continue; }
+      var drawn = false, items = svg.querySelectorAll('.data');
+      for (var j = 0; j < items.length && !drawn; j++) {
+        var box = items[j].getBBox();
+        if (box.width > 0 || box.height > 0) { drawn = true; }
+      }
+      if (drawn) { ok++; } else { var f = svg.closest('figure'); bad.push(f && f.id ? f.id : 'svg-' + i); }
+    }
+  } catch (e) { errors.push('self-check: ' + e.message); }
+  body.setAttribute('data-plots-total', String(plots.length));
+  body.setAttribute('data-plots-ok', String(ok));
+  body.setAttribute('data-plots-empty', String(empty));
+  body.setAttribute('data-plots-bad', bad.join(' '));
+  body.setAttribute('data-errors', JSON.stringify(errors));
+  body.setAttribute('data-page-height', String(Math.ceil(document.documentElement.scrollHeight)));
+})();"#;
+
+fn fmt_estimate(e: &Estimate, significant: usize) -> String {
+    match (e.value, e.low, e.high) {
+        (Some(v), Some(l), Some(h)) => format!(
+            "{} [{}, {}]",
+            format_number(v, significant),
+            format_number(l, significant),
+            format_number(h, significant)
+        ),
+        _ => "—".into(),
+    }
+}
+
+/// The value when it is a finite number: what the text may show.
+fn finite(x: Option<f64>) -> Option<f64> {
+    x.filter(|v| v.is_finite())
+}
+
+fn fmt_pd(e: &Estimate) -> String {
+    match (finite(e.value), finite(e.low), finite(e.high)) {
+        (Some(v), Some(l), Some(h)) => format!("{v:.2} [{l:.2}, {h:.2}]"),
+        _ => "—".into(),
+    }
+}
+
+fn fmt_seconds(x: Option<f64>) -> String {
+    finite(x).map_or_else(|| "—".into(), |v| format!("{v:.2} s"))
+}
+
+/// A target rate as written, with "1 per N h" when it is one.
+fn fmt_target(rate: f64) -> String {
+    let base = format!("{}/h", format_number(rate, 3));
+    if rate > 0.0 && rate < 1.0 {
+        let per = 1.0 / rate;
+        let whole = per.round();
+        if whole >= 2.0 && (per - whole).abs() <= 1e-3 * whole {
+            return format!("{base} (1 per {whole:.0} h)");
+        }
+    }
+    base
+}
+
+/// A whole number with thin-space thousands groups (SI style: 11 472 000).
+fn fmt_count(n: u64) -> String {
+    let digits = n.to_string();
+    let mut out = String::new();
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
+            out.push('\u{2009}');
+        }
+        out.push(c);
+    }
+    out
+}
+
+fn fmt_bytes(bytes: u64) -> String {
+    if bytes < 1024 {
+        format!("{bytes} B")
+    } else {
+        format!(
+            "{} B ({} KiB)",
+            fmt_count(bytes),
+            format_number(bytes as f64 / 1024.0, 3)
+        )
+    }
+}
+
+/// A per-frame probability: plain decimals down to 10⁻⁴, exponent form below.
+fn fmt_probability(e: &Estimate) -> String {
+    fmt_estimate(e, 3)
+}
+
+/// A detector's name with its colour swatch, kept on one line.
+fn detector_cell(index: usize, label: &str) -> String {
+    format!(
+        "<span class=\"nw\">{}{}</span>",
+        swatch(index),
+        escape(label)
+    )
+}
+
+fn swatch(index: usize) -> String {
+    format!(
+        "<span class=\"swatch\" style=\"background:{}\"></span>",
+        PALETTE[index % PALETTE.len()]
+    )
+}
+
+/// A table of already-escaped cells; columns named in `numeric` are right-aligned.
+fn table(headers: &[&str], numeric: &[usize], rows: &[(String, Vec<String>)]) -> String {
+    let mut out = String::from("<table><thead><tr>");
+    for (i, h) in headers.iter().enumerate() {
+        let class = if numeric.contains(&i) {
+            " class=\"num\""
+        } else {
+            ""
+        };
+        let _ = write!(out, "<th{class}>{}</th>", escape(h));
+    }
+    out.push_str("</tr></thead><tbody>");
+    for (row_class, cells) in rows {
+        if row_class.is_empty() {
+            out.push_str("<tr>");
+        } else {
+            let _ = write!(out, "<tr class=\"{row_class}\">");
+        }
+        for (i, cell) in cells.iter().enumerate() {
+            let class = if numeric.contains(&i) {
+                " class=\"num\""
+            } else {
+                ""
+            };
+            let _ = write!(out, "<td{class}>{cell}</td>");
+        }
+        out.push_str("</tr>");
+    }
+    out.push_str("</tbody></table>");
+    out
+}
+
+struct Page {
+    sections: Vec<(String, String, String)>,
+    figures: usize,
+}
+
+impl Page {
+    fn figure(&mut self, svg: &str, caption: &str) -> String {
+        self.figures += 1;
+        format!(
+            "<figure id=\"figure-{}\">{svg}<figcaption>Figure {}. {caption}</figcaption></figure>",
+            self.figures, self.figures
+        )
+    }
+
+    fn add(&mut self, id: &str, title: &str, html: String) {
+        self.sections
+            .push((id.to_string(), title.to_string(), html));
+    }
+}
+
+/// Target rates of the run (every detector is scored at the same ones).
+fn targets(run: &RunFolder) -> Vec<f64> {
+    run.summary
+        .detectors
+        .first()
+        .map(|d| {
+            d.operating_points
+                .iter()
+                .map(|o| o.target_false_alarms_per_hour)
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+fn header(run: &RunFolder) -> String {
+    let s = &run.summary;
+    let t = &run.tallies;
+    let mut facts: Vec<(&str, String)> = Vec::new();
+    facts.push(("suite", format!("<code>{}</code>", escape(&s.suite))));
+    facts.push(("seed", s.seed.to_string()));
+    let (mut target_trials, mut nuisance_trials, mut events, mut exposure_ns) = (0, 0, 0, 0);
+    if let Some(d) = t.detectors.first() {
+        for v in &d.variants {
+            if v.label == "target" {
+                target_trials += v.trials;
+            } else {
+                nuisance_trials += v.trials;
+            }
+            events += v.events;
+            exposure_ns += v.exposure_ns;
+        }
+    }
+    facts.push((
+        "test trials",
+        format!(
+            "{} ({target_trials} in target scenes, {nuisance_trials} in nuisance scenes)",
+            s.test_trials
+        ),
+    ));
+    facts.push((
+        "test signal",
+        format!(
+            "{} h ({} min); {} h of it noise-only (outside every event window); {events} target events",
+            format_number(s.test_signal_hours, 3),
+            format_number(s.test_signal_hours * 60.0, 3),
+            format_number(exposure_ns as f64 / 3.6e12, 3)
+        ),
+    ));
+    let m_of_n = s.m_of_n.map_or_else(
+        || "one frame at or above the threshold".to_string(),
+        |(m, n)| format!("{m} of the last {n} frames at or above the threshold"),
+    );
+    facts.push((
+        "alarm logic",
+        escape(&format!(
+            "alarm when score ≥ threshold, {m_of_n}; hold {} s after each counted alarm (not retriggerable)",
+            format_number(s.hold_s, 3)
+        )),
+    ));
+    facts.push((
+        "event matching",
+        escape(&format!(
+            "an alarm from {} s before an event's start to {} s after its end detects it",
+            format_number(s.event_tolerance_s.0, 3),
+            format_number(s.event_tolerance_s.1, 3)
+        )),
+    ));
+    let rates: Vec<String> = targets(run).into_iter().map(fmt_target).collect();
+    facts.push((
+        "target false-alarm rates",
+        escape(&if rates.is_empty() {
+            "none".to_string()
+        } else {
+            rates.join(", ")
+        }),
+    ));
+    if let Some(first) = s.detectors.first().and_then(|d| d.operating_points.first()) {
+        facts.push((
+            "calibration",
+            format!(
+                "thresholds chosen on {} h of noise-only calibration time (own seeds), then scored on the test trials",
+                format_number(first.calibration_exposure_hours, 3)
+            ),
+        ));
+    }
+    if let Some(budget) = s.false_alarm_budget_per_hour {
+        facts.push((
+            "false-alarm budget",
+            format!("{}/h (for the gate)", format_number(budget, 3)),
+        ));
+    }
+    facts.push((
+        "intervals",
+        format!(
+            "{} two-sided: Wilson for proportions, exact Poisson (Garwood) for rates, Clopper–Pearson for per-frame Pfa, order statistics for medians",
+            data::confidence_percent()
+        ),
+    ));
+    if !t.shards.is_empty() {
+        let shards: Vec<String> = t
+            .shards
+            .iter()
+            .map(|sh| format!("{}/{}", sh.index, sh.count))
+            .collect();
+        facts.push((
+            "shards",
+            format!(
+                "<span class=\"bad\">partial run: shards {} only</span>",
+                shards.join(", ")
+            ),
+        ));
+    }
+    let mut out = format!(
+        "<header><h1>echobench report: suite <code>{}</code></h1><dl class=\"facts\">",
+        escape(&s.suite)
+    );
+    for (k, v) in facts {
+        let _ = write!(out, "<dt>{}</dt><dd>{v}</dd>", escape(k));
+    }
+    out.push_str("</dl></header>");
+    out
+}
+
+/// Cautions particular to this run, in words.
+fn run_cautions(run: &RunFolder, baseline: Option<&RunFolder>) -> Vec<String> {
+    let mut out = Vec::new();
+    let s = &run.summary;
+    if !run.tallies.shards.is_empty() {
+        out.push("This folder holds only some shards of the run: its rates cover only those trials. Merge every shard before deciding.".to_string());
+    }
+    let failed: Vec<&str> = s
+        .detectors
+        .iter()
+        .filter(|d| !d.failures.is_empty())
+        .map(|d| d.label.as_str())
+        .collect();
+    if !failed.is_empty() {
+        out.push(format!(
+            "Detectors that failed on some trials (left out of their tallies, so their numbers are biased): {}.",
+            failed.join(", ")
+        ));
+    }
+    let short = s
+        .detectors
+        .iter()
+        .flat_map(|d| &d.operating_points)
+        .any(|o| o.target_false_alarms_per_hour * o.calibration_exposure_hours < 1.0);
+    if short {
+        out.push("The calibration time is shorter than one alarm at some target rate: there the threshold is the lowest with no calibration alarm, so several targets can share one threshold. Add calibration trials to separate them.".to_string());
+    }
+    let events: u64 = run
+        .tallies
+        .detectors
+        .first()
+        .map_or(0, |d| d.variants.iter().map(|v| v.events).sum());
+    if events == 0 {
+        out.push(
+            "The run has no target events: no detection probability can be given.".to_string(),
+        );
+    } else if events < 30 {
+        out.push(format!(
+            "Only {events} target events: detection probabilities carry wide intervals."
+        ));
+    }
+    if let Some(b) = baseline {
+        if b.summary.suite != s.suite || b.summary.seed != s.seed {
+            out.push(format!(
+                "The baseline is suite `{}` seed {}, this run suite `{}` seed {}: the trials differ, so differences mix chance with change.",
+                b.summary.suite, b.summary.seed, s.suite, s.seed
+            ));
+        }
+    }
+    out
+}
+
+fn cautions(run: &RunFolder, baseline: Option<&RunFolder>) -> String {
+    let mut out = String::from("<aside class=\"cautions\" id=\"cautions\"><div><h2>Cautions</h2>");
+    let _ = write!(
+        out,
+        "<p><strong>{}</strong></p><ul>",
+        escape(&run.summary.cautions)
+    );
+    for c in FIXED_CAUTIONS {
+        let _ = write!(out, "<li>{}</li>", escape(c));
+    }
+    for c in run_cautions(run, baseline) {
+        let _ = write!(out, "<li class=\"bad\">{}</li>", escape(&c));
+    }
+    out.push_str("</ul></div></aside>");
+    out
+}
+
+/// Why a detector cannot be ranked at a target, or `None` when it meets it.
+fn ranking_verdict(d: &DetectorSummary, op: &OperatingSummary) -> Option<String> {
+    if !d.failures.is_empty() {
+        return Some(format!(
+            "failed on {} trials (left out of its tallies)",
+            d.failures.len()
+        ));
+    }
+    let rate = &op.outcome.false_alarms_per_hour;
+    match rate.value {
+        None => Some("no noise-only time to measure false alarms on".into()),
+        Some(v) if v > op.target_false_alarms_per_hour => Some(format!(
+            "measured {}/h [{}, {}] is above the target {}",
+            format_number(v, 3),
+            rate.low.map_or("—".into(), |x| format_number(x, 3)),
+            rate.high.map_or("—".into(), |x| format_number(x, 3)),
+            fmt_target(op.target_false_alarms_per_hour)
+        )),
+        Some(_) => None,
+    }
+}
+
+/// Orders the detectors that meet a target: higher Pd first, then shorter median latency,
+/// then label (so ties are broken the same way every time).
+fn rank_order(
+    a: &(usize, &DetectorSummary, &OperatingSummary),
+    b: &(usize, &DetectorSummary, &OperatingSummary),
+) -> std::cmp::Ordering {
+    let pd = |x: &OperatingSummary| x.outcome.pd.value.unwrap_or(-1.0);
+    let latency = |x: &OperatingSummary| x.latency_median_s.unwrap_or(f64::INFINITY);
+    pd(b.2)
+        .total_cmp(&pd(a.2))
+        .then(latency(a.2).total_cmp(&latency(b.2)))
+        .then(a.1.label.cmp(&b.1.label))
+}
+
+fn ranking(run: &RunFolder) -> String {
+    let s = &run.summary;
+    let mut out = String::from(
+        "<p>The rule: a detector <strong>meets</strong> a target false-alarm rate when its <em>measured</em> false-alarm rate on the test trials, at the threshold calibrated for that target, is at or below the target (point estimate). Those that meet it are ranked by detection probability Pd (higher first), then by median latency (shorter first). A detector that meets the rate but detects no target event at that threshold is listed apart, and one that failed on any trial is not ranked. The one-sided 95 % upper bound says whether the test time was long enough to <em>show</em> the rate; where it is not, the last column gives the noise-only time that would, with no false alarm in it.</p>",
+    );
+    let targets = targets(run);
+    if targets.is_empty() {
+        out.push_str(
+            "<p>The suite sets no target false-alarm rate, so there is nothing to rank.</p>",
+        );
+        return out;
+    }
+    for (o, target) in targets.iter().enumerate() {
+        let _ = write!(out, "<h3>Target {}</h3>", escape(&fmt_target(*target)));
+        let mut meets: Vec<(usize, &DetectorSummary, &OperatingSummary)> = Vec::new();
+        let mut fails: Vec<(usize, &DetectorSummary, &OperatingSummary, String)> = Vec::new();
+        for (i, d) in s.detectors.iter().enumerate() {
+            let Some(op) = d.operating_points.get(o) else {
+                continue;
+            };
+            match ranking_verdict(d, op) {
+                None => meets.push((i, d, op)),
+                Some(why) => fails.push((i, d, op, why)),
+            }
+        }
+        meets.sort_by(rank_order);
+        let (meets, silent): (Vec<_>, Vec<_>) = meets
+            .into_iter()
+            .partition(|(_, _, op)| op.outcome.pd.value.is_some_and(|pd| pd > 0.0));
+        let mut rows = Vec::new();
+        for (rank, (i, d, op)) in meets.iter().enumerate() {
+            let upper = op.outcome.false_alarms_per_hour_upper;
+            let shown = match upper {
+                Some(u) if u <= *target => "<span class=\"good\">shown</span>".to_string(),
+                Some(u) => {
+                    let needed = echobench_stats::exposure_for_rate_claim(*target, 0, 0.95)
+                        .map_or_else(
+                            |_| "—".into(),
+                            |h| format!("{} h with no false alarm", format_number(h, 3)),
+                        );
+                    format!(
+                        "not shown (bound {}/h); needs {}",
+                        format_number(u, 3),
+                        escape(&needed)
+                    )
+                }
+                None => "—".into(),
+            };
+            let cost = d.declared_cost.map_or_else(
+                || "—".to_string(),
+                |c| {
+                    format!(
+                        "{}, {} ops/sample",
+                        fmt_bytes(c.state_bytes),
+                        format_number(c.ops_per_sample, 3)
+                    )
+                },
+            );
+            rows.push((
+                "meets".to_string(),
+                vec![
+                    (rank + 1).to_string(),
+                    detector_cell(*i, &d.label),
+                    fmt_pd(&op.outcome.pd),
+                    fmt_seconds(op.latency_median_s),
+                    escape(&fmt_estimate(&op.outcome.false_alarms_per_hour, 3)),
+                    format!(
+                        "{} in {} h",
+                        op.outcome.false_alarms,
+                        format_number(op.outcome.exposure_hours, 3)
+                    ),
+                    escape(&cost),
+                    shown,
+                ],
+            ));
+        }
+        if rows.is_empty() {
+            out.push_str("<p class=\"bad\">No detector meets this target.</p>");
+        } else {
+            out.push_str(&table(
+                &[
+                    "rank",
+                    "detector",
+                    "Pd [95 %]",
+                    "median latency",
+                    "FA/h [95 %]",
+                    "false alarms",
+                    "declared cost",
+                    "rate shown at 95 %?",
+                ],
+                &[0, 2, 3, 4, 5],
+                &rows,
+            ));
+        }
+        if !silent.is_empty() {
+            out.push_str("<p>Meet the rate but detect nothing at that threshold:</p><ul>");
+            for (i, d, op) in &silent {
+                let why = if op.outcome.events == 0 {
+                    "the run has no target events".to_string()
+                } else {
+                    format!(
+                        "0 of {} events detected, FA/h {}",
+                        op.outcome.events,
+                        fmt_estimate(&op.outcome.false_alarms_per_hour, 3)
+                    )
+                };
+                let _ = write!(
+                    out,
+                    "<li>{}<strong>{}</strong>: {}</li>",
+                    swatch(*i),
+                    escape(&d.label),
+                    escape(&why)
+                );
+            }
+            out.push_str("</ul>");
+        }
+        if !fails.is_empty() {
+            out.push_str("<p>Do not meet it:</p><ul>");
+            for (i, d, _, why) in &fails {
+                let _ = write!(
+                    out,
+                    "<li>{}<strong>{}</strong>: {}</li>",
+                    swatch(*i),
+                    escape(&d.label),
+                    escape(why)
+                );
+            }
+            out.push_str("</ul>");
+        }
+    }
+    out
+}
+
+/// The x range of false-alarm-rate plots: every positive value drawn, and the targets.
+fn rate_axis(label: &str, values: impl Iterator<Item = f64>) -> Axis {
+    let (mut low, mut high) = (f64::INFINITY, 0.0f64);
+    for v in values.filter(|v| v.is_finite() && *v > 0.0) {
+        low = low.min(v);
+        high = high.max(v);
+    }
+    Axis::log(label, low, high, true)
+}
+
+fn grid_series(points: &[GridRocPoint], style: Style, name: String) -> Series {
+    Series {
+        name,
+        style,
+        line: points
+            .iter()
+            .filter_map(|p| Some((p.false_alarms_per_hour?, p.pd?)))
+            .collect(),
+        markers: Vec::new(),
+    }
+}
+
+fn operating_marker(d: &DetectorSummary, op: &OperatingSummary) -> Option<MarkedPoint> {
+    let o = &op.outcome;
+    let x = o.false_alarms_per_hour.value?;
+    let y = o.pd.value?;
+    Some(MarkedPoint {
+        x,
+        y,
+        x_interval: o
+            .false_alarms_per_hour
+            .low
+            .zip(o.false_alarms_per_hour.high),
+        y_interval: o.pd.low.zip(o.pd.high),
+        note: format!(
+            "{} at target {}: Pd {}, FA/h {}",
+            d.label,
+            fmt_target(op.target_false_alarms_per_hour),
+            fmt_pd(&o.pd),
+            fmt_estimate(&o.false_alarms_per_hour, 3)
+        ),
+    })
+}
+
+const ZERO_NOTE: &str = "A log axis cannot show zero: points with no false alarm are drawn at the left edge marked 0, beyond the axis break.";
+
+fn event_roc(page: &mut Page, run: &RunFolder) -> String {
+    let curves: Vec<Vec<GridRocPoint>> = run.tallies.detectors.iter().map(data::grid_roc).collect();
+    let targets = targets(run);
+    let axis = rate_axis(
+        "false alarms per hour (test trials, log scale)",
+        curves
+            .iter()
+            .flatten()
+            .filter_map(|p| p.false_alarms_per_hour)
+            .chain(targets.iter().copied())
+            .chain(run.summary.detectors.iter().flat_map(|d| {
+                d.operating_points.iter().flat_map(|o| {
+                    let r = &o.outcome.false_alarms_per_hour;
+                    [r.value, r.low, r.high].into_iter().flatten()
+                })
+            })),
+    );
+    let mut chart = Chart::new(
+        "Event-level ROC: detection probability against false alarms per hour",
+        axis,
+        Axis::linear("Pd, detected target events", 0.0, 1.0),
+    );
+    chart.empty_message =
+        "no curve to draw: the run has no target events or no noise-only time".into();
+    for (i, (d, points)) in run.summary.detectors.iter().zip(&curves).enumerate() {
+        let mut series = grid_series(points, style_for(i, false), d.label.clone());
+        series.markers = d
+            .operating_points
+            .iter()
+            .filter_map(|op| operating_marker(d, op))
+            .collect();
+        chart.series.push(series);
+    }
+    chart.vertical_lines = targets
+        .iter()
+        .map(|&t| ReferenceLine {
+            value: t,
+            label: format!("target {}", fmt_target(t)),
+        })
+        .collect();
+    let caption = format!(
+        "Each curve sweeps one detector's threshold grid; every scene is pooled, as in <code>roc.csv</code>: Pd is detected target events over all target events, the rate is false alarms over all noise-only test time. Markers are the operating points (the thresholds calibrated for each target), with {} intervals on both axes. Dashed vertical lines are the target rates. {}",
+        data::confidence_percent(),
+        escape(ZERO_NOTE)
+    );
+    let figure = page.figure(&render_chart(&chart), &caption);
+    format!("<p>Detection against false alarms, at every threshold the run tried. Up and to the left is better.</p>{figure}")
+}
+
+fn trial_roc(page: &mut Page, run: &RunFolder) -> String {
+    let mut chart = Chart::new(
+        "Trial-level ROC of the maximum score per trial",
+        Axis::linear(
+            "Pfa: share of nuisance-scene trials whose maximum score reaches the threshold",
+            0.0,
+            1.0,
+        ),
+        Axis::linear("Pd: share of target-scene trials", 0.0, 1.0),
+    );
+    chart.diagonal = true;
+    chart.empty_message =
+        "no curve: the run needs both target-scene and nuisance-scene trials".into();
+    let mut missing = Vec::new();
+    let mut rows = Vec::new();
+    for (i, (d, tally)) in run
+        .summary
+        .detectors
+        .iter()
+        .zip(&run.tallies.detectors)
+        .enumerate()
+    {
+        let Some(roc) = data::trial_roc(tally) else {
+            missing.push(d.label.clone());
+            continue;
+        };
+        let se = roc
+            .auc_se
+            .map_or_else(String::new, |se| format!(" ± {se:.3}"));
+        let name = format!("{} AUC {:.3}{se}", d.label, roc.auc);
+        // Markers where the curve crosses a few fixed Pfa values, so each curve can be told
+        // apart without colour.
+        let markers = [0.05, 0.25, 0.5, 0.75]
+            .iter()
+            .filter_map(|&pfa| echobench_stats::pd_at_pfa_conservative(&roc.points, pfa))
+            .map(|(x, y, _)| MarkedPoint::at(x, y))
+            .collect();
+        chart.series.push(Series {
+            name,
+            style: style_for(i, false),
+            line: roc.points.iter().map(|p| (p.0, p.1)).collect(),
+            markers,
+        });
+        rows.push((
+            String::new(),
+            vec![
+                detector_cell(i, &d.label),
+                format!("{:.3}", roc.auc),
+                roc.auc_se.map_or("—".into(), |s| format!("{s:.3}")),
+                roc.positives.to_string(),
+                roc.negatives.to_string(),
+            ],
+        ));
+    }
+    let caption = "One point per trial: a target-scene trial counts as detected, a nuisance-scene trial as a false alarm, when its maximum score reaches the threshold. AUC is the Mann–Whitney area (the chance that a target trial outscores a nuisance trial), ± its Hanley–McNeil standard error. The dotted diagonal is chance. This view ignores timing; the event-level ROC above is the one that counts alarms.";
+    let mut out = page.figure(&render_chart(&chart), &escape(caption));
+    out.push_str(&table(
+        &["detector", "AUC", "SE", "target trials", "nuisance trials"],
+        &[1, 2, 3, 4],
+        &rows,
+    ));
+    if !missing.is_empty() {
+        let _ = write!(
+            out,
+            "<p class=\"note\">No trial-level ROC for: {} (a class of trials is missing).</p>",
+            escape(&missing.join(", "))
+        );
+    }
+    out
+}
+
+fn sweep_axis_label(run: &RunFolder, sweep: &Sweep) -> String {
+    let fields = run
+        .suite_text
+        .as_deref()
+        .map(data::sweep_fields)
+        .unwrap_or_default();
+    let ids = data::scene_ids(&run.tallies);
+    // Scene entries and scene ids are in the same (suite) order.
+    let field = (fields.len() == ids.len())
+        .then(|| fields.get(sweep.scene_index).cloned().flatten())
+        .flatten();
+    match field {
+        Some(f) => match data::unit_of_field(&f) {
+            Some(unit) => format!("{} ({unit})", f),
+            None => f,
+        },
+        None => "swept value".to_string(),
+    }
+}
+
+fn sweep_figure(page: &mut Page, run: &RunFolder, sweep: &Sweep, op_label: &str) -> String {
+    let first = sweep.by_detector.first().cloned().unwrap_or_default();
+    let numeric = !first.is_empty() && first.iter().all(|p| p.value.is_some());
+    let xs: Vec<f64> = if numeric {
+        first.iter().filter_map(|p| p.value).collect()
+    } else {
+        (0..first.len()).map(|i| i as f64).collect()
+    };
+    let (low, high) = xs
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &x| {
+            (l.min(x), h.max(x))
+        });
+    let span = if high > low { high - low } else { 1.0 };
+    let pad = span * 0.06 + if numeric { 0.0 } else { 0.5 };
+    let mut x_axis = Axis::linear(&sweep_axis_label(run, sweep), low - pad, high + pad);
+    if !numeric {
+        x_axis.custom_ticks = Some(
+            first
+                .iter()
+                .enumerate()
+                .map(|(i, p)| crate::plot::Tick {
+                    value: i as f64,
+                    label: p.value_text.clone(),
+                })
+                .collect(),
+        );
+    }
+    let target_scene = sweep.label == "target";
+    let y_axis = if target_scene {
+        Axis::linear("Pd, detected target events", 0.0, 1.0)
+    } else {
+        rate_axis(
+            "false alarms per hour (log scale)",
+            sweep.by_detector.iter().flatten().flat_map(|p| {
+                let r = &p.false_alarms_per_hour;
+                [r.value, r.low, r.high].into_iter().flatten()
+            }),
+        )
+    };
+    let mut chart = Chart::new(
+        &format!(
+            "{} against the swept value, scene {}",
+            if target_scene {
+                "Pd"
+            } else {
+                "False alarms per hour"
+            },
+            sweep.scene
+        ),
+        x_axis,
+        y_axis,
+    );
+    chart.empty_message = "no value to draw for this scene".into();
+    let count = sweep.by_detector.len().max(1) as f64;
+    for (i, (d, points)) in run
+        .summary
+        .detectors
+        .iter()
+        .zip(&sweep.by_detector)
+        .enumerate()
+    {
+        // Spread the detectors slightly around each value so their error bars do not overlap.
+        let dodge = (i as f64 - (count - 1.0) / 2.0) * span * 0.012;
+        let mut series = Series {
+            name: d.label.clone(),
+            style: style_for(i, false),
+            line: Vec::new(),
+            markers: Vec::new(),
+        };
+        for (k, p) in points.iter().enumerate() {
+            let Some(&x) = xs.get(k) else { continue };
+            let x = x + dodge;
+            let estimate = if target_scene {
+                &p.pd
+            } else {
+                &p.false_alarms_per_hour
+            };
+            match estimate.value {
+                Some(y) => {
+                    series.line.push((x, y));
+                    series.markers.push(MarkedPoint {
+                        x,
+                        y,
+                        x_interval: None,
+                        y_interval: estimate.low.zip(estimate.high),
+                        note: if target_scene {
+                            format!(
+                                "{} at {}: {} of {} events, Pd {}",
+                                d.label,
+                                p.value_text,
+                                p.detected,
+                                p.events,
+                                fmt_pd(&p.pd)
+                            )
+                        } else {
+                            format!(
+                                "{} at {}: {} false alarms, {}/h",
+                                d.label,
+                                p.value_text,
+                                p.false_alarms,
+                                fmt_estimate(&p.false_alarms_per_hour, 3)
+                            )
+                        },
+                    });
+                }
+                None => series.line.push((f64::NAN, f64::NAN)),
+            }
+        }
+        chart.series.push(series);
+    }
+    let caption = if target_scene {
+        format!(
+            "Scene <code>{}</code>, at the operating point for {}: Pd per sweep value with its {} Wilson interval. Points are spread slightly sideways so the intervals stay apart.",
+            escape(&sweep.scene),
+            escape(op_label),
+            data::confidence_percent()
+        )
+    } else {
+        format!(
+            "Nuisance scene <code>{}</code>, at the operating point for {}: false alarms per hour per sweep value with the {} exact Poisson interval. {}",
+            escape(&sweep.scene),
+            escape(op_label),
+            data::confidence_percent(),
+            escape(ZERO_NOTE.replace("left edge", "bottom edge").as_str())
+        )
+    };
+    page.figure(&render_chart(&chart), &caption)
+}
+
+fn sweeps(page: &mut Page, run: &RunFolder) -> Option<String> {
+    let sweeps = data::sweeps(&run.tallies, 0);
+    if sweeps.is_empty() {
+        return None;
+    }
+    let op_label = targets(run).first().map_or_else(
+        || "the first target".to_string(),
+        |t| format!("the first target, {}", fmt_target(*t)),
+    );
+    let mut out = String::new();
+    for sweep in &sweeps {
+        out.push_str(&sweep_figure(page, run, sweep, &op_label));
+    }
+    Some(out)
+}
+
+fn latency(page: &mut Page, run: &RunFolder) -> String {
+    let mut chart_series = Vec::new();
+    let mut rows = Vec::new();
+    let mut undetected = Vec::new();
+    let (mut low, mut high) = (0.0f64, 0.0f64);
+    for (i, (d, tally)) in run
+        .summary
+        .detectors
+        .iter()
+        .zip(&run.tallies.detectors)
+        .enumerate()
+    {
+        let Some(op) = d.operating_points.first() else {
+            continue;
+        };
+        let latencies = data::latencies_s(tally, 0);
+        rows.push((
+            String::new(),
+            vec![
+                detector_cell(i, &d.label),
+                format!("{} of {}", op.outcome.detected, op.outcome.events),
+                fmt_seconds(op.latency_median_s),
+                op.latency_median_interval_s
+                    .filter(|(l, h)| l.is_finite() && h.is_finite())
+                    .map_or("—".into(), |(l, h)| format!("[{l:.2}, {h:.2}] s")),
+                fmt_seconds(op.latency_p90_s),
+                fmt_seconds(latencies.last().copied()),
+            ],
+        ));
+        if latencies.is_empty() {
+            undetected.push(d.label.clone());
+            continue;
+        }
+        let n = latencies.len() as f64;
+        let mut line = Vec::with_capacity(2 * latencies.len());
+        for (k, &l) in latencies.iter().enumerate() {
+            line.push((l, k as f64 / n));
+            line.push((l, (k + 1) as f64 / n));
+            low = low.min(l);
+            high = high.max(l);
+        }
+        let markers = op
+            .latency_median_s
+            .map(|m| MarkedPoint {
+                x: m,
+                y: 0.5,
+                x_interval: op.latency_median_interval_s,
+                y_interval: None,
+                note: format!("{} median latency {}", d.label, fmt_seconds(Some(m))),
+            })
+            .into_iter()
+            .collect();
+        chart_series.push(Series {
+            name: format!("{} median {}", d.label, fmt_seconds(op.latency_median_s)),
+            style: style_for(i, false),
+            line,
+            markers,
+        });
+    }
+    let high = high.max(low + 0.5);
+    let pad = (high - low) * 0.03;
+    let mut chart = Chart::new(
+        "Latency distribution at the first operating point",
+        Axis::linear("latency from the event's start, s", low - pad, high + pad),
+        Axis::linear("share of detected events", 0.0, 1.0),
+    );
+    chart.series = chart_series;
+    chart.horizontal_lines.push(ReferenceLine {
+        value: 0.5,
+        label: "median".into(),
+    });
+    chart.empty_message = "no event was detected at the first operating point".into();
+    let op_label = targets(run)
+        .first()
+        .map_or_else(String::new, |t| format!(" for {}", fmt_target(*t)));
+    let caption = format!(
+        "Empirical distribution of the latency of detected events (first counted alarm minus the event's start; negative when the alarm came within the early tolerance), at the operating point{}. Markers are the medians with their {} distribution-free interval.{}",
+        escape(&op_label),
+        data::confidence_percent(),
+        if undetected.is_empty() {
+            String::new()
+        } else {
+            format!(" No event detected, so no curve: {}.", escape(&undetected.join(", ")))
+        }
+    );
+    let mut out = page.figure(&render_chart(&chart), &caption);
+    out.push_str(&table(
+        &[
+            "detector",
+            "detected",
+            "median",
+            "median 95 %",
+            "90th percentile",
+            "longest",
+        ],
+        &[1, 2, 3, 4, 5],
+        &rows,
+    ));
+    out
+}
+
+fn source_name(source: &str) -> String {
+    if source == "none" {
+        "(no nuisance active)".to_string()
+    } else {
+        source.to_string()
+    }
+}
+
+fn false_alarms_by_nuisance(page: &mut Page, run: &RunFolder) -> String {
+    let mut groups = Vec::new();
+    for (i, d) in run.summary.detectors.iter().enumerate() {
+        let Some(op) = d.operating_points.first() else {
+            continue;
+        };
+        let hours = op.outcome.exposure_hours;
+        let bars = op
+            .false_alarms_by_source
+            .iter()
+            .filter(|(_, &n)| n > 0)
+            .filter_map(|(source, &n)| {
+                let rate = Estimate::rate(n, hours);
+                let value = rate.value?;
+                Some(Bar {
+                    label: source_name(source),
+                    value,
+                    interval: rate.low.zip(rate.high),
+                    colour: PALETTE[i % PALETTE.len()].to_string(),
+                    text: format!("{}/h ({n})", format_number(value, 3)),
+                })
+            })
+            .collect();
+        groups.push(BarGroup {
+            label: d.label.clone(),
+            bars,
+            empty_text: if op.outcome.false_alarms == 0 {
+                "no false alarm".into()
+            } else {
+                "false alarms not attributed".into()
+            },
+        });
+    }
+    let chart = BarChart {
+        title: "False alarms per hour by the nuisance active at the time".into(),
+        axis_label: "false alarms per hour of noise-only test time".into(),
+        groups,
+        empty_message: "no detector raised a false alarm at the first operating point".into(),
+        width: 900.0,
+    };
+    let op_label = targets(run)
+        .first()
+        .map_or_else(String::new, |t| format!(" for {}", fmt_target(*t)));
+    let caption = format!(
+        "At the operating point{}: each false alarm is counted against every nuisance source active at its time (so a scene with two swaying objects counts it twice), per hour of all noise-only test time, with the {} exact Poisson interval; the count is in brackets.",
+        escape(&op_label),
+        data::confidence_percent()
+    );
+    let mut out = page.figure(&render_bar_chart(&chart), &caption);
+
+    // Per nuisance scene: where the false alarms happen.
+    let mut headers: Vec<String> = vec!["nuisance scene".into()];
+    headers.extend(run.summary.detectors.iter().map(|d| d.label.clone()));
+    let mut rows = Vec::new();
+    if let Some(first) = run
+        .summary
+        .detectors
+        .first()
+        .and_then(|d| d.operating_points.first())
+    {
+        for (k, scene) in first.by_scene.iter().enumerate() {
+            if scene.label != "nuisance" {
+                continue;
+            }
+            let name = match &scene.sweep_value {
+                Some(v) => format!("{} = {}", scene.scene, v),
+                None => scene.scene.clone(),
+            };
+            let mut cells = vec![escape(&name)];
+            for d in &run.summary.detectors {
+                let cell = d
+                    .operating_points
+                    .first()
+                    .and_then(|o| o.by_scene.get(k))
+                    .map_or_else(
+                        || "—".to_string(),
+                        |s| match s.outcome.false_alarms_per_hour.value {
+                            Some(v) if s.outcome.false_alarms > 0 => format!(
+                                "<strong>{}/h</strong> ({})",
+                                format_number(v, 3),
+                                s.outcome.false_alarms
+                            ),
+                            Some(_) => "0".to_string(),
+                            None => "—".to_string(),
+                        },
+                    );
+                cells.push(cell);
+            }
+            rows.push((String::new(), cells));
+        }
+    }
+    if !rows.is_empty() {
+        out.push_str("<p>False alarms per hour of each nuisance scene's own time, at the same operating point (count in brackets):</p>");
+        let header_refs: Vec<&str> = headers.iter().map(String::as_str).collect();
+        let numeric: Vec<usize> = (1..headers.len()).collect();
+        out.push_str(&table(&header_refs, &numeric, &rows));
+    }
+    out
+}
+
+fn cost(run: &RunFolder) -> String {
+    let mut rows = Vec::new();
+    for (i, d) in run.summary.detectors.iter().enumerate() {
+        let measured = run.timing.as_ref().and_then(|t| {
+            let seconds = *t.detector_s.get(&d.label)?;
+            (t.samples > 0 && seconds > 0.0).then_some((seconds, t.samples))
+        });
+        let (ns, rate) = match measured {
+            Some((seconds, samples)) => (
+                format!("{} ns", format_number(seconds / samples as f64 * 1e9, 3)),
+                format_number(samples as f64 / seconds / 1e6, 3),
+            ),
+            None => ("not measured".to_string(), "not measured".to_string()),
+        };
+        let (memory, ops) = d.declared_cost.map_or_else(
+            || ("not declared".to_string(), "not declared".to_string()),
+            |c| (fmt_bytes(c.state_bytes), format_number(c.ops_per_sample, 3)),
+        );
+        rows.push((
+            String::new(),
+            vec![
+                detector_cell(i, &d.label),
+                escape(&d.plugin),
+                ns,
+                rate,
+                escape(&memory),
+                escape(&ops),
+            ],
+        ));
+    }
+    let mut out = table(
+        &[
+            "detector",
+            "plugin",
+            "time per sample",
+            "M samples/s",
+            "declared state memory",
+            "declared operations per sample",
+        ],
+        &[2, 3, 4, 5],
+        &rows,
+    );
+    match &run.timing {
+        Some(t) => {
+            let _ = write!(
+                out,
+                "<p class=\"note\">Measured in this run: each detector's processing time summed over threads, divided by the {} samples of the test trials every detector was fed ({} s of wall time in all, {} s of it synthesis summed over threads). It is a wall-clock figure of the machine that ran the suite, useful to compare detectors with each other; for a microcontroller, the declared state memory and arithmetic per sample (as each plugin states them for this suite's stream) are the better guide.</p>",
+                fmt_count(t.samples),
+                format_number(t.wall_s, 3),
+                format_number(t.synthesis_s, 3)
+            );
+        }
+        None => out.push_str("<p class=\"note\">Time per sample: not measured. This folder has no <code>timing.json</code> (a merged run keeps no wall-clock figures). The declared state memory and arithmetic per sample are what each plugin states for this suite's stream.</p>"),
+    }
+    out
+}
+
+fn nominal(run: &RunFolder) -> Option<String> {
+    let with: Vec<(usize, &DetectorSummary)> = run
+        .summary
+        .detectors
+        .iter()
+        .enumerate()
+        .filter(|(_, d)| d.nominal.is_some())
+        .collect();
+    if with.is_empty() {
+        return None;
+    }
+    let mut rows = Vec::new();
+    let mut details = String::new();
+    for (i, d) in &with {
+        let Some(n) = &d.nominal else { continue };
+        let m = &n.measured_frame_pfa;
+        let verdict = match (m.low, m.high) {
+            (Some(l), Some(h)) if l <= n.nominal_frame_pfa && n.nominal_frame_pfa <= h => {
+                "<span class=\"good\">consistent</span>".to_string()
+            }
+            (Some(l), Some(_)) if l > n.nominal_frame_pfa => format!(
+                "<span class=\"bad\">more than promised</span> (×{})",
+                m.value.map_or("—".into(), |v| format_number(
+                    v / n.nominal_frame_pfa.max(f64::MIN_POSITIVE),
+                    3
+                ))
+            ),
+            (Some(_), Some(_)) => "fewer than promised".to_string(),
+            _ => "not measured".to_string(),
+        };
+        let measured = fmt_probability(m);
+        rows.push((
+            String::new(),
+            vec![
+                detector_cell(*i, &d.label),
+                format_number(n.threshold, 4),
+                format_number(n.nominal_frame_pfa, 3),
+                measured,
+                fmt_count(n.noise_frames),
+                verdict,
+            ],
+        ));
+        let _ = write!(
+            details,
+            "<details><summary>{}: measured per-frame Pfa by scene</summary>",
+            escape(&d.label)
+        );
+        let scene_rows: Vec<(String, Vec<String>)> = n
+            .by_scene
+            .iter()
+            .map(|(scene, sweep, e)| {
+                let name = match sweep {
+                    Some(v) => format!("{scene} = {v}"),
+                    None => scene.clone(),
+                };
+                (String::new(), vec![escape(&name), fmt_probability(e)])
+            })
+            .collect();
+        details.push_str(&table(
+            &["scene", "measured per-frame Pfa [95 %]"],
+            &[1],
+            &scene_rows,
+        ));
+        details.push_str("</details>");
+    }
+    let mut out = String::from("<p>For detectors with a closed-form threshold (CFAR types), the per-frame false-alarm probability the closed form promises, against the share of frames outside event windows at or above that threshold, all nuisance scenes pooled, with the 95 % Clopper–Pearson interval. The closed form assumes independent cells of white Gaussian noise (rectangular, non-overlapping windows); nuisance scenes break that assumption on purpose, so a large excess there is the nuisance at work, not a fault of the formula.</p>");
+    out.push_str(&table(
+        &[
+            "detector",
+            "threshold",
+            "nominal Pfa",
+            "measured Pfa [95 %]",
+            "frames",
+            "verdict",
+        ],
+        &[1, 2, 3, 4],
+        &rows,
+    ));
+    out.push_str(&details);
+    Some(out)
+}
+
+fn failures(run: &RunFolder) -> Option<String> {
+    const MAX_ROWS: usize = 100;
+    let total: usize = run.summary.detectors.iter().map(|d| d.failures.len()).sum();
+    if total == 0 {
+        return None;
+    }
+    let mut rows = Vec::new();
+    let mut more = Vec::new();
+    for d in &run.summary.detectors {
+        for f in d.failures.iter().take(MAX_ROWS) {
+            rows.push((
+                String::new(),
+                vec![
+                    escape(&d.label),
+                    escape(&f.scene),
+                    f.sweep_point.to_string(),
+                    f.trial.to_string(),
+                    escape(&f.phase),
+                    escape(&f.message),
+                ],
+            ));
+        }
+        if d.failures.len() > MAX_ROWS {
+            more.push(format!(
+                "{}: {} more not listed",
+                d.label,
+                d.failures.len() - MAX_ROWS
+            ));
+        }
+    }
+    let mut out = format!(
+        "<p class=\"bad\">{total} failed detector trials. A failed trial is left out of that detector's tallies, and the detector is not ranked.</p>"
+    );
+    out.push_str(&table(
+        &[
+            "detector",
+            "scene",
+            "sweep point",
+            "trial",
+            "phase",
+            "message",
+        ],
+        &[2, 3],
+        &rows,
+    ));
+    if !more.is_empty() {
+        let _ = write!(out, "<p class=\"note\">{}</p>", escape(&more.join("; ")));
+    }
+    Some(out)
+}
+
+fn suite_and_parameters(run: &RunFolder) -> String {
+    let mut rows = Vec::new();
+    for (i, d) in run.summary.detectors.iter().enumerate() {
+        let params: Vec<String> = d
+            .params
+            .iter()
+            .map(|(k, v)| format!("<code>{}</code> = {}", escape(k), escape(v)))
+            .collect();
+        rows.push((
+            String::new(),
+            vec![
+                detector_cell(i, &d.label),
+                escape(&d.plugin),
+                if params.is_empty() {
+                    "(none)".into()
+                } else {
+                    params.join(", ")
+                },
+            ],
+        ));
+    }
+    let mut out = String::from("<h3>Detector parameters, as used</h3>");
+    out.push_str(&table(&["detector", "plugin", "parameters"], &[], &rows));
+    out.push_str("<h3>The suite</h3>");
+    match &run.suite_text {
+        Some(text) => {
+            let _ = write!(out, "<pre>{}</pre>", escape(text));
+        }
+        None => out.push_str("<p class=\"note\">This folder has no <code>suite.yaml</code>.</p>"),
+    }
+    out
+}
+
+fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -> String {
+    let mut out = format!(
+        "<p>Baseline: suite <code>{}</code>, seed {}, {} test trials. This run: suite <code>{}</code>, seed {}, {} test trials. Detectors are matched by label; intervals are {}.</p>",
+        escape(&baseline.summary.suite),
+        baseline.summary.seed,
+        baseline.summary.test_trials,
+        escape(&run.summary.suite),
+        run.summary.seed,
+        run.summary.test_trials,
+        data::confidence_percent()
+    );
+    let pairs: Vec<(usize, &DetectorSummary, &DetectorSummary, usize)> = run
+        .summary
+        .detectors
+        .iter()
+        .enumerate()
+        .filter_map(|(i, d)| {
+            baseline
+                .summary
+                .detectors
+                .iter()
+                .position(|b| b.label == d.label)
+                .map(|j| (i, d, &baseline.summary.detectors[j], j))
+        })
+        .collect();
+    let auc = |d: &DetectorSummary| match (finite(d.trial_auc), finite(d.trial_auc_se)) {
+        (Some(a), Some(se)) => format!("{a:.3} ± {se:.3}"),
+        (Some(a), None) => format!("{a:.3}"),
+        _ => "—".into(),
+    };
+    let rows: Vec<(String, Vec<String>)> = pairs
+        .iter()
+        .map(|(i, d, b, _)| {
+            let delta = match (finite(d.trial_auc), finite(b.trial_auc)) {
+                (Some(x), Some(y)) => format!("{:+.3}", x - y),
+                _ => "—".into(),
+            };
+            (
+                String::new(),
+                vec![detector_cell(*i, &d.label), auc(b), auc(d), delta],
+            )
+        })
+        .collect();
+    out.push_str("<h3>Trial-level AUC</h3>");
+    out.push_str(&table(
+        &[
+            "detector",
+            "baseline AUC ± SE",
+            "this run AUC ± SE",
+            "change",
+        ],
+        &[1, 2, 3],
+        &rows,
+    ));
+    let targets = targets(run);
+    for (o, target) in targets.iter().enumerate() {
+        let rows: Vec<(String, Vec<String>)> = pairs
+            .iter()
+            .map(|(i, d, b, _)| {
+                let ours = d.operating_points.get(o);
+                let theirs = b.operating_points.get(o);
+                let pd = |x: Option<&OperatingSummary>| {
+                    x.map_or("—".into(), |x| fmt_pd(&x.outcome.pd))
+                };
+                let fa = |x: Option<&OperatingSummary>| {
+                    x.map_or("—".into(), |x| {
+                        escape(&fmt_estimate(&x.outcome.false_alarms_per_hour, 3))
+                    })
+                };
+                (
+                    String::new(),
+                    vec![
+                        detector_cell(*i, &d.label),
+                        pd(theirs),
+                        pd(ours),
+                        fa(theirs),
+                        fa(ours),
+                    ],
+                )
+            })
+            .collect();
+        let _ = write!(out, "<h3>At target {}</h3>", escape(&fmt_target(*target)));
+        out.push_str(&table(
+            &[
+                "detector",
+                "baseline Pd",
+                "this run Pd",
+                "baseline FA/h",
+                "this run FA/h",
+            ],
+            &[1, 2, 3, 4],
+            &rows,
+        ));
+    }
+    let only_here: Vec<&str> = run
+        .summary
+        .detectors
+        .iter()
+        .filter(|d| {
+            !baseline
+                .summary
+                .detectors
+                .iter()
+                .any(|b| b.label == d.label)
+        })
+        .map(|d| d.label.as_str())
+        .collect();
+    let only_there: Vec<&str> = baseline
+        .summary
+        .detectors
+        .iter()
+        .filter(|b| !run.summary.detectors.iter().any(|d| d.label == b.label))
+        .map(|b| b.label.as_str())
+        .collect();
+    if !only_here.is_empty() {
+        let _ = write!(
+            out,
+            "<p class=\"note\">Only in this run: {}.</p>",
+            escape(&only_here.join(", "))
+        );
+    }
+    if !only_there.is_empty() {
+        let _ = write!(
+            out,
+            "<p class=\"note\">Only in the baseline: {}.</p>",
+            escape(&only_there.join(", "))
+        );
+    }
+    let _ = write!(
+        out,
+        "<h3>Event-level ROC, this run (solid) against the baseline (dashed)</h3><p class=\"note\">Dashed vertical lines are the target rates. {}</p><div class=\"grid2\">",
+        escape(ZERO_NOTE)
+    );
+    for (i, d, _, j) in &pairs {
+        let ours = data::grid_roc(&run.tallies.detectors[*i]);
+        let theirs = data::grid_roc(&baseline.tallies.detectors[*j]);
+        let axis = rate_axis(
+            "false alarms per hour (log scale)",
+            ours.iter()
+                .chain(&theirs)
+                .filter_map(|p| p.false_alarms_per_hour)
+                .chain(targets.iter().copied()),
+        );
+        let mut chart = Chart::new(
+            &format!("{}: event-level ROC against the baseline", d.label),
+            axis,
+            Axis::linear("Pd", 0.0, 1.0),
+        );
+        chart.width = 560.0;
+        chart.height = 330.0;
+        chart.empty_message = "no curve in either run".into();
+        let mut now = grid_series(&ours, style_for(*i, false), "this run".into());
+        now.markers = d
+            .operating_points
+            .iter()
+            .filter_map(|op| operating_marker(d, op))
+            .collect();
+        let mut before = grid_series(&theirs, style_for(*i, true), "baseline".into());
+        before.style.marker = Marker::None;
+        chart.series.push(before);
+        chart.series.push(now);
+        chart.vertical_lines = targets
+            .iter()
+            .map(|&t| ReferenceLine {
+                value: t,
+                // Short labels: two targets close together must fit a small plot.
+                label: format!("{}/h", format_number(t, 3)),
+            })
+            .collect();
+        let caption = format!(
+            "<strong>{}</strong>: markers are this run's operating points.",
+            escape(&d.label)
+        );
+        out.push_str(&page.figure(&render_chart(&chart), &caption));
+    }
+    out.push_str("</div>");
+    out
+}
+
+/// Renders the whole report: one HTML file with inline CSS and SVG and a small self-check
+/// script, no outside resources, and no date or time in it, so the same inputs always give
+/// the same bytes. `extra` sections come right after the cautions, in the order given.
+pub fn render_html(run: &RunFolder, baseline: Option<&RunFolder>, extra: &[Section]) -> String {
+    let mut page = Page {
+        sections: Vec::new(),
+        figures: 0,
+    };
+    for (k, section) in extra.iter().enumerate() {
+        page.add(
+            &format!("extra-{}", k + 1),
+            &section.title,
+            section.html.clone(),
+        );
+    }
+    let ranking = ranking(run);
+    page.add(
+        "ranking",
+        "Which detectors meet the false-alarm target",
+        ranking,
+    );
+    let roc = event_roc(&mut page, run);
+    page.add(
+        "event-roc",
+        "ROC: detection against false alarms per hour",
+        roc,
+    );
+    let trial = trial_roc(&mut page, run);
+    page.add("trial-roc", "Trial-level ROC", trial);
+    if let Some(sweeps) = sweeps(&mut page, run) {
+        page.add("sweeps", "Detection against the swept value", sweeps);
+    } else {
+        page.add(
+            "sweeps",
+            "Detection against the swept value",
+            "<p class=\"note\">No scene of this suite has a sweep.</p>".into(),
+        );
+    }
+    let latency = latency(&mut page, run);
+    page.add("latency", "Latency", latency);
+    let by_nuisance = false_alarms_by_nuisance(&mut page, run);
+    page.add("false-alarms", "False alarms by nuisance", by_nuisance);
+    page.add("cost", "Cost", cost(run));
+    page.add(
+        "cfar",
+        "CFAR: nominal against measured per-frame Pfa",
+        nominal(run).unwrap_or_else(|| {
+            "<p class=\"note\">No detector of this run has a closed-form threshold.</p>".into()
+        }),
+    );
+    if let Some(b) = baseline {
+        let comparison = baseline_comparison(&mut page, run, b);
+        page.add("baseline", "Against the baseline", comparison);
+    }
+    page.add(
+        "failures",
+        "Failures",
+        failures(run).unwrap_or_else(|| "<p>No detector failed on any trial.</p>".into()),
+    );
+    page.add("suite", "Suite and parameters", suite_and_parameters(run));
+
+    let mut out = String::with_capacity(256 * 1024);
+    let _ = write!(
+        out,
+        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"><title>echobench report: {}</title><script>{ERROR_CAPTURE}</script><style>{CSS}</style></head><body>",
+        escape(&run.summary.suite)
+    );
+    out.push_str(&header(run));
+    out.push_str(&cautions(run, baseline));
+    out.push_str("<nav class=\"toc\"><strong>Contents</strong><ol>");
+    for (id, title, _) in &page.sections {
+        let _ = write!(out, "<li><a href=\"#{id}\">{}</a></li>", escape(title));
+    }
+    out.push_str("</ol></nav><main>");
+    for (id, title, html) in &page.sections {
+        let _ = write!(
+            out,
+            "<section id=\"{id}\"><h2>{}</h2>{html}</section>",
+            escape(title)
+        );
+    }
+    out.push_str("</main><script>");
+    out.push_str(SELF_CHECK);
+    out.push_str("</script></body></html>\n");
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn target_rates_read_plainly() {
+        assert_eq!(fmt_target(1.0), "1/h");
+        assert_eq!(fmt_target(0.0416667), "0.0417/h (1 per 24 h)");
+        assert_eq!(fmt_target(0.3), "0.3/h");
+        assert_eq!(fmt_bytes(2104), "2\u{2009}104 B (2.05 KiB)");
+        assert_eq!(fmt_count(11_472_000), "11\u{2009}472\u{2009}000");
+        assert_eq!(fmt_count(999), "999");
+    }
+
+    #[test]
+    fn styles_differ_in_colour_or_shape_for_many_detectors() {
+        let styles: Vec<(String, Marker)> = (0..64)
+            .map(|i| {
+                let s = style_for(i, false);
+                (s.colour, s.marker)
+            })
+            .collect();
+        for a in 0..styles.len() {
+            for b in a + 1..styles.len() {
+                assert_ne!(styles[a], styles[b], "{a} and {b}");
+            }
+        }
+    }
+}

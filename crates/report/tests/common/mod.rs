@@ -1,0 +1,246 @@
+//! A small real run shared by the report tests: a tiny inline suite through the harness's
+//! suite loader and runner, with a detector that fails on some trials.
+
+#![allow(dead_code)]
+
+use echobench_core::detector::{Cost, Detector, DetectorPlugin, ParamError, ParamSpec, Params};
+use echobench_core::{Score, StreamInfo};
+use echobench_harness::runner::{resolve_detectors, run_suite};
+use echobench_harness::suite_file::{load_suite_text, FolderSource};
+use echobench_harness::summary::summarise;
+use echobench_report::RunFolder;
+use std::sync::OnceLock;
+
+/// A suite small enough to run in about a second: a walker at two start ranges, a desk fan,
+/// an empty room; three built-in detectors and one that fails on about half the trials.
+/// The comment line checks that the suite text is escaped in the report.
+pub const SUITE: &str = r#"# Report test suite. <script>alert("not escaped")</script> & more
+name: report-test
+seed: 4242
+trials: 4
+calibration_trials: 2
+scenes:
+  - id: corridor-walker
+    label: target
+    sweep:
+      field: actors[0].path.start_m[0]
+      values: [2, 6]
+    scene:
+      duration_s: 8
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 2000
+        output: real
+        position_m: [0, 0, 2.5]
+        azimuth_deg: 0
+        elevation_deg: -10
+        beam_azimuth_3db_deg: 80
+        beam_elevation_3db_deg: 40
+        front_end:
+          high_pass_hz: [0.5]
+          low_pass_hz: [100, 100]
+          gain_db: 60
+          rails_v: [0, 3.3]
+        adc: {bits: 12, full_scale_v: 3.3}
+      coverage: {range_m: 16, azimuth_half_deg: 40}
+      environment:
+        white_noise_v_per_rthz: 30e-9
+        flicker_corner_hz: 500
+      actors:
+        - kind: walker
+          id: office-worker
+          height_m: 1.75
+          path:
+            start_m: [4, 0]
+            heading_deg: 0
+            speed_mps: {uniform: [1.0, 1.3]}
+            enter_s: {uniform: [1, 2]}
+            leave_s: 5
+  - id: desk-fan-room
+    label: nuisance
+    scene:
+      duration_s: 8
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 2000
+        output: real
+        position_m: [0, 0, 2.1]
+        azimuth_deg: 0
+        elevation_deg: -15
+        beam_azimuth_3db_deg: 80
+        beam_elevation_3db_deg: 60
+        front_end:
+          high_pass_hz: [0.5]
+          low_pass_hz: [100, 100]
+          gain_db: 60
+          rails_v: [0, 3.3]
+        adc: {bits: 12, full_scale_v: 3.3}
+      coverage: {range_m: 6}
+      environment:
+        white_noise_v_per_rthz: 30e-9
+        flicker_corner_hz: 500
+      actors:
+        - kind: fan
+          id: desk-fan
+          position_m: [3.0, 0.8, 1.2]
+          axis_azimuth_deg: {uniform: [190, 230]}
+          blades: 3
+          root_radius_m: 0.04
+          tip_radius_m: 0.15
+          rev_per_s: {uniform: [15, 22]}
+          blade_tilt_deg: 20
+          blade_rcs_m2: 0.01
+          housing_vibration_m: 2.0e-5
+          housing_rcs_m2: 0.05
+          mains_hz: 50
+  - id: quiet-room
+    label: nuisance
+    scene:
+      duration_s: 8
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 2000
+        output: real
+        front_end:
+          high_pass_hz: [0.5]
+          low_pass_hz: [100, 100]
+          gain_db: 60
+          rails_v: [0, 3.3]
+        adc: {bits: 12, full_scale_v: 3.3}
+      environment:
+        white_noise_v_per_rthz: 30e-9
+detectors:
+  - plugin: energy
+  - plugin: ca-cfar
+  - plugin: band-ratio
+  - plugin: flaky
+alarm: {hold_s: 1}
+scoring:
+  target_false_alarms_per_hour: [10, 1]
+  threshold_count: 40
+"#;
+
+/// Scores the mean magnitude of each block, but fails (a NaN score) on any trial whose
+/// first block has a positive mean: about half the trials, always the same ones.
+pub struct FlakyPlugin;
+struct Flaky {
+    sample_rate_hz: f64,
+    samples: u64,
+}
+
+static NO_PARAMS: [ParamSpec; 0] = [];
+
+impl Detector for Flaky {
+    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+        if block.is_empty() {
+            return;
+        }
+        let fail = self.samples == 0 && block.iter().map(|&x| f64::from(x)).sum::<f64>() > 0.0;
+        self.samples += block.len() as u64;
+        let mean = block.iter().map(|x| f64::from(x.abs())).sum::<f64>() / block.len() as f64;
+        out.push(Score {
+            t_s: self.samples as f64 / self.sample_rate_hz,
+            value: if fail { f64::NAN } else { mean },
+        });
+    }
+    fn reset(&mut self) {
+        self.samples = 0;
+    }
+}
+
+impl DetectorPlugin for FlakyPlugin {
+    fn id(&self) -> &'static str {
+        "flaky"
+    }
+    fn about(&self) -> &'static str {
+        "fails on some trials, for the report's failure table"
+    }
+    fn params(&self) -> &'static [ParamSpec] {
+        &NO_PARAMS
+    }
+    fn build(&self, _: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+        Ok(Box::new(Flaky {
+            sample_rate_hz: info.sample_rate_hz,
+            samples: 0,
+        }))
+    }
+    fn cost(&self, _: &Params, _: &StreamInfo) -> Result<Cost, ParamError> {
+        Ok(Cost {
+            state_bytes: 16,
+            ops_per_sample: 2.0,
+        })
+    }
+}
+
+static FLAKY: FlakyPlugin = FlakyPlugin;
+
+fn plugins() -> Vec<&'static dyn DetectorPlugin> {
+    let mut all = echobench_detectors::builtin();
+    all.push(&FLAKY);
+    all
+}
+
+/// Runs a suite text and returns its run folder (in memory, with timing).
+pub fn run_text(text: &str) -> RunFolder {
+    let plugins = plugins();
+    let (suite, _) = load_suite_text("report-test.yaml", text, &FolderSource::new("."), &plugins)
+        .unwrap_or_else(|r| panic!("{r}"));
+    let detectors = resolve_detectors(&suite, &plugins).expect("detectors resolve");
+    let (tallies, timing) = run_suite(&suite, &detectors, None, &|_| {}).expect("the suite runs");
+    RunFolder {
+        summary: summarise(&tallies, &suite),
+        tallies,
+        timing: Some(timing),
+        suite_text: Some(text.to_string()),
+    }
+}
+
+/// The shared small run.
+pub fn small_run() -> &'static RunFolder {
+    static RUN: OnceLock<RunFolder> = OnceLock::new();
+    RUN.get_or_init(|| run_text(SUITE))
+}
+
+/// Each `<svg …>…</svg>` of a page.
+pub fn svgs(html: &str) -> Vec<&str> {
+    html.match_indices("<svg ")
+        .map(|(start, _)| {
+            let end = html[start..]
+                .find("</svg>")
+                .map_or(html.len(), |e| start + e + "</svg>".len());
+            &html[start..end]
+        })
+        .collect()
+}
+
+fn attribute<'a>(element: &'a str, name: &str) -> Option<&'a str> {
+    let key = format!(" {name}=\"");
+    let start = element.find(&key)? + key.len();
+    let end = element[start..].find('"')? + start;
+    Some(&element[start..end])
+}
+
+/// Whether a plot has at least one data element with a visible extent: a polyline through
+/// two different points, a marker path, or a bar of positive width.
+pub fn has_drawn_data(svg: &str) -> bool {
+    svg.match_indices("class=\"data\"").any(|(at, _)| {
+        let open = svg[..at].rfind('<').unwrap_or(0);
+        let close = svg[at..].find('>').map_or(svg.len(), |e| at + e);
+        let element = &svg[open..=close.min(svg.len() - 1)];
+        if element.starts_with("<polyline") {
+            let points: Vec<&str> = attribute(element, "points")
+                .unwrap_or("")
+                .split_whitespace()
+                .collect();
+            points.windows(2).any(|w| w[0] != w[1])
+        } else if element.starts_with("<path") {
+            attribute(element, "d").is_some_and(|d| d.len() > 4)
+        } else if element.starts_with("<rect") {
+            attribute(element, "width")
+                .and_then(|w| w.parse::<f64>().ok())
+                .is_some_and(|w| w > 0.0)
+        } else {
+            false
+        }
+    })
+}
