@@ -1,5 +1,5 @@
 //! The command line as a user meets it: `synth` on every example scene writes
-//! its four files, and `detectors` lists every built-in with its costs.
+//! its five files, and `detectors` lists every built-in with its costs.
 
 use echobench_integration_tests::workspace_root;
 use std::path::PathBuf;
@@ -20,7 +20,7 @@ fn binary() -> PathBuf {
 }
 
 #[test]
-fn synth_writes_four_files_for_every_example_scene() {
+fn synth_writes_five_files_for_every_example_scene() {
     let echobench = binary();
     let scenes = workspace_root().join("scenarios/scenes");
     let out = std::env::temp_dir().join(format!("echobench-cli-synth-{}", std::process::id()));
@@ -57,6 +57,9 @@ fn synth_writes_four_files_for_every_example_scene() {
                 .len();
             assert!(size > 40, "{} is empty", file.display());
         }
+        let labels = std::fs::read_to_string(out.join(format!("{stem}-trial0-labels.csv")))
+            .expect("a label file is written");
+        assert!(labels.starts_with("start_s,end_s,kind"), "{labels}");
     }
     assert!(count >= 6, "at least six example scenes, found {count}");
     std::fs::remove_dir_all(&out).unwrap();

@@ -670,6 +670,15 @@ fn run_synth(scene_path: &Path, trial: u64, seed: u64, out: &Path) -> Result<Exi
     export::write_wav(&wav, &trial_data)?;
     export::write_samples_csv(&csv, &trial_data)?;
     export::write_truth_csv(&truth, &trial_data.truth)?;
+    // The target events as a capture label file, so the WAV reads back as a recording.
+    let labels_file = out.join(format!("{stem}-labels.csv"));
+    let labels: Vec<echobench_capture::Label> = echobench_core::merge_intervals(
+        trial_data.truth.events.iter().map(|e| e.interval).collect(),
+    )
+    .into_iter()
+    .map(|interval| echobench_capture::Label::new(interval, "target"))
+    .collect();
+    echobench_capture::write_labels(&labels_file, &labels)?;
     let marks: Vec<echobench_spectrogram::Marked> = trial_data
         .truth
         .events

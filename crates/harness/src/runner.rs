@@ -17,11 +17,11 @@
 //! shard split.
 
 use crate::events::{score_thresholds, AlarmLogic, MOfN, MatchWindow, TrialTruth};
+use crate::signal::TrialSignal;
 use crate::suite::{SceneLabel, Suite};
 use echobench_core::detector::{check_scores, Detector, DetectorPlugin, Params};
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, Score};
-use echobench_scene::Synthesizer;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -317,6 +317,7 @@ struct Job {
     scene: usize,
     variant: usize,
     key: StreamKey,
+    calibration: bool,
 }
 
 /// The key of a trial; calibration trials live in their own seed space.
@@ -357,6 +358,7 @@ fn jobs(suite: &Suite, calibration: bool, shard: Option<Shard>) -> Vec<Job> {
                         scene: si,
                         variant: vi,
                         key,
+                        calibration,
                     });
                 }
             }
@@ -392,13 +394,20 @@ fn panic_message(payload: Box<dyn std::any::Any + Send>) -> String {
 
 /// Synthesizes a trial and feeds every detector, catching panics and bad scores per detector.
 fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<TrialOutput, RunError> {
-    let scene = &suite.scenes[job.scene].variants[job.variant].scene;
-    let mut synth = Synthesizer::new(scene, &job.key).map_err(|e| {
-        RunError(format!(
-            "scene `{}` trial {}: {e}",
-            suite.scenes[job.scene].id, job.key.trial
-        ))
-    })?;
+    let entry = &suite.scenes[job.scene];
+    let variant = &entry.variants[job.variant];
+    let scene = &variant.scene;
+    let capture = entry.capture.as_ref().map(|c| {
+        let list = if job.calibration {
+            &c.calibration
+        } else {
+            &c.test
+        };
+        (c, &list[job.key.trial as usize])
+    });
+    let trial_error =
+        |e: String| RunError(format!("scene `{}` trial {}: {e}", entry.id, job.key.trial));
+    let mut synth = TrialSignal::new(variant, capture, &job.key).map_err(trial_error)?;
     let info = synth.info();
     let mut built: Vec<Result<Box<dyn Detector>, String>> = detectors
         .iter()
@@ -420,7 +429,9 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
         volts.clear();
         codes.clear();
         let t0 = Instant::now();
-        let added = synth.next_block(&mut volts, &mut codes, BLOCK);
+        let added = synth
+            .next_block(&mut volts, &mut codes, BLOCK)
+            .map_err(trial_error)?;
         synthesis_s += t0.elapsed().as_secs_f64();
         if added == 0 {
             break;
@@ -461,12 +472,8 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
         .collect();
     Ok(TrialOutput {
         traces,
-        truth: truth.events.iter().map(|e| e.interval).collect(),
-        nuisances: truth
-            .nuisances
-            .iter()
-            .map(|n| (n.interval, n.source_id.clone()))
-            .collect(),
+        truth: truth.events,
+        nuisances: truth.nuisances,
         duration_s: scene.duration_s,
         synthesis_s,
         samples,

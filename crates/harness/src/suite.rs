@@ -18,9 +18,10 @@ pub struct Suite {
     pub source: String,
     /// Seed of every trial's random streams.
     pub seed: u64,
-    /// Test trials per scene variant (a scene may override it).
+    /// Test trials per scene variant (a scene may override it; 0 when the suite sets none).
     pub trials: u64,
-    /// Calibration trials per scene variant (own seeds; used to fix thresholds).
+    /// Calibration trials per scene variant (own seeds; used to fix thresholds; 0 when the
+    /// suite sets none).
     pub calibration_trials: u64,
     /// The scenes.
     pub scenes: Vec<SuiteScene>,
@@ -56,6 +57,39 @@ pub struct SuiteScene {
     pub sweep_field: Option<String>,
     /// The variants: one without a sweep, one per sweep value with it.
     pub variants: Vec<SceneVariant>,
+    /// Recorded signal in place of synthesis, when the entry has `capture` (the scene then
+    /// describes the module and, with a mix level, what is added to the recording).
+    pub capture: Option<CaptureSource>,
+}
+
+/// Recordings as a scene's signal: each is cut into trials of the scene's duration.
+#[derive(Debug, Clone)]
+pub struct CaptureSource {
+    /// How the files' numbers become volts (the scene's ADC and front-end bias).
+    pub adc: echobench_capture::AdcDescription,
+    /// How the files are read (WAV, or CSV with its rate and value kind).
+    pub format: echobench_capture::CaptureFormat,
+    /// Gain applied to the scene's synthesized signal before it is added (`mix_db`), if any.
+    pub mix_gain: Option<f64>,
+    /// Test trials: one window of one recording each.
+    pub test: Vec<CaptureTrial>,
+    /// Calibration trials.
+    pub calibration: Vec<CaptureTrial>,
+}
+
+/// One trial cut from a recording.
+#[derive(Debug, Clone)]
+pub struct CaptureTrial {
+    /// The recording.
+    pub path: std::path::PathBuf,
+    /// Its sample rate, Hz (resampled to the scene's rate when they differ).
+    pub file_rate_hz: f64,
+    /// First frame of the trial in the file.
+    pub start_frame: u64,
+    /// Frames of the trial in the file.
+    pub frames: u64,
+    /// Labelled target intervals in trial time, s.
+    pub targets: Vec<echobench_core::Interval>,
 }
 
 /// One scene variant.

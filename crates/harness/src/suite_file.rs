@@ -63,6 +63,12 @@ pub trait SceneSource {
 
     /// How the file is named in messages (a path the user can open).
     fn display_name(&self, relative: &str) -> String;
+
+    /// The file on disk, for sources that have one (recordings must be real files).
+    fn path(&self, relative: &str) -> Option<PathBuf> {
+        let _ = relative;
+        None
+    }
 }
 
 /// Scene files on disk, relative to the suite file's folder.
@@ -92,6 +98,10 @@ impl SceneSource for FolderSource {
 
     fn display_name(&self, relative: &str) -> String {
         self.path_of(relative).display().to_string()
+    }
+
+    fn path(&self, relative: &str) -> Option<PathBuf> {
+        Some(self.path_of(relative))
     }
 }
 
@@ -322,8 +332,10 @@ fn read_suite(
     };
     let suite_name: String = f.optional_or("name", default_name);
     let seed: Option<u64> = f.required("seed");
-    let trials: Option<u64> = f.required("trials");
-    let calibration_trials: Option<u64> = f.required("calibration_trials");
+    // Optional here: an entry may set its own, and a capture entry takes its trials from
+    // its recordings; a synthetic entry with neither is refused where it is written.
+    let trials: Option<u64> = f.optional("trials");
+    let calibration_trials: Option<u64> = f.optional("calibration_trials");
     let scenes_node = f.raw("scenes");
     let detectors_node = f.raw("detectors");
     let alarm_node = f.raw("alarm");
@@ -349,8 +361,8 @@ fn read_suite(
     report.extend(reader.finish());
 
     let defaults = TrialCounts {
-        trials: trials.unwrap_or(1),
-        calibration_trials: calibration_trials.unwrap_or(1),
+        trials,
+        calibration_trials,
     };
     let suite_scenes =
         scenes_node.and_then(|node| read_scenes(node, name, scenes, defaults, report));
@@ -366,12 +378,24 @@ fn read_suite(
     if let (Some(scenes), Some(detectors)) = (&suite_scenes, &detectors) {
         check_streams(scenes, detectors, plugins, name, report);
     }
+    if let (Some(scenes), Some(node)) = (&suite_scenes, scenes_node) {
+        if scenes.iter().all(|s| s.calibration_trials == 0) {
+            report.problems.push(error(
+                name,
+                node.location,
+                "scenes".into(),
+                "no calibration trials: thresholds are chosen on them; give a capture entry \
+                 `calibration_recordings`, or add a synthetic scene"
+                    .into(),
+            ));
+        }
+    }
     Some(Suite {
         name: suite_name,
         source: name.to_string(),
         seed: seed?,
-        trials: trials?,
-        calibration_trials: calibration_trials?,
+        trials: trials.unwrap_or(0),
+        calibration_trials: calibration_trials.unwrap_or(0),
         scenes: suite_scenes?,
         detectors: detectors?.into_iter().map(|d| d.entry).collect(),
         alarm: alarm?,
@@ -381,8 +405,8 @@ fn read_suite(
 
 #[derive(Debug, Clone, Copy)]
 struct TrialCounts {
-    trials: u64,
-    calibration_trials: u64,
+    trials: Option<u64>,
+    calibration_trials: Option<u64>,
 }
 
 // ---------------------------------------------------------------- scenes
@@ -479,6 +503,8 @@ fn read_scene_entry(
     let mut ok = true;
     let file_node = f.raw("file");
     let scene_node = f.raw("scene");
+    let capture_node = f.raw("capture");
+    let capture_path = f.path_of("capture");
     let id_node = f.raw("id");
     let id: Option<String> = f.optional("id");
     let label = match f.required_choice("label", &["target", "nuisance"]) {
@@ -498,8 +524,21 @@ fn read_scene_entry(
             f.error_at(key, "must be at least 1");
         }
     }
-    let trials = trials_override.unwrap_or(defaults.trials);
-    let calibration_trials = calibration_override.unwrap_or(defaults.calibration_trials);
+    let trials = trials_override.or(defaults.trials);
+    let calibration_trials = calibration_override.or(defaults.calibration_trials);
+    if capture_node.is_none() {
+        for (key, count) in [
+            ("trials", trials),
+            ("calibration_trials", calibration_trials),
+        ] {
+            if count.is_none() {
+                f.error_at(
+                    key,
+                    format!("missing: set `{key}` for the whole suite or in this entry"),
+                );
+            }
+        }
+    }
     if id.as_ref().is_some_and(|id| id.trim().is_empty()) {
         f.error_at("id", "must not be empty");
     }
@@ -588,10 +627,40 @@ fn read_scene_entry(
     }
     let first = &variants.first()?.scene;
     let label = label?;
-    check_label(label, first, suite_file, label_location, &path, report);
+    let capture = match capture_node {
+        Some(capture_node) => {
+            if trials_override.is_some() || calibration_override.is_some() {
+                report.problems.push(error(
+                    suite_file,
+                    capture_node.location,
+                    capture_path.clone(),
+                    "a capture entry takes its trials from its recordings: drop `trials` and `calibration_trials`".into(),
+                ));
+                ok = false;
+            }
+            let read = read_capture(
+                capture_node,
+                &capture_path,
+                suite_file,
+                source,
+                first,
+                report,
+            );
+            ok &= read.is_some();
+            read
+        }
+        None => {
+            check_label(label, first, suite_file, label_location, &path, report);
+            None
+        }
+    };
     if !ok {
         return None;
     }
+    let (trials, calibration_trials) = match &capture {
+        Some(c) => (c.test.len() as u64, c.calibration.len() as u64),
+        None => (trials.unwrap_or(1), calibration_trials.unwrap_or(1)),
+    };
     let id = id.unwrap_or_else(|| first.name.clone());
     let id_location = id_node.map_or(node.location, |n| n.location);
     Some((
@@ -602,6 +671,7 @@ fn read_scene_entry(
             calibration_trials,
             sweep_field: sweep.map(|s| s.field),
             variants,
+            capture,
         },
         id_location,
     ))
@@ -803,6 +873,287 @@ fn check_label(
         message,
         Some(hint.to_string()),
     ));
+}
+
+/// Reads an entry's `capture:`: the recordings, their labels and layout, cut into trials of
+/// the scene's duration. Every file is opened here (headers only for WAV; CSV is read through
+/// once), so a missing, damaged or mislabelled recording is refused before any trial runs.
+fn read_capture(
+    node: &Node,
+    path: &str,
+    suite_file: &str,
+    source: &dyn SceneSource,
+    scene: &SceneSpec,
+    report: &mut Report,
+) -> Option<crate::suite::CaptureSource> {
+    use echobench_capture::{AdcDescription, CaptureFormat, CsvLayout, CsvValues, TrialCut};
+    let mut reader = Reader::new(suite_file);
+    let mut f = reader.fields(node, path)?;
+    let recordings = f.raw("recordings");
+    let calibration_recordings = f.raw("calibration_recordings");
+    let hop_s: Option<f64> = f.optional("hop_s");
+    let skip_s: f64 = f.optional_or("skip_s", 0.0);
+    let mix_db: Option<f64> = f.optional("mix_db");
+    let csv_rate: Option<f64> = f.optional("csv_sample_rate_hz");
+    let csv_values = f.choice_or("csv_values", &["codes", "signed_codes", "volts"], "codes");
+    if hop_s.is_some_and(|h| !(h.is_finite() && h > 0.0)) {
+        f.error_at("hop_s", "must be a positive number of seconds");
+    }
+    if !(skip_s.is_finite() && skip_s >= 0.0) {
+        f.error_at("skip_s", "must be zero or a positive number of seconds");
+    }
+    if mix_db.is_some_and(|g| !(g.is_finite() && (-200.0..=60.0).contains(&g))) {
+        f.error_at("mix_db", "must be a gain in dB between -200 and 60");
+    }
+    if csv_rate.is_some_and(|r| !(r.is_finite() && r > 0.0)) {
+        f.error_at("csv_sample_rate_hz", "must be a positive rate");
+    }
+    if recordings.is_none() {
+        f.error_at(
+            "recordings",
+            "missing: list the recordings, e.g. `- {samples: bench/walk-01.wav, labels: bench/walk-01-labels.csv}`",
+        );
+    }
+    let recordings_path = f.path_of("recordings");
+    let calibration_path = f.path_of("calibration_recordings");
+    f.finish();
+    let mut ok = !reader.has_errors();
+    let sensor = &scene.sensor;
+    let adc = match AdcDescription::new(
+        sensor.adc.bits,
+        sensor.adc.full_scale_v,
+        Some(sensor.front_end.bias_v),
+    ) {
+        Ok(adc) => Some(adc),
+        Err(e) => {
+            reader.error(
+                node.location,
+                path,
+                format!("the scene's ADC cannot scale a recording: {e}"),
+            );
+            None
+        }
+    };
+    let values = match csv_values {
+        "signed_codes" => CsvValues::SignedCodes,
+        "volts" => CsvValues::InputVolts,
+        _ => CsvValues::Codes,
+    };
+    let cut = TrialCut {
+        trial_s: scene.duration_s,
+        hop_s,
+        skip_s,
+    };
+    let mut lists = Vec::new();
+    for (list, list_path) in [
+        (recordings, recordings_path),
+        (calibration_recordings, calibration_path),
+    ] {
+        let mut trials = Vec::new();
+        if let (Some(list), Some(adc)) = (list, adc) {
+            let context = RecordingContext {
+                source,
+                sensor_rate_hz: sensor.sample_rate_hz,
+                channels: sensor.output,
+                csv_rate,
+                values,
+                adc,
+                cut,
+            };
+            match &list.value {
+                Value::Seq(items) => {
+                    for (i, item) in items.iter().enumerate() {
+                        let item_path = format!("{list_path}[{i}]");
+                        match read_recording(item, &item_path, &context, &mut reader) {
+                            Some(mut more) => trials.append(&mut more),
+                            None => ok = false,
+                        }
+                    }
+                }
+                _ => {
+                    reader.error(
+                        list.location,
+                        &list_path,
+                        format!("expected a list of recordings, found {}", list.kind_name()),
+                    );
+                    ok = false;
+                }
+            }
+        }
+        lists.push(trials);
+    }
+    let problems = reader.finish();
+    ok &= !problems.has_errors();
+    report.extend(problems);
+    let calibration = lists.pop()?;
+    let test = lists.pop()?;
+    if ok && test.is_empty() {
+        report.problems.push(error(
+            suite_file,
+            node.location,
+            format!("{path}.recordings"),
+            format!(
+                "no trial of {} s fits in the recordings: shorten the scene's `duration_s`",
+                scene.duration_s
+            ),
+        ));
+        ok = false;
+    }
+    let format = match csv_rate {
+        Some(rate) => CaptureFormat::Csv(CsvLayout {
+            sample_rate_hz: rate,
+            values,
+        }),
+        None => CaptureFormat::Wav,
+    };
+    (ok).then(|| crate::suite::CaptureSource {
+        adc: adc.expect("checked above"),
+        format,
+        mix_gain: mix_db.map(|db| 10f64.powf(db / 20.0)),
+        test,
+        calibration,
+    })
+}
+
+struct RecordingContext<'a> {
+    source: &'a dyn SceneSource,
+    sensor_rate_hz: f64,
+    channels: Channels,
+    csv_rate: Option<f64>,
+    values: echobench_capture::CsvValues,
+    adc: echobench_capture::AdcDescription,
+    cut: echobench_capture::TrialCut,
+}
+
+/// One `{samples, labels}` item: opens the file, reads the labels and cuts the trials.
+fn read_recording(
+    node: &Node,
+    path: &str,
+    context: &RecordingContext<'_>,
+    reader: &mut Reader,
+) -> Option<Vec<crate::suite::CaptureTrial>> {
+    use echobench_capture::{read_labels, CaptureFormat, CaptureReader, CsvLayout};
+    let mut f = reader.fields(node, path)?;
+    let samples: Option<String> = f.required("samples");
+    let labels: Option<String> = f.optional("labels");
+    let samples_at = f.raw("samples").map_or(node.location, |n| n.location);
+    let labels_at = f.raw("labels").map_or(node.location, |n| n.location);
+    f.finish();
+    let samples = samples?;
+    let Some(file) = context.source.path(&samples) else {
+        reader.error(
+            samples_at,
+            &format!("{path}.samples"),
+            "recordings can only be read by a suite file on disk",
+        );
+        return None;
+    };
+    let is_csv = samples.to_ascii_lowercase().ends_with(".csv");
+    let format = match (is_csv, context.csv_rate) {
+        (true, Some(rate)) => CaptureFormat::Csv(CsvLayout {
+            sample_rate_hz: rate,
+            values: context.values,
+        }),
+        (true, None) => {
+            reader.error(samples_at, &format!("{path}.samples"), "a CSV recording needs `csv_sample_rate_hz` in the capture (a CSV file does not state its rate)");
+            return None;
+        }
+        (false, _) => CaptureFormat::Wav,
+    };
+    let capture = match CaptureReader::open(&file, &format, context.adc) {
+        Ok(capture) => capture,
+        Err(e) => {
+            reader.error(samples_at, &format!("{path}.samples"), e.to_string());
+            return None;
+        }
+    };
+    for warning in capture.warnings() {
+        reader.warn(samples_at, &format!("{path}.samples"), warning.to_string());
+    }
+    if capture.channels() != context.channels {
+        reader.error(
+            samples_at,
+            &format!("{path}.samples"),
+            format!(
+                "the recording has {} channel(s) but the scene's sensor has `output: {}`",
+                capture.channels().count(),
+                if context.channels == Channels::Iq {
+                    "iq"
+                } else {
+                    "real"
+                }
+            ),
+        );
+        return None;
+    }
+    let file_rate_hz = capture.sample_rate_hz();
+    if file_rate_hz != context.sensor_rate_hz {
+        let whole = |r: f64| r.fract() == 0.0 && r >= 1.0 && r <= u32::MAX as f64;
+        let refused = if whole(file_rate_hz) && whole(context.sensor_rate_hz) {
+            echobench_capture::Resampler::new(
+                file_rate_hz as u32,
+                context.sensor_rate_hz as u32,
+                context.channels,
+            )
+            .err()
+            .map(|e| e.to_string())
+        } else {
+            Some("only whole-hertz rates can be resampled".into())
+        };
+        if let Some(why) = refused {
+            reader.error(
+                samples_at,
+                &format!("{path}.samples"),
+                format!("recorded at {file_rate_hz} Hz, the scene's sensor runs at {} Hz, and the rates cannot be converted: {why}", context.sensor_rate_hz),
+            );
+            return None;
+        }
+    }
+    let duration_s = capture.duration_s();
+    let label_list = match &labels {
+        Some(relative) => {
+            let Some(label_file) = context.source.path(relative) else {
+                reader.error(
+                    labels_at,
+                    &format!("{path}.labels"),
+                    "label files can only be read by a suite file on disk",
+                );
+                return None;
+            };
+            match read_labels(&label_file, duration_s) {
+                Ok(list) => list,
+                Err(e) => {
+                    reader.error(labels_at, &format!("{path}.labels"), e.to_string());
+                    return None;
+                }
+            }
+        }
+        None => Vec::new(),
+    };
+    let windows = match echobench_capture::cut_trials(
+        capture.frames(),
+        file_rate_hz,
+        &context.cut,
+        &label_list,
+    ) {
+        Ok(windows) => windows,
+        Err(e) => {
+            reader.error(samples_at, &format!("{path}.samples"), e.to_string());
+            return None;
+        }
+    };
+    Some(
+        windows
+            .into_iter()
+            .map(|w| crate::suite::CaptureTrial {
+                path: file.clone(),
+                file_rate_hz,
+                start_frame: w.start_frame,
+                frames: w.frames,
+                targets: w.labels.iter().map(|l| l.interval).collect(),
+            })
+            .collect(),
+    )
 }
 
 fn read_sweep<'n>(node: &'n Node, path: &str, reader: &mut Reader) -> Option<SweepRead<'n>> {

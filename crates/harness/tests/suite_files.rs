@@ -323,8 +323,8 @@ fn the_size_stated_at_the_top_of_the_default_suite_is_its_size() {
     assert_eq!(stated_calibration, calibration_s);
     assert_eq!(total, test_s + calibration_s);
     // The budget: the default suite must run in well under a minute on two cores;
-    // the runner scores about 1000 trial-seconds per wall second there (README).
-    assert!(total <= 12_000.0, "{total} trial-seconds");
+    // the runner scores about 1400 trial-seconds per wall second there (README).
+    assert!(total <= 20_000.0, "{total} trial-seconds");
 }
 
 #[test]

@@ -117,9 +117,64 @@ impl Synthesizer {
         codes: &mut Vec<i32>,
         max_instants: usize,
     ) -> usize {
+        if !self.advance(max_instants) {
+            return 0;
+        }
+        let iq = self.parts.info.channels == Channels::Iq;
+        let adc = &self.parts.adc;
+        let bias = self.parts.bias_v;
+        for i in 0..self.decimated_i.len() {
+            let code = adc.code(self.decimated_i[i]);
+            codes.push(code);
+            volts.push((adc.volts(code) - bias) as f32);
+            if iq {
+                let code = adc.code(self.decimated_q[i]);
+                codes.push(code);
+                volts.push((adc.volts(code) - bias) as f32);
+            }
+        }
+        self.finish_block()
+    }
+
+    /// Like [`Synthesizer::next_block`], but the analog values at the ADC input (less the
+    /// bias), before quantization: what this scene adds when it is mixed into a recording.
+    pub fn next_block_analog(&mut self, volts: &mut Vec<f64>, max_instants: usize) -> usize {
+        if !self.advance(max_instants) {
+            return 0;
+        }
+        let iq = self.parts.info.channels == Channels::Iq;
+        let bias = self.parts.bias_v;
+        for i in 0..self.decimated_i.len() {
+            volts.push(self.decimated_i[i] - bias);
+            if iq {
+                volts.push(self.decimated_q[i] - bias);
+            }
+        }
+        self.finish_block()
+    }
+
+    /// Quantizes a value at the ADC input (less the bias) with this scene's converter,
+    /// clipping included, and returns the code's voltage less the bias.
+    pub fn quantize(&self, volts_less_bias: f64) -> f64 {
+        let adc = &self.parts.adc;
+        let bias = self.parts.bias_v;
+        adc.volts(adc.code(volts_less_bias + bias)) - bias
+    }
+
+    fn finish_block(&mut self) -> usize {
+        let added = self.decimated_i.len();
+        self.decimated_i.clear();
+        self.decimated_q.clear();
+        self.produced += added;
+        added
+    }
+
+    /// Runs the chain for up to `max_instants` output instants into the decimated buffers;
+    /// `false` at the end of the trial.
+    fn advance(&mut self, max_instants: usize) -> bool {
         let n = self.remaining().min(max_instants).min(BLOCK_OUTPUT_SAMPLES);
         if n == 0 {
-            return 0;
+            return false;
         }
         let m = self.parts.oversampling;
         let sim = n * m;
@@ -152,23 +207,7 @@ impl Synthesizer {
                 decimator.keep(q, &mut self.decimated_q);
             }
         }
-        let adc = &self.parts.adc;
-        let bias = self.parts.bias_v;
-        for i in 0..self.decimated_i.len() {
-            let code = adc.code(self.decimated_i[i]);
-            codes.push(code);
-            volts.push((adc.volts(code) - bias) as f32);
-            if iq {
-                let code = adc.code(self.decimated_q[i]);
-                codes.push(code);
-                volts.push((adc.volts(code) - bias) as f32);
-            }
-        }
-        let added = self.decimated_i.len();
-        self.decimated_i.clear();
-        self.decimated_q.clear();
-        self.produced += added;
-        added
+        true
     }
 }
 

@@ -836,7 +836,9 @@ impl State {
         }
         self.frames_seen += 1;
         let w = self.analysis_frames as u64;
-        if self.frames_seen >= w && (self.frames_seen - w).is_multiple_of(self.decision_frames as u64) {
+        if self.frames_seen >= w
+            && (self.frames_seen - w).is_multiple_of(self.decision_frames as u64)
+        {
             let t_s = (end_index / self.values_per_sample) as f64 / self.sample_rate_hz;
             let reading = self.analyse(t_s);
             out.push(Score {
