@@ -78,13 +78,14 @@ fn detectors_lists_every_built_in_with_its_cost() {
         "band-ratio",
         "periodicity",
         "energy-c",
+        "external",
     ] {
         assert!(
             text.contains(&format!("{id}: ")),
             "`{id}` missing from:\n{text}"
         );
     }
-    assert_eq!(text.matches("cost at defaults").count(), 7, "{text}");
+    assert_eq!(text.matches("cost at defaults").count(), 8, "{text}");
     assert!(text.contains("bytes") && text.contains("operations per sample"));
 }
 
@@ -292,5 +293,90 @@ scoring:
     let result = call(&["gate", &path("before"), "--baseline", &path("base")]);
     assert_eq!(result.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&result.stderr).contains("--baseline"));
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+/// An external detector that crashes is reported per trial and the run completes for the
+/// others; without `--allow-exec` the suite is refused before anything runs.
+#[test]
+fn a_crashing_external_detector_is_reported_and_the_run_completes() {
+    let echobench = binary();
+    let dir = std::env::temp_dir().join(format!("echobench-cli-external-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let script = dir.join("crash.sh");
+    std::fs::write(&script, "#!/bin/sh\necho 'out of cheese' >&2\nexit 3\n").unwrap();
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        std::fs::set_permissions(&script, std::fs::Permissions::from_mode(0o755)).unwrap();
+    }
+    let suite = dir.join("suite.yaml");
+    std::fs::write(
+        &suite,
+        format!(
+            r#"
+name: external-check
+seed: 2
+trials: 3
+calibration_trials: 1
+scenes:
+  - id: quiet
+    label: nuisance
+    scene:
+      duration_s: 4
+      sensor:
+        carrier_hz: 24.125e9
+        sample_rate_hz: 1000
+        front_end: {{high_pass_hz: [0.5], low_pass_hz: [200], gain_db: 60}}
+        adc: {{bits: 12, full_scale_v: 3.3}}
+detectors:
+  - plugin: energy
+  - plugin: external
+    label: crasher
+    params: {{command: {}, timeout_s: 10}}
+"#,
+            script.display()
+        ),
+    )
+    .unwrap();
+    let out = dir.join("run");
+    let refused = Command::new(&echobench)
+        .args([
+            "run",
+            suite.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(refused.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&refused.stderr).contains("--allow-exec"));
+    assert!(!out.exists(), "nothing ran");
+
+    let result = Command::new(&echobench)
+        .args([
+            "run",
+            suite.to_str().unwrap(),
+            "--allow-exec",
+            "--out",
+            out.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        result.status.success(),
+        "{}",
+        String::from_utf8_lossy(&result.stderr)
+    );
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    let detectors = summary["detectors"].as_array().unwrap();
+    assert!(detectors[0]["failures"].as_array().unwrap().is_empty());
+    let failures = detectors[1]["failures"].as_array().unwrap();
+    // One calibration and three test trials, each reported with the program's own words.
+    assert_eq!(failures.len(), 4, "{failures:?}");
+    assert!(failures
+        .iter()
+        .all(|f| f["message"].as_str().unwrap().contains("out of cheese")));
     std::fs::remove_dir_all(&dir).unwrap();
 }

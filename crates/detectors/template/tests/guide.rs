@@ -240,7 +240,7 @@ fn guide_names_files_names_and_commands_that_exist() {
     // Step 8's verb exists in the command-line tool and lists the registry.
     let cli = read(&root.join("crates/cli/src/main.rs"));
     assert!(
-        cli.contains("Detectors {") && cli.contains("builtin()"),
+        cli.contains("Detectors {") && cli.contains("echobench_detectors::with_external("),
         "no `detectors` verb"
     );
 }
