@@ -579,6 +579,15 @@ fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
 
 fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
     let mut failed = 0;
+    let mut refused = |file: &Path, report: echobench_yaml_reader::Report| {
+        failed += 1;
+        eprint!("{report}");
+        println!(
+            "failed: {} ({} errors)",
+            file.display(),
+            report.error_count()
+        );
+    };
     for file in files {
         if is_suite_file(file) {
             // `check` never runs a program, so `external` detectors are checked as if allowed.
@@ -596,15 +605,7 @@ fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
                         suite.detectors.len()
                     );
                 }
-                Err(report) => {
-                    failed += 1;
-                    eprint!("{report}");
-                    println!(
-                        "failed: {} ({} errors)",
-                        file.display(),
-                        report.error_count()
-                    );
-                }
+                Err(report) => refused(file, report),
             }
             continue;
         }
@@ -619,15 +620,7 @@ fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
                     scene.duration_s
                 );
             }
-            Err(report) => {
-                failed += 1;
-                eprint!("{report}");
-                println!(
-                    "failed: {} ({} errors)",
-                    file.display(),
-                    report.error_count()
-                );
-            }
+            Err(report) => refused(file, report),
         }
     }
     Ok(if failed == 0 {

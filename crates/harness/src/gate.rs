@@ -268,13 +268,31 @@ pub fn gate(
                 let (sb, sc) = (side(Side::Baseline), side(Side::Candidate));
                 let name = group.clone().unwrap_or_else(|| "all scenes".into());
                 detector_checks.push(rate_check(&at, &name, &sb, &sc, settings));
-                detector_checks.push(paired_false_alarm_check(&at, &name, &pairs, o, p, paired));
+                detector_checks.push(paired_flags_check(
+                    &at,
+                    Metric::FalseAlarmPaired,
+                    &name,
+                    &pairs,
+                    (o, p),
+                    paired,
+                    false_alarm_flags,
+                    "alarmed falsely",
+                ));
                 if group.is_none() && settings.budget_per_hour.is_some() {
                     detector_checks.push(budget_check(&at, &sc, settings));
                 }
                 if sb.events > 0 || sc.events > 0 {
                     detector_checks.push(detection_check(&at, &name, &sb, &sc));
-                    detector_checks.push(paired_detection_check(&at, &name, &pairs, o, p, paired));
+                    detector_checks.push(paired_flags_check(
+                        &at,
+                        Metric::DetectionPaired,
+                        &name,
+                        &pairs,
+                        (o, p),
+                        paired,
+                        missed_event_flags,
+                        "missed an event",
+                    ));
                 }
             }
         }
@@ -466,57 +484,40 @@ fn paired_check(
     check
 }
 
-fn paired_false_alarm_check(
-    at: &OperatingRef,
-    group: &str,
-    pairs: &[(&VariantTally, &VariantTally)],
-    o: usize,
-    p: usize,
-    paired: bool,
-) -> Check {
-    if !paired {
-        let mut check = at.check(Metric::FalseAlarmPaired, group);
-        check.note = "runs not paired (different seeds)".into();
-        return check;
-    }
-    let flags: Vec<(bool, bool)> = paired_outcomes(pairs, o, p)
-        .iter()
-        .map(|(b, c)| (b.false_alarms > 0, c.false_alarms > 0))
-        .collect();
-    paired_check(
-        at,
-        Metric::FalseAlarmPaired,
-        group,
-        &flags,
-        "alarmed falsely",
-    )
+/// Which trials count for a paired check, and the flag each run raises on one.
+type PairedFlag = fn(&TrialOutcome, &TrialOutcome) -> Option<(bool, bool)>;
+
+/// A false alarm anywhere in the trial.
+fn false_alarm_flags(b: &TrialOutcome, c: &TrialOutcome) -> Option<(bool, bool)> {
+    Some((b.false_alarms > 0, c.false_alarms > 0))
 }
 
-fn paired_detection_check(
+/// A missed event, on trials that have events.
+fn missed_event_flags(b: &TrialOutcome, c: &TrialOutcome) -> Option<(bool, bool)> {
+    (b.events > 0 && c.events > 0).then_some((b.detected < b.events, c.detected < c.events))
+}
+
+#[allow(clippy::too_many_arguments)]
+fn paired_flags_check(
     at: &OperatingRef,
+    metric: Metric,
     group: &str,
     pairs: &[(&VariantTally, &VariantTally)],
-    o: usize,
-    p: usize,
+    (o, p): (usize, usize),
     paired: bool,
+    flag: PairedFlag,
+    what: &str,
 ) -> Check {
     if !paired {
-        let mut check = at.check(Metric::DetectionPaired, group);
+        let mut check = at.check(metric, group);
         check.note = "runs not paired (different seeds)".into();
         return check;
     }
     let flags: Vec<(bool, bool)> = paired_outcomes(pairs, o, p)
         .iter()
-        .filter(|(b, c)| b.events > 0 && c.events > 0)
-        .map(|(b, c)| (b.detected < b.events, c.detected < c.events))
+        .filter_map(|(b, c)| flag(b, c))
         .collect();
-    paired_check(
-        at,
-        Metric::DetectionPaired,
-        group,
-        &flags,
-        "missed an event",
-    )
+    paired_check(at, metric, group, &flags, what)
 }
 
 fn budget_check(at: &OperatingRef, c: &Sums, s: &GateSettings) -> Check {
