@@ -2,7 +2,7 @@
 //! its five files, and `detectors` lists every built-in with its costs.
 
 use echobench_integration_tests::workspace_root;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::Command;
 
 /// Builds the binary once (cargo's own lock makes concurrent calls safe) and returns its path.
@@ -17,6 +17,25 @@ fn binary() -> PathBuf {
     let target =
         std::env::var_os("CARGO_TARGET_DIR").map_or_else(|| root.join("target"), PathBuf::from);
     target.join("debug").join("echobench")
+}
+
+/// A fresh scratch folder for one test.
+fn scratch(tag: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("echobench-cli-{tag}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// Runs the binary and insists it succeeds, showing its output otherwise.
+fn succeed(echobench: &Path, args: &[&str]) -> std::process::Output {
+    let result = Command::new(echobench).args(args).output().unwrap();
+    assert!(
+        result.status.success(),
+        "{args:?}: {}{}",
+        String::from_utf8_lossy(&result.stdout),
+        String::from_utf8_lossy(&result.stderr)
+    );
+    result
 }
 
 #[test]
@@ -94,8 +113,7 @@ fn detectors_lists_every_built_in_with_its_cost() {
 #[test]
 fn merged_shard_folders_equal_the_unsharded_run_byte_for_byte() {
     let echobench = binary();
-    let dir = std::env::temp_dir().join(format!("echobench-cli-shards-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = scratch("shards");
     let suite = dir.join("suite.yaml");
     std::fs::write(
         &suite,
@@ -135,17 +153,10 @@ detectors:
     )
     .unwrap();
     let run = |args: &[&str], out: &str| {
-        let result = Command::new(&echobench)
-            .args(args)
-            .arg("--out")
-            .arg(dir.join(out))
-            .output()
-            .unwrap();
-        assert!(
-            result.status.success(),
-            "{args:?}: {}",
-            String::from_utf8_lossy(&result.stderr)
-        );
+        let out = dir.join(out);
+        let mut all = args.to_vec();
+        all.extend(["--out", out.to_str().unwrap()]);
+        succeed(&echobench, &all);
     };
     let suite_arg = suite.to_str().unwrap();
     run(&["run", suite_arg], "whole");
@@ -181,8 +192,7 @@ detectors:
 #[test]
 fn gate_exit_codes_and_files() {
     let echobench = binary();
-    let dir = std::env::temp_dir().join(format!("echobench-cli-gate-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = scratch("gate");
     let suite = dir.join("suite.yaml");
     std::fs::write(
         &suite,
@@ -224,13 +234,7 @@ scoring:
     let path = |name: &str| dir.join(name).to_str().unwrap().to_string();
     let call = |args: &[&str]| Command::new(&echobench).args(args).output().unwrap();
     let ok = |args: &[&str]| {
-        let result = call(args);
-        assert!(
-            result.status.success(),
-            "{args:?}: {}{}",
-            String::from_utf8_lossy(&result.stdout),
-            String::from_utf8_lossy(&result.stderr)
-        );
+        succeed(&echobench, args);
     };
     ok(&["run", suite_arg, "--out", &path("before")]);
     ok(&["save-baseline", &path("before"), "--to", &path("base")]);
@@ -301,8 +305,7 @@ scoring:
 #[test]
 fn a_crashing_external_detector_is_reported_and_the_run_completes() {
     let echobench = binary();
-    let dir = std::env::temp_dir().join(format!("echobench-cli-external-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = scratch("external");
     let script = dir.join("crash.sh");
     std::fs::write(&script, "#!/bin/sh\necho 'out of cheese' >&2\nexit 3\n").unwrap();
     #[cfg(unix)]
@@ -353,20 +356,15 @@ detectors:
     assert!(String::from_utf8_lossy(&refused.stderr).contains("--allow-exec"));
     assert!(!out.exists(), "nothing ran");
 
-    let result = Command::new(&echobench)
-        .args([
+    succeed(
+        &echobench,
+        &[
             "run",
             suite.to_str().unwrap(),
             "--allow-exec",
             "--out",
             out.to_str().unwrap(),
-        ])
-        .output()
-        .unwrap();
-    assert!(
-        result.status.success(),
-        "{}",
-        String::from_utf8_lossy(&result.stderr)
+        ],
     );
     let summary: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();

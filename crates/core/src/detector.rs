@@ -230,6 +230,25 @@ impl ParamSpec {
     }
 }
 
+/// The stream's sample rate, refused unless it is a positive finite number: the first check
+/// of every plugin's `build` and `cost`.
+///
+/// # Errors
+/// A `ParamError` of `detector` on `sample_rate_hz`.
+pub fn check_sample_rate(detector: &str, info: &StreamInfo) -> Result<f64, ParamError> {
+    let fs = info.sample_rate_hz;
+    if fs.is_finite() && fs > 0.0 {
+        Ok(fs)
+    } else {
+        Err(ParamError::new(
+            detector,
+            "sample_rate_hz",
+            fs,
+            "the stream's sample rate must be a positive number",
+        ))
+    }
+}
+
 /// Why a detector could not be configured.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ParamError {

@@ -64,6 +64,22 @@ fn record(dir: &Path, scene: &SceneSpec, seed: u64, scene_id: &str, trial: u64, 
     write_labels(&dir.join(format!("{name}-labels.csv")), &labels).unwrap();
 }
 
+/// The two test and two calibration recordings `capture_suite` names, drawn as the
+/// synthetic suite draws its trials.
+fn record_suite_trials(dir: &Path, scene: &SceneSpec, seed: u64) {
+    for trial in 0..2 {
+        record(dir, scene, seed, "walk", trial, &format!("test-{trial}"));
+        record(
+            dir,
+            scene,
+            seed,
+            "calibration/walk",
+            trial,
+            &format!("cal-{trial}"),
+        );
+    }
+}
+
 fn synthetic_suite(seed: u64) -> String {
     format!(
         "name: walk-study\nseed: {seed}\ntrials: 2\ncalibration_trials: 2\nscenes:\n  - id: walk\n    label: target\n    scene:\n      duration_s: 12{SENSOR}{WALKER}\ndetectors:\n  - plugin: energy\n  - plugin: band-ratio\n  - plugin: periodicity\n"
@@ -82,17 +98,7 @@ fn a_synthesized_trial_read_back_from_wav_scores_exactly_like_the_synthesis() {
     let seed = 3;
     let synthetic = load(&dir, &synthetic_suite(seed));
     let scene = &synthetic.scenes[0].variants[0].scene;
-    for trial in 0..2 {
-        record(&dir, scene, seed, "walk", trial, &format!("test-{trial}"));
-        record(
-            &dir,
-            scene,
-            seed,
-            "calibration/walk",
-            trial,
-            &format!("cal-{trial}"),
-        );
-    }
+    record_suite_trials(&dir, scene, seed);
     let recorded = load(&dir, &capture_suite(seed, "", ""));
     assert_eq!(recorded.scenes[0].trials, 2);
     assert_eq!(recorded.scenes[0].calibration_trials, 2);
@@ -151,17 +157,7 @@ fn a_recording_at_another_rate_is_resampled_to_the_scene_rate() {
         &synthetic_suite(seed).replace("sample_rate_hz: 2000", "sample_rate_hz: 4000"),
     );
     let scene = &fast.scenes[0].variants[0].scene;
-    for trial in 0..2 {
-        record(&dir, scene, seed, "walk", trial, &format!("test-{trial}"));
-        record(
-            &dir,
-            scene,
-            seed,
-            "calibration/walk",
-            trial,
-            &format!("cal-{trial}"),
-        );
-    }
+    record_suite_trials(&dir, scene, seed);
     let recorded = load(&dir, &capture_suite(seed, "", ""));
     let tallies = run(&recorded);
     assert_eq!(tallies.test_trials, 2);

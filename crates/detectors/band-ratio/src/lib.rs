@@ -299,15 +299,7 @@ impl BandRatioConfig {
     /// `mains_hz` not 0/50/60, notches that empty a band, `band_units = mps`
     /// without a carrier, or a stream with a bad sample rate.
     pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
-        let fs = info.sample_rate_hz;
-        if !(fs.is_finite() && fs > 0.0) {
-            return Err(ParamError::new(
-                ID,
-                "sample_rate_hz",
-                fs,
-                "the stream's sample rate must be a positive number",
-            ));
-        }
+        let fs = echobench_core::detector::check_sample_rate(ID, info)?;
         let frame_len = positive(params, "frame_len")?;
         let hop = positive(params, "hop")?;
         let window = Window::from_name(params.text("window")).ok_or_else(|| {

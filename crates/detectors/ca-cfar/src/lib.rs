@@ -255,15 +255,7 @@ struct Layout {
 }
 
 fn validate(config: &CaCfarConfig, info: &StreamInfo) -> Result<Layout, ParamError> {
-    let fs = info.sample_rate_hz;
-    if !(fs.is_finite() && fs > 0.0) {
-        return Err(ParamError::new(
-            ID,
-            "sample_rate_hz",
-            fs,
-            "the stream's sample rate must be a positive number",
-        ));
-    }
+    let fs = echobench_core::detector::check_sample_rate(ID, info)?;
     let frame_len = config.frame_len;
     if !(MIN_FRAME_LEN as usize..=MAX_FRAME_LEN as usize).contains(&frame_len) {
         return Err(ParamError::new(

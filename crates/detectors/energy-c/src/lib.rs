@@ -197,15 +197,7 @@ impl Config {
                 "the C code takes one real sample at a time: real streams only",
             ));
         }
-        let fs = info.sample_rate_hz;
-        if !(fs.is_finite() && fs > 0.0) {
-            return Err(ParamError::new(
-                ID,
-                "sample_rate_hz",
-                fs,
-                "the stream's sample rate must be a positive number",
-            ));
-        }
+        let fs = echobench_core::detector::check_sample_rate(ID, info)?;
         let max_frame = firmware_facts().max_frame;
         let frame = params.integer("frame_len");
         let frame_len = u32::try_from(frame)

@@ -212,15 +212,7 @@ struct Config {
 
 impl Config {
     fn from_params(params: &Params, info: &StreamInfo) -> Result<Config, ParamError> {
-        let fs = info.sample_rate_hz;
-        if !(fs.is_finite() && fs > 0.0) {
-            return Err(ParamError::new(
-                ID,
-                "sample_rate_hz",
-                fs,
-                "the stream's sample rate must be a positive number",
-            ));
-        }
+        let fs = echobench_core::detector::check_sample_rate(ID, info)?;
         let count = |name: &str| -> Result<usize, ParamError> {
             let value = params.integer(name);
             usize::try_from(value)

@@ -210,8 +210,7 @@ pub mod protocol;
 mod session;
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, ParamValue,
-    Params,
+    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::{Score, StreamInfo};
 use protocol::{encode_hello, MAX_BLOCK_VALUES, TAG_BLOCK, VERSION};
@@ -319,7 +318,7 @@ impl ExternalPlugin {
         }
         find_program(&program.command)
             .map_err(|message| ParamError::new(ID, "command", &program.command, message))?;
-        let declared_bytes = integer_param(params, "state_bytes")?;
+        let declared_bytes = params.integer("state_bytes");
         let state_bytes = usize::try_from(declared_bytes).map_err(|_| {
             ParamError::new(
                 ID,
@@ -328,7 +327,7 @@ impl ExternalPlugin {
                 "expected a byte count of 0 or more",
             )
         })?;
-        let ops_per_sample = real_param(params, "ops_per_sample")?;
+        let ops_per_sample = params.real("ops_per_sample");
         if !(ops_per_sample.is_finite() && ops_per_sample >= 0.0) {
             return Err(ParamError::new(
                 ID,
@@ -388,17 +387,18 @@ impl ExternalProgram {
     /// Reads `command`, `args` (split on whitespace) and `timeout_s`.
     ///
     /// # Errors
-    /// A missing or empty `command`, or a time limit outside (0, 86 400] s.
+    /// An empty `command`, or a time limit outside (0, 86 400] s.
     pub fn from_params(params: &Params) -> Result<ExternalProgram, ParamError> {
-        let command = text_param(params, "command")?.trim().to_string();
-        let args = text_param(params, "args")?
+        let command = params.text("command").trim().to_string();
+        let args = params
+            .text("args")
             .split_whitespace()
             .map(str::to_string)
             .collect();
         let program = ExternalProgram {
             command,
             args,
-            timeout_s: real_param(params, "timeout_s")?,
+            timeout_s: params.real("timeout_s"),
         };
         program.check()?;
         Ok(program)
@@ -796,16 +796,7 @@ fn describe_exit(status: std::process::ExitStatus, when: &str) -> String {
 
 /// The stream facts the protocol needs.
 fn check_stream(info: &StreamInfo) -> Result<(), ParamError> {
-    let fs = info.sample_rate_hz;
-    if !(fs.is_finite() && fs > 0.0) {
-        return Err(ParamError::new(
-            ID,
-            "sample_rate_hz",
-            fs,
-            "the stream's sample rate must be a positive number",
-        ));
-    }
-    Ok(())
+    echobench_core::detector::check_sample_rate(ID, info).map(|_| ())
 }
 
 /// Resolves `command` as the shell would: a path when it holds a `/`, else
@@ -856,37 +847,4 @@ fn runnable(path: &Path) -> Result<(), String> {
         }
     }
     Ok(())
-}
-
-fn value<'a>(params: &'a Params, name: &str) -> Option<&'a ParamValue> {
-    params.iter().find(|(n, _)| *n == name).map(|(_, v)| v)
-}
-
-fn missing(name: &str, kind: &str) -> ParamError {
-    ParamError::new(ID, name, "(missing)", format!("expected {kind}"))
-}
-
-fn text_param<'a>(params: &'a Params, name: &str) -> Result<&'a str, ParamError> {
-    match value(params, name) {
-        Some(ParamValue::Text(s)) => Ok(s),
-        Some(other) => Err(ParamError::new(ID, name, other, "expected text")),
-        None => Err(missing(name, "text")),
-    }
-}
-
-fn real_param(params: &Params, name: &str) -> Result<f64, ParamError> {
-    match value(params, name) {
-        Some(ParamValue::Real(x)) => Ok(*x),
-        Some(ParamValue::Integer(i)) => Ok(*i as f64),
-        Some(other) => Err(ParamError::new(ID, name, other, "expected a number")),
-        None => Err(missing(name, "a number")),
-    }
-}
-
-fn integer_param(params: &Params, name: &str) -> Result<i64, ParamError> {
-    match value(params, name) {
-        Some(ParamValue::Integer(i)) => Ok(*i),
-        Some(other) => Err(ParamError::new(ID, name, other, "expected a whole number")),
-        None => Err(missing(name, "a whole number")),
-    }
 }

@@ -378,15 +378,7 @@ impl PeriodicityConfig {
     /// (fs/hop/2); an analysis window shorter than two periods of
     /// `step_low_hz` or too large to store; a bad stream sample rate.
     pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
-        let fs = info.sample_rate_hz;
-        if !(fs.is_finite() && fs > 0.0) {
-            return Err(ParamError::new(
-                ID,
-                "sample_rate_hz",
-                fs,
-                "the stream's sample rate must be a positive number",
-            ));
-        }
+        let fs = echobench_core::detector::check_sample_rate(ID, info)?;
         let frame_len = positive(params, "frame_len")?;
         let hop = positive(params, "hop")?;
         let window = Window::from_name(params.text("window")).ok_or_else(|| {

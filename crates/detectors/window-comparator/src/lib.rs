@@ -169,15 +169,7 @@ impl Config {
                 "the window comparator models a single-channel module: it takes real streams only",
             ));
         }
-        let fs = info.sample_rate_hz;
-        if !(fs.is_finite() && fs > 0.0) {
-            return Err(ParamError::new(
-                ID,
-                "sample_rate_hz",
-                fs,
-                "the stream's sample rate must be a positive number",
-            ));
-        }
+        let fs = echobench_core::detector::check_sample_rate(ID, info)?;
         let nyquist_hz = fs / 2.0;
         let corner = |name: &str| -> Result<f64, ParamError> {
             let hz = params.real(name);

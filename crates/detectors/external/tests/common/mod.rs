@@ -1,55 +1,27 @@
 //! Helpers shared by the integration tests: parameters, scripts, runs.
 #![allow(dead_code)]
 
-use echobench_core::detector::{
-    Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, ParamValue, Params,
-};
+use echobench_core::detector::{Detector, DetectorPlugin, ParamError, ParamValue, Params};
 use echobench_core::Score;
 use echobench_detector_external::ExternalPlugin;
 use std::path::PathBuf;
 use std::process::Command;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
-/// Resolved parameters for the `external` plugin with `command` and `args`
-/// set to free text.
-///
-/// Core has no free-text parameter kind yet (see the crate doc), so
-/// `Params::resolve` only accepts text listed in a choice. This builds the
-/// plugin's own table with each text parameter's choice being the very value
-/// given, which hands that text to `build` exactly as a free-text kind will.
-/// The table is leaked: `resolve` wants `&'static`, and tests are short.
+/// Resolved parameters for the `external` plugin: `command` and `args` as given, the rest
+/// from `more` or the defaults.
 pub fn params(
     command: &str,
     args: &str,
     more: &[(&str, ParamValue)],
 ) -> Result<Params, ParamError> {
     let plugin = ExternalPlugin::new(true);
-    let leak_str = |s: &str| -> &'static str { Box::leak(s.to_string().into_boxed_str()) };
-    let specs: Vec<ParamSpec> = plugin
-        .params()
-        .iter()
-        .map(|spec| {
-            let mut spec = spec.clone();
-            let text = match spec.name {
-                "command" => Some(command),
-                "args" => Some(args),
-                _ => None,
-            };
-            if let Some(text) = text {
-                let names: &'static [&'static str] =
-                    Box::leak(vec![leak_str(text)].into_boxed_slice());
-                spec.kind = ParamKind::Choice(names);
-            }
-            spec
-        })
-        .collect();
-    let specs: &'static [ParamSpec] = Box::leak(specs.into_boxed_slice());
     let mut given: Vec<(String, ParamValue)> = vec![
         ("command".to_string(), ParamValue::Text(command.to_string())),
         ("args".to_string(), ParamValue::Text(args.to_string())),
     ];
     given.extend(more.iter().map(|(n, v)| (n.to_string(), v.clone())));
-    Params::resolve("external", specs, &given)
+    Params::resolve("external", plugin.params(), &given)
 }
 
 /// A fresh path under cargo's per-target temporary folder.
