@@ -194,9 +194,46 @@ impl AnalogChain {
 
     /// Processes a block in place.
     pub fn process_block(&mut self, block: &mut [f64]) {
-        for sample in block.iter_mut() {
-            *sample = self.process(*sample);
+        // The usual section counts run on a local array the compiler keeps in
+        // registers; the arithmetic is that of `process`, sample by sample.
+        match self.high_pass.len() + self.low_pass.len() {
+            0 => self.process_block_with::<0>(block),
+            1 => self.process_block_with::<1>(block),
+            2 => self.process_block_with::<2>(block),
+            3 => self.process_block_with::<3>(block),
+            4 => self.process_block_with::<4>(block),
+            5 => self.process_block_with::<5>(block),
+            6 => self.process_block_with::<6>(block),
+            _ => {
+                for sample in block.iter_mut() {
+                    *sample = self.process(*sample);
+                }
+            }
         }
+    }
+
+    /// [`AnalogChain::process_block`] for exactly `N` sections.
+    fn process_block_with<const N: usize>(&mut self, block: &mut [f64]) {
+        let high = self.high_pass.len();
+        let mut sections: [FirstOrderSection; N] = std::array::from_fn(|i| {
+            if i < high {
+                self.high_pass[i]
+            } else {
+                self.low_pass[i - high]
+            }
+        });
+        for sample in block.iter_mut() {
+            let mut signal = *sample;
+            for section in sections.iter_mut() {
+                signal = section.process(signal);
+            }
+            *sample = self
+                .swing
+                .limit(self.output_bias_v + self.gain_v_per_v * signal);
+        }
+        let (high_pass, low_pass) = sections.split_at(high);
+        self.high_pass.copy_from_slice(high_pass);
+        self.low_pass.copy_from_slice(low_pass);
     }
 
     /// Clears every section (power-on with discharged capacitors).

@@ -20,7 +20,7 @@ pub enum SectionKind {
 /// low-pass b0 = b1 = K/(1 + K); high-pass b0 = 1/(1 + K), b1 = −b0;
 /// y[n] = b0·x[n] + b1·x[n−1] − a1·y[n−1]. Pre-warping puts the −3 dB point
 /// exactly at f_c (|H| = 1/√2), whatever f_c/f_s.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FirstOrderSection {
     kind: SectionKind,
     corner_hz: f64,

@@ -56,10 +56,12 @@
 #![deny(missing_docs)]
 
 mod pchip;
+mod table;
 
 use pchip::{wrap_unit, PeriodicPchip};
 use std::f64::consts::PI;
 use std::fmt;
+pub use table::CycleTable;
 
 /// Number of body segments in a [`Pose`].
 pub const SEGMENT_COUNT: usize = 12;
@@ -568,6 +570,26 @@ impl Gait {
             limbs: [LimbAngles::default(); 2],
         };
         self.build_pose(&standing, out);
+    }
+
+    /// Phases in [0, 1) where some joint curve is only C¹ (the PCHIP knots of
+    /// both sides, the left side half a cycle late, and the breaks of the
+    /// piecewise pelvis list); everything else in the model is smooth.
+    fn knot_phases(&self) -> Vec<f64> {
+        let mut phases = vec![0.0, 0.15, 0.5, 0.65];
+        phases.extend_from_slice(self.thorax_torsion_deg.knots());
+        for curve in [
+            &self.hip_deg,
+            &self.knee_deg,
+            &self.ankle_deg,
+            &self.elbow_deg,
+        ] {
+            for &knot in curve.knots() {
+                phases.push(knot);
+                phases.push(wrap_unit(knot - 0.5));
+            }
+        }
+        phases
     }
 
     /// Joint angles and translations at normalized phase `t` in [0, 1).

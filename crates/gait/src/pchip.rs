@@ -86,6 +86,11 @@ impl PeriodicPchip {
         }
     }
 
+    /// Knot times in [0, 1), increasing: where the curve's second derivative may jump.
+    pub(crate) fn knots(&self) -> &[f64] {
+        &self.knots
+    }
+
     /// The curve at normalized time `t` (any real; wrapped into [0, 1)).
     pub(crate) fn at(&self, t: f64) -> f64 {
         let n = self.knots.len();

@@ -193,7 +193,11 @@ impl Path {
         if ramp <= 0.0 {
             return 1.0;
         }
-        let edge = ((t_s - self.enter_s).min(self.leave_s - t_s) / ramp).min(1.0);
+        let edge = (t_s - self.enter_s).min(self.leave_s - t_s) / ramp;
+        if edge >= 1.0 {
+            // Past the ramps (cos π = −1 exactly: the same value, without the call).
+            return 1.0;
+        }
         0.5 - 0.5 * (std::f64::consts::PI * edge).cos()
     }
 

@@ -18,8 +18,13 @@ pub fn ellipsoid_rcs_m2(a_m: f64, b_m: f64, c_m: f64, theta_rad: f64, phi_rad: f
 /// RCS of a body of revolution (`a = b = radius_m`) with half-length `half_length_m`
 /// along unit axis `axis`, seen along the unit line of sight `los`.
 pub fn segment_rcs_m2(radius_m: f64, half_length_m: f64, axis: [f64; 3], los: [f64; 3]) -> f64 {
+    // The ellipsoid formula with a = b needs only cos²θ and sin²θ = 1 − cos²θ,
+    // so no angle is formed (this runs for every segment at every node).
     let cos_theta = (axis[0] * los[0] + axis[1] * los[1] + axis[2] * los[2]).clamp(-1.0, 1.0);
-    ellipsoid_rcs_m2(radius_m, radius_m, half_length_m, cos_theta.acos(), 0.0)
+    let cos2 = cos_theta * cos_theta;
+    let (a2, c2) = (radius_m * radius_m, half_length_m * half_length_m);
+    let denom = a2 * (1.0 - cos2) + c2 * cos2;
+    std::f64::consts::PI * a2 * a2 * c2 / (denom * denom)
 }
 
 /// Peak (normal-incidence) RCS of a flat plate of area `area_m2`: σ = 4πA²/λ²
@@ -41,6 +46,20 @@ mod tests {
         assert!((end_on - 0.02367).abs() < 5e-5, "{end_on}");
         // For a = b: broadside = πc², end-on = πa⁴/c² (Chen 2011).
         assert!((broadside - std::f64::consts::PI * 0.259f64.powi(2)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn segment_rcs_is_the_ellipsoid_of_revolution_at_the_aspect_angle() {
+        for theta_deg in [0.0f64, 10.0, 33.0, 60.0, 89.0, 90.0, 135.0, 180.0] {
+            let theta = theta_deg.to_radians();
+            let los = [theta.sin(), 0.0, theta.cos()];
+            let segment = segment_rcs_m2(0.07, 0.22, [0.0, 0.0, 1.0], los);
+            let ellipsoid = ellipsoid_rcs_m2(0.07, 0.07, 0.22, theta, 0.0);
+            assert!(
+                (segment - ellipsoid).abs() <= 1e-12 * ellipsoid,
+                "{theta_deg}°"
+            );
+        }
     }
 
     #[test]

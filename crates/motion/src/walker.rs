@@ -21,7 +21,7 @@ use crate::path::Path;
 use crate::rcs::segment_rcs_m2;
 use crate::reflector::ParamError;
 use crate::{Echo, MotionModel, Vec3};
-use echobench_gait::{Gait, Pose, SEGMENT_COUNT};
+use echobench_gait::{CycleTable, Gait, Pose, SEGMENT_COUNT};
 use std::f64::consts::PI;
 
 /// Phases sampled per cycle when bounding the segment speeds.
@@ -45,6 +45,9 @@ const NODE_RATE_FLOOR_HZ: f64 = 250.0;
 #[derive(Debug, Clone)]
 pub struct Walker {
     gait: Gait,
+    /// The gait's cycle tabulated once: a node reads the pose from it instead
+    /// of evaluating the joint curves and the forward kinematics three times.
+    table: CycleTable,
     path: Path,
     rcs_scale: f64,
     /// Walking intervals of the path (pauses and the time outside the path excluded).
@@ -94,6 +97,7 @@ impl Walker {
         let mut standing = Pose::default();
         gait.standing_pose(&mut standing);
         let mut walker = Walker {
+            table: CycleTable::new(&gait),
             gait,
             path,
             rcs_scale,
@@ -125,10 +129,11 @@ impl Walker {
 
     /// Samples one gait cycle for the speed bound and the node-rate inputs.
     fn bound_kinematics(&mut self) {
-        let gait = &self.gait;
+        let gait = &self.table;
+        let cycle_s = self.gait.cycle_s();
+        let v = self.gait.speed_mps();
         let n = SPEED_SAMPLES_PER_CYCLE;
-        let dt = gait.cycle_s() / n as f64;
-        let v = gait.speed_mps();
+        let dt = cycle_s / n as f64;
         let mut pose = Pose::default();
         let mut velocities = vec![[[0.0; 3]; SEGMENT_COUNT]; n];
         let mut walking_peak: f64 = 0.0;
@@ -219,9 +224,9 @@ impl Walker {
         };
         let moving_s = self.path.moving_time_s(t);
         if self.path.is_walking(t) {
-            self.gait.pose_with_velocity(moving_s, pose, velocity);
+            self.table.pose_with_velocity(moving_s, pose, velocity);
         } else {
-            self.gait.pose(moving_s, pose);
+            self.table.pose(moving_s, pose);
             let (w, dw) = self.standing_weight(t);
             for ((segment, stand), v) in pose
                 .segments

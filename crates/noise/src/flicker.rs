@@ -118,6 +118,9 @@ pub struct FlickerNoise {
     states: Vec<f64>,
     sample_rate_hz: f64,
     rng: ChaCha8Rng,
+    /// The block's drive and output sums (scratch, reused across blocks).
+    drive: Vec<f64>,
+    sum_v: Vec<f64>,
 }
 
 impl FlickerNoise {
@@ -176,6 +179,8 @@ impl FlickerNoise {
             states: Vec::new(),
             sample_rate_hz: fs,
             rng: rng.clone(),
+            drive: Vec::new(),
+            sum_v: Vec::new(),
         };
         if power_per_neper_v2 <= 0.0 {
             return Ok(flicker);
@@ -227,21 +232,54 @@ impl AdditiveNoise for FlickerNoise {
         if self.states.is_empty() {
             return;
         }
-        for sample in out.iter_mut() {
-            let drive: f64 = StandardNormal.sample(&mut self.rng);
-            let mut sum_v = self.gain_v * drive;
-            for ((state, pole), residue_v) in self
-                .states
-                .iter_mut()
-                .zip(&self.poles)
-                .zip(&self.residues_v)
-            {
-                sum_v += residue_v * *state;
-                *state = pole * *state + drive;
+        // The drive first (the same draws, in the same order), then the states
+        // four at a time with their values in registers: four independent
+        // recursions overlap in the pipeline, and each sample's sum still adds
+        // G·w, then state 1, 2, … in order, as one sample at a time would.
+        let n = out.len();
+        self.drive.clear();
+        self.drive
+            .extend((0..n).map(|_| -> f64 { StandardNormal.sample(&mut self.rng) }));
+        self.sum_v.clear();
+        self.sum_v
+            .extend(self.drive.iter().map(|&drive| self.gain_v * drive));
+        let groups = self
+            .states
+            .chunks_mut(4)
+            .zip(self.poles.chunks(4))
+            .zip(self.residues_v.chunks(4));
+        for ((states, poles), residues) in groups {
+            match states.len() {
+                4 => run_states::<4>(states, poles, residues, &self.drive, &mut self.sum_v),
+                3 => run_states::<3>(states, poles, residues, &self.drive, &mut self.sum_v),
+                2 => run_states::<2>(states, poles, residues, &self.drive, &mut self.sum_v),
+                _ => run_states::<1>(states, poles, residues, &self.drive, &mut self.sum_v),
             }
-            *sample += sum_v;
+        }
+        for (sample, sum) in out.iter_mut().zip(&self.sum_v) {
+            *sample += sum;
         }
     }
+}
+
+/// Adds `N` states' contributions to `sum_v` and advances them over `drive`.
+fn run_states<const N: usize>(
+    states: &mut [f64],
+    poles: &[f64],
+    residues_v: &[f64],
+    drive: &[f64],
+    sum_v: &mut [f64],
+) {
+    let mut state: [f64; N] = std::array::from_fn(|j| states[j]);
+    let pole: [f64; N] = std::array::from_fn(|j| poles[j]);
+    let residue: [f64; N] = std::array::from_fn(|j| residues_v[j]);
+    for (sum, &w) in sum_v.iter_mut().zip(drive) {
+        for j in 0..N {
+            *sum += residue[j] * state[j];
+            state[j] = pole[j] * state[j] + w;
+        }
+    }
+    states.copy_from_slice(&state);
 }
 
 /// |1 − c·e^{−jω}|² = (1 − c)² + 4c·sin²(ω/2), written so that it stays

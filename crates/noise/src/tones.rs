@@ -130,21 +130,54 @@ impl HarmonicSeries {
     }
 
     fn add_to(&mut self, out: &mut [f64]) {
-        for tone in &mut self.tones {
-            for (offset, sample) in out.iter_mut().enumerate() {
-                let index = self.sample_index + offset as u64;
-                if index.is_multiple_of(RESYNC_SAMPLES) {
+        // In runs between resynchronisation points, so that the inner loop is
+        // the bare rotation (the same arithmetic, in the same order, as one
+        // sample at a time with a resync test on every sample).
+        let mut done = 0;
+        while done < out.len() {
+            let index = self.sample_index + done as u64;
+            let into_run = index % RESYNC_SAMPLES;
+            if into_run == 0 {
+                for tone in &mut self.tones {
                     tone.phasor = tone.exact_phasor(index);
                 }
-                *sample += tone.amplitude_v * tone.phasor.0;
-                let (re, im) = tone.phasor;
-                tone.phasor = (
-                    re * tone.step.0 - im * tone.step.1,
-                    re * tone.step.1 + im * tone.step.0,
-                );
             }
+            let run = ((RESYNC_SAMPLES - into_run) as usize).min(out.len() - done);
+            let samples = &mut out[done..done + run];
+            // Four tones at a time, so that four independent rotations overlap
+            // in the pipeline; each sample still adds tone 1, then 2, … in order.
+            for group in self.tones.chunks_mut(4) {
+                match group {
+                    [a, b, c, d] => rotate_and_add([a, b, c, d], samples),
+                    [a, b, c] => rotate_and_add([a, b, c], samples),
+                    [a, b] => rotate_and_add([a, b], samples),
+                    [a] => rotate_and_add([a], samples),
+                    _ => {}
+                }
+            }
+            done += run;
         }
         self.sample_index += out.len() as u64;
+    }
+}
+
+/// Adds `tones` to `samples`, advancing each tone's phasor by one step per sample.
+fn rotate_and_add<const N: usize>(tones: [&mut Tone; N], samples: &mut [f64]) {
+    let amplitude: [f64; N] = std::array::from_fn(|j| tones[j].amplitude_v);
+    let step: [(f64, f64); N] = std::array::from_fn(|j| tones[j].step);
+    let mut phasor: [(f64, f64); N] = std::array::from_fn(|j| tones[j].phasor);
+    for sample in samples.iter_mut() {
+        for j in 0..N {
+            let (re, im) = phasor[j];
+            *sample += amplitude[j] * re;
+            phasor[j] = (
+                re * step[j].0 - im * step[j].1,
+                re * step[j].1 + im * step[j].0,
+            );
+        }
+    }
+    for (tone, phasor) in tones.into_iter().zip(phasor) {
+        tone.phasor = phasor;
     }
 }
 

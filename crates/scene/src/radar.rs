@@ -97,13 +97,25 @@ impl Beam {
 
     /// Two-way amplitude pattern for a direction given in the antenna frame
     /// (`forward` along boresight, `left`, `up`, not necessarily normalised).
+    ///
+    /// cosⁿ(az)·cosᵐ(el) = exp(n·ln cos az + m·ln cos el) with the branch-free
+    /// logarithm and exponential of this crate, so that a loop over a node's
+    /// echoes vectorises (this runs for every echo at every node).
+    #[inline(always)]
     pub fn gain(&self, forward: f64, left: f64, up: f64) -> f64 {
-        if forward <= 0.0 {
-            return self.floor;
+        // Behind the antenna only the floor remains; the clamp keeps the
+        // logarithms finite there, the select below discards their value.
+        let ahead = forward.max(1e-300);
+        let horizontal = (ahead * ahead + left * left).sqrt();
+        let range = (horizontal * horizontal + up * up).sqrt();
+        let log_gain = self.exponent_azimuth * crate::fastmath::ln(ahead / horizontal)
+            + self.exponent_elevation * crate::fastmath::ln(horizontal / range);
+        let gain = crate::fastmath::exp(log_gain).max(self.floor);
+        if forward > 0.0 {
+            gain
+        } else {
+            self.floor
         }
-        let cos_az = forward / forward.hypot(left);
-        let cos_el = forward.hypot(left) / (forward * forward + left * left + up * up).sqrt();
-        (cos_az.powf(self.exponent_azimuth) * cos_el.powf(self.exponent_elevation)).max(self.floor)
     }
 }
 
@@ -133,6 +145,27 @@ mod tests {
         let p = received_power_w(dbm_to_w(10.0), g, g, wavelength_m(5.8e9), 1.0, 5.0);
         let dbm = 10.0 * (p / 1e-3).log10();
         assert!((dbm - (-64.67)).abs() < 0.01, "{dbm}");
+    }
+
+    #[test]
+    fn a_round_beam_is_the_product_of_its_two_cuts() {
+        // The one-power shortcut for equal widths against cosⁿ(az)·cosⁿ(el) (physics.md §1.2).
+        let beam = Beam::new(80.0, 80.0, -30.0);
+        let n = cos_exponent_for_width(80.0);
+        for (f, l, u) in [
+            (1.0, 0.0, 0.0),
+            (2.0, 0.7, -0.4),
+            (0.3, -0.2, 0.25),
+            (5.0, 1.0, 3.0),
+        ] {
+            let h = f64::hypot(f, l);
+            let product = (f / h).powf(n) * (h / (f * f + l * l + u * u).sqrt()).powf(n);
+            let expected = product.max(10f64.powf(-3.0));
+            assert!(
+                (beam.gain(f, l, u) - expected).abs() <= 1e-12 * expected,
+                "{f} {l} {u}"
+            );
+        }
     }
 
     #[test]
