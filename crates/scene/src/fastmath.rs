@@ -71,8 +71,9 @@ pub fn reduce_turns(x: f64) -> f64 {
 const LN_2_HI: f64 = 0.693_147_180_369_123_8;
 const LN_2_LO: f64 = 1.908_214_929_270_587_7e-10;
 
-/// 1/(2k + 1) for k = 0…9: atanh(s)/s = Σ s^{2k}/(2k + 1).
-const ATANH_SERIES: [f64; 10] = [
+/// 1/(2k + 1) for k = 0…7: atanh(s)/s = Σ s^{2k}/(2k + 1), cut where the
+/// next term, s¹⁶/17 ≤ 3e-14 for |s| ≤ 0.172, is below the precision needed.
+const ATANH_SERIES: [f64; 8] = [
     1.0,
     1.0 / 3.0,
     1.0 / 5.0,
@@ -81,12 +82,10 @@ const ATANH_SERIES: [f64; 10] = [
     1.0 / 11.0,
     1.0 / 13.0,
     1.0 / 15.0,
-    1.0 / 17.0,
-    1.0 / 19.0,
 ];
 
-/// 1/k! for k = 0…13.
-const EXP_SERIES: [f64; 14] = [
+/// 1/k! for k = 0…11, cut where the next term, r¹²/12! ≤ 6e-15 for |r| ≤ ln 2 / 2, is negligible.
+const EXP_SERIES: [f64; 12] = [
     1.0,
     1.0,
     1.0 / 2.0,
@@ -99,8 +98,6 @@ const EXP_SERIES: [f64; 14] = [
     1.0 / 362_880.0,
     1.0 / 3_628_800.0,
     1.0 / 39_916_800.0,
-    1.0 / 479_001_600.0,
-    1.0 / 6_227_020_800.0,
 ];
 
 /// Σ coefficients[k]·x^k in Horner form (the loop unrolls; a flat list keeps
@@ -110,10 +107,11 @@ fn horner(coefficients: &[f64], x: f64) -> f64 {
     coefficients.iter().rev().fold(0.0, |sum, &c| sum * x + c)
 }
 
-/// ln x for finite x > 0 (normal numbers), to about 1e-15 relative; branch-free.
+/// ln x for finite x > 0 (normal numbers), to about 1e-13 relative; branch-free.
 ///
 /// x = m·2^e with m in [√½, √2); ln m = 2·atanh(s), s = (m − 1)/(m + 1),
-/// |s| ≤ 0.172, by its series to s¹⁹ (truncation below 1e-16). ln 2 is split
+/// |s| ≤ 0.172, by its series to s¹⁵. The beam pattern needs far less than
+/// 1e-13 (an amplitude error of 1e-13 is 1e-9 of a 16-bit ADC step). ln 2 is split
 /// in two parts (fdlibm's ln2_hi, ln2_lo) so that e·ln 2 adds no rounding.
 #[inline(always)]
 pub fn ln(x: f64) -> f64 {
@@ -130,10 +128,10 @@ pub fn ln(x: f64) -> f64 {
     e * LN_2_HI + (2.0 * s * series + e * LN_2_LO)
 }
 
-/// e^y for −700 ≤ y ≤ 700, to about 1e-15 relative; branch-free.
+/// e^y for −700 ≤ y ≤ 700, to about 1e-14 relative; branch-free.
 ///
 /// y = k·ln 2 + r with |r| ≤ ln 2 / 2 (Cody–Waite, the split ln 2 above), e^r
-/// by its Taylor series to r¹³ (truncation below 1e-16), 2^k set in the exponent bits.
+/// by its Taylor series to r¹¹, 2^k set in the exponent bits.
 #[inline(always)]
 pub fn exp(y: f64) -> f64 {
     let y = y.clamp(-700.0, 700.0);
@@ -160,7 +158,8 @@ mod tests {
             let x = i as f64 / 10_000.0;
             worst = worst.max((ln(x) - x.ln()).abs() / x.ln().abs().max(1e-3));
         }
-        assert!(worst < 4e-15, "ln: worst relative error {worst:e}");
+        // Measured: 3.4e-14 (ln), 8.8e-15 (exp).
+        assert!(worst < 1e-13, "ln: worst relative error {worst:e}");
         assert_eq!(ln(1.0), 0.0);
         let mut worst: f64 = 0.0;
         let mut y = -700.0;
@@ -168,7 +167,7 @@ mod tests {
             worst = worst.max((exp(y) - y.exp()).abs() / y.exp());
             y += 0.0137;
         }
-        assert!(worst < 4e-15, "exp: worst relative error {worst:e}");
+        assert!(worst < 1e-14, "exp: worst relative error {worst:e}");
         assert_eq!(exp(0.0), 1.0);
     }
 

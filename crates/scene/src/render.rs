@@ -301,8 +301,23 @@ fn wide_vectors_available() -> bool {
 fn apply_beam(beam: &Beam, nodes: &mut [EchoNode], directions: &[Vec3]) {
     #[inline(always)]
     fn portable(beam: &Beam, nodes: &mut [EchoNode], directions: &[Vec3]) {
-        for (node, direction) in nodes.iter_mut().zip(directions) {
-            node.amplitude_v *= beam.gain(direction[0], direction[1], direction[2]);
+        // Four echoes at a time through fixed-size arrays: a node has only a
+        // handful of echoes, too few for the loop vectoriser, but a fixed
+        // four-lane body is vectorised as a whole. Padding lanes point along
+        // boresight and are dropped.
+        const LANES: usize = 4;
+        for (nodes, directions) in nodes.chunks_mut(LANES).zip(directions.chunks(LANES)) {
+            let (mut forward, mut left, mut up) = ([1.0; LANES], [0.0; LANES], [0.0; LANES]);
+            for (j, d) in directions.iter().enumerate() {
+                (forward[j], left[j], up[j]) = (d[0], d[1], d[2]);
+            }
+            let mut gains = [0.0; LANES];
+            for j in 0..LANES {
+                gains[j] = beam.gain(forward[j], left[j], up[j]);
+            }
+            for (node, gain) in nodes.iter_mut().zip(gains) {
+                node.amplitude_v *= gain;
+            }
         }
     }
     #[cfg(target_arch = "x86_64")]
