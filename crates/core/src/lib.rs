@@ -4,11 +4,14 @@
 //! ours. It holds the description of a sample stream ([`StreamInfo`]), time
 //! intervals with a checked invariant ([`Interval`]), detector scores
 //! ([`Score`]) and the stable, counter-based seeding ([`seed::StreamKey`]) that
-//! makes every trial reproducible whatever the thread count or shard split.
+//! makes every trial reproducible whatever the thread count or shard split,
+//! and the branch-free elementary functions of the synthesis loops
+//! ([`fastmath`]), whose results do not depend on the platform's maths library.
 #![deny(missing_docs)]
 
 pub mod atomic;
 pub mod detector;
+pub mod fastmath;
 pub mod seed;
 
 use std::fmt;

@@ -34,6 +34,7 @@ use crate::reflector::{
     add, cross, hermite_node_rate_hz, scale, Check, ParamError, MIN_NODE_RATE_HZ, NODES_PER_CYCLE,
 };
 use crate::{dot, norm, sub, Echo, MotionModel, Vec3};
+use echobench_core::fastmath::sin_cos;
 use std::f64::consts::PI;
 
 /// Nodes per blade flash (the sinc main lobe), so that linear interpolation of
@@ -107,6 +108,9 @@ pub struct Fan {
     wavelength_m: f64,
     /// Orthonormal basis of the rotor plane; `in_plane_u × in_plane_v = axis`.
     in_plane_u: Vec3,
+    /// (sin, cos) of the blade tilt and of the angle between blades, 2π/B.
+    blade_tilt: (f64, f64),
+    blade_step: (f64, f64),
     in_plane_v: Vec3,
 }
 
@@ -115,7 +119,7 @@ pub fn sinc(x: f64) -> f64 {
     if x.abs() < 1e-8 {
         1.0 - x * x / 6.0
     } else {
-        x.sin() / x
+        sin_cos(x).0 / x
     }
 }
 
@@ -176,6 +180,8 @@ impl Fan {
             params,
             wavelength_m,
             in_plane_u,
+            blade_tilt: params.blade_tilt_rad.sin_cos(),
+            blade_step: (2.0 * PI / params.blade_count as f64).sin_cos(),
             in_plane_v,
         })
     }
@@ -206,14 +212,18 @@ impl Fan {
     }
 
     /// Hub displacement (m) and velocity (m/s) at `t_s`.
-    fn hub_motion(&self, t_s: f64) -> (Vec3, Vec3) {
+    /// Hub displacement and velocity at `t_s`, given the rotor angle's (sin, cos).
+    fn hub_motion(&self, t_s: f64, rotor: (f64, f64)) -> (Vec3, Vec3) {
         let p = &self.params;
+        if p.imbalance_whirl_m == 0.0 && p.mains_vibration_m == 0.0 {
+            return ([0.0; 3], [0.0; 3]);
+        }
         let omega = self.angular_rate_rad_s();
-        let (s, c) = (omega * t_s + p.initial_angle_rad).sin_cos();
+        let (s, c) = rotor;
         let radial = add(scale(self.in_plane_u, c), scale(self.in_plane_v, s));
         let tangential = add(scale(self.in_plane_u, -s), scale(self.in_plane_v, c));
         let omega_mains = 2.0 * PI * 2.0 * p.mains_hz;
-        let (sm, cm) = (omega_mains * t_s).sin_cos();
+        let (sm, cm) = sin_cos(omega_mains * t_s);
         let displacement = add(
             scale(radial, p.imbalance_whirl_m),
             scale(p.axis, p.mains_vibration_m * sm),
@@ -230,17 +240,19 @@ impl MotionModel for Fan {
     fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>) {
         let p = self.params;
         let omega = self.angular_rate_rad_s();
-        let (hub_shift, hub_velocity) = self.hub_motion(t_s);
+        // The rotor angle of blade 0 (the whirl turns with it); the other
+        // blades by rotating its (sin, cos) through 2π/B, one turn each.
+        let rotor = sin_cos(omega * t_s + p.initial_angle_rad);
+        let (hub_shift, hub_velocity) = self.hub_motion(t_s, rotor);
         let hub = add(p.hub_m, hub_shift);
         let centre_radius_m = 0.5 * (p.root_radius_m + p.tip_radius_m);
         let blade_length_m = p.tip_radius_m - p.root_radius_m;
-        let (tilt_s, tilt_c) = p.blade_tilt_rad.sin_cos();
+        let (tilt_s, tilt_c) = self.blade_tilt;
+        let (step_s, step_c) = self.blade_step;
         let blade_amplitude_m = p.blade_rcs_m2.sqrt();
         let wavenumber = 4.0 * PI / self.wavelength_m;
-        for k in 0..p.blade_count {
-            let psi =
-                omega * t_s + p.initial_angle_rad + 2.0 * PI * k as f64 / p.blade_count as f64;
-            let (s, c) = psi.sin_cos();
+        let (mut s, mut c) = rotor;
+        for _ in 0..p.blade_count {
             let radial = add(scale(self.in_plane_u, c), scale(self.in_plane_v, s));
             let tangential = add(scale(self.in_plane_u, -s), scale(self.in_plane_v, c));
             let direction = add(scale(radial, tilt_c), scale(p.axis, tilt_s));
@@ -261,6 +273,7 @@ impl MotionModel for Fan {
                 velocity_mps: velocity,
                 amplitude_m: blade_amplitude_m * sinc(wavenumber * 0.5 * blade_length_m * along),
             });
+            (s, c) = (s * step_c + c * step_s, c * step_c - s * step_s);
         }
         out.push(Echo {
             position_m: hub,

@@ -16,7 +16,6 @@
 pub mod actors;
 mod build;
 pub mod export;
-mod fastmath;
 mod models;
 pub mod param;
 pub mod radar;

@@ -108,9 +108,9 @@ impl Beam {
         let ahead = forward.max(1e-300);
         let horizontal = (ahead * ahead + left * left).sqrt();
         let range = (horizontal * horizontal + up * up).sqrt();
-        let log_gain = self.exponent_azimuth * crate::fastmath::ln(ahead / horizontal)
-            + self.exponent_elevation * crate::fastmath::ln(horizontal / range);
-        let gain = crate::fastmath::exp(log_gain).max(self.floor);
+        let log_gain = self.exponent_azimuth * echobench_core::fastmath::ln(ahead / horizontal)
+            + self.exponent_elevation * echobench_core::fastmath::ln(horizontal / range);
+        let gain = echobench_core::fastmath::exp(log_gain).max(self.floor);
         if forward > 0.0 {
             gain
         } else {

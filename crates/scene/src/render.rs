@@ -9,8 +9,8 @@
 //! of metres), so the in-segment phase stays small and the fast sine/cosine
 //! stays accurate.
 
-use crate::fastmath::{reduce_turns, sin_cos};
 use crate::radar::Beam;
+use echobench_core::fastmath::{reduce_turns, sin_cos};
 use echobench_motion::{dot, sub, Echo, MotionModel, Vec3};
 
 /// The radar seen from the echo's side: where the sensor is, how it points and how strong it is.

@@ -1,5 +1,8 @@
 //! Branch-free sine/cosine, logarithm and exponential for the synthesis loops.
 //!
+//! Written out here rather than taken from the platform's maths library so
+//! that they inline into vectorised loops and give the same bits everywhere.
+//!
 //! `f64::sin_cos` is a library call per value and stops the compiler from
 //! vectorising the loop over samples. This version reduces the argument by
 //! π/2 with a two-constant Cody–Waite split and evaluates Taylor polynomials
