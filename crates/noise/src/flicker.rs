@@ -103,6 +103,56 @@ struct Shelf {
     zero: f64,
 }
 
+/// A designed cascade and its parallel form, before the output gain.
+#[derive(Debug)]
+struct Design {
+    shelves: Vec<Shelf>,
+    log_gain: f64,
+    residues: Vec<f64>,
+}
+
+/// Designs kept per (lowest frequency, sample rate): the fit takes a few tenths
+/// of a millisecond and every trial of a scene asks for the same one. The
+/// design is a pure function of the two numbers, so a cached copy is the same
+/// bits as a fresh one.
+type DesignCache = std::sync::Mutex<std::collections::HashMap<(u64, u64), std::sync::Arc<Design>>>;
+
+/// Distinct designs kept at most (a suite has a handful; the cap bounds memory).
+const MAX_CACHED_DESIGNS: usize = 64;
+
+fn cached_design(lowest_hz: f64, fs: f64) -> std::sync::Arc<Design> {
+    static CACHE: std::sync::OnceLock<DesignCache> = std::sync::OnceLock::new();
+    let cache = CACHE.get_or_init(Default::default);
+    let key = (lowest_hz.to_bits(), fs.to_bits());
+    // A poisoned lock only means another thread panicked mid-insert of a whole
+    // `Arc`; the map itself is intact.
+    let lookup = |cache: &DesignCache| {
+        cache
+            .lock()
+            .unwrap_or_else(|poisoned| poisoned.into_inner())
+            .get(&key)
+            .cloned()
+    };
+    if let Some(design) = lookup(cache) {
+        return design;
+    }
+    let (shelves, log_gain) = design_shelves(lowest_hz, fs);
+    let residues = parallel_residues(&shelves);
+    let design = std::sync::Arc::new(Design {
+        shelves,
+        log_gain,
+        residues,
+    });
+    let mut map = cache
+        .lock()
+        .unwrap_or_else(|poisoned| poisoned.into_inner());
+    if map.len() >= MAX_CACHED_DESIGNS {
+        map.clear();
+    }
+    map.insert(key, design.clone());
+    design
+}
+
 /// Flicker noise with one-sided PSD S_w·f_c/f between `lowest_hz` and ≈ 0.4·f_s.
 #[derive(Debug, Clone)]
 pub struct FlickerNoise {
@@ -185,15 +235,13 @@ impl FlickerNoise {
         if power_per_neper_v2 <= 0.0 {
             return Ok(flicker);
         }
-        let (shelves, log_gain) = design_shelves(lowest_hz, fs);
+        let design = cached_design(lowest_hz, fs);
+        let shelves = design.shelves.clone();
         // Unit white noise has the one-sided PSD 2/f_s, and the fit makes
         // e^g·|H|² ≈ 1/f, so G²·(2/f_s)·|H|² = S_w f_c / f needs G² = S_w f_c e^g f_s/2.
-        let gain_v = (power_per_neper_v2 * log_gain.exp() * fs / 2.0).sqrt();
+        let gain_v = (power_per_neper_v2 * design.log_gain.exp() * fs / 2.0).sqrt();
         let poles: Vec<f64> = shelves.iter().map(|s| s.pole).collect();
-        let residues_v = parallel_residues(&shelves)
-            .into_iter()
-            .map(|e| gain_v * e)
-            .collect();
+        let residues_v = design.residues.iter().map(|e| gain_v * e).collect();
         let states = stationary_states(&poles, &mut rng);
         flicker.shelves = shelves;
         flicker.gain_v = gain_v;
