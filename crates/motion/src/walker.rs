@@ -9,6 +9,10 @@
 //! segment for the current line of sight ([`crate::rcs::segment_rcs_m2`]), so a
 //! scene can scale the whole body's RCS with one number.
 //!
+//! The body-frame pose and segment velocities come from the gait cycle
+//! tabulated once per walker ([`CycleTable`]: within 1 µm of the model), not
+//! from the joint curves and forward kinematics at every node.
+//!
 //! The gait phase runs on the path's moving time, so it resumes where it
 //! stopped after a pause. During a pause the body settles into the standing
 //! pose and back with a raised-cosine blend lasting one step (half a gait
@@ -129,7 +133,7 @@ impl Walker {
 
     /// Samples one gait cycle for the speed bound and the node-rate inputs.
     fn bound_kinematics(&mut self) {
-        let gait = &self.table;
+        let table = &self.table;
         let cycle_s = self.gait.cycle_s();
         let v = self.gait.speed_mps();
         let n = SPEED_SAMPLES_PER_CYCLE;
@@ -142,7 +146,7 @@ impl Walker {
         // raised-cosine ramps of length T, see `standing_weight`).
         let blend_rate = PI / self.settle_s;
         for (i, velocity) in velocities.iter_mut().enumerate() {
-            gait.pose_with_velocity(i as f64 * dt, &mut pose, velocity);
+            table.pose_with_velocity(i as f64 * dt, &mut pose, velocity);
             for (k, segment) in pose.segments.iter().enumerate() {
                 let u = velocity[k];
                 walking_peak = walking_peak.max(crate::norm([u[0] + v, u[1], u[2]]));
