@@ -523,7 +523,10 @@ impl EnergyDetector {
     fn push_power(&mut self, power: f64, out: &mut Vec<Score>) {
         let n = self.config.frame_len;
         self.powers[self.head] = power;
-        self.head = (self.head + 1) % n;
+        self.head += 1;
+        if self.head == n {
+            self.head = 0;
+        }
         self.filled = (self.filled + 1).min(n);
         self.consumed += 1;
         self.countdown -= 1;

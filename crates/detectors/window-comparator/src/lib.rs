@@ -315,8 +315,16 @@ impl PeakWindow {
         }
     }
 
+    /// Ring index `offset` entries after the front (`offset` ≤ capacity).
     fn slot(&self, offset: usize) -> usize {
-        (self.front + offset) % self.entries.len()
+        // A subtraction, not `%`: this runs several times per sample, and an
+        // integer division costs more than the rest of the update.
+        let index = self.front + offset;
+        if index >= self.entries.len() {
+            index - self.entries.len()
+        } else {
+            index
+        }
     }
 
     /// Adds |y| of sample `index`; forgets samples older than the window.
