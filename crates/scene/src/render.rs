@@ -5,9 +5,10 @@
 //! amplitude are computed once in f64. Between nodes the range is a cubic
 //! Hermite polynomial through (R, Ṙ) at both ends, so the phase 4πR/λ and its
 //! rate (the Doppler) are continuous; the amplitude is linear. The phase at
-//! the node is reduced modulo 2π in f64 (exact to ~1e-12 rad for rooms of tens
+//! the node is reduced to [−π, π] in f64 (exact to ~1e-12 rad for rooms of tens
 //! of metres), so the in-segment phase stays small and the fast sine/cosine
-//! stays accurate.
+//! stays accurate. The samples are written in two passes (phases, then one
+//! long sine/cosine loop per echo; see [`ActorTrack::render`]).
 
 use crate::radar::Beam;
 use echobench_core::fastmath::{reduce_turns, sin_cos};
