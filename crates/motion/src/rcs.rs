@@ -18,13 +18,22 @@ pub fn ellipsoid_rcs_m2(a_m: f64, b_m: f64, c_m: f64, theta_rad: f64, phi_rad: f
 /// RCS of a body of revolution (`a = b = radius_m`) with half-length `half_length_m`
 /// along unit axis `axis`, seen along the unit line of sight `los`.
 pub fn segment_rcs_m2(radius_m: f64, half_length_m: f64, axis: [f64; 3], los: [f64; 3]) -> f64 {
-    // The ellipsoid formula with a = b needs only cos²θ and sin²θ = 1 − cos²θ,
-    // so no angle is formed (this runs for every segment at every node).
-    let cos_theta = (axis[0] * los[0] + axis[1] * los[1] + axis[2] * los[2]).clamp(-1.0, 1.0);
+    let cos_theta = axis[0] * los[0] + axis[1] * los[1] + axis[2] * los[2];
+    let root = segment_root_rcs_m(radius_m, half_length_m, cos_theta);
+    root * root
+}
+
+/// √σ of a body of revolution seen at `cos_theta` from its axis: the factor an
+/// echo's amplitude carries. With a = b the ellipsoid formula needs only
+/// cos²θ and sin²θ = 1 − cos²θ, and its square root is
+/// √π·a²·c / (a² sin²θ + c² cos²θ): no angle and no square root are formed
+/// (this runs for every segment at every node). `cos_theta` is clamped to [−1, 1].
+pub fn segment_root_rcs_m(radius_m: f64, half_length_m: f64, cos_theta: f64) -> f64 {
+    let cos_theta = cos_theta.clamp(-1.0, 1.0);
     let cos2 = cos_theta * cos_theta;
     let (a2, c2) = (radius_m * radius_m, half_length_m * half_length_m);
     let denom = a2 * (1.0 - cos2) + c2 * cos2;
-    std::f64::consts::PI * a2 * a2 * c2 / (denom * denom)
+    std::f64::consts::PI.sqrt() * a2 * half_length_m.abs() / denom
 }
 
 /// Peak (normal-incidence) RCS of a flat plate of area `area_m2`: σ = 4πA²/λ²

@@ -22,7 +22,7 @@
 //! Away from the blends the standing body is still (zero velocity).
 
 use crate::path::Path;
-use crate::rcs::segment_rcs_m2;
+use crate::rcs::segment_root_rcs_m;
 use crate::reflector::ParamError;
 use crate::{Echo, MotionModel, Vec3};
 use echobench_gait::{CycleTable, Gait, Pose, SEGMENT_COUNT};
@@ -54,6 +54,8 @@ pub struct Walker {
     table: CycleTable,
     path: Path,
     rcs_scale: f64,
+    /// √rcs_scale, the factor on every echo's amplitude.
+    root_rcs_scale: f64,
     /// Walking intervals of the path (pauses and the time outside the path excluded).
     walking: Vec<(f64, f64)>,
     /// Duration of the settle blend into and out of the standing pose, s.
@@ -105,6 +107,7 @@ impl Walker {
             gait,
             path,
             rcs_scale,
+            root_rcs_scale: rcs_scale.sqrt(),
             walking,
             settle_s,
             standing,
@@ -262,7 +265,8 @@ impl Walker {
 impl MotionModel for Walker {
     fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>) {
         let state = self.path.state(t_s);
-        let mut pose = Pose::default();
+        // Any pose will do as the starting value: `body_state` overwrites it.
+        let mut pose = self.standing;
         let mut velocity = [[0.0; 3]; SEGMENT_COUNT];
         self.body_state(t_s, &mut pose, &mut velocity);
 
@@ -280,22 +284,18 @@ impl MotionModel for Walker {
             let to_sensor = crate::sub(sensor_m, position_m);
             let range_m = crate::norm(to_sensor);
             // At the sensor itself (or with a bad sensor position) the aspect
-            // is undefined; the zero vector reads as broadside.
-            let los = if range_m > 1e-12 && range_m.is_finite() {
-                to_sensor.map(|c| c / range_m)
+            // is undefined; it reads as broadside.
+            let cos_aspect = if range_m > 1e-12 && range_m.is_finite() {
+                crate::dot(turn(segment.axis), to_sensor) / range_m
             } else {
-                [0.0; 3]
+                0.0
             };
-            let sigma_m2 = segment_rcs_m2(
-                segment.radius_m,
-                segment.half_length_m,
-                turn(segment.axis),
-                los,
-            );
+            let root_rcs_m =
+                segment_root_rcs_m(segment.radius_m, segment.half_length_m, cos_aspect);
             out.push(Echo {
                 position_m,
                 velocity_mps,
-                amplitude_m: state.presence * (self.rcs_scale * sigma_m2).sqrt(),
+                amplitude_m: state.presence * self.root_rcs_scale * root_rcs_m,
             });
         }
     }
