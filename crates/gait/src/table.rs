@@ -7,8 +7,8 @@
 //! a cubic Hermite through the centres and their velocities is accurate to
 //! h⁴·|x⁗|/384 (de Boor, *A Practical Guide to Splines*, ch. II); a knot
 //! inside an interval would cost J·h²/62 for an acceleration jump J instead,
-//! three orders of magnitude more at this grid. Axes are interpolated
-//! linearly and renormalised (they only set the aspect of the RCS).
+//! an error that falls only as h². Axes are interpolated linearly and
+//! renormalised (they only set the aspect of the RCS).
 
 use crate::pchip::wrap_unit;
 use crate::{Gait, Pose, SEGMENT_COUNT};
