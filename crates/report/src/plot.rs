@@ -479,6 +479,70 @@ pub fn text_width(text: &str, font_px: f64) -> f64 {
     text.chars().count() as f64 * font_px * CHAR_EM
 }
 
+/// Which way an axis runs on the page.
+#[derive(Clone, Copy)]
+enum Direction {
+    /// The x axis, along the bottom edge.
+    Across,
+    /// The y axis, up the left edge.
+    Up,
+}
+
+/// One axis's grid lines (at labelled ticks), tick marks (long where
+/// labelled) and labels, inside the frame.
+fn draw_ticks(body: &mut String, frame: &Frame, axis: &Axis, direction: Direction) {
+    let bottom = frame.top + frame.height;
+    for tick in axis.ticks() {
+        let (position, low, high) = match direction {
+            Direction::Across => (
+                frame.x(axis, tick.value),
+                frame.left,
+                frame.left + frame.width,
+            ),
+            Direction::Up => (frame.y(axis, tick.value), frame.top, bottom),
+        };
+        let Some(p) = position else {
+            continue;
+        };
+        if !(low - 0.5..=high + 0.5).contains(&p) {
+            continue;
+        }
+        let major = !tick.label.is_empty();
+        let tick_len = if major { 6.0 } else { 3.0 };
+        let line = |body: &mut String, (x1, y1, x2, y2): (f64, f64, f64, f64), colour: &str| {
+            let _ = write!(
+                body,
+                "<line x1=\"{x1:.1}\" y1=\"{y1:.1}\" x2=\"{x2:.1}\" y2=\"{y2:.1}\" stroke=\"{colour}\" stroke-width=\"1\"/>"
+            );
+        };
+        match direction {
+            Direction::Across => {
+                if major {
+                    line(body, (p, frame.top, p, bottom), GRID);
+                }
+                line(body, (p, bottom, p, bottom + tick_len), INK);
+                if major {
+                    body.push_str(&text(p, bottom + 20.0, "middle", FONT_PX, &tick.label, ""));
+                }
+            }
+            Direction::Up => {
+                if major {
+                    line(body, (frame.left, p, frame.left + frame.width, p), GRID);
+                    body.push_str(&text(
+                        frame.left - 9.0,
+                        p + 4.5,
+                        "end",
+                        FONT_PX,
+                        &tick.label,
+                        "",
+                    ));
+                }
+                line(body, (frame.left - tick_len, p, frame.left, p), INK);
+            }
+        }
+    }
+}
+
 struct Frame {
     left: f64,
     top: f64,
@@ -733,72 +797,8 @@ pub fn render_chart(chart: &Chart) -> String {
         "<rect x=\"{:.1}\" y=\"{:.1}\" width=\"{:.1}\" height=\"{:.1}\" fill=\"#ffffff\" stroke=\"{INK}\" stroke-width=\"1\"/>",
         frame.left, frame.top, frame.width, frame.height
     );
-    for tick in chart.x.ticks() {
-        let Some(x) = frame.x(&chart.x, tick.value) else {
-            continue;
-        };
-        if !(frame.left - 0.5..=frame.left + frame.width + 0.5).contains(&x) {
-            continue;
-        }
-        let major = !tick.label.is_empty();
-        if major {
-            let _ = write!(
-                body,
-                "<line x1=\"{x:.1}\" y1=\"{:.1}\" x2=\"{x:.1}\" y2=\"{:.1}\" stroke=\"{GRID}\" stroke-width=\"1\"/>",
-                frame.top,
-                frame.top + frame.height
-            );
-        }
-        let tick_len = if major { 6.0 } else { 3.0 };
-        let _ = write!(
-            body,
-            "<line x1=\"{x:.1}\" y1=\"{:.1}\" x2=\"{x:.1}\" y2=\"{:.1}\" stroke=\"{INK}\" stroke-width=\"1\"/>",
-            frame.top + frame.height,
-            frame.top + frame.height + tick_len
-        );
-        if major {
-            body.push_str(&text(
-                x,
-                frame.top + frame.height + 20.0,
-                "middle",
-                FONT_PX,
-                &tick.label,
-                "",
-            ));
-        }
-    }
-    for tick in chart.y.ticks() {
-        let Some(y) = frame.y(&chart.y, tick.value) else {
-            continue;
-        };
-        if !(frame.top - 0.5..=frame.top + frame.height + 0.5).contains(&y) {
-            continue;
-        }
-        let major = !tick.label.is_empty();
-        if major {
-            let _ = write!(
-                body,
-                "<line x1=\"{:.1}\" y1=\"{y:.1}\" x2=\"{:.1}\" y2=\"{y:.1}\" stroke=\"{GRID}\" stroke-width=\"1\"/>",
-                frame.left,
-                frame.left + frame.width
-            );
-            body.push_str(&text(
-                frame.left - 9.0,
-                y + 4.5,
-                "end",
-                FONT_PX,
-                &tick.label,
-                "",
-            ));
-        }
-        let tick_len = if major { 6.0 } else { 3.0 };
-        let _ = write!(
-            body,
-            "<line x1=\"{:.1}\" y1=\"{y:.1}\" x2=\"{:.1}\" y2=\"{y:.1}\" stroke=\"{INK}\" stroke-width=\"1\"/>",
-            frame.left - tick_len,
-            frame.left
-        );
-    }
+    draw_ticks(&mut body, &frame, &chart.x, Direction::Across);
+    draw_ticks(&mut body, &frame, &chart.y, Direction::Up);
     // The break between the zero edge and the first decade.
     if let Scale::Log { zero_edge: true } = chart.x.scale {
         let x = frame.left + frame.width * ZERO_EDGE_SHARE * 0.55;
