@@ -6,8 +6,8 @@
 //! body-frame pose turned to the path heading; its velocity is the path
 //! velocity plus the turned body-frame segment velocity. Its amplitude is
 //! presence · √(rcs_scale · σ_k), σ_k the geometric-optics ellipsoid RCS of the
-//! segment for the current line of sight ([`crate::rcs::segment_rcs_m2`]), so a
-//! scene can scale the whole body's RCS with one number.
+//! segment for the current line of sight ([`crate::rcs::segment_root_rcs_m`]
+//! gives √σ_k), so a scene can scale the whole body's RCS with one number.
 //!
 //! The body-frame pose and segment velocities come from the gait cycle
 //! tabulated once per walker ([`CycleTable`]: within 1 µm of the model), not

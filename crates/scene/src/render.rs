@@ -98,7 +98,7 @@ impl RadarGeometry {
                 dot(offset, self.up),
             ]);
         }
-        apply_beam(&self.beam, out, directions);
+        apply_beam(&self.beam, out, directions, wide_vectors_available());
     }
 
     /// Horizontal distance and azimuth off boresight (degrees) of a point.
@@ -298,8 +298,9 @@ fn wide_vectors_available() -> bool {
 }
 
 /// Multiplies every node's amplitude by the beam pattern in its direction,
-/// four lanes wide on AVX2 (the same operations either way, as [`Samples::add`]).
-fn apply_beam(beam: &Beam, nodes: &mut [EchoNode], directions: &[Vec3]) {
+/// on the AVX2 path when `wide` is set (the same operations either way, as
+/// [`Samples::add`]; a test compares the two).
+fn apply_beam(beam: &Beam, nodes: &mut [EchoNode], directions: &[Vec3], wide: bool) {
     #[inline(always)]
     fn portable(beam: &Beam, nodes: &mut [EchoNode], directions: &[Vec3]) {
         // Four echoes at a time through fixed-size arrays: a node has only a
@@ -327,11 +328,12 @@ fn apply_beam(beam: &Beam, nodes: &mut [EchoNode], directions: &[Vec3]) {
         portable(beam, nodes, directions);
     }
     #[cfg(target_arch = "x86_64")]
-    if wide_vectors_available() {
-        // SAFETY: the CPU reports AVX2.
+    if wide {
+        // SAFETY: `wide` is only set when the CPU reports AVX2 (`wide_vectors_available`).
         unsafe { avx2(beam, nodes, directions) };
         return;
     }
+    let _ = wide;
     portable(beam, nodes, directions);
 }
 
@@ -390,6 +392,42 @@ impl Samples<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_beam_pattern_gives_the_same_bits_on_both_paths() {
+        if !wide_vectors_available() {
+            eprintln!("skipped: this CPU has no AVX2, only the portable path exists here");
+            return;
+        }
+        let beam = Beam::new(80.0, 60.0, -25.0);
+        // Seven echoes: one full four-lane group and a padded one, one behind the antenna.
+        let directions: Vec<Vec3> = (0..7)
+            .map(|i| [2.0 - 0.7 * i as f64, 0.3 * i as f64 - 1.0, 0.1 * i as f64])
+            .collect();
+        let nodes: Vec<EchoNode> = (0..7)
+            .map(|i| EchoNode {
+                range_m: 1.0 + i as f64,
+                range_rate_mps: 0.0,
+                amplitude_v: 1e-3 * (1.0 + i as f64),
+            })
+            .collect();
+        let mut results = Vec::new();
+        for wide in [false, true] {
+            let mut out = nodes.clone();
+            apply_beam(&beam, &mut out, &directions, wide);
+            results.push(
+                out.iter()
+                    .map(|n| n.amplitude_v.to_bits())
+                    .collect::<Vec<_>>(),
+            );
+        }
+        assert_eq!(results[0], results[1]);
+        // The pattern was applied: each amplitude is the node's times the scalar gain.
+        for ((node, d), bits) in nodes.iter().zip(&directions).zip(&results[0]) {
+            let expected = node.amplitude_v * beam.gain(d[0], d[1], d[2]);
+            assert_eq!(f64::from_bits(*bits), expected);
+        }
+    }
 
     #[test]
     fn the_wide_and_the_portable_paths_give_the_same_bits() {
