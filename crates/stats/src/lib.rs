@@ -45,9 +45,12 @@ pub use proportion::{
     clopper_pearson_interval, clopper_pearson_lower_bound, clopper_pearson_upper_bound,
     jeffreys_interval, rule_of_three_upper_bound, trials_for_zero_event_claim, wilson_interval,
 };
-pub use rate::{exposure_for_rate_claim, garwood_interval, garwood_upper_bound};
+pub use rate::{
+    exposure_for_rate_claim, exposure_to_resolve_rate, garwood_interval, garwood_lower_bound,
+    garwood_upper_bound, rate_over_limit_p_value,
+};
 pub use roc::{
-    auc_mann_whitney, auc_standard_error_hanley_mcneil, mann_whitney_u, partial_auc,
-    partial_auc_mcclish, pd_at_pfa_conservative, pd_at_pfa_interpolated, roc_area, roc_points,
-    RocPoint,
+    auc_mann_whitney, auc_standard_error_hanley_mcneil, event_roc_monotone_len, mann_whitney_u,
+    partial_auc, partial_auc_mcclish, pd_at_pfa_conservative, pd_at_pfa_interpolated, roc_area,
+    roc_points, RocPoint,
 };

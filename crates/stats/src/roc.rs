@@ -123,6 +123,31 @@ pub fn roc_area(roc: &[RocPoint]) -> f64 {
         .sum()
 }
 
+/// How many leading vertices of an event-level ROC keep the meaning of a ROC curve: given
+/// `(detected, false_alarms)` counts per threshold ordered **from the highest threshold
+/// down**, the length of the first run in which both counts never fall.
+///
+/// A trial-level ROC ([`roc_points`]) is monotone by construction. An event-level one is not:
+/// at low thresholds an alarm that never switches off has fewer onsets, so both the detected
+/// events and the false alarms *fall* as the threshold falls, and the curve folds back
+/// towards the origin. Past the first such fall "up and to the left is better" no longer
+/// reads true, so echobench draws only this leading run (a ROC of a scored rule is a
+/// monotone staircase in the threshold, Fawcett 2006; cutting at the first fall is
+/// echobench's choice). With the same events and exposure
+/// at every threshold, monotone counts are monotone Pd and false-alarm rate.
+///
+/// ```
+/// // Thresholds high → low: detection and false alarms grow, then the alarm sticks on.
+/// let counts = [(3, 0), (7, 1), (9, 4), (9, 6), (8, 6), (5, 2)];
+/// assert_eq!(echobench_stats::event_roc_monotone_len(&counts), 4);
+/// ```
+pub fn event_roc_monotone_len(counts_high_to_low: &[(u64, u64)]) -> usize {
+    counts_high_to_low
+        .windows(2)
+        .position(|w| w[1].0 < w[0].0 || w[1].1 < w[0].1)
+        .map_or(counts_high_to_low.len(), |i| i + 1)
+}
+
 /// Index of the last vertex with `pfa <= target`, if any. Relies on non-decreasing Pfa.
 fn last_at_or_below(roc: &[RocPoint], target_pfa: f64) -> Option<usize> {
     roc.partition_point(|p| p.0 <= target_pfa).checked_sub(1)
@@ -218,6 +243,18 @@ pub fn auc_standard_error_hanley_mcneil(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn monotone_run_stops_at_the_first_fall_of_either_count() {
+        assert_eq!(event_roc_monotone_len(&[]), 0);
+        assert_eq!(event_roc_monotone_len(&[(4, 2)]), 1);
+        // Ties keep going: a flat step is still monotone.
+        assert_eq!(event_roc_monotone_len(&[(1, 0), (1, 0), (2, 3)]), 3);
+        // Only the false alarms fall: cut there, even though detection still rises.
+        assert_eq!(event_roc_monotone_len(&[(1, 5), (2, 4), (3, 9)]), 1);
+        // A fall and a later rise: everything from the first fall on is cut.
+        assert_eq!(event_roc_monotone_len(&[(1, 1), (2, 2), (1, 2), (5, 9)]), 2);
+    }
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
 
