@@ -19,8 +19,9 @@
 //! before any trial runs. It also declares its cost ([`Cost`]): state memory
 //! and arithmetic per sample, for a team that must fit it in a small MCU.
 
+use crate::doppler::Framing;
 use crate::{Score, StreamInfo};
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
 
 /// A running detector: state for one stream.
@@ -78,6 +79,65 @@ pub trait DetectorPlugin: Send + Sync {
         _info: &StreamInfo,
     ) -> Option<NominalPoint> {
         None
+    }
+
+    /// The Doppler bands this detector uses with these parameters on this
+    /// stream, in Hz (resolved from m/s through the carrier where they were
+    /// given as speeds), so the harness can check that a target's Doppler
+    /// falls where the detector looks. Empty (the default) when the plugin
+    /// declares none, or when the parameters do not fit the stream (`build`
+    /// says why).
+    fn doppler_bands(&self, _params: &Params, _info: &StreamInfo) -> Vec<DopplerBand> {
+        Vec::new()
+    }
+
+    /// The frame this detector analyses with these parameters on this stream,
+    /// for listings (`echobench detectors`). `None` (the default) when the
+    /// plugin declares none or the parameters do not fit the stream.
+    fn framing(&self, _params: &Params, _info: &StreamInfo) -> Option<Framing> {
+        None
+    }
+}
+
+/// What a detector does with the power in a Doppler band.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum BandRole {
+    /// Power here counts as motion (raises the score).
+    Motion,
+    /// Power here counts against motion (a reference or nuisance band: lowers the score).
+    Nuisance,
+}
+
+impl fmt::Display for BandRole {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            BandRole::Motion => "motion",
+            BandRole::Nuisance => "nuisance",
+        })
+    }
+}
+
+/// One Doppler band a detector declares: |f| in `[low_hz, high_hz]`.
+///
+/// For I/Q streams the band covers both signs (approach and recede), as the
+/// built-in detectors select bins by |f|.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DopplerBand {
+    /// Motion or nuisance.
+    pub role: BandRole,
+    /// Short name for listings and warnings (`"motion"`, `"reference"`, `"sway"`, `"cells under test"`).
+    pub label: &'static str,
+    /// Lower edge of |f|, Hz.
+    pub low_hz: f64,
+    /// Upper edge of |f|, Hz.
+    pub high_hz: f64,
+}
+
+impl DopplerBand {
+    /// True when `f_hz` (its magnitude) lies in the closed band.
+    pub fn contains(&self, f_hz: f64) -> bool {
+        let f = f_hz.abs();
+        f >= self.low_hz && f <= self.high_hz
     }
 }
 
@@ -150,7 +210,7 @@ impl fmt::Display for ParamValue {
 }
 
 /// A declared parameter.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ParamSpec {
     /// Name, with its unit as a suffix where it has one (`frame_len`, `hold_s`, `low_hz`).
     pub name: &'static str,
@@ -295,6 +355,9 @@ impl ParamError {
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Params {
     values: BTreeMap<&'static str, ParamValue>,
+    /// The names the suite set (the rest hold defaults): lets a plugin take
+    /// a band's unit from the parameters actually written (see `doppler`).
+    given: BTreeSet<&'static str>,
 }
 
 impl Params {
@@ -322,6 +385,7 @@ impl Params {
     ) -> Result<Params, ParamError> {
         let mut values: BTreeMap<&'static str, ParamValue> =
             specs.iter().map(|s| (s.name, s.default_value())).collect();
+        let mut set = BTreeSet::new();
         for (name, value) in given {
             let Some(spec) = specs.iter().find(|s| s.name == name) else {
                 let names: Vec<&str> = specs.iter().map(|s| s.name).collect();
@@ -340,15 +404,22 @@ impl Params {
                 .check(value)
                 .map_err(|m| ParamError::new(detector, name, value, m))?;
             values.insert(spec.name, checked);
+            set.insert(spec.name);
         }
-        Ok(Params { values })
+        Ok(Params { values, given: set })
     }
 
     /// The defaults of `specs`.
     pub fn defaults(specs: &'static [ParamSpec]) -> Params {
         Params {
             values: specs.iter().map(|s| (s.name, s.default_value())).collect(),
+            given: BTreeSet::new(),
         }
+    }
+
+    /// True when the suite set `name` (even to its default value); false for a default.
+    pub fn is_given(&self, name: &str) -> bool {
+        self.given.contains(name)
     }
 
     /// A real parameter.

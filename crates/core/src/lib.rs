@@ -11,6 +11,7 @@
 
 pub mod atomic;
 pub mod detector;
+pub mod doppler;
 pub mod fastmath;
 pub mod seed;
 
