@@ -75,7 +75,7 @@ pub fn frame_s_for_resolution(resolution_mps: f64, carrier_hz: f64) -> f64 {
 }
 
 /// The carrier of `info`, refused unless positive and finite: needed whenever a
-/// parameter is in m/s.
+/// frame is given in m/s.
 ///
 /// # Errors
 /// A [`ParamError`] of `detector` on `param` (the m/s parameter that needed it).
@@ -216,7 +216,18 @@ pub fn resolve_band(
             clipped: false,
         }),
         BandUnits::Mps => {
-            let carrier_hz = check_carrier(detector, names.low_mps, info)?;
+            let carrier_hz = info.carrier_hz;
+            if !(carrier_hz.is_finite() && carrier_hz > 0.0) {
+                return Err(ParamError::new(
+                    detector,
+                    "band_units",
+                    "mps",
+                    format!(
+                        "bands in m/s (the default) need the stream's carrier frequency, got \
+                         {carrier_hz} Hz; give the bands in Hz (band_units: hz) for this stream"
+                    ),
+                ));
+            }
             let nyquist_hz = info.sample_rate_hz / 2.0;
             let (low_mps, high_mps) = (params.real(names.low_mps), params.real(names.high_mps));
             let mut band = ResolvedBand {

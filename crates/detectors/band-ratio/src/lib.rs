@@ -29,33 +29,56 @@
 //!
 //! # Parameters
 //!
-//! - `band_units` = `hz` (default) takes the motion band from `motion_low_hz`
-//!   and `motion_high_hz`; `mps` derives it from the speed range
-//!   `motion_min_mps`..`motion_max_mps` and `StreamInfo::carrier_hz` through
-//!   f = 2v/λ (so one suite can serve 2.4 and 24 GHz sensors alike). The
-//!   parameters of the unused unit are ignored.
-//! - `reference_low_hz`, `reference_high_hz`: the nuisance band (default
-//!   100–400 Hz: above a walker's Doppler at 2.45 GHz, where fan blade tips and
-//!   broadband noise live).
-//! - `sway_in_reference` with `sway_low_hz`, `sway_high_hz`: also count the
-//!   slow-sway band (default 0.5–8 Hz) in the reference, so that a swaying
-//!   object lowers the score. The reference set is the union of the two bands.
-//! - `mains_hz` (0 = off, 50 or 60) with `notch_width_hz`: remove from both
-//!   sets every bin whose span `[f_k − Δf/2, f_k + Δf/2]` overlaps
-//!   `[h·mains − w/2, h·mains + w/2]` for some harmonic h ≥ 1, Δf = fs/N. With
-//!   `w = 0` this removes the bin that holds each line; with a Hann window a
-//!   line leaks over ±2 bins (the main lobe), so full suppression needs
-//!   `w ≈ 4·Δf`.
+//! Bands are radial speeds by default, converted through
+//! `StreamInfo::carrier_hz` by f = 2v/λ = 2·v·f_c/c, so one default serves
+//! 2.4, 5.8, 10.5 and 24 GHz modules (`echobench_core::doppler` states the
+//! unit and Nyquist rules once for every detector):
+//!
+//! - `motion_min_mps`..`motion_max_mps` (0.3–4 m/s: a walker's torso to its
+//!   limbs; 4.9–65.4 Hz at 2.45 GHz, 48.3–644 Hz at 24.125 GHz).
+//! - `reference_min_mps`..`reference_max_mps`, the nuisance band (4.5–25
+//!   m/s: two resolution cells above the motion band, up past the fastest
+//!   fan blade tips, 12–19 m/s, physics.md §3). Its default top is clipped to
+//!   the stream's Nyquist frequency; a stream whose Nyquist lies below
+//!   4.5 m/s (24 GHz sampled at 1 kHz: 3.1 m/s) has no room for it, and the
+//!   detector is refused there with a message naming `reference_min_mps`.
+//! - `sway_in_reference` with `sway_min_mps`..`sway_max_mps` (0.05–0.25 m/s:
+//!   a swaying object peaks near 0.19 m/s, physics.md §3): also count the
+//!   slow-sway band in the reference, so that a swaying object lowers the
+//!   score. The reference set is the union of the two bands.
+//! - In hertz, as an explicit choice: `band_units: hz`, or any of
+//!   `motion_low_hz`, `motion_high_hz`, `reference_low_hz`,
+//!   `reference_high_hz`, `sway_low_hz`, `sway_high_hz` set in the suite
+//!   (`band_units: auto`, the default, then takes hertz for every band). The
+//!   Hz defaults are the historic 10–80 over 100–400 Hz (sway 0.5–8 Hz),
+//!   right for 2.45 GHz only. Speeds and hertz are never mixed in one
+//!   detector (refused, naming both).
+//! - `mains_hz` (0 = off, 50 or 60) with `notch_width_hz`: **always in Hz**:
+//!   hum is electrical, at k·50 or k·60 Hz whatever the carrier, not a
+//!   Doppler line. Every bin whose span `[f_k − Δf/2, f_k + Δf/2]` overlaps
+//!   `[h·mains − w/2, h·mains + w/2]` for some harmonic h ≥ 1, Δf = fs/N, is
+//!   removed from both sets. With `w = 0` this removes the bin that holds
+//!   each line; with a Hann window a line leaks over ±2 bins (the main lobe),
+//!   so full suppression needs `w ≈ 4·Δf`.
 //! - `statistic`: `sum` (Σ/Σ, the reference pipeline's choice) or `mean`
 //!   (mean/mean, whose null law is the F distribution below). The two differ
 //!   by the constant n/m.
-//! - `window` (`hann` | `rect`), `frame_len`, `hop` (samples).
+//! - `window` (`hann` | `rect`).
+//! - The frame: by default a velocity resolution `resolution_mps` = 0.25 m/s
+//!   (`echobench_core::doppler::DEFAULT_RESOLUTION_MPS`), i.e. T = λ/(2Δv):
+//!   0.245 s (490 samples at 2 kHz) at 2.45 GHz, 0.0249 s (50 samples) at
+//!   24.125 GHz, hop `hop_fraction` = ½ frame. **Latency**: a score is due
+//!   one frame after the motion starts, so the same speed resolution costs
+//!   ten times the wait at 2.45 GHz (≈ 0.25 s) as at 24 GHz (≈ 0.025 s).
+//!   Alternatively `frame_s` (seconds) or `frame_len`/`hop` (samples; the
+//!   reference pipeline's 256/128). `frame_pow2` rounds a frame given in s
+//!   or m/s up to a power of two (finer Δv, up to twice the latency).
 //! - `pfa`: only sets the nominal threshold reported to the harness
 //!   ([`BandRatioConfig::nominal_threshold`]); scores do not depend on it.
 //!
 //! Bins are selected with inclusive edges on their centre frequency
 //! `f_k = k·fs/N` (k = 0..N/2 for real streams), exactly as the reference
-//! pipeline does (bench README): with fs = 2 kHz, N = 256 the default bands are
+//! pipeline does (bench README): with fs = 2 kHz, N = 256 the Hz bands are
 //! bins 2–10 (15.6–78.1 Hz) and 13–51 (101.6–398.4 Hz). For I/Q streams both
 //! Doppler signs are used (approach and recede): a bin is selected when |f_k|
 //! lies in the band, so each band has about twice as many bins.
@@ -86,8 +109,12 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, NominalPoint, ParamError, ParamKind, ParamSpec,
-    Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, NominalPoint, ParamError,
+    ParamKind, ParamSpec, Params,
+};
+use echobench_core::doppler::{
+    self, BandNames, FrameRules, FrameUnits, Framing, ResolvedBand, DEFAULT_RESOLUTION_MPS,
+    MOTION_MAX_MPS, MOTION_MIN_MPS,
 };
 use echobench_core::{Channels, Score, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
@@ -102,78 +129,161 @@ pub const ID: &str = "band-ratio";
 /// LSB² ≈ 1e-14 V²), so it only acts on exactly silent input.
 pub const REFERENCE_FLOOR_V2: f64 = 1e-30;
 
-/// Speed of light in vacuum, m/s (SI definition).
-const SPEED_OF_LIGHT_MPS: f64 = 299_792_458.0;
-
 /// Values cleaned of NaN per pass: a small stack buffer, so `process` never allocates.
 const CLEAN_CHUNK: usize = 64;
 
-/// The Doppler frequency of a radial speed, f = 2·v·f_c/c (physics.md §1), Hz.
-pub fn doppler_hz(speed_mps: f64, carrier_hz: f64) -> f64 {
-    2.0 * speed_mps * carrier_hz / SPEED_OF_LIGHT_MPS
+pub use echobench_core::doppler::doppler_hz;
+
+/// Frames of 8 to 65 536 samples, given by default as a velocity resolution.
+const FRAME_RULES: FrameRules = FrameRules {
+    default_units: FrameUnits::Mps,
+    min_len: 8,
+    max_len: 65536,
+};
+
+/// The bands resolved to Hz (before bins are chosen).
+struct ResolvedBands {
+    motion: ResolvedBand,
+    reference: ResolvedBand,
+    sway: Option<ResolvedBand>,
+}
+
+fn resolve_bands(params: &Params, info: &StreamInfo) -> Result<ResolvedBands, ParamError> {
+    let units = doppler::band_units(
+        ID,
+        params,
+        "band_units",
+        &[MOTION_NAMES, REFERENCE_NAMES, SWAY_NAMES],
+    )?;
+    let motion = doppler::resolve_band(ID, params, info, units, MOTION_NAMES)?;
+    let reference = doppler::resolve_band(ID, params, info, units, REFERENCE_NAMES)?;
+    let sway = if params.flag("sway_in_reference") {
+        Some(doppler::resolve_band(ID, params, info, units, SWAY_NAMES)?)
+    } else {
+        None
+    };
+    Ok(ResolvedBands {
+        motion,
+        reference,
+        sway,
+    })
 }
 
 /// The `band-ratio` plugin.
 pub struct BandRatioPlugin;
 
-static PARAMS: [ParamSpec; 17] = [
+/// The frame family: a velocity resolution of [`DEFAULT_RESOLUTION_MPS`] by
+/// default (0.245 s at 2.45 GHz, 0.0249 s at 24.125 GHz), hop half a frame;
+/// 256/128 samples when the frame is given in samples.
+const FRAME: [ParamSpec; 7] =
+    doppler::frame_param_specs(256, 128, 65536, 0.128, DEFAULT_RESOLUTION_MPS, 0.5);
+
+/// The motion band's edge parameters.
+pub const MOTION_NAMES: BandNames = BandNames {
+    low_hz: "motion_low_hz",
+    high_hz: "motion_high_hz",
+    low_mps: "motion_min_mps",
+    high_mps: "motion_max_mps",
+};
+
+/// The reference (nuisance) band's edge parameters.
+pub const REFERENCE_NAMES: BandNames = BandNames {
+    low_hz: "reference_low_hz",
+    high_hz: "reference_high_hz",
+    low_mps: "reference_min_mps",
+    high_mps: "reference_max_mps",
+};
+
+/// The slow-sway band's edge parameters.
+pub const SWAY_NAMES: BandNames = BandNames {
+    low_hz: "sway_low_hz",
+    high_hz: "sway_high_hz",
+    low_mps: "sway_min_mps",
+    high_mps: "sway_max_mps",
+};
+
+const fn hz(name: &'static str, about: &'static str, default: f64) -> ParamSpec {
     ParamSpec {
-        name: "band_units",
-        unit: "",
-        about:
-            "motion band given in hz (motion_low_hz..motion_high_hz) or mps (speeds, through 2v/λ)",
-        kind: ParamKind::Choice(&["hz", "mps"]),
-        default: DefaultValue::Text("hz"),
-    },
-    ParamSpec {
-        name: "motion_low_hz",
+        name,
         unit: "Hz",
-        about: "lower edge of the motion band (band_units = hz)",
+        about,
         kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(10.0),
-    },
+        default: DefaultValue::Real(default),
+    }
+}
+
+const fn mps(name: &'static str, about: &'static str, default: f64) -> ParamSpec {
     ParamSpec {
-        name: "motion_high_hz",
-        unit: "Hz",
-        about: "upper edge of the motion band (band_units = hz)",
-        kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(80.0),
-    },
-    ParamSpec {
-        name: "motion_min_mps",
+        name,
         unit: "m/s",
-        about: "slowest radial speed of the motion band (band_units = mps)",
+        about,
         kind: ParamKind::Real {
             min: 0.0,
             max: 100.0,
         },
-        // Torso plus limbs of a walker at 0.6–4 m/s (bench README; physics.md §2.2).
-        default: DefaultValue::Real(0.6),
-    },
-    ParamSpec {
-        name: "motion_max_mps",
-        unit: "m/s",
-        about: "fastest radial speed of the motion band (band_units = mps)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(4.0),
-    },
-    ParamSpec {
-        name: "reference_low_hz",
-        unit: "Hz",
-        about: "lower edge of the nuisance (reference) band",
-        kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(100.0),
-    },
-    ParamSpec {
-        name: "reference_high_hz",
-        unit: "Hz",
-        about: "upper edge of the nuisance (reference) band",
-        kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(400.0),
-    },
+        default: DefaultValue::Real(default),
+    }
+}
+
+static PARAMS: [ParamSpec; 26] = [
+    doppler::BAND_UNITS_SPEC,
+    // Walker torso to limbs, 0.3–4 m/s (see `echobench_core::doppler::MOTION_MIN_MPS`).
+    mps(
+        "motion_min_mps",
+        "slowest radial speed of the motion band",
+        MOTION_MIN_MPS,
+    ),
+    mps(
+        "motion_max_mps",
+        "fastest radial speed of the motion band",
+        MOTION_MAX_MPS,
+    ),
+    // Above the motion band by two resolution cells (a Hann main lobe is ±2 bins wide),
+    // up past the fastest fan blade tips (desk fan 18.85 m/s, physics.md §3).
+    mps(
+        "reference_min_mps",
+        "slowest radial speed of the nuisance (reference) band",
+        4.5,
+    ),
+    mps(
+        "reference_max_mps",
+        "fastest radial speed of the nuisance (reference) band (default: clipped to Nyquist)",
+        25.0,
+    ),
+    // A swaying object's speed: a 0.5 m pendulum at 5° peaks at 0.19 m/s (physics.md §3);
+    // from 0.05 m/s so the DC bin (static clutter) stays out.
+    mps(
+        "sway_min_mps",
+        "slowest radial speed of the slow-sway band (sway_in_reference)",
+        0.05,
+    ),
+    mps(
+        "sway_max_mps",
+        "fastest radial speed of the slow-sway band (sway_in_reference)",
+        0.25,
+    ),
+    // The historic Hz bands (right at 2.45 GHz only), used when band_units = hz or
+    // when a suite sets any of them.
+    hz(
+        "motion_low_hz",
+        "lower edge of the motion band (Hz units)",
+        10.0,
+    ),
+    hz(
+        "motion_high_hz",
+        "upper edge of the motion band (Hz units)",
+        80.0,
+    ),
+    hz(
+        "reference_low_hz",
+        "lower edge of the nuisance (reference) band (Hz units)",
+        100.0,
+    ),
+    hz(
+        "reference_high_hz",
+        "upper edge of the nuisance (reference) band (Hz units)",
+        400.0,
+    ),
     ParamSpec {
         name: "sway_in_reference",
         unit: "",
@@ -181,24 +291,21 @@ static PARAMS: [ParamSpec; 17] = [
         kind: ParamKind::Flag,
         default: DefaultValue::Flag(false),
     },
-    ParamSpec {
-        name: "sway_low_hz",
-        unit: "Hz",
-        about: "lower edge of the slow-sway band (sway_in_reference)",
-        kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(0.5),
-    },
-    ParamSpec {
-        name: "sway_high_hz",
-        unit: "Hz",
-        about: "upper edge of the slow-sway band (sway_in_reference)",
-        kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(8.0),
-    },
+    hz(
+        "sway_low_hz",
+        "lower edge of the slow-sway band (Hz units, sway_in_reference)",
+        0.5,
+    ),
+    hz(
+        "sway_high_hz",
+        "upper edge of the slow-sway band (Hz units, sway_in_reference)",
+        8.0,
+    ),
     ParamSpec {
         name: "mains_hz",
         unit: "Hz",
-        about: "mains frequency whose lines k·mains are removed from both bands: 0 (off), 50 or 60",
+        about: "mains frequency whose lines k·mains are removed from both bands: 0 (off), 50 or \
+                60 (electrical, always in Hz)",
         kind: ParamKind::Integer { min: 0, max: 60 },
         default: DefaultValue::Integer(0),
     },
@@ -226,20 +333,13 @@ static PARAMS: [ParamSpec; 17] = [
         kind: ParamKind::Choice(&["hann", "rect"]),
         default: DefaultValue::Text("hann"),
     },
-    ParamSpec {
-        name: "frame_len",
-        unit: "samples",
-        about: "FFT frame length",
-        kind: ParamKind::Integer { min: 8, max: 65536 },
-        default: DefaultValue::Integer(256),
-    },
-    ParamSpec {
-        name: "hop",
-        unit: "samples",
-        about: "samples between frame starts",
-        kind: ParamKind::Integer { min: 1, max: 65536 },
-        default: DefaultValue::Integer(128),
-    },
+    FRAME[0],
+    FRAME[1],
+    FRAME[2],
+    FRAME[3],
+    FRAME[4],
+    FRAME[5],
+    FRAME[6],
     ParamSpec {
         name: "pfa",
         unit: "",
@@ -280,8 +380,12 @@ pub struct BandRatioConfig {
     pub window: Window,
     /// How bins are combined.
     pub statistic: Statistic,
-    /// Motion band edges actually used, Hz (derived from speeds when `band_units = mps`).
+    /// Motion band edges actually used, Hz (derived from speeds when the bands are in m/s).
     pub motion_band_hz: (f64, f64),
+    /// Reference band edges actually used, Hz.
+    pub reference_band_hz: (f64, f64),
+    /// Sway band edges actually used, Hz, when `sway_in_reference`.
+    pub sway_band_hz: Option<(f64, f64)>,
     /// Indices into the power spectrum (one-sided for real, FFT order for I/Q) of the motion bins.
     pub motion_bins: Vec<usize>,
     /// Indices of the reference bins (reference band ∪ optional sway band, minus notches).
@@ -300,8 +404,7 @@ impl BandRatioConfig {
     /// without a carrier, or a stream with a bad sample rate.
     pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
-        let frame_len = positive(params, "frame_len")?;
-        let hop = positive(params, "hop")?;
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
         let window = Window::from_name(params.text("window")).ok_or_else(|| {
             ParamError::new(ID, "window", params.text("window"), "expected hann or rect")
         })?;
@@ -323,79 +426,36 @@ impl BandRatioConfig {
             frame_len,
             sample_rate_hz: fs,
         };
-
-        let motion_band_hz = match params.text("band_units") {
-            "hz" => {
-                let band = (params.real("motion_low_hz"), params.real("motion_high_hz"));
-                check_band(band, nyquist_hz, ("motion_low_hz", "motion_high_hz"), "")?;
-                band
-            }
-            "mps" => {
-                let carrier_hz = info.carrier_hz;
-                if !(carrier_hz.is_finite() && carrier_hz > 0.0) {
-                    return Err(ParamError::new(
-                        ID,
-                        "band_units",
-                        "mps",
-                        format!("needs the stream's carrier frequency, got {carrier_hz} Hz"),
-                    ));
-                }
-                let (slow, fast) = (params.real("motion_min_mps"), params.real("motion_max_mps"));
-                if slow >= fast {
-                    return Err(ParamError::new(
-                        ID,
-                        "motion_min_mps",
-                        slow,
-                        format!("must be below motion_max_mps = {fast}"),
-                    ));
-                }
-                let band = (doppler_hz(slow, carrier_hz), doppler_hz(fast, carrier_hz));
-                let note = format!(" ({fast} m/s at {carrier_hz} Hz carrier)");
-                check_band(
-                    band,
-                    nyquist_hz,
-                    ("motion_min_mps", "motion_max_mps"),
-                    &note,
-                )?;
-                band
-            }
-            other => {
-                return Err(ParamError::new(
-                    ID,
-                    "band_units",
-                    other,
-                    "expected hz or mps",
-                ))
-            }
-        };
-        let reference_band_hz = (
-            params.real("reference_low_hz"),
-            params.real("reference_high_hz"),
-        );
+        let bands = resolve_bands(params, info)?;
+        let motion = bands.motion;
+        let motion_band_hz = (motion.low_hz, motion.high_hz);
+        check_band(
+            motion_band_hz,
+            nyquist_hz,
+            (motion.low_name, motion.high_name),
+            "",
+        )?;
+        let reference = bands.reference;
+        let reference_band_hz = (reference.low_hz, reference.high_hz);
         check_band(
             reference_band_hz,
             nyquist_hz,
-            ("reference_low_hz", "reference_high_hz"),
+            (reference.low_name, reference.high_name),
             "",
         )?;
-
-        let motion_name = if params.text("band_units") == "mps" {
-            "motion_min_mps"
-        } else {
-            "motion_low_hz"
-        };
+        let motion_name = motion.low_name;
         let mut motion_bins = spectrum.bins_in(motion_band_hz);
         if motion_bins.is_empty() {
             return Err(empty_band(motion_name, motion_band_hz, &spectrum));
         }
         let mut reference_bins = spectrum.bins_in(reference_band_hz);
         if reference_bins.is_empty() {
-            return Err(empty_band("reference_low_hz", reference_band_hz, &spectrum));
+            return Err(empty_band(reference.low_name, reference_band_hz, &spectrum));
         }
         if let Some(shared) = first_shared(&motion_bins, &reference_bins) {
             return Err(ParamError::new(
                 ID,
-                "reference_low_hz",
+                reference.low_name,
                 format!("{}..{} Hz", reference_band_hz.0, reference_band_hz.1),
                 format!(
                     "shares bin {shared} ({} Hz) with the motion band {}..{} Hz; the bands must be disjoint",
@@ -405,22 +465,22 @@ impl BandRatioConfig {
                 ),
             ));
         }
-        if params.flag("sway_in_reference") {
-            let sway_band_hz = (params.real("sway_low_hz"), params.real("sway_high_hz"));
+        if let Some(sway) = bands.sway {
+            let sway_band_hz = (sway.low_hz, sway.high_hz);
             check_band(
                 sway_band_hz,
                 nyquist_hz,
-                ("sway_low_hz", "sway_high_hz"),
+                (sway.low_name, sway.high_name),
                 "",
             )?;
             let sway_bins = spectrum.bins_in(sway_band_hz);
             if sway_bins.is_empty() {
-                return Err(empty_band("sway_low_hz", sway_band_hz, &spectrum));
+                return Err(empty_band(sway.low_name, sway_band_hz, &spectrum));
             }
             if let Some(shared) = first_shared(&motion_bins, &sway_bins) {
                 return Err(ParamError::new(
                     ID,
-                    "sway_high_hz",
+                    sway.high_name,
                     sway_band_hz.1,
                     format!(
                         "the sway band shares bin {shared} ({} Hz) with the motion band; the bands must be disjoint",
@@ -467,6 +527,8 @@ impl BandRatioConfig {
             window,
             statistic,
             motion_band_hz,
+            reference_band_hz,
+            sway_band_hz: bands.sway.map(|b| (b.low_hz, b.high_hz)),
             motion_bins,
             reference_bins,
             pfa: params.real("pfa"),
@@ -607,14 +669,6 @@ impl BinLayout {
     }
 }
 
-fn positive(params: &Params, name: &str) -> Result<usize, ParamError> {
-    let value = params.integer(name);
-    usize::try_from(value)
-        .ok()
-        .filter(|&v| v > 0)
-        .ok_or_else(|| ParamError::new(ID, name, value, "must be a positive whole number"))
-}
-
 fn check_band(
     (low_hz, high_hz): (f64, f64),
     nyquist_hz: f64,
@@ -679,6 +733,36 @@ impl DetectorPlugin for BandRatioPlugin {
         Ok(Cost {
             state_bytes: config.state_bytes(),
             ops_per_sample: config.ops_per_sample(),
+        })
+    }
+
+    /// The motion band, the reference band and (with `sway_in_reference`) the
+    /// sway band, in Hz as used (edges, not bin centres).
+    fn doppler_bands(&self, params: &Params, info: &StreamInfo) -> Vec<DopplerBand> {
+        let Ok(config) = BandRatioConfig::from_params(params, info) else {
+            return Vec::new();
+        };
+        let band = |role, label, (low_hz, high_hz): (f64, f64)| DopplerBand {
+            role,
+            label,
+            low_hz,
+            high_hz,
+        };
+        let mut bands = vec![
+            band(BandRole::Motion, "motion", config.motion_band_hz),
+            band(BandRole::Nuisance, "reference", config.reference_band_hz),
+        ];
+        if let Some(sway) = config.sway_band_hz {
+            bands.push(band(BandRole::Nuisance, "sway", sway));
+        }
+        bands
+    }
+
+    fn framing(&self, params: &Params, info: &StreamInfo) -> Option<Framing> {
+        let config = BandRatioConfig::from_params(params, info).ok()?;
+        Some(Framing {
+            frame_len: config.frame_len,
+            hop: config.hop,
         })
     }
 
@@ -805,10 +889,26 @@ mod tests {
         BandRatioConfig::from_params(&params, info)
     }
 
+    /// The reference pipeline's setting, pinned on purpose: the Hz bands and 256/128 frames.
+    fn hz_config(
+        given: &[(&str, ParamValue)],
+        info: &StreamInfo,
+    ) -> Result<BandRatioConfig, ParamError> {
+        let mut given: Vec<(String, ParamValue)> = given
+            .iter()
+            .map(|(n, v)| (n.to_string(), v.clone()))
+            .collect();
+        given.push(("band_units".into(), ParamValue::Text("hz".into())));
+        given.push(("frame_len".into(), ParamValue::Integer(256)));
+        given.push(("hop".into(), ParamValue::Integer(128)));
+        let params = Params::resolve(ID, &PARAMS, &given)?;
+        BandRatioConfig::from_params(&params, info)
+    }
+
     #[test]
     fn default_bands_select_the_reference_pipeline_bins() {
         // Bench README §3(c): bins 2–10 (15.6–78.1 Hz) over 13–51 (101.6–398.4 Hz).
-        let c = config(&[], &test_stream(2000.0)).unwrap();
+        let c = hz_config(&[], &test_stream(2000.0)).unwrap();
         assert_eq!(c.motion_bins, (2..=10).collect::<Vec<_>>());
         assert_eq!(c.reference_bins, (13..=51).collect::<Vec<_>>());
     }
@@ -826,6 +926,7 @@ mod tests {
                 ("band_units", ParamValue::Text("mps".into())),
                 ("motion_min_mps", ParamValue::Real(0.6)),
                 ("motion_max_mps", ParamValue::Real(4.0)),
+                ("frame_len", ParamValue::Integer(256)),
             ],
             &info,
         )
@@ -843,7 +944,7 @@ mod tests {
     fn mains_notch_removes_the_bins_that_hold_the_lines() {
         // 50 Hz lines with 7.8125 Hz bins: 50 Hz lies in bin 6's span [42.97, 50.78],
         // 100 in bin 13's [97.66, 105.47], 150 in 19's, 200 in 26's, ...
-        let c = config(
+        let c = hz_config(
             &[
                 ("mains_hz", ParamValue::Integer(50)),
                 ("notch_width_hz", ParamValue::Real(0.0)),
@@ -857,7 +958,7 @@ mod tests {
         }
         assert!(c.reference_bins.contains(&14) && c.reference_bins.contains(&50));
         // A 16 Hz notch around 50 Hz ([42, 58]) also overlaps bins 5 and 7.
-        let wide = config(
+        let wide = hz_config(
             &[
                 ("mains_hz", ParamValue::Integer(50)),
                 ("notch_width_hz", ParamValue::Real(16.0)),
@@ -872,7 +973,7 @@ mod tests {
     fn iq_bands_take_both_doppler_signs() {
         let mut info = test_stream(2000.0);
         info.channels = Channels::Iq;
-        let c = config(&[], &info).unwrap();
+        let c = hz_config(&[], &info).unwrap();
         let mut expected: Vec<usize> = (2..=10).collect();
         expected.extend((256 - 10)..=(256 - 2));
         assert_eq!(c.motion_bins, expected);

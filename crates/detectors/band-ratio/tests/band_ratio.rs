@@ -10,12 +10,39 @@ use rand_chacha::ChaCha8Rng;
 use rand_distr::StandardNormal;
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
 
+/// These tests pin the reference pipeline's setting on purpose (Hz bands 10–80 over
+/// 100–400 Hz, frames of 256 every 128 samples): `band_units: hz`, `frame_len: 256` and
+/// `hop: 128` are added unless a test sets that name itself. The m/s defaults are tested
+/// in `speed_defaults_*` below.
 fn params(given: &[(&str, ParamValue)]) -> Params {
-    let given: Vec<(String, ParamValue)> = given
+    Params::resolve("band-ratio", BandRatioPlugin.params(), &pinned(given))
+        .expect("valid parameters")
+}
+
+fn pinned(given: &[(&str, ParamValue)]) -> Vec<(String, ParamValue)> {
+    let mut all: Vec<(String, ParamValue)> = given
         .iter()
         .map(|(n, v)| (n.to_string(), v.clone()))
         .collect();
-    Params::resolve("band-ratio", BandRatioPlugin.params(), &given).expect("valid parameters")
+    for (name, value) in [
+        ("band_units", text("hz")),
+        ("frame_len", ParamValue::Integer(256)),
+        ("hop", ParamValue::Integer(128)),
+    ] {
+        if !given.iter().any(|(n, _)| *n == name) {
+            all.push((name.to_string(), value));
+        }
+    }
+    all
+}
+
+/// With no parameter set, as a suite with `plugin: band-ratio` alone.
+fn run_defaults(info: &StreamInfo, data: &[f32]) -> Vec<Score> {
+    let params = Params::resolve("band-ratio", BandRatioPlugin.params(), &[]).unwrap();
+    let mut detector = BandRatioPlugin.build(&params, info).expect("builds");
+    let mut out = Vec::new();
+    detector.process(data, &mut out);
+    out
 }
 
 fn run(given: &[(&str, ParamValue)], info: &StreamInfo, data: &[f32], block: usize) -> Vec<Score> {
@@ -399,6 +426,7 @@ fn refuses_bad_parameters_naming_them() {
             .iter()
             .map(|(n, v)| (n.to_string(), v.clone()))
             .collect();
+        let given = pinned(&given.iter().map(|(n, v)| (n.as_str(), v.clone())).collect::<Vec<_>>());
         let error = match Params::resolve("band-ratio", BandRatioPlugin.params(), &given) {
             Err(e) => e,
             Ok(p) => match BandRatioPlugin.build(&p, info) {
@@ -458,11 +486,21 @@ fn refuses_bad_parameters_naming_them() {
         &info,
         "motion_max_ms",
     );
-    // Speeds: 24 GHz carrier, 4 m/s → 644 Hz > Nyquist 500 Hz at fs = 1 kHz.
+    // Speeds: 24 GHz carrier, 4 m/s → 644 Hz > Nyquist 500 Hz at fs = 1 kHz. Set by the
+    // user, the edge is refused; left at its default, it is clipped to 500 Hz, but the
+    // default reference band (from 4.5 m/s = 724 Hz) then has nothing left and is refused.
+    refused(
+        &[
+            ("band_units", text("mps")),
+            ("motion_max_mps", ParamValue::Real(4.0)),
+        ],
+        &test_stream(1000.0),
+        "motion_max_mps",
+    );
     refused(
         &[("band_units", text("mps"))],
         &test_stream(1000.0),
-        "motion_max_mps",
+        "reference_min_mps",
     );
     refused(
         &[
@@ -534,4 +572,39 @@ fn cost_counts_the_buffers_and_the_fft() {
         .cost(&params(&[("hop", ParamValue::Integer(256))]), &info)
         .unwrap();
     assert!(faster.ops_per_sample < cost.ops_per_sample);
+}
+
+// ---------------------------------------------------------------- m/s defaults
+
+/// With no parameter set, a tone at a walker's torso line (1.3 m/s head-on: 2v/λ =
+/// 21.25 Hz at 2.45 GHz, 209.2 Hz at 24.125 GHz; physics.md §1, 16.345 and 160.945 Hz
+/// per m/s) lands in the motion band at both carriers, and scores far above the same
+/// tone moved to a fan's blade-tip speed (12 m/s, physics.md §3, inside the reference band).
+#[test]
+fn speed_defaults_find_the_torso_line_at_both_carriers() {
+    for carrier_hz in [2.45e9, 24.125e9] {
+        let info = StreamInfo {
+            carrier_hz,
+            ..test_stream(2000.0)
+        };
+        let torso_hz = 2.0 * 1.3 * carrier_hz / 299_792_458.0;
+        let tone = |f_hz: f64| -> Vec<f32> {
+            let mut data = noise(9, 6000, 1e-3);
+            for (i, x) in data.iter_mut().enumerate() {
+                *x += (0.05 * (std::f64::consts::TAU * f_hz * i as f64 / 2000.0).sin()) as f32;
+            }
+            data
+        };
+        let median = |mut s: Vec<Score>| {
+            s.sort_by(|a, b| a.value.total_cmp(&b.value));
+            s[s.len() / 2].value
+        };
+        let walker = median(run_defaults(&info, &tone(torso_hz)));
+        let fan_hz = (12.0 * 2.0 * carrier_hz / 299_792_458.0).min(950.0);
+        let fan = median(run_defaults(&info, &tone(fan_hz)));
+        assert!(
+            walker > 100.0 && fan < 0.01,
+            "{carrier_hz} Hz carrier: torso {torso_hz:.1} Hz scores {walker}, fan {fan_hz:.1} Hz {fan}"
+        );
+    }
 }
