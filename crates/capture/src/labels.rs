@@ -83,11 +83,21 @@ fn list_problems(path: &Path, problems: &[LabelProblem]) -> String {
         problems.len(),
         if problems.len() == 1 { "" } else { "s" }
     );
-    for p in problems {
+    // A file of a few hundred thousand bad lines must not print them all.
+    for p in problems.iter().take(SHOWN_LABEL_PROBLEMS) {
         text.push_str(&format!("\n  line {}: {}", p.line, p.message));
+    }
+    if problems.len() > SHOWN_LABEL_PROBLEMS {
+        text.push_str(&format!(
+            "\n  … and {} more (the first {SHOWN_LABEL_PROBLEMS} are shown)",
+            problems.len() - SHOWN_LABEL_PROBLEMS
+        ));
     }
     text
 }
+
+/// How many of a label file's problems a message lists.
+pub const SHOWN_LABEL_PROBLEMS: usize = 100;
 
 /// Reads a label file for a capture of `capture_duration_s` seconds, with the
 /// end tolerance [`LABEL_END_TOLERANCE_S`].

@@ -1,5 +1,9 @@
 //! The `echobench` command: argument parsing and printing only; the work is in the library crates.
 
+// First, so that its `print!` family shadows std's in everything below (quiet on closed pipes).
+#[macro_use]
+mod output;
+
 use anyhow::{bail, Context, Result};
 use clap::{Parser, Subcommand};
 use echobench_scene::{export, load_scene_file, synthesize, StreamKey};
@@ -24,14 +28,19 @@ enum Command {
     Run {
         /// The suite file (YAML); omit it for the built-in default suite.
         suite: Option<PathBuf>,
-        /// Output folder (default: a new folder under runs/).
+        /// Output folder (default: a new folder under runs/). An existing folder is refused
+        /// unless `--replace`.
         #[arg(long)]
         out: Option<PathBuf>,
+        /// Replace an existing `--out` folder as a whole (an atomic exchange: the folder holds
+        /// the old run or the new one, never a mix).
+        #[arg(long)]
+        replace: bool,
         /// Run only the test trials of shard K of N (e.g. 2/8); merge the shards' folders with `merge`.
         #[arg(long)]
         shard: Option<String>,
-        /// Worker threads (default: one per core).
-        #[arg(long)]
+        /// Worker threads (default: one per core; at most 256).
+        #[arg(long, value_parser = parse_threads)]
         threads: Option<usize>,
         /// Override the suite's seed.
         #[arg(long)]
@@ -52,14 +61,14 @@ enum Command {
         /// The baseline folder (from `echobench save-baseline`, or any whole run folder).
         #[arg(long)]
         baseline: PathBuf,
-        /// A false-alarm rise must exceed this rate ratio to count as a regression.
-        #[arg(long, default_value_t = 1.25)]
+        /// A false-alarm rise must exceed this rate ratio to count as a regression (1 to 100).
+        #[arg(long, default_value_t = 1.25, value_parser = parse_ratio_margin)]
         ratio_margin: f64,
-        /// Family-wise significance of each detector's tests of one kind (Holm).
-        #[arg(long, default_value_t = 0.01)]
+        /// Family-wise significance of each detector's tests of one kind (Holm), in (0, 0.5].
+        #[arg(long, default_value_t = 0.01, value_parser = parse_alpha)]
         alpha: f64,
         /// Absolute false-alarm budget per hour (default: the suite's `false_alarm_budget_per_hour`).
-        #[arg(long)]
+        #[arg(long, value_parser = parse_budget)]
         budget_per_hour: Option<f64>,
         /// Markdown summary file (default RUN/gate.md).
         #[arg(long)]
@@ -87,21 +96,31 @@ enum Command {
     SaveBaseline {
         /// The run folder.
         run: PathBuf,
-        /// The baseline folder to write (files are replaced atomically).
+        /// The baseline folder to write (refused if it exists, unless `--replace`).
         #[arg(long)]
         to: PathBuf,
+        /// Replace an existing folder as a whole (atomic exchange).
+        #[arg(long)]
+        replace: bool,
     },
     /// Merge the tallies of shard runs into one run folder.
     Merge {
         /// Shard run folders (each holding tallies.json).
         #[arg(required = true)]
         runs: Vec<PathBuf>,
-        /// Output folder.
+        /// Output folder (refused if it exists, unless `--replace`).
         #[arg(long)]
         out: PathBuf,
         /// The suite file the shards ran (omit for the built-in default suite).
         #[arg(long)]
         suite: Option<PathBuf>,
+        /// Write the merge even when shards are missing (the folder then says which it holds,
+        /// and cannot be kept as a baseline).
+        #[arg(long)]
+        partial: bool,
+        /// Replace an existing `--out` folder as a whole (atomic exchange).
+        #[arg(long)]
+        replace: bool,
     },
     /// Synthesize one trial of a scene: WAV and CSV samples, truth CSV and a spectrogram picture.
     Synth {
@@ -147,6 +166,7 @@ fn main() -> ExitCode {
         Command::Run {
             suite,
             out,
+            replace,
             shard,
             threads,
             seed,
@@ -155,6 +175,7 @@ fn main() -> ExitCode {
         } => run_suite(
             suite.as_deref(),
             out,
+            replace,
             shard.as_deref(),
             threads,
             seed,
@@ -178,14 +199,21 @@ fn main() -> ExitCode {
                 alpha,
                 budget_per_hour,
                 budget_confidence: 0.95,
+                ..Default::default()
             },
             markdown,
             junit,
             all,
         ),
-        Command::SaveBaseline { run, to } => save_baseline(&run, &to),
+        Command::SaveBaseline { run, to, replace } => save_baseline(&run, &to, replace),
         Command::Report { run, baseline, out } => run_report(&run, baseline.as_deref(), out),
-        Command::Merge { runs, out, suite } => run_merge(&runs, &out, suite.as_deref()),
+        Command::Merge {
+            runs,
+            out,
+            suite,
+            partial,
+            replace,
+        } => run_merge(&runs, &out, suite.as_deref(), partial, replace),
         Command::Detectors {
             sample_rate_hz,
             carrier_hz,
@@ -213,7 +241,7 @@ fn load_suite(path: Option<&Path>, allow_exec: bool) -> Result<echobench_harness
             Ok(suite)
         }
         Err(report) => {
-            eprint!("{report}");
+            eprint!("{}", shown(&report));
             bail!("the suite has {} errors", report.error_count())
         }
     }
@@ -234,25 +262,34 @@ fn new_run_folder(suite_name: &str) -> PathBuf {
     PathBuf::from("runs").join(format!("{suite_name}-{stamp}"))
 }
 
+/// Writes a run's files into its staged folder, then seals it and moves it into place as
+/// a whole (`echobench_run_folder`): the `--out` folder is the complete run or absent.
 fn write_run_outputs(
-    out: &Path,
+    staging: echobench_run_folder::Staging,
     suite: &echobench_harness::suite::Suite,
     suite_text: &str,
     tallies: &echobench_harness::runner::Tallies,
     timing: Option<&echobench_harness::runner::Timing>,
 ) -> Result<()> {
     use echobench_harness::summary;
-    std::fs::create_dir_all(out).with_context(|| format!("creating {}", out.display()))?;
+    use echobench_run_folder::fault_point;
+    let out = staging.dir().to_path_buf();
     let summary = summary::summarise(tallies, suite);
     echobench_core::atomic::write_atomically(&out.join("suite.yaml"), |w| {
         w.write_all(suite_text.as_bytes())
     })?;
+    fault_point("suite.yaml");
     summary::write_json(&out.join("tallies.json"), tallies)?;
+    fault_point("tallies.json");
     summary::write_json(&out.join("summary.json"), &summary)?;
+    fault_point("summary.json");
     summary::write_roc_csv(&out.join("roc.csv"), tallies)?;
+    fault_point("roc.csv");
     summary::write_events_csv(&out.join("events.csv"), &summary)?;
+    fault_point("events.csv");
     if let Some(t) = timing {
         summary::write_json(&out.join("timing.json"), t)?;
+        fault_point("timing.json");
     }
     let folder = echobench_report::RunFolder {
         summary: summary.clone(),
@@ -264,17 +301,86 @@ fn write_run_outputs(
     echobench_core::atomic::write_atomically(&out.join("report.html"), |w| {
         w.write_all(html.as_bytes())
     })?;
+    fault_point("report.html");
+    let target = staging.target().to_path_buf();
+    let (manifest, placement) = staging.commit(echobench_run_folder::FolderKind::Run)?;
     print!("{}", summary::console_table(&summary, timing));
+    let names: Vec<&str> = manifest.files.iter().map(|f| f.name.as_str()).collect();
     println!(
-        "wrote {}/{{summary.json, roc.csv, events.csv, tallies.json, suite.yaml, report.html}}",
-        out.display()
+        "wrote {}/{{{}, {}}} ({placement}; run {})",
+        target.display(),
+        names.join(", "),
+        echobench_run_folder::MANIFEST_FILE,
+        manifest.run_id
     );
     Ok(())
 }
 
+/// Exit status of a run in which some detector failed on every test trial.
+const EXIT_DETECTOR_FAILED: u8 = 3;
+
+/// Labels of the detectors that failed on every test trial of the run (none when no test
+/// trial ran).
+fn detectors_failed_everywhere(tallies: &echobench_harness::runner::Tallies) -> Vec<String> {
+    tallies
+        .detectors
+        .iter()
+        .filter(|d| {
+            let failed = d.failures.iter().filter(|f| f.phase == "test").count() as u64;
+            tallies.test_trials > 0 && failed >= tallies.test_trials
+        })
+        .map(|d| d.label.clone())
+        .collect()
+}
+
+fn parse_threads(text: &str) -> Result<usize, String> {
+    let n: usize = text
+        .parse()
+        .map_err(|_| format!("`{text}` is not a whole number"))?;
+    if (1..=MAX_THREADS).contains(&n) {
+        Ok(n)
+    } else {
+        Err(format!("{n} threads: give 1 to {MAX_THREADS}"))
+    }
+}
+
+/// Most worker threads `run --threads` accepts (each holds a trial's signal and detector
+/// state; far above any core count this tool is run on).
+const MAX_THREADS: usize = 256;
+
+/// A finite number in `[low, high]` (or `(low, high]` when `open_low`).
+fn parse_bounded(text: &str, low: f64, high: f64, open_low: bool) -> Result<f64, String> {
+    let x: f64 = text
+        .parse()
+        .map_err(|_| format!("`{text}` is not a number"))?;
+    let above = if open_low { x > low } else { x >= low };
+    if x.is_finite() && above && x <= high {
+        Ok(x)
+    } else {
+        let open = if open_low { "(" } else { "[" };
+        Err(format!("{text} is outside {open}{low}, {high}]"))
+    }
+}
+
+fn parse_alpha(text: &str) -> Result<f64, String> {
+    // A family-wise error rate above one half would call a coin toss a regression.
+    parse_bounded(text, 0.0, 0.5, true)
+}
+
+fn parse_ratio_margin(text: &str) -> Result<f64, String> {
+    // Below 1 an unchanged rate would count as a rise; above 100 the test never fires.
+    parse_bounded(text, 1.0, 100.0, false)
+}
+
+fn parse_budget(text: &str) -> Result<f64, String> {
+    parse_bounded(text, 0.0, 1e6, true)
+}
+
+#[allow(clippy::too_many_arguments)]
 fn run_suite(
     path: Option<&Path>,
     out: Option<PathBuf>,
+    replace: bool,
     shard: Option<&str>,
     threads: Option<usize>,
     seed: Option<u64>,
@@ -285,6 +391,14 @@ fn run_suite(
     let mut suite = load_suite(path, allow_exec)?;
     if let Some(seed) = seed {
         suite.seed = seed;
+    }
+    // The same limits `check` applies, before any work.
+    let problems = echobench_limits::door_problems(&suite, allow_exec);
+    if !problems.is_empty() {
+        for line in echobench_limits::cut_list(problems.clone()) {
+            eprintln!("error: {line}");
+        }
+        bail!("the suite is refused ({} problems)", problems.len());
     }
     let shard = shard
         .map(Shard::parse)
@@ -312,18 +426,32 @@ fn run_suite(
             eprintln!("note: {note}");
         }
     }
+    // Claimed before the work, so an existing --out is refused at once, not after hours.
+    let out = out.unwrap_or_else(|| new_run_folder(&suite.name));
+    let staging = echobench_run_folder::Staging::begin(&out, replace)?;
+    let text = suite_text(path)?;
     let bar = progress_bar();
     let report = |p: Progress| bar.update(p);
     let (tallies, timing) = run(&suite, &detectors, shard, &report)?;
     bar.finish();
-    let out = out.unwrap_or_else(|| new_run_folder(&suite.name));
-    write_run_outputs(&out, &suite, &suite_text(path)?, &tallies, Some(&timing))?;
+    write_run_outputs(staging, &suite, &text, &tallies, Some(&timing))?;
+    let failed = detectors_failed_everywhere(&tallies);
+    if !failed.is_empty() {
+        eprintln!(
+            "error: detector{} {} failed on every test trial (see `failures` in tallies.json); exit {EXIT_DETECTOR_FAILED}",
+            if failed.len() == 1 { "" } else { "s" },
+            failed.join(", ")
+        );
+        return Ok(ExitCode::from(EXIT_DETECTOR_FAILED));
+    }
     Ok(ExitCode::SUCCESS)
 }
 
-/// The tallies of a run or baseline folder (or of a tallies.json file given directly).
+/// The tallies of a run or baseline folder, which must be complete and of one run (or of
+/// a tallies.json file given directly).
 fn read_tallies(path: &Path) -> Result<echobench_harness::runner::Tallies> {
     let file = if path.is_dir() {
+        echobench_run_folder::verify(path, &["tallies.json"])?;
         path.join("tallies.json")
     } else {
         path.to_path_buf()
@@ -364,12 +492,33 @@ fn run_gate(
     }
     let report = echobench_harness::gate::gate(&candidate, &base, &settings)?;
     let folder = if run.is_dir() { run } else { Path::new(".") };
-    let markdown = markdown.unwrap_or_else(|| folder.join("gate.md"));
-    let junit = junit.unwrap_or_else(|| folder.join("gate-junit.xml"));
-    write_atomically(&markdown, |w| w.write_all(report.markdown().as_bytes()))?;
-    write_atomically(&junit, |w| w.write_all(report.junit_xml().as_bytes()))?;
     let json = folder.join("gate.json");
-    echobench_harness::summary::write_json(&json, &report)?;
+    let markdown_text = report.markdown();
+    let junit_text = report.junit_xml();
+    // Files going into the run folder are added as a whole-folder amendment (the folder
+    // stays sealed); files named elsewhere are written one by one, atomically.
+    let mut into_run: Vec<(&str, Vec<u8>)> = Vec::new();
+    let mut place = |given: Option<PathBuf>, name: &'static str, bytes: Vec<u8>| match given {
+        Some(path) => write_atomically(&path, |w| w.write_all(&bytes)).map(|()| path),
+        None if run.is_dir() => {
+            into_run.push((name, bytes));
+            Ok(run.join(name))
+        }
+        None => write_atomically(&folder.join(name), |w| w.write_all(&bytes))
+            .map(|()| folder.join(name)),
+    };
+    let markdown = place(markdown, "gate.md", markdown_text.into_bytes())?;
+    let junit = place(junit, "gate-junit.xml", junit_text.into_bytes())?;
+    let mut json_bytes = serde_json::to_vec_pretty(&report).context("encoding gate.json")?;
+    json_bytes.push(b'\n');
+    place(None, "gate.json", json_bytes)?;
+    if !into_run.is_empty() {
+        echobench_run_folder::amend(run, |dir| {
+            into_run.iter().try_for_each(|(name, bytes)| {
+                echobench_run_folder::write_new_file(dir, name, bytes)
+            })
+        })?;
+    }
     print!(
         "{}",
         if all {
@@ -395,7 +544,12 @@ fn run_gate(
 
 fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Result<ExitCode> {
     use echobench_report::{gate_section, render_html, RunFolder};
+    let required = ["summary.json", "tallies.json"];
+    echobench_run_folder::verify(run, &required)?;
     let folder = RunFolder::load(run)?;
+    if let Some(b) = baseline {
+        echobench_run_folder::verify(b, &required)?;
+    }
     let base = baseline.map(RunFolder::load).transpose()?;
     let mut extra = Vec::new();
     if let Some(b) = &base {
@@ -409,13 +563,27 @@ fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Resu
         }
     }
     let html = render_html(&folder, base.as_ref(), &extra);
-    let out = out.unwrap_or_else(|| run.join("report.html"));
-    echobench_core::atomic::write_atomically(&out, |w| w.write_all(html.as_bytes()))?;
+    let out = match out {
+        Some(out) => {
+            echobench_core::atomic::write_atomically(&out, |w| w.write_all(html.as_bytes()))?;
+            out
+        }
+        None => {
+            // Into the run folder as a whole-folder amendment, so it stays sealed.
+            echobench_run_folder::amend(run, |dir| {
+                echobench_run_folder::write_new_file(dir, "report.html", html.as_bytes())
+            })?;
+            run.join("report.html")
+        }
+    };
     println!("wrote {}", out.display());
     Ok(ExitCode::SUCCESS)
 }
 
-fn save_baseline(run: &Path, to: &Path) -> Result<ExitCode> {
+fn save_baseline(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
+    if !run.is_dir() {
+        bail!("{}: not a run folder", run.display());
+    }
     let tallies = read_tallies(run)?;
     if !tallies.shards.is_empty() {
         bail!(
@@ -427,7 +595,10 @@ fn save_baseline(run: &Path, to: &Path) -> Result<ExitCode> {
     if failures > 0 {
         eprintln!("warning: the run has {failures} failed detector trials; they are not in the baseline's counts");
     }
-    std::fs::create_dir_all(to).with_context(|| format!("creating {}", to.display()))?;
+    // The result files a later run and the gate read; the rest of a run folder (report,
+    // timing, gate files) describes that one run only.
+    let manifest = echobench_run_folder::verify(run, &["tallies.json"])?;
+    let mut names = Vec::new();
     for name in [
         "tallies.json",
         "summary.json",
@@ -435,38 +606,41 @@ fn save_baseline(run: &Path, to: &Path) -> Result<ExitCode> {
         "roc.csv",
         "events.csv",
     ] {
-        let from = run.join(name);
-        match std::fs::read(&from) {
-            Ok(bytes) => {
-                echobench_core::atomic::write_atomically(&to.join(name), |w| w.write_all(&bytes))?
-            }
-            Err(e) if name == "tallies.json" => {
-                return Err(e).with_context(|| format!("reading {}", from.display()))
-            }
-            Err(_) => eprintln!("note: {} has no {name}", run.display()),
+        if manifest.file(name).is_some() {
+            names.push(name);
+        } else {
+            eprintln!("note: {} has no {name}", run.display());
         }
     }
+    let staging = echobench_run_folder::stage_copy(run, &names, to, replace)?;
+    let (kept, placement) = staging.commit(echobench_run_folder::FolderKind::Reference)?;
     println!(
-        "saved {} as the baseline {} (suite `{}`, seed {}, {} detectors)",
+        "saved {} as the baseline {} (suite `{}`, seed {}, {} detectors; run {}, {placement})",
         run.display(),
         to.display(),
         tallies.suite,
         tallies.seed,
-        tallies.detectors.len()
+        tallies.detectors.len(),
+        kept.run_id
     );
     Ok(ExitCode::SUCCESS)
 }
 
-fn run_merge(runs: &[PathBuf], out: &Path, suite_path: Option<&Path>) -> Result<ExitCode> {
+fn run_merge(
+    runs: &[PathBuf],
+    out: &Path,
+    suite_path: Option<&Path>,
+    partial: bool,
+    replace: bool,
+) -> Result<ExitCode> {
     let suite = load_suite(suite_path, false)?;
+    let staging = echobench_run_folder::Staging::begin(out, replace)?;
     let mut parts = Vec::new();
     for run in runs {
-        let file = run.join("tallies.json");
-        let text = std::fs::read_to_string(&file)
-            .with_context(|| format!("reading {}", file.display()))?;
-        let tallies: echobench_harness::runner::Tallies =
-            serde_json::from_str(&text).with_context(|| format!("parsing {}", file.display()))?;
-        parts.push(tallies);
+        if !run.is_dir() {
+            bail!("{}: not a shard's run folder", run.display());
+        }
+        parts.push(read_tallies(run)?);
     }
     let merged = echobench_harness::runner::merge_tallies(parts)?;
     if merged.suite != suite.name {
@@ -476,7 +650,24 @@ fn run_merge(runs: &[PathBuf], out: &Path, suite_path: Option<&Path>) -> Result<
             suite.name
         );
     }
-    write_run_outputs(out, &suite, &suite_text(suite_path)?, &merged, None)?;
+    if let Some(first) = merged.shards.first() {
+        let have: Vec<u64> = merged.shards.iter().map(|s| s.index).collect();
+        let missing: Vec<String> = (1..=first.count)
+            .filter(|k| !have.contains(k))
+            .map(|k| format!("{k}/{}", first.count))
+            .collect();
+        let what = format!(
+            "{} of {} shards merged; missing {}",
+            have.len(),
+            first.count,
+            missing.join(", ")
+        );
+        if !partial {
+            bail!("{what}: pass every shard's folder, or --partial to write an incomplete merge");
+        }
+        eprintln!("warning: {what}; the folder holds a partial run (--partial)");
+    }
+    write_run_outputs(staging, &suite, &suite_text(suite_path)?, &merged, None)?;
     Ok(ExitCode::SUCCESS)
 }
 
@@ -579,9 +770,10 @@ fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
 
 fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
     let mut failed = 0;
+    let mut limit_failures = 0;
     let mut refused = |file: &Path, report: echobench_yaml_reader::Report| {
         failed += 1;
-        eprint!("{report}");
+        eprint!("{}", shown(&report));
         println!(
             "failed: {} ({} errors)",
             file.display(),
@@ -594,10 +786,26 @@ fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
             let plugins = echobench_detectors::with_external(true);
             match echobench_harness::suite_file::load_suite_file(file, &plugins) {
                 Ok((suite, warnings)) => {
-                    eprint!("{warnings}");
+                    eprint!("{}", shown(&warnings));
+                    // Every limit `run` applies; the allow-exec gate only as a note.
+                    let problems = echobench_limits::door_problems(&suite, true);
+                    if !problems.is_empty() {
+                        limit_failures += 1;
+                        for line in echobench_limits::cut_list(problems.clone()) {
+                            eprintln!("{}: error: {line}", file.display());
+                        }
+                        println!("failed: {} ({} errors)", file.display(), problems.len());
+                        continue;
+                    }
                     let variants: usize = suite.scenes.iter().map(|s| s.variants.len()).sum();
+                    let external = echobench_limits::needs_exec(&suite);
+                    let exec_note = if external.is_empty() {
+                        String::new()
+                    } else {
+                        format!("; would need --allow-exec for {}", external.join(", "))
+                    };
                     println!(
-                        "ok: {} (suite `{}`, {} scenes, {} variants, {} detectors)",
+                        "ok: {} (suite `{}`, {} scenes, {} variants, {} detectors{exec_note})",
                         file.display(),
                         suite.name,
                         suite.scenes.len(),
@@ -623,11 +831,22 @@ fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
             Err(report) => refused(file, report),
         }
     }
-    Ok(if failed == 0 {
+    Ok(if failed + limit_failures == 0 {
         ExitCode::SUCCESS
     } else {
         ExitCode::from(1)
     })
+}
+
+/// A problem report cut after the first `echobench_limits::SHOWN_PROBLEMS` problems, with
+/// a count of the rest.
+fn shown(report: &echobench_yaml_reader::Report) -> String {
+    let lines: Vec<String> = report.problems.iter().map(ToString::to_string).collect();
+    let mut text = echobench_limits::cut_list(lines).join("\n");
+    if !text.is_empty() {
+        text.push('\n');
+    }
+    text
 }
 
 /// A suite file has a top-level `scenes:` key; a scene file never does.

@@ -366,7 +366,9 @@ fn read_suite(
     };
     let suite_scenes =
         scenes_node.and_then(|node| read_scenes(node, name, scenes, defaults, report));
-    let detectors = detectors_node.and_then(|node| read_detectors(node, name, plugins, report));
+    let detectors = detectors_node
+        .and_then(|node| read_detectors(node, name, plugins, report))
+        .map(|list| anchor_external_commands(list, scenes, plugins));
     let alarm = match alarm_node {
         Some(node) => read_alarm(node, name, report),
         None => Some(AlarmSpec::default()),
@@ -1546,6 +1548,45 @@ struct DetectorRead {
     path: String,
     /// Where each given parameter's value is written.
     param_locations: Vec<(String, Location)>,
+}
+
+/// An `external` detector's `command` written as a relative path (with a `/`) names a
+/// program beside the suite file, as scene and recording paths do: it is joined to the
+/// suite's folder here, before the plugin looks for it. A bare name is left for `PATH`.
+fn anchor_external_commands(
+    list: Vec<DetectorRead>,
+    source: &dyn SceneSource,
+    plugins: &[&dyn DetectorPlugin],
+) -> Vec<DetectorRead> {
+    list.into_iter()
+        .map(|mut read| {
+            if read.entry.plugin != "external" {
+                return read;
+            }
+            let mut changed = false;
+            for (name, value) in &mut read.entry.params {
+                if let ParamValue::Text(command) = value {
+                    let relative =
+                        command.contains('/') && !Path::new(command.trim()).is_absolute();
+                    if name == "command" && relative {
+                        if let Some(path) = source.path(command.trim()) {
+                            *command = path.display().to_string();
+                            changed = true;
+                        }
+                    }
+                }
+            }
+            let plugin = plugins[read.plugin_index];
+            if changed {
+                if let Ok(params) =
+                    Params::resolve(plugin.id(), plugin.params(), &read.entry.params)
+                {
+                    read.params = params;
+                }
+            }
+            read
+        })
+        .collect()
 }
 
 fn read_detectors(

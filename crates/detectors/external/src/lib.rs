@@ -34,15 +34,17 @@
 //!
 //! | name | kind | default | meaning |
 //! |---|---|---|---|
-//! | `command` | text | (none) | the program: a path (with a `/`, relative to the current directory) or a name looked up on `PATH` |
+//! | `command` | text | (none) | the program: a path (with a `/`; in a suite file, relative to the suite file's folder) or a name looked up on `PATH` |
 //! | `args` | text | empty | its arguments, split on whitespace (spaces, tabs); no quoting or escapes, so an argument cannot contain a space |
 //! | `timeout_s` | real, 0.01 to 86 400 s | 60 | the trial's time budget: the total time echobench may spend waiting for the program (handshake and every answer); the program is killed when it runs out |
 //! | `state_bytes` | integer ≥ 0 | 0 | the program's state memory, as declared by the user (0 = not declared) |
 //! | `ops_per_sample` | real ≥ 0 | 0 | its arithmetic per input sample, as declared by the user (0 = not declared) |
 //!
 //! A typical pair is `command: python3`, `args: detectors/my_detector.py
-//! frame_len=256`. Relative paths, in `command` and in `args`, are taken
-//! from echobench's current directory (not the suite file's folder). The
+//! frame_len=256`. A relative `command` path is taken from the suite file's
+//! folder (the suite loader joins it, as it does for scenes and recordings);
+//! relative paths in `args` are passed as written, so they are taken from
+//! echobench's current directory. The
 //! program inherits echobench's environment; its stdin, stdout and stderr
 //! are pipes to echobench. `command` and `args` are free text; see the note
 //! at the end on how the core parameter table declares them.
