@@ -271,6 +271,17 @@ scoring:
         "the suite must raise false alarms: {candidate_alarms}"
     );
     std::fs::write(&tallies_file, serde_json::to_string(&tallies).unwrap()).unwrap();
+    // A file changed by hand no longer matches the folder's manifest: refused, exit 2.
+    let result = call(&["gate", &path("after"), "--baseline", &path("base")]);
+    assert_eq!(result.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&result.stderr).contains("tallies.json is not the file of run"));
+    // Sealed again on purpose, the doctored baseline is read.
+    echobench_run_folder::seal(
+        &dir.join("base"),
+        "doctored-by-the-test",
+        echobench_run_folder::FolderKind::Reference,
+    )
+    .unwrap();
     let result = call(&["gate", &path("after"), "--baseline", &path("base")]);
     let stdout = String::from_utf8_lossy(&result.stdout);
     assert_eq!(result.status.code(), Some(1), "{stdout}");
