@@ -239,6 +239,26 @@ impl MotionModel for Animal {
     fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
         self.params.path.walking_intervals(duration_s)
     }
+
+    /// The body's speed along its path (the legs swing only while it walks).
+    fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
+        let state = self.params.path.state(t_s);
+        if state.presence > 0.0 {
+            state.speed_mps
+        } else {
+            0.0
+        }
+    }
+
+    fn body_presence_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
+        let path = &self.params.path;
+        let (start, end) = (path.enter_s().max(0.0), path.leave_s().min(duration_s));
+        if end > start {
+            vec![(start, end)]
+        } else {
+            Vec::new()
+        }
+    }
 }
 
 #[cfg(test)]

@@ -19,6 +19,23 @@
 //!   time: the idle gaps between fidgets are exponential with the given rate,
 //!   so the mean event rate is 1/(1/rate + mean duration).
 //!
+//! * **Standing up** (optional, `stand_up_at_s`): the chest rises to the
+//!   standing chest height and moves forward over `stand_up_s` along a
+//!   minimum-jerk profile x(u) = D·(10u³ − 15u⁴ + 6u⁵), the smoothest
+//!   point-to-point human movement (Flash & Hogan, J. Neurosci. 5(7), 1985);
+//!   peak speed 1.875·D/T. A sit-to-stand takes about 1.5–2.5 s in healthy
+//!   adults and moves the trunk forward a few tens of centimetres (from
+//!   memory); the defaults are 2 s, a standing chest height of 1.3 m and
+//!   0.25 m forward. The hand moves with the chest. Once up, the person keeps
+//!   breathing and also sways as a standing person does
+//!   ([`StandingMotion`], blended in with the same profile). A person who then
+//!   walks away is a second actor, a walker whose path starts with a pause
+//!   at that place (see the scene documentation).
+//!
+//! A seated person is given no postural sway: sitting sways less than
+//! standing (García-Massó et al., Percept. Mot. Skills 121(1), 2015), and
+//! breathing and heartbeat are its residual motion here.
+//!
 //! The random draws (initial breathing and heartbeat phases, then the fidget
 //! sequence in order) come from a ChaCha8 generator seeded by the caller; the
 //! fidget sequence is drawn event by event in time order, so the motion does
@@ -28,6 +45,7 @@ use crate::reflector::{
     add, hermite_node_rate_hz, knot_node_rate_hz, scale, Check, ParamError, MIN_NODE_RATE_HZ,
     NODES_PER_CYCLE,
 };
+use crate::standing::{StandingMotion, COM_HEIGHT_FRACTION};
 use crate::{Echo, MotionModel, Vec3};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -74,6 +92,36 @@ pub struct BreathingParams {
     pub present_from_s: f64,
     /// Until when, s (`f64::INFINITY`: for the whole trial).
     pub present_until_s: f64,
+    /// When the person starts to stand up, s (`f64::INFINITY`: stays seated).
+    pub stand_up_at_s: f64,
+    /// How long standing up takes, s.
+    pub stand_up_s: f64,
+    /// Chest height once standing, m.
+    pub standing_chest_height_m: f64,
+    /// How far the chest moves forward while standing up, m.
+    pub stand_up_forward_m: f64,
+}
+
+/// Default sit-to-stand duration, s (from memory: 1.5–2.5 s in healthy adults).
+pub const DEFAULT_STAND_UP_S: f64 = 2.0;
+
+/// Default standing chest height, m (about 0.74 of a 1.75 m body, from memory).
+pub const DEFAULT_STANDING_CHEST_HEIGHT_M: f64 = 1.3;
+
+/// Default forward travel of the chest while standing up, m (from memory).
+pub const DEFAULT_STAND_UP_FORWARD_M: f64 = 0.25;
+
+/// Minimum-jerk profile (Flash & Hogan 1985) x(u), x'(u) for u in [0, 1], clamped outside.
+fn minimum_jerk(u: f64) -> (f64, f64) {
+    if u <= 0.0 {
+        return (0.0, 0.0);
+    }
+    if u >= 1.0 {
+        return (1.0, 0.0);
+    }
+    let u2 = u * u;
+    let v = 1.0 - u;
+    (u2 * u * (10.0 - 15.0 * u + 6.0 * u2), 30.0 * u2 * v * v)
 }
 
 impl BreathingParams {
@@ -111,6 +159,10 @@ impl BreathingParams {
             arm_rest_offset_m: [0.3, 0.0, -0.3],
             present_from_s: f64::NEG_INFINITY,
             present_until_s: f64::INFINITY,
+            stand_up_at_s: f64::INFINITY,
+            stand_up_s: DEFAULT_STAND_UP_S,
+            standing_chest_height_m: DEFAULT_STANDING_CHEST_HEIGHT_M,
+            stand_up_forward_m: DEFAULT_STAND_UP_FORWARD_M,
         }
     }
 }
@@ -156,6 +208,8 @@ pub struct Breathing {
     idle_gap: Option<Exp<f64>>,
     /// The current or next fidget (events are drawn in time order).
     upcoming: Option<Fidget>,
+    /// Sway and breathing once standing (breathing is the model's own; only the sway is used).
+    standing: StandingMotion,
 }
 
 impl Breathing {
@@ -246,9 +300,26 @@ impl Breathing {
                 "a time > present_from_s (or infinity)",
             ));
         }
+        if params.stand_up_at_s.is_nan() {
+            return Err(check.error(
+                "stand_up_at_s",
+                params.stand_up_at_s,
+                "a time (or infinity: stays seated)",
+            ));
+        }
+        check.positive("stand_up_s", params.stand_up_s)?;
+        check.finite("standing_chest_height_m", params.standing_chest_height_m)?;
+        check.finite("stand_up_forward_m", params.stand_up_forward_m)?;
         let mut rng = ChaCha8Rng::from_seed(seed);
         let breath_phase0 = rng.random::<f64>();
         let heart_phase0 = rng.random::<f64>();
+        // Drawn only for a person who stands up, so that the fidgets of a
+        // person who stays seated keep their draws.
+        let standing = if params.stand_up_at_s.is_finite() {
+            StandingMotion::quiet_adult(rng.random())
+        } else {
+            StandingMotion::none()
+        };
         let idle_gap = if params.fidget_rate_per_min > 0.0 {
             Exp::new(params.fidget_rate_per_min / 60.0).ok()
         } else {
@@ -263,6 +334,7 @@ impl Breathing {
             rng,
             idle_gap,
             upcoming: None,
+            standing,
         };
         // Fidgets start once the person is there (from t = 0 if already there).
         let origin_s = if params.present_from_s.is_finite() {
@@ -355,6 +427,36 @@ impl Breathing {
         )
     }
 
+    /// Displacement of the chest by standing up and by the standing sway (m)
+    /// and its velocity (m/s), at `t_s`.
+    pub fn stand_up_shift(&self, t_s: f64) -> (Vec3, Vec3) {
+        let p = &self.params;
+        if !p.stand_up_at_s.is_finite() || t_s <= p.stand_up_at_s {
+            return ([0.0; 3], [0.0; 3]);
+        }
+        let (x, rate) = minimum_jerk((t_s - p.stand_up_at_s) / p.stand_up_s);
+        let rate = rate / p.stand_up_s;
+        let rise = p.standing_chest_height_m - p.chest_height_m;
+        let forward = p.stand_up_forward_m;
+        // Sway of the chest, an inverted pendulum about the ankles, faded in
+        // with the rise: the chest (about 0.74 of the body height, as the
+        // default standing chest height) sways 0.74/0.55 times the centre of mass.
+        let lever = 0.74 / COM_HEIGHT_FRACTION;
+        let ([sf, ss], [vf, vs]) = self.standing.sway(t_s);
+        let (f, l) = (self.facing, [-self.facing[1], self.facing[0], 0.0]);
+        let along = forward * x + lever * x * sf;
+        let along_rate = forward * rate + lever * (x * vf + rate * sf);
+        let side = lever * x * ss;
+        let side_rate = lever * (x * vs + rate * ss);
+        (
+            add(add(scale(f, along), scale(l, side)), [0.0, 0.0, rise * x]),
+            add(
+                add(scale(f, along_rate), scale(l, side_rate)),
+                [0.0, 0.0, rise * rate],
+            ),
+        )
+    }
+
     /// Presence weight: 1 inside the window, raised-cosine ramps of
     /// [`PRESENCE_RAMP_S`](crate::path::PRESENCE_RAMP_S) at finite edges.
     pub fn presence(&self, t_s: f64) -> f64 {
@@ -412,9 +514,16 @@ impl MotionModel for Breathing {
         } else {
             ([0.0; 3], [0.0; 3])
         };
+        let (rise, rise_rate) = self.stand_up_shift(t_s);
         let base = [p.position_m[0], p.position_m[1], p.chest_height_m];
-        let chest = add(add(base, scale(self.facing, breath + heart)), torso_shift.0);
-        let chest_velocity = add(scale(self.facing, breath_rate + heart_rate), torso_shift.1);
+        let chest = add(
+            add(add(base, scale(self.facing, breath + heart)), torso_shift.0),
+            rise,
+        );
+        let chest_velocity = add(
+            add(scale(self.facing, breath_rate + heart_rate), torso_shift.1),
+            rise_rate,
+        );
         out.push(Echo {
             position_m: chest,
             velocity_mps: chest_velocity,
@@ -428,8 +537,8 @@ impl MotionModel for Breathing {
             base[2] + up,
         ];
         out.push(Echo {
-            position_m: add(rest, arm_shift.0),
-            velocity_mps: arm_shift.1,
+            position_m: add(add(rest, arm_shift.0), rise),
+            velocity_mps: add(arm_shift.1, rise_rate),
             amplitude_m: presence * p.arm_rcs_m2.sqrt(),
         });
     }
@@ -466,6 +575,14 @@ impl MotionModel for Breathing {
             jump += 2.0 * PI * PI * p.fidget_max_displacement_m / p.fidget_min_duration_s.powi(2);
             rate = rate.max(NODES_PER_CYCLE / p.fidget_min_duration_s);
         }
+        if p.stand_up_at_s.is_finite() {
+            // Minimum jerk: |x''''| ≤ 360·D/T⁴, no acceleration jump at the ends;
+            // the sway adds its fourth derivative (aω⁴ per tone, below 1 Hz).
+            let travel = (p.standing_chest_height_m - p.chest_height_m).hypot(p.stand_up_forward_m);
+            fourth += 360.0 * travel / p.stand_up_s.powi(4)
+                + self.standing.max_speed_mps(2.0) * (2.0 * PI).powi(3);
+            rate = rate.max(NODES_PER_CYCLE / p.stand_up_s);
+        }
         rate.max(hermite_node_rate_hz(fourth, wavelength_m))
             .max(knot_node_rate_hz(jump, wavelength_m))
     }
@@ -477,7 +594,40 @@ impl MotionModel for Breathing {
         let breath = 0.5 * p.peak_to_peak_m * PI / shortest_half_s;
         let (heart_m, heart_rad_s) = self.heart_terms();
         let heart = heart_m * heart_rad_s;
-        breath + heart + self.fidget_speed_bound_mps()
+        let stand_up = if p.stand_up_at_s.is_finite() {
+            let travel = (p.standing_chest_height_m - p.chest_height_m).hypot(p.stand_up_forward_m);
+            // Peak minimum-jerk speed 1.875·D/T, and the faded-in sway.
+            1.875 * travel / p.stand_up_s
+                + self.standing.max_speed_mps(2.0)
+                + 1.875 / p.stand_up_s * self.standing.max_displacement_m(2.0)
+        } else {
+            0.0
+        };
+        breath + heart + self.fidget_speed_bound_mps() + stand_up
+    }
+
+    /// Speed of the chest echo (breathing, heartbeat, a torso fidget, standing up).
+    fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
+        let p = &self.params;
+        if !(t_s >= p.present_from_s && t_s <= p.present_until_s) {
+            return 0.0;
+        }
+        let (_, breath_rate) = self.breath_displacement(t_s);
+        let (_, heart_rate) = self.heart_displacement(t_s);
+        let fidget = self.fidget_at(t_s);
+        let torso_rate = match fidget {
+            Some(f) if f.part == FidgetPart::Torso => f.at(t_s).1,
+            _ => [0.0; 3],
+        };
+        let (_, rise_rate) = self.stand_up_shift(t_s);
+        crate::norm(add(
+            add(scale(self.facing, breath_rate + heart_rate), torso_rate),
+            rise_rate,
+        ))
+    }
+
+    fn body_presence_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
+        self.active_intervals(duration_s)
     }
 
     fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {

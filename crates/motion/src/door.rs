@@ -202,6 +202,11 @@ impl Door {
 }
 
 impl MotionModel for Door {
+    /// Speed of the leaf's free edge, |ψ'|·w.
+    fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
+        self.angle(t_s).1.abs() * self.params.width_m
+    }
+
     fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>) {
         let p = self.params;
         let (psi, rate) = self.angle(t_s);

@@ -28,7 +28,20 @@
 //! model and is not modelled. The hub echo whirls in the rotor plane at f_rot
 //! (imbalance) and vibrates along the axis at 2·f_mains (motor
 //! magnetostriction), both from memory (physics.md §3); the whole rotor moves
-//! with the hub. The fan runs at constant speed for the whole trial.
+//! with the hub.
+//!
+//! # Switching on and off
+//!
+//! A fan runs at constant speed unless it is switched: from `switch_on_s`
+//! the rotor spins up over `spin_up_s`, and from `switch_off_s` it coasts
+//! down over `spin_down_s`, each with a raised-cosine rate profile
+//! Ω(t) = Ω₀·R(u), R(u) = (1 − cos πu)/2 (and 1 − R on the way down), so
+//! the rotor angle is Ω₀ times a running time g(t) with g' = R: no jump in
+//! speed or acceleration. The raised cosine stands in for the motor's torque
+//! curve and the coast-down of the blades (no source for the shape); the
+//! default durations (3 s up, 8 s down for a desk fan) are from memory. The
+//! housing's whirl follows the rotor; its mains vibration scales with the
+//! speed fraction (the motor current falls with it; no source).
 
 use crate::reflector::{
     add, cross, hermite_node_rate_hz, scale, Check, ParamError, MIN_NODE_RATE_HZ, NODES_PER_CYCLE,
@@ -70,7 +83,21 @@ pub struct FanParams {
     pub mains_vibration_m: f64,
     /// Mains frequency, Hz (50 or 60).
     pub mains_hz: f64,
+    /// When the fan is switched on, s (`f64::NEG_INFINITY`: running from before the trial).
+    pub switch_on_s: f64,
+    /// When it is switched off, s (`f64::INFINITY`: never).
+    pub switch_off_s: f64,
+    /// Spin-up time after switching on, s (> 0).
+    pub spin_up_s: f64,
+    /// Coast-down time after switching off, s (> 0).
+    pub spin_down_s: f64,
 }
+
+/// Default spin-up time of a desk fan, s (from memory).
+pub const DEFAULT_SPIN_UP_S: f64 = 3.0;
+
+/// Default coast-down time of a desk fan, s (from memory).
+pub const DEFAULT_SPIN_DOWN_S: f64 = 8.0;
 
 impl FanParams {
     /// A rotor without hub echo or vibration; set the other fields with struct update syntax.
@@ -97,6 +124,10 @@ impl FanParams {
             imbalance_whirl_m: 0.0,
             mains_vibration_m: 0.0,
             mains_hz: 50.0,
+            switch_on_s: f64::NEG_INFINITY,
+            switch_off_s: f64::INFINITY,
+            spin_up_s: DEFAULT_SPIN_UP_S,
+            spin_down_s: DEFAULT_SPIN_DOWN_S,
         }
     }
 }
@@ -166,6 +197,24 @@ impl Fan {
         check.non_negative("imbalance_whirl_m", params.imbalance_whirl_m)?;
         check.non_negative("mains_vibration_m", params.mains_vibration_m)?;
         check.positive("mains_hz", params.mains_hz)?;
+        check.positive("spin_up_s", params.spin_up_s)?;
+        check.positive("spin_down_s", params.spin_down_s)?;
+        if params.switch_on_s.is_nan() || params.switch_on_s == f64::INFINITY {
+            return Err(check.error(
+                "switch_on_s",
+                params.switch_on_s,
+                "a time (or negative infinity)",
+            ));
+        }
+        if params.switch_off_s.is_nan()
+            || params.switch_off_s < params.switch_on_s + params.spin_up_s
+        {
+            return Err(check.error(
+                "switch_off_s",
+                params.switch_off_s,
+                "a time at or after switch_on_s + spin_up_s (or infinity)",
+            ));
+        }
         let wavelength_m = check.positive("wavelength_m", wavelength_m)?;
         // Any unit vector across the axis starts the in-plane basis.
         let helper = if axis[2].abs() < 0.9 {
@@ -211,14 +260,63 @@ impl Fan {
             / (blade_length_m * self.angular_rate_rad_s().abs() * self.params.blade_tilt_rad.cos())
     }
 
-    /// Hub displacement (m) and velocity (m/s) at `t_s`.
-    /// Hub displacement and velocity at `t_s`, given the rotor angle's (sin, cos).
-    fn hub_motion(&self, t_s: f64, rotor: (f64, f64)) -> (Vec3, Vec3) {
+    /// Running time g(t) (the rotor angle is Ω₀·g + initial angle), the speed
+    /// fraction g' in [0, 1] and its rate g'' (1/s), at `t_s`.
+    pub fn running(&self, t_s: f64) -> (f64, f64, f64) {
+        let p = &self.params;
+        if p.switch_on_s == f64::NEG_INFINITY && p.switch_off_s == f64::INFINITY {
+            return (t_s, 1.0, 0.0);
+        }
+        // Up: ∫₀ᵘ R = u/2 − sin(πu)/2π; down: ∫₀ᵘ (1 − R) = u/2 + sin(πu)/2π.
+        let on = p.switch_on_s;
+        let (up, down) = (p.spin_up_s, p.spin_down_s);
+        let at_off = |off: f64| -> f64 {
+            if on == f64::NEG_INFINITY {
+                off
+            } else {
+                off - on - 0.5 * up
+            }
+        };
+        if t_s >= p.switch_off_s {
+            let g_off = at_off(p.switch_off_s);
+            let u = (t_s - p.switch_off_s) / down;
+            if u >= 1.0 {
+                return (g_off + 0.5 * down, 0.0, 0.0);
+            }
+            let (s, c) = (PI * u).sin_cos();
+            return (
+                g_off + down * (0.5 * u + s / (2.0 * PI)),
+                0.5 + 0.5 * c,
+                -0.5 * PI * s / down,
+            );
+        }
+        if on == f64::NEG_INFINITY {
+            return (t_s, 1.0, 0.0);
+        }
+        if t_s <= on {
+            return (0.0, 0.0, 0.0);
+        }
+        let u = (t_s - on) / up;
+        if u >= 1.0 {
+            return (at_off(t_s), 1.0, 0.0);
+        }
+        let (s, c) = (PI * u).sin_cos();
+        (
+            up * (0.5 * u - s / (2.0 * PI)),
+            0.5 - 0.5 * c,
+            0.5 * PI * s / up,
+        )
+    }
+
+    /// Hub displacement and velocity at `t_s`, given the rotor angle's (sin, cos)
+    /// and the speed fraction f and its rate.
+    fn hub_motion(&self, t_s: f64, rotor: (f64, f64), fraction: (f64, f64)) -> (Vec3, Vec3) {
         let p = &self.params;
         if p.imbalance_whirl_m == 0.0 && p.mains_vibration_m == 0.0 {
             return ([0.0; 3], [0.0; 3]);
         }
-        let omega = self.angular_rate_rad_s();
+        let (f, f_rate) = fraction;
+        let omega = self.angular_rate_rad_s() * f;
         let (s, c) = rotor;
         let radial = add(scale(self.in_plane_u, c), scale(self.in_plane_v, s));
         let tangential = add(scale(self.in_plane_u, -s), scale(self.in_plane_v, c));
@@ -226,11 +324,14 @@ impl Fan {
         let (sm, cm) = sin_cos(omega_mains * t_s);
         let displacement = add(
             scale(radial, p.imbalance_whirl_m),
-            scale(p.axis, p.mains_vibration_m * sm),
+            scale(p.axis, f * p.mains_vibration_m * sm),
         );
         let velocity = add(
             scale(tangential, p.imbalance_whirl_m * omega),
-            scale(p.axis, p.mains_vibration_m * omega_mains * cm),
+            scale(
+                p.axis,
+                f * p.mains_vibration_m * omega_mains * cm + f_rate * p.mains_vibration_m * sm,
+            ),
         );
         (displacement, velocity)
     }
@@ -239,11 +340,13 @@ impl Fan {
 impl MotionModel for Fan {
     fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>) {
         let p = self.params;
-        let omega = self.angular_rate_rad_s();
+        let (running_s, fraction, fraction_rate) = self.running(t_s);
+        let omega_full = self.angular_rate_rad_s();
+        let omega = omega_full * fraction;
         // The rotor angle of blade 0 (the whirl turns with it); the other
         // blades by rotating its (sin, cos) through 2π/B, one turn each.
-        let rotor = sin_cos(omega * t_s + p.initial_angle_rad);
-        let (hub_shift, hub_velocity) = self.hub_motion(t_s, rotor);
+        let rotor = sin_cos(omega_full * running_s + p.initial_angle_rad);
+        let (hub_shift, hub_velocity) = self.hub_motion(t_s, rotor, (fraction, fraction_rate));
         let hub = add(p.hub_m, hub_shift);
         let centre_radius_m = 0.5 * (p.root_radius_m + p.tip_radius_m);
         let blade_length_m = p.tip_radius_m - p.root_radius_m;
@@ -315,9 +418,16 @@ impl MotionModel for Fan {
     /// to the tip's) and on every echo's speed.
     fn max_speed_mps(&self) -> f64 {
         let p = &self.params;
+        // The coast-down's rate of change of the vibration amplitude, π/(2·T).
+        let switching = if p.switch_on_s.is_finite() || p.switch_off_s.is_finite() {
+            p.mains_vibration_m * 0.5 * PI / p.spin_up_s.min(p.spin_down_s)
+        } else {
+            0.0
+        };
         self.tip_speed_mps()
             + p.imbalance_whirl_m * self.angular_rate_rad_s().abs()
             + p.mains_vibration_m * 2.0 * PI * 2.0 * p.mains_hz
+            + switching
     }
 
     /// The tip Doppler plus the housing's vibration rates (Carson's rule for
@@ -332,14 +442,22 @@ impl MotionModel for Fan {
         2.0 * self.max_speed_mps() / wavelength_m + vibration_hz + p.revolutions_per_s.abs()
     }
 
+    /// From switching on to the end of the coast-down (the whole trial for a fan always on).
     fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
         let p = &self.params;
         let moves = p.revolutions_per_s != 0.0 || p.mains_vibration_m > 0.0;
-        if moves && duration_s > 0.0 {
-            vec![(0.0, duration_s)]
+        let start = p.switch_on_s.max(0.0);
+        let end = (p.switch_off_s + p.spin_down_s).min(duration_s);
+        if moves && end > start {
+            vec![(start, end)]
         } else {
             Vec::new()
         }
+    }
+
+    /// Blade-tip speed Ω(t)·r₂·cos(tilt).
+    fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
+        self.tip_speed_mps() * self.running(t_s).1
     }
 }
 

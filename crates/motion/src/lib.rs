@@ -23,8 +23,12 @@ pub mod fan;
 pub mod path;
 pub mod rcs;
 pub mod reflector;
+pub mod standing;
 pub mod sway;
 pub mod walker;
+
+/// The speed at or above which an actor counts as moving, m/s (see the crate doc).
+pub const MOVING_SPEED_MPS: f64 = 0.1;
 
 /// Room coordinates: x, y horizontal, z up, metres.
 pub type Vec3 = [f64; 3];
@@ -74,8 +78,25 @@ pub trait MotionModel: Send {
         2.0 * self.max_speed_mps() / wavelength_m
     }
 
-    /// Intervals (seconds) in which the actor is present and moving, for the ground truth.
+    /// Intervals (seconds) in which any part of the actor moves at all, clipped to
+    /// `[0, duration_s]`: the truth lists a nuisance over these (any motion may
+    /// cause a false alarm), and samples [`motion_speed_mps`](MotionModel::motion_speed_mps)
+    /// only inside them (outside, the motion speed is zero).
     fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)>;
+
+    /// The actor's motion speed at `t_s`, m/s: the speed that says whether it is
+    /// moving (see the crate doc for each kind); 0 while absent. Calls come
+    /// with non-decreasing `t_s`, as for [`echoes`](MotionModel::echoes), and
+    /// may be interleaved with them at the same times.
+    fn motion_speed_mps(&mut self, t_s: f64) -> f64;
+
+    /// Intervals (seconds, clipped to `[0, duration_s]`) in which a body (a
+    /// person or an animal) is there, moving or not: the truth labels the parts
+    /// of them below [`MOVING_SPEED_MPS`] *present, not moving*. Empty for
+    /// objects (a closed door or a fan at rest is not a presence).
+    fn body_presence_intervals(&self, _duration_s: f64) -> Vec<(f64, f64)> {
+        Vec::new()
+    }
 }
 
 /// Euclidean norm.

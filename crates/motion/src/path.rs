@@ -146,9 +146,14 @@ impl Path {
 
     /// Intervals in which the actor walks, clipped to `[0, duration_s]`.
     pub fn walking_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
+        self.walking_spans(0.0, duration_s)
+    }
+
+    /// Intervals in which the actor walks, clipped to `[from_s, until_s]`.
+    pub fn walking_spans(&self, from_s: f64, until_s: f64) -> Vec<(f64, f64)> {
         let mut intervals = Vec::new();
-        let mut start = self.enter_s.max(0.0);
-        let end = self.leave_s.min(duration_s);
+        let mut start = self.enter_s.max(from_s);
+        let end = self.leave_s.min(until_s);
         for pause in &self.pauses {
             let (p0, p1) = (pause.at_s, pause.at_s + pause.duration_s);
             if p1 <= start || p0 >= end {
@@ -163,6 +168,13 @@ impl Path {
             intervals.push((start, end));
         }
         intervals
+    }
+
+    /// Position on the floor and unit heading after `moving_s` seconds of
+    /// walking (the walker's eased stops and starts run the path on their own clock).
+    pub fn place_at_moving_time(&self, moving_s: f64) -> ([f64; 2], [f64; 2]) {
+        let distance = (moving_s.max(0.0) * self.speed_mps).min(*self.cumulative_m.last().unwrap());
+        self.point_at_distance(distance)
     }
 
     /// The state at `t_s`.

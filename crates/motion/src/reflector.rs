@@ -364,6 +364,20 @@ impl Reflector {
 }
 
 impl MotionModel for Reflector {
+    /// Line speed while on the line, plus the shaker's velocity amplitude 2πf·a
+    /// (an oscillation counts by its amplitude; see the crate doc).
+    fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
+        let p = &self.params;
+        let mut speed = 0.0;
+        if self.line_moves && t_s >= p.move_start_s && t_s < p.move_stop_s {
+            speed += p.speed_mps;
+        }
+        if self.shaker_moves {
+            speed += 2.0 * PI * p.shaker_frequency_hz * p.shaker_amplitude_m;
+        }
+        speed
+    }
+
     fn echoes(&mut self, t_s: f64, _sensor_m: Vec3, out: &mut Vec<crate::Echo>) {
         let (position_m, velocity_mps) = self.state(t_s);
         out.push(crate::Echo {

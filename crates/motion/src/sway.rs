@@ -482,6 +482,13 @@ impl Sway {
 }
 
 impl MotionModel for Sway {
+    /// The speed of the tip point (lever 1), as rendered.
+    fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
+        let bound = self.speed_bound_mps();
+        let (_, v) = self.tip(t_s - self.delays_s[SWAY_POINT_COUNT - 1]);
+        v.abs().min(bound)
+    }
+
     fn echoes(&mut self, t_s: f64, _sensor_m: Vec3, out: &mut Vec<Echo>) {
         let p = self.params;
         let amplitude_m = (p.rcs_m2 / SWAY_POINT_COUNT as f64).sqrt();

@@ -13,19 +13,42 @@
 //! tabulated once per walker ([`CycleTable`]: within 1 µm of the model), not
 //! from the joint curves and forward kinematics at every node.
 //!
-//! The gait phase runs on the path's moving time, so it resumes where it
-//! stopped after a pause. During a pause the body settles into the standing
-//! pose and back with a raised-cosine blend lasting one step (half a gait
-//! cycle): going straight to the standing pose would make the limbs jump
-//! by tens of centimetres, a step in every echo's phase that no real person
-//! produces. A pause shorter than two steps only settles part of the way.
-//! Away from the blends the standing body is still (zero velocity).
+//! # Stopping and starting
+//!
+//! A person does not stop dead: the body slows down over about one step
+//! while the trailing foot is brought alongside, and speeds up over about
+//! one step when it sets off (common practice in animation; one step is half
+//! a gait cycle). Every stop and every restart of the path is therefore an
+//! *easing* of width W (one step, less when the walk or the standstill on
+//! either side is shorter) centred on the path's nominal time: the speed
+//! along the path is s(t)·v with a raised-cosine s falling from 1 to 0 (or
+//! rising from 0 to 1) across the easing, and the gait phase runs on the
+//! eased moving time ∫s dt, so the limbs slow down with the body. The lost
+//! and gained halves of a centred raised cosine are equal, so outside the
+//! easings the walker is exactly where the nominal path puts it, and its
+//! gait resumes after a pause at the phase where it stopped. Across the
+//! same easing the body blends into the standing pose with weight w = 1 − s
+//! (going straight to the standing pose would make the limbs jump by tens
+//! of centimetres, a step in every echo's phase that no real person makes).
+//!
+//! # Standing still
+//!
+//! A person standing (weight w) keeps swaying and breathing
+//! ([`StandingMotion`]): every segment moves with the centre of mass sway in
+//! proportion to its height (an inverted pendulum about the ankles), and the
+//! torso echo, which carries the chest, also with the breathing. These
+//! motions stay a decade below [`MOVING_SPEED_MPS`](crate::MOVING_SPEED_MPS),
+//! so the ground truth labels a standing walker *present, not moving*.
+//!
+//! The motion speed ([`MotionModel::motion_speed_mps`]) is the speed of the
+//! torso echo, from the same state as the echoes.
 
 use crate::path::Path;
 use crate::rcs::segment_root_rcs_m;
 use crate::reflector::ParamError;
+use crate::standing::{StandingMotion, COM_HEIGHT_FRACTION};
 use crate::{Echo, MotionModel, Vec3};
-use echobench_gait::{CycleTable, Gait, Pose, SEGMENT_COUNT};
+use echobench_gait::{CycleTable, Gait, Pose, SegmentKind, SEGMENT_COUNT};
 use std::f64::consts::PI;
 
 /// Phases sampled per cycle when bounding the segment speeds.
@@ -45,6 +68,32 @@ const KNOT_ERROR_DIVISOR: f64 = 30.0;
 /// `node_rate_keeps_hermite_interpolation_within_the_phase_tolerance`: 1.6 % at 196 Hz).
 const NODE_RATE_FLOOR_HZ: f64 = 250.0;
 
+/// Index of the torso echo (it carries the chest and gives the motion speed).
+pub const TORSO_ECHO: usize = SegmentKind::Torso as usize;
+
+/// One eased stop or start of the walk.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Easing {
+    /// The path's nominal stop or restart time, s (the centre of the easing).
+    centre_s: f64,
+    /// Width of the easing, s.
+    width_s: f64,
+    /// True for a restart (speed rising), false for a stop.
+    rising: bool,
+}
+
+/// Where the body is along its path and how fast it goes there.
+#[derive(Debug, Clone, Copy)]
+struct Progress {
+    /// Eased moving time (drives the place on the path and the gait phase), s.
+    moving_s: f64,
+    /// Speed fraction s in [0, 1].
+    speed_fraction: f64,
+    /// Standing weight w = 1 − s and its rate, 1/s.
+    standing: f64,
+    standing_rate: f64,
+}
+
 /// A walking person on a path.
 #[derive(Debug, Clone)]
 pub struct Walker {
@@ -56,11 +105,12 @@ pub struct Walker {
     rcs_scale: f64,
     /// √rcs_scale, the factor on every echo's amplitude.
     root_rcs_scale: f64,
-    /// Walking intervals of the path (pauses and the time outside the path excluded).
-    walking: Vec<(f64, f64)>,
-    /// Duration of the settle blend into and out of the standing pose, s.
+    /// Eased stops and starts, in time order, not overlapping.
+    easings: Vec<Easing>,
+    /// Width of a full easing (one step, half a gait cycle), s.
     settle_s: f64,
     standing: Pose,
+    residual: StandingMotion,
     max_speed_mps: f64,
     /// Largest jump of a segment centre's acceleration at the gait curves'
     /// knots, m/s² (sets the node rate).
@@ -70,9 +120,17 @@ pub struct Walker {
     max_acceleration_mps2: f64,
 }
 
+/// Raised-cosine ramp R(x) = (1 − cos πx)/2 on [0, 1].
+fn ramp(x: f64) -> f64 {
+    0.5 - 0.5 * (PI * x).cos()
+}
+
 impl Walker {
     /// A person walking `gait` along `path`; `rcs_scale` multiplies every
-    /// segment's cross-section (1 for the ellipsoid body of Chen 2011).
+    /// segment's cross-section (1 for the ellipsoid body of Chen 2011). While
+    /// standing the person sways and breathes as [`StandingMotion::quiet_adult`]
+    /// with a fixed seed; give each person its own with
+    /// [`with_standing_motion`](Walker::with_standing_motion).
     ///
     /// Build the gait for the path's speed: `Gait::new(height_m, path.speed_mps())`.
     ///
@@ -96,7 +154,6 @@ impl Walker {
                 expected: format!("the path's speed, {} m/s", path.speed_mps()),
             });
         }
-        let walking = path.walking_intervals(f64::INFINITY);
         // Stopping or starting takes about one step (common practice in
         // animation: a walk ends with the trailing foot brought alongside).
         let settle_s = 0.5 * gait.cycle_s();
@@ -104,19 +161,27 @@ impl Walker {
         gait.standing_pose(&mut standing);
         let mut walker = Walker {
             table: CycleTable::new(&gait),
+            easings: easings(&path, settle_s),
             gait,
             path,
             rcs_scale,
             root_rcs_scale: rcs_scale.sqrt(),
-            walking,
             settle_s,
             standing,
+            residual: StandingMotion::quiet_adult([0; 32]),
             max_speed_mps: 0.0,
             acceleration_jump_mps2: 0.0,
             max_acceleration_mps2: 0.0,
         };
         walker.bound_kinematics();
         Ok(walker)
+    }
+
+    /// The same walker with `residual` as its motion while standing.
+    pub fn with_standing_motion(mut self, residual: StandingMotion) -> Walker {
+        self.residual = residual;
+        self.bound_kinematics();
+        self
     }
 
     /// The walking model.
@@ -134,6 +199,11 @@ impl Walker {
         self.rcs_scale
     }
 
+    /// Width of a full stop or start easing (half a gait cycle), s.
+    pub fn settle_s(&self) -> f64 {
+        self.settle_s
+    }
+
     /// Samples one gait cycle for the speed bound and the node-rate inputs.
     fn bound_kinematics(&mut self) {
         let table = &self.table;
@@ -143,21 +213,35 @@ impl Walker {
         let dt = cycle_s / n as f64;
         let mut pose = Pose::default();
         let mut velocities = vec![[[0.0; 3]; SEGMENT_COUNT]; n];
-        let mut walking_peak: f64 = 0.0;
-        let mut settle_peak: f64 = 0.0;
-        // The blend weight changes at most at π/T per second (product of two
-        // raised-cosine ramps of length T, see `standing_weight`).
-        let blend_rate = PI / self.settle_s;
+        let mut walking_peak: f64 = v;
+        let mut largest_offset: f64 = 0.0;
         for (i, velocity) in velocities.iter_mut().enumerate() {
             table.pose_with_velocity(i as f64 * dt, &mut pose, velocity);
             for (k, segment) in pose.segments.iter().enumerate() {
                 let u = velocity[k];
                 walking_peak = walking_peak.max(crate::norm([u[0] + v, u[1], u[2]]));
                 let offset = crate::sub(self.standing.segments[k].center_m, segment.center_m);
-                settle_peak = settle_peak.max(crate::norm(offset) * blend_rate);
+                largest_offset = largest_offset.max(crate::norm(offset));
             }
         }
-        self.max_speed_mps = SPEED_MARGIN * walking_peak.max(settle_peak);
+        // Across an easing a segment moves at s·(path + (1−w)·gait velocity)
+        // + ẇ·(standing − walking pose): at most (1 − R)·A + R'·B/W with A the
+        // walking peak (≥ v) and B the largest offset, whose largest value
+        // over the easing is A/2 + √(A²/4 + (πB/2W)²). The residual sway adds
+        // its speed and ẇ times its displacement. Narrower easings (short
+        // pauses) are bounded with their own width.
+        let narrowest_s = self
+            .easings
+            .iter()
+            .map(|e| e.width_s)
+            .fold(self.settle_s, f64::min);
+        let blend = PI / (2.0 * narrowest_s);
+        let c = blend * largest_offset;
+        let easing_peak = 0.5 * walking_peak + (0.25 * walking_peak * walking_peak + c * c).sqrt();
+        let lever = 1.0 / COM_HEIGHT_FRACTION;
+        let residual =
+            self.residual.max_speed_mps(lever) + blend * self.residual.max_displacement_m(lever);
+        self.max_speed_mps = SPEED_MARGIN * (easing_peak + residual);
 
         // Accelerations by differences of the velocities; a knot of the C¹
         // gait curves shows as a jump between neighbouring samples, a smooth
@@ -182,45 +266,66 @@ impl Walker {
         self.acceleration_jump_mps2 = max_jump;
     }
 
-    /// Blend weight towards the standing pose (0 walking pose, 1 standing)
-    /// and its time derivative, for a time `t_s` in a standstill of the path.
-    fn standing_weight(&self, t_s: f64) -> (f64, f64) {
-        // The standstill holding t: from the end of the previous walking
-        // interval (or entry) to the start of the next one (or leaving).
-        let previous_end = self
-            .walking
-            .iter()
-            .rev()
-            .map(|w| w.1)
-            .find(|&end| end <= t_s);
-        let next_start = self.walking.iter().map(|w| w.0).find(|&start| start > t_s);
-        let ramp = |x: f64| -> (f64, f64) {
-            if x >= self.settle_s {
-                (1.0, 0.0)
-            } else if x <= 0.0 {
-                (0.0, 0.0)
-            } else {
-                let phase = PI * x / self.settle_s;
-                (
-                    0.5 - 0.5 * phase.cos(),
-                    0.5 * phase.sin() * PI / self.settle_s,
-                )
+    /// Eased progress at `t_s` (inside the time on the path).
+    fn progress(&self, t_s: f64) -> Progress {
+        let nominal_moving_s = self.path.moving_time_s(t_s);
+        // At most a few easings per walk: a linear search is cheapest.
+        for e in &self.easings {
+            let start = e.centre_s - 0.5 * e.width_s;
+            if t_s < start {
+                break;
             }
-        };
-        // Settling in after the last step; rising out before the next one.
-        let (w_in, dw_in) = previous_end.map_or((1.0, 0.0), |end| ramp(t_s - end));
-        let (w_out, dw_out) = next_start.map_or((1.0, 0.0), |start| {
-            let (w, dw) = ramp(start - t_s);
-            (w, -dw)
-        });
-        (w_in * w_out, dw_in * w_out + w_in * dw_out)
+            if t_s >= start + e.width_s {
+                continue;
+            }
+            let x = (t_s - start) / e.width_s;
+            let r = ramp(x);
+            let rate = 0.5 * PI * (PI * x).sin() / e.width_s;
+            // ∫₀ˣ R = x/2 − sin(πx)/(2π), so ∫₀ˣ (1 − R) = x/2 + sin(πx)/(2π);
+            // both reach W/2 at the end, where the nominal path has moved W/2.
+            let wiggle = (PI * x).sin() / (2.0 * PI);
+            let centre_moving_s = self.path.moving_time_s(e.centre_s);
+            return if e.rising {
+                Progress {
+                    moving_s: centre_moving_s + e.width_s * (0.5 * x - wiggle),
+                    speed_fraction: r,
+                    standing: 1.0 - r,
+                    standing_rate: -rate,
+                }
+            } else {
+                Progress {
+                    moving_s: centre_moving_s - 0.5 * e.width_s + e.width_s * (0.5 * x + wiggle),
+                    speed_fraction: 1.0 - r,
+                    standing: r,
+                    standing_rate: rate,
+                }
+            };
+        }
+        // A walker that leaves walking is still walking at the leave instant
+        // (the path's own test is half-open there).
+        let leave = self.path.leave_s();
+        let walking = self.path.is_walking(t_s)
+            || (t_s == leave && self.path.is_walking(leave - 1e-9 * leave.abs().max(1.0)));
+        Progress {
+            moving_s: nominal_moving_s,
+            speed_fraction: if walking { 1.0 } else { 0.0 },
+            standing: if walking { 0.0 } else { 1.0 },
+            standing_rate: 0.0,
+        }
     }
 
-    /// Body-frame pose and segment velocities at `t_s`.
-    fn body_state(&self, t_s: f64, pose: &mut Pose, velocity: &mut [[f64; 3]; SEGMENT_COUNT]) {
+    /// Room-frame echo positions and velocities of every segment at `t_s`,
+    /// with the pose (for the segment axes) and the heading.
+    fn kinematics(
+        &self,
+        t_s: f64,
+        pose: &mut Pose,
+        positions: &mut [Vec3; SEGMENT_COUNT],
+        velocities: &mut [Vec3; SEGMENT_COUNT],
+    ) -> [f64; 2] {
         let enter = self.path.enter_s();
         let leave = self.path.leave_s().max(enter);
-        // Outside its time on the path the body holds the pose it has at the
+        // Outside its time on the path the body holds the state it has at the
         // nearest end of that time, still (its amplitude is zero there).
         let inside = t_s >= enter && t_s <= leave;
         // max/min rather than clamp: clamp panics on a NaN bound.
@@ -229,58 +334,132 @@ impl Walker {
         } else {
             t_s.max(enter).min(leave)
         };
-        let moving_s = self.path.moving_time_s(t);
-        if self.path.is_walking(t) {
-            self.table.pose_with_velocity(moving_s, pose, velocity);
-        } else {
-            self.table.pose(moving_s, pose);
-            let (w, dw) = self.standing_weight(t);
+        let progress = self.progress(t);
+        let (place, heading) = self.path.place_at_moving_time(progress.moving_s);
+        let mut body_velocity = [[0.0; 3]; SEGMENT_COUNT];
+        self.table
+            .pose_with_velocity(progress.moving_s, pose, &mut body_velocity);
+        let (w, dw) = (progress.standing, progress.standing_rate);
+        let s = progress.speed_fraction;
+        if w > 0.0 {
+            // Pose (1 − w)·P + w·S; velocity (1 − w)·s·P' + ẇ·(S − P).
+            let gait_factor = (1.0 - w) * s;
             for ((segment, stand), v) in pose
                 .segments
                 .iter_mut()
                 .zip(self.standing.segments.iter())
-                .zip(velocity.iter_mut())
+                .zip(body_velocity.iter_mut())
             {
                 let offset = crate::sub(stand.center_m, segment.center_m);
-                *v = offset.map(|d| d * dw);
-                if w > 0.0 {
-                    segment.center_m = std::array::from_fn(|i| segment.center_m[i] + w * offset[i]);
-                    let axis: Vec3 =
-                        std::array::from_fn(|i| (1.0 - w) * segment.axis[i] + w * stand.axis[i]);
-                    let length = crate::norm(axis);
-                    segment.axis = if length > 1e-9 {
-                        axis.map(|c| c / length)
-                    } else {
-                        stand.axis
-                    };
+                *v = std::array::from_fn(|i| gait_factor * v[i] + dw * offset[i]);
+                segment.center_m = std::array::from_fn(|i| segment.center_m[i] + w * offset[i]);
+                let axis: Vec3 =
+                    std::array::from_fn(|i| (1.0 - w) * segment.axis[i] + w * stand.axis[i]);
+                let length = crate::norm(axis);
+                segment.axis = if length > 1e-9 {
+                    axis.map(|c| c / length)
+                } else {
+                    stand.axis
+                };
+            }
+            // The standing body sways (each point by its height over the
+            // centre of mass height) and the chest breathes, in proportion to w.
+            let com_height_m = COM_HEIGHT_FRACTION * self.gait.height_m();
+            let (sway, sway_rate) = self.residual.sway(t);
+            let (breath, breath_rate) = self.residual.breath(t);
+            for (k, (segment, v)) in pose
+                .segments
+                .iter_mut()
+                .zip(body_velocity.iter_mut())
+                .enumerate()
+            {
+                let lever = segment.center_m[2] / com_height_m;
+                let mut shift = [lever * sway[0], lever * sway[1]];
+                let mut shift_rate = [lever * sway_rate[0], lever * sway_rate[1]];
+                if k == TORSO_ECHO {
+                    shift[0] += breath;
+                    shift_rate[0] += breath_rate;
+                }
+                for i in 0..2 {
+                    segment.center_m[i] += w * shift[i];
+                    v[i] += w * shift_rate[i] + dw * shift[i];
                 }
             }
+        } else {
+            for v in body_velocity.iter_mut() {
+                *v = v.map(|c| s * c);
+            }
         }
-        if !inside {
-            *velocity = [[0.0; 3]; SEGMENT_COUNT];
+        // Body frame → room: x along the heading, y to its left, z up.
+        let [hx, hy] = heading;
+        let turn = |b: Vec3| -> Vec3 { [hx * b[0] - hy * b[1], hy * b[0] + hx * b[1], b[2]] };
+        let path_speed = if inside {
+            s * self.path.speed_mps()
+        } else {
+            0.0
+        };
+        let path_velocity = [hx * path_speed, hy * path_speed, 0.0];
+        for ((segment, v), (position, velocity)) in pose
+            .segments
+            .iter()
+            .zip(body_velocity.iter())
+            .zip(positions.iter_mut().zip(velocities.iter_mut()))
+        {
+            let offset = turn(segment.center_m);
+            *position = [place[0] + offset[0], place[1] + offset[1], offset[2]];
+            *velocity = if inside {
+                let turned = turn(*v);
+                std::array::from_fn(|i| path_velocity[i] + turned[i])
+            } else {
+                [0.0; 3]
+            };
+        }
+        heading
+    }
+}
+
+/// The eased stops and starts of `path` (see the module doc), each at most
+/// `settle_s` wide and no wider than the walk or standstill on either side.
+fn easings(path: &Path, settle_s: f64) -> Vec<Easing> {
+    let enter = path.enter_s();
+    let leave = path.leave_s();
+    let walks = path.walking_spans(f64::NEG_INFINITY, f64::INFINITY);
+    let mut out = Vec::new();
+    for (i, &(start, end)) in walks.iter().enumerate() {
+        let walk_s = end - start;
+        if start > enter {
+            let still_before_s = start - walks.get(i.wrapping_sub(1)).map_or(enter, |w| w.1);
+            out.push(Easing {
+                centre_s: start,
+                width_s: settle_s.min(walk_s).min(still_before_s),
+                rising: true,
+            });
+        }
+        if end < leave {
+            let still_after_s = walks.get(i + 1).map_or(leave, |w| w.0) - end;
+            out.push(Easing {
+                centre_s: end,
+                width_s: settle_s.min(walk_s).min(still_after_s),
+                rising: false,
+            });
         }
     }
+    out.retain(|e| e.width_s > 0.0 && e.width_s.is_finite());
+    out
 }
 
 impl MotionModel for Walker {
     fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>) {
-        let state = self.path.state(t_s);
-        // Any pose will do as the starting value: `body_state` overwrites it.
+        let presence = self.path.presence(t_s);
+        // Any pose will do as the starting value: `kinematics` overwrites it.
         let mut pose = self.standing;
-        let mut velocity = [[0.0; 3]; SEGMENT_COUNT];
-        self.body_state(t_s, &mut pose, &mut velocity);
-
-        // Body frame → room: x along the heading, y to its left, z up.
-        let [hx, hy] = state.heading;
+        let mut positions = [[0.0; 3]; SEGMENT_COUNT];
+        let mut velocities = [[0.0; 3]; SEGMENT_COUNT];
+        let [hx, hy] = self.kinematics(t_s, &mut pose, &mut positions, &mut velocities);
         let turn = |b: Vec3| -> Vec3 { [hx * b[0] - hy * b[1], hy * b[0] + hx * b[1], b[2]] };
-        let base = [state.position_m[0], state.position_m[1], 0.0];
-        let path_velocity = [hx * state.speed_mps, hy * state.speed_mps, 0.0];
-
-        for (segment, v) in pose.segments.iter().zip(velocity.iter()) {
-            let offset = turn(segment.center_m);
-            let position_m = [base[0] + offset[0], base[1] + offset[1], offset[2]];
-            let turned_velocity = turn(*v);
-            let velocity_mps = std::array::from_fn(|i| path_velocity[i] + turned_velocity[i]);
+        for ((segment, &position_m), &velocity_mps) in
+            pose.segments.iter().zip(&positions).zip(&velocities)
+        {
             let to_sensor = crate::sub(sensor_m, position_m);
             let range_m = crate::norm(to_sensor);
             // At the sensor itself (or with a bad sensor position) the aspect
@@ -295,7 +474,7 @@ impl MotionModel for Walker {
             out.push(Echo {
                 position_m,
                 velocity_mps,
-                amplitude_m: state.presence * self.root_rcs_scale * root_rcs_m,
+                amplitude_m: presence * self.root_rcs_scale * root_rcs_m,
             });
         }
     }
@@ -303,7 +482,6 @@ impl MotionModel for Walker {
     fn echo_count(&self) -> usize {
         SEGMENT_COUNT
     }
-
     /// Ranges of the segment centres are C¹ in time: the joint angles are
     /// piecewise cubics (PCHIP) whose second derivative jumps at the control
     /// points, so the Hermite error falls as h² near them, not h⁴. A jump J in
@@ -339,8 +517,32 @@ impl MotionModel for Walker {
         self.max_speed_mps
     }
 
+    /// The whole time on the path: walking, easing or standing (and swaying).
     fn active_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
-        self.path.walking_intervals(duration_s)
+        self.body_presence_intervals(duration_s)
+    }
+
+    /// The torso echo's speed from entry to leaving (both included, so that a
+    /// walker that enters or leaves walking is moving up to those instants).
+    fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
+        if !(t_s >= self.path.enter_s() && t_s <= self.path.leave_s()) {
+            return 0.0;
+        }
+        let mut pose = self.standing;
+        let mut positions = [[0.0; 3]; SEGMENT_COUNT];
+        let mut velocities = [[0.0; 3]; SEGMENT_COUNT];
+        self.kinematics(t_s, &mut pose, &mut positions, &mut velocities);
+        crate::norm(velocities[TORSO_ECHO])
+    }
+
+    fn body_presence_intervals(&self, duration_s: f64) -> Vec<(f64, f64)> {
+        let start = self.path.enter_s().max(0.0);
+        let end = self.path.leave_s().min(duration_s);
+        if end > start {
+            vec![(start, end)]
+        } else {
+            Vec::new()
+        }
     }
 }
 
@@ -348,6 +550,7 @@ impl MotionModel for Walker {
 mod tests {
     use super::*;
     use crate::path::Pause;
+    use crate::standing::StandingMotion;
 
     const C_MPS: f64 = 299_792_458.0;
 
@@ -441,8 +644,9 @@ mod tests {
                 }
             }
         }
-        assert_eq!(walker.active_intervals(10.0), vec![(1.0, 3.0), (4.5, 7.0)]);
-        assert_eq!(walker.active_intervals(5.0), vec![(1.0, 3.0), (4.5, 5.0)]);
+        // Present (and so active: walking, easing or swaying) from entry to leaving.
+        assert_eq!(walker.active_intervals(10.0), vec![(1.0, 7.0)]);
+        assert_eq!(walker.body_presence_intervals(5.0), vec![(1.0, 5.0)]);
     }
 
     #[test]
@@ -451,7 +655,9 @@ mod tests {
             at_s: 3.0,
             duration_s: 2.0,
         };
-        let mut walker = walker_towards_sensor(1.4, vec![pause]);
+        // Without the standing sway, so that the standing pose is exact.
+        let mut walker =
+            walker_towards_sensor(1.4, vec![pause]).with_standing_motion(StandingMotion::none());
         let sensor = [0.0, 0.0, 1.0];
         let settle = walker.settle_s;
         let mut previous: Option<Vec<Echo>> = None;
@@ -484,14 +690,67 @@ mod tests {
             ];
             assert!(crate::norm(crate::sub(echo.position_m, expected)) < 1e-9);
         }
-        // The gait resumes at the phase where it stopped.
-        let mut before = Vec::new();
-        let mut after = Vec::new();
-        walker.echoes(pause.at_s - 1e-9, sensor, &mut before);
-        walker.echoes(pause.at_s + pause.duration_s, sensor, &mut after);
-        for (a, b) in before.iter().zip(after.iter()) {
-            assert!(crate::norm(crate::sub(a.position_m, b.position_m)) < 1e-6);
+        // Outside the easings the walker is where the nominal path puts it,
+        // and the gait resumes at the phase where it stopped: the eased walker
+        // after the pause matches a walker that never stopped, shifted by the pause.
+        let gait = Gait::new(1.8, 1.4).expect("valid gait");
+        let mut straight = Walker::new(
+            gait,
+            Path::straight([12.0, 0.0], PI, 1.4, 1.0, 7.0, vec![]),
+            1.0,
+        )
+        .expect("valid walker");
+        let (mut before, mut after) = (Vec::new(), Vec::new());
+        for later in [pause.at_s + pause.duration_s + 0.5 * settle + 0.01, 6.0] {
+            before.clear();
+            after.clear();
+            let t_straight = later - pause.duration_s;
+            straight.echoes(t_straight, sensor, &mut before);
+            walker.echoes(later, sensor, &mut after);
+            assert!(t_straight > pause.at_s + 0.5 * settle);
+            for (a, b) in before.iter().zip(after.iter()) {
+                assert!(
+                    crate::norm(crate::sub(a.position_m, b.position_m)) < 1e-9,
+                    "{later}"
+                );
+                assert!(crate::norm(crate::sub(a.velocity_mps, b.velocity_mps)) < 1e-9);
+            }
         }
+    }
+
+    #[test]
+    fn a_pause_eases_the_torso_to_a_stop_and_back_and_the_standing_body_sways() {
+        // The torso's speed falls from walking to below the moving level
+        // within the easing centred on the pause start, and rises back across
+        // the easing centred on its end; in between, the body sways and breathes
+        // at a few mm/s (never still, never moving).
+        let pause = Pause {
+            at_s: 3.0,
+            duration_s: 2.0,
+        };
+        let mut walker = walker_towards_sensor(1.4, vec![pause])
+            .with_standing_motion(StandingMotion::quiet_adult([9; 32]));
+        let half = 0.5 * walker.settle_s;
+        let mut out = Vec::new();
+        let (mut still_min, mut still_max) = (f64::INFINITY, 0.0f64);
+        // Up to just before leaving (the presence, and so the motion speed, is 0 at 7 s).
+        for i in 0..5499 {
+            let t = 1.5 + i as f64 * 1e-3;
+            out.clear();
+            walker.echoes(t, [0.0, 0.0, 1.0], &mut out);
+            let speed = crate::norm(out[TORSO_ECHO].velocity_mps);
+            let measured = walker.motion_speed_mps(t);
+            assert!((speed - measured).abs() < 1e-12, "{t}: {speed} {measured}");
+            let end = pause.at_s + pause.duration_s;
+            if t < pause.at_s - half || (t > end + half && t < 7.0) {
+                assert!(speed > 0.8, "walking at {t}: {speed}");
+            } else if t > pause.at_s + half && t < end - half {
+                still_min = still_min.min(speed);
+                still_max = still_max.max(speed);
+            }
+        }
+        assert!(still_max < 0.03 && still_min >= 0.0, "{still_max}");
+        assert!(still_max > 0.001, "the standing body moves: {still_max}");
     }
 
     #[test]
@@ -499,12 +758,17 @@ mod tests {
         // Slow walkers swing their feet fastest relative to their speed (toe
         // ≈ 7 v at 0.45 m/s against ≈ 4.2 v at 1.4 m/s), so the bound is sampled
         // from the gait, not taken as a multiple of v.
-        for speed in [0.3, 0.45, 1.4, 2.6] {
+        // A full-width pause checks that the bound is tight; a pause shorter
+        // than one step (narrower easings, faster blends) that it still holds.
+        for (speed, pause_s) in [0.3, 0.45, 1.4, 2.6]
+            .into_iter()
+            .flat_map(|v| [(v, 2.0), (v, 0.4)])
+        {
             let mut walker = walker_towards_sensor(
                 speed,
                 vec![Pause {
                     at_s: 3.0,
-                    duration_s: 0.4,
+                    duration_s: pause_s,
                 }],
             );
             let bound = walker.max_speed_mps();
@@ -522,7 +786,7 @@ mod tests {
                 }
             }
             assert!(
-                fastest <= bound && fastest > bound / 1.5,
+                fastest <= bound && (pause_s < 1.0 || fastest > bound / 1.5),
                 "{speed}: {fastest} vs {bound}"
             );
         }

@@ -134,6 +134,12 @@ pub struct BreathingSpec {
     pub enter_s: Param,
     /// Presence window end, s (`None`: the whole trial).
     pub leave_s: Option<Param>,
+    /// When the person starts to stand up, s (`None`: stays seated).
+    pub stand_up_at_s: Option<Param>,
+    /// How long standing up takes, s.
+    pub stand_up_s: Param,
+    /// Chest height once standing, m.
+    pub standing_chest_height_m: Param,
 }
 
 /// A swaying object: a driven, damped oscillator on an arm (a plant's stem, a sign's cord).
@@ -186,6 +192,14 @@ pub struct FanSpec {
     pub housing_rcs_m2: Param,
     /// Mains frequency that drives the motor's 2·f vibration, Hz.
     pub mains_hz: Param,
+    /// When the fan is switched on, s (`None`: running from before the trial).
+    pub switch_on_s: Option<Param>,
+    /// When it is switched off, s (`None`: never).
+    pub switch_off_s: Option<Param>,
+    /// Spin-up time after switching on, s.
+    pub spin_up_s: Param,
+    /// Coast-down time after switching off, s.
+    pub spin_down_s: Param,
 }
 
 /// A small animal.
@@ -465,6 +479,17 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
                 fidgets_per_min: f.param_or("fidgets_per_min", Bounds::closed(0.0, 30.0), 0.0),
                 enter_s: f.param_or("enter_s", TIME, 0.0),
                 leave_s: f.param_opt("leave_s", TIME),
+                stand_up_at_s: f.param_opt("stand_up_at_s", TIME),
+                stand_up_s: f.param_or(
+                    "stand_up_s",
+                    Bounds::closed(0.5, 10.0),
+                    echobench_motion::breathing::DEFAULT_STAND_UP_S,
+                ),
+                standing_chest_height_m: f.param_or(
+                    "standing_chest_height_m",
+                    Bounds::closed(0.1, 2.5),
+                    echobench_motion::breathing::DEFAULT_STANDING_CHEST_HEIGHT_M,
+                ),
             };
             if let Some(leave) = &spec.leave_s {
                 require_before(
@@ -510,7 +535,36 @@ pub fn read_actor(node: &Node, path: &str, index: usize, reader: &mut Reader) ->
                 ),
                 housing_rcs_m2: f.param_or("housing_rcs_m2", Bounds::NON_NEGATIVE, 0.05),
                 mains_hz: f.param_or("mains_hz", Bounds::closed(50.0, 60.0), 50.0),
+                switch_on_s: f.param_opt("switch_on_s", TIME),
+                switch_off_s: f.param_opt("switch_off_s", TIME),
+                spin_up_s: f.param_or(
+                    "spin_up_s",
+                    Bounds::above(0.0, 60.0),
+                    echobench_motion::fan::DEFAULT_SPIN_UP_S,
+                ),
+                spin_down_s: f.param_or(
+                    "spin_down_s",
+                    Bounds::above(0.0, 120.0),
+                    echobench_motion::fan::DEFAULT_SPIN_DOWN_S,
+                ),
             };
+            if let (Some(on), Some(off)) = (&spec.switch_on_s, &spec.switch_off_s) {
+                // Switching off must wait for the spin-up to end.
+                let (_, on_max) = on.support();
+                let (_, up_max) = spec.spin_up_s.support();
+                let (off_min, _) = off.support();
+                if on_max + up_max > off_min {
+                    f.error_at(
+                        "switch_off_s",
+                        format!(
+                            "the fan must have spun up before it is switched off: `switch_off_s` \
+                             (from {off_min}) must be at least `switch_on_s` + `spin_up_s` \
+                             (up to {})",
+                            on_max + up_max
+                        ),
+                    );
+                }
+            }
             require_whole(&mut f, "blades", &spec.blades);
             require_before(
                 &mut f,

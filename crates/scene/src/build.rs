@@ -11,9 +11,7 @@ use crate::radar::{wavelength_m, Beam, LinkBudget};
 use crate::render::{ActorTrack, RadarGeometry};
 use crate::spec::SceneSpec;
 use crate::synth::SynthError;
-use crate::truth::{
-    active_intervals, coverage_intervals, subtract, NuisanceActivity, TargetEvent, Truth,
-};
+use crate::truth::{active_intervals, target_timeline, NuisanceActivity, TargetEvent, Truth};
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, StreamInfo};
 use echobench_frontend::{Adc, AnalogChain, AnalogChainParams, Decimator, OutputSwing};
@@ -182,20 +180,27 @@ pub fn trial_truth(scene: &SceneSpec, key: &StreamKey) -> Result<Truth, SynthErr
     let mut truth = Truth::default();
     for (index, actor) in scene.actors.iter().enumerate() {
         let mut model = build_model(scene, index, key)?;
-        let active = active_intervals(model.as_ref(), scene.duration_s);
         if actor.target {
-            let inside = coverage_intervals(model.as_mut(), &radar, &scene.coverage, &active);
-            let outside = subtract(&active, &inside);
+            // Moving edges from the motion speed the renderer's kinematics give
+            // (see `truth`), split by the coverage zone; still bodies apart.
+            let timeline =
+                target_timeline(model.as_mut(), &radar, &scene.coverage, scene.duration_s);
             let event = |interval: Interval| TargetEvent {
                 interval,
                 actor_id: actor.id.clone(),
                 kind: actor.kind_name().to_string(),
             };
-            truth.events.extend(inside.into_iter().map(event));
+            truth
+                .events
+                .extend(timeline.moving_inside.into_iter().map(event));
             truth
                 .outside_coverage
-                .extend(outside.into_iter().map(event));
+                .extend(timeline.moving_outside.into_iter().map(event));
+            truth
+                .still_presence
+                .extend(timeline.still_inside.into_iter().map(event));
         } else {
+            let active = active_intervals(model.as_ref(), scene.duration_s);
             truth
                 .nuisances
                 .extend(active.into_iter().map(|interval| NuisanceActivity {
@@ -224,6 +229,9 @@ pub fn trial_truth(scene: &SceneSpec, key: &StreamKey) -> Result<Truth, SynthErr
     }
     truth
         .events
+        .sort_by(|a, b| a.interval.start_s().total_cmp(&b.interval.start_s()));
+    truth
+        .still_presence
         .sort_by(|a, b| a.interval.start_s().total_cmp(&b.interval.start_s()));
     Ok(truth)
 }

@@ -83,7 +83,10 @@ pub fn write_samples_csv(path: &Path, trial: &Trial) -> io::Result<()> {
     })
 }
 
-/// Writes the truth as CSV: `start_s,end_s,role,source,kind`, role `target`, `nuisance` or `target-outside-coverage`.
+/// Writes the truth as CSV: `start_s,end_s,role,source,kind`, role `target`
+/// (moving inside the coverage zone: to be detected), `target-outside-coverage`,
+/// `present-not-moving` (a target person inside the zone below the moving
+/// level: neither a detection nor a false alarm) or `nuisance`.
 ///
 /// # Errors
 /// I/O errors, naming the file.
@@ -104,6 +107,16 @@ pub fn write_truth_csv(path: &Path, truth: &Truth) -> io::Result<()> {
             writeln!(
                 w,
                 "{},{},target-outside-coverage,{},{}",
+                e.interval.start_s(),
+                e.interval.end_s(),
+                e.actor_id,
+                e.kind
+            )?;
+        }
+        for e in &truth.still_presence {
+            writeln!(
+                w,
+                "{},{},present-not-moving,{},{}",
                 e.interval.start_s(),
                 e.interval.end_s(),
                 e.actor_id,

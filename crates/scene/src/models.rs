@@ -12,6 +12,7 @@ use echobench_motion::breathing::{Breathing, BreathingParams};
 use echobench_motion::door::{Door, DoorParams};
 use echobench_motion::fan::{Fan, FanParams};
 use echobench_motion::reflector::{Reflector, ReflectorParams};
+use echobench_motion::standing::StandingMotion;
 use echobench_motion::sway::{pendulum_natural_frequency_hz, Sway, SwayParams};
 use echobench_motion::walker::Walker;
 use echobench_motion::MotionModel;
@@ -41,7 +42,10 @@ pub fn build(
             let path = build_path(&w.path, duration_s, rng, &format!("{field}.path"))?;
             let gait = echobench_gait::Gait::new(height, path.speed_mps())
                 .map_err(|e| fail(format!("{field}.path.speed_mps"), e))?;
-            Box::new(Walker::new(gait, path, rcs_scale).map_err(|e| model_error(&e))?)
+            // The standing sway and breathing take their draws from the motion
+            // seed, not the params stream, so the drawn params are unchanged.
+            let walker = Walker::new(gait, path, rcs_scale).map_err(|e| model_error(&e))?;
+            Box::new(walker.with_standing_motion(StandingMotion::quiet_adult(seed)))
         }
         ActorKind::Breathing(b) => {
             let position = [b.position_m[0].draw(rng), b.position_m[1].draw(rng)];
@@ -56,6 +60,12 @@ pub fn build(
             params.fidget_rate_per_min = b.fidgets_per_min.draw(rng);
             params.present_from_s = b.enter_s.draw(rng);
             params.present_until_s = b.leave_s.as_ref().map_or(f64::INFINITY, |p| p.draw(rng));
+            params.stand_up_at_s = b
+                .stand_up_at_s
+                .as_ref()
+                .map_or(f64::INFINITY, |p| p.draw(rng));
+            params.stand_up_s = b.stand_up_s.draw(rng);
+            params.standing_chest_height_m = b.standing_chest_height_m.draw(rng);
             Box::new(Breathing::new(params, seed).map_err(|e| model_error(&e))?)
         }
         ActorKind::Sway(s) => {
@@ -113,7 +123,23 @@ pub fn build(
                 mains_vibration_m: vibration,
                 mains_hz: f.mains_hz.draw(rng),
                 initial_angle_rad: rng.random::<f64>() * std::f64::consts::TAU,
+                switch_on_s: f64::NEG_INFINITY,
+                switch_off_s: f64::INFINITY,
+                spin_up_s: echobench_motion::fan::DEFAULT_SPIN_UP_S,
+                spin_down_s: echobench_motion::fan::DEFAULT_SPIN_DOWN_S,
             };
+            // Drawn after the older fields, so a fan without switching keeps its draws.
+            let mut params = params;
+            params.switch_on_s = f
+                .switch_on_s
+                .as_ref()
+                .map_or(f64::NEG_INFINITY, |p| p.draw(rng));
+            params.switch_off_s = f
+                .switch_off_s
+                .as_ref()
+                .map_or(f64::INFINITY, |p| p.draw(rng));
+            params.spin_up_s = f.spin_up_s.draw(rng);
+            params.spin_down_s = f.spin_down_s.draw(rng);
             Box::new(Fan::new(params, wavelength_m).map_err(|e| model_error(&e))?)
         }
         ActorKind::Animal(a) => {
