@@ -332,9 +332,13 @@ pub fn resolve_frame(
     rules: FrameRules,
 ) -> Result<Framing, ParamError> {
     let fs = crate::detector::check_sample_rate(detector, info)?;
-    let samples_given = ["frame_len", "hop"].into_iter().find(|n| params.is_given(n));
+    let samples_given = ["frame_len", "hop"]
+        .into_iter()
+        .find(|n| params.is_given(n));
     let seconds_given = params.is_given("frame_s").then_some("frame_s");
-    let mps_given = params.is_given("resolution_mps").then_some("resolution_mps");
+    let mps_given = params
+        .is_given("resolution_mps")
+        .then_some("resolution_mps");
     let fraction_given = params.is_given("hop_fraction").then_some("hop_fraction");
     let set: Vec<&str> = [samples_given, seconds_given, mps_given]
         .into_iter()
@@ -488,14 +492,20 @@ pub const fn frame_param_specs(
             name: "frame_len",
             unit: "samples",
             about: "frame length (frame_units = samples)",
-            kind: ParamKind::Integer { min: 1, max: max_len },
+            kind: ParamKind::Integer {
+                min: 1,
+                max: max_len,
+            },
             default: DefaultValue::Integer(frame_len),
         },
         ParamSpec {
             name: "hop",
             unit: "samples",
             about: "samples between frame starts (frame_units = samples)",
-            kind: ParamKind::Integer { min: 1, max: max_len },
+            kind: ParamKind::Integer {
+                min: 1,
+                max: max_len,
+            },
             default: DefaultValue::Integer(hop),
         },
         ParamSpec {
@@ -531,7 +541,8 @@ pub const fn frame_param_specs(
         ParamSpec {
             name: "frame_pow2",
             unit: "",
-            about: "round a frame given in s or m/s up to a power of two (finer Δv, longer latency)",
+            about:
+                "round a frame given in s or m/s up to a power of two (finer Δv, longer latency)",
             kind: ParamKind::Flag,
             default: DefaultValue::Flag(false),
         },

@@ -426,7 +426,12 @@ fn refuses_bad_parameters_naming_them() {
             .iter()
             .map(|(n, v)| (n.to_string(), v.clone()))
             .collect();
-        let given = pinned(&given.iter().map(|(n, v)| (n.as_str(), v.clone())).collect::<Vec<_>>());
+        let given = pinned(
+            &given
+                .iter()
+                .map(|(n, v)| (n.as_str(), v.clone()))
+                .collect::<Vec<_>>(),
+        );
         let error = match Params::resolve("band-ratio", BandRatioPlugin.params(), &given) {
             Err(e) => e,
             Ok(p) => match BandRatioPlugin.build(&p, info) {

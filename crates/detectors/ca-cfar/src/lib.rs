@@ -44,6 +44,20 @@
 //! report the nominal multiplier α = N (Pfa^(−1/N) − 1), N = 2·train
 //! ([`CaCfarConfig::nominal_multiplier`]); it does not change the scores.
 //!
+//! **Units.** The cells under test are radial speeds by default, `low_mps`..
+//! `high_mps` = 0.3–4 m/s (a walker's torso to its limbs,
+//! `echobench_core::doppler::MOTION_MIN_MPS`), converted through the carrier
+//! (f = 2·v·f_c/c: 4.9–65.4 Hz at 2.45 GHz, 48.3–644 Hz at 24.125 GHz; a
+//! default top above Nyquist is clipped to fs/2, a set one is refused). The
+//! frame is by default the velocity resolution `resolution_mps` = 0.25 m/s,
+//! T = λ/(2Δv): 490 samples (0.245 s) at 2.45 GHz and 2 kHz, 50 samples
+//! (0.025 s) at 24.125 GHz, hop half a frame, so guard and training cells
+//! span the same speeds at every carrier; the price is latency, ten times
+//! longer at 2.45 GHz for the same resolution. `low_hz`/`high_hz` (Hz) and
+//! `frame_len`/`hop` (samples) remain as an explicit choice: set them (or
+//! `band_units: hz`, `frame_units: samples`) for the reference pipeline's
+//! 1–100 Hz, 256/128 geometry. `echobench_core::doppler` states the rules.
+//!
 //! **What the nominal Pfa means.** (1 + α/N)^(−N) ([`ca_pfa`]) holds when the
 //! N training cells and the CUT are independent, identically distributed
 //! exponential powers: white Gaussian noise, a rectangular window, no frame
@@ -72,7 +86,12 @@ pub use echobench_detector_dsp::cfar_cells::{training_offsets, DopplerAxis};
 
 use closed_form::ratio_to_mean;
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
+    ParamSpec, Params,
+};
+use echobench_core::doppler::{
+    self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
+    MOTION_MIN_MPS,
 };
 use echobench_core::{Channels, Score, StreamInfo};
 use echobench_detector_dsp::cfar_cells::CellPlan;
@@ -84,9 +103,28 @@ pub const ID: &str = "ca-cfar";
 const MIN_FRAME_LEN: i64 = 8;
 const MAX_FRAME_LEN: i64 = 65_536;
 const MAX_CELLS: i64 = 4_096;
-const MAX_HZ: f64 = 1e7;
 
-static PARAMS: [ParamSpec; 8] = [
+/// The frame family: a velocity resolution of [`DEFAULT_RESOLUTION_MPS`] by
+/// default (0.245 s at 2.45 GHz, 0.0249 s at 24.125 GHz), hop half a frame;
+/// 256/128 samples when the frame is given in samples.
+const FRAME: [ParamSpec; 7] =
+    doppler::frame_param_specs(256, 128, 65_536, 0.128, DEFAULT_RESOLUTION_MPS, 0.5);
+
+/// The cells-under-test band's edge parameters.
+pub const BAND_NAMES: BandNames = BandNames {
+    low_hz: "low_hz",
+    high_hz: "high_hz",
+    low_mps: "low_mps",
+    high_mps: "high_mps",
+};
+
+const FRAME_RULES: FrameRules = FrameRules {
+    default_units: FrameUnits::Mps,
+    min_len: 8,
+    max_len: 65_536,
+};
+
+static PARAMS: [ParamSpec; 16] = [
     ParamSpec {
         name: "window",
         unit: "",
@@ -95,26 +133,13 @@ static PARAMS: [ParamSpec; 8] = [
         kind: ParamKind::Choice(&["hann", "rect"]),
         default: DefaultValue::Text("hann"),
     },
-    ParamSpec {
-        name: "frame_len",
-        unit: "samples",
-        about: "FFT frame length N (even for real streams)",
-        kind: ParamKind::Integer {
-            min: MIN_FRAME_LEN,
-            max: MAX_FRAME_LEN,
-        },
-        default: DefaultValue::Integer(256),
-    },
-    ParamSpec {
-        name: "hop",
-        unit: "samples",
-        about: "samples between frame starts (one score per hop)",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: MAX_FRAME_LEN,
-        },
-        default: DefaultValue::Integer(128),
-    },
+    FRAME[0],
+    FRAME[1],
+    FRAME[2],
+    FRAME[3],
+    FRAME[4],
+    FRAME[5],
+    FRAME[6],
     ParamSpec {
         name: "guard",
         unit: "bins",
@@ -135,24 +160,41 @@ static PARAMS: [ParamSpec; 8] = [
         },
         default: DefaultValue::Integer(8),
     },
+    doppler::BAND_UNITS_SPEC,
+    // Cells under test over a walker's torso to limbs, 0.3–4 m/s (echobench_core::doppler).
+    ParamSpec {
+        name: "low_mps",
+        unit: "m/s",
+        about: "lowest radial speed of the cells under test",
+        kind: ParamKind::Real {
+            min: 0.0,
+            max: 100.0,
+        },
+        default: DefaultValue::Real(MOTION_MIN_MPS),
+    },
+    ParamSpec {
+        name: "high_mps",
+        unit: "m/s",
+        about: "highest radial speed of the cells under test (default: clipped to Nyquist)",
+        kind: ParamKind::Real {
+            min: 0.0,
+            max: 100.0,
+        },
+        default: DefaultValue::Real(MOTION_MAX_MPS),
+    },
+    // The historic Hz band (right at 2.45 GHz only): band_units = hz, or set in the suite.
     ParamSpec {
         name: "low_hz",
         unit: "Hz",
-        about: "lowest |Doppler| of the cells under test",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: MAX_HZ,
-        },
+        about: "lowest |Doppler| of the cells under test (Hz units)",
+        kind: ParamKind::Real { min: 0.0, max: 1e7 },
         default: DefaultValue::Real(1.0),
     },
     ParamSpec {
         name: "high_hz",
         unit: "Hz",
-        about: "highest |Doppler| of the cells under test (at most fs/2)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: MAX_HZ,
-        },
+        about: "highest |Doppler| of the cells under test (Hz units, at most fs/2)",
+        kind: ParamKind::Real { min: 0.0, max: 1e7 },
         default: DefaultValue::Real(100.0),
     },
     ParamSpec {
@@ -187,6 +229,9 @@ pub struct CaCfarConfig {
     pub low_hz: f64,
     /// Highest |f| of the CUTs, Hz.
     pub high_hz: f64,
+    /// The parameters the band came from (`low_hz`/`high_hz` or
+    /// `low_mps`/`high_mps`), named in error messages.
+    pub band_params: (&'static str, &'static str),
     /// Design false-alarm probability for [`CaCfarConfig::nominal_multiplier`].
     pub pfa: f64,
 }
@@ -201,6 +246,7 @@ impl Default for CaCfarConfig {
             train: 8,
             low_hz: 1.0,
             high_hz: 100.0,
+            band_params: ("low_hz", "high_hz"),
             pfa: 1e-3,
         }
     }
@@ -213,7 +259,10 @@ impl CaCfarConfig {
     /// # Errors
     /// A window name or a whole number that does not fit (only possible with
     /// parameters resolved against another table).
-    pub fn from_params(params: &Params) -> Result<Self, ParamError> {
+    pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
+        let units = doppler::band_units(ID, params, "band_units", &[BAND_NAMES])?;
+        let band = doppler::resolve_band(ID, params, info, units, BAND_NAMES)?;
         let window_name = params.text("window");
         let window = Window::from_name(window_name)
             .ok_or_else(|| ParamError::new(ID, "window", window_name, "expected hann or rect"))?;
@@ -224,12 +273,13 @@ impl CaCfarConfig {
         };
         Ok(CaCfarConfig {
             window,
-            frame_len: count("frame_len")?,
-            hop: count("hop")?,
+            frame_len,
+            hop,
             guard: count("guard")?,
             train: count("train")?,
-            low_hz: params.real("low_hz"),
-            high_hz: params.real("high_hz"),
+            low_hz: band.low_hz,
+            high_hz: band.high_hz,
+            band_params: (band.low_name, band.high_name),
             pfa: params.real("pfa"),
         })
     }
@@ -302,11 +352,12 @@ fn validate(config: &CaCfarConfig, info: &StreamInfo) -> Result<Layout, ParamErr
             ),
         ));
     }
+    let (low_name, high_name) = config.band_params;
     let nyquist_hz = fs / 2.0;
     if !(config.low_hz.is_finite() && config.low_hz >= 0.0) {
         return Err(ParamError::new(
             ID,
-            "low_hz",
+            low_name,
             config.low_hz,
             "expected a number ≥ 0",
         ));
@@ -314,7 +365,7 @@ fn validate(config: &CaCfarConfig, info: &StreamInfo) -> Result<Layout, ParamErr
     if !(config.high_hz.is_finite() && config.high_hz <= nyquist_hz) {
         return Err(ParamError::new(
             ID,
-            "high_hz",
+            high_name,
             config.high_hz,
             format!("above Nyquist: must be at most fs/2 = {nyquist_hz} Hz"),
         ));
@@ -322,9 +373,9 @@ fn validate(config: &CaCfarConfig, info: &StreamInfo) -> Result<Layout, ParamErr
     if config.low_hz >= config.high_hz {
         return Err(ParamError::new(
             ID,
-            "low_hz",
+            low_name,
             config.low_hz,
-            format!("must be below high_hz = {} Hz", config.high_hz),
+            format!("must be below {high_name} → {} Hz", config.high_hz),
         ));
     }
     if !(config.pfa > 0.0 && config.pfa <= 1.0) {
@@ -366,8 +417,8 @@ fn validate(config: &CaCfarConfig, info: &StreamInfo) -> Result<Layout, ParamErr
     if plan.cut_bins.is_empty() {
         return Err(ParamError::new(
             ID,
-            "low_hz, high_hz",
-            format!("[{}, {}]", config.low_hz, config.high_hz),
+            &format!("{low_name}, {high_name}"),
+            format!("[{}, {}] Hz", config.low_hz, config.high_hz),
             format!(
                 "no bin lies in the band (bins are {} Hz apart): widen it or lengthen frame_len",
                 fs / frame_len as f64
@@ -517,14 +568,39 @@ impl DetectorPlugin for CaCfarPlugin {
     }
 
     fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        let config = CaCfarConfig::from_params(params)?;
+        let config = CaCfarConfig::from_params(params, info)?;
         Ok(Box::new(CaCfarDetector::new(&config, info)?))
     }
 
     fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        let config = CaCfarConfig::from_params(params)?;
+        let config = CaCfarConfig::from_params(params, info)?;
         let layout = validate(&config, info)?;
         Ok(cost_of(&config, &layout))
+    }
+
+    /// The cells under test, `[low, high]` in Hz as used.
+    fn doppler_bands(&self, params: &Params, info: &StreamInfo) -> Vec<DopplerBand> {
+        let Ok(config) = CaCfarConfig::from_params(params, info) else {
+            return Vec::new();
+        };
+        if validate(&config, info).is_err() {
+            return Vec::new();
+        }
+        vec![DopplerBand {
+            role: BandRole::Motion,
+            label: "cells under test",
+            low_hz: config.low_hz,
+            high_hz: config.high_hz,
+        }]
+    }
+
+    fn framing(&self, params: &Params, info: &StreamInfo) -> Option<Framing> {
+        let config = CaCfarConfig::from_params(params, info).ok()?;
+        validate(&config, info).ok()?;
+        Some(Framing {
+            frame_len: config.frame_len,
+            hop: config.hop,
+        })
     }
 
     /// The CA-CFAR multiplier α for the configured `pfa`, and the per-frame
@@ -536,7 +612,7 @@ impl DetectorPlugin for CaCfarPlugin {
         params: &Params,
         info: &StreamInfo,
     ) -> Option<echobench_core::detector::NominalPoint> {
-        let config = CaCfarConfig::from_params(params).ok()?;
+        let config = CaCfarConfig::from_params(params, info).ok()?;
         let layout = validate(&config, info).ok()?;
         let cuts = layout.plan.cut_bins.len() as i32;
         Some(echobench_core::detector::NominalPoint {
@@ -605,13 +681,46 @@ mod tests {
 
     #[test]
     fn defaults_build_and_match_the_reference_configuration() {
-        let params = Params::defaults(&PARAMS);
-        let config = CaCfarConfig::from_params(&params).unwrap();
+        // The reference pipeline's geometry, pinned on purpose: Hz band, 256/128 frames.
+        let given: Vec<(String, ParamValue)> = vec![
+            ("band_units".into(), ParamValue::Text("hz".into())),
+            ("frame_len".into(), ParamValue::Integer(256)),
+            ("hop".into(), ParamValue::Integer(128)),
+        ];
+        let params = Params::resolve(ID, &PARAMS, &given).unwrap();
+        let config = CaCfarConfig::from_params(&params, &test_stream(2000.0)).unwrap();
         assert_eq!(config, CaCfarConfig::default());
         let detector = CaCfarDetector::new(&config, &test_stream(2000.0)).unwrap();
         assert_eq!(detector.cut_bins(), (1..=12).collect::<Vec<_>>().as_slice());
         // detection.md CV7: N = 16, Pfa = 1e-3.
         assert!((detector.nominal_multiplier() - 8.638824).abs() < 1e-6);
+    }
+
+    /// With nothing set, the cells under test are 0.3–4 m/s and the frame resolves
+    /// 0.25 m/s at any carrier: a walker head-on at 1.3 m/s (2v/λ = 21.25 Hz at 2.45 GHz,
+    /// 209.2 Hz at 24.125 GHz; physics.md §1, 16.345 and 160.945 Hz per m/s) is under test
+    /// at both. Hand-worked frames: λ/(2·0.25 m/s) = 0.24473 s → 490 samples at 2 kHz,
+    /// 0.024853 s → 50 samples.
+    #[test]
+    fn speed_defaults_test_the_torso_line_at_both_carriers() {
+        let params = Params::defaults(&PARAMS);
+        for (carrier_hz, frame_len) in [(2.45e9, 490), (24.125e9, 50)] {
+            let info = StreamInfo {
+                carrier_hz,
+                ..test_stream(2000.0)
+            };
+            let config = CaCfarConfig::from_params(&params, &info).unwrap();
+            assert_eq!((config.frame_len, config.hop), (frame_len, frame_len / 2));
+            let torso_hz = 2.0 * 1.3 * carrier_hz / 299_792_458.0;
+            assert!(
+                config.low_hz < torso_hz && torso_hz < config.high_hz,
+                "{config:?}"
+            );
+            let bin_hz = 2000.0 / frame_len as f64;
+            let detector = CaCfarDetector::new(&config, &info).unwrap();
+            let torso_bin = (torso_hz / bin_hz).round() as usize;
+            assert!(detector.cut_bins().contains(&torso_bin), "{torso_bin}");
+        }
     }
 
     #[test]
@@ -669,7 +778,15 @@ mod tests {
     #[test]
     fn cost_scales_with_the_frame_and_the_hop() {
         let fs = test_stream(2000.0);
-        let params = Params::defaults(&PARAMS);
+        let params = Params::resolve(
+            ID,
+            &PARAMS,
+            &[
+                ("frame_len".into(), ParamValue::Integer(256)),
+                ("hop".into(), ParamValue::Integer(128)),
+            ],
+        )
+        .unwrap();
         let cost = CaCfarPlugin.cost(&params, &fs).unwrap();
         // 256-point real FFT every 128 samples: 2.5·256·8/128 = 40 ops for the FFT alone.
         assert!(
@@ -677,8 +794,15 @@ mod tests {
             "{cost:?}"
         );
         assert!(cost.state_bytes > 4 * 256 * 8, "{cost:?}");
-        let half_hop =
-            Params::resolve(ID, &PARAMS, &[("hop".into(), ParamValue::Integer(64))]).unwrap();
+        let half_hop = Params::resolve(
+            ID,
+            &PARAMS,
+            &[
+                ("frame_len".into(), ParamValue::Integer(256)),
+                ("hop".into(), ParamValue::Integer(64)),
+            ],
+        )
+        .unwrap();
         let denser = CaCfarPlugin.cost(&half_hop, &fs).unwrap();
         assert!((denser.ops_per_sample / cost.ops_per_sample - 2.0).abs() < 1e-12);
     }

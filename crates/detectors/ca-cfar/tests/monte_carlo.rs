@@ -88,6 +88,7 @@ fn independent_bin_config() -> CaCfarConfig {
         train: 8,
         low_hz: 15.5,
         high_hz: 16.5,
+        band_params: ("low_hz", "high_hz"),
         pfa: 1e-2,
     }
 }

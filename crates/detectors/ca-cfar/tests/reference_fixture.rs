@@ -47,8 +47,23 @@ fn reference_cfar_scores() -> Vec<f64> {
 }
 
 fn max_score(samples: &[f32]) -> (f64, usize) {
-    // The plugin's defaults are the reference configuration.
-    let params = Params::defaults(CaCfarPlugin.params());
+    // The reference configuration, pinned on purpose (the plugin's defaults are now in m/s):
+    // Hann, 256/128, cells under test 1–100 Hz.
+    let given: Vec<(String, echobench_core::detector::ParamValue)> = vec![
+        (
+            "band_units".into(),
+            echobench_core::detector::ParamValue::Text("hz".into()),
+        ),
+        (
+            "frame_len".into(),
+            echobench_core::detector::ParamValue::Integer(256),
+        ),
+        (
+            "hop".into(),
+            echobench_core::detector::ParamValue::Integer(128),
+        ),
+    ];
+    let params = Params::resolve("ca-cfar", CaCfarPlugin.params(), &given).unwrap();
     let mut detector = CaCfarPlugin.build(&params, &test_stream(2000.0)).unwrap();
     let mut scores = Vec::new();
     detector.process(samples, &mut scores);

@@ -39,6 +39,20 @@
 //! and `pfa`, used only to report the nominal multiplier
 //! ([`OsCfarConfig::nominal_multiplier`]); it does not change the scores.
 //!
+//! **Units.** The cells under test are radial speeds by default, `low_mps`..
+//! `high_mps` = 0.3–4 m/s (a walker's torso to its limbs,
+//! `echobench_core::doppler::MOTION_MIN_MPS`), converted through the carrier
+//! (f = 2·v·f_c/c: 4.9–65.4 Hz at 2.45 GHz, 48.3–644 Hz at 24.125 GHz; a
+//! default top above Nyquist is clipped to fs/2, a set one is refused). The
+//! frame is by default the velocity resolution `resolution_mps` = 0.25 m/s,
+//! T = λ/(2Δv): 490 samples (0.245 s) at 2.45 GHz and 2 kHz, 50 samples
+//! (0.025 s) at 24.125 GHz, hop half a frame, so guard and training cells
+//! span the same speeds at every carrier; the price is latency, ten times
+//! longer at 2.45 GHz for the same resolution. `low_hz`/`high_hz` (Hz) and
+//! `frame_len`/`hop` (samples) remain as an explicit choice: set them (or
+//! `band_units: hz`, `frame_units: samples`) for the reference pipeline's
+//! 1–100 Hz, 256/128 geometry. `echobench_core::doppler` states the rules.
+//!
 //! **What the nominal Pfa means.** [`os_pfa`] = Π_{i<k} (N−i)/(N−i+T) holds
 //! for independent, identically distributed exponential cells: white
 //! Gaussian noise, a rectangular window, no overlap (`hop = frame_len`), a
@@ -59,7 +73,12 @@ mod closed_form;
 pub use closed_form::{os_multiplier, os_pfa, os_ratio, NOISE_FLOOR};
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
+    ParamSpec, Params,
+};
+use echobench_core::doppler::{
+    self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
+    MOTION_MIN_MPS,
 };
 use echobench_core::{Channels, Score, StreamInfo};
 use echobench_detector_dsp::cfar_cells::{CellPlan, DopplerAxis};
@@ -72,7 +91,27 @@ const MIN_FRAME_LEN: usize = 8;
 const MAX_FRAME_LEN: usize = 65_536;
 const MAX_CELLS: usize = 4_096;
 
-static PARAMS: [ParamSpec; 9] = [
+/// The frame family: a velocity resolution of [`DEFAULT_RESOLUTION_MPS`] by
+/// default (0.245 s at 2.45 GHz, 0.0249 s at 24.125 GHz), hop half a frame;
+/// 256/128 samples when the frame is given in samples.
+const FRAME: [ParamSpec; 7] =
+    doppler::frame_param_specs(256, 128, 65_536, 0.128, DEFAULT_RESOLUTION_MPS, 0.5);
+
+/// The cells-under-test band's edge parameters.
+pub const BAND_NAMES: BandNames = BandNames {
+    low_hz: "low_hz",
+    high_hz: "high_hz",
+    low_mps: "low_mps",
+    high_mps: "high_mps",
+};
+
+const FRAME_RULES: FrameRules = FrameRules {
+    default_units: FrameUnits::Mps,
+    min_len: 8,
+    max_len: 65_536,
+};
+
+static PARAMS: [ParamSpec; 17] = [
     ParamSpec {
         name: "window",
         unit: "",
@@ -81,26 +120,13 @@ static PARAMS: [ParamSpec; 9] = [
         kind: ParamKind::Choice(&["hann", "rect"]),
         default: DefaultValue::Text("hann"),
     },
-    ParamSpec {
-        name: "frame_len",
-        unit: "samples",
-        about: "FFT frame length N (even for real streams)",
-        kind: ParamKind::Integer {
-            min: MIN_FRAME_LEN as i64,
-            max: MAX_FRAME_LEN as i64,
-        },
-        default: DefaultValue::Integer(256),
-    },
-    ParamSpec {
-        name: "hop",
-        unit: "samples",
-        about: "samples between frame starts (one score per hop)",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: MAX_FRAME_LEN as i64,
-        },
-        default: DefaultValue::Integer(128),
-    },
+    FRAME[0],
+    FRAME[1],
+    FRAME[2],
+    FRAME[3],
+    FRAME[4],
+    FRAME[5],
+    FRAME[6],
     ParamSpec {
         name: "guard",
         unit: "bins",
@@ -131,17 +157,40 @@ static PARAMS: [ParamSpec; 9] = [
         },
         default: DefaultValue::Integer(12),
     },
+    doppler::BAND_UNITS_SPEC,
+    // Cells under test over a walker's torso to limbs, 0.3–4 m/s (echobench_core::doppler).
+    ParamSpec {
+        name: "low_mps",
+        unit: "m/s",
+        about: "lowest radial speed of the cells under test",
+        kind: ParamKind::Real {
+            min: 0.0,
+            max: 100.0,
+        },
+        default: DefaultValue::Real(MOTION_MIN_MPS),
+    },
+    ParamSpec {
+        name: "high_mps",
+        unit: "m/s",
+        about: "highest radial speed of the cells under test (default: clipped to Nyquist)",
+        kind: ParamKind::Real {
+            min: 0.0,
+            max: 100.0,
+        },
+        default: DefaultValue::Real(MOTION_MAX_MPS),
+    },
+    // The historic Hz band (right at 2.45 GHz only): band_units = hz, or set in the suite.
     ParamSpec {
         name: "low_hz",
         unit: "Hz",
-        about: "lowest |Doppler| of the cells under test",
+        about: "lowest |Doppler| of the cells under test (Hz units)",
         kind: ParamKind::Real { min: 0.0, max: 1e7 },
         default: DefaultValue::Real(1.0),
     },
     ParamSpec {
         name: "high_hz",
         unit: "Hz",
-        about: "highest |Doppler| of the cells under test (at most fs/2)",
+        about: "highest |Doppler| of the cells under test (Hz units, at most fs/2)",
         kind: ParamKind::Real { min: 0.0, max: 1e7 },
         default: DefaultValue::Real(100.0),
     },
@@ -179,6 +228,9 @@ pub struct OsCfarConfig {
     pub low_hz: f64,
     /// Highest |f| of the CUTs, Hz.
     pub high_hz: f64,
+    /// The parameters the band came from (`low_hz`/`high_hz` or
+    /// `low_mps`/`high_mps`), named in error messages.
+    pub band_params: (&'static str, &'static str),
     /// Design false-alarm probability for [`OsCfarConfig::nominal_multiplier`].
     pub pfa: f64,
 }
@@ -194,6 +246,7 @@ impl Default for OsCfarConfig {
             rank: 12,
             low_hz: 1.0,
             high_hz: 100.0,
+            band_params: ("low_hz", "high_hz"),
             pfa: 1e-3,
         }
     }
@@ -205,7 +258,10 @@ impl OsCfarConfig {
     ///
     /// # Errors
     /// A window name or whole number that does not fit.
-    pub fn from_params(params: &Params) -> Result<Self, ParamError> {
+    pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
+        let units = doppler::band_units(ID, params, "band_units", &[BAND_NAMES])?;
+        let band = doppler::resolve_band(ID, params, info, units, BAND_NAMES)?;
         let window_name = params.text("window");
         let window = Window::from_name(window_name)
             .ok_or_else(|| ParamError::new(ID, "window", window_name, "expected hann or rect"))?;
@@ -216,13 +272,14 @@ impl OsCfarConfig {
         };
         Ok(OsCfarConfig {
             window,
-            frame_len: count("frame_len")?,
-            hop: count("hop")?,
+            frame_len,
+            hop,
             guard: count("guard")?,
             train: count("train")?,
             rank: count("rank")?,
-            low_hz: params.real("low_hz"),
-            high_hz: params.real("high_hz"),
+            low_hz: band.low_hz,
+            high_hz: band.high_hz,
+            band_params: (band.low_name, band.high_name),
             pfa: params.real("pfa"),
         })
     }
@@ -283,17 +340,18 @@ fn validate(c: &OsCfarConfig, info: &StreamInfo) -> Result<Layout, ParamError> {
         let message = format!("must be in 1..={} (2·train training cells)", 2 * c.train);
         return Err(refuse("rank", c.rank, message));
     }
+    let (low_name, high_name) = c.band_params;
     let nyquist_hz = fs / 2.0;
     if !(c.low_hz.is_finite() && c.low_hz >= 0.0) {
-        return Err(refuse("low_hz", c.low_hz, "expected a number ≥ 0"));
+        return Err(refuse(low_name, c.low_hz, "expected a number ≥ 0"));
     }
     if !(c.high_hz.is_finite() && c.high_hz <= nyquist_hz) {
         let message = format!("above Nyquist: must be at most fs/2 = {nyquist_hz} Hz");
-        return Err(refuse("high_hz", c.high_hz, message));
+        return Err(refuse(high_name, c.high_hz, message));
     }
     if c.low_hz >= c.high_hz {
-        let message = format!("must be below high_hz = {} Hz", c.high_hz);
-        return Err(refuse("low_hz", c.low_hz, message));
+        let message = format!("must be below {high_name} → {} Hz", c.high_hz);
+        return Err(refuse(low_name, c.low_hz, message));
     }
     if !(c.pfa > 0.0 && c.pfa <= 1.0) {
         return Err(refuse("pfa", c.pfa, "expected a probability in (0, 1]"));
@@ -321,8 +379,8 @@ fn validate(c: &OsCfarConfig, info: &StreamInfo) -> Result<Layout, ParamError> {
             fs / c.frame_len as f64
         );
         return Err(refuse(
-            "low_hz, high_hz",
-            format!("[{}, {}]", c.low_hz, c.high_hz),
+            &format!("{low_name}, {high_name}"),
+            format!("[{}, {}] Hz", c.low_hz, c.high_hz),
             message,
         ));
     }
@@ -463,14 +521,39 @@ impl DetectorPlugin for OsCfarPlugin {
     }
 
     fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        let config = OsCfarConfig::from_params(params)?;
+        let config = OsCfarConfig::from_params(params, info)?;
         Ok(Box::new(OsCfarDetector::new(&config, info)?))
     }
 
     fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        let config = OsCfarConfig::from_params(params)?;
+        let config = OsCfarConfig::from_params(params, info)?;
         let layout = validate(&config, info)?;
         Ok(cost_of(&config, &layout))
+    }
+
+    /// The cells under test, `[low, high]` in Hz as used.
+    fn doppler_bands(&self, params: &Params, info: &StreamInfo) -> Vec<DopplerBand> {
+        let Ok(config) = OsCfarConfig::from_params(params, info) else {
+            return Vec::new();
+        };
+        if validate(&config, info).is_err() {
+            return Vec::new();
+        }
+        vec![DopplerBand {
+            role: BandRole::Motion,
+            label: "cells under test",
+            low_hz: config.low_hz,
+            high_hz: config.high_hz,
+        }]
+    }
+
+    fn framing(&self, params: &Params, info: &StreamInfo) -> Option<Framing> {
+        let config = OsCfarConfig::from_params(params, info).ok()?;
+        validate(&config, info).ok()?;
+        Some(Framing {
+            frame_len: config.frame_len,
+            hop: config.hop,
+        })
     }
 }
 
@@ -530,11 +613,45 @@ mod tests {
 
     #[test]
     fn defaults_build() {
-        let config = OsCfarConfig::from_params(&Params::defaults(&PARAMS)).unwrap();
+        // The reference pipeline's geometry, pinned on purpose: Hz band, 256/128 frames.
+        let given: Vec<(String, ParamValue)> = vec![
+            ("band_units".into(), ParamValue::Text("hz".into())),
+            ("frame_len".into(), ParamValue::Integer(256)),
+            ("hop".into(), ParamValue::Integer(128)),
+        ];
+        let params = Params::resolve(ID, &PARAMS, &given).unwrap();
+        let config = OsCfarConfig::from_params(&params, &test_stream(2000.0)).unwrap();
         assert_eq!(config, OsCfarConfig::default());
         let detector = OsCfarDetector::new(&config, &test_stream(2000.0)).unwrap();
         assert_eq!(detector.cut_bins(), (1..=12).collect::<Vec<_>>().as_slice());
         assert!((os_pfa(16, 12, detector.nominal_multiplier()) / 1e-3 - 1.0).abs() < 1e-12);
+    }
+
+    /// With nothing set, the cells under test are 0.3–4 m/s and the frame resolves
+    /// 0.25 m/s at any carrier: a walker head-on at 1.3 m/s (2v/λ = 21.25 Hz at 2.45 GHz,
+    /// 209.2 Hz at 24.125 GHz; physics.md §1, 16.345 and 160.945 Hz per m/s) is under test
+    /// at both. Hand-worked frames: λ/(2·0.25 m/s) = 0.24473 s → 490 samples at 2 kHz,
+    /// 0.024853 s → 50 samples.
+    #[test]
+    fn speed_defaults_test_the_torso_line_at_both_carriers() {
+        let params = Params::defaults(&PARAMS);
+        for (carrier_hz, frame_len) in [(2.45e9, 490), (24.125e9, 50)] {
+            let info = StreamInfo {
+                carrier_hz,
+                ..test_stream(2000.0)
+            };
+            let config = OsCfarConfig::from_params(&params, &info).unwrap();
+            assert_eq!((config.frame_len, config.hop), (frame_len, frame_len / 2));
+            let torso_hz = 2.0 * 1.3 * carrier_hz / 299_792_458.0;
+            assert!(
+                config.low_hz < torso_hz && torso_hz < config.high_hz,
+                "{config:?}"
+            );
+            let bin_hz = 2000.0 / frame_len as f64;
+            let detector = OsCfarDetector::new(&config, &info).unwrap();
+            let torso_bin = (torso_hz / bin_hz).round() as usize;
+            assert!(detector.cut_bins().contains(&torso_bin), "{torso_bin}");
+        }
     }
 
     #[test]
@@ -579,7 +696,14 @@ mod tests {
     #[test]
     fn cost_reflects_the_selection() {
         let fs = test_stream(2000.0);
-        let cost = OsCfarPlugin.cost(&Params::defaults(&PARAMS), &fs).unwrap();
+        // The reference geometry (1–100 Hz, 256/128), pinned: the counts below are for it.
+        let given: Vec<(String, ParamValue)> = vec![
+            ("band_units".into(), ParamValue::Text("hz".into())),
+            ("frame_len".into(), ParamValue::Integer(256)),
+            ("hop".into(), ParamValue::Integer(128)),
+        ];
+        let params = Params::resolve(ID, &PARAMS, &given).unwrap();
+        let cost = OsCfarPlugin.cost(&params, &fs).unwrap();
         // FFT alone: 2.5·256·8/128 = 40 ops per sample; 12 CUTs × 66 more per frame.
         assert!(
             cost.ops_per_sample > 45.0 && cost.ops_per_sample < 70.0,

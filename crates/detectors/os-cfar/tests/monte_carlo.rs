@@ -59,6 +59,7 @@ fn rectangular_frames_without_overlap_follow_the_closed_form() {
         rank: 12,
         low_hz: 15.5,
         high_hz: 16.5,
+        band_params: ("low_hz", "high_hz"),
         pfa: 1e-2,
     };
     let info = test_stream(64.0);

@@ -43,9 +43,28 @@ fn run_in_blocks(detector: &mut dyn Detector, input: &[f32], block: usize) -> Ve
     out
 }
 
+/// The reference configuration (Hz band 1–100 Hz, 256/128 frames), pinned on purpose:
+/// these tests count frames of 256 samples. The m/s defaults are tested in `lib.rs`.
 fn built(info: &StreamInfo) -> Box<dyn Detector> {
+    let given: Vec<(String, echobench_core::detector::ParamValue)> = vec![
+        (
+            "band_units".into(),
+            echobench_core::detector::ParamValue::Text("hz".into()),
+        ),
+        (
+            "frame_len".into(),
+            echobench_core::detector::ParamValue::Integer(256),
+        ),
+        (
+            "hop".into(),
+            echobench_core::detector::ParamValue::Integer(128),
+        ),
+    ];
     OsCfarPlugin
-        .build(&Params::defaults(OsCfarPlugin.params()), info)
+        .build(
+            &Params::resolve("os-cfar", OsCfarPlugin.params(), &given).unwrap(),
+            info,
+        )
         .unwrap()
 }
 
@@ -163,6 +182,7 @@ fn fast_path_matches_a_direct_dft_and_a_sort() {
         rank: 9,
         low_hz: 0.0,
         high_hz: 1000.0,
+        band_params: ("low_hz", "high_hz"),
         pfa: 1e-3,
     };
     let input = random_input(3000, 3);
