@@ -23,8 +23,8 @@
 //!   extremely regular period.
 //! - **Sways are slow and narrowband.** A pendulum or a plant moves at
 //!   0.1–1 Hz with peak speeds of a few cm/s to 0.2 m/s (physics.md §3):
-//!   its Doppler stays below the motion band, which starts at a walking
-//!   speed (0.6 m/s by default).
+//!   its Doppler stays below the motion band, which starts at a slow
+//!   walker's torso speed (0.3 m/s by default).
 //! - Noise, hum, lamp flicker and static clutter are stationary: their
 //!   envelopes fluctuate, but not at a rhythm.
 //!
@@ -33,7 +33,8 @@
 //! 1. Short-time power spectrum P_k(j) of frames of `frame_len` samples every
 //!    `hop` (Hann by default); only the bins k of the motion band are kept.
 //! 2. Each kept bin gives a log-power envelope e_k(j) = ln(P_k(j) + ε),
-//!    sampled at r = fs/hop (31.25 Hz at the defaults and 2 kHz).
+//!    sampled at r = fs/hop (16.3 Hz at 2.45 GHz, 154 Hz at 24.125 GHz, at
+//!    the defaults and 2 kHz).
 //! 3. Every `decision_hop_s`, over the last `analysis_s`: remove each
 //!    envelope's mean and linear trend (a walker approaching or leaving
 //!    changes its level by R⁻⁴), apply a Hann window, and take the
@@ -74,18 +75,26 @@
 //!
 //! # Parameters
 //!
-//! - `band_units` = `mps` (default): the motion band is
-//!   `motion_min_mps`..`motion_max_mps` (0.6–4 m/s: torso to feet, physics.md
-//!   §2.2) through f = 2v/λ = 2·v·f_c/c with `StreamInfo::carrier_hz`; `hz`:
-//!   `motion_low_hz`..`motion_high_hz`. Bins are selected with inclusive edges
-//!   on their centre frequency; the DC bin (and, for real streams, the
-//!   Nyquist bin, whose power is χ²₁ and not exponential) is never used. For
-//!   I/Q streams both Doppler signs are used.
-//! - `frame_len`, `hop`, `window`: the short-time spectrum. The frame is also
-//!   the envelope's anti-alias filter: a modulation near a multiple of r
-//!   folds into the step band attenuated only by the frame's response, so
-//!   keep `hop` ≤ `frame_len`/4 (the default) to put the first fold at 4/T,
-//!   deep in the Hann frame's stop band.
+//! - The motion band is `motion_min_mps`..`motion_max_mps` by default (0.3–4
+//!   m/s: a walker's torso to its limbs, `echobench_core::doppler`), through
+//!   f = 2v/λ = 2·v·f_c/c with `StreamInfo::carrier_hz`; a default top above
+//!   Nyquist is clipped to fs/2. `motion_low_hz`..`motion_high_hz` (or
+//!   `band_units: hz`) give it in Hz instead, as an explicit choice. Bins are
+//!   selected with inclusive edges on their centre frequency; the DC bin
+//!   (and, for real streams, the Nyquist bin, whose power is χ²₁ and not
+//!   exponential) is never used. For I/Q streams both Doppler signs are used.
+//! - The frame: by default the velocity resolution `resolution_mps` = 0.25
+//!   m/s (T = λ/(2Δv): 0.245 s at 2.45 GHz, 0.025 s at 24.125 GHz), hop a
+//!   quarter frame (`hop_fraction`); or `frame_s`, or `frame_len`/`hop` in
+//!   samples. The frame is also the envelope's anti-alias filter: a
+//!   modulation near a multiple of r folds into the step band attenuated only
+//!   by the frame's response, so keep the hop ≤ frame/4 (the default) to put
+//!   the first fold at 4/T, deep in the Hann frame's stop band. The envelope
+//!   rate r = fs/hop is then 16 Hz at 2.45 GHz and 154 Hz at 24 GHz (2 kHz);
+//!   the first score still waits `analysis_s`, so the frame's length hardly
+//!   changes this detector's latency.
+//! - `step_low_hz`, `step_high_hz`, `flash_min_hz` stay in Hz: they are
+//!   rates of the envelope (cadence, blade flashes), the same at any carrier.
 //! - `analysis_s` (4 s: about 8 steps), `decision_hop_s` (0.5 s).
 //! - `step_low_hz`, `step_high_hz` (1.3–2.4 Hz, the cadence range above with
 //!   a small margin), `flash_min_hz` (5 Hz: above the second step harmonic).
@@ -125,7 +134,12 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
+    ParamSpec, Params,
+};
+use echobench_core::doppler::{
+    self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
+    MOTION_MIN_MPS,
 };
 use echobench_core::{Channels, Score, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
@@ -140,19 +154,13 @@ pub const ID: &str = "periodicity";
 /// Bin powers below this (V², |X_k|² units) are taken as it before the logarithm.
 pub const LOG_FLOOR_V2: f64 = 1e-30;
 
-/// Speed of light in vacuum, m/s (SI definition).
-const SPEED_OF_LIGHT_MPS: f64 = 299_792_458.0;
-
 /// Values cleaned of NaN per pass: a stack buffer, so `process` never allocates.
 const CLEAN_CHUNK: usize = 64;
 
 /// Largest envelope store (analysis frames × motion bins) a configuration may ask for.
 const MAX_ENVELOPE_VALUES: usize = 1 << 22;
 
-/// The Doppler frequency of a radial speed, f = 2·v·f_c/c (physics.md §1), Hz.
-pub fn doppler_hz(speed_mps: f64, carrier_hz: f64) -> f64 {
-    2.0 * speed_mps * carrier_hz / SPEED_OF_LIGHT_MPS
-}
+pub use echobench_core::doppler::doppler_hz;
 
 /// The dilogarithm Li₂(x) = Σ_{n≥1} xⁿ/n² for x in [0, 1]: the covariance of
 /// ln a and ln b for unit-mean exponential powers a, b with correlation x
@@ -217,63 +225,70 @@ pub fn frame_power_correlation(window: &[f64], lag_samples: usize) -> f64 {
 /// The `periodicity` plugin.
 pub struct PeriodicityPlugin;
 
-static PARAMS: [ParamSpec; 13] = [
-    ParamSpec {
-        name: "band_units",
-        unit: "",
-        about: "motion band given in mps (speeds, through 2v/λ) or hz",
-        kind: ParamKind::Choice(&["mps", "hz"]),
-        default: DefaultValue::Text("mps"),
-    },
+/// The frame family: a velocity resolution of [`DEFAULT_RESOLUTION_MPS`] by
+/// default, hop a quarter frame (the envelope's anti-alias rule below);
+/// 256/64 samples when the frame is given in samples.
+const FRAME: [ParamSpec; 7] =
+    doppler::frame_param_specs(256, 64, 65_536, 0.128, DEFAULT_RESOLUTION_MPS, 0.25);
+
+/// The motion band's edge parameters.
+pub const MOTION_NAMES: BandNames = BandNames {
+    low_hz: "motion_low_hz",
+    high_hz: "motion_high_hz",
+    low_mps: "motion_min_mps",
+    high_mps: "motion_max_mps",
+};
+
+const FRAME_RULES: FrameRules = FrameRules {
+    default_units: FrameUnits::Mps,
+    min_len: 8,
+    max_len: 65_536,
+};
+
+static PARAMS: [ParamSpec; 18] = [
+    doppler::BAND_UNITS_SPEC,
     ParamSpec {
         name: "motion_min_mps",
         unit: "m/s",
-        about: "slowest radial speed of the motion band (band_units = mps)",
+        about: "slowest radial speed of the motion band",
         kind: ParamKind::Real {
             min: 0.0,
             max: 100.0,
         },
-        // Torso to feet of a walker (physics.md §2.2; bench README).
-        default: DefaultValue::Real(0.6),
+        // A walker's torso to its limbs (echobench_core::doppler::MOTION_MIN_MPS).
+        default: DefaultValue::Real(MOTION_MIN_MPS),
     },
     ParamSpec {
         name: "motion_max_mps",
         unit: "m/s",
-        about: "fastest radial speed of the motion band (band_units = mps)",
+        about: "fastest radial speed of the motion band (default: clipped to Nyquist)",
         kind: ParamKind::Real {
             min: 0.0,
             max: 100.0,
         },
-        default: DefaultValue::Real(4.0),
+        default: DefaultValue::Real(MOTION_MAX_MPS),
     },
     ParamSpec {
         name: "motion_low_hz",
         unit: "Hz",
-        about: "lower edge of the motion band (band_units = hz)",
+        about: "lower edge of the motion band (Hz units)",
         kind: ParamKind::Real { min: 0.0, max: 1e6 },
         default: DefaultValue::Real(10.0),
     },
     ParamSpec {
         name: "motion_high_hz",
         unit: "Hz",
-        about: "upper edge of the motion band (band_units = hz)",
+        about: "upper edge of the motion band (Hz units)",
         kind: ParamKind::Real { min: 0.0, max: 1e6 },
         default: DefaultValue::Real(80.0),
     },
-    ParamSpec {
-        name: "frame_len",
-        unit: "samples",
-        about: "short-time spectrum frame length",
-        kind: ParamKind::Integer { min: 8, max: 65536 },
-        default: DefaultValue::Integer(256),
-    },
-    ParamSpec {
-        name: "hop",
-        unit: "samples",
-        about: "samples between frames (the envelope is sampled at fs/hop)",
-        kind: ParamKind::Integer { min: 1, max: 65536 },
-        default: DefaultValue::Integer(64),
-    },
+    FRAME[0],
+    FRAME[1],
+    FRAME[2],
+    FRAME[3],
+    FRAME[4],
+    FRAME[5],
+    FRAME[6],
     ParamSpec {
         name: "window",
         unit: "",
@@ -379,8 +394,7 @@ impl PeriodicityConfig {
     /// `step_low_hz` or too large to store; a bad stream sample rate.
     pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
-        let frame_len = positive(params, "frame_len")?;
-        let hop = positive(params, "hop")?;
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
         let window = Window::from_name(params.text("window")).ok_or_else(|| {
             ParamError::new(ID, "window", params.text("window"), "expected hann or rect")
         })?;
@@ -391,40 +405,10 @@ impl PeriodicityConfig {
         };
         let nyquist_hz = fs / 2.0;
 
-        let (motion_band_hz, low_name, high_name) = match params.text("band_units") {
-            "hz" => (
-                (params.real("motion_low_hz"), params.real("motion_high_hz")),
-                "motion_low_hz",
-                "motion_high_hz",
-            ),
-            "mps" => {
-                let carrier_hz = info.carrier_hz;
-                if !(carrier_hz.is_finite() && carrier_hz > 0.0) {
-                    return Err(ParamError::new(
-                        ID,
-                        "band_units",
-                        "mps",
-                        format!("needs the stream's carrier frequency, got {carrier_hz} Hz"),
-                    ));
-                }
-                (
-                    (
-                        doppler_hz(params.real("motion_min_mps"), carrier_hz),
-                        doppler_hz(params.real("motion_max_mps"), carrier_hz),
-                    ),
-                    "motion_min_mps",
-                    "motion_max_mps",
-                )
-            }
-            other => {
-                return Err(ParamError::new(
-                    ID,
-                    "band_units",
-                    other,
-                    "expected mps or hz",
-                ))
-            }
-        };
+        let units = doppler::band_units(ID, params, "band_units", &[MOTION_NAMES])?;
+        let band = doppler::resolve_band(ID, params, info, units, MOTION_NAMES)?;
+        let (motion_band_hz, low_name, high_name) =
+            ((band.low_hz, band.high_hz), band.low_name, band.high_name);
         if motion_band_hz.0 >= motion_band_hz.1 {
             return Err(ParamError::new(
                 ID,
@@ -724,14 +708,6 @@ impl BinLayout {
     }
 }
 
-fn positive(params: &Params, name: &str) -> Result<usize, ParamError> {
-    let value = params.integer(name);
-    usize::try_from(value)
-        .ok()
-        .filter(|&v| v > 0)
-        .ok_or_else(|| ParamError::new(ID, name, value, "must be a positive whole number"))
-}
-
 impl DetectorPlugin for PeriodicityPlugin {
     fn id(&self) -> &'static str {
         ID
@@ -755,6 +731,28 @@ impl DetectorPlugin for PeriodicityPlugin {
         Ok(Cost {
             state_bytes: config.state_bytes(),
             ops_per_sample: config.ops_per_sample(),
+        })
+    }
+
+    /// The motion band in Hz as used (the step and flash bands are modulation
+    /// frequencies of the envelope, cadence and rotor rates, not Doppler bands).
+    fn doppler_bands(&self, params: &Params, info: &StreamInfo) -> Vec<DopplerBand> {
+        let Ok(config) = PeriodicityConfig::from_params(params, info) else {
+            return Vec::new();
+        };
+        vec![DopplerBand {
+            role: BandRole::Motion,
+            label: "motion",
+            low_hz: config.motion_band_hz.0,
+            high_hz: config.motion_band_hz.1,
+        }]
+    }
+
+    fn framing(&self, params: &Params, info: &StreamInfo) -> Option<Framing> {
+        let config = PeriodicityConfig::from_params(params, info).ok()?;
+        Some(Framing {
+            frame_len: config.frame_len,
+            hop: config.hop,
         })
     }
 }
@@ -1044,21 +1042,37 @@ mod tests {
 
     #[test]
     fn defaults_at_two_and_twenty_four_gigahertz() {
-        // 0.6–4 m/s → 9.8–65.4 Hz at 2.45 GHz: bins 2..=8 of 7.8125 Hz.
+        // Hand-worked. 2.45 GHz: λ = 0.122364 m, Δv = 0.25 m/s → T = 0.244728 s → 490
+        // samples at 2 kHz (4.0816 Hz bins), hop round(490/4) = 123. Band 0.3–4 m/s =
+        // 4.903–65.378 Hz → bins 2..=16 (8.16–65.31 Hz).
         let mut info = test_stream(2000.0);
         info.carrier_hz = 2.45e9;
         let c = config(&[], &info).unwrap();
-        assert_eq!(c.motion_bins, (2..=8).collect::<Vec<_>>());
-        // 31.25 Hz envelope, 125 frames of 4 s, FFT 128, 0.244 Hz resolution.
+        assert_eq!((c.frame_len, c.hop), (490, 123));
+        assert_eq!(c.motion_bins, (2..=16).collect::<Vec<_>>());
+        // Envelope at 2000/123 = 16.26 Hz: 4 s = 65 frames, 0.5 s = 8, FFT 128.
         assert_eq!(
             (c.analysis_frames, c.decision_frames, c.modulation_fft_len),
-            (125, 16, 128)
+            (65, 8, 128)
         );
         assert!(c.modulation_frequency_hz(c.step_range.0) >= 1.3);
         assert!(c.modulation_frequency_hz(c.step_range.1) <= 2.4);
-        assert!(c.modulation_frequency_hz(c.line_range.1) <= 15.625);
-        // 24.125 GHz: 96.6–643.8 Hz, bins 13..=82.
+        assert!(c.modulation_frequency_hz(c.line_range.1) <= 2000.0 / 123.0 / 2.0);
+        // 24.125 GHz: λ = 0.0124266 m → T = 0.0248532 s → 50 samples (40 Hz bins), hop 13;
+        // 48.28–643.8 Hz → bins 2..=16 again: the same speeds at either carrier.
         let c = config(&[], &test_stream(2000.0)).unwrap();
+        assert_eq!((c.frame_len, c.hop), (50, 13));
+        assert_eq!(c.motion_bins, (2..=16).collect::<Vec<_>>());
+        // The historic setting, given explicitly: 0.6–4 m/s with 256/64 frames, bins 13..=82.
+        let c = config(
+            &[
+                ("motion_min_mps", ParamValue::Real(0.6)),
+                ("frame_len", ParamValue::Integer(256)),
+                ("hop", ParamValue::Integer(64)),
+            ],
+            &test_stream(2000.0),
+        )
+        .unwrap();
         assert_eq!(c.motion_bins, (13..=82).collect::<Vec<_>>());
     }
 
@@ -1069,6 +1083,7 @@ mod tests {
                 ("band_units", ParamValue::Text("hz".into())),
                 ("motion_low_hz", ParamValue::Real(0.0)),
                 ("motion_high_hz", ParamValue::Real(1000.0)),
+                ("frame_len", ParamValue::Integer(256)),
             ],
             &test_stream(2000.0),
         )

@@ -25,12 +25,32 @@ fn stream_2g4() -> StreamInfo {
     }
 }
 
-fn params(given: &[(&str, ParamValue)]) -> Params {
-    let given: Vec<(String, ParamValue)> = given
+/// These tests were written for the historic setting and pin it on purpose: frames of 256
+/// every 64 samples and a motion band from 0.6 m/s (`frame_len`, `hop`, `motion_min_mps`
+/// are added unless a test sets that name, or sets the band in Hz). The m/s defaults are
+/// tested in `lib.rs` and by the coverage crate.
+fn pinned(given: &[(&str, ParamValue)]) -> Vec<(String, ParamValue)> {
+    let mut all: Vec<(String, ParamValue)> = given
         .iter()
         .map(|(n, v)| (n.to_string(), v.clone()))
         .collect();
-    Params::resolve("periodicity", PeriodicityPlugin.params(), &given).expect("valid parameters")
+    let set = |name: &str| given.iter().any(|(n, _)| *n == name);
+    let hz_band = set("band_units") || set("motion_low_hz") || set("motion_high_hz");
+    for (name, value, skip) in [
+        ("frame_len", ParamValue::Integer(256), false),
+        ("hop", ParamValue::Integer(64), false),
+        ("motion_min_mps", ParamValue::Real(0.6), hz_band),
+    ] {
+        if !set(name) && !skip {
+            all.push((name.to_string(), value));
+        }
+    }
+    all
+}
+
+fn params(given: &[(&str, ParamValue)]) -> Params {
+    Params::resolve("periodicity", PeriodicityPlugin.params(), &pinned(given))
+        .expect("valid parameters")
 }
 
 fn detector(given: &[(&str, ParamValue)], info: &StreamInfo) -> PeriodicityDetector {
@@ -461,10 +481,7 @@ fn reset_forgets_the_stream() {
 fn refuses_bad_parameters_naming_them() {
     let info = stream_2g4();
     let refused = |given: &[(&str, ParamValue)], info: &StreamInfo, name: &str| {
-        let given: Vec<(String, ParamValue)> = given
-            .iter()
-            .map(|(n, v)| (n.to_string(), v.clone()))
-            .collect();
+        let given = pinned(given);
         let error = match Params::resolve("periodicity", PeriodicityPlugin.params(), &given) {
             Err(e) => e,
             Ok(p) => match PeriodicityPlugin.build(&p, info) {
@@ -489,13 +506,20 @@ fn refuses_bad_parameters_naming_them() {
     refused(&[("analysis_s", real(0.1))], &info, "analysis_s");
     refused(&[("decision_hop_s", real(0.01))], &info, "decision_hop_s");
     refused(&[("motion_min_mps", real(5.0))], &info, "motion_min_mps");
-    // 24 GHz: 4 m/s is 644 Hz, above the 500 Hz Nyquist of a 1 kHz stream.
+    // 24 GHz: 4 m/s is 644 Hz, above the 500 Hz Nyquist of a 1 kHz stream. Set by the
+    // user, the edge is refused; left at its default it is clipped to 500 Hz.
     let slow_24g = StreamInfo {
         sample_rate_hz: 1000.0,
         carrier_hz: 24.125e9,
         ..info
     };
-    refused(&[], &slow_24g, "motion_max_mps");
+    refused(
+        &[("motion_max_mps", real(4.0))],
+        &slow_24g,
+        "motion_max_mps",
+    );
+    let clipped = PeriodicityConfig::from_params(&params(&[]), &slow_24g).unwrap();
+    assert_eq!(clipped.motion_band_hz.1, 500.0);
     let hz = ("band_units", ParamValue::Text("hz".into()));
     refused(
         &[
