@@ -899,4 +899,46 @@ mod tests {
         assert!(no_heart.max_speed_mps().is_finite());
         assert!(no_heart.node_rate_hz(0.0124).is_finite());
     }
+
+    #[test]
+    fn standing_up_follows_the_minimum_jerk_profile() {
+        // Flash & Hogan 1985: x(u) = D(10u³ − 15u⁴ + 6u⁵), peak speed 1.875·D/T at u = 1/2.
+        let params = BreathingParams {
+            stand_up_at_s: 4.0,
+            stand_up_s: 2.0,
+            standing_chest_height_m: 1.35,
+            stand_up_forward_m: 0.25,
+            ..quiet()
+        };
+        let mut model = Breathing::new(params, [5; 32]).unwrap();
+        let travel = (1.35f64 - 1.1).hypot(0.25);
+        let (shift, _) = model.stand_up_shift(3.9);
+        assert_eq!(shift, [0.0; 3]);
+        let (mid, mid_rate) = model.stand_up_shift(5.0);
+        assert!((mid[2] - 0.5 * 0.25).abs() < 0.005, "{mid:?}");
+        // Half way the speed is the profile's peak (the sway adds mm/s).
+        let peak = 1.875 * travel / 2.0;
+        assert!((crate::norm(mid_rate) - peak).abs() < 0.02 * peak);
+        let (up, _) = model.stand_up_shift(6.5);
+        assert!((up[2] - 0.25).abs() < 1e-12);
+        // Facing +x: the chest went forward by 0.25 m (give or take the sway).
+        assert!((up[0] - 0.25).abs() < 0.02, "{up:?}");
+        // The motion speed: below the moving level seated and once up, above it mid-way.
+        assert!(model.motion_speed_mps(2.0) < crate::MOVING_SPEED_MPS);
+        assert!(model.motion_speed_mps(5.0) > 3.0 * crate::MOVING_SPEED_MPS);
+        assert!(model.motion_speed_mps(8.0) < crate::MOVING_SPEED_MPS);
+        // Velocities are the derivatives of the positions, within the speed bound.
+        let bound = model.max_speed_mps();
+        let h = 1e-5;
+        for i in 0..500 {
+            let t = 3.5 + i as f64 * 0.01;
+            let (a, _) = model.stand_up_shift(t - h);
+            let (b, _) = model.stand_up_shift(t + h);
+            let (_, v) = model.stand_up_shift(t);
+            for k in 0..3 {
+                assert!(((b[k] - a[k]) / (2.0 * h) - v[k]).abs() < 1e-6, "{t}");
+            }
+            assert!(crate::norm(v) <= bound);
+        }
+    }
 }

@@ -779,4 +779,61 @@ mod tests {
             "wavelength_m"
         );
     }
+
+    #[test]
+    fn switching_spins_up_and_coasts_down_without_jumps() {
+        // Switched on at 1 s (3 s spin-up), off at 6 s (5 s coast-down).
+        let params = FanParams {
+            switch_on_s: 1.0,
+            switch_off_s: 6.0,
+            spin_up_s: 3.0,
+            spin_down_s: 5.0,
+            mains_vibration_m: 2e-5,
+            imbalance_whirl_m: 1e-4,
+            ..desk_fan(3)
+        };
+        let fan = Fan::new(params, C / 5.8e9).unwrap();
+        // Running time: 0 before, half the ramp lost over the spin-up
+        // (∫R = T/2), half the coast-down gained after switching off.
+        assert_eq!(fan.running(0.5), (0.0, 0.0, 0.0));
+        let (g, f, _) = fan.running(5.0);
+        assert!((g - (5.0 - 1.0 - 1.5)).abs() < 1e-12 && f == 1.0);
+        let (g_end, f_end, _) = fan.running(20.0);
+        assert!((g_end - (6.0 - 1.0 - 1.5 + 2.5)).abs() < 1e-12 && f_end == 0.0);
+        // The speed fraction is the derivative of the running time, and
+        // both are continuous (no jump in angle or speed).
+        let h = 1e-6;
+        for i in 0..2200 {
+            let t = 0.5 + i as f64 * 0.005;
+            let (a, fa, _) = fan.running(t - h);
+            let (b, fb, _) = fan.running(t + h);
+            let (_, f, rate) = fan.running(t);
+            assert!(((b - a) / (2.0 * h) - f).abs() < 1e-6, "{t}");
+            assert!(((fb - fa) / (2.0 * h) - rate).abs() < 1e-4, "{t}");
+        }
+        // The echo velocities stay within the declared bound through the switching.
+        let mut model = fan.clone();
+        let bound = model.max_speed_mps();
+        let mut out = Vec::new();
+        for i in 0..12_000 {
+            out.clear();
+            model.echoes(i as f64 * 1e-3, [3.0, 0.0, 1.0], &mut out);
+            for e in &out {
+                assert!(crate::norm(e.velocity_mps) <= bound);
+            }
+        }
+        // Always on: the rotor angle is Ω·t exactly, as before switching existed.
+        let steady = Fan::new(desk_fan(3), C / 5.8e9).unwrap();
+        assert_eq!(steady.running(2.5), (2.5, 1.0, 0.0));
+        let mut model = fan;
+        assert_eq!(model.motion_speed_mps(0.5), 0.0);
+        assert!((model.motion_speed_mps(5.0) - model.tip_speed_mps()).abs() < 1e-12);
+        assert_eq!(model.active_intervals(30.0), vec![(1.0, 11.0)]);
+        let bad = FanParams {
+            switch_on_s: 2.0,
+            switch_off_s: 3.0,
+            ..params
+        };
+        assert_eq!(Fan::new(bad, 0.05).unwrap_err().field, "switch_off_s");
+    }
 }

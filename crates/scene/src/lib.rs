@@ -24,7 +24,7 @@ pub mod spec;
 mod synth;
 pub mod truth;
 
-pub use build::{oversampling_for, radar_geometry, trial_truth, MAX_OVERSAMPLING};
+pub use build::{build_model, oversampling_for, radar_geometry, trial_truth, MAX_OVERSAMPLING};
 pub use echobench_core::seed::StreamKey;
 pub use spec::{
     load_scene_node, load_scene_text, load_scene_text_with_warnings, SceneSpec,

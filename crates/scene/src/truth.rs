@@ -99,7 +99,21 @@ fn centroid(echoes: &[Echo]) -> Option<[f64; 3]> {
             *s += w * p;
         }
     }
-    (weight > 0.0).then(|| sum.map(|s| s / weight))
+    if weight > 0.0 {
+        return Some(sum.map(|s| s / weight));
+    }
+    // At the instant an actor appears or vanishes its amplitudes are zero, but
+    // it has a place: the plain mean of its echoes.
+    let count = echoes.len() as f64;
+    (!echoes.is_empty()).then(|| {
+        let mut mean = [0.0; 3];
+        for e in echoes {
+            for (m, p) in mean.iter_mut().zip(e.position_m) {
+                *m += p / count;
+            }
+        }
+        mean
+    })
 }
 
 /// The truth intervals of one target actor.
