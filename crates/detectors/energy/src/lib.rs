@@ -43,8 +43,15 @@
 //! but with very short frames (N ≤ 4) χ²_N/N exceeds 4 often and F is biased
 //! low; raise the gate there.
 //!
-//! **Parameters.** `frame_len`, `hop` (samples), `low_hz`, `high_hz` (Hz, 0 =
-//! off), `normalise` (`floor` | `none`), `floor_s` (s), `floor_gate` (ratio).
+//! **Parameters.** The frame: `frame_s` = 0.128 s by default (256 samples at
+//! 2 kHz), hop half a frame (`hop_fraction`); or `frame_len`/`hop` in samples;
+//! a velocity resolution (`resolution_mps`) is accepted for symmetry with the
+//! spectral detectors but means nothing more than T = λ/(2Δv) here. The band
+//! limit is off by default (the square-law detector's point is all the
+//! power); its corners may be set as radial speeds `low_mps`, `high_mps`
+//! (converted by f = 2v·f_c/c, so a band fits every carrier) or in Hz as
+//! `low_hz`, `high_hz` (0 = off). `normalise` (`floor` | `none`), `floor_s`
+//! (s), `floor_gate` (ratio). `echobench_core::doppler` states the unit rules.
 //!
 //! **What the nominal Pfa means.** With `normalise: none`, no band limit and
 //! `hop = frame_len`, frames of white Gaussian noise are independent and
@@ -62,8 +69,10 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
+    ParamSpec, Params,
 };
+use echobench_core::doppler::{self, BandNames, FrameRules, FrameUnits, Framing};
 use echobench_core::{Score, StreamInfo};
 
 /// The plugin's id in suite files.
@@ -77,38 +86,74 @@ pub const FLOOR_MIN_V2: f64 = 1e-24;
 /// Largest `frame_len` and `hop` accepted (2²⁰ samples: 8 MiB of f64 ring).
 const MAX_FRAME: i64 = 1 << 20;
 
-static PARAMS: [ParamSpec; 7] = [
+/// The frame family: 0.128 s (256 samples at 2 kHz), hop half a frame, by
+/// default in seconds: a time-domain energy has no frequency bins, so a
+/// velocity resolution would only be a roundabout way to say a duration.
+const FRAME: [ParamSpec; 7] = doppler::frame_param_specs(
+    256,
+    128,
+    MAX_FRAME,
+    0.128,
+    doppler::DEFAULT_RESOLUTION_MPS,
+    0.5,
+);
+
+/// The band-limit corners' parameters.
+pub const BAND_NAMES: BandNames = BandNames {
+    low_hz: "low_hz",
+    high_hz: "high_hz",
+    low_mps: "low_mps",
+    high_mps: "high_mps",
+};
+
+const FRAME_RULES: FrameRules = FrameRules {
+    default_units: FrameUnits::Seconds,
+    min_len: 1,
+    max_len: MAX_FRAME as usize,
+};
+
+static PARAMS: [ParamSpec; 15] = [
+    FRAME[0],
+    FRAME[1],
+    FRAME[2],
+    FRAME[3],
+    FRAME[4],
+    FRAME[5],
+    FRAME[6],
+    doppler::BAND_UNITS_SPEC,
+    // Off by default: the energy detector's point is all the power (the reference
+    // pipeline's energy has no band limit); set the corners as speeds to band-limit it.
     ParamSpec {
-        name: "frame_len",
-        unit: "samples",
-        about: "samples per frame (N of the chi-square statistic)",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: MAX_FRAME,
+        name: "low_mps",
+        unit: "m/s",
+        about: "high-pass corner as a radial speed (0 = off)",
+        kind: ParamKind::Real {
+            min: 0.0,
+            max: 100.0,
         },
-        default: DefaultValue::Integer(256),
+        default: DefaultValue::Real(0.0),
     },
     ParamSpec {
-        name: "hop",
-        unit: "samples",
-        about: "samples between the starts of consecutive frames",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: MAX_FRAME,
+        name: "high_mps",
+        unit: "m/s",
+        about: "low-pass corner as a radial speed (0 = off)",
+        kind: ParamKind::Real {
+            min: 0.0,
+            max: 100.0,
         },
-        default: DefaultValue::Integer(128),
+        default: DefaultValue::Real(0.0),
     },
     ParamSpec {
         name: "low_hz",
         unit: "Hz",
-        about: "corner of the 2nd-order Butterworth high-pass (0 = off)",
+        about: "corner of the 2nd-order Butterworth high-pass (0 = off; Hz units)",
         kind: ParamKind::Real { min: 0.0, max: 1e9 },
         default: DefaultValue::Real(0.0),
     },
     ParamSpec {
         name: "high_hz",
         unit: "Hz",
-        about: "corner of the 2nd-order Butterworth low-pass (0 = off)",
+        about: "corner of the 2nd-order Butterworth low-pass (0 = off; Hz units)",
         kind: ParamKind::Real { min: 0.0, max: 1e9 },
         default: DefaultValue::Real(0.0),
     },
@@ -185,6 +230,34 @@ impl DetectorPlugin for EnergyPlugin {
             ops_per_sample,
         })
     }
+
+    /// The band the energy is taken over: from the high-pass corner (0 when
+    /// off) to the low-pass corner (Nyquist when off). The corners are −3 dB
+    /// points of second-order sections, not brick walls.
+    fn doppler_bands(&self, params: &Params, info: &StreamInfo) -> Vec<DopplerBand> {
+        let Ok(config) = Config::from_params(params, info) else {
+            return Vec::new();
+        };
+        let high_hz = if config.high_hz > 0.0 {
+            config.high_hz
+        } else {
+            config.sample_rate_hz / 2.0
+        };
+        vec![DopplerBand {
+            role: BandRole::Motion,
+            label: "energy band",
+            low_hz: config.low_hz,
+            high_hz,
+        }]
+    }
+
+    fn framing(&self, params: &Params, info: &StreamInfo) -> Option<Framing> {
+        let config = Config::from_params(params, info).ok()?;
+        Some(Framing {
+            frame_len: config.frame_len,
+            hop: config.hop,
+        })
+    }
 }
 
 /// How frame energy becomes a score.
@@ -213,25 +286,11 @@ struct Config {
 impl Config {
     fn from_params(params: &Params, info: &StreamInfo) -> Result<Config, ParamError> {
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
-        let count = |name: &str| -> Result<usize, ParamError> {
-            let value = params.integer(name);
-            usize::try_from(value)
-                .ok()
-                .filter(|&v| v >= 1 && v as i64 <= MAX_FRAME)
-                .ok_or_else(|| {
-                    ParamError::new(
-                        ID,
-                        name,
-                        value,
-                        format!("expected 1 to {MAX_FRAME} samples"),
-                    )
-                })
-        };
-        let frame_len = count("frame_len")?;
-        let hop = count("hop")?;
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
+        let units = doppler::band_units(ID, params, "band_units", &[BAND_NAMES])?;
+        let band = doppler::resolve_band(ID, params, info, units, BAND_NAMES)?;
         let nyquist_hz = fs / 2.0;
-        let corner = |name: &str| -> Result<f64, ParamError> {
-            let hz = params.real(name);
+        let corner = |name: &str, hz: f64| -> Result<f64, ParamError> {
             if !(hz.is_finite() && hz >= 0.0) {
                 return Err(ParamError::new(
                     ID,
@@ -252,12 +311,12 @@ impl Config {
             }
             Ok(hz)
         };
-        let low_hz = corner("low_hz")?;
-        let high_hz = corner("high_hz")?;
+        let low_hz = corner(band.low_name, band.low_hz)?;
+        let high_hz = corner(band.high_name, band.high_hz)?;
         if low_hz > 0.0 && high_hz > 0.0 && low_hz >= high_hz {
             return Err(ParamError::new(
                 ID,
-                "low_hz, high_hz",
+                &format!("{}, {}", band.low_name, band.high_name),
                 format!("{low_hz}, {high_hz}"),
                 "the band's low edge must be below its high edge",
             ));
