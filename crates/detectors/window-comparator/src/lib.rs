@@ -43,8 +43,12 @@
 //! only at 3 for a high θ and a hold of 4, the output at sample 5 is off for
 //! the low θ (its hold ran [0, 4]) and on for the high one ([3, 7]).
 //!
-//! **Parameters.** `dc_block_hz`, `low_pass_hz` (Hz, 0 = off), `decision_s`,
-//! `retrigger_s` (s).
+//! **Parameters.** The filter corners are radial speeds by default:
+//! `dc_block_mps` = 0.06 m/s (a fifth of the slowest walker torso, 0.3 m/s, so
+//! a walker passes with ≤ 2 % loss; 0.98 Hz at 2.45 GHz, 9.7 Hz at 24.125 GHz)
+//! and `low_pass_mps` = 0 (off), converted by f = 2v·f_c/c; or `dc_block_hz`,
+//! `low_pass_hz` in Hz (0 = off) as an explicit choice (`band_units`,
+//! `echobench_core::doppler`). `decision_s`, `retrigger_s` (s).
 //!
 //! **Nominal Pfa.** With both filters off and white Gaussian noise of σ, each
 //! sample trips with p = 2Q(θ/σ) and a frame's window of F + R independent
@@ -59,8 +63,10 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
+    ParamSpec, Params,
 };
+use echobench_core::doppler::{self, BandNames};
 use echobench_core::{Channels, Score, StreamInfo};
 
 /// The plugin's id in suite files.
@@ -70,18 +76,51 @@ const ID: &str = "window-comparator";
 /// entries of 16 bytes are 256 MiB, past any sensible hold time.
 const MAX_WINDOW_SAMPLES: usize = 1 << 24;
 
-static PARAMS: [ParamSpec; 4] = [
+/// The filter corners' parameters (the chain's pass band).
+pub const BAND_NAMES: BandNames = BandNames {
+    low_hz: "dc_block_hz",
+    high_hz: "low_pass_hz",
+    low_mps: "dc_block_mps",
+    high_mps: "low_pass_mps",
+};
+
+static PARAMS: [ParamSpec; 7] = [
+    doppler::BAND_UNITS_SPEC,
+    // 0.06 m/s = a fifth of the slowest walker torso (0.3 m/s), so a first-order
+    // high-pass passes a walker with ≤ 2 % loss (1/√(1 + (1/5)²) = 0.981) while blocking
+    // DC; it is 0.98 Hz at 2.45 GHz (the 1 Hz coupling corner this chain had before)
+    // and 9.7 Hz at 24.125 GHz.
+    ParamSpec {
+        name: "dc_block_mps",
+        unit: "m/s",
+        about: "corner of the first-order DC-blocking high-pass as a radial speed (0 = off)",
+        kind: ParamKind::Real {
+            min: 0.0,
+            max: 100.0,
+        },
+        default: DefaultValue::Real(0.06),
+    },
+    ParamSpec {
+        name: "low_pass_mps",
+        unit: "m/s",
+        about: "corner of the optional first-order low-pass as a radial speed (0 = off)",
+        kind: ParamKind::Real {
+            min: 0.0,
+            max: 100.0,
+        },
+        default: DefaultValue::Real(0.0),
+    },
     ParamSpec {
         name: "dc_block_hz",
         unit: "Hz",
-        about: "corner of the first-order DC-blocking high-pass (0 = off)",
+        about: "corner of the first-order DC-blocking high-pass (0 = off; Hz units)",
         kind: ParamKind::Real { min: 0.0, max: 1e9 },
         default: DefaultValue::Real(1.0),
     },
     ParamSpec {
         name: "low_pass_hz",
         unit: "Hz",
-        about: "corner of the optional first-order low-pass (0 = off)",
+        about: "corner of the optional first-order low-pass (0 = off; Hz units)",
         kind: ParamKind::Real { min: 0.0, max: 1e9 },
         default: DefaultValue::Real(0.0),
     },
@@ -147,6 +186,26 @@ impl DetectorPlugin for WindowComparatorPlugin {
             ops_per_sample,
         })
     }
+
+    /// The chain's pass band: from the DC block's corner (0 when off) to the
+    /// low-pass corner (Nyquist when off). First-order corners are −3 dB
+    /// points with 6 dB/octave skirts, not brick walls.
+    fn doppler_bands(&self, params: &Params, info: &StreamInfo) -> Vec<DopplerBand> {
+        let Ok(config) = Config::from_params(params, info) else {
+            return Vec::new();
+        };
+        let high_hz = if config.low_pass_hz > 0.0 {
+            config.low_pass_hz
+        } else {
+            config.sample_rate_hz / 2.0
+        };
+        vec![DopplerBand {
+            role: BandRole::Motion,
+            label: "pass band",
+            low_hz: config.dc_block_hz,
+            high_hz,
+        }]
+    }
 }
 
 /// Checked parameters, in samples.
@@ -171,8 +230,9 @@ impl Config {
         }
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
         let nyquist_hz = fs / 2.0;
-        let corner = |name: &str| -> Result<f64, ParamError> {
-            let hz = params.real(name);
+        let units = doppler::band_units(ID, params, "band_units", &[BAND_NAMES])?;
+        let band = doppler::resolve_band(ID, params, info, units, BAND_NAMES)?;
+        let corner = |name: &str, hz: f64| -> Result<f64, ParamError> {
             if !(hz.is_finite() && hz >= 0.0) {
                 return Err(ParamError::new(
                     ID,
@@ -191,12 +251,12 @@ impl Config {
             }
             Ok(hz)
         };
-        let dc_block_hz = corner("dc_block_hz")?;
-        let low_pass_hz = corner("low_pass_hz")?;
+        let dc_block_hz = corner(band.low_name, band.low_hz)?;
+        let low_pass_hz = corner(band.high_name, band.high_hz)?;
         if dc_block_hz > 0.0 && low_pass_hz > 0.0 && dc_block_hz >= low_pass_hz {
             return Err(ParamError::new(
                 ID,
-                "dc_block_hz, low_pass_hz",
+                &format!("{}, {}", band.low_name, band.high_name),
                 format!("{dc_block_hz}, {low_pass_hz}"),
                 "the DC block's corner must be below the low-pass corner",
             ));
