@@ -54,7 +54,8 @@ enum Command {
         #[arg(long)]
         allow_exec: bool,
     },
-    /// Compare a run with a baseline; exit 0 when nothing regressed, 1 on a regression, 2 on an error.
+    /// Compare a run with a baseline; exit 0 when nothing regressed, 1 on a regression (or an
+    /// inconclusive budget check with --require-conclusive), 2 on an error.
     Gate {
         /// The run folder (made with `echobench run --baseline BASELINE`).
         run: PathBuf,
@@ -79,6 +80,10 @@ enum Command {
         /// Print every check, not only the pooled ones and the regressions.
         #[arg(long)]
         all: bool,
+        /// Exit 1 also when a budget check is inconclusive (too little noise-only time to
+        /// tell the rate from the budget).
+        #[arg(long)]
+        require_conclusive: bool,
     },
     /// Write a run's HTML report: one self-contained page (inline SVG, opens offline).
     Report {
@@ -191,6 +196,7 @@ fn main() -> ExitCode {
             markdown,
             junit,
             all,
+            require_conclusive,
         } => run_gate(
             &run,
             &baseline,
@@ -199,7 +205,7 @@ fn main() -> ExitCode {
                 alpha,
                 budget_per_hour,
                 budget_confidence: 0.95,
-                ..Default::default()
+                require_conclusive,
             },
             markdown,
             junit,
@@ -533,13 +539,12 @@ fn run_gate(
         junit.display(),
         json.display()
     );
-    if report.passed() {
-        println!("gate: pass");
-        Ok(ExitCode::SUCCESS)
+    println!("gate: {}", report.verdict_words());
+    Ok(if report.passed() {
+        ExitCode::SUCCESS
     } else {
-        println!("gate: REGRESSION");
-        Ok(ExitCode::from(1))
-    }
+        ExitCode::from(1)
+    })
 }
 
 fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Result<ExitCode> {

@@ -11,18 +11,44 @@
 //! - **false alarms, paired trials**: with the same seeds both runs see the same signals
 //!   (common random numbers), and the exact McNemar test on the trials that alarm in one run
 //!   only catches small changes the unpaired test cannot see (reference §4.1);
-//! - **false-alarm budget**: the candidate's one-sided upper bound (Garwood 1936) on the
-//!   pooled rate must stay under the suite's absolute budget;
+//! - **false-alarm budget, three-way**: the candidate's pooled rate against the suite's
+//!   absolute budget, from both one-sided Garwood (1936) bounds at `budget_confidence`:
+//!   **pass** when the upper bound is under the budget, **regression** when the lower bound
+//!   is over it, **inconclusive** otherwise — too little noise-only time to tell, which is
+//!   not a regression (it fails the gate only with `require_conclusive`). An inconclusive
+//!   check states the exposure that would settle it if false alarms keep coming at the
+//!   observed rate (`echobench_stats::exposure_to_resolve_rate`; with no false alarm the
+//!   closed form −ln(1 − c)/budget, 3.0/budget hours at 95 %);
 //! - **detection**: a drop in Pd, by Fisher's exact test on missed events, and paired, by
 //!   McNemar on the trials with a missed event.
 //!
-//! Holm's step-down correction (Holm 1979) runs within each detector and kind of check,
-//! across its groups and operating points: a developer who changes one detector is judged on
-//! that detector's family of tests, at the stated significance overall.
+//! Holm's step-down correction (Holm 1979) runs within each comparison key (a detector, see
+//! [`comparison_key`]) and kind of check, across its groups and operating points: a developer
+//! who changes one detector is judged on that detector's family of tests, at the stated
+//! significance overall.
+//!
+//! **Holm and the budget's two one-sided tests.** The budget check is two one-sided tests,
+//! `H₀⁺: rate ≥ budget` (rejected: pass) and `H₀⁻: rate ≤ budget` (rejected: regression).
+//! At any true rate at most one of the two wrong verdicts is possible, each with probability
+//! at most 1 − c, so the pair needs no correction between its sides (the partitioning
+//! principle, Finner & Strassburger 2002). Across a detector's operating points the sides
+//! differ, and the gate treats them differently:
+//! - *regression side*: the gate fails when **any** operating point is over budget, a union
+//!   of tests whose family-wise false-fail rate Holm holds at 1 − c. The exact Poisson
+//!   p-values `P(X ≥ k | budget·T)` are Holm-adjusted within the key's budget checks, and a
+//!   lower bound over the budget that does not survive Holm is *inconclusive*;
+//! - *pass side*: a detector meets its budget when **every** operating point does, an
+//!   intersection–union test whose size is already at most 1 − c with each upper bound at its
+//!   own level (Berger 1982), so the upper bounds are not adjusted (adjusting them would only
+//!   make passing harder without protecting against anything).
+//!
+//! The budget's family level is 1 − `budget_confidence`, not `alpha`: α stays the level of
+//! the tests of change against the baseline.
 
 use crate::runner::{DetectorTally, RunDetector, Tallies, TrialOutcome, VariantTally};
 use echobench_stats::{
-    fisher_exact_greater, garwood_upper_bound, holm_adjust, mcnemar_exact, rate_ratio_test,
+    exposure_for_rate_claim, exposure_to_resolve_rate, fisher_exact_greater, garwood_lower_bound,
+    garwood_upper_bound, holm_adjust, mcnemar_exact, rate_over_limit_p_value, rate_ratio_test,
     EventCount,
 };
 use serde::Serialize;
@@ -38,8 +64,11 @@ pub struct GateSettings {
     pub alpha: f64,
     /// Absolute false-alarm budget, per hour (from the suite), if any.
     pub budget_per_hour: Option<f64>,
-    /// Confidence of the upper bound compared with the budget.
+    /// One-sided confidence of each bound compared with the budget (1 − it is the budget
+    /// family's level).
     pub budget_confidence: f64,
+    /// Count an inconclusive budget check as a failure of the gate.
+    pub require_conclusive: bool,
 }
 
 impl Default for GateSettings {
@@ -50,6 +79,7 @@ impl Default for GateSettings {
             alpha: 0.01,
             budget_per_hour: None,
             budget_confidence: 0.95,
+            require_conclusive: false,
         }
     }
 }
@@ -62,7 +92,7 @@ pub enum Metric {
     FalseAlarmRate,
     /// Trials with a false alarm, paired exact McNemar test.
     FalseAlarmPaired,
-    /// The candidate's upper bound on the false-alarm rate against the budget.
+    /// The candidate's false-alarm rate against the budget, from both one-sided bounds.
     FalseAlarmBudget,
     /// Fraction of target events detected, Fisher's exact test on misses.
     Detection,
@@ -91,15 +121,44 @@ pub enum Verdict {
     Pass,
     /// A regression: the gate fails.
     Regression,
+    /// Not enough exposure to tell (the budget check's bounds straddle the budget); the
+    /// note names the exposure that would settle it.
+    Inconclusive,
     /// Not testable here (no exposure, no events, runs not paired); see the note.
     NotTested,
+}
+
+/// What a candidate's tallies are compared with in the baseline, and the family of its
+/// Holm correction: today one detector (by label). Build it only with [`comparison_key`].
+#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+pub struct ComparisonKey {
+    /// Detector label.
+    pub detector: String,
+}
+
+impl ComparisonKey {
+    /// How the key reads in tables and test-case names.
+    pub fn label(&self) -> String {
+        self.detector.clone()
+    }
+}
+
+/// The one place that says which baseline tallies a candidate's tallies are compared with:
+/// baseline and candidate detectors with equal keys are compared, and each key is one Holm
+/// family. A further dimension (e.g. a product) is a field of [`ComparisonKey`] and a line
+/// here.
+pub fn comparison_key(detector: &DetectorTally) -> ComparisonKey {
+    ComparisonKey {
+        detector: detector.label.clone(),
+    }
 }
 
 /// One comparison, with everything needed to see why it passed or failed.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Check {
-    /// Detector label.
-    pub detector: String,
+    /// What is compared (serialised as its fields, e.g. `detector`).
+    #[serde(flatten)]
+    pub key: ComparisonKey,
     /// What is compared.
     pub metric: Metric,
     /// The operating point's target false-alarm rate, per hour.
@@ -117,7 +176,14 @@ pub struct Check {
     /// A bound: the ratio's one-sided lower bound (rate test) or the candidate rate's upper
     /// bound (budget).
     pub bound: Option<f64>,
-    /// One-sided p-value.
+    /// Budget check: the candidate rate's one-sided lower and upper bounds, per hour, each at
+    /// `budget_confidence`.
+    pub rate_bounds_per_hour: Option<[f64; 2]>,
+    /// Budget check, inconclusive: the noise-only exposure, in hours, that would settle it
+    /// if false alarms keep coming at the observed rate; `None` otherwise or when no
+    /// exposure would (the rate equals the budget).
+    pub needed_exposure_h: Option<f64>,
+    /// One-sided p-value (budget check: of `rate ≤ budget`, the regression side).
     pub p_value: Option<f64>,
     /// Holm-adjusted p-value within the detector's family of this metric.
     pub adjusted_p: Option<f64>,
@@ -162,6 +228,7 @@ impl std::error::Error for GateError {}
 pub fn pin_to_baseline(detectors: &mut [RunDetector], baseline: &Tallies) -> Vec<String> {
     let mut notes = Vec::new();
     for d in detectors.iter_mut() {
+        // By label, as `comparison_key` matches the tallies this run will produce.
         match baseline.detectors.iter().find(|b| b.label == d.label) {
             Some(b) => {
                 d.pinned = b
@@ -222,22 +289,29 @@ pub fn gate(
         ));
     }
     for c in &candidate.detectors {
-        if !baseline.detectors.iter().any(|b| b.label == c.label) {
+        let key = comparison_key(c);
+        if !baseline.detectors.iter().any(|b| comparison_key(b) == key) {
             notes.push(format!(
                 "detector `{}` is new (not in the baseline): not gated",
-                c.label
+                key.label()
             ));
         }
     }
     for b in &baseline.detectors {
-        let Some(c) = candidate.detectors.iter().find(|c| c.label == b.label) else {
+        let key = comparison_key(b);
+        let Some(c) = candidate
+            .detectors
+            .iter()
+            .find(|c| comparison_key(c) == key)
+        else {
             return Err(GateError(format!(
                 "detector `{}` is in the baseline but not in the run",
-                b.label
+                key.label()
             )));
         };
         let mut seen_thresholds: Vec<f64> = Vec::new();
         let mut detector_checks = Vec::new();
+        let mut budget_inputs = Vec::new();
         for (o, op) in b.operating.iter().enumerate() {
             let Some(p) = c.pinned.iter().position(|p| {
                 p.threshold == op.threshold && p.target_per_hour == op.target_per_hour
@@ -245,20 +319,23 @@ pub fn gate(
                 return Err(GateError(format!(
                     "detector `{}`: the run was not scored at the baseline's threshold {} \
                      (target {}/h); make the run with `echobench run --baseline <the baseline>`",
-                    b.label, op.threshold, op.target_per_hour
+                    key.label(),
+                    op.threshold,
+                    op.target_per_hour
                 )));
             };
             if seen_thresholds.contains(&op.threshold) {
                 notes.push(format!(
                     "detector `{}`: the {}/h operating point has the same threshold as a \
                      higher-rate one; checked once",
-                    b.label, op.target_per_hour
+                    key.label(),
+                    op.target_per_hour
                 ));
                 continue;
             }
             seen_thresholds.push(op.threshold);
             let at = OperatingRef {
-                detector: &b.label,
+                key: &key,
                 target_per_hour: op.target_per_hour,
                 threshold: op.threshold,
             };
@@ -279,6 +356,11 @@ pub fn gate(
                     "alarmed falsely",
                 ));
                 if group.is_none() && settings.budget_per_hour.is_some() {
+                    budget_inputs.push(BudgetInput {
+                        index: detector_checks.len(),
+                        false_alarms: sc.false_alarms,
+                        exposure_h: sc.exposure_h,
+                    });
                     detector_checks.push(budget_check(&at, &sc, settings));
                 }
                 if sb.events > 0 || sc.events > 0 {
@@ -297,6 +379,7 @@ pub fn gate(
             }
         }
         apply_holm(&mut detector_checks, settings.alpha);
+        settle_budget(&mut detector_checks, &budget_inputs, settings);
         checks.extend(detector_checks);
     }
     Ok(GateReport {
@@ -310,7 +393,7 @@ pub fn gate(
 }
 
 struct OperatingRef<'a> {
-    detector: &'a str,
+    key: &'a ComparisonKey,
     target_per_hour: f64,
     threshold: f64,
 }
@@ -318,7 +401,7 @@ struct OperatingRef<'a> {
 impl OperatingRef<'_> {
     fn check(&self, metric: Metric, group: &str) -> Check {
         Check {
-            detector: self.detector.to_string(),
+            key: self.key.clone(),
             metric,
             target_per_hour: self.target_per_hour,
             threshold: self.threshold,
@@ -327,6 +410,8 @@ impl OperatingRef<'_> {
             candidate: String::new(),
             ratio: None,
             bound: None,
+            rate_bounds_per_hour: None,
+            needed_exposure_h: None,
             p_value: None,
             adjusted_p: None,
             verdict: Verdict::NotTested,
@@ -520,6 +605,16 @@ fn paired_flags_check(
     paired_check(at, metric, group, &flags, what)
 }
 
+/// Where a budget check sits among a key's checks, and the candidate's count behind it, for
+/// [`settle_budget`].
+struct BudgetInput {
+    index: usize,
+    false_alarms: u64,
+    exposure_h: f64,
+}
+
+/// The budget check's bounds and regression-side p-value; its verdict waits for Holm across
+/// the key's budget checks ([`settle_budget`]).
 fn budget_check(at: &OperatingRef, c: &Sums, s: &GateSettings) -> Check {
     let mut check = at.check(Metric::FalseAlarmBudget, "all scenes");
     check.candidate = rate_words(c.false_alarms, c.exposure_h);
@@ -532,24 +627,166 @@ fn budget_check(at: &OperatingRef, c: &Sums, s: &GateSettings) -> Check {
         check.note = "no noise-only time".into();
         return check;
     }
-    match garwood_upper_bound(c.false_alarms, c.exposure_h, s.budget_confidence) {
-        Ok(upper) => {
-            check.bound = Some(upper);
-            let over = upper > budget;
-            check.verdict = if over {
-                Verdict::Regression
-            } else {
-                Verdict::Pass
-            };
-            check.note = format!(
-                "one-sided {:.0} % upper bound {upper:.3}/h {} the budget {budget}/h",
-                s.budget_confidence * 100.0,
-                if over { "exceeds" } else { "is within" }
-            );
+    let (k, hours, level) = (c.false_alarms, c.exposure_h, s.budget_confidence);
+    let bounds = garwood_lower_bound(k, hours, level)
+        .and_then(|low| Ok([low, garwood_upper_bound(k, hours, level)?]));
+    match (bounds, rate_over_limit_p_value(k, hours, budget)) {
+        (Ok(bounds), Ok(p)) => {
+            check.bound = Some(bounds[1]);
+            check.rate_bounds_per_hour = Some(bounds);
+            check.p_value = Some(p);
+            check.verdict = Verdict::Inconclusive;
         }
-        Err(e) => check.note = format!("not tested: {e}"),
+        (Err(e), _) | (_, Err(e)) => check.note = format!("not tested: {e}"),
     }
     check
+}
+
+/// The three-way verdict of a key's budget checks: pass on the unadjusted upper bound,
+/// regression on the Holm-adjusted regression side, inconclusive otherwise with the exposure
+/// that would settle it (see the module documentation for why the two sides differ).
+fn settle_budget(checks: &mut [Check], inputs: &[BudgetInput], s: &GateSettings) {
+    let Some(budget) = s.budget_per_hour else {
+        return;
+    };
+    let members: Vec<&BudgetInput> = inputs
+        .iter()
+        .filter(|i| checks[i.index].p_value.is_some())
+        .collect();
+    let p: Vec<f64> = members
+        .iter()
+        .filter_map(|i| checks[i.index].p_value)
+        .collect();
+    let Ok(adjusted) = holm_adjust(&p) else {
+        return;
+    };
+    let family = members.len();
+    let level = 1.0 - s.budget_confidence;
+    let percent = s.budget_confidence * 100.0;
+    for (input, q) in members.into_iter().zip(adjusted) {
+        let check = &mut checks[input.index];
+        check.adjusted_p = Some(q);
+        let Some([low, high]) = check.rate_bounds_per_hour else {
+            continue;
+        };
+        if high < budget {
+            check.verdict = Verdict::Pass;
+            check.note = format!(
+                "one-sided {percent:.0} % upper bound {high:.3}/h is under the budget {budget}/h"
+            );
+        } else if q <= level {
+            check.verdict = Verdict::Regression;
+            check.note = format!(
+                "one-sided {percent:.0} % lower bound {low:.3}/h is over the budget {budget}/h \
+                 (exact Poisson test{})",
+                if family == 1 {
+                    String::new()
+                } else {
+                    format!(", Holm across this detector's {family} budget checks")
+                }
+            );
+        } else {
+            check.verdict = Verdict::Inconclusive;
+            let (needed, words) = exposure_needed(input, budget, s.budget_confidence, family);
+            check.needed_exposure_h = needed;
+            let mut note = format!(
+                "inconclusive: the one-sided {percent:.0} % bounds [{low:.3}, {high:.3}]/h \
+                 straddle the budget {budget}/h"
+            );
+            if low > budget {
+                let _ = write!(
+                    note,
+                    "; the lower bound is over the budget, but not after Holm across this \
+                     detector's {family} budget checks (p Holm {})",
+                    fmt_p(Some(q))
+                );
+            }
+            let _ = write!(note, "; {words}");
+            check.note = note;
+        }
+    }
+}
+
+/// The exposure that would settle an inconclusive budget check, and a sentence saying what it
+/// assumes. Proving "under" needs one upper bound at `confidence`; proving "over" needs, at
+/// most, the Bonferroni level `(1 − confidence)/family`, the strictest Holm can ask for.
+fn exposure_needed(
+    input: &BudgetInput,
+    budget: f64,
+    confidence: f64,
+    family: usize,
+) -> (Option<f64>, String) {
+    let (k, hours) = (input.false_alarms, input.exposure_h);
+    let rate = k as f64 / hours;
+    let over = rate > budget;
+    let level = if over {
+        1.0 - (1.0 - confidence) / family.max(1) as f64
+    } else {
+        confidence
+    };
+    let Ok(Some(needed)) = exposure_to_resolve_rate(rate, budget, level) else {
+        return (
+            None,
+            format!(
+                "no exposure settles it: the observed rate {}/h is the budget",
+                fmt_sig3(rate)
+            ),
+        );
+    };
+    let words = if k == 0 {
+        format!(
+            "about {} h of noise-only time would settle it (now {} h): with no false alarm the \
+             upper bound is −ln({})/T (Garwood 1936), under the budget from T = {} h",
+            fmt_sig3(needed),
+            fmt_sig3(hours),
+            format_level(1.0 - confidence),
+            fmt_sig3(needed)
+        )
+    } else if over {
+        format!(
+            "about {} h of noise-only time would show it over the budget if false alarms keep \
+             coming at the observed {}/h (now {} h; Garwood 1936 lower bound{})",
+            fmt_sig3(needed),
+            fmt_sig3(rate),
+            fmt_sig3(hours),
+            if family > 1 {
+                format!(" at the Bonferroni level {}", format_level(1.0 - level))
+            } else {
+                String::new()
+            }
+        )
+    } else {
+        let floor =
+            exposure_for_rate_claim(budget, k, confidence).map_or_else(|_| "—".into(), fmt_sig3);
+        format!(
+            "about {} h of noise-only time would settle it if false alarms keep coming at the \
+             observed {}/h (now {} h; Garwood 1936 upper bound), and at least {} h even with \
+             no further false alarm",
+            fmt_sig3(needed),
+            fmt_sig3(rate),
+            fmt_sig3(hours),
+            floor
+        )
+    };
+    (Some(needed), words)
+}
+
+/// Hours or a rate, to about three significant digits.
+fn fmt_sig3(h: f64) -> String {
+    if h >= 100.0 {
+        format!("{h:.0}")
+    } else if h >= 10.0 {
+        format!("{h:.1}")
+    } else if h >= 0.01 {
+        format!("{h:.3}")
+    } else {
+        format!("{h:.2e}")
+    }
+}
+
+/// A significance level as written by hand (0.05, 0.025).
+fn format_level(x: f64) -> String {
+    format!("{}", (x * 1e6).round() / 1e6)
 }
 
 fn detection_check(at: &OperatingRef, group: &str, b: &Sums, c: &Sums) -> Check {
@@ -579,9 +816,14 @@ fn detection_check(at: &OperatingRef, group: &str, b: &Sums, c: &Sums) -> Check 
     check
 }
 
-/// Holm within each metric of one detector; the budget check is a bound, not a test.
+/// Holm within each metric of one key, at `alpha`; the budget checks have their own level and
+/// verdicts ([`settle_budget`]).
 fn apply_holm(checks: &mut [Check], alpha: f64) {
-    let metrics: BTreeSet<Metric> = checks.iter().map(|c| c.metric).collect();
+    let metrics: BTreeSet<Metric> = checks
+        .iter()
+        .map(|c| c.metric)
+        .filter(|&m| m != Metric::FalseAlarmBudget)
+        .collect();
     for metric in metrics {
         let members: Vec<usize> = (0..checks.len())
             .filter(|&i| checks[i].metric == metric && checks[i].p_value.is_some())
@@ -624,6 +866,7 @@ fn verdict_word(v: Verdict) -> &'static str {
     match v {
         Verdict::Pass => "pass",
         Verdict::Regression => "REGRESSION",
+        Verdict::Inconclusive => "inconclusive",
         Verdict::NotTested => "not tested",
     }
 }
@@ -636,9 +879,33 @@ impl GateReport {
             .filter(|c| c.verdict == Verdict::Regression)
     }
 
-    /// `true` when no check failed.
+    /// The checks that could not tell (budget checks without enough exposure).
+    pub fn inconclusive(&self) -> impl Iterator<Item = &Check> {
+        self.checks
+            .iter()
+            .filter(|c| c.verdict == Verdict::Inconclusive)
+    }
+
+    /// `true` when the gate lets the change through: no check failed, and, with
+    /// `require_conclusive`, none was inconclusive.
     pub fn passed(&self) -> bool {
         self.regressions().next().is_none()
+            && !(self.settings.require_conclusive && self.inconclusive().next().is_some())
+    }
+
+    /// The gate's verdict in a word or two: `pass`, `pass, N inconclusive`, `INCONCLUSIVE`
+    /// (inconclusive checks with `require_conclusive`) or `REGRESSION`.
+    pub fn verdict_words(&self) -> String {
+        let inconclusive = self.inconclusive().count();
+        if self.regressions().next().is_some() {
+            "REGRESSION".into()
+        } else if inconclusive == 0 {
+            "pass".into()
+        } else if self.settings.require_conclusive {
+            "INCONCLUSIVE".into()
+        } else {
+            format!("pass, {inconclusive} inconclusive")
+        }
     }
 
     /// Rows worth showing by default: every pooled check and every regression.
@@ -677,7 +944,7 @@ impl GateReport {
             .iter()
             .map(|c| {
                 [
-                    c.detector.clone(),
+                    c.key.label(),
                     c.metric.name().into(),
                     format!("{}", c.target_per_hour),
                     c.group.clone(),
@@ -721,17 +988,31 @@ impl GateReport {
             .filter(|c| c.verdict != Verdict::NotTested)
             .count();
         let failed = self.regressions().count();
+        let inconclusive = self.inconclusive().count();
         let _ = writeln!(
             out,
-            "\n{} checks ({} tested), {} regression{}; rate margin ρ₀ = {}, α = {} (Holm within each detector and check){}",
+            "\n{} checks ({} tested), {} regression{}, {} inconclusive; rate margin ρ₀ = {}, α = {} (Holm within each detector and check){}",
             self.checks.len(),
             tested,
             failed,
             if failed == 1 { "" } else { "s" },
+            inconclusive,
             self.settings.ratio_margin,
             self.settings.alpha,
             if self.paired { "; paired on the same seeds" } else { "" },
         );
+        if let Some(budget) = self.settings.budget_per_hour {
+            let _ = writeln!(
+                out,
+                "{bullet}budget {budget}/h: pass when the one-sided {:.0} % upper bound is under it, regression when the lower bound is over it (Holm across each detector's operating points), otherwise inconclusive{}",
+                self.settings.budget_confidence * 100.0,
+                if self.settings.require_conclusive {
+                    ", which fails the gate (--require-conclusive)"
+                } else {
+                    ", which does not fail the gate"
+                }
+            );
+        }
         if self.paired {
             let _ = writeln!(
                 out,
@@ -742,7 +1023,7 @@ impl GateReport {
             let _ = writeln!(
                 out,
                 "{bullet}{}: {} at {}/h (threshold {}), {}: baseline {}, candidate {}; {} (p = {}, Holm {})",
-                c.detector,
+                c.key.label(),
                 c.metric.name(),
                 c.target_per_hour,
                 fmt_threshold(c.threshold),
@@ -754,6 +1035,19 @@ impl GateReport {
                 fmt_p(c.adjusted_p),
             );
         }
+        for c in self.inconclusive() {
+            let _ = writeln!(
+                out,
+                "{bullet}{}: {} at {}/h (threshold {}), {}: {}; {}",
+                c.key.label(),
+                c.metric.name(),
+                c.target_per_hour,
+                fmt_threshold(c.threshold),
+                c.group,
+                c.candidate,
+                c.note,
+            );
+        }
         for n in &self.notes {
             let _ = writeln!(out, "{bullet}note: {n}");
         }
@@ -763,7 +1057,7 @@ impl GateReport {
     pub fn markdown(&self) -> String {
         let mut out = format!(
             "## echobench gate: {} — suite `{}`\n\n",
-            if self.passed() { "pass" } else { "REGRESSION" },
+            self.verdict_words(),
             self.suite
         );
         out += "| detector | check | at /h | group | baseline | candidate | ratio | bound | p (Holm) | verdict |\n";
@@ -772,7 +1066,7 @@ impl GateReport {
             let _ = writeln!(
                 out,
                 "| {} | {} | {} | {} | {} | {} | {} | {} | {} | {} |",
-                md_escape(&c.detector),
+                md_escape(&c.key.label()),
                 c.metric.name(),
                 c.target_per_hour,
                 md_escape(&c.group),
@@ -781,10 +1075,10 @@ impl GateReport {
                 fmt_opt(c.ratio, 2),
                 fmt_opt(c.bound, 3),
                 fmt_p(c.adjusted_p),
-                if c.verdict == Verdict::Regression {
-                    "**REGRESSION**"
-                } else {
-                    verdict_word(c.verdict)
+                match c.verdict {
+                    Verdict::Regression => "**REGRESSION**",
+                    Verdict::Inconclusive => "*inconclusive*",
+                    v => verdict_word(v),
                 },
             );
         }
@@ -792,17 +1086,17 @@ impl GateReport {
         out
     }
 
-    /// A JUnit XML document: one test case per detector, metric and operating point; a
-    /// failing group makes its case fail, with every failing group in the message.
+    /// A JUnit XML document: one test case per comparison key, metric and operating point; a
+    /// failing group makes its case fail, with every failing group in the message. A case
+    /// with an inconclusive check and no failure is skipped, its message naming the exposure
+    /// that would settle it (with `require_conclusive` too: the verdict is "cannot tell", the
+    /// exit status carries the policy).
     pub fn junit_xml(&self) -> String {
-        let mut cases: BTreeMap<(String, Metric, String), Vec<&Check>> = BTreeMap::new();
-        let mut order: Vec<(String, Metric, String)> = Vec::new();
+        type CaseKey = (ComparisonKey, Metric, String);
+        let mut cases: BTreeMap<CaseKey, Vec<&Check>> = BTreeMap::new();
+        let mut order: Vec<CaseKey> = Vec::new();
         for c in &self.checks {
-            let key = (
-                c.detector.clone(),
-                c.metric,
-                format!("{}", c.target_per_hour),
-            );
+            let key = (c.key.clone(), c.metric, format!("{}", c.target_per_hour));
             if !cases.contains_key(&key) {
                 order.push(key.clone());
             }
@@ -812,9 +1106,26 @@ impl GateReport {
             .iter()
             .filter(|k| cases[*k].iter().any(|c| c.verdict == Verdict::Regression))
             .count();
+        let skip_reason = |group: &[&Check]| -> Option<String> {
+            if group.iter().any(|c| c.verdict == Verdict::Regression) {
+                return None;
+            }
+            let open: Vec<String> = group
+                .iter()
+                .filter(|c| c.verdict == Verdict::Inconclusive)
+                .map(|c| format!("{}: {}", c.group, c.note))
+                .collect();
+            if !open.is_empty() {
+                Some(open.join("; "))
+            } else if group.iter().all(|c| c.verdict == Verdict::NotTested) {
+                Some(group[0].note.clone())
+            } else {
+                None
+            }
+        };
         let skipped = order
             .iter()
-            .filter(|k| cases[*k].iter().all(|c| c.verdict == Verdict::NotTested))
+            .filter(|k| skip_reason(&cases[*k]).is_some())
             .count();
         let mut out = String::from("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
         let _ = writeln!(
@@ -830,11 +1141,11 @@ impl GateReport {
         );
         for key in &order {
             let group = &cases[key];
-            let (detector, metric, target) = key;
+            let (key, metric, target) = key;
             let _ = write!(
                 out,
                 "    <testcase classname=\"echobench.gate.{}\" name=\"{} at {}/h\"",
-                xml_escape(detector),
+                xml_escape(&key.label()),
                 metric.name(),
                 target
             );
@@ -867,11 +1178,11 @@ impl GateReport {
                     xml_escape(&message),
                     xml_escape(&detail)
                 );
-            } else if group.iter().all(|c| c.verdict == Verdict::NotTested) {
+            } else if let Some(reason) = skip_reason(group) {
                 let _ = writeln!(
                     out,
                     ">\n      <skipped message=\"{}\"/>\n    </testcase>",
-                    xml_escape(&group[0].note)
+                    xml_escape(&reason)
                 );
             } else {
                 out += "/>\n";
@@ -901,4 +1212,92 @@ fn xml_escape(s: &str) -> String {
 
 fn md_escape(s: &str) -> String {
     s.replace('|', "\\|")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use statrs::distribution::{DiscreteCDF, Poisson};
+
+    /// Budget checks of one key at two operating points with the given candidate counts,
+    /// settled as `gate` settles them.
+    fn settled(counts: &[(u64, f64)], budget: f64) -> Vec<Check> {
+        let key = ComparisonKey {
+            detector: "d".into(),
+        };
+        let settings = GateSettings {
+            budget_per_hour: Some(budget),
+            ..GateSettings::default()
+        };
+        let mut checks = Vec::new();
+        let mut inputs = Vec::new();
+        for (i, &(false_alarms, exposure_h)) in counts.iter().enumerate() {
+            let at = OperatingRef {
+                key: &key,
+                target_per_hour: 10.0 / (i + 1) as f64,
+                threshold: i as f64,
+            };
+            let sums = Sums {
+                false_alarms,
+                exposure_h,
+                ..Sums::default()
+            };
+            inputs.push(BudgetInput {
+                index: checks.len(),
+                false_alarms,
+                exposure_h,
+            });
+            checks.push(budget_check(&at, &sums, &settings));
+        }
+        settle_budget(&mut checks, &inputs, &settings);
+        checks
+    }
+
+    #[test]
+    fn holm_guards_the_regression_side_only() {
+        // 5 false alarms in 1 h against 1.9/h: P(X >= 5 | 1.9) = 0.0441 (Poisson upper tail,
+        // from statrs here), under 0.05, so alone it is a regression.
+        let p = Poisson::new(1.9).map(|d| d.sf(4)).unwrap_or(f64::NAN);
+        assert!(p > 0.025 && p < 0.05, "{p}");
+        let one = settled(&[(5, 1.0)], 1.9);
+        assert_eq!(one[0].verdict, Verdict::Regression, "{}", one[0].note);
+        assert!((one[0].p_value.unwrap_or(f64::NAN) - p).abs() < 1e-12);
+        assert!(one[0].rate_bounds_per_hour.is_some_and(|b| b[0] > 1.9));
+        // Two such operating points: Holm doubles the smaller p to 0.088, over 0.05, so
+        // neither is shown over budget; both are inconclusive and say why.
+        let two = settled(&[(5, 1.0), (5, 1.0)], 1.9);
+        for c in &two {
+            assert_eq!(c.verdict, Verdict::Inconclusive, "{}", c.note);
+            assert!(c.note.contains("not after Holm"), "{}", c.note);
+            // Showing it over budget needs the Bonferroni level 0.025, so more than 1 h.
+            let needed = c.needed_exposure_h.unwrap_or(f64::NAN);
+            let low = garwood_lower_bound((5.0 * needed).round() as u64, needed, 0.975)
+                .unwrap_or(f64::NAN);
+            assert!(needed > 1.0 && (low - 1.9).abs() < 0.3, "{needed} h, {low}");
+        }
+        // The pass side is not adjusted: two clean points each pass on their own bound
+        // (0 in 2 h: upper bound 1.498/h under 1.9/h).
+        let clean = settled(&[(0, 2.0), (0, 2.0)], 1.9);
+        assert!(clean.iter().all(|c| c.verdict == Verdict::Pass));
+        assert!(clean.iter().all(|c| c.needed_exposure_h.is_none()));
+    }
+
+    #[test]
+    fn inconclusive_names_the_exposure_that_would_settle_it() {
+        // The issue's case: budget 2/h, 1.03 h, no false alarm: upper bound 2.996/1.03 =
+        // 2.91/h is over the budget, the lower bound 0 under it. Zero events need
+        // −ln(0.05)/2 = 1.498 h (Garwood's zero-count bound).
+        let c = &settled(&[(0, 1.03)], 2.0)[0];
+        assert_eq!(c.verdict, Verdict::Inconclusive);
+        let [low, high] = c.rate_bounds_per_hour.unwrap_or([f64::NAN; 2]);
+        assert_eq!(low, 0.0);
+        assert!((high - 0.05f64.ln().abs() / 1.03).abs() < 1e-9, "{high}");
+        let needed = c.needed_exposure_h.unwrap_or(f64::NAN);
+        assert!((needed - 0.05f64.ln().abs() / 2.0).abs() < 1e-9, "{needed}");
+        assert!(c.note.contains("1.498 h"), "{}", c.note);
+        // A count at exactly the budget: no exposure separates them, and the note says so.
+        let c = &settled(&[(2, 1.0)], 2.0)[0];
+        assert_eq!(c.verdict, Verdict::Inconclusive);
+        assert!(c.needed_exposure_h.is_none() && c.note.contains("is the budget"));
+    }
 }

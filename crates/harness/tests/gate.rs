@@ -5,7 +5,7 @@
 use echobench_harness::gate::{gate, pin_to_baseline, GateSettings, Metric, Verdict};
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies};
 use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::default_suite;
+use echobench_harness::suite_file::{default_suite, load_suite_file};
 
 /// The default suite, cut down, with two detectors and operating points high enough that
 /// the test trials carry tens of false alarms (a gate needs counts to compare).
@@ -83,7 +83,7 @@ fn gate_passes_on_itself_fails_on_a_doctored_baseline_and_passes_on_seed_noise()
     assert!(!report.passed());
     let failing: Vec<_> = report.regressions().collect();
     assert!(
-        failing.iter().all(|c| c.detector == "energy"),
+        failing.iter().all(|c| c.key.detector == "energy"),
         "{}",
         report.table()
     );
@@ -146,11 +146,62 @@ fn gate_passes_on_itself_fails_on_a_doctored_baseline_and_passes_on_seed_noise()
     assert!(report.passed(), "{}", report.table());
 }
 
+/// A one-module suite of a swaying palm (a nuisance with tens of false alarms per hour at
+/// high target rates) and two detectors, for the budget tests.
+const BUDGET_SUITE: &str = r#"
+name: budget-check
+seed: 5
+trials: 12
+calibration_trials: 4
+scenes:
+  - id: palm
+    label: nuisance
+    scene:
+      duration_s: 20
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 1000
+        front_end: {high_pass_hz: [0.5], low_pass_hz: [400], gain_db: 60}
+        adc: {bits: 12, full_scale_v: 3.3}
+      environment: {white_noise_v_per_rthz: 30.0e-9}
+      actors:
+        - kind: sway
+          id: palm
+          pivot_m: [2.5, 1.5, 0.4]
+          hanging: false
+          arm_length_m: 1.4
+          natural_hz: {uniform: [0.4, 0.9]}
+          damping_ratio: 0.06
+          rms_displacement_m: {uniform: [0.03, 0.08]}
+          direction_deg: {uniform: [0, 180]}
+          rcs_m2: 0.2
+detectors:
+  - plugin: energy
+  - plugin: band-ratio
+scoring:
+  target_false_alarms_per_hour: [200, 60]
+"#;
+
+/// A baseline and a candidate pinned to it, run once for the budget tests.
+fn budget_runs() -> &'static (Tallies, Tallies) {
+    static RUNS: std::sync::OnceLock<(Tallies, Tallies)> = std::sync::OnceLock::new();
+    RUNS.get_or_init(|| {
+        let dir = std::path::PathBuf::from(env!("CARGO_TARGET_TMPDIR"));
+        let file = dir.join(format!("gate-budget-suite-{}.yaml", std::process::id()));
+        std::fs::write(&file, BUDGET_SUITE).unwrap();
+        let plugins = echobench_detectors::builtin();
+        let (suite, _) = load_suite_file(&file, &plugins).unwrap_or_else(|r| panic!("{r}"));
+        let _ = std::fs::remove_file(&file);
+        let baseline = run(&suite, None);
+        let candidate = run(&suite, Some(&baseline));
+        (baseline, candidate)
+    })
+}
+
 #[test]
 fn a_budget_below_the_measured_rate_fails_and_an_unpinned_run_is_refused() {
-    let suite = small_suite(5);
-    let baseline = run(&suite, None);
-    let candidate = run(&suite, Some(&baseline));
+    let (baseline, candidate) = budget_runs();
+    let (baseline, candidate) = (baseline.clone(), candidate.clone());
     let settings = GateSettings {
         budget_per_hour: Some(0.5),
         ..GateSettings::default()
@@ -160,9 +211,13 @@ fn a_budget_below_the_measured_rate_fails_and_an_unpinned_run_is_refused() {
         .regressions()
         .filter(|c| c.metric == Metric::FalseAlarmBudget)
         .collect();
-    // Every detector has tens of false alarms per hour at the 60/h point: over a 0.5/h budget.
+    // Every detector has tens of false alarms per hour at the 200/h point: even the lower
+    // bound of its rate is over a 0.5/h budget, which is what makes it a regression.
     assert!(!over.is_empty(), "{}", report.table());
-    assert!(over.iter().all(|c| c.bound.unwrap() > 0.5));
+    assert!(over
+        .iter()
+        .all(|c| c.rate_bounds_per_hour.is_some_and(|[low, _]| low > 0.5)));
+    assert!(over.iter().all(|c| c.note.contains("lower bound")));
     // No budget set: no budget checks, and a note that says so.
     let report = gate(&candidate, &baseline, &GateSettings::default()).unwrap();
     assert!(report.passed());
@@ -178,4 +233,124 @@ fn a_budget_below_the_measured_rate_fails_and_an_unpinned_run_is_refused() {
     // A run made without --baseline cannot be gated: it says how to fix it.
     let err = gate(&baseline, &baseline, &GateSettings::default()).unwrap_err();
     assert!(err.0.contains("--baseline"), "{err}");
+}
+
+/// The candidate with every pinned false alarm removed: zero false alarms in its exposure.
+fn without_false_alarms(candidate: &Tallies) -> Tallies {
+    let mut quiet = candidate.clone();
+    for d in &mut quiet.detectors {
+        for v in &mut d.variants {
+            for op in &mut v.pinned {
+                op.false_alarms = 0;
+                op.false_alarms_by_source.clear();
+                for t in &mut op.trials {
+                    t.false_alarms = 0;
+                }
+            }
+        }
+    }
+    quiet
+}
+
+#[test]
+fn the_budget_check_is_three_way_and_an_inconclusive_case_is_skipped_in_junit() {
+    let (baseline, candidate) = budget_runs();
+    let hours = candidate.detectors[0]
+        .variants
+        .iter()
+        .map(|v| v.exposure_ns)
+        .sum::<u64>() as f64
+        / 3.6e12;
+    assert!(hours > 0.0);
+    // Zero false alarms, and a budget the exposure cannot vouch for: the zero-count upper
+    // bound −ln(0.05)/T (Garwood 1936) is twice the budget.
+    let zero_bound = 0.05f64.ln().abs() / hours;
+    let budget = zero_bound / 2.0;
+    let quiet = without_false_alarms(candidate);
+    let settings = GateSettings {
+        budget_per_hour: Some(budget),
+        ..GateSettings::default()
+    };
+    let report = gate(&quiet, baseline, &settings).unwrap();
+    let budget_checks: Vec<_> = report
+        .checks
+        .iter()
+        .filter(|c| c.metric == Metric::FalseAlarmBudget)
+        .collect();
+    assert_eq!(
+        budget_checks.len(),
+        4,
+        "two detectors, two operating points"
+    );
+    for c in &budget_checks {
+        assert_eq!(c.verdict, Verdict::Inconclusive, "{}", c.note);
+        let [low, high] = c.rate_bounds_per_hour.unwrap();
+        assert_eq!(low, 0.0);
+        assert!((high - zero_bound).abs() < 1e-9 * zero_bound, "{high}");
+        // The exposure needed: −ln(0.05)/budget, twice the exposure there is.
+        let needed = c.needed_exposure_h.unwrap();
+        assert!(
+            (needed - 2.0 * hours).abs() < 1e-9 * hours,
+            "{needed} vs {hours}"
+        );
+    }
+    assert!(report.passed(), "inconclusive is not a regression");
+    assert_eq!(report.verdict_words(), "pass, 4 inconclusive");
+    assert!(report
+        .markdown()
+        .starts_with("## echobench gate: pass, 4 inconclusive"));
+    assert!(report.table().contains("inconclusive"));
+    // The JUnit case of each budget check is skipped, and says what would settle it.
+    let xml = report.junit_xml();
+    let doc = roxmltree::Document::parse(&xml).unwrap_or_else(|e| panic!("{e}\n{xml}"));
+    let skipped: Vec<(String, String)> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("testcase"))
+        .filter_map(|n| {
+            let skip = n.children().find(|c| c.has_tag_name("skipped"))?;
+            Some((
+                n.attribute("name")?.to_string(),
+                skip.attribute("message")?.to_string(),
+            ))
+        })
+        .collect();
+    let budget_skips: Vec<_> = skipped
+        .iter()
+        .filter(|(name, _)| name.starts_with("false-alarm budget"))
+        .collect();
+    assert_eq!(budget_skips.len(), 4, "{skipped:?}");
+    for (_, message) in budget_skips {
+        assert!(
+            message.contains("inconclusive") && message.contains("h of noise-only time"),
+            "{message}"
+        );
+    }
+    assert_eq!(
+        doc.root_element().attribute("skipped").unwrap(),
+        skipped.len().to_string()
+    );
+    // Demanding a conclusion turns the same report into a failing gate.
+    let strict = GateSettings {
+        require_conclusive: true,
+        ..settings
+    };
+    let report = gate(&quiet, baseline, &strict).unwrap();
+    assert!(!report.passed());
+    assert_eq!(report.verdict_words(), "INCONCLUSIVE");
+    assert_eq!(report.regressions().count(), 0);
+
+    // With the real counts, a budget far above every rate passes on the upper bound.
+    let generous = GateSettings {
+        budget_per_hour: Some(1e6),
+        ..GateSettings::default()
+    };
+    let report = gate(candidate, baseline, &generous).unwrap();
+    for c in report
+        .checks
+        .iter()
+        .filter(|c| c.metric == Metric::FalseAlarmBudget)
+    {
+        assert_eq!(c.verdict, Verdict::Pass, "{}", c.note);
+        assert!(c.rate_bounds_per_hour.unwrap()[1] < 1e6);
+    }
 }

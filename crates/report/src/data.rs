@@ -1,7 +1,7 @@
 //! The numbers behind the plots, taken from the tallies the way the harness's own files take
 //! them, so a curve in the report is the same curve as in `roc.csv`.
 
-use echobench_harness::runner::{DetectorTally, Tallies};
+use echobench_harness::runner::{DetectorTally, Tallies, VariantTally};
 use echobench_harness::summary::{Estimate, CONFIDENCE};
 
 /// Nanoseconds per hour: tallies keep exposure in integer nanoseconds.
@@ -17,6 +17,11 @@ pub struct GridRocPoint {
     pub pd: Option<f64>,
     /// False alarms per hour of noise-only time; `None` without noise-only time.
     pub false_alarms_per_hour: Option<f64>,
+    /// Inside the curve's monotone part: from the highest threshold down to here, neither
+    /// the detected events nor the false alarms ever fell
+    /// (`echobench_stats::event_roc_monotone_len`). Only these points are drawn; below the
+    /// first fall the curve folds back (an alarm that stays on has fewer onsets).
+    pub monotone: bool,
 }
 
 /// The event-level ROC of a detector over its threshold grid, ascending in threshold (so
@@ -26,28 +31,42 @@ pub fn grid_roc(detector: &DetectorTally) -> Vec<GridRocPoint> {
     let events: u64 = detector.variants.iter().map(|v| v.events).sum();
     let exposure_ns: u64 = detector.variants.iter().map(|v| v.exposure_ns).sum();
     let hours = exposure_ns as f64 / NS_PER_HOUR;
+    let counts: Vec<(u64, u64)> = (0..detector.thresholds.len())
+        .map(|g| {
+            let pooled = |per_grid: fn(&VariantTally) -> &Vec<u64>| -> u64 {
+                detector
+                    .variants
+                    .iter()
+                    .map(|v| per_grid(v).get(g).copied().unwrap_or(0))
+                    .sum()
+            };
+            (pooled(|v| &v.detected), pooled(|v| &v.false_alarms))
+        })
+        .collect();
+    // The grid ascends; the monotone run is counted from its top.
+    let descending: Vec<(u64, u64)> = counts.iter().rev().copied().collect();
+    let first_monotone = counts.len() - echobench_stats::event_roc_monotone_len(&descending);
     detector
         .thresholds
         .iter()
+        .zip(&counts)
         .enumerate()
-        .map(|(g, &threshold)| {
-            let detected: u64 = detector
-                .variants
-                .iter()
-                .map(|v| v.detected.get(g).copied().unwrap_or(0))
-                .sum();
-            let false_alarms: u64 = detector
-                .variants
-                .iter()
-                .map(|v| v.false_alarms.get(g).copied().unwrap_or(0))
-                .sum();
-            GridRocPoint {
+        .map(
+            |(g, (&threshold, &(detected, false_alarms)))| GridRocPoint {
                 threshold,
                 pd: (events > 0).then(|| detected as f64 / events as f64),
                 false_alarms_per_hour: (hours > 0.0).then(|| false_alarms as f64 / hours),
-            }
-        })
+                monotone: g >= first_monotone,
+            },
+        )
         .collect()
+}
+
+/// The lowest threshold of a curve's monotone part when the curve folds back below it, i.e.
+/// where the drawn curve is cut; `None` when every grid point is drawn.
+pub fn fold_back_cut(points: &[GridRocPoint]) -> Option<f64> {
+    let first = points.iter().position(|p| p.monotone)?;
+    (first > 0).then(|| points[first].threshold)
 }
 
 /// The maximum score of every test trial, split into target-scene trials (positives) and

@@ -2,19 +2,26 @@
 
 use crate::html::Section;
 use crate::plot::escape;
-use echobench_harness::gate::{GateReport, Verdict};
+use echobench_harness::gate::{ComparisonKey, GateReport, Verdict};
 use std::fmt::Write as _;
 
 /// A section with the gate's verdict: one line per detector, then every failing check with its
 /// counts, ratio, bound and p-value, then the notes.
 pub fn gate_section(report: &GateReport) -> Section {
     let mut html = String::new();
-    let verdict = if report.passed() {
-        "<p class=\"good\">Gate: pass — no regression against the baseline.</p>".to_string()
-    } else {
+    let inconclusive = report.inconclusive().count();
+    let verdict = if report.regressions().next().is_some() {
         format!(
             "<p class=\"bad\">Gate: REGRESSION — {} failing check(s).</p>",
             report.regressions().count()
+        )
+    } else if inconclusive == 0 {
+        "<p class=\"good\">Gate: pass — no regression against the baseline.</p>".to_string()
+    } else {
+        format!(
+            "<p class=\"{}\">Gate: {} — no regression; {inconclusive} budget check(s) cannot tell yet (too little noise-only time).</p>",
+            if report.passed() { "good" } else { "bad" },
+            escape(&report.verdict_words())
         )
     };
     html.push_str(&verdict);
@@ -35,14 +42,14 @@ pub fn gate_section(report: &GateReport) -> Section {
         "<table><thead><tr><th>detector</th><th class=\"num\">checks tested</th>\
          <th class=\"num\">regressions</th><th class=\"num\">smallest p (Holm)</th><th>verdict</th></tr></thead><tbody>",
     );
-    let mut detectors: Vec<&str> = Vec::new();
+    let mut detectors: Vec<&ComparisonKey> = Vec::new();
     for c in &report.checks {
-        if !detectors.contains(&c.detector.as_str()) {
-            detectors.push(&c.detector);
+        if !detectors.contains(&&c.key) {
+            detectors.push(&c.key);
         }
     }
     for d in &detectors {
-        let mine: Vec<_> = report.checks.iter().filter(|c| c.detector == *d).collect();
+        let mine: Vec<_> = report.checks.iter().filter(|c| c.key == **d).collect();
         let tested = mine
             .iter()
             .filter(|c| c.verdict != Verdict::NotTested)
@@ -55,15 +62,21 @@ pub fn gate_section(report: &GateReport) -> Section {
             .iter()
             .filter_map(|c| c.adjusted_p)
             .fold(None, |m: Option<f64>, p| Some(m.map_or(p, |m| m.min(p))));
+        let open = mine
+            .iter()
+            .filter(|c| c.verdict == Verdict::Inconclusive)
+            .count();
         let verdict = if failed > 0 {
             "<span class=\"bad\">REGRESSION</span>"
+        } else if open > 0 {
+            "<span>pass; budget inconclusive</span>"
         } else {
             "<span class=\"good\">pass</span>"
         };
         let _ = write!(
             html,
             "<tr><td>{}</td><td class=\"num\">{tested}</td><td class=\"num\">{failed}</td><td class=\"num\">{}</td><td>{verdict}</td></tr>",
-            escape(d),
+            escape(&d.label()),
             p_text(smallest)
         );
     }
@@ -83,7 +96,7 @@ pub fn gate_section(report: &GateReport) -> Section {
                 html,
                 "<tr><td>{}</td><td>{}</td><td class=\"num\">{}</td><td>{}</td><td>{}</td><td>{}</td>\
                  <td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
-                escape(&c.detector),
+                escape(&c.key.label()),
                 escape(c.metric.name()),
                 c.target_per_hour,
                 escape(&c.group),
@@ -96,6 +109,16 @@ pub fn gate_section(report: &GateReport) -> Section {
             );
         }
         html.push_str("</tbody></table>");
+    }
+    for c in report.inconclusive() {
+        let _ = write!(
+            html,
+            "<p class=\"note\">Inconclusive — {}, {} at {}/h: {}</p>",
+            escape(&c.key.label()),
+            escape(c.metric.name()),
+            c.target_per_hour,
+            escape(&c.note)
+        );
     }
     html.push_str(
         "<p class=\"note\">Every check with its counts is in the run's <code>gate.md</code>, \

@@ -632,15 +632,40 @@ fn rate_axis(label: &str, values: impl Iterator<Item = f64>) -> Axis {
     Axis::log(label, low, high, true)
 }
 
+/// An event-level curve, drawn only over its monotone part ([`GridRocPoint::monotone`]):
+/// below the first threshold at which the detected events or the false alarms fall, the
+/// curve folds back towards the origin and "up and to the left is better" stops being true.
 fn grid_series(points: &[GridRocPoint], style: Style, name: String) -> Series {
     Series {
         name,
         style,
         line: points
             .iter()
+            .filter(|p| p.monotone)
             .filter_map(|p| Some((p.false_alarms_per_hour?, p.pd?)))
             .collect(),
         markers: Vec::new(),
+    }
+}
+
+/// The caption's sentence on the fold-back rule, naming each cut curve and where it is cut.
+fn fold_back_words<'a>(curves: impl Iterator<Item = (&'a str, &'a [GridRocPoint])>) -> String {
+    let cuts: Vec<String> = curves
+        .filter_map(|(label, points)| {
+            data::fold_back_cut(points).map(|t| {
+                format!(
+                    "<strong>{}</strong> below threshold {}",
+                    escape(label),
+                    format_number(t, 4)
+                )
+            })
+        })
+        .collect();
+    let rule = "Curves are drawn only from the highest threshold down to where the detected events or the false alarms first fall as the threshold is lowered: below that the alarm tends to stay on, fewer onsets count, both Pd and the rate drop, and the curve would fold back towards the origin, where up and to the left no longer means better. <code>roc.csv</code> keeps every threshold.";
+    if cuts.is_empty() {
+        format!("{rule} No curve folds back in this run.")
+    } else {
+        format!("{rule} Cut here: {}.", cuts.join(", "))
     }
 }
 
@@ -676,6 +701,7 @@ fn event_roc(page: &mut Page, run: &RunFolder) -> String {
         curves
             .iter()
             .flatten()
+            .filter(|p| p.monotone)
             .filter_map(|p| p.false_alarms_per_hour)
             .chain(targets.iter().copied())
             .chain(run.summary.detectors.iter().flat_map(|d| {
@@ -709,7 +735,14 @@ fn event_roc(page: &mut Page, run: &RunFolder) -> String {
         })
         .collect();
     let caption = format!(
-        "Each curve sweeps one detector's threshold grid; every scene is pooled, as in <code>roc.csv</code>: Pd is detected target events over all target events, the rate is false alarms over all noise-only test time. Markers are the operating points (the thresholds calibrated for each target), with {} intervals on both axes. Dashed vertical lines are the target rates. {}",
+        "Each curve sweeps one detector's threshold grid; every scene is pooled, as in <code>roc.csv</code>: Pd is detected target events over all target events, the rate is false alarms over all noise-only test time. {} Markers are the operating points (the thresholds calibrated for each target), with {} intervals on both axes. Dashed vertical lines are the target rates. {}",
+        fold_back_words(
+            run.summary
+                .detectors
+                .iter()
+                .map(|d| d.label.as_str())
+                .zip(curves.iter().map(Vec::as_slice))
+        ),
         data::confidence_percent(),
         escape(ZERO_NOTE)
     );
@@ -1516,7 +1549,7 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
     }
     let _ = write!(
         out,
-        "<h3>Event-level ROC, this run (solid) against the baseline (dashed)</h3><p class=\"note\">Dashed vertical lines are the target rates. {}</p><div class=\"grid2\">",
+        "<h3>Event-level ROC, this run (solid) against the baseline (dashed)</h3><p class=\"note\">Dashed vertical lines are the target rates. Each curve is drawn down to the threshold where its detected events or false alarms first fall (below it the curve folds back; see the event-level ROC above). {}</p><div class=\"grid2\">",
         escape(ZERO_NOTE)
     );
     for (i, d, _, j) in &pairs {
@@ -1526,6 +1559,7 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
             "false alarms per hour (log scale)",
             ours.iter()
                 .chain(&theirs)
+                .filter(|p| p.monotone)
                 .filter_map(|p| p.false_alarms_per_hour)
                 .chain(targets.iter().copied()),
         );
@@ -1555,9 +1589,21 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
                 label: format!("{}/h", format_number(t, 3)),
             })
             .collect();
+        let cuts: Vec<String> = [("this run", &ours), ("baseline", &theirs)]
+            .iter()
+            .filter_map(|(which, points)| {
+                data::fold_back_cut(points)
+                    .map(|t| format!("{which} cut below threshold {}", format_number(t, 4)))
+            })
+            .collect();
         let caption = format!(
-            "<strong>{}</strong>: markers are this run's operating points.",
-            escape(&d.label)
+            "<strong>{}</strong>: markers are this run's operating points.{}",
+            escape(&d.label),
+            if cuts.is_empty() {
+                String::new()
+            } else {
+                format!(" Folds back, not drawn: {}.", cuts.join("; "))
+            }
         );
         out.push_str(&page.figure(&render_chart(&chart), &caption));
     }

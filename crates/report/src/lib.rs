@@ -29,7 +29,7 @@ mod html;
 pub mod plot;
 mod run_folder;
 
-pub use data::{grid_roc, trial_roc, GridRocPoint, TrialRoc};
+pub use data::{fold_back_cut, grid_roc, trial_roc, GridRocPoint, TrialRoc};
 pub use gate_section::gate_section;
 pub use html::{render_html, Section};
 pub use run_folder::{ReportError, RunFolder};
