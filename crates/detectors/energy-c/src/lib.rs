@@ -71,8 +71,10 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
+    ParamSpec, Params,
 };
+use echobench_core::doppler::Framing;
 use echobench_core::{Channels, Score, StreamInfo};
 use std::ffi::{c_int, c_void};
 
@@ -149,6 +151,28 @@ impl DetectorPlugin for EnergyCPlugin {
         Ok(Cost {
             state_bytes: firmware_facts().state_bytes,
             ops_per_sample,
+        })
+    }
+
+    /// No band limit: the frame energy takes every frequency from DC to Nyquist.
+    /// (Its frame stays in samples: the firmware's buffer is sized in samples.)
+    fn doppler_bands(&self, params: &Params, info: &StreamInfo) -> Vec<DopplerBand> {
+        let Ok(config) = Config::from_params(params, info) else {
+            return Vec::new();
+        };
+        vec![DopplerBand {
+            role: BandRole::Motion,
+            label: "full band",
+            low_hz: 0.0,
+            high_hz: config.sample_rate_hz / 2.0,
+        }]
+    }
+
+    fn framing(&self, params: &Params, info: &StreamInfo) -> Option<Framing> {
+        let config = Config::from_params(params, info).ok()?;
+        Some(Framing {
+            frame_len: config.frame_len as usize,
+            hop: config.hop as usize,
         })
     }
 }
