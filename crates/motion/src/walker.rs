@@ -754,6 +754,24 @@ mod tests {
     }
 
     #[test]
+    fn the_slowest_walker_of_interest_stays_above_the_moving_level_while_walking() {
+        // 0.3 m/s (a frail walker with a frame, the reason for the 0.1 m/s
+        // level): the torso's speed swings with the gait but stays well above it.
+        for height_m in [1.5, 1.8] {
+            let gait = Gait::new(height_m, 0.3).expect("valid gait");
+            let path = Path::straight([5.0, 0.0], PI, 0.3, 0.0, 30.0, vec![]);
+            let mut walker = Walker::new(gait, path, 1.0).expect("valid walker");
+            let slowest = (0..10_000)
+                .map(|i| walker.motion_speed_mps(1.0 + i as f64 * 1e-3))
+                .fold(f64::INFINITY, f64::min);
+            assert!(
+                slowest > 1.5 * crate::MOVING_SPEED_MPS,
+                "{height_m}: {slowest}"
+            );
+        }
+    }
+
+    #[test]
     fn no_echo_exceeds_the_speed_bound() {
         // Slow walkers swing their feet fastest relative to their speed (toe
         // ≈ 7 v at 0.45 m/s against ≈ 4.2 v at 1.4 m/s), so the bound is sampled
