@@ -241,7 +241,19 @@ impl Walker {
         let lever = 1.0 / COM_HEIGHT_FRACTION;
         let residual =
             self.residual.max_speed_mps(lever) + blend * self.residual.max_displacement_m(lever);
-        self.max_speed_mps = SPEED_MARGIN * (easing_peak + residual);
+        // A walker that never stops nor stands moves at the walking peak alone
+        // (and keeps the internal rate it had before walkers could stand).
+        let walks_throughout = self.easings.is_empty()
+            && !self
+                .path
+                .walking_spans(f64::NEG_INFINITY, f64::INFINITY)
+                .is_empty();
+        self.max_speed_mps = SPEED_MARGIN
+            * if walks_throughout {
+                walking_peak
+            } else {
+                easing_peak + residual
+            };
 
         // Accelerations by differences of the velocities; a knot of the C¹
         // gait curves shows as a jump between neighbouring samples, a smooth
