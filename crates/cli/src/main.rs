@@ -143,10 +143,10 @@ enum Command {
     },
     /// List the built-in detectors: parameters with units, defaults and ranges; state memory and cost.
     Detectors {
-        /// Sample rate the cost figures are computed for, Hz.
+        /// Sample rate the costs, bands and frames are computed for, Hz.
         #[arg(long, default_value_t = 2000.0)]
         sample_rate_hz: f64,
-        /// Carrier the speed-derived bands are computed for, Hz.
+        /// Carrier the bands and frames given as speeds are converted through, Hz.
         #[arg(long, default_value_t = 24.125e9)]
         carrier_hz: f64,
     },
@@ -730,12 +730,31 @@ impl ProgressDisplay {
 
 fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
     use echobench_core::detector::{ParamKind, Params};
+    use echobench_core::doppler::{doppler_hz, speed_mps, wavelength_m};
+    if !(sample_rate_hz.is_finite() && sample_rate_hz > 0.0) {
+        anyhow::bail!("--sample-rate-hz must be a positive number, got {sample_rate_hz}");
+    }
+    if !(carrier_hz.is_finite() && carrier_hz > 0.0) {
+        anyhow::bail!("--carrier-hz must be a positive number, got {carrier_hz}");
+    }
     let info = echobench_core::StreamInfo {
         sample_rate_hz,
         channels: echobench_core::Channels::Real,
         adc_bits: 12,
         carrier_hz,
     };
+    let nyquist_hz = sample_rate_hz / 2.0;
+    println!(
+        "At a {:.3} GHz carrier (λ = {:.2} mm; 1 m/s is {:.1} Hz of Doppler) and {} Hz real input \
+         (Nyquist {} Hz = {:.2} m/s):",
+        carrier_hz / 1e9,
+        wavelength_m(carrier_hz) * 1e3,
+        doppler_hz(1.0, carrier_hz),
+        sample_rate_hz,
+        nyquist_hz,
+        speed_mps(nyquist_hz, carrier_hz)
+    );
+    println!();
     for plugin in echobench_detectors::with_external(false) {
         let defaults = Params::defaults(plugin.params());
         println!("{}: {}", plugin.id(), plugin.about());
@@ -745,6 +764,39 @@ fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
                 sample_rate_hz, cost.state_bytes, cost.ops_per_sample
             ),
             Err(e) => println!("  cost at defaults: not available at this stream ({e})"),
+        }
+        let bands = plugin.doppler_bands(&defaults, &info);
+        if bands.is_empty() {
+            println!("  bands at defaults: none declared at this stream");
+        }
+        for band in &bands {
+            let at_nyquist = if band.high_hz >= nyquist_hz {
+                " (top at Nyquist)"
+            } else {
+                ""
+            };
+            println!(
+                "  {} band `{}` at defaults: {:.1}–{:.1} Hz = {:.2}–{:.2} m/s{}",
+                band.role,
+                band.label,
+                band.low_hz,
+                band.high_hz,
+                speed_mps(band.low_hz, carrier_hz),
+                speed_mps(band.high_hz, carrier_hz),
+                at_nyquist
+            );
+        }
+        if let Some(framing) = plugin.framing(&defaults, &info) {
+            println!(
+                "  frame at defaults: {} samples = {:.4} s, velocity resolution λ/(2T) = {:.3} m/s \
+                 ({:.2} Hz bins); hop {} samples = {:.4} s",
+                framing.frame_len,
+                framing.frame_s(sample_rate_hz),
+                framing.resolution_mps(&info),
+                sample_rate_hz / framing.frame_len as f64,
+                framing.hop,
+                framing.hop as f64 / sample_rate_hz
+            );
         }
         for spec in plugin.params() {
             let unit = if spec.unit.is_empty() {
