@@ -389,3 +389,34 @@ detectors:
         .all(|f| f["message"].as_str().unwrap().contains("out of cheese")));
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// `detectors --carrier-hz` shows the same m/s bands as different hertz at each carrier:
+/// 0.3–4 m/s is 4.9–65.4 Hz at 2.45 GHz and 48.3–643.8 Hz at 24.125 GHz (f = 2v·f_c/c;
+/// physics.md §1: 16.345 and 160.945 Hz per m/s), and a 0.25 m/s resolution takes
+/// λ/(2Δv) = 0.245 s (490 samples at 2 kHz) and 0.0249 s (50 samples).
+#[test]
+fn detectors_prints_bands_and_frames_in_both_units_at_a_carrier() {
+    for (carrier, band, frame) in [
+        ("2.45e9", "4.9–65.4 Hz = 0.30–4.00 m/s", "490 samples"),
+        ("24.125e9", "48.3–643.8 Hz = 0.30–4.00 m/s", "50 samples"),
+    ] {
+        let result = Command::new(binary())
+            .args(["detectors", "--carrier-hz", carrier, "--sample-rate-hz", "2000"])
+            .output()
+            .unwrap();
+        assert!(result.status.success());
+        let text = String::from_utf8_lossy(&result.stdout);
+        let band_ratio = text
+            .split("\n\n")
+            .find(|block| block.starts_with("band-ratio: "))
+            .expect("a band-ratio block");
+        assert!(
+            band_ratio.contains(&format!("motion band `motion` at defaults: {band}")),
+            "{band_ratio}"
+        );
+        assert!(
+            band_ratio.contains(&format!("frame at defaults: {frame}")),
+            "{band_ratio}"
+        );
+    }
+}
