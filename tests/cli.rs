@@ -401,7 +401,13 @@ fn detectors_prints_bands_and_frames_in_both_units_at_a_carrier() {
         ("24.125e9", "48.3–643.8 Hz = 0.30–4.00 m/s", "50 samples"),
     ] {
         let result = Command::new(binary())
-            .args(["detectors", "--carrier-hz", carrier, "--sample-rate-hz", "2000"])
+            .args([
+                "detectors",
+                "--carrier-hz",
+                carrier,
+                "--sample-rate-hz",
+                "2000",
+            ])
             .output()
             .unwrap();
         assert!(result.status.success());
