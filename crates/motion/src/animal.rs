@@ -240,11 +240,15 @@ impl MotionModel for Animal {
         self.params.path.walking_intervals(duration_s)
     }
 
-    /// The body's speed along its path (the legs swing only while it walks).
+    /// The body's speed along its path (the legs swing only while it walks),
+    /// from entry to leaving, both included.
     fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
-        let state = self.params.path.state(t_s);
-        if state.presence > 0.0 {
-            state.speed_mps
+        let path = &self.params.path;
+        let leave = path.leave_s();
+        let walking = path.is_walking(t_s)
+            || (t_s == leave && path.is_walking(leave - 1e-9 * leave.abs().max(1.0)));
+        if walking {
+            path.speed_mps()
         } else {
             0.0
         }

@@ -33,7 +33,7 @@
 //!   at that place (see the scene documentation).
 //!
 //! A seated person is given no postural sway: sitting sways less than
-//! standing (García-Massó et al., Percept. Mot. Skills 121(1), 2015), and
+//! standing (García-Massó et al., Percept. Mot. Skills 121, 2015), and
 //! breathing and heartbeat are its residual motion here.
 //!
 //! The random draws (initial breathing and heartbeat phases, then the fidget

@@ -32,7 +32,9 @@
 //! level: for the smooth speed curves of the models (a walker's eased stop
 //! and start, a door's swing, a fan's spin-up) that is within a few
 //! milliseconds of the rendered crossing, well inside one 50 ms decision
-//! frame (a test checks it for every actor kind). Coverage edges come from
+//! frame (a test checks it for every actor kind). A speed that steps (an
+//! ideal linear stage, an animal's stop) is located to within
+//! 1/[`TRUTH_RATE_HZ`]. Coverage edges come from
 //! the amplitude-weighted centroid of the echoes and are located to within
 //! 1/[`TRUTH_RATE_HZ`].
 //!

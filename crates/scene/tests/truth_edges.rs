@@ -2,7 +2,8 @@
 //!
 //! For every actor kind whose motion starts and stops (a walker with two
 //! pauses, a door opening and closing, a fan switched on and off, a seated
-//! breathing person who stands up and a walker who then walks away), the
+//! breathing person who stands up and a walker who then walks away, a cat
+//! that pauses, a plate on a linear stage, a plant swaying in gusts), the
 //! truth of a trial is computed as the runner does ([`trial_truth`]), and the
 //! same actor is rendered again from a fresh model ([`build_model`], the
 //! models the synthesizer renders). The rendered speed is measured
@@ -16,7 +17,7 @@
 use echobench_core::Interval;
 use echobench_motion::door::DOOR_EDGE_POINTS;
 use echobench_motion::walker::TORSO_ECHO;
-use echobench_scene::truth::MOVING_SPEED_MPS;
+use echobench_scene::truth::{MOVING_SPEED_MPS, TRUTH_RATE_HZ};
 use echobench_scene::{build_model, load_scene_text, radar_geometry, trial_truth, SceneSpec};
 use echobench_scene::{StreamKey, Truth};
 
@@ -298,4 +299,61 @@ fn seated_breather_stands_up_and_walks_away() {
         "{seated:?}"
     );
     assert_eq!(still("leaver"), vec![(7.0, leaver[0])]);
+}
+
+#[test]
+fn animal_reflector_and_swaying_plant_edges_follow_their_rendered_speed() {
+    // The other kinds: a cat that stops and goes on (its body stops as its
+    // path does), a plate on a linear stage (an ideal stage: the speed steps),
+    // and a plant swaying in gusts faster than the moving level (its tip
+    // crosses the level at random times, each one a truth edge).
+    let scene = scene(
+        "others",
+        12.0,
+        "  - kind: animal
+    id: cat
+    target: true
+    path:
+      start_m: [2, -2]
+      heading_deg: 90
+      speed_mps: 0.6
+      enter_s: 1
+      leave_s: 10
+      pauses:
+        - {at_s: 4, duration_s: 2}
+  - kind: reflector
+    id: plate
+    target: true
+    position_m: [6, 0, 1.2]
+    speed_mps: 0.5
+    move_start_s: 2
+    move_stop_s: 7
+  - kind: sway
+    id: plant
+    target: true
+    pivot_m: [3, 1, 0]
+    arm_length_m: 1.2
+    natural_hz: 1.0
+    rms_displacement_m: 0.05
+",
+    );
+    let cat = check_edges(&scene, "cat", Probe::Echo(0));
+    assert_eq!(cat.len(), 4, "{cat:?}");
+    // Its speed steps at the path's stop and go: located to within one truth sample.
+    for (edge, nominal) in cat.iter().zip([1.0, 4.0, 6.0, 10.0]) {
+        assert!((edge - nominal).abs() <= 1.0 / TRUTH_RATE_HZ, "{cat:?}");
+    }
+    let plate = check_edges(&scene, "plate", Probe::Echo(0));
+    assert_eq!(plate.len(), 2, "{plate:?}");
+    // The tip (lever 1) is the last of the plant's three points.
+    let plant = check_edges(&scene, "plant", Probe::Echo(2));
+    assert!(plant.len() > 10, "{plant:?}");
+    // A cat that stands still is present, not moving; a plate or a plant is not a body.
+    let truth = trial_truth(&scene, &StreamKey::new(3, scene.name.clone(), 0)).unwrap();
+    let still: Vec<&str> = truth
+        .still_presence
+        .iter()
+        .map(|e| e.actor_id.as_str())
+        .collect();
+    assert_eq!(still, vec!["cat"]);
 }
