@@ -374,8 +374,12 @@ pub fn resolve_frame(
             ))
         }
     };
+    // Rounding applies to a frame computed from s or m/s; asked for on a frame given in
+    // samples it would be ignored, so it is refused like the other foreign parameters.
+    let pow2_given =
+        (params.is_given("frame_pow2") && params.flag("frame_pow2")).then_some("frame_pow2");
     let foreign: &[Option<&str>] = match units {
-        FrameUnits::Samples => &[seconds_given, mps_given, fraction_given],
+        FrameUnits::Samples => &[seconds_given, mps_given, fraction_given, pow2_given],
         FrameUnits::Seconds => &[samples_given, mps_given],
         FrameUnits::Mps => &[samples_given, seconds_given],
     };
@@ -821,6 +825,12 @@ mod tests {
         ])
         .unwrap_err();
         assert_eq!(e.param, "hop_fraction");
+        let e = frame(&[
+            ("frame_len", ParamValue::Integer(256)),
+            ("frame_pow2", ParamValue::Flag(true)),
+        ])
+        .unwrap_err();
+        assert_eq!(e.param, "frame_pow2");
         let e = frame(&[("resolution_mps", ParamValue::Real(0.001))]).unwrap_err();
         assert!(e.message.contains("expected 8 to 65536"), "{e}");
     }
