@@ -456,7 +456,8 @@ fn run_suite(
 /// The tallies of a run or baseline folder, which must be complete and of one run (or of
 /// a tallies.json file given directly).
 fn read_tallies(path: &Path) -> Result<echobench_harness::runner::Tallies> {
-    let file = if path.is_dir() {
+    // A folder, or nothing there: a missing folder is named as such.
+    let file = if path.is_dir() || !path.exists() {
         echobench_run_folder::verify(path, &["tallies.json"])?;
         path.join("tallies.json")
     } else {
@@ -586,7 +587,7 @@ fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Resu
 }
 
 fn save_baseline(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
-    if !run.is_dir() {
+    if run.is_file() {
         bail!("{}: not a run folder", run.display());
     }
     let tallies = read_tallies(run)?;
@@ -642,7 +643,7 @@ fn run_merge(
     let staging = echobench_run_folder::Staging::begin(out, replace)?;
     let mut parts = Vec::new();
     for run in runs {
-        if !run.is_dir() {
+        if run.is_file() {
             bail!("{}: not a shard's run folder", run.display());
         }
         parts.push(read_tallies(run)?);

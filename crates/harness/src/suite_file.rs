@@ -1070,7 +1070,11 @@ fn read_recording(
         }
     };
     for warning in capture.warnings() {
-        reader.warn(samples_at, &format!("{path}.samples"), warning.to_string());
+        reader.warn(
+            samples_at,
+            &format!("{path}.samples"),
+            format!("{}: {warning}", file.display()),
+        );
     }
     if capture.channels() != context.channels {
         reader.error(
@@ -1140,7 +1144,9 @@ fn read_recording(
     ) {
         Ok(windows) => windows,
         Err(e) => {
-            reader.error(samples_at, &format!("{path}.samples"), e.to_string());
+            // Named with the file: the same recording may be listed by several entries.
+            let message = format!("{}: {e}", file.display());
+            reader.error(samples_at, &format!("{path}.samples"), message);
             return None;
         }
     };

@@ -164,21 +164,35 @@ fn recordings(suite: &Suite) -> Vec<(PathBuf, &CaptureSource)> {
     out
 }
 
-/// Reads one recording through in blocks (constant memory): a sample that is not a
-/// number, a data chunk cut short or empty, or a read failure, each naming the file.
+/// What reading a recording through found: its frames, and warnings naming the file (a
+/// data chunk cut short is read as far as it goes, as a run reads it).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Scanned {
+    /// Whole frames read.
+    pub frames: u64,
+    /// Each warning, naming the file.
+    pub warnings: Vec<String>,
+}
+
+/// Reads one recording through in blocks (constant memory). A data chunk cut short is a
+/// warning naming the file; a sample that is not a number, an empty data chunk, or a read
+/// failure is a problem naming the file.
 ///
 /// # Errors
-/// The problem, as a sentence naming the file.
-pub fn scan_recording(path: &Path, capture: &CaptureSource) -> Result<u64, String> {
+/// The problems, as sentences naming the file.
+pub fn scan_recording(path: &Path, capture: &CaptureSource) -> Result<Scanned, String> {
     let mut reader = echobench_capture::CaptureReader::open(path, &capture.format, capture.adc)
         .map_err(|e| e.to_string())?;
+    let warnings = reader
+        .warnings()
+        .iter()
+        .map(|w| format!("{}: {w}", path.display()))
+        .collect();
     let mut problems = Vec::new();
-    for warning in reader.warnings() {
-        problems.push(format!("{}: {warning}", path.display()));
-    }
     if reader.frames() == 0 {
         problems.push(format!(
-            "{}: the recording holds no samples",
+            "{}: the recording holds no samples (its data chunk is empty or cut before the \
+             first frame)",
             path.display()
         ));
     }
@@ -196,15 +210,16 @@ pub fn scan_recording(path: &Path, capture: &CaptureSource) -> Result<u64, Strin
         }
     }
     if problems.is_empty() {
-        Ok(frames)
+        Ok(Scanned { frames, warnings })
     } else {
         Err(problems.join("; "))
     }
 }
 
 /// Everything that keeps `run` from starting on `suite`: caps exceeded, unreadable or bad
-/// recordings, and external programs without `allow_exec`. `check` calls it with
-/// `allow_exec` true and reports [`needs_exec`] separately.
+/// recordings, and external programs without `allow_exec`, each as a sentence. `check`
+/// calls it with `allow_exec` true and reports [`needs_exec`] as a note. (A recording cut
+/// short is only a warning, which the suite loader already gives with the file's name.)
 #[must_use]
 pub fn door_problems(suite: &Suite, allow_exec: bool) -> Vec<String> {
     let mut problems = Workload::of(suite).problems();
