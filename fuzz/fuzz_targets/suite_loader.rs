@@ -9,6 +9,7 @@ fuzz_target!(|data: &[u8]| {
         let plugins = echobench_detectors::with_external(true);
         let folder = concat!(env!("CARGO_MANIFEST_DIR"), "/../scenarios");
         let source = echobench_harness::suite_file::FolderSource::new(folder);
-        let _ = echobench_harness::suite_file::load_suite_text("fuzz.yaml", text, &source, &plugins);
+        let _ =
+            echobench_harness::suite_file::load_suite_text("fuzz.yaml", text, &source, &plugins);
     }
 });
