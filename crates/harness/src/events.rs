@@ -48,6 +48,30 @@
 //! the noise-only time, `trial duration − |∪ W_i ∩ [0, duration]|`; the
 //! false-alarm rate is false alarms / exposure (detection.md §5 item 4).
 //!
+//! **Present, not moving.** Intervals in which a person is inside the zone
+//! but still (seated, standing; see the scene crate's truth) are *ignored*:
+//! an onset there is neither a detection nor a false alarm (it still starts a
+//! hold), and their time is not exposure. Intrusion scoring has nothing to say
+//! about them; presence scoring does.
+//!
+//! **A stuck alarm is re-counted** when the logic asks for it
+//! ([`AlarmLogic::recounting_stuck_alarms`], which the runner always uses): a
+//! condition that stays true on noise frames (outside every window and ignored
+//! interval) counts another false alarm each time a whole hold has run out
+//! since the later of the last counted alarm and the last frame on which it
+//! was on inside a window or ignored interval. So a detector that never
+//! switches off is charged one false alarm per hold period instead of one in
+//! all, while an alarm that outlasts its event's window by less than a hold
+//! (a detector with a long integration lets go late) is not charged. Inside a
+//! window a re-count is nothing (a detection still needs a rising edge there).
+//! The plain logic of detection.md §5 (and its worked examples) has no
+//! re-counts.
+//!
+//! **False-on time** is the time the condition holds on noise frames (outside
+//! windows and ignored intervals): each such frame adds the time since the
+//! previous frame (since 0 for the first), in integer nanoseconds so that the
+//! grid scorer's sums are exact.
+//!
 //! # Design decision: one pass serves the whole threshold grid
 //!
 //! The ROC sweep scores every trial at ~100 thresholds. The M-of-N condition
@@ -158,6 +182,7 @@ impl MOfN {
 pub struct AlarmLogic {
     hold_s: f64,
     m_of_n: MOfN,
+    recount_stuck: bool,
 }
 
 impl AlarmLogic {
@@ -169,7 +194,21 @@ impl AlarmLogic {
         Ok(AlarmLogic {
             hold_s: check_non_negative("hold_s", hold_s)?,
             m_of_n,
+            recount_stuck: false,
         })
+    }
+
+    /// The same logic, charging a condition that stays on outside every window one
+    /// false alarm per hold period (see the module doc).
+    #[must_use]
+    pub fn recounting_stuck_alarms(mut self) -> Self {
+        self.recount_stuck = true;
+        self
+    }
+
+    /// Whether stuck alarms are re-counted.
+    pub fn recounts_stuck_alarms(&self) -> bool {
+        self.recount_stuck
     }
 
     /// Hold (refractory) time after a counted alarm, seconds.
@@ -231,6 +270,7 @@ pub struct MatchedEvent {
 #[derive(Debug, Clone, PartialEq)]
 pub struct TrialTruth {
     events: Vec<MatchedEvent>,
+    ignored: Vec<Interval>,
     duration_s: f64,
     exposure_s: f64,
 }
@@ -286,9 +326,48 @@ impl TrialTruth {
             .sum();
         Ok(TrialTruth {
             events,
+            ignored: Vec::new(),
             duration_s,
             exposure_s: (duration_s - covered_s).max(0.0),
         })
+    }
+
+    /// The same truth with intervals in which a person is present but not moving:
+    /// alarms there are neither detections nor false alarms, and their time is not
+    /// exposure (see the module doc).
+    #[must_use]
+    pub fn ignoring(mut self, still: &[Interval]) -> Self {
+        self.ignored = merge_intervals(still.to_vec());
+        let union = merge_intervals(
+            self.events
+                .iter()
+                .map(|e| e.window)
+                .chain(self.ignored.iter().copied())
+                .collect(),
+        );
+        let covered_s: f64 = union
+            .iter()
+            .map(|w| (w.end_s().min(self.duration_s) - w.start_s().max(0.0)).max(0.0))
+            .sum();
+        self.exposure_s = (self.duration_s - covered_s).max(0.0);
+        self
+    }
+
+    /// The ignored (present, not moving) intervals, merged and in time order.
+    pub fn ignored(&self) -> &[Interval] {
+        &self.ignored
+    }
+
+    /// Whether `t_s` lies in an ignored interval.
+    pub fn is_ignored(&self, t_s: f64) -> bool {
+        let index = self.ignored.partition_point(|w| w.end_s() < t_s);
+        self.ignored.get(index).is_some_and(|w| w.contains(t_s))
+    }
+
+    /// Whether a frame at `t_s` is noise-only time: outside every window and every
+    /// ignored interval.
+    pub fn is_noise_time(&self, t_s: f64) -> bool {
+        self.event_at(t_s).is_none() && !self.is_ignored(t_s)
     }
 
     /// The matched events in time order.
@@ -330,6 +409,12 @@ pub struct TrialEventScore {
     pub retriggers: usize,
     /// Onsets suppressed by the hold time.
     pub suppressed_onsets: usize,
+    /// Counted onsets inside ignored (present, not moving) intervals.
+    pub ignored_onsets: usize,
+    /// Of the false alarms, those charged to a stuck condition (re-counts).
+    pub stuck_recounts: usize,
+    /// Time the alarm condition held on noise frames, ns.
+    pub false_on_ns: u64,
     /// Noise-only time of the trial, seconds.
     pub exposure_s: f64,
 }
@@ -342,6 +427,9 @@ impl TrialEventScore {
             false_alarm_times_s: Vec::new(),
             retriggers: 0,
             suppressed_onsets: 0,
+            ignored_onsets: 0,
+            stuck_recounts: 0,
+            false_on_ns: 0,
             exposure_s: truth.exposure_s,
         }
     }
@@ -359,8 +447,15 @@ impl TrialEventScore {
                     self.retriggers += 1;
                 }
             }
+            None if truth.is_ignored(t_s) => self.ignored_onsets += 1,
             None => self.false_alarm_times_s.push(t_s),
         }
+    }
+
+    /// Books a re-count of a stuck condition at `t_s` (a noise frame).
+    fn record_recount(&mut self, t_s: f64) {
+        self.false_alarm_times_s.push(t_s);
+        self.stuck_recounts += 1;
     }
 
     /// Number of matched events.
@@ -428,6 +523,11 @@ pub enum AlarmStep {
         /// Onset time, seconds.
         t_s: f64,
     },
+    /// A condition that stayed on for a whole hold on noise frames, counted again at `t_s`.
+    Recounted {
+        /// Time of the re-count, seconds.
+        t_s: f64,
+    },
 }
 
 fn hold_allows(t_s: f64, last_counted_s: f64, hold_s: f64) -> bool {
@@ -444,12 +544,14 @@ fn hold_allows(t_s: f64, last_counted_s: f64, hold_s: f64) -> bool {
 pub struct AlarmTracker {
     threshold: f64,
     hold_s: f64,
+    recount_stuck: bool,
     m: usize,
     recent: Vec<bool>,
     next_slot: usize,
     true_count: usize,
     condition: bool,
     last_counted_s: f64,
+    last_excused_s: f64,
 }
 
 impl AlarmTracker {
@@ -458,12 +560,14 @@ impl AlarmTracker {
         AlarmTracker {
             threshold,
             hold_s: logic.hold_s,
+            recount_stuck: logic.recount_stuck,
             m: logic.m_of_n.m,
             recent: vec![false; logic.m_of_n.n],
             next_slot: 0,
             true_count: 0,
             condition: false,
             last_counted_s: f64::NEG_INFINITY,
+            last_excused_s: f64::NEG_INFINITY,
         }
     }
 
@@ -474,10 +578,22 @@ impl AlarmTracker {
         self.true_count = 0;
         self.condition = false;
         self.last_counted_s = f64::NEG_INFINITY;
+        self.last_excused_s = f64::NEG_INFINITY;
     }
 
-    /// Feeds one frame.
+    /// Feeds one frame that is not noise-only time (no re-count can happen).
     pub fn push(&mut self, score: Score) -> AlarmStep {
+        self.push_frame(score, false)
+    }
+
+    /// Whether the alarm condition holds after the last frame pushed.
+    pub fn is_on(&self) -> bool {
+        self.condition
+    }
+
+    /// Feeds one frame; `noise_frame` says it lies outside every window and ignored
+    /// interval, where a stuck condition is re-counted (when the logic does that).
+    pub fn push_frame(&mut self, score: Score, noise_frame: bool) -> AlarmStep {
         let decision = score.value >= self.threshold;
         if let Some(slot) = self.recent.get_mut(self.next_slot) {
             let leaving = std::mem::replace(slot, decision);
@@ -487,7 +603,21 @@ impl AlarmTracker {
         let condition = self.true_count >= self.m;
         let rising = condition && !self.condition;
         self.condition = condition;
-        if !rising || !score.t_s.is_finite() {
+        if condition && !noise_frame && score.t_s.is_finite() {
+            self.last_excused_s = score.t_s;
+        }
+        let stuck = condition && !rising && self.recount_stuck && noise_frame;
+        if stuck
+            && score.t_s.is_finite()
+            && hold_allows(
+                score.t_s,
+                self.last_counted_s.max(self.last_excused_s),
+                self.hold_s,
+            )
+        {
+            self.last_counted_s = score.t_s;
+            AlarmStep::Recounted { t_s: score.t_s }
+        } else if !rising || !score.t_s.is_finite() {
             AlarmStep::Quiet
         } else if hold_allows(score.t_s, self.last_counted_s, self.hold_s) {
             self.last_counted_s = score.t_s;
@@ -509,18 +639,31 @@ pub fn score_threshold(
 ) -> TrialEventScore {
     let mut result = TrialEventScore::empty(threshold, truth);
     let mut tracker = AlarmTracker::new(logic, threshold);
+    let mut previous_ns = 0i64;
     for &score in trace {
-        match tracker.push(score) {
+        // Linear searches on purpose: this is the obvious version.
+        let in_window = |t_s: f64| truth.events.iter().position(|e| e.window.contains(t_s));
+        let ignored = truth.ignored.iter().any(|w| w.contains(score.t_s));
+        let noise_frame = score.t_s.is_finite() && in_window(score.t_s).is_none() && !ignored;
+        match tracker.push_frame(score, noise_frame) {
             AlarmStep::Quiet => {}
             AlarmStep::Suppressed { .. } => result.suppressed_onsets += 1,
-            AlarmStep::Counted { t_s } => {
-                // Linear search on purpose: this is the obvious version.
-                let event = truth.events.iter().position(|e| e.window.contains(t_s));
-                result.record_counted(truth, event, t_s);
+            AlarmStep::Counted { t_s } => result.record_counted(truth, in_window(t_s), t_s),
+            AlarmStep::Recounted { t_s } => result.record_recount(t_s),
+        }
+        if let Some(now_ns) = frame_ns(score.t_s) {
+            if tracker.is_on() && noise_frame {
+                result.false_on_ns += now_ns.saturating_sub(previous_ns).max(0) as u64;
             }
+            previous_ns = now_ns;
         }
     }
     result
+}
+
+/// A frame time in whole nanoseconds (`None` when it is not finite).
+fn frame_ns(t_s: f64) -> Option<i64> {
+    t_s.is_finite().then(|| (t_s * 1e9).round() as i64)
 }
 
 /// Orders scores with NaN below everything, `-inf` included: a NaN frame is a
@@ -604,31 +747,63 @@ pub fn score_thresholds(
     order.sort_by(|&a, &b| thresholds[a].total_cmp(&thresholds[b]));
     let sorted: Vec<f64> = order.iter().map(|&i| thresholds[i]).collect();
     let mut last_counted_s = vec![f64::NEG_INFINITY; sorted.len()];
+    // Last frame each threshold's condition was on inside a window or ignored interval.
+    let mut last_excused_s = vec![f64::NEG_INFINITY; sorted.len()];
 
     let mut statistic = AlarmStatistic::new(logic.m_of_n);
     let mut previous = f64::NAN;
+    // False-on time per sorted threshold as a difference array: a noise frame adds its
+    // duration to every threshold the statistic reaches, a prefix of the sorted grid.
+    let mut false_on_ns = vec![0i64; sorted.len() + 1];
+    let mut previous_ns = 0i64;
     for score in trace {
         let current = statistic.push(score.value);
         let before = std::mem::replace(&mut previous, current);
-        // Rising edge for θ in (before, current]; none unless the statistic rose.
-        if current.is_nan() || current <= before || !score.t_s.is_finite() {
-            continue;
-        }
-        let first = if before.is_nan() {
-            0
-        } else {
-            sorted.partition_point(|&theta| theta <= before)
-        };
-        let end = sorted.partition_point(|&theta| theta <= current);
-        if first >= end {
+        if !score.t_s.is_finite() {
             continue;
         }
         let t_s = score.t_s;
         let event = truth.event_at(t_s);
-        for (slot, last_s) in order[first..end]
-            .iter()
-            .zip(&mut last_counted_s[first..end])
-        {
+        let noise_frame = event.is_none() && !truth.is_ignored(t_s);
+        // Thresholds at which the condition holds now: θ <= current, a prefix.
+        let on = if current.is_nan() {
+            0
+        } else {
+            sorted.partition_point(|&theta| theta <= current)
+        };
+        let now_ns = frame_ns(t_s).unwrap_or(previous_ns);
+        if noise_frame && on > 0 {
+            let step = now_ns.saturating_sub(previous_ns).max(0);
+            false_on_ns[0] += step;
+            false_on_ns[on] -= step;
+        }
+        previous_ns = now_ns;
+        // Rising edge for θ in (before, current]; none unless the statistic rose.
+        let first = if current.is_nan() || current <= before {
+            on
+        } else if before.is_nan() {
+            0
+        } else {
+            sorted.partition_point(|&theta| theta <= before)
+        };
+        if logic.recount_stuck && noise_frame {
+            // Conditions that were already on: a stuck alarm re-counted per hold.
+            for ((slot, last_s), excused_s) in order[..first]
+                .iter()
+                .zip(&mut last_counted_s[..first])
+                .zip(&last_excused_s[..first])
+            {
+                if hold_allows(t_s, last_s.max(*excused_s), logic.hold_s) {
+                    *last_s = t_s;
+                    results[*slot].record_recount(t_s);
+                }
+            }
+        } else if !noise_frame {
+            for excused_s in &mut last_excused_s[..on] {
+                *excused_s = t_s;
+            }
+        }
+        for (slot, last_s) in order[first..on].iter().zip(&mut last_counted_s[first..on]) {
             let result = &mut results[*slot];
             if hold_allows(t_s, *last_s, logic.hold_s) {
                 *last_s = t_s;
@@ -637,6 +812,11 @@ pub fn score_thresholds(
                 result.suppressed_onsets += 1;
             }
         }
+    }
+    let mut running = 0i64;
+    for (slot, step) in order.iter().zip(&false_on_ns) {
+        running += step;
+        results[*slot].false_on_ns = running.max(0) as u64;
     }
     results
 }
@@ -1054,11 +1234,22 @@ mod tests {
             })
             .collect();
         let window = MatchWindow::new(rng.uniform(), 3.0 * rng.uniform()).unwrap();
-        let truth = TrialTruth::new(&events, duration_s, window).unwrap();
+        let still: Vec<Interval> = (0..rng.below(3))
+            .map(|_| {
+                let start = rng.uniform() * duration_s;
+                interval(start, start + rng.uniform() * 8.0)
+            })
+            .collect();
+        let truth = TrialTruth::new(&events, duration_s, window)
+            .unwrap()
+            .ignoring(&still);
         let rules = [(1, 1), (2, 3), (3, 3), (1, 4), (3, 5), (4, 7)];
         let (m, n) = rules[rng.below(rules.len() as u64) as usize];
         let hold_s = [0.0, 0.25, 1.0, 3.7][rng.below(4) as usize];
-        let logic = AlarmLogic::new(hold_s, MOfN::new(m, n).unwrap()).unwrap();
+        let mut logic = AlarmLogic::new(hold_s, MOfN::new(m, n).unwrap()).unwrap();
+        if rng.below(2) == 1 {
+            logic = logic.recounting_stuck_alarms();
+        }
         let mut thresholds: Vec<f64> = (0..40)
             .map(|_| {
                 if levels <= 4 {
@@ -1083,6 +1274,9 @@ mod tests {
             && a.false_alarm_times_s == b.false_alarm_times_s
             && a.retriggers == b.retriggers
             && a.suppressed_onsets == b.suppressed_onsets
+            && a.ignored_onsets == b.ignored_onsets
+            && a.stuck_recounts == b.stuck_recounts
+            && a.false_on_ns == b.false_on_ns
             && a.exposure_s == b.exposure_s
     }
 
@@ -1109,6 +1303,90 @@ mod tests {
         }
         // The comparison must have exercised detections and false alarms.
         assert!(busy_cases > 100, "{busy_cases}");
+    }
+
+    #[test]
+    fn the_random_cases_exercise_recounts_ignored_onsets_and_false_on_time() {
+        let (mut recounts, mut ignored, mut on) = (0, 0, 0);
+        for seed in 0..300u64 {
+            let (trace, truth, logic, thresholds) = random_case(mix64(seed ^ 0x6e1d));
+            for r in score_thresholds(&trace, &truth, &logic, &thresholds) {
+                recounts += r.stuck_recounts;
+                ignored += r.ignored_onsets;
+                on += usize::from(r.false_on_ns > 0);
+            }
+        }
+        assert!(
+            recounts > 100 && ignored > 100 && on > 100,
+            "{recounts} {ignored} {on}"
+        );
+    }
+
+    #[test]
+    fn a_stuck_alarm_is_charged_once_per_hold_and_its_false_on_time_reported() {
+        // Worked by hand: frames every 0.1 s over 60 s, score 1 throughout, threshold
+        // 0.5, hold 2 s, no events. Plain logic: one onset at t = 0, one false alarm.
+        // Re-counting: an alarm at 0, 2, 4, ..., 58 s = 30 false alarms (60 s / 2 s).
+        // False-on time: every frame is on; the first adds 0 s (it is at t = 0), each
+        // of the other 600 adds 0.1 s: 60 s.
+        let trace = trace_from(10.0, &[1.0; 601]);
+        let truth = TrialTruth::new(&[], 60.0, MatchWindow::new(0.5, 2.0).unwrap()).unwrap();
+        let plain = AlarmLogic::new(2.0, MOfN::SINGLE).unwrap();
+        assert_eq!(
+            score_threshold(&trace, &truth, &plain, 0.5).false_alarms(),
+            1
+        );
+        let recounting = plain.recounting_stuck_alarms();
+        let r = score_threshold(&trace, &truth, &recounting, 0.5);
+        assert_eq!(r.false_alarms(), 31, "0, 2, ..., 60 s");
+        assert_eq!(r.stuck_recounts, 30);
+        assert_eq!(r.false_on_ns, 60_000_000_000);
+        assert_eq!(
+            score_thresholds(&trace, &truth, &recounting, &[0.5]),
+            vec![r]
+        );
+        // With an event at 20–30 s (closed window 19.5–32 s), re-counts stop in the
+        // window and resume a whole hold after its last frame (32.0 s): 0, 2, ..., 18
+        // (10 alarms), then 34, 36, ..., 60 (14); the onset at 0 is the only rising
+        // edge, so the event is missed. False-on: frames 0.1–19.4 s (19.4 s) and
+        // 32.1–60 s (280 frames, 28 s): 47.4 s.
+        let truth = TrialTruth::new(
+            &[interval(20.0, 30.0)],
+            60.0,
+            MatchWindow::new(0.5, 2.0).unwrap(),
+        )
+        .unwrap();
+        let r = score_threshold(&trace, &truth, &recounting, 0.5);
+        assert_eq!(r.false_alarms(), 24, "{:?}", r.false_alarm_times_s);
+        assert_eq!(r.events_detected(), 0);
+        assert!(
+            close(r.false_on_ns as f64 * 1e-9, 47.4, 1e-6),
+            "{}",
+            r.false_on_ns
+        );
+        // A detector that lets go 1.5 s after the window (less than a hold): detected, not
+        // charged; its 15 frames on noise time (32.1–33.5 s) are 1.5 s of false-on time.
+        let mut late = vec![0.0; 601];
+        late[200..=335].fill(1.0);
+        let r = score_threshold(&trace_from(10.0, &late), &truth, &recounting, 0.5);
+        assert_eq!((r.events_detected(), r.false_alarms()), (1, 0));
+        assert!(
+            close(r.false_on_ns as f64 * 1e-9, 1.5, 1e-6),
+            "{}",
+            r.false_on_ns
+        );
+        // Ignored (present, not moving) time: neither false alarms nor exposure.
+        let truth = TrialTruth::new(&[], 60.0, MatchWindow::new(0.5, 2.0).unwrap())
+            .unwrap()
+            .ignoring(&[interval(0.0, 30.0)]);
+        let r = score_threshold(&trace, &truth, &recounting, 0.5);
+        assert!(close(truth.exposure_s(), 30.0, 1e-9));
+        assert_eq!(r.ignored_onsets, 1, "the onset at 0 s");
+        assert_eq!(
+            r.false_alarms(),
+            15,
+            "32, 34, ..., 60 s: a hold after the last ignored frame"
+        );
     }
 
     #[test]

@@ -1,7 +1,7 @@
 //! The regression gate: is a candidate run worse than a baseline run of the same suite?
 //!
 //! The candidate is scored at the baseline's stored operating thresholds (`echobench run
-//! --baseline B` pins them, see [`pin_to_baseline`]), so both runs are judged at one fixed
+//! --against B` pins them, see [`pin_to_baseline`]), so both runs are judged at one fixed
 //! threshold per target rate, the way a threshold ships in firmware. Then, per detector,
 //! operating point and scene group (all scenes pooled, and each scene):
 //!
@@ -129,17 +129,24 @@ pub enum Verdict {
 }
 
 /// What a candidate's tallies are compared with in the baseline, and the family of its
-/// Holm correction: today one detector (by label). Build it only with [`comparison_key`].
+/// Holm correction: one detector on one product. Build it only with [`comparison_key`].
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 pub struct ComparisonKey {
+    /// Product (sensor module).
+    pub product: String,
     /// Detector label.
     pub detector: String,
 }
 
 impl ComparisonKey {
-    /// How the key reads in tables and test-case names.
+    /// How the key reads in tables: `product/detector`.
     pub fn label(&self) -> String {
-        self.detector.clone()
+        format!("{}/{}", self.product, self.detector)
+    }
+
+    /// The JUnit class name's tail: `product.detector` (dots separate levels there).
+    pub fn junit_class(&self) -> String {
+        format!("{}.{}", self.product, self.detector)
     }
 }
 
@@ -149,6 +156,7 @@ impl ComparisonKey {
 /// here.
 pub fn comparison_key(detector: &DetectorTally) -> ComparisonKey {
     ComparisonKey {
+        product: detector.product.clone(),
         detector: detector.label.clone(),
     }
 }
@@ -228,10 +236,14 @@ impl std::error::Error for GateError {}
 pub fn pin_to_baseline(detectors: &mut [RunDetector], baseline: &Tallies) -> Vec<String> {
     let mut notes = Vec::new();
     for d in detectors.iter_mut() {
-        // By label, as `comparison_key` matches the tallies this run will produce.
-        match baseline.detectors.iter().find(|b| b.label == d.label) {
-            Some(b) => {
-                d.pinned = b
+        // By label and product, as `comparison_key` matches the tallies this run will
+        // produce: each product has its own thresholds.
+        d.pinned = baseline
+            .detectors
+            .iter()
+            .filter(|b| b.label == d.label)
+            .map(|b| {
+                let points = b
                     .operating
                     .iter()
                     .map(|o| crate::runner::PinnedPoint {
@@ -239,11 +251,14 @@ pub fn pin_to_baseline(detectors: &mut [RunDetector], baseline: &Tallies) -> Vec
                         threshold: o.threshold,
                     })
                     .collect();
-            }
-            None => notes.push(format!(
+                (b.product.clone(), points)
+            })
+            .collect();
+        if d.pinned.is_empty() {
+            notes.push(format!(
                 "detector `{}` is not in the baseline: it is run but not gated",
                 d.label
-            )),
+            ));
         }
     }
     notes
@@ -253,7 +268,7 @@ pub fn pin_to_baseline(detectors: &mut [RunDetector], baseline: &Tallies) -> Vec
 ///
 /// # Errors
 /// Different suites, a shard instead of a whole run, or a candidate that was not scored at
-/// the baseline's thresholds (run it with `--baseline`).
+/// the baseline's thresholds (run it with `--against`).
 pub fn gate(
     candidate: &Tallies,
     baseline: &Tallies,
@@ -318,7 +333,7 @@ pub fn gate(
             }) else {
                 return Err(GateError(format!(
                     "detector `{}`: the run was not scored at the baseline's threshold {} \
-                     (target {}/h); make the run with `echobench run --baseline <the baseline>`",
+                     (target {}/h); make the run with `echobench run --against <the reference>`",
                     key.label(),
                     op.threshold,
                     op.target_per_hour
@@ -1145,7 +1160,7 @@ impl GateReport {
             let _ = write!(
                 out,
                 "    <testcase classname=\"echobench.gate.{}\" name=\"{} at {}/h\"",
-                xml_escape(&key.label()),
+                xml_escape(&key.junit_class()),
                 metric.name(),
                 target
             );
@@ -1223,6 +1238,7 @@ mod tests {
     /// settled as `gate` settles them.
     fn settled(counts: &[(u64, f64)], budget: f64) -> Vec<Check> {
         let key = ComparisonKey {
+            product: "p".into(),
             detector: "d".into(),
         };
         let settings = GateSettings {

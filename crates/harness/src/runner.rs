@@ -29,7 +29,7 @@ use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::time::Instant;
 
 /// Version of the tallies and summary schema.
-pub const SCHEMA_VERSION: u32 = 2;
+pub const SCHEMA_VERSION: u32 = 3;
 
 /// Output samples synthesized per block fed to the detectors.
 const BLOCK: usize = 4096;
@@ -79,9 +79,9 @@ pub struct RunDetector<'a> {
     pub plugin: &'a dyn DetectorPlugin,
     /// Resolved parameters.
     pub params: Params,
-    /// Thresholds fixed from a baseline run, tallied beside the calibrated ones
-    /// (see `echobench gate`); empty for an ordinary run.
-    pub pinned: Vec<PinnedPoint>,
+    /// Thresholds fixed from a baseline run per product, tallied beside the calibrated
+    /// ones (see `echobench gate`); empty for an ordinary run.
+    pub pinned: BTreeMap<String, Vec<PinnedPoint>>,
 }
 
 /// What happened to one detector on one trial when it misbehaved.
@@ -112,6 +112,55 @@ pub struct OperatingPoint {
     pub calibration_false_alarms: u64,
     /// Noise-only exposure of the calibration trials, ns.
     pub calibration_exposure_ns: u64,
+    /// The rule that chose it (`worst_room` or `pooled`).
+    pub rule: String,
+    /// Each nuisance room (scene variant) of the product in calibration, at the chosen
+    /// threshold, in suite order.
+    pub rooms: Vec<RoomCalibration>,
+    /// The room whose rate set the threshold (the one that still exceeded the target one
+    /// grid step lower), when the worst-room rule chose it.
+    pub limiting_room: Option<String>,
+}
+
+/// Calibration of one nuisance room (a scene variant) over the threshold grid.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RoomGrid {
+    /// Scene id.
+    pub scene: String,
+    /// Swept value, if swept.
+    pub sweep_value: Option<String>,
+    /// False alarms at each grid threshold.
+    pub false_alarms: Vec<u64>,
+    /// Noise-only exposure, ns.
+    pub exposure_ns: u64,
+}
+
+/// Calibration of one nuisance room (a scene variant) at an operating threshold.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RoomCalibration {
+    /// Scene id.
+    pub scene: String,
+    /// Swept value, if swept.
+    pub sweep_value: Option<String>,
+    /// False alarms at the threshold.
+    pub false_alarms: u64,
+    /// Noise-only exposure, ns.
+    pub exposure_ns: u64,
+}
+
+impl RoomCalibration {
+    /// `scene` or `scene @ value`, as rooms are named in outputs.
+    pub fn name(&self) -> String {
+        room_name(&self.scene, self.sweep_value.as_deref())
+    }
+}
+
+/// `scene` or `scene @ value`.
+pub fn room_name(scene: &str, sweep_value: Option<&str>) -> String {
+    match sweep_value {
+        Some(v) => format!("{scene} @ {v}"),
+        None => scene.to_string(),
+    }
 }
 
 /// A threshold taken from a baseline run, so a candidate is scored where the
@@ -156,6 +205,10 @@ pub struct OperatingTally {
     pub false_alarms: u64,
     /// Latencies of detected events, ms, sorted.
     pub latencies_ms: Vec<i64>,
+    /// Of the false alarms, re-counts of a stuck alarm (one per hold period it stayed on).
+    pub stuck_recounts: u64,
+    /// Time the alarm condition held on noise-only time, ns.
+    pub false_on_ns: u64,
     /// False alarms by the nuisance sources active at their time (`none` when none was).
     pub false_alarms_by_source: BTreeMap<String, u64>,
     /// Per test trial, sorted by trial.
@@ -199,9 +252,11 @@ pub struct VariantTally {
     pub noise_frames_above_nominal: u64,
 }
 
-/// Tallies of one detector over the whole run.
+/// Tallies of one detector on one product over the whole run.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DetectorTally {
+    /// The product (sensor module) whose scenes these are.
+    pub product: String,
     /// Label.
     pub label: String,
     /// Plugin id.
@@ -212,6 +267,9 @@ pub struct DetectorTally {
     pub thresholds: Vec<f64>,
     /// Operating points, one per target rate.
     pub operating: Vec<OperatingPoint>,
+    /// Calibration false alarms of each nuisance room at every grid threshold (the same
+    /// in every shard): what chose the operating points, and what miss reasons compare.
+    pub calibration_rooms: Vec<RoomGrid>,
     /// Nominal threshold and per-frame Pfa from the detector's closed form, if any.
     pub nominal: Option<(f64, f64)>,
     /// Thresholds pinned from a baseline run, if any.
@@ -239,7 +297,7 @@ pub struct Tallies {
     pub test_trials: u64,
     /// Seconds of signal in the test trials, ms.
     pub test_signal_ms: u64,
-    /// Per detector, in suite order.
+    /// Per product and detector, product by product in suite order.
     pub detectors: Vec<DetectorTally>,
 }
 
@@ -306,7 +364,7 @@ pub fn resolve_detectors<'a>(
                 label: entry.label.clone(),
                 plugin: *plugin,
                 params,
-                pinned: Vec::new(),
+                pinned: BTreeMap::new(),
             })
         })
         .collect()
@@ -376,6 +434,8 @@ enum Trace {
 struct TrialOutput {
     traces: Vec<Trace>,
     truth: Vec<Interval>,
+    /// Present, not moving: ignored by intrusion scoring.
+    still: Vec<Interval>,
     nuisances: Vec<(Interval, String)>,
     duration_s: f64,
     synthesis_s: f64,
@@ -473,6 +533,7 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
     Ok(TrialOutput {
         traces,
         truth: truth.events,
+        still: truth.still,
         nuisances: truth.nuisances,
         duration_s: scene.duration_s,
         synthesis_s,
@@ -486,7 +547,9 @@ fn alarm_logic(suite: &Suite) -> Result<(AlarmLogic, MatchWindow), RunError> {
         None => MOfN::new(1, 1),
     }
     .map_err(|e| RunError(e.to_string()))?;
-    let logic = AlarmLogic::new(suite.alarm.hold_s, m_of_n).map_err(|e| RunError(e.to_string()))?;
+    let logic = AlarmLogic::new(suite.alarm.hold_s, m_of_n)
+        .map_err(|e| RunError(e.to_string()))?
+        .recounting_stuck_alarms();
     let window = MatchWindow::new(suite.scoring.early_s, suite.scoring.late_s)
         .map_err(|e| RunError(e.to_string()))?;
     Ok((logic, window))
@@ -542,6 +605,60 @@ pub fn run_suite(
     progress: &(dyn Fn(Progress) + Sync),
 ) -> Result<(Tallies, Timing), RunError> {
     let started = Instant::now();
+    let mut timing = Timing::default();
+    let mut all = Vec::with_capacity(suite.products.len() * detectors.len());
+    let (mut test_trials, mut test_signal_ms) = (0, 0);
+    // Products run one after the other: each is calibrated on its own scenes only, so
+    // its thresholds are those of a suite holding it alone.
+    for product in &suite.products {
+        let view = suite.product_view(&product.name);
+        if view.scenes.is_empty() {
+            continue;
+        }
+        let part = run_product(&view, detectors, shard, progress)?;
+        all.extend(part.tallies);
+        test_trials += part.test_trials;
+        test_signal_ms += part.test_signal_ms;
+        timing.synthesis_s += part.timing.synthesis_s;
+        timing.samples += part.timing.samples;
+        for (k, v) in part.timing.detector_s {
+            *timing.detector_s.entry(k).or_default() += v;
+        }
+    }
+    timing.wall_s = started.elapsed().as_secs_f64();
+    Ok((
+        Tallies {
+            schema: SCHEMA_VERSION,
+            suite: suite.name.clone(),
+            seed: suite.seed,
+            shards: shard.into_iter().collect(),
+            test_trials,
+            test_signal_ms,
+            detectors: all,
+        },
+        timing,
+    ))
+}
+
+/// What one product's run adds to the tallies.
+struct ProductRun {
+    tallies: Vec<DetectorTally>,
+    timing: Timing,
+    test_trials: u64,
+    test_signal_ms: u64,
+}
+
+/// Calibrates and tallies one product (`suite` is its [`Suite::product_view`]).
+fn run_product(
+    suite: &Suite,
+    detectors: &[RunDetector],
+    shard: Option<Shard>,
+    progress: &(dyn Fn(Progress) + Sync),
+) -> Result<ProductRun, RunError> {
+    let product = suite
+        .products
+        .first()
+        .map_or_else(|| suite.name.clone(), |p| p.name.clone());
     let (logic, window) = alarm_logic(suite)?;
     let mut timing = Timing::default();
 
@@ -574,18 +691,25 @@ pub fn run_suite(
         let thresholds = threshold_grid(pooled, suite.scoring.threshold_count);
         let mut false_alarms = vec![0u64; thresholds.len()];
         let mut exposure_ns = 0u64;
+        let mut rooms = rooms_of(suite, thresholds.len());
         let mut failures = Vec::new();
         for (job, trial) in calibration_jobs.iter().zip(&calibration) {
             match &trial.traces[di] {
                 Trace::Ok { scores, .. } => {
-                    let truth = TrialTruth::new(&trial.truth, trial.duration_s, window)
-                        .map_err(|e| RunError(e.to_string()))?;
+                    let truth = trial_truth(trial, window)?;
                     exposure_ns += ns(truth.exposure_s());
-                    for (g, result) in score_thresholds(scores, &truth, &logic, &thresholds)
-                        .iter()
-                        .enumerate()
-                    {
+                    let room = rooms
+                        .iter_mut()
+                        .find(|r| r.scene == job.scene && r.variant == job.variant);
+                    let results = score_thresholds(scores, &truth, &logic, &thresholds);
+                    for (g, result) in results.iter().enumerate() {
                         false_alarms[g] += result.false_alarms() as u64;
+                    }
+                    if let Some(room) = room {
+                        room.exposure_ns += ns(truth.exposure_s());
+                        for (g, result) in results.iter().enumerate() {
+                            room.false_alarms[g] += result.false_alarms() as u64;
+                        }
                     }
                 }
                 Trace::Failed(message) => failures.push(Failure {
@@ -597,24 +721,20 @@ pub fn run_suite(
                 }),
             }
         }
-        let exposure_h = exposure_ns as f64 / 3.6e12;
         let operating = suite
             .scoring
             .target_false_alarms_per_hour
             .iter()
             .map(|&target| {
-                // The lowest threshold whose calibration rate meets the target; the top
-                // of the grid (nothing alarms in calibration) when none does.
-                let grid_index = (0..thresholds.len())
-                    .find(|&g| exposure_h > 0.0 && false_alarms[g] as f64 / exposure_h <= target)
-                    .unwrap_or(thresholds.len() - 1);
-                OperatingPoint {
-                    target_per_hour: target,
-                    grid_index,
-                    threshold: thresholds[grid_index],
-                    calibration_false_alarms: false_alarms[grid_index],
-                    calibration_exposure_ns: exposure_ns,
-                }
+                choose_operating_point(
+                    target,
+                    suite.scoring.threshold_rule,
+                    &thresholds,
+                    &false_alarms,
+                    exposure_ns,
+                    &rooms,
+                    suite,
+                )
             })
             .collect::<Vec<_>>();
         let nominal = detector
@@ -631,7 +751,8 @@ pub fn run_suite(
                 state_bytes: c.state_bytes as u64,
                 ops_per_sample: c.ops_per_sample,
             });
-        let pinned_len = detector.pinned.len();
+        let pinned_points = detector.pinned.get(&product).cloned().unwrap_or_default();
+        let pinned_len = pinned_points.len();
         let (grid_len, operating_len) = (thresholds.len(), operating.len());
         let variants = suite
             .scenes
@@ -660,7 +781,21 @@ pub fn run_suite(
                 })
             })
             .collect();
+        let calibration_rooms = rooms
+            .iter()
+            .map(|r| {
+                let scene = &suite.scenes[r.scene];
+                RoomGrid {
+                    scene: scene.id.clone(),
+                    sweep_value: scene.variants[r.variant].sweep_value.clone(),
+                    false_alarms: r.false_alarms.clone(),
+                    exposure_ns: r.exposure_ns,
+                }
+            })
+            .collect();
         tallies.push(DetectorTally {
+            product: product.clone(),
+            calibration_rooms,
             label: detector.label.clone(),
             plugin: detector.plugin.id().to_string(),
             params: detector
@@ -671,7 +806,7 @@ pub fn run_suite(
             thresholds,
             operating,
             nominal,
-            pinned: detector.pinned.clone(),
+            pinned: pinned_points,
             cost,
             variants,
             failures,
@@ -709,8 +844,7 @@ pub fn run_suite(
         .par_iter()
         .try_fold(empty, |mut acc, job| -> Result<_, RunError> {
             let trial = run_trial(suite, detectors, job)?;
-            let truth = TrialTruth::new(&trial.truth, trial.duration_s, window)
-                .map_err(|e| RunError(e.to_string()))?;
+            let truth = trial_truth(&trial, window)?;
             let vi = variant_index[job.scene][job.variant];
             acc.1.synthesis_s += trial.synthesis_s;
             acc.1.samples += trial.samples;
@@ -766,19 +900,126 @@ pub fn run_suite(
     timing.synthesis_s = part_timing.synthesis_s;
     timing.samples = part_timing.samples;
     timing.detector_s = part_timing.detector_s;
-    timing.wall_s = started.elapsed().as_secs_f64();
-    Ok((
-        Tallies {
-            schema: SCHEMA_VERSION,
-            suite: suite.name.clone(),
-            seed: suite.seed,
-            shards: shard.into_iter().collect(),
-            test_trials,
-            test_signal_ms,
-            detectors: tallies,
-        },
+    Ok(ProductRun {
+        tallies,
         timing,
-    ))
+        test_trials,
+        test_signal_ms,
+    })
+}
+
+/// A trial's truth prepared for scoring: matching windows, and the present-but-still
+/// intervals ignored.
+fn trial_truth(trial: &TrialOutput, window: MatchWindow) -> Result<TrialTruth, RunError> {
+    Ok(TrialTruth::new(&trial.truth, trial.duration_s, window)
+        .map_err(|e| RunError(e.to_string()))?
+        .ignoring(&trial.still))
+}
+
+/// One nuisance room (scene variant) in calibration: false alarms per grid threshold.
+struct RoomCounts {
+    scene: usize,
+    variant: usize,
+    false_alarms: Vec<u64>,
+    exposure_ns: u64,
+}
+
+fn rooms_of(suite: &Suite, grid_len: usize) -> Vec<RoomCounts> {
+    let mut out = Vec::new();
+    for (si, scene) in suite.scenes.iter().enumerate() {
+        if scene.label != SceneLabel::Nuisance || scene.calibration_trials == 0 {
+            continue;
+        }
+        for vi in 0..scene.variants.len() {
+            out.push(RoomCounts {
+                scene: si,
+                variant: vi,
+                false_alarms: vec![0; grid_len],
+                exposure_ns: 0,
+            });
+        }
+    }
+    out
+}
+
+/// The operating threshold for `target` false alarms per hour: the lowest grid threshold
+/// whose calibration rate meets the target in every nuisance room (worst room), or on the
+/// pooled calibration time; the top of the grid (nothing alarms in calibration) when none
+/// does. A product without nuisance rooms falls back to the pooled rule.
+fn choose_operating_point(
+    target: f64,
+    rule: crate::suite::ThresholdRule,
+    thresholds: &[f64],
+    pooled_false_alarms: &[u64],
+    pooled_exposure_ns: u64,
+    rooms: &[RoomCounts],
+    suite: &Suite,
+) -> OperatingPoint {
+    let meets = |false_alarms: u64, exposure_ns: u64| {
+        let hours = exposure_ns as f64 / 3.6e12;
+        hours > 0.0 && false_alarms as f64 / hours <= target
+    };
+    let measured: Vec<&RoomCounts> = rooms.iter().filter(|r| r.exposure_ns > 0).collect();
+    let worst_room = rule == crate::suite::ThresholdRule::WorstRoom && !measured.is_empty();
+    let top = thresholds.len() - 1;
+    let grid_index = if worst_room {
+        (0..thresholds.len())
+            .find(|&g| {
+                measured
+                    .iter()
+                    .all(|r| meets(r.false_alarms[g], r.exposure_ns))
+            })
+            .unwrap_or(top)
+    } else {
+        (0..thresholds.len())
+            .find(|&g| meets(pooled_false_alarms[g], pooled_exposure_ns))
+            .unwrap_or(top)
+    };
+    let room_label = |r: &RoomCounts| {
+        let scene = &suite.scenes[r.scene];
+        room_name(&scene.id, scene.variants[r.variant].sweep_value.as_deref())
+    };
+    // The room that still exceeded the target one grid step lower set the threshold;
+    // the highest rate there when several did.
+    let limiting_room = (worst_room && grid_index > 0)
+        .then(|| {
+            measured
+                .iter()
+                .filter(|r| !meets(r.false_alarms[grid_index - 1], r.exposure_ns))
+                .max_by(|a, b| {
+                    let rate = |r: &RoomCounts| {
+                        r.false_alarms[grid_index - 1] as f64 / r.exposure_ns as f64
+                    };
+                    rate(a).total_cmp(&rate(b))
+                })
+                .map(|r| room_label(r))
+        })
+        .flatten();
+    OperatingPoint {
+        target_per_hour: target,
+        grid_index,
+        threshold: thresholds[grid_index],
+        calibration_false_alarms: pooled_false_alarms[grid_index],
+        calibration_exposure_ns: pooled_exposure_ns,
+        rule: if worst_room {
+            crate::suite::ThresholdRule::WorstRoom.name().into()
+        } else {
+            crate::suite::ThresholdRule::Pooled.name().into()
+        },
+        rooms: rooms
+            .iter()
+            .map(|r| {
+                let scene = &suite.scenes[r.scene];
+                RoomCalibration {
+                    scene: scene.id.clone(),
+                    sweep_value: scene.variants[r.variant].sweep_value.clone(),
+                    false_alarms: r.false_alarms[grid_index],
+                    exposure_ns: r.exposure_ns,
+                }
+            })
+            .collect(),
+        limiting_room,
+    }
 }
 
 /// The stream of the suite's first scene (for nominal operating points, which
@@ -795,6 +1036,8 @@ fn suite_stream_info(suite: &Suite) -> echobench_core::StreamInfo {
 
 fn empty_like(t: &DetectorTally) -> DetectorTally {
     DetectorTally {
+        product: t.product.clone(),
+        calibration_rooms: t.calibration_rooms.clone(),
         label: t.label.clone(),
         plugin: t.plugin.clone(),
         params: t.params.clone(),
@@ -863,6 +1106,8 @@ fn tally_operating(
 ) {
     op.detected += r.events_detected() as u64;
     op.false_alarms += r.false_alarms() as u64;
+    op.stuck_recounts += r.stuck_recounts as u64;
+    op.false_on_ns += r.false_on_ns;
     op.latencies_ms
         .extend(r.latencies_s().iter().map(|l| (l * 1e3).round() as i64));
     for sources in
@@ -921,6 +1166,8 @@ pub fn merge_detector(into: &mut DetectorTally, other: DetectorTally) {
         {
             x.detected += y.detected;
             x.false_alarms += y.false_alarms;
+            x.stuck_recounts += y.stuck_recounts;
+            x.false_on_ns += y.false_on_ns;
             x.latencies_ms.extend(y.latencies_ms);
             for (k, v) in y.false_alarms_by_source {
                 *x.false_alarms_by_source.entry(k).or_default() += v;
@@ -980,10 +1227,14 @@ pub fn merge_tallies(parts: Vec<Tallies>) -> Result<Tallies, RunError> {
         merged.test_trials += part.test_trials;
         merged.test_signal_ms += part.test_signal_ms;
         for (a, b) in merged.detectors.iter_mut().zip(part.detectors) {
-            if a.thresholds != b.thresholds || a.label != b.label || a.pinned != b.pinned {
+            if a.thresholds != b.thresholds
+                || a.label != b.label
+                || a.product != b.product
+                || a.pinned != b.pinned
+            {
                 return Err(RunError(format!(
-                    "detector `{}`: the shards' threshold grids differ",
-                    a.label
+                    "product `{}`, detector `{}`: the shards' threshold grids differ",
+                    a.product, a.label
                 )));
             }
             merge_detector(a, b);

@@ -38,6 +38,8 @@ pub(crate) struct RecordedSignal {
 pub(crate) struct SignalTruth {
     pub events: Vec<Interval>,
     pub nuisances: Vec<(Interval, String)>,
+    /// A person present but not moving (ignored by intrusion scoring).
+    pub still: Vec<Interval>,
 }
 
 impl TrialSignal {
@@ -135,6 +137,7 @@ impl TrialSignal {
                     .iter()
                     .map(|n| (n.interval, n.source_id.clone()))
                     .collect(),
+                still: t.still_presence.iter().map(|e| e.interval).collect(),
             }
         };
         match self {
@@ -145,6 +148,7 @@ impl TrialSignal {
                     None => SignalTruth {
                         events: Vec::new(),
                         nuisances: Vec::new(),
+                        still: Vec::new(),
                     },
                 };
                 truth.events.extend(r.targets.iter().copied());

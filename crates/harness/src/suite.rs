@@ -5,6 +5,14 @@
 //! saying whether it contains a target, and optionally a sweep: one field of
 //! the scene set in turn to each value of a list (a walker's start range, a
 //! fan's speed), each value giving a scene variant.
+//!
+//! **A product is the unit of comparison.** A suite holds one or more products, each one
+//! sensor module sold into many rooms, with its own target and nuisance scenes. The module
+//! (carrier, output, antenna, front end, ADC, tilt) belongs to the product; a scene keeps
+//! only where the module is placed in its room (`position_m`, `azimuth_deg`). Thresholds,
+//! operating points, rankings and the gate are per product, because a product ships one
+//! module and its detector is tuned for that module alone. A suite without `products:` is
+//! one product named after the suite.
 
 use echobench_core::detector::ParamValue;
 use echobench_scene::SceneSpec;
@@ -23,7 +31,9 @@ pub struct Suite {
     /// Calibration trials per scene variant (own seeds; used to fix thresholds; 0 when the
     /// suite sets none).
     pub calibration_trials: u64,
-    /// The scenes.
+    /// The products, in suite order (at least one).
+    pub products: Vec<Product>,
+    /// The scenes of every product, product by product, in suite order.
     pub scenes: Vec<SuiteScene>,
     /// The detectors, each with its label and parameters.
     pub detectors: Vec<DetectorEntry>,
@@ -31,6 +41,60 @@ pub struct Suite {
     pub alarm: AlarmSpec,
     /// How alarms are scored.
     pub scoring: ScoringSpec,
+    /// Where a detector's Doppler bands miss a target scene's motion, found at load from
+    /// the scene's kinematics (the same findings `check` prints as warnings).
+    pub coverage: Vec<CoverageFinding>,
+}
+
+/// A detector whose bands miss a target scene variant's Doppler (see `echobench-coverage`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct CoverageFinding {
+    /// Scene id.
+    pub scene: String,
+    /// Swept value, if swept.
+    pub sweep_value: Option<String>,
+    /// Detector label.
+    pub detector: String,
+    /// Short form for tables: `out of band (34 % of the echo energy in band)`, ...
+    pub short: String,
+    /// The whole warning, with the numbers.
+    pub message: String,
+}
+
+/// One product: a sensor module and the rooms it is sold into.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Product {
+    /// Unique name in the suite (part of every output row).
+    pub name: String,
+    /// Free text shown in reports.
+    pub about: String,
+    /// The module as the product states it (placement fields are the scenes'); `None` when
+    /// the product takes the module its scenes share.
+    pub module: Option<echobench_scene::spec::SensorSpec>,
+}
+
+impl Suite {
+    /// The suite cut to one product: its scenes only, and that product alone.
+    ///
+    /// Trial seeds depend on the suite seed and scene ids only, so the cut suite runs
+    /// exactly the trials the product runs inside the whole suite.
+    pub fn product_view(&self, product: &str) -> Suite {
+        Suite {
+            products: self
+                .products
+                .iter()
+                .filter(|p| p.name == product)
+                .cloned()
+                .collect(),
+            scenes: self
+                .scenes
+                .iter()
+                .filter(|s| s.product == product)
+                .cloned()
+                .collect(),
+            ..self.clone()
+        }
+    }
 }
 
 /// Whether a scene contains something to detect.
@@ -47,6 +111,8 @@ pub enum SceneLabel {
 pub struct SuiteScene {
     /// Stable id (the scene's name, or the entry's `id`): part of every trial's seed.
     pub id: String,
+    /// The product whose module this scene runs with.
+    pub product: String,
     /// Target or nuisance.
     pub label: SceneLabel,
     /// Test trials per variant.
@@ -138,6 +204,31 @@ pub struct ScoringSpec {
     pub threshold_count: usize,
     /// Absolute false-alarm budget for the CI gate, per hour (`None`: no budget).
     pub false_alarm_budget_per_hour: Option<f64>,
+    /// How the operating threshold for a target rate is chosen from the nuisance scenes.
+    pub threshold_rule: ThresholdRule,
+}
+
+/// How calibration turns a target false-alarm rate into an operating threshold.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ThresholdRule {
+    /// The lowest threshold whose calibration rate meets the target in *every* nuisance
+    /// scene variant of the product (the worst room): a product must hold its budget in
+    /// each environment it is sold into, not on their average.
+    #[default]
+    WorstRoom,
+    /// The lowest threshold whose rate, pooled over all calibration noise-only time of
+    /// the product (nuisance and target scenes), meets the target.
+    Pooled,
+}
+
+impl ThresholdRule {
+    /// The name used in suite files and outputs.
+    pub fn name(self) -> &'static str {
+        match self {
+            ThresholdRule::WorstRoom => "worst_room",
+            ThresholdRule::Pooled => "pooled",
+        }
+    }
 }
 
 impl Default for AlarmSpec {
@@ -157,6 +248,7 @@ impl Default for ScoringSpec {
             target_false_alarms_per_hour: vec![1.0, 1.0 / 24.0],
             threshold_count: 120,
             false_alarm_budget_per_hour: None,
+            threshold_rule: ThresholdRule::WorstRoom,
         }
     }
 }

@@ -42,13 +42,14 @@
 //! refused before any trial runs.
 
 use crate::suite::{
-    AlarmSpec, DetectorEntry, SceneLabel, SceneVariant, ScoringSpec, Suite, SuiteScene,
+    AlarmSpec, DetectorEntry, Product, SceneLabel, SceneVariant, ScoringSpec, Suite, SuiteScene,
+    ThresholdRule,
 };
 use echobench_core::detector::{DetectorPlugin, ParamValue, Params};
 use echobench_core::{Channels, StreamInfo};
 use echobench_scene::{load_scene_node, scene_sanity, SceneSpec};
 use echobench_yaml_reader::{
-    parse, suggest, Limits, Location, Node, Problem, Reader, Report, Severity, Value,
+    parse, suggest, FromNode, Limits, Location, Node, Problem, Reader, Report, Severity, Value,
 };
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
@@ -157,58 +158,78 @@ pub const DEFAULT_SUITE_YAML: &str = include_str!("../../../scenarios/default-su
 ///
 /// One explicit table, so that the binary carries exactly these files; a test
 /// checks it against the folder `scenarios/suite-scenes/` and the suite.
-pub static DEFAULT_SUITE_SCENES: [(&str, &str); 13] = [
+pub static DEFAULT_SUITE_SCENES: [(&str, &str); 18] = [
     (
-        "suite-scenes/office-corridor-range.yaml",
-        include_str!("../../../scenarios/suite-scenes/office-corridor-range.yaml"),
-    ),
-    (
-        "suite-scenes/warehouse-aisle-crossing.yaml",
-        include_str!("../../../scenarios/suite-scenes/warehouse-aisle-crossing.yaml"),
-    ),
-    (
-        "suite-scenes/hotel-lobby-diagonal.yaml",
-        include_str!("../../../scenarios/suite-scenes/hotel-lobby-diagonal.yaml"),
+        "suite-scenes/bedroom-curtain-draught.yaml",
+        include_str!("../../../scenarios/suite-scenes/bedroom-curtain-draught.yaml"),
     ),
     (
         "suite-scenes/care-home-slow-walker.yaml",
         include_str!("../../../scenarios/suite-scenes/care-home-slow-walker.yaml"),
     ),
     (
-        "suite-scenes/reading-chair-breathing.yaml",
-        include_str!("../../../scenarios/suite-scenes/reading-chair-breathing.yaml"),
+        "suite-scenes/corridor-door-stop.yaml",
+        include_str!("../../../scenarios/suite-scenes/corridor-door-stop.yaml"),
     ),
     (
-        "suite-scenes/study-desk-fan.yaml",
-        include_str!("../../../scenarios/suite-scenes/study-desk-fan.yaml"),
+        "suite-scenes/empty-corridor-night.yaml",
+        include_str!("../../../scenarios/suite-scenes/empty-corridor-night.yaml"),
     ),
     (
-        "suite-scenes/porch-palm-gusts.yaml",
-        include_str!("../../../scenarios/suite-scenes/porch-palm-gusts.yaml"),
+        "suite-scenes/empty-lab-bench.yaml",
+        include_str!("../../../scenarios/suite-scenes/empty-lab-bench.yaml"),
     ),
     (
-        "suite-scenes/bedroom-curtain-draught.yaml",
-        include_str!("../../../scenarios/suite-scenes/bedroom-curtain-draught.yaml"),
-    ),
-    (
-        "suite-scenes/night-office-mains-lamp.yaml",
-        include_str!("../../../scenarios/suite-scenes/night-office-mains-lamp.yaml"),
-    ),
-    (
-        "suite-scenes/stockroom-radio-bursts.yaml",
-        include_str!("../../../scenarios/suite-scenes/stockroom-radio-bursts.yaml"),
-    ),
-    (
-        "suite-scenes/shop-entrance-neighbour.yaml",
-        include_str!("../../../scenarios/suite-scenes/shop-entrance-neighbour.yaml"),
+        "suite-scenes/hotel-lobby-diagonal.yaml",
+        include_str!("../../../scenarios/suite-scenes/hotel-lobby-diagonal.yaml"),
     ),
     (
         "suite-scenes/kitchen-cat.yaml",
         include_str!("../../../scenarios/suite-scenes/kitchen-cat.yaml"),
     ),
     (
-        "suite-scenes/empty-lab-bench.yaml",
-        include_str!("../../../scenarios/suite-scenes/empty-lab-bench.yaml"),
+        "suite-scenes/lounge-ceiling-fan.yaml",
+        include_str!("../../../scenarios/suite-scenes/lounge-ceiling-fan.yaml"),
+    ),
+    (
+        "suite-scenes/meeting-room-walk-in.yaml",
+        include_str!("../../../scenarios/suite-scenes/meeting-room-walk-in.yaml"),
+    ),
+    (
+        "suite-scenes/night-office-mains-lamp.yaml",
+        include_str!("../../../scenarios/suite-scenes/night-office-mains-lamp.yaml"),
+    ),
+    (
+        "suite-scenes/office-corridor-range.yaml",
+        include_str!("../../../scenarios/suite-scenes/office-corridor-range.yaml"),
+    ),
+    (
+        "suite-scenes/open-office-approach.yaml",
+        include_str!("../../../scenarios/suite-scenes/open-office-approach.yaml"),
+    ),
+    (
+        "suite-scenes/porch-palm-gusts.yaml",
+        include_str!("../../../scenarios/suite-scenes/porch-palm-gusts.yaml"),
+    ),
+    (
+        "suite-scenes/reading-chair-breathing.yaml",
+        include_str!("../../../scenarios/suite-scenes/reading-chair-breathing.yaml"),
+    ),
+    (
+        "suite-scenes/shop-entrance-neighbour.yaml",
+        include_str!("../../../scenarios/suite-scenes/shop-entrance-neighbour.yaml"),
+    ),
+    (
+        "suite-scenes/stockroom-radio-bursts.yaml",
+        include_str!("../../../scenarios/suite-scenes/stockroom-radio-bursts.yaml"),
+    ),
+    (
+        "suite-scenes/study-desk-fan.yaml",
+        include_str!("../../../scenarios/suite-scenes/study-desk-fan.yaml"),
+    ),
+    (
+        "suite-scenes/warehouse-aisle-crossing.yaml",
+        include_str!("../../../scenarios/suite-scenes/warehouse-aisle-crossing.yaml"),
     ),
 ];
 
@@ -337,6 +358,7 @@ fn read_suite(
     let trials: Option<u64> = f.optional("trials");
     let calibration_trials: Option<u64> = f.optional("calibration_trials");
     let scenes_node = f.raw("scenes");
+    let products_node = f.raw("products");
     let detectors_node = f.raw("detectors");
     let alarm_node = f.raw("alarm");
     let scoring_node = f.raw("scoring");
@@ -351,8 +373,16 @@ fn read_suite(
             f.error_at(key, "must be at least 1");
         }
     }
-    if scenes_node.is_none() {
-        f.error_at("scenes", "missing required field");
+    match (scenes_node.is_some(), products_node.is_some()) {
+        (false, false) => f.error_at(
+            "scenes",
+            "missing required field: give `scenes` (one product) or `products` (each with its scenes)",
+        ),
+        (true, true) => f.error_at(
+            "scenes",
+            "give either `scenes` (a suite of one product) or `products` (each with its own scenes), not both",
+        ),
+        _ => {}
     }
     if detectors_node.is_none() {
         f.error_at("detectors", "missing required field");
@@ -364,8 +394,28 @@ fn read_suite(
         trials,
         calibration_trials,
     };
-    let suite_scenes =
-        scenes_node.and_then(|node| read_scenes(node, name, scenes, defaults, report));
+    let products_read = match (scenes_node, products_node) {
+        (Some(node), None) => {
+            let product = Product {
+                name: suite_name.clone(),
+                about: String::new(),
+                module: None,
+            };
+            read_scenes(
+                node,
+                "scenes",
+                &product.name,
+                name,
+                scenes,
+                defaults,
+                report,
+            )
+            .map(|list| vec![(product, list, node.location)])
+        }
+        (None, Some(node)) => read_products(node, name, scenes, defaults, report),
+        _ => None,
+    };
+    let products_read = products_read.and_then(|list| check_products(list, name, report));
     let detectors = detectors_node
         .and_then(|node| read_detectors(node, name, plugins, report))
         .map(|list| anchor_external_commands(list, scenes, plugins));
@@ -377,32 +427,366 @@ fn read_suite(
         Some(node) => read_scoring(node, name, report),
         None => Some(ScoringSpec::default()),
     };
-    if let (Some(scenes), Some(detectors)) = (&suite_scenes, &detectors) {
+    let mut coverage = Vec::new();
+    if let (Some((_, scenes)), Some(detectors)) = (&products_read, &detectors) {
         check_streams(scenes, detectors, plugins, name, report);
-    }
-    if let (Some(scenes), Some(node)) = (&suite_scenes, scenes_node) {
-        if scenes.iter().all(|s| s.calibration_trials == 0) {
-            report.problems.push(error(
-                name,
-                node.location,
-                "scenes".into(),
-                "no calibration trials: thresholds are chosen on them; give a capture entry \
-                 `calibration_recordings`, or add a synthetic scene"
-                    .into(),
-            ));
+        if !report.has_errors() {
+            coverage = check_coverage(scenes, detectors, plugins, seed.unwrap_or(0), name, report);
         }
     }
+    let (products, suite_scenes) = products_read?;
     Some(Suite {
         name: suite_name,
         source: name.to_string(),
         seed: seed?,
         trials: trials.unwrap_or(0),
         calibration_trials: calibration_trials.unwrap_or(0),
-        scenes: suite_scenes?,
+        products,
+        scenes: suite_scenes,
         detectors: detectors?.into_iter().map(|d| d.entry).collect(),
         alarm: alarm?,
         scoring: scoring?,
+        coverage,
     })
+}
+
+/// Trials whose kinematics the coverage check samples per target scene variant.
+const COVERAGE_TRIALS: u64 = 2;
+
+/// Works out each synthetic target scene variant's Doppler from its kinematics and warns
+/// where a detector's declared bands miss it (`echobench-coverage`); returns the findings.
+fn check_coverage(
+    scenes: &[SuiteScene],
+    detectors: &[DetectorRead],
+    plugins: &[&dyn DetectorPlugin],
+    seed: u64,
+    suite_file: &str,
+    report: &mut Report,
+) -> Vec<crate::suite::CoverageFinding> {
+    let mut findings = Vec::new();
+    for scene in scenes {
+        if scene.label != SceneLabel::Target || scene.capture.is_some() {
+            continue;
+        }
+        for variant in &scene.variants {
+            let keys: Vec<echobench_core::seed::StreamKey> = (0..COVERAGE_TRIALS)
+                .map(|trial| echobench_core::seed::StreamKey {
+                    suite_seed: seed,
+                    scene_id: scene.id.clone(),
+                    sweep_point: variant.sweep_point,
+                    trial,
+                })
+                .collect();
+            let target = match catch_unwind(AssertUnwindSafe(|| {
+                echobench_coverage::target_doppler(&variant.scene, &keys)
+            })) {
+                Ok(Ok(target)) if !target.is_empty() => target,
+                _ => continue,
+            };
+            let info = stream_of(&variant.scene);
+            for detector in detectors {
+                let plugin = plugins[detector.plugin_index];
+                let bands = match catch_unwind(AssertUnwindSafe(|| {
+                    plugin.doppler_bands(&detector.params, &info)
+                })) {
+                    Ok(bands) => bands,
+                    Err(_) => continue,
+                };
+                for warning in echobench_coverage::coverage_warnings(
+                    &scene.id,
+                    &target,
+                    &detector.entry.label,
+                    &bands,
+                    &info,
+                ) {
+                    let message = match &variant.sweep_value {
+                        Some(v) => format!(
+                            "{warning} (with `{}` = {v})",
+                            scene.sweep_field.as_deref().unwrap_or("the swept field")
+                        ),
+                        None => warning.to_string(),
+                    };
+                    report.problems.push(Problem {
+                        severity: Severity::Warning,
+                        file: suite_file.to_string(),
+                        location: Some(detector.location),
+                        field: detector.path.clone(),
+                        message: message.clone(),
+                        hint: Some(
+                            "give the detector's bands in m/s (`band_units: mps`), or widen them"
+                                .into(),
+                        ),
+                    });
+                    findings.push(crate::suite::CoverageFinding {
+                        scene: scene.id.clone(),
+                        sweep_value: variant.sweep_value.clone(),
+                        detector: detector.entry.label.clone(),
+                        short: short_coverage(&warning.problem),
+                        message,
+                    });
+                }
+            }
+        }
+    }
+    findings
+}
+
+/// The table form of a coverage problem.
+fn short_coverage(problem: &echobench_coverage::CoverageProblem) -> String {
+    use echobench_coverage::CoverageProblem;
+    match problem {
+        CoverageProblem::BandsMissTarget { fraction, .. } => format!(
+            "out of band ({:.0} % of the target's echo energy in the motion band)",
+            100.0 * fraction
+        ),
+        CoverageProblem::PastNyquist { fraction, .. } => format!(
+            "past Nyquist ({:.0} % of the echo energy aliases)",
+            100.0 * fraction
+        ),
+        CoverageProblem::NuisanceHoldsTorso { band_label, .. } => {
+            format!("torso line in the nuisance band `{band_label}`")
+        }
+    }
+}
+
+/// Largest number of products in one suite (each is calibrated on its own).
+const MAX_PRODUCTS: usize = 64;
+
+/// Module fields that belong to the room, not to the module: where it is placed.
+const PLACEMENT_FIELDS: [&str; 2] = ["position_m", "azimuth_deg"];
+
+/// Reads `products:`: each a name, optional `about` and `module`, and its scenes.
+fn read_products(
+    node: &Node,
+    suite_file: &str,
+    source: &dyn SceneSource,
+    defaults: TrialCounts,
+    report: &mut Report,
+) -> Option<Vec<(Product, Vec<SuiteScene>, Location)>> {
+    let Value::Seq(items) = &node.value else {
+        report.problems.push(error(
+            suite_file,
+            node.location,
+            "products".into(),
+            format!("expected a list of products, found {}", node.kind_name()),
+        ));
+        return None;
+    };
+    if items.is_empty() || items.len() > MAX_PRODUCTS {
+        report.problems.push(error(
+            suite_file,
+            node.location,
+            "products".into(),
+            format!(
+                "a suite needs 1 to {MAX_PRODUCTS} products, found {}",
+                items.len()
+            ),
+        ));
+        return None;
+    }
+    let mut out = Vec::with_capacity(items.len());
+    let mut ok = true;
+    for (index, item) in items.iter().enumerate() {
+        let path = format!("products[{index}]");
+        let mut reader = Reader::new(suite_file);
+        let Some(mut f) = reader.fields(item, &path) else {
+            report.extend(reader.finish());
+            ok = false;
+            continue;
+        };
+        let name: Option<String> = f.required("name");
+        let about: String = f.optional_or("about", String::new());
+        let module_node = f.raw("module");
+        let module_path = f.path_of("module");
+        let scenes_node = f.raw("scenes");
+        if name.as_ref().is_some_and(|n| n.trim().is_empty()) {
+            f.error_at("name", "must not be empty");
+        }
+        if scenes_node.is_none() {
+            f.error_at(
+                "scenes",
+                "missing required field: the product's target and nuisance scenes",
+            );
+        }
+        let module = module_node.and_then(|m| {
+            if let Value::Map(entries) = &m.value {
+                for (key, _, at) in entries {
+                    if PLACEMENT_FIELDS.contains(&key.as_str()) {
+                        f.reader().error(
+                            *at,
+                            &format!("{module_path}.{key}"),
+                            format!(
+                                "`{key}` places the module in a room: it belongs to each scene's `sensor`, not to the product's module"
+                            ),
+                        );
+                    }
+                }
+            }
+            echobench_scene::spec::SensorSpec::from_node(m, &module_path, f.reader())
+        });
+        let module_failed = module_node.is_some() && module.is_none();
+        f.finish();
+        let problems = reader.finish();
+        let failed = problems.has_errors() || module_failed;
+        report.extend(problems);
+        let (Some(name), Some(scenes_node), false) = (name, scenes_node, failed) else {
+            ok = false;
+            continue;
+        };
+        if out
+            .iter()
+            .any(|(p, _, _): &(Product, Vec<SuiteScene>, Location)| p.name == name)
+        {
+            report.problems.push(error(
+                suite_file,
+                item.location,
+                format!("{path}.name"),
+                format!("product `{name}` is named twice; names must be unique"),
+            ));
+            ok = false;
+            continue;
+        }
+        let product = Product {
+            name,
+            about,
+            module,
+        };
+        match read_scenes(
+            scenes_node,
+            &format!("{path}.scenes"),
+            &product.name,
+            suite_file,
+            source,
+            defaults,
+            report,
+        ) {
+            Some(list) => out.push((product, list, scenes_node.location)),
+            None => ok = false,
+        }
+    }
+    ok.then_some(out)
+}
+
+/// Puts each product's module into its scenes (keeping their placement), or, for a
+/// product without a module, checks that its scenes share one; checks scene ids across
+/// products (they seed the trials).
+fn check_products(
+    read: Vec<(Product, Vec<SuiteScene>, Location)>,
+    suite_file: &str,
+    report: &mut Report,
+) -> Option<(Vec<Product>, Vec<SuiteScene>)> {
+    let mut ok = true;
+    let mut products = Vec::with_capacity(read.len());
+    let mut all_scenes: Vec<SuiteScene> = Vec::new();
+    for (product, mut scenes, location) in read {
+        match &product.module {
+            Some(module) => {
+                for scene in &mut scenes {
+                    for variant in &mut scene.variants {
+                        let own = &variant.scene.sensor;
+                        variant.scene.sensor = echobench_scene::spec::SensorSpec {
+                            position_m: own.position_m,
+                            azimuth_deg: own.azimuth_deg,
+                            ..module.clone()
+                        };
+                    }
+                }
+            }
+            None => {
+                if let Some(first) = scenes.first() {
+                    let reference = &first.variants[0].scene.sensor;
+                    for scene in &scenes {
+                        for variant in &scene.variants {
+                            let fields = module_differences(reference, &variant.scene.sensor);
+                            if !fields.is_empty() {
+                                report.problems.push(error(
+                                    suite_file,
+                                    location,
+                                    "scenes".into(),
+                                    format!(
+                                        "product `{}` mixes sensor modules: scene `{}` differs from scene `{}` in {}; a product is one module (give the product a `module`, or split it into products)",
+                                        product.name,
+                                        scene.id,
+                                        first.id,
+                                        fields.join(", ")
+                                    ),
+                                ));
+                                ok = false;
+                                break;
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        for scene in &scenes {
+            if let Some(other) = all_scenes.iter().find(|s| s.id == scene.id) {
+                report.problems.push(error(
+                    suite_file,
+                    location,
+                    "scenes".into(),
+                    format!(
+                        "scene id `{}` is used in product `{}` and in product `{}`; ids must be unique in a suite, as they seed the trials",
+                        scene.id, other.product, product.name
+                    ),
+                ));
+                ok = false;
+            }
+        }
+        if scenes.iter().all(|s| s.calibration_trials == 0) {
+            report.problems.push(error(
+                suite_file,
+                location,
+                "scenes".into(),
+                format!(
+                    "product `{}` has no calibration trials: thresholds are chosen on them; give a capture entry `calibration_recordings`, or add a synthetic scene",
+                    product.name
+                ),
+            ));
+            ok = false;
+        }
+        all_scenes.extend(scenes);
+        products.push(product);
+    }
+    ok.then_some((products, all_scenes))
+}
+
+/// The names of the module fields in which two sensors differ (placement ignored).
+pub fn module_differences(
+    a: &echobench_scene::spec::SensorSpec,
+    b: &echobench_scene::spec::SensorSpec,
+) -> Vec<&'static str> {
+    let mut out = Vec::new();
+    let mut differ = |name: &'static str, same: bool| {
+        if !same {
+            out.push(name);
+        }
+    };
+    differ("carrier_hz", a.carrier_hz == b.carrier_hz);
+    differ("sample_rate_hz", a.sample_rate_hz == b.sample_rate_hz);
+    differ("output", a.output == b.output);
+    differ("elevation_deg", a.elevation_deg == b.elevation_deg);
+    differ(
+        "beam_azimuth_3db_deg",
+        a.beam_azimuth_3db_deg == b.beam_azimuth_3db_deg,
+    );
+    differ(
+        "beam_elevation_3db_deg",
+        a.beam_elevation_3db_deg == b.beam_elevation_3db_deg,
+    );
+    differ("beam_floor_db", a.beam_floor_db == b.beam_floor_db);
+    differ("tx_power_dbm", a.tx_power_dbm == b.tx_power_dbm);
+    differ("antenna_gain_dbi", a.antenna_gain_dbi == b.antenna_gain_dbi);
+    differ(
+        "conversion_loss_db",
+        a.conversion_loss_db == b.conversion_loss_db,
+    );
+    differ("load_ohm", a.load_ohm == b.load_ohm);
+    differ("mixer_dc_v", a.mixer_dc_v == b.mixer_dc_v);
+    differ("drift", a.drift == b.drift);
+    differ("front_end", a.front_end == b.front_end);
+    differ("adc", a.adc == b.adc);
+    out
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -415,6 +799,8 @@ struct TrialCounts {
 
 fn read_scenes(
     node: &Node,
+    path: &str,
+    product: &str,
     suite_file: &str,
     source: &dyn SceneSource,
     defaults: TrialCounts,
@@ -424,7 +810,7 @@ fn read_scenes(
         report.problems.push(error(
             suite_file,
             node.location,
-            "scenes".into(),
+            path.into(),
             format!(
                 "expected a list of scene entries, found {}",
                 node.kind_name()
@@ -436,7 +822,7 @@ fn read_scenes(
         report.problems.push(error(
             suite_file,
             node.location,
-            "scenes".into(),
+            path.into(),
             "a suite needs at least one scene".into(),
         ));
         return None;
@@ -445,14 +831,16 @@ fn read_scenes(
     let mut ids: Vec<(String, Location)> = Vec::new();
     let mut ok = true;
     for (index, item) in items.iter().enumerate() {
-        match read_scene_entry(item, index, suite_file, source, defaults, report) {
-            Some((scene, id_location)) => {
+        let entry_path = format!("{path}[{index}]");
+        match read_scene_entry(item, &entry_path, suite_file, source, defaults, report) {
+            Some((mut scene, id_location)) => {
+                scene.product = product.to_string();
                 if let Some((_, first)) = ids.iter().find(|(id, _)| *id == scene.id) {
                     report.problems.push(problem(
                         Severity::Error,
                         suite_file,
                         id_location,
-                        format!("scenes[{index}]"),
+                        entry_path.clone(),
                         format!(
                             "scene id `{}` is used twice (first on line {}); ids must be unique, as they seed the trials",
                             scene.id, first.line
@@ -490,13 +878,13 @@ struct SweepRead<'n> {
 /// Reads one entry of `scenes:` and its variants; returns the scene and the location of its id.
 fn read_scene_entry(
     node: &Node,
-    index: usize,
+    path: &str,
     suite_file: &str,
     source: &dyn SceneSource,
     defaults: TrialCounts,
     report: &mut Report,
 ) -> Option<(SuiteScene, Location)> {
-    let path = format!("scenes[{index}]");
+    let path = path.to_string();
     let mut reader = Reader::new(suite_file);
     let Some(mut f) = reader.fields(node, &path) else {
         report.extend(reader.finish());
@@ -668,6 +1056,7 @@ fn read_scene_entry(
     Some((
         SuiteScene {
             id,
+            product: String::new(),
             label,
             trials,
             calibration_trials,
@@ -1927,6 +2316,17 @@ fn read_scoring(node: &Node, suite_file: &str, report: &mut Report) -> Option<Sc
         );
         let threshold_count: usize = f.optional_or("threshold_count", defaults.threshold_count);
         let budget: Option<f64> = f.optional("false_alarm_budget_per_hour");
+        let threshold_rule = match f.choice_or(
+            "threshold_rule",
+            &[
+                ThresholdRule::WorstRoom.name(),
+                ThresholdRule::Pooled.name(),
+            ],
+            ThresholdRule::WorstRoom.name(),
+        ) {
+            "pooled" => ThresholdRule::Pooled,
+            _ => ThresholdRule::WorstRoom,
+        };
         let mut ok = true;
         for (key, value) in [("early_s", early_s), ("late_s", late_s)] {
             if value < 0.0 {
@@ -1976,6 +2376,7 @@ fn read_scoring(node: &Node, suite_file: &str, report: &mut Report) -> Option<Sc
             target_false_alarms_per_hour: rates,
             threshold_count,
             false_alarm_budget_per_hour: budget,
+            threshold_rule,
         })
     })();
     let problems = reader.finish();

@@ -111,6 +111,21 @@ pub struct SceneOutcome {
     pub outcome: Outcome,
     /// Median latency of detected events, s.
     pub latency_median_s: Option<f64>,
+    /// Time the alarm condition held on noise-only time, s.
+    pub false_on_s: f64,
+}
+
+/// One nuisance room's calibration at an operating threshold.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RoomRate {
+    /// `scene` or `scene @ sweep value`.
+    pub room: String,
+    /// Calibration false alarms at the threshold.
+    pub false_alarms: u64,
+    /// Calibration noise-only exposure, hours.
+    pub exposure_hours: f64,
+    /// Calibration false alarms per hour, exact Poisson interval.
+    pub false_alarms_per_hour: Estimate,
 }
 
 /// A detector at one operating threshold.
@@ -124,6 +139,20 @@ pub struct OperatingSummary {
     pub calibration_false_alarms: u64,
     /// Calibration noise-only exposure, hours.
     pub calibration_exposure_hours: f64,
+    /// How the threshold was chosen: `worst_room` or `pooled`.
+    pub rule: String,
+    /// The room whose calibration rate set the threshold (worst-room rule).
+    pub limiting_room: Option<String>,
+    /// Each nuisance room in calibration at this threshold.
+    pub calibration_rooms: Vec<RoomRate>,
+    /// Whether the calibration can show the target is met: every room (or, pooled, the
+    /// pooled time) has at least −ln(0.05)/target hours, the exposure in which zero
+    /// alarms put the one-sided 95 % upper bound of the rate at the target.
+    pub resolved: bool,
+    /// Of the test false alarms, re-counts of a stuck alarm (one per hold period).
+    pub stuck_recounts: u64,
+    /// Time the alarm condition held on test noise-only time, hours.
+    pub false_on_hours: f64,
     /// Test-trial results, all scenes pooled.
     #[serde(flatten)]
     pub outcome: Outcome,
@@ -154,9 +183,11 @@ pub struct NominalSummary {
     pub by_scene: Vec<(String, Option<String>, Estimate)>,
 }
 
-/// Everything about one detector.
+/// Everything about one detector on one product.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DetectorSummary {
+    /// The product.
+    pub product: String,
     /// Label in the suite.
     pub label: String,
     /// Plugin id.
@@ -202,10 +233,55 @@ pub struct Summary {
     pub event_tolerance_s: (f64, f64),
     /// Absolute false-alarm budget for the gate, per hour.
     pub false_alarm_budget_per_hour: Option<f64>,
-    /// Per detector.
+    /// The products, in suite order.
+    pub products: Vec<ProductSummary>,
+    /// Per product and detector, product by product.
     pub detectors: Vec<DetectorSummary>,
+    /// Why a detector misses a target scene variant, for every cell of the detection
+    /// tables below Pd 0.5 at the first target rate (computed, see [`miss_reasons`]).
+    pub miss_reasons: Vec<MissReason>,
     /// The cautions that go with every result.
     pub cautions: String,
+}
+
+/// Why one detector misses one target scene variant.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct MissReason {
+    /// Product.
+    pub product: String,
+    /// Detector label.
+    pub detector: String,
+    /// Scene id.
+    pub scene: String,
+    /// Swept value, if swept.
+    pub sweep_value: Option<String>,
+    /// Pd at the operating threshold.
+    pub pd: f64,
+    /// The kind: `out of band`, `masked`, `out of range`, `no event`.
+    pub kind: String,
+    /// The reason as printed, with its numbers.
+    pub reason: String,
+}
+
+/// One product: its module and its scenes.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ProductSummary {
+    /// Name.
+    pub name: String,
+    /// Free text.
+    pub about: String,
+    /// Carrier, Hz.
+    pub carrier_hz: f64,
+    /// ADC sample rate, Hz.
+    pub sample_rate_hz: f64,
+    /// `real` or `iq`.
+    pub output: String,
+    /// Threshold rule: `worst_room` or `pooled`.
+    pub threshold_rule: String,
+    /// Target scene variants (`scene` or `scene @ value`).
+    pub target_scenes: Vec<String>,
+    /// Nuisance scene variants (rooms).
+    pub nuisance_scenes: Vec<String>,
 }
 
 /// The cautions printed with every result.
@@ -269,16 +345,50 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
                         trials: v.trials,
                         outcome: outcome(v.events, t.detected, t.false_alarms, v.exposure_ns),
                         latency_median_s: latency_stats(&t.latencies_ms).0,
+                        false_on_s: t.false_on_ns as f64 * 1e-9,
                     }
                 })
                 .collect();
             latencies.sort_unstable();
             let (median, interval, p90) = latency_stats(&latencies);
+            let calibration_rooms: Vec<RoomRate> = op
+                .rooms
+                .iter()
+                .map(|r| {
+                    let hours = r.exposure_ns as f64 / 3.6e12;
+                    RoomRate {
+                        room: r.name(),
+                        false_alarms: r.false_alarms,
+                        exposure_hours: hours,
+                        false_alarms_per_hour: Estimate::rate(r.false_alarms, hours),
+                    }
+                })
+                .collect();
+            let pooled_hours = op.calibration_exposure_ns as f64 / 3.6e12;
+            let resolved = if op.rule == crate::suite::ThresholdRule::WorstRoom.name() {
+                calibration_rooms
+                    .iter()
+                    .filter(|r| r.exposure_hours > 0.0)
+                    .all(|r| resolves(r.exposure_hours, op.target_per_hour))
+            } else {
+                resolves(pooled_hours, op.target_per_hour)
+            };
+            let (mut stuck, mut false_on_ns) = (0, 0);
+            for v in &d.variants {
+                stuck += v.operating[o].stuck_recounts;
+                false_on_ns += v.operating[o].false_on_ns;
+            }
             OperatingSummary {
                 target_false_alarms_per_hour: op.target_per_hour,
                 threshold: op.threshold,
                 calibration_false_alarms: op.calibration_false_alarms,
-                calibration_exposure_hours: op.calibration_exposure_ns as f64 / 3.6e12,
+                calibration_exposure_hours: pooled_hours,
+                rule: op.rule.clone(),
+                limiting_room: op.limiting_room.clone(),
+                calibration_rooms,
+                resolved,
+                stuck_recounts: stuck,
+                false_on_hours: false_on_ns as f64 / 3.6e12,
                 outcome: outcome(events, detected, false_alarms, exposure_ns),
                 latency_median_s: median,
                 latency_median_interval_s: interval,
@@ -315,6 +425,7 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
         }
     });
     DetectorSummary {
+        product: d.product.clone(),
         label: d.label.clone(),
         plugin: d.plugin.clone(),
         params: d.params.iter().cloned().collect(),
@@ -327,6 +438,28 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
         failures: d.failures.clone(),
         declared_cost,
     }
+}
+
+/// Whether `hours` of calibration can show a rate of `target` per hour: zero alarms in
+/// `T` hours put the one-sided 95 % upper bound at −ln(0.05)/T ≈ 3.0/T (the Poisson
+/// zero-count bound; Garwood 1936), so `T ≥ −ln(0.05)/target` is needed.
+pub fn resolves(hours: f64, target_per_hour: f64) -> bool {
+    hours * target_per_hour >= -(0.05f64.ln())
+}
+
+/// A false-alarm rate per hour as people say it: `1/h`, `1/day`, `1/week`, `1/month`
+/// (30 days), or the number per hour.
+pub fn rate_label(per_hour: f64) -> String {
+    const NAMED: [(f64, &str); 4] = [
+        (1.0, "1/h"),
+        (1.0 / 24.0, "1/day"),
+        (1.0 / 168.0, "1/week"),
+        (1.0 / 720.0, "1/month"),
+    ];
+    NAMED
+        .iter()
+        .find(|(rate, _)| (per_hour / rate - 1.0).abs() < 1e-3)
+        .map_or_else(|| format!("{per_hour}/h"), |(_, name)| (*name).to_string())
 }
 
 fn clopper_pearson(k: u64, n: u64) -> Estimate {
@@ -352,8 +485,166 @@ pub fn summarise(tallies: &Tallies, suite: &Suite) -> Summary {
         m_of_n: suite.alarm.m_of_n,
         event_tolerance_s: (suite.scoring.early_s, suite.scoring.late_s),
         false_alarm_budget_per_hour: suite.scoring.false_alarm_budget_per_hour,
+        products: suite
+            .products
+            .iter()
+            .map(|p| summarise_product(p, suite))
+            .collect(),
         detectors: tallies.detectors.iter().map(summarise_detector).collect(),
+        miss_reasons: miss_reasons(tallies, suite),
         cautions: CAUTIONS.to_string(),
+    }
+}
+
+/// Pd below which a detection-table cell gets a reason.
+pub const MISS_PD: f64 = 0.5;
+
+/// Why each detector misses each target scene variant it detects with Pd below
+/// [`MISS_PD`] at the first target rate. The reasons are computed, in this order:
+///
+/// 1. **out of band**: the suite's coverage check found the detector's motion bands miss
+///    the scene's Doppler (or a nuisance band holds the torso line, or it aliases);
+/// 2. **masked by a room**: under the worst-room rule, the room that set the threshold is
+///    dropped and the threshold the other rooms allow is taken from the calibration
+///    counts; if the scene's test Pd there (from the grid tallies) reaches [`MISS_PD`] and
+///    rises by at least 0.25, that room masks the target;
+/// 3. **out of range**: even at the threshold the quietest room alone allows, the test Pd
+///    stays below [`MISS_PD`]: the target's echo is too weak for the detector where it
+///    walks (too far, too far off the beam, or too slow a radial motion);
+/// 4. otherwise **masked by several rooms** (the quietest room's threshold would detect it).
+///
+/// A variant with no event to detect (a person present but not moving) says so.
+pub fn miss_reasons(tallies: &Tallies, suite: &Suite) -> Vec<MissReason> {
+    let mut out = Vec::new();
+    for d in &tallies.detectors {
+        let Some(op) = d.operating.first() else {
+            continue;
+        };
+        let target = op.target_per_hour;
+        let meets = |r: &crate::runner::RoomGrid, g: usize| {
+            let hours = r.exposure_ns as f64 / 3.6e12;
+            hours > 0.0 && r.false_alarms[g] as f64 / hours <= target
+        };
+        let lowest_meeting = |rooms: &[&crate::runner::RoomGrid]| {
+            (0..d.thresholds.len())
+                .find(|&g| rooms.iter().all(|r| meets(r, g)))
+                .unwrap_or(d.thresholds.len() - 1)
+        };
+        let measured: Vec<&crate::runner::RoomGrid> = d
+            .calibration_rooms
+            .iter()
+            .filter(|r| r.exposure_ns > 0)
+            .collect();
+        // The quietest room: the one whose own target is met at the lowest threshold.
+        let quiet = measured.iter().map(|r| lowest_meeting(&[*r])).min();
+        let without_limiting = op.limiting_room.as_ref().map(|limiting| {
+            let others: Vec<&crate::runner::RoomGrid> = measured
+                .iter()
+                .filter(|r| {
+                    crate::runner::room_name(&r.scene, r.sweep_value.as_deref()) != *limiting
+                })
+                .copied()
+                .collect();
+            (limiting.clone(), lowest_meeting(&others))
+        });
+        for v in &d.variants {
+            if v.label != "target" {
+                continue;
+            }
+            let found = |kind: &str, pd: f64, reason: String| MissReason {
+                product: d.product.clone(),
+                detector: d.label.clone(),
+                scene: v.scene.clone(),
+                sweep_value: v.sweep_value.clone(),
+                pd,
+                kind: kind.to_string(),
+                reason,
+            };
+            if v.trials > 0 && v.events == 0 {
+                out.push(found(
+                    "no event",
+                    0.0,
+                    "no event to detect: the person never moves inside the zone (present, not moving)".into(),
+                ));
+                continue;
+            }
+            let pd_at = |g: usize| v.detected[g] as f64 / v.events.max(1) as f64;
+            let pd =
+                v.operating.first().map_or(0.0, |t| t.detected as f64) / v.events.max(1) as f64;
+            if v.events == 0 || pd >= MISS_PD {
+                continue;
+            }
+            if let Some(c) = suite.coverage.iter().find(|c| {
+                c.detector == d.label && c.scene == v.scene && c.sweep_value == v.sweep_value
+            }) {
+                out.push(found("out of band", pd, c.short.clone()));
+                continue;
+            }
+            if let Some((room, g)) = &without_limiting {
+                let without = pd_at(*g);
+                if *g < op.grid_index && without >= MISS_PD && without >= pd + 0.25 {
+                    out.push(found(
+                        "masked",
+                        pd,
+                        format!("masked by `{room}` (Pd {without:.2} at the threshold the other rooms allow)"),
+                    ));
+                    continue;
+                }
+            }
+            match quiet {
+                Some(g) if pd_at(g) < MISS_PD => out.push(found(
+                    "out of range",
+                    pd,
+                    format!(
+                        "out of range: too weak even at the quietest room's threshold (Pd {:.2})",
+                        pd_at(g)
+                    ),
+                )),
+                Some(g) => out.push(found(
+                    "masked",
+                    pd,
+                    format!(
+                        "masked by several rooms (Pd {:.2} at the quietest room's threshold)",
+                        pd_at(g)
+                    ),
+                )),
+                None => {}
+            }
+        }
+    }
+    out
+}
+
+fn summarise_product(product: &crate::suite::Product, suite: &Suite) -> ProductSummary {
+    let scenes: Vec<&crate::suite::SuiteScene> = suite
+        .scenes
+        .iter()
+        .filter(|s| s.product == product.name)
+        .collect();
+    let sensor = scenes.first().map(|s| &s.variants[0].scene.sensor);
+    let rooms = |label: crate::suite::SceneLabel| {
+        scenes
+            .iter()
+            .filter(|s| s.label == label)
+            .flat_map(|s| {
+                s.variants
+                    .iter()
+                    .map(|v| crate::runner::room_name(&s.id, v.sweep_value.as_deref()))
+            })
+            .collect()
+    };
+    ProductSummary {
+        name: product.name.clone(),
+        about: product.about.clone(),
+        carrier_hz: sensor.map_or(0.0, |s| s.carrier_hz),
+        sample_rate_hz: sensor.map_or(0.0, |s| s.sample_rate_hz),
+        output: match sensor.map(|s| s.output) {
+            Some(echobench_core::Channels::Iq) => "iq".into(),
+            _ => "real".into(),
+        },
+        threshold_rule: suite.scoring.threshold_rule.name().into(),
+        target_scenes: rooms(crate::suite::SceneLabel::Target),
+        nuisance_scenes: rooms(crate::suite::SceneLabel::Nuisance),
     }
 }
 
@@ -464,106 +755,287 @@ fn fmt_pd(e: &Estimate) -> String {
     }
 }
 
-/// The console table: one block per detector.
+/// Widest console line the tables aim for; wider tables are cut into groups of columns.
+const CONSOLE_WIDTH: usize = 150;
+
+/// A text table: a first column of row names, then one column per detector (each as wide
+/// as its widest cell), cut into groups of columns that fit [`CONSOLE_WIDTH`].
+fn grid_table(corner: &str, columns: &[String], rows: &[(String, Vec<String>)]) -> String {
+    let first = rows
+        .iter()
+        .map(|(name, _)| name.chars().count())
+        .chain([corner.chars().count()])
+        .max()
+        .unwrap_or(0);
+    let widths: Vec<usize> = columns
+        .iter()
+        .enumerate()
+        .map(|(c, title)| {
+            rows.iter()
+                .filter_map(|(_, cells)| cells.get(c))
+                .map(|cell| cell.chars().count())
+                .chain([title.chars().count()])
+                .max()
+                .unwrap_or(0)
+                + 2
+        })
+        .collect();
+    let mut groups: Vec<std::ops::Range<usize>> = Vec::new();
+    let mut start = 0;
+    let mut used = first + 2;
+    for (c, w) in widths.iter().enumerate() {
+        if c > start && used + w > CONSOLE_WIDTH {
+            groups.push(start..c);
+            start = c;
+            used = first + 2;
+        }
+        used += w;
+    }
+    groups.push(start..columns.len());
+    let mut out = String::new();
+    for group in groups {
+        out.push_str(&format!("  {corner:<first$}"));
+        for c in group.clone() {
+            let width = widths[c];
+            out.push_str(&format!("{:>width$}", columns[c]));
+        }
+        out.push('\n');
+        for (name, cells) in rows {
+            out.push_str(&format!("  {name:<first$}"));
+            for c in group.clone() {
+                let width = widths[c];
+                out.push_str(&format!(
+                    "{:>width$}",
+                    cells.get(c).map_or("", String::as_str)
+                ));
+            }
+            out.push('\n');
+        }
+    }
+    out
+}
+
+fn fmt_pd_latency(s: &SceneOutcome) -> String {
+    let pd = &s.outcome.pd;
+    match (pd.value, pd.low, pd.high) {
+        (Some(v), Some(l), Some(h)) => {
+            let latency = s
+                .latency_median_s
+                .map_or("   —".to_string(), |x| format!("{x:>4.1}s"));
+            format!("{v:.2} [{l:.2},{h:.2}] {latency}")
+        }
+        _ => "—".into(),
+    }
+}
+
+fn fmt_fa_compact(e: &Estimate) -> String {
+    match (e.value, e.low, e.high) {
+        (Some(v), Some(l), Some(h)) => format!("{v:.2} [{l:.2},{h:.2}]"),
+        _ => "—".into(),
+    }
+}
+
+/// The scene rows of one label at operating point `o`, for the product's detectors.
+fn scene_rows(
+    detectors: &[&DetectorSummary],
+    o: usize,
+    label: &str,
+    cell: impl Fn(&SceneOutcome) -> String,
+) -> Vec<(String, Vec<String>)> {
+    let Some(first) = detectors.first().and_then(|d| d.operating_points.get(o)) else {
+        return Vec::new();
+    };
+    first
+        .by_scene
+        .iter()
+        .enumerate()
+        .filter(|(_, s)| s.label == label)
+        .map(|(i, s)| {
+            let name = crate::runner::room_name(&s.scene, s.sweep_value.as_deref());
+            let cells = detectors
+                .iter()
+                .map(|d| {
+                    d.operating_points
+                        .get(o)
+                        .and_then(|op| op.by_scene.get(i))
+                        .map_or("—".into(), &cell)
+                })
+                .collect();
+            (name, cells)
+        })
+        .collect()
+}
+
+/// The console verdict: per product, a ranking, a detection table (target scenes ×
+/// detectors) and a false-alarm table (rooms × detectors) at the first target rate,
+/// then what the calibration can and cannot resolve.
 pub fn console_table(summary: &Summary, timing: Option<&Timing>) -> String {
     let mut out = String::new();
     out.push_str(&format!(
-        "suite `{}`, seed {}: {} test trials, {:.2} h of signal; 95 % intervals\n\n",
+        "suite `{}`, seed {}: {} test trials, {:.2} h of signal; 95 % intervals\n",
         summary.suite, summary.seed, summary.test_trials, summary.test_signal_hours
     ));
-    out.push_str(&format!(
-        "{:<20} {:>11} {:>20} {:>20} {:>9} {:>20}\n",
-        "detector",
-        "trial AUC",
-        "Pd @ 1st target",
-        "Pd @ 2nd target",
-        "latency",
-        "FA/h @ 1st target"
-    ));
-    for d in &summary.detectors {
-        let auc = d.trial_auc.map_or("—".into(), |a| format!("{a:.3}"));
-        let pd = |i: usize| {
-            d.operating_points
-                .get(i)
-                .map_or("—".into(), |o| fmt_pd(&o.outcome.pd))
-        };
-        let latency = d
-            .operating_points
-            .first()
-            .and_then(|o| o.latency_median_s)
-            .map_or("—".into(), |l| format!("{l:.2} s"));
-        let fa = d
-            .operating_points
-            .first()
-            .map_or("—".into(), |o| fmt_rate(&o.outcome.false_alarms_per_hour));
-        out.push_str(&format!(
-            "{:<20} {:>11} {:>20} {:>20} {:>9} {:>20}\n",
-            d.label,
-            auc,
-            pd(0),
-            pd(1),
-            latency,
-            fa
-        ));
-    }
-    out.push('\n');
-    if let Some(first) = summary
-        .detectors
-        .first()
-        .and_then(|d| d.operating_points.first())
-    {
-        out.push_str(&format!(
-            "targets: {} false alarms per hour",
-            first.target_false_alarms_per_hour
-        ));
-        if let Some(second) = summary
-            .detectors
-            .first()
-            .and_then(|d| d.operating_points.get(1))
-        {
-            out.push_str(&format!(" and {:.4}", second.target_false_alarms_per_hour));
-        }
-        out.push_str(&format!(
-            "; thresholds chosen on {:.2} h of calibration noise-only time",
-            first.calibration_exposure_hours
-        ));
-        let too_short = summary
+    for product in &summary.products {
+        let detectors: Vec<&DetectorSummary> = summary
             .detectors
             .iter()
-            .flat_map(|d| &d.operating_points)
-            .any(|o| o.target_false_alarms_per_hour * o.calibration_exposure_hours < 1.0);
-        if too_short {
-            out.push_str(
-                ",\n  too short to tell targets below one alarm per calibration period apart (their threshold is the lowest with no calibration alarm): add calibration trials to separate them",
+            .filter(|d| d.product == product.name)
+            .collect();
+        let reasons: Vec<&MissReason> = summary
+            .miss_reasons
+            .iter()
+            .filter(|r| r.product == product.name)
+            .collect();
+        out.push_str(&product_block(product, &detectors, &reasons));
+    }
+    if let Some(t) = timing {
+        out.push_str(&format!(
+            "\n{:.1} s wall; synthesis {:.1} s, detectors {:.1} s (summed over threads); {:.0} trial-seconds per wall second\n",
+            t.wall_s,
+            t.synthesis_s,
+            t.detector_s.values().sum::<f64>(),
+            summary.test_signal_hours * 3600.0 / t.wall_s.max(1e-9)
+        ));
+    }
+    out.push_str(&format!("\n{CAUTIONS}\n"));
+    out
+}
+
+/// The miss reasons of one product, one line per scene variant.
+fn reason_lines(reasons: &[&MissReason]) -> String {
+    let mut out = String::new();
+    let mut rows: Vec<(String, Vec<String>)> = Vec::new();
+    for r in reasons {
+        let scene = crate::runner::room_name(&r.scene, r.sweep_value.as_deref());
+        let text = format!("{} — {}", r.detector, r.reason);
+        match rows.iter_mut().find(|(s, _)| *s == scene) {
+            Some((_, list)) => list.push(text),
+            None => rows.push((scene, vec![text])),
+        }
+    }
+    if !rows.is_empty() {
+        out.push_str("  why (every cell below Pd 0.5):\n");
+    }
+    for (scene, list) in rows {
+        out.push_str(&format!("    {scene}:\n"));
+        for text in list {
+            out.push_str(&format!("      {text}\n"));
+        }
+    }
+    out
+}
+
+fn product_block(
+    product: &ProductSummary,
+    detectors: &[&DetectorSummary],
+    reasons: &[&MissReason],
+) -> String {
+    let mut out = String::new();
+    let output = if product.output == "iq" {
+        "I/Q"
+    } else {
+        "real"
+    };
+    out.push_str(&format!(
+        "\n== product `{}`: {:.3} GHz, {} Hz {output}; {} target scene variants, {} rooms; thresholds {} ==\n",
+        product.name,
+        product.carrier_hz / 1e9,
+        product.sample_rate_hz,
+        product.target_scenes.len(),
+        product.nuisance_scenes.len(),
+        if product.threshold_rule == "pooled" {
+            "on the pooled calibration time"
+        } else {
+            "met in every room (worst room)"
+        }
+    ));
+    if !product.about.is_empty() {
+        out.push_str(&format!("   {}\n", product.about));
+    }
+    let Some(first) = detectors.first() else {
+        return out;
+    };
+    let rates: Vec<f64> = first
+        .operating_points
+        .iter()
+        .map(|o| o.target_false_alarms_per_hour)
+        .collect();
+    let label0 = rates.first().map_or_else(String::new, |r| rate_label(*r));
+    // Ranking: by Pd at the first target, then fewer test false alarms, then AUC.
+    let mut ranked: Vec<&&DetectorSummary> = detectors.iter().collect();
+    ranked.sort_by(|a, b| {
+        let pd = |d: &DetectorSummary| {
+            d.operating_points
+                .first()
+                .and_then(|o| o.outcome.pd.value)
+                .unwrap_or(-1.0)
+        };
+        let fa = |d: &DetectorSummary| {
+            d.operating_points
+                .first()
+                .and_then(|o| o.outcome.false_alarms_per_hour.value)
+                .unwrap_or(f64::INFINITY)
+        };
+        pd(b).total_cmp(&pd(a)).then(fa(a).total_cmp(&fa(b))).then(
+            b.trial_auc
+                .unwrap_or(0.0)
+                .total_cmp(&a.trial_auc.unwrap_or(0.0)),
+        )
+    });
+    let mut columns = vec!["trial AUC".to_string()];
+    columns.extend(rates.iter().map(|r| format!("Pd @ {}", rate_label(*r))));
+    columns.push(format!("latency @ {label0}"));
+    columns.push(format!("FA/h @ {label0}"));
+    columns.push(format!("on-time @ {label0}"));
+    let rows: Vec<(String, Vec<String>)> = ranked
+        .iter()
+        .map(|d| {
+            let mut cells = vec![d.trial_auc.map_or("—".into(), |a| format!("{a:.3}"))];
+            cells.extend(d.operating_points.iter().map(|o| fmt_pd(&o.outcome.pd)));
+            let op = d.operating_points.first();
+            cells.push(
+                op.and_then(|o| o.latency_median_s)
+                    .map_or("—".into(), |l| format!("{l:.2} s")),
             );
-        }
-        out.push('\n');
-    }
-    out.push_str("false alarms at the 1st target, by the nuisance active at the time:\n");
-    for d in &summary.detectors {
-        if let Some(op) = d.operating_points.first() {
-            let parts: Vec<String> = op
-                .false_alarms_by_source
-                .iter()
-                .map(|(k, n)| {
+            cells.push(op.map_or("—".into(), |o| fmt_rate(&o.outcome.false_alarms_per_hour)));
+            cells.push(op.map_or("—".into(), |o| {
+                if o.outcome.exposure_hours > 0.0 {
                     format!(
-                        "{k} {:.2}/h",
-                        *n as f64 / op.outcome.exposure_hours.max(1e-12)
+                        "{:.2} %",
+                        100.0 * o.false_on_hours / o.outcome.exposure_hours
                     )
-                })
-                .collect();
-            out.push_str(&format!(
-                "  {:<20} {}\n",
-                d.label,
-                if parts.is_empty() {
-                    "none".to_string()
                 } else {
-                    parts.join(", ")
+                    "—".into()
                 }
-            ));
-        }
+            }));
+            (d.label.clone(), cells)
+        })
+        .collect();
+    out.push_str(
+        "ranking (Pd per target event; FA/h and on-time on the test trials' noise-only time):\n",
+    );
+    out.push_str(&grid_table("detector", &columns, &rows));
+
+    let names: Vec<String> = detectors.iter().map(|d| d.label.clone()).collect();
+    let detection = scene_rows(detectors, 0, "target", fmt_pd_latency);
+    if !detection.is_empty() {
+        out.push_str(&format!(
+            "\ndetection @ {label0} per target scene (Pd [95 % interval], median latency):\n"
+        ));
+        out.push_str(&grid_table("scene", &names, &detection));
+        out.push_str(&reason_lines(reasons));
     }
-    for d in &summary.detectors {
+    let false_alarms = scene_rows(detectors, 0, "nuisance", |s| {
+        fmt_fa_compact(&s.outcome.false_alarms_per_hour)
+    });
+    if !false_alarms.is_empty() {
+        out.push_str(&format!(
+            "\nfalse alarms per hour @ {label0} per room (test trials, 95 % interval):\n"
+        ));
+        out.push_str(&grid_table("room", &names, &false_alarms));
+    }
+    out.push_str(&calibration_notes(detectors, &rates));
+    for d in detectors {
         if let Some(n) = &d.nominal {
             out.push_str(&format!(
                 "{}: nominal per-frame Pfa {:.2e} at threshold {:.3}; measured on nuisance scenes {}\n",
@@ -587,15 +1059,84 @@ pub fn console_table(summary: &Summary, timing: Option<&Timing>) -> String {
             ));
         }
     }
-    if let Some(t) = timing {
+    out
+}
+
+/// What the calibration resolved, and which room set each detector's threshold.
+fn calibration_notes(detectors: &[&DetectorSummary], rates: &[f64]) -> String {
+    let mut out = String::new();
+    let Some(first) = detectors.first() else {
+        return out;
+    };
+    let hours: Vec<f64> = first
+        .operating_points
+        .first()
+        .map(|o| {
+            o.calibration_rooms
+                .iter()
+                .map(|r| r.exposure_hours)
+                .filter(|h| *h > 0.0)
+                .collect()
+        })
+        .unwrap_or_default();
+    let worst_room = first
+        .operating_points
+        .first()
+        .is_some_and(|o| o.rule == crate::suite::ThresholdRule::WorstRoom.name());
+    let (low, high) = hours
+        .iter()
+        .fold((f64::INFINITY, 0.0f64), |(l, h), x| (l.min(*x), h.max(*x)));
+    out.push_str("\ncalibration: ");
+    if worst_room && !hours.is_empty() {
         out.push_str(&format!(
-            "\n{:.1} s wall; synthesis {:.1} s, detectors {:.1} s (summed over threads); {:.0} trial-seconds per wall second\n",
-            t.wall_s,
-            t.synthesis_s,
-            t.detector_s.values().sum::<f64>(),
-            summary.test_signal_hours * 3600.0 / t.wall_s.max(1e-9)
+            "thresholds chosen so that each target is met in every room, on {low:.2}–{high:.2} h of noise-only time per room"
+        ));
+    } else {
+        out.push_str(&format!(
+            "thresholds chosen on {:.2} h of pooled noise-only time",
+            first
+                .operating_points
+                .first()
+                .map_or(0.0, |o| o.calibration_exposure_hours)
         ));
     }
-    out.push_str(&format!("\n{CAUTIONS}\n"));
+    out.push('\n');
+    for (o, rate) in rates.iter().enumerate() {
+        let resolved = detectors
+            .iter()
+            .all(|d| d.operating_points.get(o).is_some_and(|p| p.resolved));
+        let need = -(0.05f64.ln()) / rate;
+        if resolved {
+            out.push_str(&format!(
+                "  {}: resolved (at least {need:.1} h per room, where zero alarms bound the rate below the target at 95 %)\n",
+                rate_label(*rate)
+            ));
+        } else {
+            out.push_str(&format!(
+                "  {}: NOT resolved: it needs {need:.1} h per room; its threshold is the lowest with no more calibration alarms than the time allows, so its Pd is optimistic about false alarms\n",
+                rate_label(*rate)
+            ));
+        }
+    }
+    if worst_room {
+        let parts: Vec<String> = detectors
+            .iter()
+            .filter_map(|d| {
+                let op = d.operating_points.first()?;
+                Some(format!(
+                    "{} ← {}",
+                    d.label,
+                    op.limiting_room
+                        .as_deref()
+                        .unwrap_or("none (lowest threshold)")
+                ))
+            })
+            .collect();
+        out.push_str(&format!(
+            "  room that set each threshold @ {}: {}\n",
+            rates.first().map_or_else(String::new, |r| rate_label(*r)),
+            parts.join(", ")
+        ));
+    }
     out
 }

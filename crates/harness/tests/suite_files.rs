@@ -22,7 +22,7 @@ use echobench_harness::suite_file::{
 use echobench_scene::actors::{ActorKind, Route};
 use echobench_scene::param::Param;
 use echobench_scene::SceneSpec;
-use echobench_yaml_reader::{parse, Limits, Report, Severity, Value};
+use echobench_yaml_reader::{parse, Limits, Node, Report, Severity, Value};
 use rand_chacha::rand_core::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use std::panic::{catch_unwind, AssertUnwindSafe};
@@ -322,9 +322,9 @@ fn the_size_stated_at_the_top_of_the_default_suite_is_its_size() {
     assert_eq!(stated_test, test_s);
     assert_eq!(stated_calibration, calibration_s);
     assert_eq!(total, test_s + calibration_s);
-    // The budget: the default suite must run in well under a minute on two cores;
-    // the runner scores about 1400 trial-seconds per wall second there (README).
-    assert!(total <= 20_000.0, "{total} trial-seconds");
+    // The budget: the default suite must run in about a minute on two cores; the
+    // runner scores about 2000 trial-seconds per wall second there (README).
+    assert!(total <= 120_000.0, "{total} trial-seconds");
 }
 
 #[test]
@@ -354,9 +354,17 @@ fn the_embedded_table_matches_the_folder_and_the_suite() {
 
     // Every embedded file is named by the suite, so none rides along unused.
     let root = parse("default-suite.yaml", DEFAULT_SUITE_YAML, &Limits::default()).unwrap();
-    let Some(Value::Seq(entries)) = root.get("scenes").map(|n| &n.value) else {
-        panic!("a list of scenes");
+    let Some(Value::Seq(products)) = root.get("products").map(|n| &n.value) else {
+        panic!("a list of products");
     };
+    let entries: Vec<&Node> = products
+        .iter()
+        .filter_map(|p| match p.get("scenes").map(|n| &n.value) {
+            Some(Value::Seq(entries)) => Some(entries.iter()),
+            _ => None,
+        })
+        .flatten()
+        .collect();
     let mut named: Vec<String> = entries
         .iter()
         .filter_map(|e| match e.get("file").map(|f| &f.value) {

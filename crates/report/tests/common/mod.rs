@@ -66,9 +66,9 @@ scenes:
         output: real
         position_m: [0, 0, 2.1]
         azimuth_deg: 0
-        elevation_deg: -15
+        elevation_deg: -10
         beam_azimuth_3db_deg: 80
-        beam_elevation_3db_deg: 60
+        beam_elevation_3db_deg: 40
         front_end:
           high_pass_hz: [0.5]
           low_pass_hz: [100, 100]
@@ -101,6 +101,7 @@ scenes:
         carrier_hz: 2.45e9
         sample_rate_hz: 2000
         output: real
+        elevation_deg: -10
         front_end:
           high_pass_hz: [0.5]
           low_pass_hz: [100, 100]
