@@ -237,17 +237,17 @@ scoring:
         succeed(&echobench, args);
     };
     ok(&["run", suite_arg, "--out", &path("before")]);
-    ok(&["save-baseline", &path("before"), "--to", &path("base")]);
+    ok(&["keep", &path("before"), "--as", &path("base")]);
     ok(&[
         "run",
         suite_arg,
-        "--baseline",
+        "--against",
         &path("base"),
         "--out",
         &path("after"),
     ]);
 
-    let result = call(&["gate", &path("after"), "--baseline", &path("base")]);
+    let result = call(&["gate", &path("after"), "--against", &path("base")]);
     let stdout = String::from_utf8_lossy(&result.stdout);
     assert_eq!(result.status.code(), Some(0), "{stdout}");
     assert!(stdout.contains("gate: pass"));
@@ -272,7 +272,7 @@ scoring:
     );
     std::fs::write(&tallies_file, serde_json::to_string(&tallies).unwrap()).unwrap();
     // A file changed by hand no longer matches the folder's manifest: refused, exit 2.
-    let result = call(&["gate", &path("after"), "--baseline", &path("base")]);
+    let result = call(&["gate", &path("after"), "--against", &path("base")]);
     assert_eq!(result.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&result.stderr).contains("tallies.json is not the file of run"));
     // Sealed again on purpose, the doctored baseline is read.
@@ -282,7 +282,7 @@ scoring:
         echobench_run_folder::FolderKind::Reference,
     )
     .unwrap();
-    let result = call(&["gate", &path("after"), "--baseline", &path("base")]);
+    let result = call(&["gate", &path("after"), "--against", &path("base")]);
     let stdout = String::from_utf8_lossy(&result.stdout);
     assert_eq!(result.status.code(), Some(1), "{stdout}");
     assert!(
@@ -304,10 +304,11 @@ scoring:
                 && n.children().any(|c| c.has_tag_name("failure"))
         ));
 
-    // A run made without --baseline: an error, exit 2, and the message says what to do.
-    let result = call(&["gate", &path("before"), "--baseline", &path("base")]);
+    // A run made without --against: an error, exit 2, and the message says what to do.
+    let result = call(&["gate", &path("before"), "--against", &path("base")]);
     assert_eq!(result.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&result.stderr).contains("--baseline"));
+    let stderr = String::from_utf8_lossy(&result.stderr);
+    assert!(stderr.contains("--against"), "{stderr}");
     std::fs::remove_dir_all(&dir).unwrap();
 }
 
@@ -367,16 +368,21 @@ detectors:
     assert!(String::from_utf8_lossy(&refused.stderr).contains("--allow-exec"));
     assert!(!out.exists(), "nothing ran");
 
-    succeed(
-        &echobench,
-        &[
+    // The run completes and writes its folder, but a detector that failed on every test
+    // trial makes it exit 3 (README, "Exit codes"), naming the detector.
+    let result = Command::new(&echobench)
+        .args([
             "run",
             suite.to_str().unwrap(),
             "--allow-exec",
             "--out",
             out.to_str().unwrap(),
-        ],
-    );
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(result.status.code(), Some(3));
+    assert!(String::from_utf8_lossy(&result.stderr)
+        .contains("detector crasher failed on every test trial"));
     let summary: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
     let detectors = summary["detectors"].as_array().unwrap();

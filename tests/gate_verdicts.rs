@@ -102,15 +102,11 @@ fn zero_false_alarms_in_too_little_time_is_inconclusive_and_a_high_rate_fails() 
     std::fs::create_dir_all(&dir).unwrap();
     std::fs::write(dir.join("suite.yaml"), SUITE).unwrap();
     succeed(&echobench, &dir, &["run", "suite.yaml", "--out", "before"]);
+    succeed(&echobench, &dir, &["keep", "before", "--as", "base"]);
     succeed(
         &echobench,
         &dir,
-        &["save-baseline", "before", "--to", "base"],
-    );
-    succeed(
-        &echobench,
-        &dir,
-        &["run", "suite.yaml", "--baseline", "base", "--out", "after"],
+        &["run", "suite.yaml", "--against", "base", "--out", "after"],
     );
 
     // The candidate with its pinned false alarms removed, as a tallies file of its own.
@@ -148,7 +144,7 @@ fn zero_false_alarms_in_too_little_time_is_inconclusive_and_a_high_rate_fails() 
         let mut args = vec![
             "gate",
             "quiet-tallies.json",
-            "--baseline",
+            "--against",
             "base",
             "--budget-per-hour",
             &budget_arg,
@@ -206,7 +202,7 @@ fn zero_false_alarms_in_too_little_time_is_inconclusive_and_a_high_rate_fails() 
         &[
             "gate",
             "after",
-            "--baseline",
+            "--against",
             "base",
             "--budget-per-hour",
             "1",

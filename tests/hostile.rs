@@ -133,12 +133,8 @@ fn readers(
             ),
         ),
         (
-            "save-baseline".to_string(),
-            call(
-                echobench,
-                &["save-baseline", f, "--to", kept.to_str().unwrap()],
-                &[],
-            ),
+            "keep".to_string(),
+            call(echobench, &["keep", f, "--as", kept.to_str().unwrap()], &[]),
         ),
         (
             "gate".to_string(),
@@ -147,7 +143,7 @@ fn readers(
                 &[
                     "gate",
                     pinned.to_str().unwrap(),
-                    "--baseline",
+                    "--against",
                     f,
                     "--markdown",
                     scratch.join("reader-gate.md").to_str().unwrap(),
@@ -218,7 +214,7 @@ fn a_run_killed_at_any_step_leaves_no_folder_or_a_whole_one() {
         &[
             "run",
             &suite_arg,
-            "--baseline",
+            "--against",
             old.to_str().unwrap(),
             "--out",
             pinned.to_str().unwrap(),
@@ -355,7 +351,7 @@ fn every_reader_refuses_a_mixed_an_empty_or_a_partial_folder() {
         &[
             "run",
             &suite_arg,
-            "--baseline",
+            "--against",
             a.to_str().unwrap(),
             "--out",
             pinned.to_str().unwrap(),
@@ -395,13 +391,13 @@ fn every_reader_refuses_a_mixed_an_empty_or_a_partial_folder() {
     std::fs::remove_file(b.join("summary.json")).unwrap();
     assert_all_refuse(&echobench, &b, &pinned, &dir, "summary.json is missing");
 
-    // `run --baseline` and `merge` read folders too.
+    // `run --against` and `merge` read folders too.
     let out = expect(
         &echobench,
         &[
             "run",
             &suite_arg,
-            "--baseline",
+            "--against",
             a.to_str().unwrap(),
             "--out",
             dir.join("x").to_str().unwrap(),
@@ -472,10 +468,10 @@ fn an_existing_out_is_refused_unless_replaced_and_then_holds_only_the_new_run() 
     // The old run, gated: its gate files join it as a whole-folder amendment.
     expect(
         &echobench,
-        &["run", &suite_arg, "--baseline", r, "--out", out],
+        &["run", &suite_arg, "--against", r, "--out", out],
         0,
     );
-    expect(&echobench, &["gate", out, "--baseline", r], 0);
+    expect(&echobench, &["gate", out, "--against", r], 0);
     let before = manifest_run_id(&out_dir);
     for gate_file in ["gate.md", "gate.json", "gate-junit.xml"] {
         assert!(out_dir.join(gate_file).exists());
@@ -509,24 +505,18 @@ fn an_existing_out_is_refused_unless_replaced_and_then_holds_only_the_new_run() 
     let kept = dir.join("kept");
     expect(
         &echobench,
-        &["save-baseline", out, "--to", kept.to_str().unwrap()],
+        &["keep", out, "--as", kept.to_str().unwrap()],
         0,
     );
     let again = expect(
         &echobench,
-        &["save-baseline", out, "--to", kept.to_str().unwrap()],
+        &["keep", out, "--as", kept.to_str().unwrap()],
         2,
     );
     assert!(text(&again.stderr).contains("--replace"));
     expect(
         &echobench,
-        &[
-            "save-baseline",
-            out,
-            "--to",
-            kept.to_str().unwrap(),
-            "--replace",
-        ],
+        &["keep", out, "--as", kept.to_str().unwrap(), "--replace"],
         0,
     );
     std::fs::remove_dir_all(&dir).unwrap();
@@ -732,27 +722,27 @@ fn numeric_options_out_of_range_are_refused() {
     let r = run.to_str().unwrap();
     for (args, why) in [
         (
-            vec!["gate", r, "--baseline", r, "--alpha", "nan"],
+            vec!["gate", r, "--against", r, "--alpha", "nan"],
             "nan is outside (0, 0.5]",
         ),
         (
-            vec!["gate", r, "--baseline", r, "--alpha", "2"],
+            vec!["gate", r, "--against", r, "--alpha", "2"],
             "2 is outside (0, 0.5]",
         ),
         (
-            vec!["gate", r, "--baseline", r, "--alpha", "0"],
+            vec!["gate", r, "--against", r, "--alpha", "0"],
             "0 is outside (0, 0.5]",
         ),
         (
-            vec!["gate", r, "--baseline", r, "--ratio-margin", "0"],
+            vec!["gate", r, "--against", r, "--ratio-margin", "0"],
             "0 is outside [1, 100]",
         ),
         (
-            vec!["gate", r, "--baseline", r, "--ratio-margin", "inf"],
+            vec!["gate", r, "--against", r, "--ratio-margin", "inf"],
             "inf is outside [1, 100]",
         ),
         (
-            vec!["gate", r, "--baseline", r, "--budget-per-hour=-1"],
+            vec!["gate", r, "--against", r, "--budget-per-hour=-1"],
             "-1 is outside (0, 1000000]",
         ),
         (
@@ -821,12 +811,7 @@ fn merge_of_an_incomplete_shard_set_fails_unless_partial() {
     // A partial merge cannot become a reference.
     let out = expect(
         &echobench,
-        &[
-            "save-baseline",
-            m,
-            "--to",
-            dir.join("kept").to_str().unwrap(),
-        ],
+        &["keep", m, "--as", dir.join("kept").to_str().unwrap()],
         2,
     );
     assert!(text(&out.stderr).contains("holds only some shards"));
@@ -931,7 +916,7 @@ fn every_subcommand_ends_quietly_with_its_usual_status_on_a_closed_pipe() {
                 suite_arg.clone(),
                 "--out".into(),
                 path("piped"),
-                "--baseline".into(),
+                "--against".into(),
                 path("base"),
             ],
             0,
@@ -940,19 +925,14 @@ fn every_subcommand_ends_quietly_with_its_usual_status_on_a_closed_pipe() {
             vec![
                 "gate".into(),
                 path("piped"),
-                "--baseline".into(),
+                "--against".into(),
                 path("base"),
             ],
             0,
         ),
         (vec!["report".into(), path("piped")], 0),
         (
-            vec![
-                "save-baseline".into(),
-                path("base"),
-                "--to".into(),
-                path("kept"),
-            ],
+            vec!["keep".into(), path("base"), "--as".into(), path("kept")],
             0,
         ),
         (
@@ -978,7 +958,7 @@ fn every_subcommand_ends_quietly_with_its_usual_status_on_a_closed_pipe() {
             vec![
                 "gate".into(),
                 path("base"),
-                "--baseline".into(),
+                "--against".into(),
                 path("nothing"),
             ],
             2,

@@ -45,23 +45,24 @@ enum Command {
         /// Override the suite's seed.
         #[arg(long)]
         seed: Option<u64>,
-        /// Also score every detector at this baseline's operating thresholds, so that
-        /// `echobench gate` can compare the run with it (a run or baseline folder).
+        /// Also score every detector at this reference's operating thresholds, so that
+        /// `echobench gate` can compare the run with it (a folder from `echobench keep`, or a
+        /// whole run folder).
         #[arg(long)]
-        baseline: Option<PathBuf>,
+        against: Option<PathBuf>,
         /// Let detectors of the `external` plugin run the programs the suite names (off by
         /// default: a suite file alone must not start programs).
         #[arg(long)]
         allow_exec: bool,
     },
-    /// Compare a run with a baseline; exit 0 when nothing regressed, 1 on a regression (or an
+    /// Compare a run with a reference; exit 0 when nothing regressed, 1 on a regression (or an
     /// inconclusive budget check with --require-conclusive), 2 on an error.
     Gate {
-        /// The run folder (made with `echobench run --baseline BASELINE`).
+        /// The run folder (made with `echobench run --against REFERENCE`).
         run: PathBuf,
-        /// The baseline folder (from `echobench save-baseline`, or any whole run folder).
+        /// The reference folder (from `echobench keep`, or any whole run folder).
         #[arg(long)]
-        baseline: PathBuf,
+        against: PathBuf,
         /// A false-alarm rise must exceed this rate ratio to count as a regression (1 to 100).
         #[arg(long, default_value_t = 1.25, value_parser = parse_ratio_margin)]
         ratio_margin: f64,
@@ -89,21 +90,21 @@ enum Command {
     Report {
         /// The run folder.
         run: PathBuf,
-        /// A baseline to compare with (side by side; with the gate's verdict when the run
-        /// was made with `--baseline` of the same baseline).
+        /// A reference to compare with (side by side; with the gate's verdict when the run
+        /// was made with `--against` the same reference).
         #[arg(long)]
-        baseline: Option<PathBuf>,
+        against: Option<PathBuf>,
         /// The HTML file to write (default RUN/report.html).
         #[arg(long)]
         out: Option<PathBuf>,
     },
-    /// Save a whole run folder as a baseline folder for `run --baseline` and `gate`.
-    SaveBaseline {
+    /// Keep a whole run's results as a reference folder, for `run --against` and `gate`.
+    Keep {
         /// The run folder.
         run: PathBuf,
-        /// The baseline folder to write (refused if it exists, unless `--replace`).
-        #[arg(long)]
-        to: PathBuf,
+        /// The reference folder to write (refused if it exists, unless `--replace`).
+        #[arg(long = "as", value_name = "REFERENCE")]
+        as_folder: PathBuf,
         /// Replace an existing folder as a whole (atomic exchange).
         #[arg(long)]
         replace: bool,
@@ -120,7 +121,7 @@ enum Command {
         #[arg(long)]
         suite: Option<PathBuf>,
         /// Write the merge even when shards are missing (the folder then says which it holds,
-        /// and cannot be kept as a baseline).
+        /// and cannot be kept as a reference).
         #[arg(long)]
         partial: bool,
         /// Replace an existing `--out` folder as a whole (atomic exchange).
@@ -175,7 +176,7 @@ fn main() -> ExitCode {
             shard,
             threads,
             seed,
-            baseline,
+            against,
             allow_exec,
         } => run_suite(
             suite.as_deref(),
@@ -184,12 +185,12 @@ fn main() -> ExitCode {
             shard.as_deref(),
             threads,
             seed,
-            baseline.as_deref(),
+            against.as_deref(),
             allow_exec,
         ),
         Command::Gate {
             run,
-            baseline,
+            against,
             ratio_margin,
             alpha,
             budget_per_hour,
@@ -199,7 +200,7 @@ fn main() -> ExitCode {
             require_conclusive,
         } => run_gate(
             &run,
-            &baseline,
+            &against,
             echobench_harness::gate::GateSettings {
                 ratio_margin,
                 alpha,
@@ -211,8 +212,12 @@ fn main() -> ExitCode {
             junit,
             all,
         ),
-        Command::SaveBaseline { run, to, replace } => save_baseline(&run, &to, replace),
-        Command::Report { run, baseline, out } => run_report(&run, baseline.as_deref(), out),
+        Command::Keep {
+            run,
+            as_folder,
+            replace,
+        } => keep_reference(&run, &as_folder, replace),
+        Command::Report { run, against, out } => run_report(&run, against.as_deref(), out),
         Command::Merge {
             runs,
             out,
@@ -422,7 +427,7 @@ fn run_suite(
         let base = read_tallies(dir)?;
         if base.suite != suite.name {
             bail!(
-                "the baseline {} is of suite `{}`, this run of suite `{}`",
+                "the reference {} is of suite `{}`, this run of suite `{}`",
                 dir.display(),
                 base.suite,
                 suite.name
@@ -453,7 +458,7 @@ fn run_suite(
     Ok(ExitCode::SUCCESS)
 }
 
-/// The tallies of a run or baseline folder, which must be complete and of one run (or of
+/// The tallies of a run or reference folder, which must be complete and of one run (or of
 /// a tallies.json file given directly).
 fn read_tallies(path: &Path) -> Result<echobench_harness::runner::Tallies> {
     // A folder, or nothing there: a missing folder is named as such.
@@ -586,7 +591,7 @@ fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Resu
     Ok(ExitCode::SUCCESS)
 }
 
-fn save_baseline(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
+fn keep_reference(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
     if run.is_file() {
         bail!("{}: not a run folder", run.display());
     }
@@ -599,7 +604,7 @@ fn save_baseline(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
     }
     let failures: usize = tallies.detectors.iter().map(|d| d.failures.len()).sum();
     if failures > 0 {
-        eprintln!("warning: the run has {failures} failed detector trials; they are not in the baseline's counts");
+        eprintln!("warning: the run has {failures} failed detector trials; they are not in the reference's counts");
     }
     // The result files a later run and the gate read; the rest of a run folder (report,
     // timing, gate files) describes that one run only.
@@ -621,7 +626,7 @@ fn save_baseline(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
     let staging = echobench_run_folder::stage_copy(run, &names, to, replace)?;
     let (kept, placement) = staging.commit(echobench_run_folder::FolderKind::Reference)?;
     println!(
-        "saved {} as the baseline {} (suite `{}`, seed {}, {} detectors; run {}, {placement})",
+        "kept {} as the reference {} (suite `{}`, seed {}, {} detectors; run {}, {placement})",
         run.display(),
         to.display(),
         tallies.suite,

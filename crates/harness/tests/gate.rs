@@ -230,9 +230,9 @@ fn a_budget_below_the_measured_rate_fails_and_an_unpinned_run_is_refused() {
         .iter()
         .any(|n| n.contains("no false-alarm budget")));
 
-    // A run made without --baseline cannot be gated: it says how to fix it.
+    // A run made without --against cannot be gated: it says how to fix it.
     let err = gate(&baseline, &baseline, &GateSettings::default()).unwrap_err();
-    assert!(err.0.contains("--baseline"), "{err}");
+    assert!(err.0.contains("--against"), "{err}");
 }
 
 /// The candidate with every pinned false alarm removed: zero false alarms in its exposure.

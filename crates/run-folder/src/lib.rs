@@ -591,7 +591,7 @@ fn link_or_copy(from: &Path, to: &Path) -> Result<(), FolderError> {
     std::fs::copy(from, to).map(|_| ()).map_err(io_error(from))
 }
 
-/// Stages a copy of `names` from the verified folder `from` for `target`, under the same
+/// Stages copies of `names` from the verified folder `from` for `target`, under the same
 /// run id (a reference folder kept from a run). Write any more files, then commit.
 ///
 /// # Errors
@@ -606,7 +606,10 @@ pub fn stage_copy(
     let manifest = verify(from, names)?;
     let staging = Staging::begin_with_id(target, replace, manifest.run_id.clone())?;
     for name in names {
-        link_or_copy(&from.join(name), &staging.dir().join(name))?;
+        // Copies, not links: the two folders live on separately, and a file edited in
+        // place in one (by hand, by another tool) must not change the other.
+        let (source, copy) = (from.join(name), staging.dir().join(name));
+        std::fs::copy(&source, &copy).map_err(io_error(&source))?;
     }
     Ok(staging)
 }
@@ -793,6 +796,9 @@ mod tests {
         let staging = stage_copy(&a, &["tallies.json"], &dir.join("kept"), false).unwrap();
         let (kept, _) = staging.commit(FolderKind::Reference).unwrap();
         assert_eq!(kept.run_id, run.run_id);
+        // Editing the kept file in place leaves the run's own file alone.
+        std::fs::write(dir.join("kept").join("tallies.json"), "edited").unwrap();
+        assert_eq!(verify(&a, &[]).unwrap(), run);
         assert_eq!(kept.files.len(), 1);
         assert_eq!(kept.kind, FolderKind::Reference);
         std::fs::remove_dir_all(&dir).unwrap();
