@@ -39,7 +39,8 @@ pub struct Workload {
     pub test_signal_s: f64,
     /// Seconds of signal in the calibration trials.
     pub calibration_signal_s: f64,
-    /// Input samples (frames) of the calibration trials.
+    /// Input samples (frames) of the calibration trials whose score traces the runner keeps
+    /// (the pilot: the first `PILOT_TRIALS` of each variant).
     pub calibration_samples: f64,
     /// Detector configurations.
     pub detectors: u64,
@@ -68,7 +69,11 @@ impl Workload {
                     .saturating_add(scene.calibration_trials);
                 w.test_signal_s += scene.trials as f64 * duration_s;
                 w.calibration_signal_s += scene.calibration_trials as f64 * duration_s;
-                w.calibration_samples += scene.calibration_trials as f64 * duration_s * rate_hz;
+                // Only the pilot's score traces are kept (the runner's streamed calibration).
+                let kept = scene
+                    .calibration_trials
+                    .min(echobench_harness::runner::PILOT_TRIALS);
+                w.calibration_samples += kept as f64 * duration_s * rate_hz;
             }
         }
         w
@@ -86,8 +91,8 @@ impl Workload {
         self.test_signal_s + self.calibration_signal_s
     }
 
-    /// The most memory the runner's kept data can take, bytes: every calibration score
-    /// trace until the threshold grid is cut (a [`echobench_core::Score`] per input sample
+    /// The most memory the runner's kept data can take, bytes: the pilot calibration score
+    /// traces until the threshold grid is cut (a [`echobench_core::Score`] per input sample
     /// per detector, the most a detector scoring once per input sample emits), one
     /// [`echobench_harness::runner::TrialOutcome`] per test trial per operating point per
     /// detector, and a job entry (a trial key and indices) per trial. The per-thread
@@ -267,4 +272,74 @@ pub fn cut_list(lines: Vec<String>) -> Vec<String> {
         total - SHOWN_PROBLEMS
     ));
     kept
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_default_suite_is_counted_from_its_file_and_passes_every_cap() {
+        let plugins = echobench_detectors::builtin();
+        let suite = echobench_harness::suite_file::default_suite(&plugins).unwrap();
+        let w = Workload::of(&suite);
+        // Recount by hand from the suite: trials × variants × duration, scene by scene.
+        let (mut trials, mut signal_s) = (0u64, 0.0f64);
+        for scene in &suite.scenes {
+            for variant in &scene.variants {
+                trials += scene.trials + scene.calibration_trials;
+                signal_s +=
+                    (scene.trials + scene.calibration_trials) as f64 * variant.scene.duration_s;
+            }
+        }
+        assert_eq!(w.trials(), trials);
+        assert!((w.signal_s() - signal_s).abs() < 1e-6 * signal_s);
+        assert_eq!(w.detectors, suite.detectors.len() as u64);
+        assert!(w.problems().is_empty(), "{:?}", w.problems());
+        assert!(w.memory_bytes() < MAX_MEMORY_BYTES as f64);
+    }
+
+    #[test]
+    fn each_cap_is_named_when_exceeded_and_not_before() {
+        let at_caps = Workload {
+            test_trials: MAX_TRIALS / 2,
+            calibration_trials: MAX_TRIALS / 2,
+            test_signal_s: MAX_SIGNAL_S / 2.0,
+            calibration_signal_s: MAX_SIGNAL_S / 2.0,
+            calibration_samples: 0.0,
+            detectors: MAX_DETECTORS as u64,
+            operating_points: 0,
+        };
+        // At the caps, only memory can object; with no calibration samples and one
+        // outcome per trial it stays below 8 GiB.
+        assert!(at_caps.memory_bytes() < MAX_MEMORY_BYTES as f64);
+        assert!(at_caps.problems().is_empty(), "{:?}", at_caps.problems());
+        let over = Workload {
+            test_trials: MAX_TRIALS / 2 + 1,
+            test_signal_s: MAX_SIGNAL_S,
+            detectors: MAX_DETECTORS as u64 + 1,
+            calibration_samples: 1e9,
+            ..at_caps
+        };
+        let problems = over.problems().join("\n");
+        assert!(problems.contains("1000001 trials"), "{problems}");
+        assert!(problems.contains("15000 h of signal"), "{problems}");
+        assert!(problems.contains("65 detectors"), "{problems}");
+        assert!(problems.contains("GiB of scores"), "{problems}");
+    }
+
+    #[test]
+    fn long_lists_keep_a_hundred_lines_and_count_the_rest() {
+        let short: Vec<String> = (0..SHOWN_PROBLEMS).map(|i| i.to_string()).collect();
+        assert_eq!(cut_list(short.clone()), short);
+        let long: Vec<String> = (0..397_771).map(|i| i.to_string()).collect();
+        let cut = cut_list(long);
+        assert_eq!(cut.len(), SHOWN_PROBLEMS + 1);
+        assert_eq!(cut[99], "99");
+        assert!(
+            cut[100].contains("397671 more problems (397771 in all"),
+            "{}",
+            cut[100]
+        );
+    }
 }
