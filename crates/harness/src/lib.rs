@@ -4,7 +4,7 @@
 pub mod events;
 pub mod gate;
 pub mod runner;
-mod signal;
+pub mod signal;
 pub mod suite;
 pub mod suite_file;
 pub mod summary;

@@ -270,6 +270,9 @@ pub struct DetectorTally {
     /// Calibration false alarms of each nuisance room at every grid threshold (the same
     /// in every shard): what chose the operating points, and what miss reasons compare.
     pub calibration_rooms: Vec<RoomGrid>,
+    /// Calibration false alarms on all calibration noise-only time of the product (rooms
+    /// and target scenes) at every grid threshold: what the pooled rule compares.
+    pub calibration_pooled: Vec<u64>,
     /// Nominal threshold and per-frame Pfa from the detector's closed form, if any.
     pub nominal: Option<(f64, f64)>,
     /// Thresholds pinned from a baseline run, if any.
@@ -541,7 +544,12 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
     })
 }
 
-fn alarm_logic(suite: &Suite) -> Result<(AlarmLogic, MatchWindow), RunError> {
+/// The suite's alarm logic (M-of-N, hold, stuck alarms re-counted) and event matching window,
+/// as every trial is scored with (also used to explain one trial again).
+///
+/// # Errors
+/// A refused M-of-N, hold or window (the suite loader refuses these first).
+pub fn alarm_logic(suite: &Suite) -> Result<(AlarmLogic, MatchWindow), RunError> {
     let m_of_n = match suite.alarm.m_of_n {
         Some((m, n)) => MOfN::new(m as usize, n as usize),
         None => MOfN::new(1, 1),
@@ -663,64 +671,16 @@ fn run_product(
     let mut timing = Timing::default();
 
     // Calibration: every shard runs the same trials and gets the same thresholds.
-    let calibration_jobs = jobs(suite, true, None);
-    let done = std::sync::atomic::AtomicU64::new(0);
-    let calibration: Vec<TrialOutput> = calibration_jobs
-        .par_iter()
-        .map(|job| {
-            let out = run_trial(suite, detectors, job);
-            let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-            progress(Progress {
-                calibration: true,
-                done: d,
-                total: calibration_jobs.len() as u64,
-            });
-            out
-        })
-        .collect::<Result<_, _>>()?;
+    let calibrated = calibrate(suite, detectors, &logic, window, progress)?;
     let mut tallies: Vec<DetectorTally> = Vec::with_capacity(detectors.len());
-    for (di, detector) in detectors.iter().enumerate() {
-        let pooled: Vec<f64> = calibration
-            .iter()
-            .filter_map(|t| match &t.traces[di] {
-                Trace::Ok { scores, .. } => Some(scores.iter().map(|s| s.value)),
-                Trace::Failed(_) => None,
-            })
-            .flatten()
-            .collect();
-        let thresholds = threshold_grid(pooled, suite.scoring.threshold_count);
-        let mut false_alarms = vec![0u64; thresholds.len()];
-        let mut exposure_ns = 0u64;
-        let mut rooms = rooms_of(suite, thresholds.len());
-        let mut failures = Vec::new();
-        for (job, trial) in calibration_jobs.iter().zip(&calibration) {
-            match &trial.traces[di] {
-                Trace::Ok { scores, .. } => {
-                    let truth = trial_truth(trial, window)?;
-                    exposure_ns += ns(truth.exposure_s());
-                    let room = rooms
-                        .iter_mut()
-                        .find(|r| r.scene == job.scene && r.variant == job.variant);
-                    let results = score_thresholds(scores, &truth, &logic, &thresholds);
-                    for (g, result) in results.iter().enumerate() {
-                        false_alarms[g] += result.false_alarms() as u64;
-                    }
-                    if let Some(room) = room {
-                        room.exposure_ns += ns(truth.exposure_s());
-                        for (g, result) in results.iter().enumerate() {
-                            room.false_alarms[g] += result.false_alarms() as u64;
-                        }
-                    }
-                }
-                Trace::Failed(message) => failures.push(Failure {
-                    scene: suite.scenes[job.scene].id.clone(),
-                    sweep_point: job.key.sweep_point,
-                    trial: job.key.trial,
-                    phase: "calibration".into(),
-                    message: message.clone(),
-                }),
-            }
-        }
+    for (detector, cal) in detectors.iter().zip(calibrated) {
+        let Calibrated {
+            thresholds,
+            false_alarms,
+            exposure_ns,
+            rooms,
+            failures,
+        } = cal;
         let operating = suite
             .scoring
             .target_false_alarms_per_hour
@@ -796,6 +756,7 @@ fn run_product(
         tallies.push(DetectorTally {
             product: product.clone(),
             calibration_rooms,
+            calibration_pooled: false_alarms,
             label: detector.label.clone(),
             plugin: detector.plugin.id().to_string(),
             params: detector
@@ -812,7 +773,6 @@ fn run_product(
             failures,
         });
     }
-    drop(calibration);
 
     // Test trials: each is tallied and dropped; tallies are folded per thread and added.
     let test_jobs = jobs(suite, false, shard);
@@ -906,6 +866,347 @@ fn run_product(
         test_trials,
         test_signal_ms,
     })
+}
+
+/// Calibration trials per scene variant whose score traces are kept to place the
+/// threshold grid (the first ones by trial index); the others are scored and dropped.
+pub const PILOT_TRIALS: u64 = 24;
+
+/// Most thresholds added above the pilot grid for the scores that only the streamed
+/// calibration trials reach.
+const TAIL_THRESHOLDS: usize = 64;
+
+/// One detector's calibration: the grid and the false alarms at each of its thresholds.
+struct Calibrated {
+    thresholds: Vec<f64>,
+    false_alarms: Vec<u64>,
+    exposure_ns: u64,
+    rooms: Vec<RoomCounts>,
+    failures: Vec<Failure>,
+}
+
+/// Calibration counts of one detector while trials stream past.
+#[derive(Clone)]
+struct CalibrationCounts {
+    false_alarms: Vec<u64>,
+    exposure_ns: u64,
+    /// Per room (in [`rooms_of`] order): false alarms per grid threshold and exposure.
+    rooms: Vec<(Vec<u64>, u64)>,
+    failures: Vec<Failure>,
+    /// Indices (into the calibration jobs) of trials whose largest score reaches the
+    /// pilot grid's top, with that score.
+    beyond_top: Vec<(usize, f64)>,
+}
+
+impl CalibrationCounts {
+    fn new(grid_len: usize, rooms: usize) -> Self {
+        CalibrationCounts {
+            false_alarms: vec![0; grid_len],
+            exposure_ns: 0,
+            rooms: vec![(vec![0; grid_len], 0); rooms],
+            failures: Vec::new(),
+            beyond_top: Vec::new(),
+        }
+    }
+
+    fn add(mut self, other: CalibrationCounts) -> Self {
+        for (a, b) in self.false_alarms.iter_mut().zip(&other.false_alarms) {
+            *a += b;
+        }
+        self.exposure_ns += other.exposure_ns;
+        for ((a, ae), (b, be)) in self.rooms.iter_mut().zip(&other.rooms) {
+            for (x, y) in a.iter_mut().zip(b) {
+                *x += y;
+            }
+            *ae += be;
+        }
+        self.failures.extend(other.failures);
+        self.beyond_top.extend(other.beyond_top);
+        self
+    }
+}
+
+/// Scores one calibration trial for every detector into `counts` (one per detector).
+#[allow(clippy::too_many_arguments)]
+fn count_calibration_trial(
+    suite: &Suite,
+    job: &Job,
+    job_index: usize,
+    trial: &TrialOutput,
+    grids: &[Vec<f64>],
+    room_of: &dyn Fn(&Job) -> Option<usize>,
+    logic: &AlarmLogic,
+    window: MatchWindow,
+    counts: &mut [CalibrationCounts],
+    add_exposure: bool,
+) -> Result<(), RunError> {
+    let truth = trial_truth(trial, window)?;
+    let room = room_of(job);
+    for (di, count) in counts.iter_mut().enumerate() {
+        match &trial.traces[di] {
+            Trace::Ok { scores, .. } => {
+                let grid = &grids[di];
+                let results = score_thresholds(scores, &truth, logic, grid);
+                for (g, result) in results.iter().enumerate() {
+                    count.false_alarms[g] += result.false_alarms() as u64;
+                }
+                if add_exposure {
+                    count.exposure_ns += ns(truth.exposure_s());
+                }
+                if let Some(r) = room {
+                    let (room_false_alarms, room_exposure) = &mut count.rooms[r];
+                    for (g, result) in results.iter().enumerate() {
+                        room_false_alarms[g] += result.false_alarms() as u64;
+                    }
+                    if add_exposure {
+                        *room_exposure += ns(truth.exposure_s());
+                    }
+                }
+                if add_exposure {
+                    let max = scores
+                        .iter()
+                        .map(|s| s.value)
+                        .filter(|v| v.is_finite())
+                        .fold(f64::NEG_INFINITY, f64::max);
+                    if grid.last().is_some_and(|top| max >= *top) {
+                        count.beyond_top.push((job_index, max));
+                    }
+                }
+            }
+            Trace::Failed(message) => {
+                if add_exposure {
+                    count.failures.push(Failure {
+                        scene: suite.scenes[job.scene].id.clone(),
+                        sweep_point: job.key.sweep_point,
+                        trial: job.key.trial,
+                        phase: "calibration".into(),
+                        message: message.clone(),
+                    });
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Thresholds above the pilot grid's top: the largest scores of the trials that reach it
+/// (at most [`TAIL_THRESHOLDS`] of them, evenly spaced in rank), and one just above the
+/// largest, where nothing alarms. Counts change only where the alarm statistic crosses a
+/// threshold, and only these trials' statistics get there, so these are the thresholds at
+/// which the rare false-alarm rates are decided.
+fn tail_thresholds(top: f64, beyond: &[(usize, f64)]) -> Vec<f64> {
+    let mut maxima: Vec<f64> = beyond
+        .iter()
+        .map(|(_, m)| *m)
+        .filter(|m| *m > top)
+        .collect();
+    if maxima.is_empty() {
+        return Vec::new();
+    }
+    maxima.sort_by(f64::total_cmp);
+    maxima.dedup();
+    let n = maxima.len();
+    let mut out: Vec<f64> = if n <= TAIL_THRESHOLDS {
+        maxima.clone()
+    } else {
+        (0..TAIL_THRESHOLDS)
+            .map(|i| maxima[i * (n - 1) / (TAIL_THRESHOLDS - 1)])
+            .collect()
+    };
+    let largest = maxima[n - 1];
+    out.push(if largest > 0.0 {
+        largest * (1.0 + 1e-9) + f64::MIN_POSITIVE
+    } else {
+        largest + 1e-12
+    });
+    out.dedup();
+    out
+}
+
+/// Calibrates every detector of a product in memory bounded by the pilot, not by the
+/// number of calibration trials:
+///
+/// 1. the first [`PILOT_TRIALS`] calibration trials of every variant are run and their
+///    score traces kept; each detector's threshold grid is cut from their pooled scores
+///    ([`threshold_grid`]);
+/// 2. every calibration trial (the pilot from its kept traces, the others as they are
+///    synthesized, then dropped) is scored at that grid: false alarms per threshold, per
+///    room and pooled, and the trials whose largest score reaches the grid's top;
+/// 3. thresholds are added above the top at those trials' largest scores
+///    ([`tail_thresholds`]), and only those trials are synthesized again and scored there:
+///    every other trial's scores stay below the top, so it has no alarm at these
+///    thresholds. The counts at every threshold are therefore exact, as if all traces had
+///    been kept.
+fn calibrate(
+    suite: &Suite,
+    detectors: &[RunDetector],
+    logic: &AlarmLogic,
+    window: MatchWindow,
+    progress: &(dyn Fn(Progress) + Sync),
+) -> Result<Vec<Calibrated>, RunError> {
+    let all_jobs = jobs(suite, true, None);
+    let total = all_jobs.len() as u64;
+    let done = std::sync::atomic::AtomicU64::new(0);
+    let tick = || {
+        let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+        progress(Progress {
+            calibration: true,
+            done: d.min(total),
+            total,
+        });
+    };
+    let pilot: Vec<usize> = (0..all_jobs.len())
+        .filter(|&i| all_jobs[i].key.trial < PILOT_TRIALS)
+        .collect();
+    let streamed: Vec<usize> = (0..all_jobs.len())
+        .filter(|&i| all_jobs[i].key.trial >= PILOT_TRIALS)
+        .collect();
+    let pilot_outputs: Vec<TrialOutput> = pilot
+        .par_iter()
+        .map(|&i| {
+            let out = run_trial(suite, detectors, &all_jobs[i]);
+            tick();
+            out
+        })
+        .collect::<Result<_, _>>()?;
+    let grids: Vec<Vec<f64>> = (0..detectors.len())
+        .map(|di| {
+            let pooled: Vec<f64> = pilot_outputs
+                .iter()
+                .filter_map(|t| match &t.traces[di] {
+                    Trace::Ok { scores, .. } => Some(scores.iter().map(|s| s.value)),
+                    Trace::Failed(_) => None,
+                })
+                .flatten()
+                .collect();
+            threshold_grid(pooled, suite.scoring.threshold_count)
+        })
+        .collect();
+    let room_list = rooms_of(suite, 0);
+    let room_of = |job: &Job| {
+        room_list
+            .iter()
+            .position(|r| r.scene == job.scene && r.variant == job.variant)
+    };
+    let empty = || -> Vec<CalibrationCounts> {
+        grids
+            .iter()
+            .map(|g| CalibrationCounts::new(g.len(), room_list.len()))
+            .collect()
+    };
+    let mut counts = empty();
+    for (&i, trial) in pilot.iter().zip(&pilot_outputs) {
+        count_calibration_trial(
+            suite,
+            &all_jobs[i],
+            i,
+            trial,
+            &grids,
+            &room_of,
+            logic,
+            window,
+            &mut counts,
+            true,
+        )?;
+    }
+    drop(pilot_outputs);
+    let streamed_counts = streamed
+        .par_iter()
+        .try_fold(empty, |mut acc, &i| -> Result<_, RunError> {
+            let trial = run_trial(suite, detectors, &all_jobs[i])?;
+            count_calibration_trial(
+                suite,
+                &all_jobs[i],
+                i,
+                &trial,
+                &grids,
+                &room_of,
+                logic,
+                window,
+                &mut acc,
+                true,
+            )?;
+            tick();
+            Ok(acc)
+        })
+        .try_reduce(empty, |a, b| {
+            Ok(a.into_iter().zip(b).map(|(x, y)| x.add(y)).collect())
+        })?;
+    counts = counts
+        .into_iter()
+        .zip(streamed_counts)
+        .map(|(x, y)| x.add(y))
+        .collect();
+
+    // The tail: thresholds above each pilot grid, scored on the trials that reach them.
+    let tails: Vec<Vec<f64>> = grids
+        .iter()
+        .zip(&mut counts)
+        .map(|(grid, c)| {
+            c.beyond_top.sort_by_key(|b| b.0);
+            tail_thresholds(*grid.last().unwrap_or(&f64::INFINITY), &c.beyond_top)
+        })
+        .collect();
+    let mut again: Vec<usize> = counts
+        .iter()
+        .flat_map(|c| c.beyond_top.iter().map(|(i, _)| *i))
+        .collect();
+    again.sort_unstable();
+    again.dedup();
+    let tail_empty = || -> Vec<CalibrationCounts> {
+        tails
+            .iter()
+            .map(|t| CalibrationCounts::new(t.len(), room_list.len()))
+            .collect()
+    };
+    let tail_counts = again
+        .par_iter()
+        .try_fold(tail_empty, |mut acc, &i| -> Result<_, RunError> {
+            let trial = run_trial(suite, detectors, &all_jobs[i])?;
+            count_calibration_trial(
+                suite,
+                &all_jobs[i],
+                i,
+                &trial,
+                &tails,
+                &room_of,
+                logic,
+                window,
+                &mut acc,
+                false,
+            )?;
+            Ok(acc)
+        })
+        .try_reduce(tail_empty, |a, b| {
+            Ok(a.into_iter().zip(b).map(|(x, y)| x.add(y)).collect())
+        })?;
+
+    Ok(grids
+        .into_iter()
+        .zip(counts)
+        .zip(tails.into_iter().zip(tail_counts))
+        .map(|((grid, c), (tail, t))| {
+            let mut thresholds = grid;
+            thresholds.extend(tail);
+            let mut false_alarms = c.false_alarms;
+            false_alarms.extend(t.false_alarms);
+            let mut rooms = rooms_of(suite, 0);
+            for (room, ((mut f, e), (tf, _))) in
+                rooms.iter_mut().zip(c.rooms.into_iter().zip(t.rooms))
+            {
+                f.extend(tf);
+                room.false_alarms = f;
+                room.exposure_ns = e;
+            }
+            Calibrated {
+                thresholds,
+                false_alarms,
+                exposure_ns: c.exposure_ns,
+                rooms,
+                failures: c.failures,
+            }
+        })
+        .collect())
 }
 
 /// A trial's truth prepared for scoring: matching windows, and the present-but-still
@@ -1038,6 +1339,7 @@ fn empty_like(t: &DetectorTally) -> DetectorTally {
     DetectorTally {
         product: t.product.clone(),
         calibration_rooms: t.calibration_rooms.clone(),
+        calibration_pooled: t.calibration_pooled.clone(),
         label: t.label.clone(),
         plugin: t.plugin.clone(),
         params: t.params.clone(),
@@ -1274,6 +1576,63 @@ mod tests {
             let key = StreamKey::new(5, "scene", trial);
             assert_eq!(shards.iter().filter(|s| s.owns(&key)).count(), 1);
         }
+    }
+
+    /// The streamed calibration (pilot grid, streamed counts, re-run tail) gives exactly
+    /// the false alarms that scoring every kept trace at the same thresholds gives.
+    #[test]
+    fn streamed_calibration_counts_equal_the_brute_force_counts() {
+        let plugins = echobench_detectors::builtin();
+        let mut suite = crate::suite_file::default_suite(&plugins)
+            .unwrap()
+            .product_view("corridor-lights-2g4");
+        suite
+            .scenes
+            .retain(|s| s.id == "porch-palm-gusts" || s.id == "warehouse-aisle-crossing");
+        for scene in &mut suite.scenes {
+            scene.calibration_trials = if scene.label == SceneLabel::Nuisance {
+                PILOT_TRIALS + 40
+            } else {
+                2
+            };
+        }
+        suite
+            .detectors
+            .retain(|d| d.label == "energy" || d.label == "band-ratio");
+        let detectors = resolve_detectors(&suite, &plugins).unwrap();
+        let (logic, window) = alarm_logic(&suite).unwrap();
+        let calibrated = calibrate(&suite, &detectors, &logic, window, &|_| {}).unwrap();
+        let all_jobs = jobs(&suite, true, None);
+        let mut tails = 0;
+        for (di, cal) in calibrated.iter().enumerate() {
+            assert!(cal.thresholds.windows(2).all(|w| w[0] < w[1]));
+            let grid_len = threshold_grid(vec![0.0, 1.0], suite.scoring.threshold_count).len();
+            tails += cal.thresholds.len().saturating_sub(grid_len);
+            let mut pooled = vec![0u64; cal.thresholds.len()];
+            let mut room = vec![0u64; cal.thresholds.len()];
+            for job in &all_jobs {
+                let trial = run_trial(&suite, &detectors, job).unwrap();
+                let Trace::Ok { scores, .. } = &trial.traces[di] else {
+                    panic!("no failures here")
+                };
+                let truth = trial_truth(&trial, window).unwrap();
+                for (g, r) in score_thresholds(scores, &truth, &logic, &cal.thresholds)
+                    .iter()
+                    .enumerate()
+                {
+                    pooled[g] += r.false_alarms() as u64;
+                    if suite.scenes[job.scene].label == SceneLabel::Nuisance {
+                        room[g] += r.false_alarms() as u64;
+                    }
+                }
+            }
+            assert_eq!(pooled, cal.false_alarms, "detector {di}");
+            assert_eq!(room, cal.rooms[0].false_alarms, "detector {di}");
+        }
+        assert!(
+            tails > 0,
+            "the streamed trials must reach beyond the pilot grid"
+        );
     }
 
     #[test]

@@ -12,13 +12,15 @@ use echobench_scene::Synthesizer;
 const READ_FRAMES: usize = 4096;
 
 /// A trial's signal.
-pub(crate) enum TrialSignal {
+pub enum TrialSignal {
+    /// Synthesized from the scene.
     Synthetic(Box<Synthesizer>),
+    /// Read from a recording (with the scene's signal mixed in when asked).
     Recorded(Box<RecordedSignal>),
 }
 
 /// A window of a recording, streamed.
-pub(crate) struct RecordedSignal {
+pub struct RecordedSignal {
     reader: CaptureReader,
     info: StreamInfo,
     channels: usize,
@@ -35,8 +37,10 @@ pub(crate) struct RecordedSignal {
 }
 
 /// The truth of a trial, as the scorer takes it.
-pub(crate) struct SignalTruth {
+pub struct SignalTruth {
+    /// Target events.
     pub events: Vec<Interval>,
+    /// Nuisance activity and its source.
     pub nuisances: Vec<(Interval, String)>,
     /// A person present but not moving (ignored by intrusion scoring).
     pub still: Vec<Interval>,
@@ -44,7 +48,7 @@ pub(crate) struct SignalTruth {
 
 impl TrialSignal {
     /// Prepares the trial `key` of a variant: synthesis, or the recording window `trial`.
-    pub(crate) fn new(
+    pub fn new(
         variant: &SceneVariant,
         capture: Option<(&CaptureSource, &CaptureTrial)>,
         key: &StreamKey,
@@ -105,7 +109,7 @@ impl TrialSignal {
     }
 
     /// What detectors are told about the stream.
-    pub(crate) fn info(&self) -> StreamInfo {
+    pub fn info(&self) -> StreamInfo {
         match self {
             TrialSignal::Synthetic(s) => s.info(),
             TrialSignal::Recorded(r) => r.info,
@@ -113,7 +117,7 @@ impl TrialSignal {
     }
 
     /// Appends up to `max_frames` sample instants (volts less bias) to `volts`; 0 at the end.
-    pub(crate) fn next_block(
+    pub fn next_block(
         &mut self,
         volts: &mut Vec<f32>,
         codes: &mut Vec<i32>,
@@ -127,7 +131,7 @@ impl TrialSignal {
 
     /// The trial's truth: the synthesized scene's, or the recording's labels (and the mixed
     /// scene's events and nuisances).
-    pub(crate) fn truth(&self) -> SignalTruth {
+    pub fn truth(&self) -> SignalTruth {
         let from_synth = |s: &Synthesizer| {
             let t = s.truth();
             SignalTruth {

@@ -901,25 +901,32 @@ pub fn console_table(summary: &Summary, timing: Option<&Timing>) -> String {
     out
 }
 
-/// The miss reasons of one product, one line per scene variant.
-fn reason_lines(reasons: &[&MissReason]) -> String {
+/// The miss reasons of one product: per scene variant (in table order), one line per
+/// reason with the detectors it applies to (the numbers are in `summary.json`).
+fn reason_lines(rows: &[(String, Vec<String>)], reasons: &[&MissReason]) -> String {
     let mut out = String::new();
-    let mut rows: Vec<(String, Vec<String>)> = Vec::new();
-    for r in reasons {
-        let scene = crate::runner::room_name(&r.scene, r.sweep_value.as_deref());
-        let text = format!("{} — {}", r.detector, r.reason);
-        match rows.iter_mut().find(|(s, _)| *s == scene) {
-            Some((_, list)) => list.push(text),
-            None => rows.push((scene, vec![text])),
-        }
-    }
-    if !rows.is_empty() {
+    if !reasons.is_empty() {
         out.push_str("  why (every cell below Pd 0.5):\n");
     }
-    for (scene, list) in rows {
+    for (scene, _) in rows {
+        let mut groups: Vec<(String, Vec<&str>)> = Vec::new();
+        for r in reasons
+            .iter()
+            .filter(|r| crate::runner::room_name(&r.scene, r.sweep_value.as_deref()) == *scene)
+        {
+            // The reason without its numbers, so that detectors with the same cause group.
+            let head = r.reason.split(" (").next().unwrap_or(&r.reason).to_string();
+            match groups.iter_mut().find(|(h, _)| *h == head) {
+                Some((_, list)) => list.push(&r.detector),
+                None => groups.push((head, vec![&r.detector])),
+            }
+        }
+        if groups.is_empty() {
+            continue;
+        }
         out.push_str(&format!("    {scene}:\n"));
-        for text in list {
-            out.push_str(&format!("      {text}\n"));
+        for (head, detectors) in groups {
+            out.push_str(&format!("      {head}: {}\n", detectors.join(", ")));
         }
     }
     out
@@ -1023,14 +1030,34 @@ fn product_block(
             "\ndetection @ {label0} per target scene (Pd [95 % interval], median latency):\n"
         ));
         out.push_str(&grid_table("scene", &names, &detection));
-        out.push_str(&reason_lines(reasons));
+        out.push_str(&reason_lines(&detection, reasons));
     }
-    let false_alarms = scene_rows(detectors, 0, "nuisance", |s| {
+    let mut false_alarms = scene_rows(detectors, 0, "nuisance", |s| {
         fmt_fa_compact(&s.outcome.false_alarms_per_hour)
     });
+    // Each cell also gets the room's calibration rate at the threshold, `*` where that
+    // room set the threshold.
+    for (room, cells) in &mut false_alarms {
+        for (cell, d) in cells.iter_mut().zip(detectors) {
+            let Some(op) = d.operating_points.first() else {
+                continue;
+            };
+            if let Some(r) = op.calibration_rooms.iter().find(|r| r.room == *room) {
+                let mark = if op.limiting_room.as_deref() == Some(room.as_str()) {
+                    "*"
+                } else {
+                    " "
+                };
+                cell.push_str(&format!(
+                    " | {:.2}{mark}",
+                    r.false_alarms_per_hour.value.unwrap_or(0.0)
+                ));
+            }
+        }
+    }
     if !false_alarms.is_empty() {
         out.push_str(&format!(
-            "\nfalse alarms per hour @ {label0} per room (test trials, 95 % interval):\n"
+            "\nfalse alarms per hour @ {label0} per room: test trials [95 % interval] | calibration (* the room that set the threshold):\n"
         ));
         out.push_str(&grid_table("room", &names, &false_alarms));
     }

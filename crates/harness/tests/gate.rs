@@ -11,9 +11,12 @@ use echobench_harness::suite_file::{default_suite, load_suite_file};
 /// the test trials carry tens of false alarms (a gate needs counts to compare).
 fn small_suite(seed: u64) -> Suite {
     let plugins = echobench_detectors::builtin();
-    let mut suite = default_suite(&plugins).expect("the default suite loads");
+    // One product: its detectors are one Holm family each.
+    let mut suite = default_suite(&plugins)
+        .expect("the default suite loads")
+        .product_view("corridor-lights-2g4");
     for scene in &mut suite.scenes {
-        scene.trials = 6;
+        scene.trials = 10;
         scene.calibration_trials = 4;
     }
     suite
