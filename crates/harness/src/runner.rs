@@ -315,6 +315,9 @@ pub struct Timing {
     pub detector_s: BTreeMap<String, f64>,
     /// Samples fed to each detector.
     pub samples: u64,
+    /// Seconds of signal synthesized for calibration (re-runs of the tail included).
+    #[serde(default)]
+    pub calibration_signal_s: f64,
 }
 
 /// Progress of a run, for a progress display.
@@ -629,6 +632,7 @@ pub fn run_suite(
         test_signal_ms += part.test_signal_ms;
         timing.synthesis_s += part.timing.synthesis_s;
         timing.samples += part.timing.samples;
+        timing.calibration_signal_s += part.timing.calibration_signal_s;
         for (k, v) in part.timing.detector_s {
             *timing.detector_s.entry(k).or_default() += v;
         }
@@ -671,7 +675,7 @@ fn run_product(
     let mut timing = Timing::default();
 
     // Calibration: every shard runs the same trials and gets the same thresholds.
-    let calibrated = calibrate(suite, detectors, &logic, window, progress)?;
+    let (calibrated, calibration_signal_s) = calibrate(suite, detectors, &logic, window, progress)?;
     let mut tallies: Vec<DetectorTally> = Vec::with_capacity(detectors.len());
     for (detector, cal) in detectors.iter().zip(calibrated) {
         let Calibrated {
@@ -860,6 +864,7 @@ fn run_product(
     timing.synthesis_s = part_timing.synthesis_s;
     timing.samples = part_timing.samples;
     timing.detector_s = part_timing.detector_s;
+    timing.calibration_signal_s = calibration_signal_s;
     Ok(ProductRun {
         tallies,
         timing,
@@ -1043,7 +1048,7 @@ fn calibrate(
     logic: &AlarmLogic,
     window: MatchWindow,
     progress: &(dyn Fn(Progress) + Sync),
-) -> Result<Vec<Calibrated>, RunError> {
+) -> Result<(Vec<Calibrated>, f64), RunError> {
     let all_jobs = jobs(suite, true, None);
     let total = all_jobs.len() as u64;
     let done = std::sync::atomic::AtomicU64::new(0);
@@ -1181,7 +1186,13 @@ fn calibrate(
             Ok(a.into_iter().zip(b).map(|(x, y)| x.add(y)).collect())
         })?;
 
-    Ok(grids
+    let duration = |i: &usize| {
+        let job = &all_jobs[*i];
+        suite.scenes[job.scene].variants[job.variant].scene.duration_s
+    };
+    let signal_s: f64 = (0..all_jobs.len()).map(|i| duration(&i)).sum::<f64>()
+        + again.iter().map(duration).sum::<f64>();
+    let calibrated = grids
         .into_iter()
         .zip(counts)
         .zip(tails.into_iter().zip(tail_counts))
@@ -1206,7 +1217,8 @@ fn calibrate(
                 failures: c.failures,
             }
         })
-        .collect())
+        .collect();
+    Ok((calibrated, signal_s))
 }
 
 /// A trial's truth prepared for scoring: matching windows, and the present-but-still
@@ -1601,7 +1613,7 @@ mod tests {
             .retain(|d| d.label == "energy" || d.label == "band-ratio");
         let detectors = resolve_detectors(&suite, &plugins).unwrap();
         let (logic, window) = alarm_logic(&suite).unwrap();
-        let calibrated = calibrate(&suite, &detectors, &logic, window, &|_| {}).unwrap();
+        let (calibrated, _) = calibrate(&suite, &detectors, &logic, window, &|_| {}).unwrap();
         let all_jobs = jobs(&suite, true, None);
         let mut tails = 0;
         for (di, cal) in calibrated.iter().enumerate() {

@@ -658,7 +658,7 @@ fn opt(x: Option<f64>) -> String {
 /// I/O errors, naming the file.
 pub fn write_roc_csv(path: &Path, tallies: &Tallies) -> io::Result<()> {
     write_atomically(path, |w| {
-        writeln!(w, "detector,threshold,events,detected,pd,pd_low,pd_high,false_alarms,exposure_h,false_alarms_per_hour,fa_per_hour_low,fa_per_hour_high,retriggers")?;
+        writeln!(w, "product,detector,threshold,events,detected,pd,pd_low,pd_high,false_alarms,exposure_h,false_alarms_per_hour,fa_per_hour_low,fa_per_hour_high,retriggers")?;
         for d in &tallies.detectors {
             let events: u64 = d.variants.iter().map(|v| v.events).sum();
             let exposure: u64 = d.variants.iter().map(|v| v.exposure_ns).sum();
@@ -669,7 +669,8 @@ pub fn write_roc_csv(path: &Path, tallies: &Tallies) -> io::Result<()> {
                 let o = outcome(events, detected, fa, exposure);
                 writeln!(
                     w,
-                    "{},{},{},{},{},{},{},{},{},{},{},{},{}",
+                    "{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
+                    d.product,
                     d.label,
                     threshold,
                     events,
@@ -696,14 +697,15 @@ pub fn write_roc_csv(path: &Path, tallies: &Tallies) -> io::Result<()> {
 /// I/O errors, naming the file.
 pub fn write_events_csv(path: &Path, summary: &Summary) -> io::Result<()> {
     write_atomically(path, |w| {
-        writeln!(w, "detector,target_fa_per_hour,threshold,scene,sweep_value,label,trials,events,detected,pd,pd_low,pd_high,false_alarms,exposure_h,false_alarms_per_hour,fa_per_hour_low,fa_per_hour_high,latency_median_s")?;
+        writeln!(w, "product,detector,target_fa_per_hour,threshold,scene,sweep_value,label,trials,events,detected,pd,pd_low,pd_high,false_alarms,exposure_h,false_alarms_per_hour,fa_per_hour_low,fa_per_hour_high,latency_median_s,false_on_s")?;
         for d in &summary.detectors {
             for op in &d.operating_points {
                 for s in &op.by_scene {
                     let o = &s.outcome;
                     writeln!(
                         w,
-                        "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
+                        "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
+                        d.product,
                         d.label,
                         op.target_false_alarms_per_hour,
                         op.threshold,
@@ -721,7 +723,8 @@ pub fn write_events_csv(path: &Path, summary: &Summary) -> io::Result<()> {
                         opt(o.false_alarms_per_hour.value),
                         opt(o.false_alarms_per_hour.low),
                         opt(o.false_alarms_per_hour.high),
-                        opt(s.latency_median_s)
+                        opt(s.latency_median_s),
+                        s.false_on_s
                     )?;
                 }
             }
@@ -890,11 +893,12 @@ pub fn console_table(summary: &Summary, timing: Option<&Timing>) -> String {
     }
     if let Some(t) = timing {
         out.push_str(&format!(
-            "\n{:.1} s wall; synthesis {:.1} s, detectors {:.1} s (summed over threads); {:.0} trial-seconds per wall second\n",
+            "\n{:.1} s wall for {:.1} h of calibration and test signal ({:.0} trial-seconds per wall second); test phase: synthesis {:.1} s, detectors {:.1} s (summed over threads)\n",
             t.wall_s,
+            (t.calibration_signal_s + summary.test_signal_hours * 3600.0) / 3600.0,
+            (t.calibration_signal_s + summary.test_signal_hours * 3600.0) / t.wall_s.max(1e-9),
             t.synthesis_s,
-            t.detector_s.values().sum::<f64>(),
-            summary.test_signal_hours * 3600.0 / t.wall_s.max(1e-9)
+            t.detector_s.values().sum::<f64>()
         ));
     }
     out.push_str(&format!("\n{CAUTIONS}\n"));
