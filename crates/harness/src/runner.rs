@@ -1188,7 +1188,9 @@ fn calibrate(
 
     let duration = |i: &usize| {
         let job = &all_jobs[*i];
-        suite.scenes[job.scene].variants[job.variant].scene.duration_s
+        suite.scenes[job.scene].variants[job.variant]
+            .scene
+            .duration_s
     };
     let signal_s: f64 = (0..all_jobs.len()).map(|i| duration(&i)).sum::<f64>()
         + again.iter().map(duration).sum::<f64>();

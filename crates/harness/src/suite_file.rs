@@ -346,6 +346,21 @@ fn read_suite(
     let default_name = Path::new(name)
         .file_stem()
         .map_or_else(|| "suite".to_string(), |s| s.to_string_lossy().into_owned());
+    // A scene file given where a suite is expected: say so once, not as a dozen unknown fields.
+    let looks_like_scene = ["sensor", "actors", "environment"]
+        .iter()
+        .any(|key| root.get(key).is_some())
+        && root.get("scenes").is_none()
+        && root.get("products").is_none();
+    if looks_like_scene {
+        report.problems.push(error(
+            name,
+            root.location,
+            String::new(),
+            "this is a scene file, not a suite: synthesize it with `echobench synth`, or name it under a product's `scenes:` in a suite".into(),
+        ));
+        return None;
+    }
     let mut reader = Reader::new(name);
     let Some(mut f) = reader.fields(root, "") else {
         report.extend(reader.finish());
@@ -513,7 +528,7 @@ fn check_coverage(
                         field: detector.path.clone(),
                         message: message.clone(),
                         hint: Some(
-                            "give the detector's bands in m/s (`band_units: mps`), or widen them"
+                            "widen the detector's motion band (in m/s, e.g. `motion_min_mps`), or accept that this target moves outside it"
                                 .into(),
                         ),
                     });
