@@ -157,6 +157,36 @@ enum Command {
         #[arg(required = true)]
         files: Vec<PathBuf>,
     },
+    /// Draw why a detector missed or alarmed on one trial of a run: the trial re-created from
+    /// its seed, with its spectrogram, score, threshold, alarm state and truth (one SVG).
+    Explain {
+        /// The run folder.
+        run: PathBuf,
+        /// The detector's label in the suite.
+        #[arg(long)]
+        detector: String,
+        /// The trial as the report's gallery prints it: SCENE[@SWEEP]/TRIAL, e.g.
+        /// `office-corridor-range@6/3` (`calibration/...` for a calibration trial).
+        #[arg(long)]
+        trial: String,
+        /// The product (checked against the product of the trial's scene).
+        #[arg(long)]
+        product: Option<String>,
+        /// The target false-alarm rate whose operating threshold is used, per hour (default:
+        /// the run's first, e.g. 1).
+        #[arg(long, value_parser = parse_budget)]
+        target_rate: Option<f64>,
+        /// The SVG file to write (default: explain-DETECTOR-KEY.svg in the current folder).
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// The suite file that was run, when it names scene files (they are read beside it);
+        /// not needed for the built-in default suite or a suite of inline scenes.
+        #[arg(long)]
+        suite: Option<PathBuf>,
+        /// Let an `external` detector run its program again.
+        #[arg(long)]
+        allow_exec: bool,
+    },
 }
 
 fn main() -> ExitCode {
@@ -229,6 +259,27 @@ fn main() -> ExitCode {
             sample_rate_hz,
             carrier_hz,
         } => run_detectors(sample_rate_hz, carrier_hz),
+        Command::Explain {
+            run,
+            detector,
+            trial,
+            product,
+            target_rate,
+            out,
+            suite,
+            allow_exec,
+        } => run_explain(
+            &run,
+            echobench_explain::ExplainRequest {
+                detector,
+                trial,
+                product,
+                target_per_hour: target_rate,
+            },
+            out,
+            suite.as_deref(),
+            allow_exec,
+        ),
     };
     match result {
         Ok(code) => code,
@@ -308,7 +359,21 @@ fn write_run_outputs(
         timing: timing.cloned(),
         suite_text: Some(suite_text.to_string()),
     };
-    let html = echobench_report::render_html(&folder, None, &[]);
+    // The gallery of worst misses and false alarms, each trial re-created from its seed.
+    let gallery = echobench_explain::ExplainRun::new(suite.clone(), tallies.clone())
+        .map(|run| {
+            let plugins = echobench_detectors::with_external(false);
+            echobench_explain::gallery_sections(
+                &run,
+                &plugins,
+                echobench_explain::GALLERY_PER_DETECTOR,
+            )
+        })
+        .unwrap_or_else(|e| {
+            eprintln!("note: no gallery in the report: {e}");
+            Vec::new()
+        });
+    let html = echobench_report::render_html(&folder, None, &gallery);
     echobench_core::atomic::write_atomically(&out.join("report.html"), |w| {
         w.write_all(html.as_bytes())
     })?;
@@ -573,6 +638,19 @@ fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Resu
             Err(e) => eprintln!("note: no gate verdict in the report: {e}"),
         }
     }
+    // The gallery of worst misses and false alarms, each trial re-created from its seed.
+    let plugins = echobench_detectors::with_external(false);
+    match folder.suite_text.as_deref().map(|text| {
+        echobench_explain::ExplainRun::from_text(text, folder.tallies.clone(), run, None, &plugins)
+    }) {
+        Some(Ok(again)) => extra.extend(echobench_explain::gallery_sections(
+            &again,
+            &plugins,
+            echobench_explain::GALLERY_PER_DETECTOR,
+        )),
+        Some(Err(e)) => eprintln!("note: no gallery in the report: {e}"),
+        None => eprintln!("note: no gallery in the report: the run folder has no suite.yaml"),
+    }
     let html = render_html(&folder, base.as_ref(), &extra);
     let out = match out {
         Some(out) => {
@@ -587,6 +665,23 @@ fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Resu
             run.join("report.html")
         }
     };
+    println!("wrote {}", out.display());
+    Ok(ExitCode::SUCCESS)
+}
+
+fn run_explain(
+    run: &Path,
+    request: echobench_explain::ExplainRequest,
+    out: Option<PathBuf>,
+    suite: Option<&Path>,
+    allow_exec: bool,
+) -> Result<ExitCode> {
+    let plugins = echobench_detectors::with_external(allow_exec);
+    let again = echobench_explain::ExplainRun::load(run, suite, &plugins)?;
+    let explanation = echobench_explain::explain_trial(&again, &plugins, &request)?;
+    let out = out.unwrap_or_else(|| PathBuf::from(explanation.file_name()));
+    echobench_core::atomic::write_atomically(&out, |w| w.write_all(explanation.svg.as_bytes()))?;
+    print!("{}", explanation.text());
     println!("wrote {}", out.display());
     Ok(ExitCode::SUCCESS)
 }
