@@ -1,7 +1,7 @@
 //! The numbers behind the plots, taken from the tallies the way the harness's own files take
 //! them, so a curve in the report is the same curve as in `roc.csv`.
 
-use echobench_harness::runner::{DetectorTally, Tallies, VariantTally};
+use echobench_harness::runner::{DetectorTally, VariantTally};
 use echobench_harness::summary::{Estimate, CONFIDENCE};
 
 /// Nanoseconds per hour: tallies keep exposure in integer nanoseconds.
@@ -176,10 +176,11 @@ pub struct Sweep {
     pub by_detector: Vec<Vec<SweepPoint>>,
 }
 
-/// The distinct scene ids of a run, in suite order.
-pub fn scene_ids(tallies: &Tallies) -> Vec<String> {
+/// The distinct scene ids of one product's detectors, in suite order (every detector of a
+/// product has the same variants).
+pub fn scene_ids(detectors: &[&DetectorTally]) -> Vec<String> {
     let mut ids: Vec<String> = Vec::new();
-    if let Some(d) = tallies.detectors.first() {
+    if let Some(d) = detectors.first() {
         for v in &d.variants {
             if ids.last() != Some(&v.scene) {
                 ids.push(v.scene.clone());
@@ -189,10 +190,11 @@ pub fn scene_ids(tallies: &Tallies) -> Vec<String> {
     ids
 }
 
-/// The swept scenes of a run at operating point `op`.
-pub fn sweeps(tallies: &Tallies, op: usize) -> Vec<Sweep> {
-    let ids = scene_ids(tallies);
-    let Some(first) = tallies.detectors.first() else {
+/// The swept scenes of one product's detectors at operating point `op`; `by_detector`
+/// follows the order of `detectors`.
+pub fn sweeps(detectors: &[&DetectorTally], op: usize) -> Vec<Sweep> {
+    let ids = scene_ids(detectors);
+    let Some(first) = detectors.first() else {
         return Vec::new();
     };
     let mut out = Vec::new();
@@ -209,8 +211,7 @@ pub fn sweeps(tallies: &Tallies, op: usize) -> Vec<Sweep> {
             .iter()
             .find(|v| &v.scene == id)
             .map_or_else(String::new, |v| v.label.clone());
-        let by_detector = tallies
-            .detectors
+        let by_detector = detectors
             .iter()
             .map(|d| {
                 d.variants
@@ -243,9 +244,12 @@ pub fn sweeps(tallies: &Tallies, op: usize) -> Vec<Sweep> {
     out
 }
 
-/// The swept field of each scene entry of a suite text (`scenes[i].sweep.field`), by entry
-/// index; empty when the text does not parse.
-pub fn sweep_fields(suite_text: &str) -> Vec<Option<String>> {
+/// The swept field of each scene entry of one product in a suite text
+/// (`products[k].scenes[i].sweep.field` for the product named `product`, or
+/// `scenes[i].sweep.field` in a suite of one product written without `products:`), by
+/// entry index; empty when the text does not parse or has no such product.
+pub fn sweep_fields(suite_text: &str, product: &str) -> Vec<Option<String>> {
+    use echobench_yaml_reader::Value;
     let Ok(root) = echobench_yaml_reader::parse(
         "suite.yaml",
         suite_text,
@@ -253,8 +257,17 @@ pub fn sweep_fields(suite_text: &str) -> Vec<Option<String>> {
     ) else {
         return Vec::new();
     };
-    match root.get("scenes").map(|n| &n.value) {
-        Some(echobench_yaml_reader::Value::Seq(entries)) => entries
+    let scenes = match root.get("products").map(|n| &n.value) {
+        Some(Value::Seq(products)) => products
+            .iter()
+            .find(|p| {
+                matches!(p.get("name").map(|n| &n.value), Some(Value::Str(name)) if name == product)
+            })
+            .and_then(|p| p.get("scenes")),
+        _ => root.get("scenes"),
+    };
+    match scenes.map(|n| &n.value) {
+        Some(Value::Seq(entries)) => entries
             .iter()
             .map(|entry| {
                 match entry
@@ -262,7 +275,7 @@ pub fn sweep_fields(suite_text: &str) -> Vec<Option<String>> {
                     .and_then(|s| s.get("field"))
                     .map(|f| &f.value)
                 {
-                    Some(echobench_yaml_reader::Value::Str(field)) => Some(field.clone()),
+                    Some(Value::Str(field)) => Some(field.clone()),
                     _ => None,
                 }
             })
@@ -306,10 +319,18 @@ mod tests {
     fn sweep_fields_follow_the_scene_entries() {
         let text = "name: x\nscenes:\n  - file: a.yaml\n    label: target\n    sweep:\n      field: actors[0].path.start_m[0]\n      values: [2, 4]\n  - file: b.yaml\n    label: nuisance\n";
         assert_eq!(
-            sweep_fields(text),
+            sweep_fields(text, "x"),
             vec![Some("actors[0].path.start_m[0]".to_string()), None]
         );
-        assert!(sweep_fields("scenes: [unclosed").is_empty());
+        assert!(sweep_fields("scenes: [unclosed", "x").is_empty());
+        // With products, each product's own entries.
+        let text = "name: x\nproducts:\n  - name: a\n    scenes:\n      - file: a.yaml\n        label: nuisance\n  - name: b\n    scenes:\n      - file: b.yaml\n        label: nuisance\n      - file: c.yaml\n        label: target\n        sweep:\n          field: actors[1].speed_mps\n          values: [1, 2]\n";
+        assert_eq!(sweep_fields(text, "a"), vec![None]);
+        assert_eq!(
+            sweep_fields(text, "b"),
+            vec![None, Some("actors[1].speed_mps".to_string())]
+        );
+        assert!(sweep_fields(text, "c").is_empty());
     }
 
     #[test]

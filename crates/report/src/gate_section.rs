@@ -127,10 +127,8 @@ pub fn gate_section(report: &GateReport) -> Section {
     for note in &report.notes {
         let _ = write!(html, "<p class=\"note\">{}</p>", escape(note));
     }
-    Section {
-        title: "Regression gate against the baseline".into(),
-        html,
-    }
+    // The gate checks every product; its section is about the whole run.
+    Section::new("Regression gate against the baseline", html)
 }
 
 fn p_text(p: Option<f64>) -> String {

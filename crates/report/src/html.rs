@@ -5,18 +5,49 @@ use crate::plot::{
     escape, format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
     MarkedPoint, Marker, ReferenceLine, Series, Style,
 };
+use crate::product_part;
 use crate::run_folder::RunFolder;
-use echobench_harness::summary::{DetectorSummary, Estimate, OperatingSummary};
+use echobench_harness::runner::DetectorTally;
+use echobench_harness::summary::{
+    rate_label, DetectorSummary, Estimate, OperatingSummary, ProductSummary,
+};
 use std::fmt::Write as _;
 
-/// A section added by the caller (e.g. the gate's verdict): a title, escaped when rendered,
-/// and a body of HTML inserted as given, so it must come from trusted code.
+/// A section added by the caller (the gate's verdict, a gallery of explained trials): a
+/// title, escaped when rendered, and a body of HTML inserted as given, so it must come from
+/// trusted code. A section with a `product` goes inside that product's part of the page,
+/// after its detection and false-alarm tables; one without goes right after the cautions.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Section {
     /// Heading.
     pub title: String,
     /// Body, HTML.
     pub html: String,
+    /// The product whose part the section belongs to; `None` for the whole run.
+    pub product: Option<String>,
+}
+
+impl Section {
+    /// A section about the whole run.
+    pub fn new(title: impl Into<String>, html: impl Into<String>) -> Section {
+        Section {
+            title: title.into(),
+            html: html.into(),
+            product: None,
+        }
+    }
+
+    /// A section inside one product's part.
+    pub fn for_product(
+        product: impl Into<String>,
+        title: impl Into<String>,
+        html: impl Into<String>,
+    ) -> Section {
+        Section {
+            product: Some(product.into()),
+            ..Section::new(title, html)
+        }
+    }
 }
 
 /// Series colours: hues that stay apart for the common colour-vision deficiencies because
@@ -57,8 +88,30 @@ body { font-family: sans-serif; color: #1a1a1a; background: #ffffff; margin: 0; 
 main, header, nav, aside.cautions { max-width: 1160px; margin: 0 auto; padding: 0 24px; }
 header { padding-top: 18px; }
 h1 { font-size: 26px; margin: 8px 0 12px; }
-h2 { font-size: 20px; margin: 34px 0 8px; padding-top: 8px; border-top: 2px solid #cfcfcf; }
-h3 { font-size: 16px; margin: 20px 0 6px; }
+h2 { font-size: 21px; margin: 34px 0 8px; padding-top: 8px; border-top: 2px solid #cfcfcf; }
+h3 { font-size: 18px; margin: 28px 0 8px; padding-top: 6px; border-top: 1px solid #dddddd; }
+h4 { font-size: 15px; margin: 18px 0 6px; }
+section.product { margin-top: 40px; }
+section.product > h2 { background: #e8eef5; border-top: 4px solid #1b5e9e; padding: 8px 12px; }
+.product-head { padding: 0 4px; }
+.product-head p.about { font-style: italic; margin: 4px 0 8px; }
+ul.statements { margin: 0; padding-left: 18px; }
+table.grid th[scope=row] { font-weight: normal; white-space: nowrap; }
+table.grid td.cell { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+table.grid td.cell .sub, table.grid td.cell .why, table.grid td.cell .limit { display: block; font-size: 12px; }
+table.grid td.cell .sub { color: #444444; }
+table.grid td.cell .why { color: #9a1c00; font-weight: bold; white-space: normal; }
+table.grid td.cell .limit { color: #6b4400; font-weight: bold; }
+td.zero, .legend.zero { background: #f6c9bd; color: #7a1000; }
+td.zero .est strong { font-size: 16px; }
+td.low, .legend.low { background: #fbe6dc; }
+td.no-event, .legend.no-event { background: #ececec; color: #555555; }
+td.over, .legend.over { background: #f6c9bd; }
+td.limiting, .legend.limiting { box-shadow: inset 0 0 0 3px #b07a00; }
+.legend { padding: 0 4px; }
+ol.why-list { font-size: 14px; }
+ol.why-list li { margin: 2px 0; }
+details > summary { cursor: pointer; margin: 6px 0; }
 code, pre { font-family: monospace; font-size: 13px; }
 pre { background: #f5f5f5; border: 1px solid #dddddd; padding: 10px; overflow-x: auto; white-space: pre-wrap; }
 dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: 3px 18px; margin: 0 0 12px; }
@@ -67,7 +120,8 @@ dl.facts dd { margin: 0; }
 aside.cautions > div { border: 2px solid #8a5a00; border-left-width: 10px; background: #fff6e0; padding: 8px 16px; margin: 12px 0; }
 aside.cautions h2 { border: none; margin: 6px 0; padding: 0; }
 aside.cautions li { margin: 3px 0; }
-nav.toc ol { columns: 3; margin: 6px 0 0; padding-left: 22px; }
+nav.toc ol { margin: 6px 0 0; padding-left: 22px; }
+nav.toc ol ol { columns: 3; margin: 2px 0 6px; }
 table { border-collapse: collapse; margin: 8px 0 14px; font-size: 14px; }
 th, td { border: 1px solid #cccccc; padding: 3px 8px; text-align: left; vertical-align: top; }
 th { background: #eeeeee; }
@@ -88,6 +142,7 @@ figcaption { font-size: 14px; color: #333333; max-width: 900px; margin-top: 4px;
   nav.toc { display: none; }
   h2 { break-after: avoid; page-break-after: avoid; }
   tr.meets td { background: #ffffff; font-weight: bold; }
+  td.zero, td.over { border: 2px solid #000000; }
 }
 "#;
 
@@ -98,10 +153,15 @@ window.addEventListener('error', function (e) { window.__reportErrors.push('erro
 
 /// Checks that every plot drew something with an area or a length, and writes the result on
 /// `<body>`: `data-plots-total`, `-ok`, `-empty` (plots that say they have nothing to draw),
-/// `-bad` (figure ids), `data-errors` (JSON list) and `data-page-height` (px).
+/// `-bad` (figure ids), `data-errors` (JSON list) and `data-page-height` (px). Checks too that
+/// every shown per-product table (`table[data-check]` outside a closed `<details>`) is laid
+/// out with an area and has the rows and columns it declares (`data-tables-shown`, `-ok`,
+/// `-bad`), and counts the Pd-zero cells whose background differs from the page's
+/// (`data-zero-cells`, `data-zero-marked`).
 const SELF_CHECK: &str = r#"(function () {
   var body = document.body, errors = window.__reportErrors || [];
   var plots = document.querySelectorAll('svg.plot'), ok = 0, empty = 0, bad = [];
+  var shown = 0, tablesOk = 0, tablesBad = [], zeroTotal = 0, zeroMarked = 0;
   try {
     for (var i = 0; i < plots.length; i++) {
       var svg = plots[i];
@@ -113,7 +173,33 @@ const SELF_CHECK: &str = r#"(function () {
       }
       if (drawn) { ok++; } else { var f = svg.closest('figure'); bad.push(f && f.id ? f.id : 'svg-' + i); }
     }
+    var tables = document.querySelectorAll('table[data-check]');
+    for (var t = 0; t < tables.length; t++) {
+      var table = tables[t];
+      if (table.closest('details:not([open])')) { continue; }
+      shown++;
+      var rows = table.tBodies.length ? table.tBodies[0].rows : [];
+      var want = Number(table.getAttribute('data-columns')), good = rows.length === Number(table.getAttribute('data-rows'));
+      var head = table.tHead ? table.tHead.rows[0] : null;
+      if (!head || head.cells.length !== want) { good = false; }
+      for (var r = 0; r < rows.length; r++) { if (rows[r].cells.length !== want) { good = false; } }
+      var rect = table.getBoundingClientRect();
+      if (!(rect.width > 0 && rect.height > 0)) { good = false; }
+      if (good) { tablesOk++; } else { tablesBad.push(table.id || 'table-' + t); }
+    }
+    var background = getComputedStyle(document.body).backgroundColor;
+    var zeros = document.querySelectorAll('td.zero');
+    for (var z = 0; z < zeros.length; z++) {
+      var own = getComputedStyle(zeros[z]).backgroundColor;
+      if (own !== background && own !== 'transparent' && own !== 'rgba(0, 0, 0, 0)') { zeroMarked++; }
+    }
+    zeroTotal = zeros.length;
   } catch (e) { errors.push('self-check: ' + e.message); }
+  body.setAttribute('data-tables-shown', String(shown));
+  body.setAttribute('data-tables-ok', String(tablesOk));
+  body.setAttribute('data-tables-bad', tablesBad.join(' '));
+  body.setAttribute('data-zero-cells', String(zeroTotal));
+  body.setAttribute('data-zero-marked', String(zeroMarked));
   body.setAttribute('data-plots-total', String(plots.length));
   body.setAttribute('data-plots-ok', String(ok));
   body.setAttribute('data-plots-empty', String(empty));
@@ -150,8 +236,13 @@ fn fmt_seconds(x: Option<f64>) -> String {
     finite(x).map_or_else(|| "—".into(), |v| format!("{v:.2} s"))
 }
 
-/// A target rate as written, with "1 per N h" when it is one.
-fn fmt_target(rate: f64) -> String {
+/// A target rate as people say it (`1/h`, `1/day`: `summary::rate_label`, as the console
+/// prints it), or as written with "1 per N h" when it is one.
+pub(crate) fn fmt_target(rate: f64) -> String {
+    let named = rate_label(rate);
+    if named != format!("{rate}/h") {
+        return named;
+    }
     let base = format!("{}/h", format_number(rate, 3));
     if rate > 0.0 && rate < 1.0 {
         let per = 1.0 / rate;
@@ -161,6 +252,16 @@ fn fmt_target(rate: f64) -> String {
         }
     }
     base
+}
+
+/// A detector as the cautions name it: `product/label` (the gate's form) when the run has
+/// several products, the label alone otherwise.
+fn qualified(several: bool, d: &DetectorSummary) -> String {
+    if several {
+        format!("{}/{}", d.product, d.label)
+    } else {
+        d.label.clone()
+    }
 }
 
 /// A whole number with thin-space thousands groups (SI style: 11 472 000).
@@ -194,7 +295,7 @@ fn fmt_probability(e: &Estimate) -> String {
 }
 
 /// A detector's name with its colour swatch, kept on one line.
-fn detector_cell(index: usize, label: &str) -> String {
+pub(crate) fn detector_cell(index: usize, label: &str) -> String {
     format!(
         "<span class=\"nw\">{}{}</span>",
         swatch(index),
@@ -241,8 +342,8 @@ fn table(headers: &[&str], numeric: &[usize], rows: &[(String, Vec<String>)]) ->
     out
 }
 
+/// Where figures are numbered: one count over the whole page.
 struct Page {
-    sections: Vec<(String, String, String)>,
     figures: usize,
 }
 
@@ -254,15 +355,118 @@ impl Page {
             self.figures, self.figures
         )
     }
+}
 
-    fn add(&mut self, id: &str, title: &str, html: String) {
-        self.sections
-            .push((id.to_string(), title.to_string(), html));
+/// One section of the page: its element id, its title (plain text) and its body (HTML).
+struct Entry {
+    id: String,
+    title: String,
+    html: String,
+}
+
+/// One product's part of the page. A product is the unit of comparison (one sensor
+/// module, its own thresholds), so every section inside a part is computed on that
+/// product's detectors only; nothing is pooled across products.
+pub(crate) struct Part<'a> {
+    /// The whole run.
+    pub(crate) run: &'a RunFolder,
+    /// Position among the products, from 1: element ids use it, since product names come
+    /// from user files.
+    pub(crate) number: usize,
+    /// The product's name.
+    pub(crate) name: &'a str,
+    /// The product's description, when the summary has one.
+    pub(crate) product: Option<&'a ProductSummary>,
+    /// The product's detectors: summary and tallies side by side, in run order.
+    pub(crate) detectors: Vec<(&'a DetectorSummary, &'a DetectorTally)>,
+}
+
+impl<'a> Part<'a> {
+    /// An element id inside this part.
+    pub(crate) fn id(&self, section: &str) -> String {
+        format!("p{}-{section}", self.number)
+    }
+
+    pub(crate) fn summaries(&self) -> impl Iterator<Item = &'a DetectorSummary> + '_ {
+        self.detectors.iter().map(|(d, _)| *d)
+    }
+
+    pub(crate) fn tallies(&self) -> Vec<&'a DetectorTally> {
+        self.detectors.iter().map(|(_, t)| *t).collect()
+    }
+
+    /// The swept field of one of the product's scenes, as the suite text writes it.
+    pub(crate) fn sweep_field(&self, scene: &str) -> Option<String> {
+        let fields = self
+            .run
+            .suite_text
+            .as_deref()
+            .map(|text| data::sweep_fields(text, self.name))
+            .unwrap_or_default();
+        let ids = data::scene_ids(&self.tallies());
+        // Scene entries and scene ids are in the same (suite) order.
+        if fields.len() != ids.len() {
+            return None;
+        }
+        let index = ids.iter().position(|id| id == scene)?;
+        fields.get(index).cloned().flatten()
+    }
+
+    /// The product's name as page text: in code type, escaped.
+    pub(crate) fn name_html(&self) -> String {
+        format!("<code>{}</code>", escape(self.name))
     }
 }
 
-/// Target rates of the run (every detector is scored at the same ones).
-fn targets(run: &RunFolder) -> Vec<f64> {
+/// The products of a run in suite order, each with its detectors. Products come from the
+/// summary's list; a detector of a product the list lacks still gets a part (so nothing is
+/// dropped from the page), after the listed ones.
+fn parts(run: &RunFolder) -> Vec<Part<'_>> {
+    let mut names: Vec<&str> = run
+        .summary
+        .products
+        .iter()
+        .map(|p| p.name.as_str())
+        .collect();
+    for d in &run.summary.detectors {
+        if !names.contains(&d.product.as_str()) {
+            names.push(&d.product);
+        }
+    }
+    names
+        .into_iter()
+        .enumerate()
+        .map(|(k, name)| Part {
+            run,
+            number: k + 1,
+            name,
+            product: run.summary.products.iter().find(|p| p.name == name),
+            detectors: run
+                .summary
+                .detectors
+                .iter()
+                .zip(&run.tallies.detectors)
+                .filter(|(d, _)| d.product == name)
+                .collect(),
+        })
+        .collect()
+}
+
+/// Target rates of a product (every detector of a run is scored at the same ones).
+pub(crate) fn targets(part: &Part) -> Vec<f64> {
+    part.summaries()
+        .next()
+        .map(|d| {
+            d.operating_points
+                .iter()
+                .map(|o| o.target_false_alarms_per_hour)
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+/// Target rates of the run: those of its first detector.
+fn run_targets(run: &RunFolder) -> Vec<f64> {
     run.summary
         .detectors
         .first()
@@ -277,12 +481,15 @@ fn targets(run: &RunFolder) -> Vec<f64> {
 
 fn header(run: &RunFolder) -> String {
     let s = &run.summary;
-    let t = &run.tallies;
     let mut facts: Vec<(&str, String)> = Vec::new();
     facts.push(("suite", format!("<code>{}</code>", escape(&s.suite))));
     facts.push(("seed", s.seed.to_string()));
     let (mut target_trials, mut nuisance_trials, mut events, mut exposure_ns) = (0, 0, 0, 0);
-    if let Some(d) = t.detectors.first() {
+    // Each product's trials are counted once, through its first detector.
+    for part in parts(run) {
+        let Some(d) = part.tallies().first().copied() else {
+            continue;
+        };
         for v in &d.variants {
             if v.label == "target" {
                 target_trials += v.trials;
@@ -328,7 +535,7 @@ fn header(run: &RunFolder) -> String {
             format_number(s.event_tolerance_s.1, 3)
         )),
     ));
-    let rates: Vec<String> = targets(run).into_iter().map(fmt_target).collect();
+    let rates: Vec<String> = run_targets(run).into_iter().map(fmt_target).collect();
     facts.push((
         "target false-alarm rates",
         escape(&if rates.is_empty() {
@@ -337,15 +544,22 @@ fn header(run: &RunFolder) -> String {
             rates.join(", ")
         }),
     ));
-    if let Some(first) = s.detectors.first().and_then(|d| d.operating_points.first()) {
-        facts.push((
-            "calibration",
-            format!(
-                "thresholds chosen on {} h of noise-only calibration time (own seeds), then scored on the test trials",
-                format_number(first.calibration_exposure_hours, 3)
-            ),
-        ));
-    }
+    let products: Vec<String> = parts(run)
+        .iter()
+        .map(|p| format!("<a href=\"#{}\">{}</a>", p.id("product"), p.name_html()))
+        .collect();
+    facts.push((
+        "products",
+        format!(
+            "{} ({}); each is one sensor module with its own scenes, calibrated and ranked on its own",
+            products.len(),
+            products.join(", ")
+        ),
+    ));
+    facts.push((
+        "calibration",
+        "per product: thresholds chosen on that product's calibration trials (own seeds), then scored on its test trials".to_string(),
+    ));
     if let Some(budget) = s.false_alarm_budget_per_hour {
         facts.push((
             "false-alarm budget",
@@ -359,8 +573,9 @@ fn header(run: &RunFolder) -> String {
             data::confidence_percent()
         ),
     ));
-    if !t.shards.is_empty() {
-        let shards: Vec<String> = t
+    if !run.tallies.shards.is_empty() {
+        let shards: Vec<String> = run
+            .tallies
             .shards
             .iter()
             .map(|sh| format!("{}/{}", sh.index, sh.count))
@@ -391,11 +606,12 @@ fn run_cautions(run: &RunFolder, baseline: Option<&RunFolder>) -> Vec<String> {
     if !run.tallies.shards.is_empty() {
         out.push("This folder holds only some shards of the run: its rates cover only those trials. Merge every shard before deciding.".to_string());
     }
-    let failed: Vec<&str> = s
+    let several = run.summary.products.len() > 1;
+    let failed: Vec<String> = s
         .detectors
         .iter()
         .filter(|d| !d.failures.is_empty())
-        .map(|d| d.label.as_str())
+        .map(|d| qualified(several, d))
         .collect();
     if !failed.is_empty() {
         out.push(format!(
@@ -403,27 +619,39 @@ fn run_cautions(run: &RunFolder, baseline: Option<&RunFolder>) -> Vec<String> {
             failed.join(", ")
         ));
     }
-    let short = s
-        .detectors
-        .iter()
-        .flat_map(|d| &d.operating_points)
-        .any(|o| o.target_false_alarms_per_hour * o.calibration_exposure_hours < 1.0);
-    if short {
-        out.push("The calibration time is shorter than one alarm at some target rate: there the threshold is the lowest with no calibration alarm, so several targets can share one threshold. Add calibration trials to separate them.".to_string());
-    }
-    let events: u64 = run
-        .tallies
-        .detectors
-        .first()
-        .map_or(0, |d| d.variants.iter().map(|v| v.events).sum());
-    if events == 0 {
-        out.push(
-            "The run has no target events: no detection probability can be given.".to_string(),
-        );
-    } else if events < 30 {
-        out.push(format!(
-            "Only {events} target events: detection probabilities carry wide intervals."
-        ));
+    for part in parts(run) {
+        let product = if several {
+            format!("Product `{}`: ", part.name)
+        } else {
+            String::new()
+        };
+        // The same test as the console's: a rate is resolved when every room (or the pooled
+        // time) is long enough for zero alarms to bound the rate below it at 95 %.
+        for (o, rate) in targets(&part).iter().enumerate() {
+            let resolved = part
+                .summaries()
+                .all(|d| d.operating_points.get(o).is_some_and(|p| p.resolved));
+            if !resolved {
+                out.push(format!(
+                    "{product}the calibration cannot resolve {}: it needs {} h of noise-only time per room, so its threshold is the lowest with no more calibration alarms than the time allows, and its Pd is optimistic about false alarms.",
+                    rate_label(*rate),
+                    format_number(-(0.05f64.ln()) / rate, 3)
+                ));
+            }
+        }
+        let events: u64 = part
+            .tallies()
+            .first()
+            .map_or(0, |d| d.variants.iter().map(|v| v.events).sum());
+        if events == 0 {
+            out.push(format!(
+                "{product}no target events: no detection probability can be given."
+            ));
+        } else if events < 30 {
+            out.push(format!(
+                "{product}only {events} target events: detection probabilities carry wide intervals."
+            ));
+        }
     }
     if let Some(b) = baseline {
         if b.summary.suite != s.suite || b.summary.seed != s.seed {
@@ -489,12 +717,11 @@ fn rank_order(
         .then(a.1.label.cmp(&b.1.label))
 }
 
-fn ranking(run: &RunFolder) -> String {
-    let s = &run.summary;
+fn ranking(part: &Part) -> String {
     let mut out = String::from(
         "<p>The rule: a detector <strong>meets</strong> a target false-alarm rate when its <em>measured</em> false-alarm rate on the test trials, at the threshold calibrated for that target, is at or below the target (point estimate). Those that meet it are ranked by detection probability Pd (higher first), then by median latency (shorter first). A detector that meets the rate but detects no target event at that threshold is listed apart, and one that failed on any trial is not ranked. The one-sided 95 % upper bound says whether the test time was long enough to <em>show</em> the rate; where it is not, the last column gives the noise-only time that would, with no false alarm in it.</p>",
     );
-    let targets = targets(run);
+    let targets = targets(part);
     if targets.is_empty() {
         out.push_str(
             "<p>The suite sets no target false-alarm rate, so there is nothing to rank.</p>",
@@ -502,10 +729,10 @@ fn ranking(run: &RunFolder) -> String {
         return out;
     }
     for (o, target) in targets.iter().enumerate() {
-        let _ = write!(out, "<h3>Target {}</h3>", escape(&fmt_target(*target)));
+        let _ = write!(out, "<h4>Target {}</h4>", escape(&fmt_target(*target)));
         let mut meets: Vec<(usize, &DetectorSummary, &OperatingSummary)> = Vec::new();
         let mut fails: Vec<(usize, &DetectorSummary, &OperatingSummary, String)> = Vec::new();
-        for (i, d) in s.detectors.iter().enumerate() {
+        for (i, d) in part.summaries().enumerate() {
             let Some(op) = d.operating_points.get(o) else {
                 continue;
             };
@@ -693,9 +920,9 @@ fn operating_marker(d: &DetectorSummary, op: &OperatingSummary) -> Option<Marked
 
 const ZERO_NOTE: &str = "A log axis cannot show zero: points with no false alarm are drawn at the left edge marked 0, beyond the axis break.";
 
-fn event_roc(page: &mut Page, run: &RunFolder) -> String {
-    let curves: Vec<Vec<GridRocPoint>> = run.tallies.detectors.iter().map(data::grid_roc).collect();
-    let targets = targets(run);
+fn event_roc(page: &mut Page, part: &Part) -> String {
+    let curves: Vec<Vec<GridRocPoint>> = part.tallies().into_iter().map(data::grid_roc).collect();
+    let targets = targets(part);
     let axis = rate_axis(
         "false alarms per hour (test trials, log scale)",
         curves
@@ -704,7 +931,7 @@ fn event_roc(page: &mut Page, run: &RunFolder) -> String {
             .filter(|p| p.monotone)
             .filter_map(|p| p.false_alarms_per_hour)
             .chain(targets.iter().copied())
-            .chain(run.summary.detectors.iter().flat_map(|d| {
+            .chain(part.summaries().flat_map(|d| {
                 d.operating_points.iter().flat_map(|o| {
                     let r = &o.outcome.false_alarms_per_hour;
                     [r.value, r.low, r.high].into_iter().flatten()
@@ -718,7 +945,7 @@ fn event_roc(page: &mut Page, run: &RunFolder) -> String {
     );
     chart.empty_message =
         "no curve to draw: the run has no target events or no noise-only time".into();
-    for (i, (d, points)) in run.summary.detectors.iter().zip(&curves).enumerate() {
+    for (i, (d, points)) in part.summaries().zip(&curves).enumerate() {
         let mut series = grid_series(points, style_for(i, false), d.label.clone());
         series.markers = d
             .operating_points
@@ -737,9 +964,7 @@ fn event_roc(page: &mut Page, run: &RunFolder) -> String {
     let caption = format!(
         "Each curve sweeps one detector's threshold grid; every scene is pooled, as in <code>roc.csv</code>: Pd is detected target events over all target events, the rate is false alarms over all noise-only test time. {} Markers are the operating points (the thresholds calibrated for each target), with {} intervals on both axes. Dashed vertical lines are the target rates. {}",
         fold_back_words(
-            run.summary
-                .detectors
-                .iter()
+            part.summaries()
                 .map(|d| d.label.as_str())
                 .zip(curves.iter().map(Vec::as_slice))
         ),
@@ -750,7 +975,7 @@ fn event_roc(page: &mut Page, run: &RunFolder) -> String {
     format!("<p>Detection against false alarms, at every threshold the run tried. Up and to the left is better.</p>{figure}")
 }
 
-fn trial_roc(page: &mut Page, run: &RunFolder) -> String {
+fn trial_roc(page: &mut Page, part: &Part) -> String {
     let mut chart = Chart::new(
         "Trial-level ROC of the maximum score per trial",
         Axis::linear(
@@ -765,13 +990,7 @@ fn trial_roc(page: &mut Page, run: &RunFolder) -> String {
         "no curve: the run needs both target-scene and nuisance-scene trials".into();
     let mut missing = Vec::new();
     let mut rows = Vec::new();
-    for (i, (d, tally)) in run
-        .summary
-        .detectors
-        .iter()
-        .zip(&run.tallies.detectors)
-        .enumerate()
-    {
+    for (i, &(d, tally)) in part.detectors.iter().enumerate() {
         let Some(roc) = data::trial_roc(tally) else {
             missing.push(d.label.clone());
             continue;
@@ -821,18 +1040,8 @@ fn trial_roc(page: &mut Page, run: &RunFolder) -> String {
     out
 }
 
-fn sweep_axis_label(run: &RunFolder, sweep: &Sweep) -> String {
-    let fields = run
-        .suite_text
-        .as_deref()
-        .map(data::sweep_fields)
-        .unwrap_or_default();
-    let ids = data::scene_ids(&run.tallies);
-    // Scene entries and scene ids are in the same (suite) order.
-    let field = (fields.len() == ids.len())
-        .then(|| fields.get(sweep.scene_index).cloned().flatten())
-        .flatten();
-    match field {
+fn sweep_axis_label(part: &Part, sweep: &Sweep) -> String {
+    match part.sweep_field(&sweep.scene) {
         Some(f) => match data::unit_of_field(&f) {
             Some(unit) => format!("{} ({unit})", f),
             None => f,
@@ -841,7 +1050,7 @@ fn sweep_axis_label(run: &RunFolder, sweep: &Sweep) -> String {
     }
 }
 
-fn sweep_figure(page: &mut Page, run: &RunFolder, sweep: &Sweep, op_label: &str) -> String {
+fn sweep_figure(page: &mut Page, part: &Part, sweep: &Sweep, op_label: &str) -> String {
     let first = sweep.by_detector.first().cloned().unwrap_or_default();
     let numeric = !first.is_empty() && first.iter().all(|p| p.value.is_some());
     let xs: Vec<f64> = if numeric {
@@ -856,7 +1065,7 @@ fn sweep_figure(page: &mut Page, run: &RunFolder, sweep: &Sweep, op_label: &str)
         });
     let span = if high > low { high - low } else { 1.0 };
     let pad = span * 0.06 + if numeric { 0.0 } else { 0.5 };
-    let mut x_axis = Axis::linear(&sweep_axis_label(run, sweep), low - pad, high + pad);
+    let mut x_axis = Axis::linear(&sweep_axis_label(part, sweep), low - pad, high + pad);
     if !numeric {
         x_axis.custom_ticks = Some(
             first
@@ -896,13 +1105,7 @@ fn sweep_figure(page: &mut Page, run: &RunFolder, sweep: &Sweep, op_label: &str)
     );
     chart.empty_message = "no value to draw for this scene".into();
     let count = sweep.by_detector.len().max(1) as f64;
-    for (i, (d, points)) in run
-        .summary
-        .detectors
-        .iter()
-        .zip(&sweep.by_detector)
-        .enumerate()
-    {
+    for (i, (d, points)) in part.summaries().zip(&sweep.by_detector).enumerate() {
         // Spread the detectors slightly around each value so their error bars do not overlap.
         let dodge = (i as f64 - (count - 1.0) / 2.0) * span * 0.012;
         let mut series = Series {
@@ -971,34 +1174,28 @@ fn sweep_figure(page: &mut Page, run: &RunFolder, sweep: &Sweep, op_label: &str)
     page.figure(&render_chart(&chart), &caption)
 }
 
-fn sweeps(page: &mut Page, run: &RunFolder) -> Option<String> {
-    let sweeps = data::sweeps(&run.tallies, 0);
+fn sweeps(page: &mut Page, part: &Part) -> Option<String> {
+    let sweeps = data::sweeps(&part.tallies(), 0);
     if sweeps.is_empty() {
         return None;
     }
-    let op_label = targets(run).first().map_or_else(
+    let op_label = targets(part).first().map_or_else(
         || "the first target".to_string(),
         |t| format!("the first target, {}", fmt_target(*t)),
     );
     let mut out = String::new();
     for sweep in &sweeps {
-        out.push_str(&sweep_figure(page, run, sweep, &op_label));
+        out.push_str(&sweep_figure(page, part, sweep, &op_label));
     }
     Some(out)
 }
 
-fn latency(page: &mut Page, run: &RunFolder) -> String {
+fn latency(page: &mut Page, part: &Part) -> String {
     let mut chart_series = Vec::new();
     let mut rows = Vec::new();
     let mut undetected = Vec::new();
     let (mut low, mut high) = (0.0f64, 0.0f64);
-    for (i, (d, tally)) in run
-        .summary
-        .detectors
-        .iter()
-        .zip(&run.tallies.detectors)
-        .enumerate()
-    {
+    for (i, &(d, tally)) in part.detectors.iter().enumerate() {
         let Some(op) = d.operating_points.first() else {
             continue;
         };
@@ -1059,7 +1256,7 @@ fn latency(page: &mut Page, run: &RunFolder) -> String {
         label: "median".into(),
     });
     chart.empty_message = "no event was detected at the first operating point".into();
-    let op_label = targets(run)
+    let op_label = targets(part)
         .first()
         .map_or_else(String::new, |t| format!(" for {}", fmt_target(*t)));
     let caption = format!(
@@ -1096,9 +1293,9 @@ fn source_name(source: &str) -> String {
     }
 }
 
-fn false_alarms_by_nuisance(page: &mut Page, run: &RunFolder) -> String {
+fn false_alarms_by_nuisance(page: &mut Page, part: &Part) -> String {
     let mut groups = Vec::new();
-    for (i, d) in run.summary.detectors.iter().enumerate() {
+    for (i, d) in part.summaries().enumerate() {
         let Some(op) = d.operating_points.first() else {
             continue;
         };
@@ -1136,7 +1333,7 @@ fn false_alarms_by_nuisance(page: &mut Page, run: &RunFolder) -> String {
         empty_message: "no detector raised a false alarm at the first operating point".into(),
         width: 900.0,
     };
-    let op_label = targets(run)
+    let op_label = targets(part)
         .first()
         .map_or_else(String::new, |t| format!(" for {}", fmt_target(*t)));
     let caption = format!(
@@ -1145,60 +1342,18 @@ fn false_alarms_by_nuisance(page: &mut Page, run: &RunFolder) -> String {
         data::confidence_percent()
     );
     let mut out = page.figure(&render_bar_chart(&chart), &caption);
-
-    // Per nuisance scene: where the false alarms happen.
-    let mut headers: Vec<String> = vec!["nuisance scene".into()];
-    headers.extend(run.summary.detectors.iter().map(|d| d.label.clone()));
-    let mut rows = Vec::new();
-    if let Some(first) = run
-        .summary
-        .detectors
-        .first()
-        .and_then(|d| d.operating_points.first())
-    {
-        for (k, scene) in first.by_scene.iter().enumerate() {
-            if scene.label != "nuisance" {
-                continue;
-            }
-            let name = match &scene.sweep_value {
-                Some(v) => format!("{} = {}", scene.scene, v),
-                None => scene.scene.clone(),
-            };
-            let mut cells = vec![escape(&name)];
-            for d in &run.summary.detectors {
-                let cell = d
-                    .operating_points
-                    .first()
-                    .and_then(|o| o.by_scene.get(k))
-                    .map_or_else(
-                        || "—".to_string(),
-                        |s| match s.outcome.false_alarms_per_hour.value {
-                            Some(v) if s.outcome.false_alarms > 0 => format!(
-                                "<strong>{}/h</strong> ({})",
-                                format_number(v, 3),
-                                s.outcome.false_alarms
-                            ),
-                            Some(_) => "0".to_string(),
-                            None => "—".to_string(),
-                        },
-                    );
-                cells.push(cell);
-            }
-            rows.push((String::new(), cells));
-        }
-    }
-    if !rows.is_empty() {
-        out.push_str("<p>False alarms per hour of each nuisance scene's own time, at the same operating point (count in brackets):</p>");
-        let header_refs: Vec<&str> = headers.iter().map(String::as_str).collect();
-        let numeric: Vec<usize> = (1..headers.len()).collect();
-        out.push_str(&table(&header_refs, &numeric, &rows));
-    }
+    let _ = write!(
+        out,
+        "<p class=\"note\">False alarms per room, with each room's calibration rate and the room that set each threshold, are in the <a href=\"#{}\">false-alarm table</a>.</p>",
+        part.id("false-alarm-table")
+    );
     out
 }
 
-fn cost(run: &RunFolder) -> String {
+fn cost(part: &Part) -> String {
+    let run = part.run;
     let mut rows = Vec::new();
-    for (i, d) in run.summary.detectors.iter().enumerate() {
+    for (i, d) in part.summaries().enumerate() {
         let measured = run.timing.as_ref().and_then(|t| {
             let seconds = *t.detector_s.get(&d.label)?;
             (t.samples > 0 && seconds > 0.0).then_some((seconds, t.samples))
@@ -1242,7 +1397,7 @@ fn cost(run: &RunFolder) -> String {
         Some(t) => {
             let _ = write!(
                 out,
-                "<p class=\"note\">Measured in this run: each detector's processing time summed over threads, divided by the {} samples of the test trials every detector was fed ({} s of wall time in all, {} s of it synthesis summed over threads). It is a wall-clock figure of the machine that ran the suite, useful to compare detectors with each other; for a microcontroller, the declared state memory and arithmetic per sample (as each plugin states them for this suite's stream) are the better guide.</p>",
+                "<p class=\"note\">Measured in this run: each detector's processing time summed over threads, divided by the {} samples of the test trials every detector was fed, over every product of the run (the timing keeps one figure per detector label; {} s of wall time in all, {} s of it synthesis summed over threads). It is a wall-clock figure of the machine that ran the suite, useful to compare detectors with each other; for a microcontroller, the declared state memory and arithmetic per sample (as each plugin states them for this suite's stream) are the better guide.</p>",
                 fmt_count(t.samples),
                 format_number(t.wall_s, 3),
                 format_number(t.synthesis_s, 3)
@@ -1253,11 +1408,9 @@ fn cost(run: &RunFolder) -> String {
     out
 }
 
-fn nominal(run: &RunFolder) -> Option<String> {
-    let with: Vec<(usize, &DetectorSummary)> = run
-        .summary
-        .detectors
-        .iter()
+fn nominal(part: &Part) -> Option<String> {
+    let with: Vec<(usize, &DetectorSummary)> = part
+        .summaries()
         .enumerate()
         .filter(|(_, d)| d.nominal.is_some())
         .collect();
@@ -1335,15 +1488,15 @@ fn nominal(run: &RunFolder) -> Option<String> {
     Some(out)
 }
 
-fn failures(run: &RunFolder) -> Option<String> {
+fn failures(part: &Part) -> Option<String> {
     const MAX_ROWS: usize = 100;
-    let total: usize = run.summary.detectors.iter().map(|d| d.failures.len()).sum();
+    let total: usize = part.summaries().map(|d| d.failures.len()).sum();
     if total == 0 {
         return None;
     }
     let mut rows = Vec::new();
     let mut more = Vec::new();
-    for d in &run.summary.detectors {
+    for d in part.summaries() {
         for f in d.failures.iter().take(MAX_ROWS) {
             rows.push((
                 String::new(),
@@ -1386,9 +1539,9 @@ fn failures(run: &RunFolder) -> Option<String> {
     Some(out)
 }
 
-fn suite_and_parameters(run: &RunFolder) -> String {
+fn parameters(part: &Part) -> String {
     let mut rows = Vec::new();
-    for (i, d) in run.summary.detectors.iter().enumerate() {
+    for (i, d) in part.summaries().enumerate() {
         let params: Vec<String> = d
             .params
             .iter()
@@ -1407,21 +1560,22 @@ fn suite_and_parameters(run: &RunFolder) -> String {
             ],
         ));
     }
-    let mut out = String::from("<h3>Detector parameters, as used</h3>");
+    let mut out = String::from("<p class=\"note\">As each detector ran on this product's stream: bands given in m/s are converted through this product's carrier.</p>");
     out.push_str(&table(&["detector", "plugin", "parameters"], &[], &rows));
-    out.push_str("<h3>The suite</h3>");
-    match &run.suite_text {
-        Some(text) => {
-            let _ = write!(out, "<pre>{}</pre>", escape(text));
-        }
-        None => out.push_str("<p class=\"note\">This folder has no <code>suite.yaml</code>.</p>"),
-    }
     out
 }
 
-fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -> String {
+fn suite_text(run: &RunFolder) -> String {
+    match &run.suite_text {
+        Some(text) => format!("<pre>{}</pre>", escape(text)),
+        None => "<p class=\"note\">This folder has no <code>suite.yaml</code>.</p>".into(),
+    }
+}
+
+fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> String {
+    let run = part.run;
     let mut out = format!(
-        "<p>Baseline: suite <code>{}</code>, seed {}, {} test trials. This run: suite <code>{}</code>, seed {}, {} test trials. Detectors are matched by label; intervals are {}.</p>",
+        "<p>Baseline: suite <code>{}</code>, seed {}, {} test trials. This run: suite <code>{}</code>, seed {}, {} test trials. Detectors are matched by product and label; intervals are {}.</p>",
         escape(&baseline.summary.suite),
         baseline.summary.seed,
         baseline.summary.test_trials,
@@ -1430,17 +1584,16 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
         run.summary.test_trials,
         data::confidence_percent()
     );
-    let pairs: Vec<(usize, &DetectorSummary, &DetectorSummary, usize)> = run
-        .summary
-        .detectors
-        .iter()
+    // The baseline's detector of the same product and label, by its index in the baseline.
+    let pairs: Vec<(usize, &DetectorSummary, &DetectorSummary, usize)> = part
+        .summaries()
         .enumerate()
         .filter_map(|(i, d)| {
             baseline
                 .summary
                 .detectors
                 .iter()
-                .position(|b| b.label == d.label)
+                .position(|b| b.product == d.product && b.label == d.label)
                 .map(|j| (i, d, &baseline.summary.detectors[j], j))
         })
         .collect();
@@ -1462,7 +1615,7 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
             )
         })
         .collect();
-    out.push_str("<h3>Trial-level AUC</h3>");
+    out.push_str("<h4>Trial-level AUC</h4>");
     out.push_str(&table(
         &[
             "detector",
@@ -1473,7 +1626,7 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
         &[1, 2, 3],
         &rows,
     ));
-    let targets = targets(run);
+    let targets = targets(part);
     for (o, target) in targets.iter().enumerate() {
         let rows: Vec<(String, Vec<String>)> = pairs
             .iter()
@@ -1500,7 +1653,7 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
                 )
             })
             .collect();
-        let _ = write!(out, "<h3>At target {}</h3>", escape(&fmt_target(*target)));
+        let _ = write!(out, "<h4>At target {}</h4>", escape(&fmt_target(*target)));
         out.push_str(&table(
             &[
                 "detector",
@@ -1513,16 +1666,14 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
             &rows,
         ));
     }
-    let only_here: Vec<&str> = run
-        .summary
-        .detectors
-        .iter()
+    let only_here: Vec<&str> = part
+        .summaries()
         .filter(|d| {
             !baseline
                 .summary
                 .detectors
                 .iter()
-                .any(|b| b.label == d.label)
+                .any(|b| b.product == d.product && b.label == d.label)
         })
         .map(|d| d.label.as_str())
         .collect();
@@ -1530,7 +1681,7 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
         .summary
         .detectors
         .iter()
-        .filter(|b| !run.summary.detectors.iter().any(|d| d.label == b.label))
+        .filter(|b| b.product == part.name && !part.summaries().any(|d| d.label == b.label))
         .map(|b| b.label.as_str())
         .collect();
     if !only_here.is_empty() {
@@ -1549,11 +1700,11 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
     }
     let _ = write!(
         out,
-        "<h3>Event-level ROC, this run (solid) against the baseline (dashed)</h3><p class=\"note\">Dashed vertical lines are the target rates. Each curve is drawn down to the threshold where its detected events or false alarms first fall (below it the curve folds back; see the event-level ROC above). {}</p><div class=\"grid2\">",
+        "<h4>Event-level ROC, this run (solid) against the baseline (dashed)</h4><p class=\"note\">Dashed vertical lines are the target rates. Each curve is drawn down to the threshold where its detected events or false alarms first fall (below it the curve folds back; see the event-level ROC above). {}</p><div class=\"grid2\">",
         escape(ZERO_NOTE)
     );
     for (i, d, _, j) in &pairs {
-        let ours = data::grid_roc(&run.tallies.detectors[*i]);
+        let ours = data::grid_roc(part.detectors[*i].1);
         let theirs = data::grid_roc(&baseline.tallies.detectors[*j]);
         let axis = rate_axis(
             "false alarms per hour (log scale)",
@@ -1611,66 +1762,130 @@ fn baseline_comparison(page: &mut Page, run: &RunFolder, baseline: &RunFolder) -
     out
 }
 
-/// Renders the whole report: one HTML file with inline CSS and SVG and a small self-check
-/// script, no outside resources, and no date or time in it, so the same inputs always give
-/// the same bytes. `extra` sections come right after the cautions, in the order given.
-pub fn render_html(run: &RunFolder, baseline: Option<&RunFolder>, extra: &[Section]) -> String {
-    let mut page = Page {
-        sections: Vec::new(),
-        figures: 0,
+/// One product's part: its sections, in page order. Product sections of `extra` come
+/// right after the detection and false-alarm tables, which they explain.
+fn product_entries(
+    page: &mut Page,
+    part: &Part,
+    baseline: Option<&RunFolder>,
+    extra: &[(usize, &Section)],
+) -> Vec<Entry> {
+    let mut entries = Vec::new();
+    let mut add = |id: &str, title: &str, html: String| {
+        entries.push(Entry {
+            id: part.id(id),
+            title: title.to_string(),
+            html,
+        });
     };
-    for (k, section) in extra.iter().enumerate() {
-        page.add(
-            &format!("extra-{}", k + 1),
-            &section.title,
-            section.html.clone(),
-        );
-    }
-    let ranking = ranking(run);
-    page.add(
+    add(
         "ranking",
         "Which detectors meet the false-alarm target",
-        ranking,
+        ranking(part),
     );
-    let roc = event_roc(&mut page, run);
-    page.add(
+    add(
+        "detection",
+        "Detection by target scene",
+        product_part::detection_tables(part).into_string(),
+    );
+    add(
+        "false-alarm-rooms",
+        "False alarms by room",
+        product_part::false_alarm_tables(part).into_string(),
+    );
+    for (k, section) in extra {
+        add(&format!("extra-{k}"), &section.title, section.html.clone());
+    }
+    add(
         "event-roc",
         "ROC: detection against false alarms per hour",
-        roc,
+        event_roc(page, part),
     );
-    let trial = trial_roc(&mut page, run);
-    page.add("trial-roc", "Trial-level ROC", trial);
-    if let Some(sweeps) = sweeps(&mut page, run) {
-        page.add("sweeps", "Detection against the swept value", sweeps);
-    } else {
-        page.add(
-            "sweeps",
-            "Detection against the swept value",
-            "<p class=\"note\">No scene of this suite has a sweep.</p>".into(),
-        );
-    }
-    let latency = latency(&mut page, run);
-    page.add("latency", "Latency", latency);
-    let by_nuisance = false_alarms_by_nuisance(&mut page, run);
-    page.add("false-alarms", "False alarms by nuisance", by_nuisance);
-    page.add("cost", "Cost", cost(run));
-    page.add(
+    add("trial-roc", "Trial-level ROC", trial_roc(page, part));
+    add(
+        "sweeps",
+        "Detection against the swept value",
+        sweeps(page, part).unwrap_or_else(|| {
+            "<p class=\"note\">No scene of this product has a sweep.</p>".into()
+        }),
+    );
+    add("latency", "Latency", latency(page, part));
+    add(
+        "false-alarms",
+        "False alarms by nuisance",
+        false_alarms_by_nuisance(page, part),
+    );
+    add("cost", "Cost", cost(part));
+    add(
         "cfar",
         "CFAR: nominal against measured per-frame Pfa",
-        nominal(run).unwrap_or_else(|| {
-            "<p class=\"note\">No detector of this run has a closed-form threshold.</p>".into()
+        nominal(part).unwrap_or_else(|| {
+            "<p class=\"note\">No detector of this product has a closed-form threshold.</p>".into()
         }),
     );
     if let Some(b) = baseline {
-        let comparison = baseline_comparison(&mut page, run, b);
-        page.add("baseline", "Against the baseline", comparison);
+        add(
+            "baseline",
+            "Against the baseline",
+            baseline_comparison(page, part, b),
+        );
     }
-    page.add(
+    add(
         "failures",
         "Failures",
-        failures(run).unwrap_or_else(|| "<p>No detector failed on any trial.</p>".into()),
+        failures(part).unwrap_or_else(|| "<p>No detector failed on any trial.</p>".into()),
     );
-    page.add("suite", "Suite and parameters", suite_and_parameters(run));
+    add(
+        "parameters",
+        "Detector parameters, as used",
+        parameters(part),
+    );
+    entries
+}
+
+/// Renders the whole report: one HTML file with inline CSS and SVG and a small self-check
+/// script, no outside resources, and no date or time in it, so the same inputs always give
+/// the same bytes.
+///
+/// The page holds the run's facts and cautions, then the `extra` sections without a
+/// product (in the order given), then one part per product (in suite order) with every
+/// section computed on that product's detectors alone and that product's `extra`
+/// sections after its detection and false-alarm tables, then the suite text. An extra
+/// section naming a product the run does not have goes with the run's sections, its title
+/// saying so.
+pub fn render_html(run: &RunFolder, baseline: Option<&RunFolder>, extra: &[Section]) -> String {
+    let mut page = Page { figures: 0 };
+    let parts = parts(run);
+    let mut top = Vec::new();
+    for (k, section) in extra.iter().enumerate() {
+        let known = section
+            .product
+            .as_deref()
+            .is_none_or(|p| parts.iter().any(|part| part.name == p));
+        if known && section.product.is_some() {
+            continue;
+        }
+        let title = match &section.product {
+            Some(p) => format!("{} (product `{p}`, not in this run)", section.title),
+            None => section.title.clone(),
+        };
+        top.push(Entry {
+            id: format!("extra-{}", k + 1),
+            title,
+            html: section.html.clone(),
+        });
+    }
+    let mut product_parts = Vec::new();
+    for part in &parts {
+        let own: Vec<(usize, &Section)> = extra
+            .iter()
+            .enumerate()
+            .filter(|(_, s)| s.product.as_deref() == Some(part.name))
+            .map(|(k, s)| (k + 1, s))
+            .collect();
+        let entries = product_entries(&mut page, part, baseline, &own);
+        product_parts.push((part, product_part::heading(part), entries));
+    }
 
     let mut out = String::with_capacity(256 * 1024);
     let _ = write!(
@@ -1681,17 +1896,66 @@ pub fn render_html(run: &RunFolder, baseline: Option<&RunFolder>, extra: &[Secti
     out.push_str(&header(run));
     out.push_str(&cautions(run, baseline));
     out.push_str("<nav class=\"toc\"><strong>Contents</strong><ol>");
-    for (id, title, _) in &page.sections {
-        let _ = write!(out, "<li><a href=\"#{id}\">{}</a></li>", escape(title));
-    }
-    out.push_str("</ol></nav><main>");
-    for (id, title, html) in &page.sections {
+    for entry in &top {
         let _ = write!(
             out,
-            "<section id=\"{id}\"><h2>{}</h2>{html}</section>",
-            escape(title)
+            "<li><a href=\"#{}\">{}</a></li>",
+            entry.id,
+            escape(&entry.title)
         );
     }
+    for (part, _, entries) in &product_parts {
+        let _ = write!(
+            out,
+            "<li><a href=\"#{}\">Product {}</a><ol>",
+            part.id("product"),
+            part.name_html()
+        );
+        for entry in entries {
+            let _ = write!(
+                out,
+                "<li><a href=\"#{}\">{}</a></li>",
+                entry.id,
+                escape(&entry.title)
+            );
+        }
+        out.push_str("</ol></li>");
+    }
+    out.push_str("<li><a href=\"#suite\">The suite</a></li></ol></nav><main>");
+    for entry in &top {
+        let _ = write!(
+            out,
+            "<section id=\"{}\"><h2>{}</h2>{}</section>",
+            entry.id,
+            escape(&entry.title),
+            entry.html
+        );
+    }
+    for (part, heading, entries) in &product_parts {
+        let _ = write!(
+            out,
+            "<section class=\"product\" id=\"{}\" data-product=\"{}\"><h2>Product {}</h2>{}",
+            part.id("product"),
+            escape(part.name),
+            part.name_html(),
+            heading.clone().into_string()
+        );
+        for entry in entries {
+            let _ = write!(
+                out,
+                "<section id=\"{}\"><h3>{}</h3>{}</section>",
+                entry.id,
+                escape(&entry.title),
+                entry.html
+            );
+        }
+        out.push_str("</section>");
+    }
+    let _ = write!(
+        out,
+        "<section id=\"suite\"><h2>The suite</h2>{}</section>",
+        suite_text(run)
+    );
     out.push_str("</main><script>");
     out.push_str(SELF_CHECK);
     out.push_str("</script></body></html>\n");
@@ -1705,7 +1969,9 @@ mod tests {
     #[test]
     fn target_rates_read_plainly() {
         assert_eq!(fmt_target(1.0), "1/h");
-        assert_eq!(fmt_target(0.0416667), "0.0417/h (1 per 24 h)");
+        assert_eq!(fmt_target(1.0 / 24.0), "1/day");
+        assert_eq!(fmt_target(10.0), "10/h");
+        assert_eq!(fmt_target(1.0 / 48.0), "0.0208/h (1 per 48 h)");
         assert_eq!(fmt_target(0.3), "0.3/h");
         assert_eq!(fmt_bytes(2104), "2\u{2009}104 B (2.05 KiB)");
         assert_eq!(fmt_count(11_472_000), "11\u{2009}472\u{2009}000");

@@ -4,15 +4,24 @@
 //!
 //! [`RunFolder::load`] reads a run folder (`summary.json`, `tallies.json`, and when present
 //! `timing.json` and `suite.yaml`); [`render_html`] turns it, with an optional baseline run and
-//! any extra sections, into one HTML page. The page holds, in order: the run's facts (suite,
-//! seed, trials, hours of test signal, alarm logic, event tolerance); the cautions; the extra
-//! sections; a ranking of the detectors that meet each target false-alarm rate (and why the
-//! others do not); the event-level ROC (Pd against false alarms per hour on a log axis, from
-//! the grid-threshold tallies pooled as in `roc.csv`, with the target rates and operating
-//! points); the trial-level ROC of the maximum score with AUC ± SE; detection (or false alarms)
-//! against each swept scene value with intervals; the latency distribution; false alarms by
-//! nuisance; measured and declared cost; CFAR nominal against measured per-frame Pfa; the
-//! comparison with the baseline; failures; and the suite text with each detector's parameters.
+//! any extra sections, into one HTML page. The page holds the run's facts (suite, seed, trials,
+//! hours of test signal, alarm logic, event tolerance, products) and the cautions, the extra
+//! sections about the whole run, then **one part per product**, then the suite text.
+//!
+//! **Design decision: a product is the unit of the page.** A product is one sensor module
+//! with its own scenes and its own thresholds, so nothing is pooled across products: each
+//! part opens with the product's module, scenes, rooms, threshold rule and what its
+//! calibration resolved (the console's statements), and every section inside it is computed
+//! on that product's detectors alone, keyed by (product, label): a ranking per target rate;
+//! the **detection table** (target scene variants × detectors: Pd with its interval, count
+//! and median latency; Pd 0 stands out; each cell below Pd 0.5 carries the harness's computed
+//! miss reason); the **false-alarm table** (rooms × detectors: the room's test rate with its
+//! interval, its calibration rate at the operating threshold, the room that set the
+//! threshold marked); the product's extra sections (a gallery); the event-level ROC (drawn
+//! over its monotone part); the trial-level ROC with AUC ± SE; detection against each swept
+//! value; latency; false alarms by nuisance; cost; CFAR nominal against measured per-frame
+//! Pfa; the comparison with the baseline; failures; the detectors' parameters. Text from
+//! user files (product names, scene ids, reasons) is escaped by default (the private `markup` module: text and attribute values are escaped, markup must be a literal).
 //!
 //! **Design decision: the SVG is written by hand ([`plot`]), not with plotters.** The report
 //! must be byte-identical for the same inputs, open offline with no font files, and let a
@@ -26,7 +35,9 @@
 mod data;
 mod gate_section;
 mod html;
+mod markup;
 pub mod plot;
+mod product_part;
 mod run_folder;
 
 pub use data::{fold_back_cut, grid_roc, trial_roc, GridRocPoint, TrialRoc};

@@ -144,7 +144,8 @@ impl RunFolder {
         Ok(run)
     }
 
-    /// Checks that the summary and the tallies describe the same run, detector for detector.
+    /// Checks that the summary and the tallies describe the same run, detector for detector
+    /// (by product and label, in the same order).
     ///
     /// # Errors
     /// What differs, in words.
@@ -156,8 +157,19 @@ impl RunFolder {
                 s.suite, s.seed, t.suite, t.seed
             ));
         }
-        let summary_labels: Vec<&str> = s.detectors.iter().map(|d| d.label.as_str()).collect();
-        let tally_labels: Vec<&str> = t.detectors.iter().map(|d| d.label.as_str()).collect();
+        // A detector is known by its product and label: the same label appears once per
+        // product, with that product's thresholds.
+        let key = |product: &str, label: &str| format!("{product}/{label}");
+        let summary_labels: Vec<String> = s
+            .detectors
+            .iter()
+            .map(|d| key(&d.product, &d.label))
+            .collect();
+        let tally_labels: Vec<String> = t
+            .detectors
+            .iter()
+            .map(|d| key(&d.product, &d.label))
+            .collect();
         if summary_labels != tally_labels {
             return Err(format!(
                 "summary.json lists detectors [{}] but tallies.json [{}]",
@@ -168,8 +180,9 @@ impl RunFolder {
         for (d, tally) in s.detectors.iter().zip(&t.detectors) {
             if d.operating_points.len() != tally.operating.len() {
                 return Err(format!(
-                    "detector `{}`: {} operating points in summary.json, {} in tallies.json",
+                    "detector `{}` of product `{}`: {} operating points in summary.json, {} in tallies.json",
                     d.label,
+                    d.product,
                     d.operating_points.len(),
                     tally.operating.len()
                 ));
@@ -181,8 +194,8 @@ impl RunFolder {
             });
             if !lengths_ok {
                 return Err(format!(
-                    "detector `{}`: tallies.json has counts that do not match its threshold grid",
-                    d.label
+                    "detector `{}` of product `{}`: tallies.json has counts that do not match its threshold grid",
+                    d.label, d.product
                 ));
             }
         }

@@ -108,7 +108,7 @@ fn png_size(bytes: &[u8]) -> Option<(u32, u32)> {
 }
 
 #[test]
-fn the_report_renders_in_a_browser_without_errors_and_every_plot_draws() {
+fn the_report_renders_in_a_browser_without_errors_and_every_plot_and_table_draws() {
     let required = std::env::var("ECHOBENCH_REQUIRE_CHROMIUM").is_ok_and(|v| v == "1");
     let Some(binary) = find_chromium() else {
         assert!(
@@ -118,12 +118,25 @@ fn the_report_renders_in_a_browser_without_errors_and_every_plot_draws() {
         println!("skipped: chromium not found");
         return;
     };
-    let run = common::small_run();
-    let extra = echobench_report::Section {
-        title: "Gate verdict".into(),
-        html: "<p>(the gate's verdict goes here)</p>".into(),
-    };
-    let html = echobench_report::render_html(run, Some(run), &[extra]);
+    // Two products, one detection cell at Pd 0, a baseline, a run-wide extra section and one
+    // inside the second product's part.
+    let run = common::two_products_with_a_zero();
+    let extra = [
+        echobench_report::Section::new("Gate verdict", "<p>(the gate's verdict goes here)</p>"),
+        echobench_report::Section::for_product(
+            "ceiling <24g> & co",
+            "Gallery",
+            "<p>(explained trials go here)</p>",
+        ),
+    ];
+    let html = echobench_report::render_html(&run, Some(&run), &extra);
+    // The shown per-product tables: a detection and a false-alarm table per product (the
+    // tables of the other target rates are folded in closed <details>).
+    let tables_shown = 2 * run.summary.products.len();
+    assert_eq!(
+        html.matches("data-check=").count(),
+        tables_shown * run.summary.detectors[0].operating_points.len()
+    );
     let plots_in_page = common::svgs(&html).len();
 
     let tmp = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("report-browser");
@@ -144,8 +157,33 @@ fn the_report_renders_in_a_browser_without_errors_and_every_plot_draws() {
     assert_eq!(attribute("data-errors"), "[]", "script or console errors");
     assert_eq!(attribute("data-plots-total"), plots_in_page.to_string());
     assert_eq!(attribute("data-plots-bad"), "", "plots without drawn data");
-    assert_eq!(attribute("data-plots-empty"), "0");
-    assert_eq!(attribute("data-plots-ok"), plots_in_page.to_string());
+    // A plot may say it has nothing to draw (here: no false alarm at all in the first
+    // product, so its bar chart is empty); every other plot must draw.
+    let empty_in_page = html.matches("<svg class=\"plot empty\"").count();
+    assert!(
+        empty_in_page < plots_in_page / 4,
+        "{empty_in_page} empty plots"
+    );
+    assert_eq!(attribute("data-plots-empty"), empty_in_page.to_string());
+    assert_eq!(
+        attribute("data-plots-ok"),
+        (plots_in_page - empty_in_page).to_string()
+    );
+    // The detection and false-alarm tables are laid out, with the rows and columns they
+    // declare, and the Pd-zero cell has a background of its own.
+    assert_eq!(attribute("data-tables-shown"), tables_shown.to_string());
+    assert_eq!(attribute("data-tables-ok"), tables_shown.to_string());
+    assert_eq!(
+        attribute("data-tables-bad"),
+        "",
+        "tables not drawn as declared"
+    );
+    assert_eq!(attribute("data-zero-cells"), "1");
+    assert_eq!(
+        attribute("data-zero-marked"),
+        "1",
+        "the zero does not stand out"
+    );
     // The page writes nothing to the console when all is well.
     let console: Vec<&str> = log.lines().filter(|l| l.contains(":CONSOLE")).collect();
     assert!(console.is_empty(), "console messages: {console:#?}");

@@ -28,17 +28,23 @@ fn write_folder(run: &RunFolder, name: &str, with_timing: bool) -> PathBuf {
     dir
 }
 
-const SECTION_IDS: [&str; 11] = [
+/// The page's own sections and those of the (only) product's part, `p1-…`.
+const SECTION_IDS: [&str; 16] = [
     "cautions",
-    "ranking",
-    "event-roc",
-    "trial-roc",
-    "sweeps",
-    "latency",
-    "false-alarms",
-    "cost",
-    "cfar",
-    "failures",
+    "p1-product",
+    "p1-ranking",
+    "p1-detection",
+    "p1-detection-table",
+    "p1-false-alarm-rooms",
+    "p1-false-alarm-table",
+    "p1-event-roc",
+    "p1-trial-roc",
+    "p1-sweeps",
+    "p1-latency",
+    "p1-false-alarms",
+    "p1-cost",
+    "p1-cfar",
+    "p1-failures",
     "suite",
 ];
 
@@ -53,7 +59,7 @@ fn every_section_is_present_and_every_plot_draws_data() {
         );
     }
     assert!(
-        !html.contains("id=\"baseline\""),
+        !html.contains("id=\"p1-baseline\""),
         "no baseline section without a baseline"
     );
     let plots = svgs(&html);
@@ -74,7 +80,7 @@ fn every_section_is_present_and_every_plot_draws_data() {
     assert!(html.contains("0.5 s before an event") && html.contains("2 s after its end"));
     // The cautions, prominently, before the first section.
     let cautions_at = html.find("id=\"cautions\"").unwrap();
-    assert!(cautions_at < html.find("id=\"ranking\"").unwrap());
+    assert!(cautions_at < html.find("id=\"p1-ranking\"").unwrap());
     assert!(html.contains(&run.summary.cautions));
     assert!(html.contains("Simulated results do not certify a product"));
     assert!(html.contains("Radio rules"));
@@ -106,20 +112,17 @@ fn text_from_the_run_is_escaped() {
     assert!(html.contains("&lt;script&gt;alert(&quot;not escaped&quot;)&lt;/script&gt; &amp; more"));
     // Exactly the page's own two scripts.
     assert_eq!(html.matches("<script>").count(), 2);
-    let extra = Section {
-        title: "Gate <verdict>".into(),
-        html: "<p id=\"gate-body\">pass</p>".into(),
-    };
+    let extra = Section::new("Gate <verdict>", "<p id=\"gate-body\">pass</p>");
     let html = render_html(run, None, &[extra]);
     assert!(html.contains("Gate &lt;verdict&gt;"));
     assert!(
         html.contains("<p id=\"gate-body\">pass</p>"),
         "extra HTML goes in as given"
     );
-    // Extra sections come right after the cautions, before the ranking.
+    // Extra sections of the whole run come right after the cautions, before the products.
     let extra_at = html.find("gate-body").unwrap();
     assert!(html.find("id=\"cautions\"").unwrap() < extra_at);
-    assert!(extra_at < html.find("id=\"ranking\"").unwrap());
+    assert!(extra_at < html.find("id=\"p1-product\"").unwrap());
 }
 
 #[test]
@@ -150,12 +153,13 @@ fn the_event_roc_is_the_roc_csv_and_the_trial_auc_the_summary() {
                 .expect("a row per grid threshold")
                 .split(',')
                 .collect();
-            assert_eq!(row[0], d.label);
-            assert_eq!(row[1].parse::<f64>().unwrap(), point.threshold);
+            // product, detector, threshold, events, detected, pd, …, false_alarms_per_hour
+            assert_eq!((row[0], row[1]), (d.product.as_str(), d.label.as_str()));
+            assert_eq!(row[2].parse::<f64>().unwrap(), point.threshold);
             let parse = |s: &str| (!s.is_empty()).then(|| s.parse::<f64>().unwrap());
-            assert_eq!(parse(row[4]), point.pd, "{} pd", d.label);
+            assert_eq!(parse(row[5]), point.pd, "{} pd", d.label);
             assert_eq!(
-                parse(row[9]),
+                parse(row[10]),
                 point.false_alarms_per_hour,
                 "{} fa/h",
                 d.label
@@ -203,7 +207,7 @@ fn ranking_failures_cost_and_cfar_say_what_they_should() {
         .unwrap();
     assert!(cfar.nominal.is_some());
     let cfar_section =
-        &html[html.find("id=\"cfar\"").unwrap()..html.find("id=\"failures\"").unwrap()];
+        &html[html.find("id=\"p1-cfar\"").unwrap()..html.find("id=\"p1-failures\"").unwrap()];
     assert!(cfar_section.contains("ca-cfar") && cfar_section.contains("Clopper–Pearson"));
 }
 
@@ -214,7 +218,7 @@ fn a_merged_run_without_timing_says_not_measured() {
     let loaded = RunFolder::load(&dir).unwrap();
     assert!(loaded.timing.is_none());
     let html = render_html(&loaded, None, &[]);
-    let cost = &html[html.find("id=\"cost\"").unwrap()..html.find("id=\"cfar\"").unwrap()];
+    let cost = &html[html.find("id=\"p1-cost\"").unwrap()..html.find("id=\"p1-cfar\"").unwrap()];
     assert_eq!(
         cost.matches("<td class=\"num\">not measured</td>").count(),
         2 * run.summary.detectors.len()
@@ -226,7 +230,7 @@ fn a_merged_run_without_timing_says_not_measured() {
 fn a_baseline_adds_the_comparison_and_dashed_curves() {
     let run = small_run();
     let html = render_html(run, Some(run), &[]);
-    assert!(html.contains("id=\"baseline\""));
+    assert!(html.contains("id=\"p1-baseline\""));
     let plots = svgs(&html);
     // Five plots of the run, one small ROC per detector against the baseline.
     assert_eq!(plots.len(), 5 + run.summary.detectors.len());
@@ -237,7 +241,7 @@ fn a_baseline_adds_the_comparison_and_dashed_curves() {
         );
         assert!(has_drawn_data(svg));
     }
-    let section = &html[html.find("id=\"baseline\"").unwrap()..];
+    let section = &html[html.find("id=\"p1-baseline\"").unwrap()..];
     for d in &run.summary.detectors {
         assert!(section.contains(&format!("{}</span>", d.label)));
     }
@@ -290,7 +294,8 @@ fn an_empty_run_renders_and_says_why_plots_are_empty() {
     );
     let run = common::run_text(&nuisance_only);
     let html = render_html(&run, None, &[]);
-    for id in SECTION_IDS {
+    // No target scene, so no detection table.
+    for id in SECTION_IDS.iter().filter(|id| **id != "p1-detection-table") {
         assert!(
             html.contains(&format!("id=\"{id}\"")),
             "section {id} missing"
@@ -308,7 +313,8 @@ fn an_empty_run_renders_and_says_why_plots_are_empty() {
         }
     }
     assert!(html.contains("no target events"));
-    assert!(html.contains("No scene of this suite has a sweep."));
+    assert!(html.contains("No scene of this product has a sweep."));
+    assert!(html.contains("This product has no target scene."));
 }
 
 #[test]

@@ -1,0 +1,107 @@
+//! HTML that is escaped unless said otherwise.
+//!
+//! Product names, scene ids, detector labels and miss reasons come from user files, so the
+//! per-product parts are built with [`Html`]: text goes in through [`Html::text`], which
+//! escapes it, and attribute values through [`Html::open`], which escapes them too. Markup
+//! goes in through [`Html::raw`], which takes only `&'static str`, i.e. literals written in
+//! this crate, so a string read from a file cannot reach the page unescaped by accident.
+//! HTML already built by this crate's other renderers enters through [`Html::trusted`].
+
+use crate::plot::escape;
+
+/// A piece of HTML under construction.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub(crate) struct Html(String);
+
+impl Html {
+    /// Nothing yet.
+    pub(crate) fn new() -> Html {
+        Html(String::new())
+    }
+
+    /// HTML made by this crate's own renderers (tables, figures): taken as it is.
+    pub(crate) fn trusted(html: String) -> Html {
+        Html(html)
+    }
+
+    /// Markup written in this crate.
+    pub(crate) fn raw(&mut self, markup: &'static str) -> &mut Html {
+        self.0.push_str(markup);
+        self
+    }
+
+    /// Text, escaped.
+    pub(crate) fn text(&mut self, text: &str) -> &mut Html {
+        self.0.push_str(&escape(text));
+        self
+    }
+
+    /// Another piece, as built.
+    pub(crate) fn push(&mut self, other: &Html) -> &mut Html {
+        self.0.push_str(&other.0);
+        self
+    }
+
+    /// An opening tag with attributes; the values are escaped.
+    pub(crate) fn open(
+        &mut self,
+        tag: &'static str,
+        attributes: &[(&'static str, &str)],
+    ) -> &mut Html {
+        self.0.push('<');
+        self.0.push_str(tag);
+        for (name, value) in attributes {
+            self.0.push(' ');
+            self.0.push_str(name);
+            self.0.push_str("=\"");
+            self.0.push_str(&escape(value));
+            self.0.push('"');
+        }
+        self.0.push('>');
+        self
+    }
+
+    /// A closing tag.
+    pub(crate) fn close(&mut self, tag: &'static str) -> &mut Html {
+        self.0.push_str("</");
+        self.0.push_str(tag);
+        self.0.push('>');
+        self
+    }
+
+    /// An element holding escaped text.
+    pub(crate) fn element(
+        &mut self,
+        tag: &'static str,
+        attributes: &[(&'static str, &str)],
+        text: &str,
+    ) -> &mut Html {
+        self.open(tag, attributes).text(text).close(tag)
+    }
+
+    /// The HTML.
+    pub(crate) fn into_string(self) -> String {
+        self.0
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn text_and_attributes_are_escaped_markup_is_not() {
+        let mut h = Html::new();
+        h.open("td", &[("title", "a \"b\" <c>")])
+            .text("<script>&")
+            .raw("<br>")
+            .close("td");
+        assert_eq!(
+            h.into_string(),
+            "<td title=\"a &quot;b&quot; &lt;c&gt;\">&lt;script&gt;&amp;<br></td>"
+        );
+        let mut e = Html::new();
+        e.element("code", &[], "x<y");
+        assert_eq!(e.into_string(), "<code>x&lt;y</code>");
+    }
+}

@@ -1,0 +1,581 @@
+//! What is particular to one product's part of the page: its heading (module, scenes,
+//! rooms, the threshold rule and what the calibration resolved, in the console's words),
+//! its detection table (target scene variants × detectors) and its false-alarm table
+//! (rooms × detectors).
+//!
+//! The tables are where a reader sees the zeros: pooled Pd hides a scene no detector finds.
+//! A detection cell below Pd 0.5 at the first target rate carries the harness's computed
+//! miss reason (`Summary::miss_reasons`), numbered and spelled out under the table; a
+//! false-alarm cell carries the room's test rate, its calibration rate at the operating
+//! threshold, and a mark on the room that set the threshold.
+
+use crate::html::{detector_cell, fmt_target, targets, Part};
+use crate::markup::Html;
+use crate::plot::format_number;
+use echobench_harness::runner::room_name;
+use echobench_harness::summary::{
+    rate_label, DetectorSummary, Estimate, MissReason, OperatingSummary, SceneOutcome, MISS_PD,
+};
+
+/// One statement about a product's calibration, as the console prints it.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct Statement {
+    /// The words.
+    pub(crate) text: String,
+    /// Whether it reports a shortcoming (a target rate the calibration cannot resolve).
+    pub(crate) problem: bool,
+}
+
+/// The threshold rule of a product in the console's words.
+pub(crate) fn rule_words(rule: &str) -> &'static str {
+    if rule == "pooled" {
+        "on the pooled calibration time"
+    } else {
+        "met in every room (worst room)"
+    }
+}
+
+/// What a product's calibration resolved: the same statements, with the same numbers, as
+/// the console's verdict (`echobench_harness::summary::console_table`), one per line there.
+pub(crate) fn calibration_statements(
+    detectors: &[&DetectorSummary],
+    rates: &[f64],
+) -> Vec<Statement> {
+    let mut out = Vec::new();
+    let Some(first) = detectors.first() else {
+        return out;
+    };
+    let first_op = first.operating_points.first();
+    let hours: Vec<f64> = first_op
+        .map(|o| {
+            o.calibration_rooms
+                .iter()
+                .map(|r| r.exposure_hours)
+                .filter(|h| *h > 0.0)
+                .collect()
+        })
+        .unwrap_or_default();
+    let worst_room = first_op.is_some_and(|o| o.rule == "worst_room");
+    let (low, high) = hours
+        .iter()
+        .fold((f64::INFINITY, 0.0f64), |(l, h), x| (l.min(*x), h.max(*x)));
+    let text = if worst_room && !hours.is_empty() {
+        format!(
+            "thresholds chosen so that each target is met in every room, on {low:.2}–{high:.2} h of noise-only time per room"
+        )
+    } else {
+        format!(
+            "thresholds chosen on {:.2} h of pooled noise-only time",
+            first_op.map_or(0.0, |o| o.calibration_exposure_hours)
+        )
+    };
+    out.push(Statement {
+        text,
+        problem: false,
+    });
+    for (o, rate) in rates.iter().enumerate() {
+        let resolved = detectors
+            .iter()
+            .all(|d| d.operating_points.get(o).is_some_and(|p| p.resolved));
+        // Zero alarms in T hours bound the rate at −ln(0.05)/T at 95 % (Garwood 1936), the
+        // harness's `summary::resolves`.
+        let need = -(0.05f64.ln()) / rate;
+        let text = if resolved {
+            format!(
+                "{}: resolved (at least {need:.1} h per room, where zero alarms bound the rate below the target at 95 %)",
+                rate_label(*rate)
+            )
+        } else {
+            format!(
+                "{}: NOT resolved: it needs {need:.1} h per room; its threshold is the lowest with no more calibration alarms than the time allows, so its Pd is optimistic about false alarms",
+                rate_label(*rate)
+            )
+        };
+        out.push(Statement {
+            text,
+            problem: !resolved,
+        });
+    }
+    if worst_room {
+        let parts: Vec<String> = detectors
+            .iter()
+            .filter_map(|d| {
+                let op = d.operating_points.first()?;
+                Some(format!(
+                    "{} ← {}",
+                    d.label,
+                    op.limiting_room
+                        .as_deref()
+                        .unwrap_or("none (lowest threshold)")
+                ))
+            })
+            .collect();
+        out.push(Statement {
+            text: format!(
+                "room that set each threshold @ {}: {}",
+                rates.first().map_or_else(String::new, |r| rate_label(*r)),
+                parts.join(", ")
+            ),
+            problem: false,
+        });
+    }
+    out
+}
+
+/// The heading block of a product's part: its facts, as a definition list.
+pub(crate) fn heading(part: &Part) -> Html {
+    let detectors: Vec<&DetectorSummary> = part.summaries().collect();
+    let mut h = Html::new();
+    h.raw("<div class=\"product-head\">");
+    let fact = |h: &mut Html, name: &'static str, value: &Html| {
+        h.raw("<dt>")
+            .text(name)
+            .raw("</dt><dd>")
+            .push(value)
+            .raw("</dd>");
+    };
+    if let Some(p) = part.product.filter(|p| !p.about.is_empty()) {
+        h.element("p", &[("class", "about")], &p.about);
+    }
+    h.raw("<dl class=\"facts\">");
+    if let Some(p) = part.product {
+        let output = if p.output == "iq" { "I/Q" } else { "real" };
+        let mut v = Html::new();
+        v.text(&format!(
+            "{:.3} GHz carrier, {} Hz sampling, {output} output",
+            p.carrier_hz / 1e9,
+            format_number(p.sample_rate_hz, 6)
+        ));
+        fact(&mut h, "module", &v);
+        let list = |names: &[String]| {
+            let mut v = Html::new();
+            v.text(&format!("{}: ", names.len()));
+            for (i, name) in names.iter().enumerate() {
+                if i > 0 {
+                    v.raw(", ");
+                }
+                v.element("code", &[], name);
+            }
+            v
+        };
+        fact(&mut h, "target scene variants", &list(&p.target_scenes));
+        fact(
+            &mut h,
+            "rooms (nuisance scene variants)",
+            &list(&p.nuisance_scenes),
+        );
+    }
+    if let Some(d) = part.tallies().first() {
+        let (mut target_trials, mut room_trials, mut events, mut exposure_ns) = (0, 0, 0, 0);
+        for v in &d.variants {
+            if v.label == "target" {
+                target_trials += v.trials;
+            } else {
+                room_trials += v.trials;
+            }
+            events += v.events;
+            exposure_ns += v.exposure_ns;
+        }
+        let mut v = Html::new();
+        v.text(&format!(
+            "{target_trials} in target scenes ({events} target events), {room_trials} in rooms; {} h of noise-only time",
+            format_number(exposure_ns as f64 / 3.6e12, 3)
+        ));
+        fact(&mut h, "test trials", &v);
+    }
+    let rule = detectors
+        .first()
+        .and_then(|d| d.operating_points.first())
+        .map(|o| o.rule.as_str())
+        .or(part.product.map(|p| p.threshold_rule.as_str()));
+    if let Some(rule) = rule {
+        let mut v = Html::new();
+        v.text(rule_words(rule));
+        fact(&mut h, "thresholds", &v);
+    }
+    let statements = calibration_statements(&detectors, &targets(part));
+    if !statements.is_empty() {
+        let mut v = Html::new();
+        v.raw("<ul class=\"statements\">");
+        for s in &statements {
+            if s.problem {
+                v.element("li", &[("class", "bad")], &s.text);
+            } else {
+                v.element("li", &[], &s.text);
+            }
+        }
+        v.raw("</ul>");
+        fact(&mut h, "calibration", &v);
+    }
+    h.raw("</dl></div>");
+    h
+}
+
+/// The scene variants of one label, as the first detector's operating point `o` lists
+/// them: (position in `by_scene`, the variant).
+fn rows<'a>(part: &Part<'a>, o: usize, label: &str) -> Vec<(usize, &'a SceneOutcome)> {
+    part.summaries()
+        .next()
+        .and_then(|d| d.operating_points.get(o))
+        .map(|op| {
+            op.by_scene
+                .iter()
+                .enumerate()
+                .filter(|(_, s)| s.label == label)
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+/// A detector's outcome in the same scene variant as `row`, at operating point `o`.
+fn cell_of<'a>(
+    d: &'a DetectorSummary,
+    o: usize,
+    k: usize,
+    row: &SceneOutcome,
+) -> Option<(&'a OperatingSummary, &'a SceneOutcome)> {
+    let op = d.operating_points.get(o)?;
+    let s = op
+        .by_scene
+        .get(k)
+        .filter(|s| s.scene == row.scene && s.sweep_value == row.sweep_value)?;
+    Some((op, s))
+}
+
+/// A scene variant's name as a row heading: the scene id, and the swept value with the
+/// unit of the swept field when the suite text gives it.
+fn row_heading(part: &Part, row: &SceneOutcome) -> Html {
+    let mut h = Html::new();
+    h.element("code", &[], &row.scene);
+    if let Some(value) = &row.sweep_value {
+        let unit = part
+            .sweep_field(&row.scene)
+            .and_then(|f| crate::data::unit_of_field(&f));
+        let shown = match unit {
+            Some(unit) => format!(" @ {value} {unit}"),
+            None => format!(" @ {value}"),
+        };
+        h.text(&shown);
+    }
+    h
+}
+
+/// The column headings of a grid: the corner, then each detector with its swatch.
+fn grid_head(part: &Part, corner: &str) -> Html {
+    let mut h = Html::new();
+    h.raw("<thead><tr>").element("th", &[], corner);
+    for (j, d) in part.summaries().enumerate() {
+        h.raw("<th class=\"num\">")
+            .push(&Html::trusted(detector_cell(j, &d.label)))
+            .raw("</th>");
+    }
+    h.raw("</tr></thead>");
+    h
+}
+
+fn interval_text(e: &Estimate, digits: usize) -> Option<(String, String)> {
+    let finite = |x: Option<f64>| x.filter(|v| v.is_finite());
+    let (v, l, h) = (finite(e.value)?, finite(e.low)?, finite(e.high)?);
+    let number = |x: f64| {
+        if digits == 0 {
+            format_number(x, 3)
+        } else {
+            format!("{x:.digits$}")
+        }
+    };
+    Some((number(v), format!("[{}, {}]", number(l), number(h))))
+}
+
+/// The reason the harness computed for a detector missing a scene variant.
+fn reason_for<'a>(
+    part: &Part<'a>,
+    d: &DetectorSummary,
+    row: &SceneOutcome,
+) -> Option<&'a MissReason> {
+    part.run.summary.miss_reasons.iter().find(|r| {
+        r.product == part.name
+            && r.detector == d.label
+            && r.scene == row.scene
+            && r.sweep_value == row.sweep_value
+    })
+}
+
+/// One detection table, at operating point `o`; reasons are given at the first operating
+/// point only (the harness computes them there).
+fn detection_table(part: &Part, o: usize, id: &str) -> Html {
+    let rows = rows(part, o, "target");
+    let columns = part.detectors.len() + 1;
+    let mut reasons: Vec<(String, String, &MissReason)> = Vec::new();
+    let mut h = Html::new();
+    h.open(
+        "table",
+        &[
+            ("class", "grid detection"),
+            ("id", id),
+            ("data-check", "detection"),
+            ("data-rows", &rows.len().to_string()),
+            ("data-columns", &columns.to_string()),
+        ],
+    );
+    h.push(&grid_head(part, "target scene"));
+    h.raw("<tbody>");
+    for (k, row) in &rows {
+        let heading = row_heading(part, row);
+        h.raw("<tr><th scope=\"row\">").push(&heading).raw("</th>");
+        for d in part.summaries() {
+            let Some((_, s)) = cell_of(d, o, *k, row) else {
+                h.raw("<td class=\"cell\">—</td>");
+                continue;
+            };
+            let o_ = &s.outcome;
+            let reason = if o == 0 {
+                reason_for(part, d, row)
+            } else {
+                None
+            };
+            let class = if o_.events == 0 {
+                "cell no-event"
+            } else if o_.detected == 0 {
+                "cell zero"
+            } else if o_.pd.value.is_some_and(|p| p < MISS_PD) {
+                "cell low"
+            } else {
+                "cell"
+            };
+            h.open("td", &[("class", class)]);
+            if o_.events == 0 {
+                h.raw("<span class=\"est\">no event</span>");
+            } else {
+                match interval_text(&o_.pd, 2) {
+                    Some((value, interval)) => {
+                        h.raw("<span class=\"est\"><strong>")
+                            .text(&value)
+                            .raw("</strong> ")
+                            .text(&interval)
+                            .raw("</span>");
+                    }
+                    None => {
+                        h.raw("<span class=\"est\">—</span>");
+                    }
+                }
+                let latency = s
+                    .latency_median_s
+                    .filter(|x| x.is_finite())
+                    .map_or_else(|| "—".to_string(), |x| format!("{x:.2} s"));
+                h.element(
+                    "span",
+                    &[("class", "sub")],
+                    &format!("{} of {} events · median {latency}", o_.detected, o_.events),
+                );
+            }
+            // The reason's place: the kind here, the whole reason under the table.
+            if let Some(r) = reason {
+                reasons.push((row_name(row), d.label.clone(), r));
+                let n = reasons.len();
+                let anchor = format!("#{}-why-{n}", id);
+                h.raw("<span class=\"why\">");
+                // A cell that already says "no event" needs only the pointer.
+                if o_.events > 0 {
+                    h.text(&r.kind).raw(" ");
+                }
+                h.open("a", &[("href", &anchor)])
+                    .text(&format!("[{n}]"))
+                    .raw("</a></span>");
+            }
+            h.raw("</td>");
+        }
+        h.raw("</tr>");
+    }
+    h.raw("</tbody></table>");
+    if !reasons.is_empty() {
+        h.raw("<p>Why each cell below Pd ")
+            .text(&format_number(MISS_PD, 2))
+            .raw(" misses (computed by the harness: out of band from the detector's bands and the scene's Doppler; masked when dropping the room that set the threshold would detect it; out of range when even the quietest room's threshold would not):</p><ol class=\"why-list\">");
+        for (n, (scene, detector, r)) in reasons.iter().enumerate() {
+            let number = (n + 1).to_string();
+            h.open(
+                "li",
+                &[("id", &format!("{id}-why-{number}")), ("value", &number)],
+            )
+            .element("code", &[], scene)
+            .raw(", ")
+            .element("strong", &[], detector)
+            .raw(": ")
+            .text(&r.reason)
+            .raw("</li>");
+        }
+        h.raw("</ol>");
+    }
+    h
+}
+
+fn row_name(row: &SceneOutcome) -> String {
+    room_name(&row.scene, row.sweep_value.as_deref())
+}
+
+/// The detection tables of a product: the first target rate in the open, the others
+/// folded.
+pub(crate) fn detection_tables(part: &Part) -> Html {
+    let rates = targets(part);
+    let mut h = Html::new();
+    if rows(part, 0, "target").is_empty() {
+        h.raw("<p class=\"note\">This product has no target scene.</p>");
+        return h;
+    }
+    let first = rates
+        .first()
+        .map_or_else(|| "the first target".to_string(), |r| fmt_target(*r));
+    h.raw("<p>Per target scene variant and detector, at the threshold calibrated for ")
+        .text(&first)
+        .raw(": detection probability Pd (detected events over events, ")
+        .text(&crate::data::confidence_percent())
+        .raw(" Wilson interval), the count, and the median latency of the detected events. <span class=\"legend zero\">Pd 0</span> and <span class=\"legend low\">Pd below ")
+        .text(&format_number(MISS_PD, 2))
+        .raw("</span> stand out; <span class=\"legend no-event\">no event</span> marks a variant in which the person never moves inside the zone (present, not moving), which scores neither way.</p>");
+    h.push(&detection_table(part, 0, &part.id("detection-table")));
+    for (o, rate) in rates.iter().enumerate().skip(1) {
+        h.raw("<details><summary>")
+            .text(&format!("Detection table at {}", fmt_target(*rate)))
+            .raw("</summary>");
+        h.push(&detection_table(
+            part,
+            o,
+            &part.id(&format!("detection-table-{}", o + 1)),
+        ));
+        h.raw("<p class=\"note\">Miss reasons are computed at the first target rate only.</p></details>");
+    }
+    h
+}
+
+/// One false-alarm table, at operating point `o`.
+fn false_alarm_table(part: &Part, o: usize, id: &str) -> Html {
+    let rows = rows(part, o, "nuisance");
+    let columns = part.detectors.len() + 1;
+    let mut h = Html::new();
+    h.open(
+        "table",
+        &[
+            ("class", "grid false-alarms"),
+            ("id", id),
+            ("data-check", "false-alarms"),
+            ("data-rows", &rows.len().to_string()),
+            ("data-columns", &columns.to_string()),
+        ],
+    );
+    h.push(&grid_head(part, "room"));
+    h.raw("<tbody>");
+    for (k, row) in &rows {
+        let heading = row_heading(part, row);
+        h.raw("<tr><th scope=\"row\">").push(&heading).raw("</th>");
+        for d in part.summaries() {
+            let Some((op, s)) = cell_of(d, o, *k, row) else {
+                h.raw("<td class=\"cell\">—</td>");
+                continue;
+            };
+            let name = row_name(row);
+            let rate = &s.outcome.false_alarms_per_hour;
+            let over = rate
+                .value
+                .is_some_and(|v| v > op.target_false_alarms_per_hour);
+            let limiting = op.limiting_room.as_deref() == Some(name.as_str());
+            let class = match (over, limiting) {
+                (true, true) => "cell over limiting",
+                (true, false) => "cell over",
+                (false, true) => "cell limiting",
+                (false, false) => "cell",
+            };
+            h.open("td", &[("class", class)]);
+            match interval_text(rate, 0) {
+                Some((value, interval)) => {
+                    h.raw("<span class=\"est\"><strong>")
+                        .text(&format!("{value}/h"))
+                        .raw("</strong> ")
+                        .text(&interval)
+                        .raw("</span>");
+                }
+                None => {
+                    h.raw("<span class=\"est\">—</span>");
+                }
+            }
+            h.element(
+                "span",
+                &[("class", "sub")],
+                &format!(
+                    "test: {} in {} h",
+                    s.outcome.false_alarms,
+                    format_number(s.outcome.exposure_hours, 3)
+                ),
+            );
+            if s.false_on_s > 0.0 && s.false_on_s.is_finite() {
+                h.element(
+                    "span",
+                    &[("class", "sub")],
+                    &format!("alarm on {} s", format_number(s.false_on_s, 3)),
+                );
+            }
+            let calibration = op.calibration_rooms.iter().find(|r| r.room == name);
+            let text = match calibration {
+                Some(r) if r.exposure_hours > 0.0 => format!(
+                    "calibration: {}/h ({} in {} h)",
+                    r.false_alarms_per_hour
+                        .value
+                        .filter(|v| v.is_finite())
+                        .map_or_else(|| "—".to_string(), |v| format_number(v, 3)),
+                    r.false_alarms,
+                    format_number(r.exposure_hours, 3)
+                ),
+                _ => "calibration: —".to_string(),
+            };
+            h.element("span", &[("class", "sub")], &text);
+            if limiting {
+                h.raw("<span class=\"limit\">★ set the threshold</span>");
+            }
+            h.raw("</td>");
+        }
+        h.raw("</tr>");
+    }
+    h.raw("</tbody></table>");
+    h
+}
+
+/// The false-alarm tables of a product: the first target rate in the open, the others
+/// folded.
+pub(crate) fn false_alarm_tables(part: &Part) -> Html {
+    let rates = targets(part);
+    let mut h = Html::new();
+    if rows(part, 0, "nuisance").is_empty() {
+        h.raw("<p class=\"note\">This product has no nuisance scene (room).</p>");
+        return h;
+    }
+    let worst_room = part
+        .summaries()
+        .next()
+        .and_then(|d| d.operating_points.first())
+        .is_some_and(|o| o.rule == "worst_room");
+    let first = rates
+        .first()
+        .map_or_else(|| "the first target".to_string(), |r| fmt_target(*r));
+    h.raw("<p>Per room (nuisance scene variant) and detector, at the threshold calibrated for ")
+        .text(&first)
+        .raw(": false alarms per hour of the room's noise-only test time with the ")
+        .text(&crate::data::confidence_percent())
+        .raw(" exact Poisson interval, the count, how long the alarm stayed on, and the room's own calibration rate at the same threshold. <span class=\"legend over\">A rate above the target</span> stands out. ");
+    if worst_room {
+        h.raw("<span class=\"legend limiting\">★ marks the room that set the detector's threshold</span>: the threshold is the lowest at which every room meets the target in calibration, and one step lower this room did not.</p>");
+    } else {
+        h.raw("The thresholds were chosen on the pooled calibration time, so no single room set them.</p>");
+    }
+    h.push(&false_alarm_table(part, 0, &part.id("false-alarm-table")));
+    for (o, rate) in rates.iter().enumerate().skip(1) {
+        h.raw("<details><summary>")
+            .text(&format!("False-alarm table at {}", fmt_target(*rate)))
+            .raw("</summary>");
+        h.push(&false_alarm_table(
+            part,
+            o,
+            &part.id(&format!("false-alarm-table-{}", o + 1)),
+        ));
+        h.raw("</details>");
+    }
+    h
+}
