@@ -96,14 +96,18 @@ section.product > h2 { background: #e8eef5; border-top: 4px solid #1b5e9e; paddi
 .product-head { padding: 0 4px; }
 .product-head p.about { font-style: italic; margin: 4px 0 8px; }
 ul.statements { margin: 0; padding-left: 18px; }
+div.wide { overflow-x: auto; max-width: 100%; }
+table.grid { font-size: 13px; }
+table.grid th, table.grid td { padding: 3px 6px; }
 table.grid th[scope=row] { font-weight: normal; white-space: nowrap; }
-table.grid td.cell { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+table.grid td.cell { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; min-width: 72px; }
 table.grid td.cell .sub, table.grid td.cell .why, table.grid td.cell .limit { display: block; font-size: 12px; }
 table.grid td.cell .sub { color: #444444; }
 table.grid td.cell .why { color: #9a1c00; font-weight: bold; white-space: normal; }
 table.grid td.cell .limit { color: #6b4400; font-weight: bold; }
+ol.why-list .cells { color: #444444; }
 td.zero, .legend.zero { background: #f6c9bd; color: #7a1000; }
-td.zero .est strong { font-size: 16px; }
+table.grid td.cell .est strong { font-size: 15px; }
 td.low, .legend.low { background: #fbe6dc; }
 td.no-event, .legend.no-event { background: #ececec; color: #555555; }
 td.over, .legend.over { background: #f6c9bd; }

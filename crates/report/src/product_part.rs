@@ -300,14 +300,19 @@ fn reason_for<'a>(
     })
 }
 
+/// The cells that share one miss reason: the reason's words, then (scene variant, detector)
+/// per cell, in table order.
+type ReasonCells = (String, Vec<(String, String)>);
+
 /// One detection table, at operating point `o`; reasons are given at the first operating
-/// point only (the harness computes them there).
+/// point only (the harness computes them there). Cells with the same reason share its
+/// number, so the list under the table holds each reason once.
 fn detection_table(part: &Part, o: usize, id: &str) -> Html {
     let rows = rows(part, o, "target");
     let columns = part.detectors.len() + 1;
-    let mut reasons: Vec<(String, String, &MissReason)> = Vec::new();
+    let mut reasons: Vec<ReasonCells> = Vec::new();
     let mut h = Html::new();
-    h.open(
+    h.raw("<div class=\"wide\">").open(
         "table",
         &[
             ("class", "grid detection"),
@@ -327,32 +332,31 @@ fn detection_table(part: &Part, o: usize, id: &str) -> Html {
                 h.raw("<td class=\"cell\">—</td>");
                 continue;
             };
-            let o_ = &s.outcome;
+            let outcome = &s.outcome;
             let reason = if o == 0 {
                 reason_for(part, d, row)
             } else {
                 None
             };
-            let class = if o_.events == 0 {
+            let class = if outcome.events == 0 {
                 "cell no-event"
-            } else if o_.detected == 0 {
+            } else if outcome.detected == 0 {
                 "cell zero"
-            } else if o_.pd.value.is_some_and(|p| p < MISS_PD) {
+            } else if outcome.pd.value.is_some_and(|p| p < MISS_PD) {
                 "cell low"
             } else {
                 "cell"
             };
             h.open("td", &[("class", class)]);
-            if o_.events == 0 {
+            if outcome.events == 0 {
                 h.raw("<span class=\"est\">no event</span>");
             } else {
-                match interval_text(&o_.pd, 2) {
+                match interval_text(&outcome.pd, 2) {
                     Some((value, interval)) => {
                         h.raw("<span class=\"est\"><strong>")
                             .text(&value)
-                            .raw("</strong> ")
-                            .text(&interval)
-                            .raw("</span>");
+                            .raw("</strong></span>")
+                            .element("span", &[("class", "sub")], &interval);
                     }
                     None => {
                         h.raw("<span class=\"est\">—</span>");
@@ -365,17 +369,26 @@ fn detection_table(part: &Part, o: usize, id: &str) -> Html {
                 h.element(
                     "span",
                     &[("class", "sub")],
-                    &format!("{} of {} events · median {latency}", o_.detected, o_.events),
+                    &format!("{}/{} · {latency}", outcome.detected, outcome.events),
                 );
             }
-            // The reason's place: the kind here, the whole reason under the table.
+            // The reason's place: its kind and number here, its words under the table.
             if let Some(r) = reason {
-                reasons.push((row_name(row), d.label.clone(), r));
-                let n = reasons.len();
-                let anchor = format!("#{}-why-{n}", id);
+                let cell = (row_name(row), d.label.clone());
+                let n = match reasons.iter().position(|(text, _)| *text == r.reason) {
+                    Some(i) => {
+                        reasons[i].1.push(cell);
+                        i + 1
+                    }
+                    None => {
+                        reasons.push((r.reason.clone(), vec![cell]));
+                        reasons.len()
+                    }
+                };
+                let anchor = format!("#{id}-why-{n}");
                 h.raw("<span class=\"why\">");
                 // A cell that already says "no event" needs only the pointer.
-                if o_.events > 0 {
+                if outcome.events > 0 {
                     h.text(&r.kind).raw(" ");
                 }
                 h.open("a", &[("href", &anchor)])
@@ -386,23 +399,36 @@ fn detection_table(part: &Part, o: usize, id: &str) -> Html {
         }
         h.raw("</tr>");
     }
-    h.raw("</tbody></table>");
+    h.raw("</tbody></table></div>");
     if !reasons.is_empty() {
-        h.raw("<p>Why each cell below Pd ")
+        h.raw("<p>Why the cells below Pd ")
             .text(&format_number(MISS_PD, 2))
-            .raw(" misses (computed by the harness: out of band from the detector's bands and the scene's Doppler; masked when dropping the room that set the threshold would detect it; out of range when even the quietest room's threshold would not):</p><ol class=\"why-list\">");
-        for (n, (scene, detector, r)) in reasons.iter().enumerate() {
+            .raw(" miss, as the harness computes it: <em>out of band</em> when the detector's bands miss the scene's Doppler; <em>masked</em> when the threshold without the room that set it (or the quietest room's threshold) would detect the target; <em>out of range</em> when even the quietest room's threshold would not.</p><ol class=\"why-list\">");
+        for (n, (text, cells)) in reasons.iter().enumerate() {
             let number = (n + 1).to_string();
             h.open(
                 "li",
                 &[("id", &format!("{id}-why-{number}")), ("value", &number)],
             )
-            .element("code", &[], scene)
-            .raw(", ")
-            .element("strong", &[], detector)
-            .raw(": ")
-            .text(&r.reason)
-            .raw("</li>");
+            .text(text)
+            .raw(" <span class=\"cells\">— ");
+            // The cells, grouped by scene variant: `scene: a, b; other: c`.
+            let mut scenes: Vec<(&str, Vec<&str>)> = Vec::new();
+            for (scene, detector) in cells {
+                match scenes.iter_mut().find(|(s, _)| s == scene) {
+                    Some((_, list)) => list.push(detector),
+                    None => scenes.push((scene, vec![detector])),
+                }
+            }
+            for (i, (scene, detectors)) in scenes.iter().enumerate() {
+                if i > 0 {
+                    h.raw("; ");
+                }
+                h.element("code", &[], scene)
+                    .raw(": ")
+                    .text(&detectors.join(", "));
+            }
+            h.raw("</span></li>");
         }
         h.raw("</ol>");
     }
@@ -427,9 +453,9 @@ pub(crate) fn detection_tables(part: &Part) -> Html {
         .map_or_else(|| "the first target".to_string(), |r| fmt_target(*r));
     h.raw("<p>Per target scene variant and detector, at the threshold calibrated for ")
         .text(&first)
-        .raw(": detection probability Pd (detected events over events, ")
+        .raw(": detection probability Pd (detected events over events) in bold, its ")
         .text(&crate::data::confidence_percent())
-        .raw(" Wilson interval), the count, and the median latency of the detected events. <span class=\"legend zero\">Pd 0</span> and <span class=\"legend low\">Pd below ")
+        .raw(" Wilson interval, then detected/events · median latency of the detected events. <span class=\"legend zero\">Pd 0</span> and <span class=\"legend low\">Pd below ")
         .text(&format_number(MISS_PD, 2))
         .raw("</span> stand out; <span class=\"legend no-event\">no event</span> marks a variant in which the person never moves inside the zone (present, not moving), which scores neither way.</p>");
     h.push(&detection_table(part, 0, &part.id("detection-table")));
@@ -452,7 +478,7 @@ fn false_alarm_table(part: &Part, o: usize, id: &str) -> Html {
     let rows = rows(part, o, "nuisance");
     let columns = part.detectors.len() + 1;
     let mut h = Html::new();
-    h.open(
+    h.raw("<div class=\"wide\">").open(
         "table",
         &[
             ("class", "grid false-alarms"),
@@ -489,9 +515,8 @@ fn false_alarm_table(part: &Part, o: usize, id: &str) -> Html {
                 Some((value, interval)) => {
                     h.raw("<span class=\"est\"><strong>")
                         .text(&format!("{value}/h"))
-                        .raw("</strong> ")
-                        .text(&interval)
-                        .raw("</span>");
+                        .raw("</strong></span>")
+                        .element("span", &[("class", "sub")], &interval);
                 }
                 None => {
                     h.raw("<span class=\"est\">—</span>");
@@ -501,7 +526,7 @@ fn false_alarm_table(part: &Part, o: usize, id: &str) -> Html {
                 "span",
                 &[("class", "sub")],
                 &format!(
-                    "test: {} in {} h",
+                    "test {} in {} h",
                     s.outcome.false_alarms,
                     format_number(s.outcome.exposure_hours, 3)
                 ),
@@ -510,13 +535,13 @@ fn false_alarm_table(part: &Part, o: usize, id: &str) -> Html {
                 h.element(
                     "span",
                     &[("class", "sub")],
-                    &format!("alarm on {} s", format_number(s.false_on_s, 3)),
+                    &format!("on {} s", format_number(s.false_on_s, 3)),
                 );
             }
             let calibration = op.calibration_rooms.iter().find(|r| r.room == name);
             let text = match calibration {
                 Some(r) if r.exposure_hours > 0.0 => format!(
-                    "calibration: {}/h ({} in {} h)",
+                    "cal. {}/h ({} in {} h)",
                     r.false_alarms_per_hour
                         .value
                         .filter(|v| v.is_finite())
@@ -524,17 +549,17 @@ fn false_alarm_table(part: &Part, o: usize, id: &str) -> Html {
                     r.false_alarms,
                     format_number(r.exposure_hours, 3)
                 ),
-                _ => "calibration: —".to_string(),
+                _ => "cal. —".to_string(),
             };
             h.element("span", &[("class", "sub")], &text);
             if limiting {
-                h.raw("<span class=\"limit\">★ set the threshold</span>");
+                h.raw("<span class=\"limit\">★ set threshold</span>");
             }
             h.raw("</td>");
         }
         h.raw("</tr>");
     }
-    h.raw("</tbody></table>");
+    h.raw("</tbody></table></div>");
     h
 }
 
@@ -557,11 +582,11 @@ pub(crate) fn false_alarm_tables(part: &Part) -> Html {
         .map_or_else(|| "the first target".to_string(), |r| fmt_target(*r));
     h.raw("<p>Per room (nuisance scene variant) and detector, at the threshold calibrated for ")
         .text(&first)
-        .raw(": false alarms per hour of the room's noise-only test time with the ")
+        .raw(": false alarms per hour of the room's noise-only test time in bold, its ")
         .text(&crate::data::confidence_percent())
-        .raw(" exact Poisson interval, the count, how long the alarm stayed on, and the room's own calibration rate at the same threshold. <span class=\"legend over\">A rate above the target</span> stands out. ");
+        .raw(" exact Poisson interval, the test count and hours, how long the alarm stayed on (when it did), and <em>cal.</em>: the room's own calibration rate at the same threshold (count and hours). <span class=\"legend over\">A test rate above the target</span> stands out. ");
     if worst_room {
-        h.raw("<span class=\"legend limiting\">★ marks the room that set the detector's threshold</span>: the threshold is the lowest at which every room meets the target in calibration, and one step lower this room did not.</p>");
+        h.raw("<span class=\"limit\">★</span> marks the room that set the detector's threshold: the threshold is the lowest at which every room meets the target in calibration, and one grid step lower this room did not.</p>");
     } else {
         h.raw("The thresholds were chosen on the pooled calibration time, so no single room set them.</p>");
     }

@@ -171,29 +171,31 @@ fn each_product_has_its_part_with_a_detection_and_a_false_alarm_table() {
                 let cell = plain(&row_cells(within, &name)[column]);
                 let o = &s.outcome;
                 if s.label == "target" && o.events > 0 {
+                    // Pd, its interval, then detected/events · median latency.
                     let pd = format!(
-                        "{:.2} [{:.2}, {:.2}]",
+                        "{:.2}[{:.2}, {:.2}]{}/{} · ",
                         o.pd.value.unwrap(),
                         o.pd.low.unwrap(),
-                        o.pd.high.unwrap()
+                        o.pd.high.unwrap(),
+                        o.detected,
+                        o.events
                     );
                     assert!(
-                        cell.contains(&pd),
-                        "{name}/{}: `{cell}` lacks {pd}",
+                        cell.starts_with(&pd),
+                        "{name}/{}: `{cell}` does not start with {pd}",
                         d.label
                     );
-                    assert!(cell.contains(&format!("{} of {} events", o.detected, o.events)));
                 } else if s.label == "target" {
                     assert!(cell.starts_with("no event"), "{cell}");
                 } else {
                     assert!(
-                        cell.contains(&format!("test: {} in", o.false_alarms)),
+                        cell.contains(&format!("test {} in", o.false_alarms)),
                         "{cell}"
                     );
-                    assert!(cell.contains("calibration: "), "{cell}");
+                    assert!(cell.contains("cal. "), "{cell}");
                     let limiting = op.limiting_room.as_deref() == Some(name.as_str());
                     assert_eq!(
-                        cell.contains("★ set the threshold"),
+                        cell.contains("★ set threshold"),
                         limiting,
                         "{name}/{}",
                         d.label
@@ -205,7 +207,7 @@ fn each_product_has_its_part_with_a_detection_and_a_false_alarm_table() {
                 assert!(rooms.contains(&room.as_str()), "{room}");
             }
         }
-        let marks = false_alarms.matches("★ set the threshold").count();
+        let marks = false_alarms.matches("★ set threshold").count();
         let limited = run
             .summary
             .detectors
@@ -227,15 +229,23 @@ fn each_product_has_its_part_with_a_detection_and_a_false_alarm_table() {
         .filter(|r| r.product == P2)
         .collect();
     assert_eq!(reasons.len(), 2, "the harness explains both no-event cells");
+    // Each reason once, with the cells it explains, grouped by scene variant.
     let why = between(p2, "<ol class=\"why-list\">", "</ol>");
-    assert_eq!(why.matches("<li ").count(), reasons.len());
+    let mut texts: Vec<&str> = reasons.iter().map(|r| r.reason.as_str()).collect();
+    texts.dedup();
+    assert_eq!(why.matches("<li ").count(), texts.len());
+    let cells: Vec<&str> = reasons.iter().map(|r| r.detector.as_str()).collect();
     for r in &reasons {
-        assert!(
-            plain(why).contains(&format!("{}, {}: {}", r.scene, r.detector, r.reason)),
-            "{}",
-            plain(why)
-        );
+        let line = format!("{} — {}: {}", r.reason, r.scene, cells.join(", "));
+        assert!(plain(why).contains(&line), "{} lacks {line}", plain(why));
     }
+    // Both cells point at it.
+    assert_eq!(
+        detection
+            .matches("href=\"#p2-detection-table-why-1\"")
+            .count(),
+        2
+    );
     // Every section of a part is its own: ids carry the part's number.
     for id in [
         "ranking",

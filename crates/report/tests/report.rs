@@ -330,6 +330,17 @@ fn bad_numbers_do_not_panic() {
             op.outcome.pd.value = Some(f64::NAN);
             op.outcome.false_alarms_per_hour.high = Some(f64::INFINITY);
             op.latency_median_s = Some(f64::NEG_INFINITY);
+            for s in &mut op.by_scene {
+                s.outcome.pd.low = Some(f64::NAN);
+                s.outcome.false_alarms_per_hour.high = Some(f64::INFINITY);
+                s.outcome.exposure_hours = f64::NAN;
+                s.latency_median_s = Some(f64::INFINITY);
+                s.false_on_s = f64::NAN;
+            }
+            for r in &mut op.calibration_rooms {
+                r.exposure_hours = f64::INFINITY;
+                r.false_alarms_per_hour.value = Some(f64::NAN);
+            }
         }
     }
     for d in &mut run.tallies.detectors {
@@ -356,4 +367,12 @@ fn bad_numbers_do_not_panic() {
         }
     }
     assert!(html.contains("not measured"));
+    // Nor the per-product tables.
+    for id in ["p1-detection-table", "p1-false-alarm-table"] {
+        let at = html.find(&format!("id=\"{id}\"")).unwrap();
+        let table = &html[at..at + html[at..].find("</table>").unwrap()];
+        for bad in ["NaN", "inf"] {
+            assert!(!table.contains(bad), "{bad} in {id}: {table}");
+        }
+    }
 }
