@@ -560,23 +560,37 @@ fn check_refuses_what_run_refuses_at_the_stated_caps() {
         energy,
     );
     refused_alike(&echobench, &s, &dir, "the cap is 1000000");
-    // Fewer trials than the cap, but more signal: 400 000 trials of 50 000 s.
+    // Fewer trials than the cap, but more signal: 800 000 trials of 60 s.
     let long = std::fs::read_to_string(&s)
         .unwrap()
-        .replace("trials: 1000000000", "trials: 200000")
-        .replace("duration_s: 4", "duration_s: 50000")
+        .replace("trials: 1000000000", "trials: 400000")
+        .replace("duration_s: 4", "duration_s: 60")
         .replace("name: billion", "name: long");
     let long_path = dir.join("long.yaml");
     std::fs::write(&long_path, long).unwrap();
     refused_alike(&echobench, long_path.to_str().unwrap(), &dir, "h of signal");
-    // Memory: every calibration score kept until the grid is cut.
-    let s = suite(
+    // Memory: the pilot calibration trials' scores (the first 24 per variant) are kept
+    // until the grid is cut: 60 detectors × 2 variants × 24 trials × 60 s at 4 kHz.
+    let sixty: String = (0..60)
+        .map(|i| format!("  - {{plugin: energy, label: e{i}}}\n"))
+        .collect();
+    let memory = std::fs::read_to_string(suite(
         &dir,
         "memory",
-        "trials: 1\ncalibration_trials: 400000\n",
-        energy,
+        "trials: 1\ncalibration_trials: 24\n",
+        &sixty,
+    ))
+    .unwrap()
+    .replace("duration_s: 4", "duration_s: 60")
+    .replace("sample_rate_hz: 500", "sample_rate_hz: 4000");
+    let memory_path = dir.join("memory.yaml");
+    std::fs::write(&memory_path, memory).unwrap();
+    refused_alike(
+        &echobench,
+        memory_path.to_str().unwrap(),
+        &dir,
+        "GiB of scores and tallies",
     );
-    refused_alike(&echobench, &s, &dir, "GiB of scores and tallies");
     // Detectors.
     let many: String = (0..65)
         .map(|i| format!("  - {{plugin: energy, label: e{i}}}\n"))
