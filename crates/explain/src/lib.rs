@@ -551,6 +551,19 @@ fn explain_replayed(
         samples: &replayed.samples,
         channels: replayed.info.channels,
         sample_rate_hz: replayed.info.sample_rate_hz,
+        // The band the front end passes: up to 2.5 times its highest low-pass corner, where one
+        // first-order section is 8.6 dB down (1/√(1 + 2.5²)) and the signal that matters ends.
+        max_hz: variant
+            .scene
+            .sensor
+            .front_end
+            .low_pass_hz
+            .iter()
+            .copied()
+            .fold(None, |top: Option<f64>, f| {
+                Some(top.map_or(f, |t| t.max(f)))
+            })
+            .map(|f| 2.5 * f),
         scores,
         threshold: point.threshold,
         hold_s: logic.hold_s(),

@@ -33,11 +33,13 @@ const EVENT_LANE_H: i32 = 24;
 const LANE_H: i32 = 18;
 /// Nuisance sources drawn on lanes of their own; the rest share one more lane.
 const MAX_NUISANCE_LANES: usize = 4;
-/// Spectrogram analysis: Hann frames of this many instants (64 ms at 4 kHz, 128 ms at 2 kHz:
-/// walking Doppler lines stay apart), and a hop chosen for about this many columns, so the
-/// embedded heat map stays small (tens of kilobytes) whatever the trial length.
-const SPECTROGRAM_FRAME: usize = 256;
-const SPECTROGRAM_COLUMNS: usize = 320;
+/// Spectrogram analysis: frames of at most this many instants (128 ms at 2 kHz: walking
+/// Doppler lines stay apart), shortened until the band shown holds about
+/// [`SPECTROGRAM_ROWS`] bins, and a hop chosen for about [`SPECTROGRAM_COLUMNS`] columns, so
+/// the embedded heat map stays small (tens of kilobytes) whatever the trial length.
+const SPECTROGRAM_MAX_FRAME: usize = 256;
+const SPECTROGRAM_ROWS: f64 = 64.0;
+const SPECTROGRAM_COLUMNS: usize = 240;
 /// Colour range of the heat map below its strongest cell, dB: enough for a walker and the
 /// noise floor, while the floor's speckle mostly takes the darkest colour (smaller pictures).
 const SPECTROGRAM_RANGE_DB: f64 = 60.0;
@@ -73,6 +75,8 @@ pub(crate) struct PictureInput<'a> {
     pub channels: Channels,
     /// Sample rate, Hz.
     pub sample_rate_hz: f64,
+    /// Highest Doppler frequency shown, Hz (`None`: up to half the sample rate).
+    pub max_hz: Option<f64>,
     /// The detector's scores.
     pub scores: &'a [Score],
     /// The operating threshold.
@@ -119,7 +123,12 @@ fn attribute_after(svg: &str, after: &str, name: &str) -> Option<String> {
 /// Draws the spectrogram through the spectrogram crate and returns its SVG text.
 fn spectrogram_svg(input: &PictureInput<'_>, duration_s: f64) -> Result<String, ExplainError> {
     let instants = input.samples.len() / input.channels.count().max(1);
-    let frame_len = SPECTROGRAM_FRAME
+    let nyquist_hz = input.sample_rate_hz / 2.0;
+    let band_hz = input.max_hz.map_or(nyquist_hz, |f| f.min(nyquist_hz));
+    let wanted = (SPECTROGRAM_ROWS * input.sample_rate_hz / band_hz).max(2.0) as usize;
+    let frame_len = wanted
+        .next_power_of_two()
+        .clamp(64, SPECTROGRAM_MAX_FRAME)
         .min(instants.max(2).next_power_of_two() / 2)
         .max(2);
     let hop = (instants.saturating_sub(frame_len) / SPECTROGRAM_COLUMNS).max(1);
@@ -154,7 +163,7 @@ fn spectrogram_svg(input: &PictureInput<'_>, duration_s: f64) -> Result<String, 
     let options = SpectrogramOptions {
         frame_len,
         hop,
-        max_hz: None,
+        max_hz: input.max_hz.filter(|&f| f < nyquist_hz),
         dynamic_range_db: SPECTROGRAM_RANGE_DB,
         title: input.spectrogram_title.to_string(),
         size_px: (WIDTH as u32, SPECTROGRAM_H as u32),
@@ -192,7 +201,11 @@ fn nest_spectrogram(svg: &str, y: i32, suffix: &str) -> Result<(String, f64, f64
         .and_then(|v| v.parse().ok())
         .ok_or_else(unrecognised)?;
     let open = svg.find("<svg").ok_or_else(unrecognised)?;
-    let body = svg[open..].replacen("<svg", &format!("<svg x=\"0\" y=\"{y}\""), 1);
+    let body = svg[open..].replacen(
+        "<svg",
+        &format!("<svg class=\"spectrogram\" x=\"0\" y=\"{y}\""),
+        1,
+    );
     let body = body.replace(&clip_id, &format!("{clip_id}-{suffix}"));
     Ok((body.trim_end().to_string(), x0, x0 + width))
 }
