@@ -390,7 +390,7 @@ pub fn gallery_sections(
             rate = escape(&rate),
         );
         for tally in &tallies {
-            let _ = write!(html, "<h3>{}</h3>", escape(&tally.label));
+            let _ = write!(html, "<h4>{}</h4>", escape(&tally.label));
             let mine: Vec<usize> = selection
                 .picks
                 .iter()

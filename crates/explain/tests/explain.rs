@@ -339,7 +339,7 @@ fn the_gallery_draws_each_pick_with_its_key() {
         2,
         "{html}"
     );
-    assert!(html.contains("<h3>energy</h3>") && html.contains("<h3>band-ratio</h3>"));
+    assert!(html.contains("<h4>energy</h4>") && html.contains("<h4>band-ratio</h4>"));
     assert!(html.contains("<code>corridor@3/0</code>"));
     assert!(html.contains("echobench explain RUN --detector energy --trial corridor@3/0"));
     assert!(html.contains("class=\"plot explain\""));
