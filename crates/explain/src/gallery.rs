@@ -308,59 +308,73 @@ pub fn gallery_sections(
         }
         pick_trial.push(Some(slot));
     }
-    let replays: Vec<Result<crate::replay::Replayed, String>> = trials
+    // Each trial is re-created, drawn for every pick that needs it and dropped, so memory
+    // holds one trial per thread, not the whole gallery's signal.
+    let draw = |pick: &GalleryPick,
+                at: TrialRef,
+                detectors: &[usize],
+                replayed: &crate::replay::Replayed| {
+        let (_, detector) = resolved
+            .iter()
+            .find(|(l, _)| *l == pick.detector)
+            .ok_or("no such detector")?;
+        let detector = detector.as_ref().map_err(Clone::clone)?;
+        // The trace's place among the detectors this trial was run with.
+        let index = detectors
+            .iter()
+            .filter(|&&d| resolved[d].1.is_ok())
+            .position(|&d| resolved[d].0 == pick.detector)
+            .ok_or("the detector was not run on this trial")?;
+        let tally = run
+            .tallies
+            .detectors
+            .iter()
+            .find(|d| d.label == pick.detector && d.product == pick.product)
+            .ok_or("no tallies for this detector")?;
+        let o = operating_index(tally, None).map_err(|e| e.to_string())?;
+        explain_replayed(
+            run,
+            tally,
+            o,
+            detector.plugin.id(),
+            at,
+            replayed,
+            &replayed.traces[index],
+        )
+        .map_err(|e| e.to_string())
+    };
+    let drawn: Vec<Vec<(usize, String)>> = trials
         .par_iter()
-        .map(|(at, detectors)| {
+        .enumerate()
+        .map(|(slot, (at, detectors))| {
             let usable: Vec<&ReplayDetector<'_>> = detectors
                 .iter()
                 .filter_map(|&d| resolved[d].1.as_ref().ok())
                 .collect();
-            replay(suite, *at, &usable).map_err(|e| e.to_string())
+            let replayed = replay(suite, *at, &usable).map_err(|e| e.to_string());
+            selection
+                .picks
+                .iter()
+                .enumerate()
+                .filter(|(i, _)| pick_trial[*i] == Some(slot))
+                .map(|(i, pick)| {
+                    let result = match &replayed {
+                        Ok(r) => draw(pick, *at, detectors, r),
+                        Err(e) => Err(e.clone()),
+                    };
+                    (i, figure(pick, result))
+                })
+                .collect()
         })
         .collect();
-    let figures: Vec<String> = selection
+    let mut figures: Vec<String> = selection
         .picks
-        .par_iter()
-        .zip(pick_trial.par_iter())
-        .map(|(pick, slot)| {
-            let drawn = (|| {
-                let slot = slot.ok_or("the suite has no such scene variant")?;
-                let (at, detectors) = &trials[slot];
-                let replayed = replays[slot].as_ref().map_err(Clone::clone)?;
-                let (_, detector) = resolved
-                    .iter()
-                    .find(|(l, _)| *l == pick.detector)
-                    .ok_or("no such detector")?;
-                let detector = detector.as_ref().map_err(Clone::clone)?;
-                // The trace's place among the detectors this trial was run with.
-                let index = detectors
-                    .iter()
-                    .filter(|&&d| resolved[d].1.is_ok())
-                    .position(|&d| resolved[d].0 == pick.detector)
-                    .ok_or("the detector was not run on this trial")?;
-                let tally = run
-                    .tallies
-                    .detectors
-                    .iter()
-                    .find(|d| d.label == pick.detector && d.product == pick.product)
-                    .ok_or("no tallies for this detector")?;
-                let o = operating_index(tally, None).map_err(|e| e.to_string())?;
-                explain_replayed(
-                    run,
-                    tally,
-                    o,
-                    detector.plugin.id(),
-                    *at,
-                    replayed,
-                    &replayed.traces[index],
-                )
-                .map_err(|e| e.to_string())
-            })();
-            figure(pick, drawn.map_err(|e: String| e))
-        })
+        .iter()
+        .map(|pick| figure(pick, Err("the suite has no such scene variant".into())))
         .collect();
-
-    let mut figures = figures;
+    for (i, html) in drawn.into_iter().flatten() {
+        figures[i] = html;
+    }
     share_spectrograms(&mut figures, &selection.picks);
 
     let mut sections = Vec::new();
