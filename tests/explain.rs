@@ -158,5 +158,25 @@ fn explain_draws_a_trial_of_a_run_and_the_report_holds_the_gallery() {
     succeed(&dir, &echobench, &["report", "run", "--out", "again.html"]);
     let rewritten = std::fs::read_to_string(dir.join("again.html")).unwrap();
     assert_eq!(rewritten, report);
+    // A folder that is not one whole run is refused, as by every reader of run folders.
+    std::fs::write(dir.join("run/stray.txt"), "not of this run").unwrap();
+    let result = run_in(
+        &dir,
+        &echobench,
+        &[
+            "explain",
+            "run",
+            "--detector",
+            "energy",
+            "--trial",
+            "fan-room/0",
+        ],
+    );
+    let stderr = String::from_utf8_lossy(&result.stderr);
+    assert_eq!(result.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains("not a complete run folder") && stderr.contains("stray.txt"),
+        "{stderr}"
+    );
     std::fs::remove_dir_all(&dir).unwrap();
 }
