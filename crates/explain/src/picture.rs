@@ -647,10 +647,17 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
             );
         }
         if let Some(label) = label {
-            // Labels only where they do not run into the previous one.
-            if x + 9.0 > label_end + 6.0 && x + 9.0 < x1 - 30.0 {
-                halo_text(&mut out, x + 9.0, mid + 4.0, colour, &label);
-                label_end = x + 9.0 + echobench_report::plot::text_width(&label, 11.0);
+            // Right of the mark, or left of it near the right edge; never over the previous
+            // label.
+            let width = echobench_report::plot::text_width(&label, 11.0);
+            let start = if x + 9.0 + width < f64::from(WIDTH) - 10.0 {
+                x + 9.0
+            } else {
+                x - 9.0 - width
+            };
+            if start > label_end + 6.0 {
+                halo_text(&mut out, start, mid + 4.0, colour, &label);
+                label_end = start + width;
             }
         }
     }
