@@ -300,7 +300,7 @@ scoring:
         .descendants()
         .filter(|n| n.has_tag_name("testcase"))
         .any(
-            |n| n.attribute("classname") == Some("echobench.gate.energy")
+            |n| n.attribute("classname") == Some("echobench.gate.gate-check.energy")
                 && n.children().any(|c| c.has_tag_name("failure"))
         ));
 

@@ -136,10 +136,17 @@ impl TrialSignal {
             let t = s.truth();
             SignalTruth {
                 events: t.events.iter().map(|e| e.interval).collect(),
+                // A target moving outside the coverage zone is noise-only time too; its
+                // alarms are blamed on it by name.
                 nuisances: t
                     .nuisances
                     .iter()
                     .map(|n| (n.interval, n.source_id.clone()))
+                    .chain(
+                        t.outside_coverage
+                            .iter()
+                            .map(|e| (e.interval, format!("{} outside the zone", e.actor_id))),
+                    )
                     .collect(),
                 still: t.still_presence.iter().map(|e| e.interval).collect(),
             }
