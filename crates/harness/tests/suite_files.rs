@@ -947,3 +947,79 @@ fn a_scene_file_given_as_a_suite_is_named_as_such() {
         .message
         .contains("this is a scene file, not a suite"));
 }
+
+/// Two inline scenes with the given sensors, in one product without a `module`.
+fn two_scene_product(sensor_a: &str, sensor_b: &str, module: &str) -> String {
+    format!(
+        r#"
+name: mixed
+seed: 1
+trials: 1
+calibration_trials: 1
+products:
+  - name: one-module
+{module}    scenes:
+      - id: room-a
+        label: nuisance
+        scene:
+          duration_s: 2
+          sensor: {sensor_a}
+      - id: room-b
+        label: nuisance
+        scene:
+          duration_s: 2
+          sensor: {sensor_b}
+detectors:
+  - plugin: energy
+"#
+    )
+}
+
+const SENSOR_2G4: &str = "{carrier_hz: 2.45e9, sample_rate_hz: 2000, front_end: {high_pass_hz: [0.5], low_pass_hz: [100], gain_db: 60, rails_v: [0, 3.3]}, adc: {bits: 12, full_scale_v: 3.3}}";
+const SENSOR_24G: &str = "{carrier_hz: 24.125e9, sample_rate_hz: 2000, elevation_deg: -20, front_end: {high_pass_hz: [0.5], low_pass_hz: [100], gain_db: 60, rails_v: [0, 3.3]}, adc: {bits: 12, full_scale_v: 3.3}}";
+
+#[test]
+fn a_product_that_mixes_modules_is_refused_naming_scenes_and_fields() {
+    let text = two_scene_product(SENSOR_2G4, SENSOR_24G, "");
+    let report = load_suite_text(
+        "mixed.yaml",
+        &text,
+        &EmbeddedSource::default_suite(),
+        &plugins(),
+    )
+    .unwrap_err();
+    let printed = report.to_string();
+    assert!(
+        printed.contains("product `one-module` mixes sensor modules: scene `room-b` differs from scene `room-a` in carrier_hz, elevation_deg"),
+        "{printed}"
+    );
+    // With a module, the product's module is every scene's: no refusal, and both scenes
+    // run at the module's carrier, keeping their own placement.
+    let module = "    module: {carrier_hz: 5.8e9, sample_rate_hz: 2000, front_end: {high_pass_hz: [0.5], low_pass_hz: [100], gain_db: 60, rails_v: [0, 3.3]}, adc: {bits: 12, full_scale_v: 3.3}}\n";
+    let text = two_scene_product(SENSOR_2G4, SENSOR_24G, module);
+    let (suite, _) = load_suite_text(
+        "mixed.yaml",
+        &text,
+        &EmbeddedSource::default_suite(),
+        &plugins(),
+    )
+    .unwrap_or_else(|r| panic!("{r}"));
+    for scene in &suite.scenes {
+        assert_eq!(scene.variants[0].scene.sensor.carrier_hz, 5.8e9);
+    }
+    // Placement belongs to the scene, not to the module.
+    let placed = "    module: {carrier_hz: 5.8e9, sample_rate_hz: 2000, position_m: [0, 0, 2], front_end: {high_pass_hz: [0.5], low_pass_hz: [100], gain_db: 60, rails_v: [0, 3.3]}, adc: {bits: 12, full_scale_v: 3.3}}\n";
+    let text = two_scene_product(SENSOR_2G4, SENSOR_24G, placed);
+    let printed = load_suite_text(
+        "mixed.yaml",
+        &text,
+        &EmbeddedSource::default_suite(),
+        &plugins(),
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(
+        printed.contains("`position_m` places the module in a room"),
+        "{printed}"
+    );
+}
