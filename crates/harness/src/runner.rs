@@ -311,10 +311,14 @@ pub struct Timing {
     pub wall_s: f64,
     /// Synthesis time summed over threads, s.
     pub synthesis_s: f64,
-    /// Per detector label: processing time summed over threads, s.
+    /// Per `product/label`: the detector's processing time on that product's test trials,
+    /// summed over threads, s.
     pub detector_s: BTreeMap<String, f64>,
     /// Samples fed to each detector.
     pub samples: u64,
+    /// Per product: test samples fed to each of its detectors.
+    #[serde(default)]
+    pub samples_by_product: BTreeMap<String, u64>,
     /// Seconds of signal synthesized for calibration (re-runs of the tail included).
     #[serde(default)]
     pub calibration_signal_s: f64,
@@ -632,6 +636,9 @@ pub fn run_suite(
         test_signal_ms += part.test_signal_ms;
         timing.synthesis_s += part.timing.synthesis_s;
         timing.samples += part.timing.samples;
+        timing
+            .samples_by_product
+            .insert(product.name.clone(), part.timing.samples);
         timing.calibration_signal_s += part.timing.calibration_signal_s;
         for (k, v) in part.timing.detector_s {
             *timing.detector_s.entry(k).or_default() += v;
@@ -825,7 +832,10 @@ fn run_product(
                         message: message.clone(),
                     }),
                     Trace::Ok { scores, busy_s } => {
-                        *acc.1.detector_s.entry(tally.label.clone()).or_default() += busy_s;
+                        *acc.1
+                            .detector_s
+                            .entry(format!("{}/{}", tally.product, tally.label))
+                            .or_default() += busy_s;
                         let thresholds = tallies[di].thresholds.clone();
                         let operating: Vec<usize> =
                             tallies[di].operating.iter().map(|o| o.grid_index).collect();

@@ -1359,8 +1359,9 @@ fn cost(part: &Part) -> String {
     let mut rows = Vec::new();
     for (i, d) in part.summaries().enumerate() {
         let measured = run.timing.as_ref().and_then(|t| {
-            let seconds = *t.detector_s.get(&d.label)?;
-            (t.samples > 0 && seconds > 0.0).then_some((seconds, t.samples))
+            let seconds = *t.detector_s.get(&format!("{}/{}", d.product, d.label))?;
+            let samples = t.samples_by_product.get(&d.product).copied().unwrap_or(0);
+            (samples > 0 && seconds > 0.0).then_some((seconds, samples))
         });
         let (ns, rate) = match measured {
             Some((seconds, samples)) => (
@@ -1401,8 +1402,8 @@ fn cost(part: &Part) -> String {
         Some(t) => {
             let _ = write!(
                 out,
-                "<p class=\"note\">Measured in this run: each detector's processing time summed over threads, divided by the {} samples of the test trials every detector was fed, over every product of the run (the timing keeps one figure per detector label; {} s of wall time in all, {} s of it synthesis summed over threads). It is a wall-clock figure of the machine that ran the suite, useful to compare detectors with each other; for a microcontroller, the declared state memory and arithmetic per sample (as each plugin states them for this suite's stream) are the better guide.</p>",
-                fmt_count(t.samples),
+                "<p class=\"note\">Measured in this run: each detector's processing time summed over threads, divided by the {} samples of this product's test trials every detector was fed ({} s of wall time for the whole run, {} s of it synthesis summed over threads). It is a wall-clock figure of the machine that ran the suite, useful to compare detectors with each other; for a microcontroller, the declared state memory and arithmetic per sample (as each plugin states them for this suite's stream) are the better guide.</p>",
+                fmt_count(t.samples_by_product.get(part.name).copied().unwrap_or(0)),
                 format_number(t.wall_s, 3),
                 format_number(t.synthesis_s, 3)
             );
