@@ -496,6 +496,16 @@ pub fn summarise(tallies: &Tallies, suite: &Suite) -> Summary {
     }
 }
 
+/// Whether an operating point's test false-alarm rate is *shown* to be above its target:
+/// the lower end of its 95 % interval is over the target. A short test run with one false
+/// alarm is not over (its point estimate may be); the ranking and the report use this.
+pub fn over_target(op: &OperatingSummary) -> bool {
+    op.outcome
+        .false_alarms_per_hour
+        .low
+        .is_some_and(|low| low > op.target_false_alarms_per_hour)
+}
+
 /// Pd below which a detection-table cell gets a reason.
 pub const MISS_PD: f64 = 0.5;
 
@@ -973,15 +983,9 @@ fn product_block(
         .collect();
     let label0 = rates.first().map_or_else(String::new, |r| rate_label(*r));
     // Ranking, as in the report: first the detectors whose test false-alarm rate at the
-    // first operating point meets its target, then by Pd, then by median latency.
-    let meets = |d: &DetectorSummary| {
-        d.operating_points.first().is_some_and(|o| {
-            o.outcome
-                .false_alarms_per_hour
-                .value
-                .is_some_and(|v| v <= o.target_false_alarms_per_hour)
-        })
-    };
+    // first operating point is not shown to be over its target, then by Pd, then by median
+    // latency.
+    let meets = |d: &DetectorSummary| d.operating_points.first().is_some_and(|o| !over_target(o));
     let mut ranked: Vec<&&DetectorSummary> = detectors.iter().collect();
     ranked.sort_by(|a, b| {
         let pd = |d: &DetectorSummary| {
@@ -1036,7 +1040,7 @@ fn product_block(
         })
         .collect();
     out.push_str(&format!(
-        "ranking (those meeting {label0} on the test trials first, then by Pd; \"(over)\": test FA/h above the target; FA/h and on-time on noise-only time):\n"
+        "ranking (those meeting {label0} on the test trials first, then by Pd; \"(over)\": test FA/h shown above the target, its 95 % interval wholly over it; FA/h and on-time on noise-only time):\n"
     ));
     out.push_str(&grid_table("detector", &columns, &rows));
 

@@ -696,7 +696,7 @@ fn ranking_verdict(d: &DetectorSummary, op: &OperatingSummary) -> Option<String>
     let rate = &op.outcome.false_alarms_per_hour;
     match rate.value {
         None => Some("no noise-only time to measure false alarms on".into()),
-        Some(v) if v > op.target_false_alarms_per_hour => Some(format!(
+        Some(v) if echobench_harness::summary::over_target(op) => Some(format!(
             "measured {}/h [{}, {}] is above the target {}",
             format_number(v, 3),
             rate.low.map_or("—".into(), |x| format_number(x, 3)),
@@ -723,7 +723,7 @@ fn rank_order(
 
 fn ranking(part: &Part) -> String {
     let mut out = String::from(
-        "<p>The rule: a detector <strong>meets</strong> a target false-alarm rate when its <em>measured</em> false-alarm rate on the test trials, at the threshold calibrated for that target, is at or below the target (point estimate). Those that meet it are ranked by detection probability Pd (higher first), then by median latency (shorter first). A detector that meets the rate but detects no target event at that threshold is listed apart, and one that failed on any trial is not ranked. The one-sided 95 % upper bound says whether the test time was long enough to <em>show</em> the rate; where it is not, the last column gives the noise-only time that would, with no false alarm in it.</p>",
+        "<p>The rule: a detector <strong>meets</strong> a target false-alarm rate unless its <em>measured</em> false-alarm rate on the test trials, at the threshold calibrated for that target, is shown to be above the target (the lower end of its 95 % interval is over it: one false alarm in a short test run does not disqualify). Those that meet it are ranked by detection probability Pd (higher first), then by median latency (shorter first). A detector that meets the rate but detects no target event at that threshold is listed apart, and one that failed on any trial is not ranked. The one-sided 95 % upper bound says whether the test time was long enough to <em>show</em> the rate; where it is not, the last column gives the noise-only time that would, with no false alarm in it.</p>",
     );
     let targets = targets(part);
     if targets.is_empty() {
