@@ -1657,6 +1657,21 @@ mod tests {
             tails > 0,
             "the streamed trials must reach beyond the pilot grid"
         );
+        // The same counts on one thread as on two (the folds add integers).
+        for threads in [1, 2] {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
+            let (again, _) = pool
+                .install(|| calibrate(&suite, &detectors, &logic, window, &|_| {}))
+                .unwrap();
+            for (a, b) in again.iter().zip(&calibrated) {
+                assert_eq!(a.thresholds, b.thresholds, "{threads} threads");
+                assert_eq!(a.false_alarms, b.false_alarms, "{threads} threads");
+                assert_eq!(a.exposure_ns, b.exposure_ns, "{threads} threads");
+            }
+        }
     }
 
     #[test]
