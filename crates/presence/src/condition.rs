@@ -1,0 +1,165 @@
+//! The per-frame alarm condition (threshold, then M-of-N), re-implemented so that this crate
+//! does not depend on the harness; the semantics are the intrusion scoring's.
+
+use crate::PresenceError;
+use echobench_core::Score;
+
+/// The M-of-N rule: the condition holds when at least `m` of the last `n` frame decisions are
+/// true. Invariant: `1 <= m <= n`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct MOfN {
+    m: usize,
+    n: usize,
+}
+
+impl MOfN {
+    /// 1-of-1: the condition is the frame decision itself.
+    pub const SINGLE: MOfN = MOfN { m: 1, n: 1 };
+
+    /// Makes an M-of-N rule.
+    ///
+    /// # Errors
+    /// When `m` is 0 or larger than `n`.
+    ///
+    /// ```
+    /// use echobench_presence::MOfN;
+    /// assert_eq!(MOfN::new(2, 3).unwrap().n(), 3);
+    /// assert!(MOfN::new(0, 3).is_err() && MOfN::new(4, 3).is_err());
+    /// ```
+    pub fn new(m: usize, n: usize) -> Result<Self, PresenceError> {
+        if m >= 1 && m <= n {
+            Ok(MOfN { m, n })
+        } else {
+            Err(PresenceError::InvalidParameter {
+                name: "m_of_n.m",
+                value: m as f64,
+                allowed: "between 1 and n",
+            })
+        }
+    }
+
+    /// How many true decisions are needed.
+    pub fn m(&self) -> usize {
+        self.m
+    }
+
+    /// How many recent frames are looked at.
+    pub fn n(&self) -> usize {
+        self.n
+    }
+}
+
+/// One frame's condition at the frame's end time.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct ConditionFrame {
+    /// End of the decision frame, whole nanoseconds from the trial's start.
+    pub t_ns: i64,
+    /// Whether the alarm condition holds at this frame (it triggers the timer).
+    pub on: bool,
+}
+
+/// The condition of every frame of `trace` at `threshold`: decision `value >= threshold`
+/// (a NaN score or threshold is never reached), then at least `m` true among the last `n`
+/// decisions, frames before the first counting as false. Frames whose `t_s` is not finite
+/// take part in the M-of-N window but are left out of the result (they cannot be placed).
+///
+/// ```
+/// use echobench_core::Score;
+/// use echobench_presence::{condition_frames, MOfN};
+/// let trace: Vec<Score> = [0.9, 0.2, 0.8, 0.7]
+///     .iter()
+///     .enumerate()
+///     .map(|(k, &value)| Score { t_s: 0.5 * (k + 1) as f64, value })
+///     .collect();
+/// let frames = condition_frames(&trace, 0.5, MOfN::new(2, 3).unwrap());
+/// let on: Vec<bool> = frames.iter().map(|f| f.on).collect();
+/// // decisions 1 0 1 1: two of the last three first at the third frame.
+/// assert_eq!(on, [false, false, true, true]);
+/// assert_eq!(frames[0].t_ns, 500_000_000);
+/// ```
+pub fn condition_frames(trace: &[Score], threshold: f64, rule: MOfN) -> Vec<ConditionFrame> {
+    let mut recent = vec![false; rule.n];
+    let mut next_slot = 0;
+    let mut true_count = 0usize;
+    let mut frames = Vec::with_capacity(trace.len());
+    for score in trace {
+        let decision = score.value >= threshold;
+        if let Some(slot) = recent.get_mut(next_slot) {
+            let leaving = std::mem::replace(slot, decision);
+            true_count = true_count + usize::from(decision) - usize::from(leaving);
+            next_slot = (next_slot + 1) % rule.n;
+        }
+        if score.t_s.is_finite() {
+            frames.push(ConditionFrame {
+                t_ns: (score.t_s * 1e9).round() as i64,
+                on: true_count >= rule.m,
+            });
+        }
+    }
+    frames
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn trace(values: &[f64]) -> Vec<Score> {
+        values
+            .iter()
+            .enumerate()
+            .map(|(k, &value)| Score {
+                t_s: 0.1 * (k + 1) as f64,
+                value,
+            })
+            .collect()
+    }
+
+    #[test]
+    fn m_of_n_counts_the_last_n_decisions() {
+        // Threshold 1, decisions: 1 0 0 1 1 0 1 0 0 0 (NaN is never >= 1).
+        // 2-of-3 over the windows ending at each frame (frames before the first are false):
+        //   k=1: [1]      1 true -> no      k=6: [1 1 0] 2 -> yes
+        //   k=2: [1 0]    1      -> no      k=7: [1 0 1] 2 -> yes
+        //   k=3: [1 0 0]  1      -> no      k=8: [0 1 0] 1 -> no
+        //   k=4: [0 0 1]  1      -> no      k=9: [1 0 0] 1 -> no
+        //   k=5: [0 1 1]  2      -> yes     k=10: [0 0 0] 0 -> no
+        let scores = trace(&[2.0, 0.0, f64::NAN, 1.0, 3.0, 0.5, 1.5, 0.0, 0.2, -1.0]);
+        let on: Vec<bool> = condition_frames(&scores, 1.0, MOfN::new(2, 3).unwrap())
+            .iter()
+            .map(|f| f.on)
+            .collect();
+        assert_eq!(
+            on,
+            [false, false, false, false, true, true, true, false, false, false]
+        );
+        let single: Vec<bool> = condition_frames(&scores, 1.0, MOfN::SINGLE)
+            .iter()
+            .map(|f| f.on)
+            .collect();
+        assert_eq!(
+            single,
+            [true, false, false, true, true, false, true, false, false, false]
+        );
+        assert!(condition_frames(&scores, f64::NAN, MOfN::SINGLE)
+            .iter()
+            .all(|f| !f.on));
+    }
+
+    #[test]
+    fn a_frame_without_a_time_still_counts_in_the_window() {
+        // Decisions 1 1 1 with the middle frame's time NaN: 2-of-2 holds at frames 2 and 3;
+        // frame 2 is dropped, frame 3 keeps its condition, which needed frame 2's decision.
+        let mut scores = trace(&[5.0, 5.0, 5.0]);
+        scores[1].t_s = f64::NAN;
+        let frames = condition_frames(&scores, 1.0, MOfN::new(2, 2).unwrap());
+        assert_eq!(frames.len(), 2);
+        assert_eq!(
+            frames[1],
+            ConditionFrame {
+                t_ns: 300_000_000,
+                on: true
+            }
+        );
+        assert!(!frames[0].on);
+    }
+}
