@@ -667,8 +667,24 @@ fn opt(x: Option<f64>) -> String {
 /// # Errors
 /// I/O errors, naming the file.
 pub fn write_roc_csv(path: &Path, tallies: &Tallies) -> io::Result<()> {
-    write_atomically(path, |w| {
-        writeln!(w, "product,detector,threshold,events,detected,pd,pd_low,pd_high,false_alarms,exposure_h,false_alarms_per_hour,fa_per_hour_low,fa_per_hour_high,retriggers")?;
+    write_atomically(path, |file| {
+        let mut w = csv_writer(file);
+        w.write_record([
+            "product",
+            "detector",
+            "threshold",
+            "events",
+            "detected",
+            "pd",
+            "pd_low",
+            "pd_high",
+            "false_alarms",
+            "exposure_h",
+            "false_alarms_per_hour",
+            "fa_per_hour_low",
+            "fa_per_hour_high",
+            "retriggers",
+        ])?;
         for d in &tallies.detectors {
             let events: u64 = d.variants.iter().map(|v| v.events).sum();
             let exposure: u64 = d.variants.iter().map(|v| v.exposure_ns).sum();
@@ -677,28 +693,34 @@ pub fn write_roc_csv(path: &Path, tallies: &Tallies) -> io::Result<()> {
                 let fa: u64 = d.variants.iter().map(|v| v.false_alarms[g]).sum();
                 let retriggers: u64 = d.variants.iter().map(|v| v.retriggers[g]).sum();
                 let o = outcome(events, detected, fa, exposure);
-                writeln!(
-                    w,
-                    "{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
-                    d.product,
-                    d.label,
-                    threshold,
-                    events,
-                    detected,
+                w.write_record([
+                    d.product.clone(),
+                    d.label.clone(),
+                    threshold.to_string(),
+                    events.to_string(),
+                    detected.to_string(),
                     opt(o.pd.value),
                     opt(o.pd.low),
                     opt(o.pd.high),
-                    fa,
-                    o.exposure_hours,
+                    fa.to_string(),
+                    o.exposure_hours.to_string(),
                     opt(o.false_alarms_per_hour.value),
                     opt(o.false_alarms_per_hour.low),
                     opt(o.false_alarms_per_hour.high),
-                    retriggers
-                )?;
+                    retriggers.to_string(),
+                ])?;
             }
         }
-        Ok(())
+        w.flush()
     })
+}
+
+/// A CSV writer onto an atomically written file: fields with a comma, quote or line break
+/// (a label from a user's suite) are quoted, everything else is written as is.
+fn csv_writer<W: io::Write>(inner: W) -> csv::Writer<W> {
+    csv::WriterBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
+        .from_writer(inner)
 }
 
 /// Writes `events.csv`: one row per detector, operating point and scene variant.
@@ -706,40 +728,60 @@ pub fn write_roc_csv(path: &Path, tallies: &Tallies) -> io::Result<()> {
 /// # Errors
 /// I/O errors, naming the file.
 pub fn write_events_csv(path: &Path, summary: &Summary) -> io::Result<()> {
-    write_atomically(path, |w| {
-        writeln!(w, "product,detector,target_fa_per_hour,threshold,scene,sweep_value,label,trials,events,detected,pd,pd_low,pd_high,false_alarms,exposure_h,false_alarms_per_hour,fa_per_hour_low,fa_per_hour_high,latency_median_s,false_on_s")?;
+    write_atomically(path, |file| {
+        let mut w = csv_writer(file);
+        w.write_record([
+            "product",
+            "detector",
+            "target_fa_per_hour",
+            "threshold",
+            "scene",
+            "sweep_value",
+            "label",
+            "trials",
+            "events",
+            "detected",
+            "pd",
+            "pd_low",
+            "pd_high",
+            "false_alarms",
+            "exposure_h",
+            "false_alarms_per_hour",
+            "fa_per_hour_low",
+            "fa_per_hour_high",
+            "latency_median_s",
+            "false_on_s",
+        ])?;
         for d in &summary.detectors {
             for op in &d.operating_points {
                 for s in &op.by_scene {
                     let o = &s.outcome;
-                    writeln!(
-                        w,
-                        "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
-                        d.product,
-                        d.label,
-                        op.target_false_alarms_per_hour,
-                        op.threshold,
-                        s.scene,
+                    w.write_record([
+                        d.product.clone(),
+                        d.label.clone(),
+                        op.target_false_alarms_per_hour.to_string(),
+                        op.threshold.to_string(),
+                        s.scene.clone(),
                         s.sweep_value.clone().unwrap_or_default(),
-                        s.label,
-                        s.trials,
-                        o.events,
-                        o.detected,
+                        s.label.clone(),
+                        s.trials.to_string(),
+                        o.events.to_string(),
+                        o.detected.to_string(),
                         opt(o.pd.value),
                         opt(o.pd.low),
                         opt(o.pd.high),
-                        o.false_alarms,
-                        o.exposure_hours,
+                        o.false_alarms.to_string(),
+                        o.exposure_hours.to_string(),
                         opt(o.false_alarms_per_hour.value),
                         opt(o.false_alarms_per_hour.low),
                         opt(o.false_alarms_per_hour.high),
                         opt(s.latency_median_s),
-                        s.false_on_s
-                    )?;
+                        s.false_on_s.to_string(),
+                    ])?;
                 }
             }
         }
-        Ok(())
+        w.flush()
     })
 }
 

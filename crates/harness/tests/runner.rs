@@ -407,3 +407,25 @@ fn detection_falls_with_range_at_a_fixed_threshold() {
         "at some threshold the far walks are missed more than the near ones"
     );
 }
+
+/// The committed CI reference's CSV files are reproduced byte for byte from its tallies and
+/// summary: the CSV writers are pure functions of them.
+#[test]
+fn the_reference_csv_files_are_reproduced_from_its_tallies() {
+    let reference = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../../.ci/baseline");
+    let tallies: Tallies =
+        serde_json::from_slice(&std::fs::read(reference.join("tallies.json")).unwrap()).unwrap();
+    let summary: echobench_harness::summary::Summary =
+        serde_json::from_slice(&std::fs::read(reference.join("summary.json")).unwrap()).unwrap();
+    let dir = std::env::temp_dir().join(format!("echobench-csv-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    write_roc_csv(&dir.join("roc.csv"), &tallies).unwrap();
+    echobench_harness::summary::write_events_csv(&dir.join("events.csv"), &summary).unwrap();
+    for name in ["roc.csv", "events.csv"] {
+        assert!(
+            std::fs::read(dir.join(name)).unwrap() == std::fs::read(reference.join(name)).unwrap(),
+            "{name} differs"
+        );
+    }
+    std::fs::remove_dir_all(&dir).unwrap();
+}
