@@ -130,7 +130,8 @@ impl OutputPin {
     /// rules). Frames outside `[0, duration_ns]` are ignored.
     ///
     /// # Errors
-    /// When a frame comes before the previous one, or `duration_ns < 0`.
+    /// When a frame comes before the previous one, or `duration_ns` is negative or above
+    /// [`crate::MAX_TIME_S`].
     ///
     /// ```
     /// use echobench_presence::{ConditionFrame, OutputPin, Timer};
@@ -148,11 +149,11 @@ impl OutputPin {
         timer: &Timer,
         duration_ns: i64,
     ) -> Result<Self, PresenceError> {
-        if duration_ns < 0 {
+        if !(0..=crate::MAX_TIME_S as i64 * NS_PER_S).contains(&duration_ns) {
             return Err(PresenceError::InvalidParameter {
                 name: "duration_s",
                 value: duration_ns as f64 / 1e9,
-                allowed: ">= 0",
+                allowed: ">= 0 and at most 1e9 s",
             });
         }
         let mut on = Vec::new();

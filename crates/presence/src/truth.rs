@@ -90,6 +90,9 @@ impl PresenceTruth {
             if segment.end_ns < segment.start_ns {
                 return timeline_error(format!("segment {index} ends before it starts"));
             }
+            if segment.end_ns > crate::MAX_TIME_S as i64 * crate::NS_PER_S {
+                return timeline_error(format!("segment {index} ends after 1e9 s"));
+            }
             expected_start = segment.end_ns;
             if segment.end_ns == segment.start_ns {
                 continue;
