@@ -251,7 +251,7 @@ mod tests {
     fn gamma_interval_against_tables_and_garwood() {
         // One event of weight 1: lower = Gamma(1) quantile at 0.025 = −ln(0.975) = 0.0253178;
         // upper = Gamma(2) quantile at 0.975 = χ²₀.₉₇₅(4)/2 = 11.1433/2 = 5.57164 (chi-square
-        // table, e.g. NIST/SEMATECH e-Handbook 1.3.6.7.4).
+        // table, e.g. the NIST/SEMATECH e-Handbook's chi-square table; section from memory).
         let one = gamma_weighted_interval(1.0, 1.0, 1.0, 0.95).unwrap();
         assert!((one.low - 0.975f64.ln().abs()).abs() < 1e-9);
         assert!((one.high - 5.571643).abs() < 1e-5);
