@@ -1154,13 +1154,39 @@ fn product_block(
 
 /// What the calibration resolved, and which room set each detector's threshold.
 fn calibration_notes(detectors: &[&DetectorSummary], rates: &[f64]) -> String {
+    let statements = calibration_statements(detectors, rates);
     let mut out = String::new();
+    for (i, statement) in statements.iter().enumerate() {
+        if i == 0 {
+            out.push_str(&format!("\ncalibration: {}\n", statement.text));
+        } else {
+            out.push_str(&format!("  {}\n", statement.text));
+        }
+    }
+    out
+}
+
+/// One statement about a product's calibration.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CalibrationStatement {
+    /// The sentence.
+    pub text: String,
+    /// Whether it reports a problem (a target the calibration cannot resolve).
+    pub problem: bool,
+}
+
+/// What a product's calibration resolved, one statement per line: the console prints them
+/// under a product's tables and the report in its heading, so both say the same.
+pub fn calibration_statements(
+    detectors: &[&DetectorSummary],
+    rates: &[f64],
+) -> Vec<CalibrationStatement> {
+    let mut out = Vec::new();
     let Some(first) = detectors.first() else {
         return out;
     };
-    let hours: Vec<f64> = first
-        .operating_points
-        .first()
+    let first_op = first.operating_points.first();
+    let hours: Vec<f64> = first_op
         .map(|o| {
             o.calibration_rooms
                 .iter()
@@ -1169,44 +1195,47 @@ fn calibration_notes(detectors: &[&DetectorSummary], rates: &[f64]) -> String {
                 .collect()
         })
         .unwrap_or_default();
-    let worst_room = first
-        .operating_points
-        .first()
-        .is_some_and(|o| o.rule == crate::suite::ThresholdRule::WorstRoom.name());
+    let worst_room =
+        first_op.is_some_and(|o| o.rule == crate::suite::ThresholdRule::WorstRoom.name());
     let (low, high) = hours
         .iter()
         .fold((f64::INFINITY, 0.0f64), |(l, h), x| (l.min(*x), h.max(*x)));
-    out.push_str("\ncalibration: ");
-    if worst_room && !hours.is_empty() {
-        out.push_str(&format!(
+    let text = if worst_room && !hours.is_empty() {
+        format!(
             "thresholds chosen so that each target is met in every room, on {low:.2}–{high:.2} h of noise-only time per room"
-        ));
+        )
     } else {
-        out.push_str(&format!(
+        format!(
             "thresholds chosen on {:.2} h of pooled noise-only time",
-            first
-                .operating_points
-                .first()
-                .map_or(0.0, |o| o.calibration_exposure_hours)
-        ));
-    }
-    out.push('\n');
+            first_op.map_or(0.0, |o| o.calibration_exposure_hours)
+        )
+    };
+    out.push(CalibrationStatement {
+        text,
+        problem: false,
+    });
     for (o, rate) in rates.iter().enumerate() {
         let resolved = detectors
             .iter()
             .all(|d| d.operating_points.get(o).is_some_and(|p| p.resolved));
+        // Zero alarms in T hours bound the rate at −ln(0.05)/T at 95 % (Garwood 1936), the
+        // harness's `summary::resolves`.
         let need = -(0.05f64.ln()) / rate;
-        if resolved {
-            out.push_str(&format!(
-                "  {}: resolved (at least {need:.1} h per room, where zero alarms bound the rate below the target at 95 %)\n",
+        let text = if resolved {
+            format!(
+                "{}: resolved (at least {need:.1} h per room, where zero alarms bound the rate below the target at 95 %)",
                 rate_label(*rate)
-            ));
+            )
         } else {
-            out.push_str(&format!(
-                "  {}: NOT resolved: it needs {need:.1} h per room; its threshold is the lowest with no more calibration alarms than the time allows, so its Pd is optimistic about false alarms\n",
+            format!(
+                "{}: NOT resolved: it needs {need:.1} h per room; its threshold is the lowest with no more calibration alarms than the time allows, so its Pd is optimistic about false alarms",
                 rate_label(*rate)
-            ));
-        }
+            )
+        };
+        out.push(CalibrationStatement {
+            text,
+            problem: !resolved,
+        });
     }
     if worst_room {
         let parts: Vec<String> = detectors
@@ -1222,11 +1251,14 @@ fn calibration_notes(detectors: &[&DetectorSummary], rates: &[f64]) -> String {
                 ))
             })
             .collect();
-        out.push_str(&format!(
-            "  room that set each threshold @ {}: {}\n",
-            rates.first().map_or_else(String::new, |r| rate_label(*r)),
-            parts.join(", ")
-        ));
+        out.push(CalibrationStatement {
+            text: format!(
+                "room that set each threshold @ {}: {}",
+                rates.first().map_or_else(String::new, |r| rate_label(*r)),
+                parts.join(", ")
+            ),
+            problem: false,
+        });
     }
     out
 }

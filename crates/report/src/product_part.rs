@@ -14,17 +14,9 @@ use crate::markup::Html;
 use crate::plot::format_number;
 use echobench_harness::runner::room_name;
 use echobench_harness::summary::{
-    rate_label, DetectorSummary, Estimate, MissReason, OperatingSummary, SceneOutcome, MISS_PD,
+    calibration_statements, DetectorSummary, Estimate, MissReason, OperatingSummary, SceneOutcome,
+    MISS_PD,
 };
-
-/// One statement about a product's calibration, as the console prints it.
-#[derive(Debug, Clone, PartialEq)]
-pub(crate) struct Statement {
-    /// The words.
-    pub(crate) text: String,
-    /// Whether it reports a shortcoming (a target rate the calibration cannot resolve).
-    pub(crate) problem: bool,
-}
 
 /// The threshold rule of a product in the console's words.
 pub(crate) fn rule_words(rule: &str) -> &'static str {
@@ -33,93 +25,6 @@ pub(crate) fn rule_words(rule: &str) -> &'static str {
     } else {
         "met in every room (worst room)"
     }
-}
-
-/// What a product's calibration resolved: the same statements, with the same numbers, as
-/// the console's verdict (`echobench_harness::summary::console_table`), one per line there.
-pub(crate) fn calibration_statements(
-    detectors: &[&DetectorSummary],
-    rates: &[f64],
-) -> Vec<Statement> {
-    let mut out = Vec::new();
-    let Some(first) = detectors.first() else {
-        return out;
-    };
-    let first_op = first.operating_points.first();
-    let hours: Vec<f64> = first_op
-        .map(|o| {
-            o.calibration_rooms
-                .iter()
-                .map(|r| r.exposure_hours)
-                .filter(|h| *h > 0.0)
-                .collect()
-        })
-        .unwrap_or_default();
-    let worst_room = first_op.is_some_and(|o| o.rule == "worst_room");
-    let (low, high) = hours
-        .iter()
-        .fold((f64::INFINITY, 0.0f64), |(l, h), x| (l.min(*x), h.max(*x)));
-    let text = if worst_room && !hours.is_empty() {
-        format!(
-            "thresholds chosen so that each target is met in every room, on {low:.2}–{high:.2} h of noise-only time per room"
-        )
-    } else {
-        format!(
-            "thresholds chosen on {:.2} h of pooled noise-only time",
-            first_op.map_or(0.0, |o| o.calibration_exposure_hours)
-        )
-    };
-    out.push(Statement {
-        text,
-        problem: false,
-    });
-    for (o, rate) in rates.iter().enumerate() {
-        let resolved = detectors
-            .iter()
-            .all(|d| d.operating_points.get(o).is_some_and(|p| p.resolved));
-        // Zero alarms in T hours bound the rate at −ln(0.05)/T at 95 % (Garwood 1936), the
-        // harness's `summary::resolves`.
-        let need = -(0.05f64.ln()) / rate;
-        let text = if resolved {
-            format!(
-                "{}: resolved (at least {need:.1} h per room, where zero alarms bound the rate below the target at 95 %)",
-                rate_label(*rate)
-            )
-        } else {
-            format!(
-                "{}: NOT resolved: it needs {need:.1} h per room; its threshold is the lowest with no more calibration alarms than the time allows, so its Pd is optimistic about false alarms",
-                rate_label(*rate)
-            )
-        };
-        out.push(Statement {
-            text,
-            problem: !resolved,
-        });
-    }
-    if worst_room {
-        let parts: Vec<String> = detectors
-            .iter()
-            .filter_map(|d| {
-                let op = d.operating_points.first()?;
-                Some(format!(
-                    "{} ← {}",
-                    d.label,
-                    op.limiting_room
-                        .as_deref()
-                        .unwrap_or("none (lowest threshold)")
-                ))
-            })
-            .collect();
-        out.push(Statement {
-            text: format!(
-                "room that set each threshold @ {}: {}",
-                rates.first().map_or_else(String::new, |r| rate_label(*r)),
-                parts.join(", ")
-            ),
-            problem: false,
-        });
-    }
-    out
 }
 
 /// The heading block of a product's part: its facts, as a definition list.
