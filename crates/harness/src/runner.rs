@@ -885,10 +885,15 @@ fn run_product(
 
 /// Calibration trials per scene variant whose score traces are kept to place the
 /// threshold grid (the first ones by trial index); the others are scored and dropped.
+/// The grid only has to span the scores (its counts are exact either way, see
+/// [`calibrate`]); 24 is the test-trial count of the default suite, whose trials were
+/// enough to place its grid before calibration was streamed, and keeps the pilot's
+/// memory to a few megabytes per product.
 pub const PILOT_TRIALS: u64 = 24;
 
 /// Most thresholds added above the pilot grid for the scores that only the streamed
-/// calibration trials reach.
+/// calibration trials reach: about half the pilot grid's default 120 again, so the rare
+/// rates' tail is resolved as finely as the grid's own upper tail (a choice of ours).
 const TAIL_THRESHOLDS: usize = 64;
 
 /// One detector's calibration: the grid and the false alarms at each of its thresholds.
@@ -1415,7 +1420,7 @@ fn tally_trial(
     v.max_scores
         .push((trial_index, if max.is_finite() { max } else { 0.0 }));
     for s in scores {
-        if truth.event_at(s.t_s).is_none() {
+        if truth.is_noise_time(s.t_s) {
             v.noise_frames += 1;
             if nominal.is_some_and(|n| s.value >= n) {
                 v.noise_frames_above_nominal += 1;
