@@ -9,6 +9,7 @@
 //! ([`fastmath`]), whose results do not depend on the platform's maths library.
 #![deny(missing_docs)]
 
+pub mod alarm_statistic;
 pub mod atomic;
 pub mod detector;
 pub mod doppler;

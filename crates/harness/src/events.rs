@@ -88,8 +88,8 @@
 //! ([`AlarmTracker`] plus a linear window search); the tests check that the
 //! two agree exactly on random traces.
 
+use echobench_core::alarm_statistic::MOfNStatistic;
 use echobench_core::{merge_intervals, Interval, Score};
-use std::cmp::Ordering;
 use std::fmt;
 
 /// Rounding allowance of the hold comparison, seconds (see the module doc).
@@ -666,65 +666,6 @@ fn frame_ns(t_s: f64) -> Option<i64> {
     t_s.is_finite().then(|| (t_s * 1e9).round() as i64)
 }
 
-/// Orders scores with NaN below everything, `-inf` included: a NaN frame is a
-/// false decision at every threshold.
-fn nan_lowest(a: f64, b: f64) -> Ordering {
-    match (a.is_nan(), b.is_nan()) {
-        (true, true) => Ordering::Equal,
-        (true, false) => Ordering::Less,
-        (false, true) => Ordering::Greater,
-        (false, false) => a.total_cmp(&b),
-    }
-}
-
-/// Sliding M-th largest of the last N scores; NaN when fewer than M frames
-/// have a number (then the condition is false at every threshold).
-struct AlarmStatistic {
-    m: usize,
-    n: usize,
-    recent: Vec<f64>,
-    next_slot: usize,
-    sorted: Vec<f64>,
-}
-
-impl AlarmStatistic {
-    fn new(rule: MOfN) -> Self {
-        AlarmStatistic {
-            m: rule.m,
-            n: rule.n,
-            recent: Vec::with_capacity(rule.n),
-            next_slot: 0,
-            sorted: Vec::with_capacity(rule.n),
-        }
-    }
-
-    fn push(&mut self, value: f64) -> f64 {
-        if self.n == 1 {
-            return value;
-        }
-        if self.recent.len() < self.n {
-            self.recent.push(value);
-        } else {
-            let leaving = std::mem::replace(&mut self.recent[self.next_slot], value);
-            if let Ok(at) = self
-                .sorted
-                .binary_search_by(|probe| nan_lowest(*probe, leaving))
-            {
-                self.sorted.remove(at);
-            }
-        }
-        self.next_slot = (self.next_slot + 1) % self.n;
-        let at = self
-            .sorted
-            .partition_point(|probe| nan_lowest(*probe, value) == Ordering::Less);
-        self.sorted.insert(at, value);
-        match self.sorted.len().checked_sub(self.m) {
-            Some(index) => self.sorted[index],
-            None => f64::NAN,
-        }
-    }
-}
-
 /// Scores one trial at every threshold of a grid in a single pass over the
 /// trace (see the module doc). Results come in the order of `thresholds`,
 /// which need not be sorted; each equals [`score_threshold`] at that threshold.
@@ -750,7 +691,7 @@ pub fn score_thresholds(
     // Last frame each threshold's condition was on inside a window or ignored interval.
     let mut last_excused_s = vec![f64::NEG_INFINITY; sorted.len()];
 
-    let mut statistic = AlarmStatistic::new(logic.m_of_n);
+    let mut statistic = MOfNStatistic::new(logic.m_of_n.m, logic.m_of_n.n);
     let mut previous = f64::NAN;
     // False-on time per sorted threshold as a difference array: a noise frame adds its
     // duration to every threshold the statistic reaches, a prefix of the sorted grid.

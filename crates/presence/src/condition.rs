@@ -1,7 +1,9 @@
-//! The per-frame alarm condition (threshold, then M-of-N), re-implemented so that this crate
-//! does not depend on the harness; the semantics are the intrusion scoring's.
+//! The per-frame alarm condition (threshold, then M-of-N), from the same M-of-N statistic
+//! the intrusion scorer uses (`echobench_core::alarm_statistic`), so both kinds of product
+//! agree on when the condition holds.
 
 use crate::PresenceError;
+use echobench_core::alarm_statistic::MOfNStatistic;
 use echobench_core::Score;
 
 /// The M-of-N rule: the condition holds when at least `m` of the last `n` frame decisions are
@@ -78,21 +80,45 @@ pub struct ConditionFrame {
 /// assert_eq!(frames[0].t_ns, 500_000_000);
 /// ```
 pub fn condition_frames(trace: &[Score], threshold: f64, rule: MOfN) -> Vec<ConditionFrame> {
-    let mut recent = vec![false; rule.n];
-    let mut next_slot = 0;
-    let mut true_count = 0usize;
+    statistic_frames(trace, rule)
+        .iter()
+        .map(|frame| frame.condition(threshold))
+        .collect()
+}
+
+/// One frame of the M-of-N alarm statistic, placed in time: the condition holds at
+/// threshold θ exactly when `statistic >= θ` (NaN never does). One pass gives the
+/// condition at every threshold; [`crate::false_switch_ons_at`] relies on it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StatisticFrame {
+    /// The frame's end, whole nanoseconds.
+    pub t_ns: i64,
+    /// The M-th largest of the last N scores (NaN while fewer than M have a number).
+    pub statistic: f64,
+}
+
+impl StatisticFrame {
+    /// The condition of this frame at `threshold`.
+    pub fn condition(&self, threshold: f64) -> ConditionFrame {
+        ConditionFrame {
+            t_ns: self.t_ns,
+            on: self.statistic >= threshold,
+        }
+    }
+}
+
+/// The alarm statistic of every frame of `trace` (the intrusion scorer's, from
+/// `echobench_core::alarm_statistic`); frames whose `t_s` is not finite take part in the
+/// window but are left out of the result.
+pub fn statistic_frames(trace: &[Score], rule: MOfN) -> Vec<StatisticFrame> {
+    let mut statistic = MOfNStatistic::new(rule.m, rule.n);
     let mut frames = Vec::with_capacity(trace.len());
     for score in trace {
-        let decision = score.value >= threshold;
-        if let Some(slot) = recent.get_mut(next_slot) {
-            let leaving = std::mem::replace(slot, decision);
-            true_count = true_count + usize::from(decision) - usize::from(leaving);
-            next_slot = (next_slot + 1) % rule.n;
-        }
+        let value = statistic.push(score.value);
         if score.t_s.is_finite() {
-            frames.push(ConditionFrame {
+            frames.push(StatisticFrame {
                 t_ns: (score.t_s * 1e9).round() as i64,
-                on: true_count >= rule.m,
+                statistic: value,
             });
         }
     }

@@ -71,13 +71,15 @@
 #![deny(missing_docs)]
 
 mod condition;
+mod grid;
 mod pin;
 mod rates;
 mod score;
 mod sweep;
 mod truth;
 
-pub use condition::{condition_frames, ConditionFrame, MOfN};
+pub use condition::{condition_frames, statistic_frames, ConditionFrame, MOfN, StatisticFrame};
+pub use grid::false_switch_ons_at;
 pub use pin::{OutputPin, Timer};
 pub use rates::{gamma_weighted_interval, LatencyQuantile, OccupiedKind, RateEstimate};
 pub use score::{score_trial, tally_pin, PresenceTally};

@@ -111,6 +111,78 @@ impl PresenceTruth {
         })
     }
 
+    /// The timeline of a trial from the scene's truth: *moving* while some target moves
+    /// inside the coverage zone (`moving`, the intrusion events), *still* while one is
+    /// inside it without moving (`still`) and nobody moves, *empty* otherwise. Intervals
+    /// may overlap and come in any order; they are clipped to `[0, duration_s]`.
+    ///
+    /// # Errors
+    /// A duration that is not finite and > 0 or above [`crate::MAX_TIME_S`], or an
+    /// interval bound that is not finite.
+    ///
+    /// ```
+    /// use echobench_core::Interval;
+    /// use echobench_presence::{Occupancy, PresenceTruth};
+    /// let iv = |a, b| Interval::new(a, b).unwrap();
+    /// let truth = PresenceTruth::from_intervals(10.0, &[iv(1.0, 3.0), iv(8.0, 9.0)], &[iv(2.5, 8.5)])
+    ///     .unwrap();
+    /// assert_eq!(truth.occupancy_at(2_000_000_000), Occupancy::OccupiedMoving);
+    /// assert_eq!(truth.occupancy_at(5_000_000_000), Occupancy::OccupiedStill);
+    /// assert_eq!(truth.occupancy_at(9_500_000_000), Occupancy::Empty);
+    /// assert_eq!(truth.occupied_periods(), vec![(1_000_000_000, 9_000_000_000)]);
+    /// ```
+    pub fn from_intervals(
+        duration_s: f64,
+        moving: &[Interval],
+        still: &[Interval],
+    ) -> Result<Self, PresenceError> {
+        let duration_ns = seconds_to_ns("duration_s", duration_s)?;
+        if duration_ns <= 0 {
+            return Err(PresenceError::InvalidParameter {
+                name: "duration_s",
+                value: duration_s,
+                allowed: "> 0",
+            });
+        }
+        let clipped = |list: &[Interval]| -> Result<Vec<(i64, i64)>, PresenceError> {
+            let mut out = Vec::with_capacity(list.len());
+            for interval in list {
+                let start = seconds_to_ns("truth interval start", interval.start_s().max(0.0))?;
+                let end = seconds_to_ns("truth interval end", interval.end_s().max(0.0))?;
+                let (start, end) = (start.min(duration_ns), end.min(duration_ns));
+                if start < end {
+                    out.push((start, end));
+                }
+            }
+            Ok(out)
+        };
+        let (moving, still) = (clipped(moving)?, clipped(still)?);
+        // Every boundary, then the label of each elementary piece between two of them.
+        let mut cuts: Vec<i64> = vec![0, duration_ns];
+        for &(a, b) in moving.iter().chain(&still) {
+            cuts.push(a);
+            cuts.push(b);
+        }
+        cuts.sort_unstable();
+        cuts.dedup();
+        let inside = |list: &[(i64, i64)], t: i64| list.iter().any(|&(a, b)| a <= t && t < b);
+        let segments: Vec<Segment> = cuts
+            .windows(2)
+            .map(|w| Segment {
+                start_ns: w[0],
+                end_ns: w[1],
+                occupancy: if inside(&moving, w[0]) {
+                    Occupancy::OccupiedMoving
+                } else if inside(&still, w[0]) {
+                    Occupancy::OccupiedStill
+                } else {
+                    Occupancy::Empty
+                },
+            })
+            .collect();
+        PresenceTruth::from_segments(&segments)
+    }
+
     /// The segments, merged, in time order.
     pub fn segments(&self) -> &[Segment] {
         &self.segments
