@@ -1,0 +1,234 @@
+//! Threshold choice: the stability table a report plots, and an automatic rule.
+//!
+//! # The table (Coles 2001, §4.3.1 and §4.3.4)
+//!
+//! For each candidate threshold `u` (clusters re-formed at each `u`): the number of cluster
+//! maxima above it; the shape ξ with its profile-likelihood interval; the *modified scale*
+//! `σ* = σ_u − ξ u`, which does not depend on `u` once the GPD holds (Coles 2001, §4.3.4),
+//! with a delta-method interval from the observed information
+//! (`Var σ* = Var σ − 2u Cov(σ, ξ) + u² Var ξ`, ibid.); the mean excess `mean(max − u)`
+//! with a normal interval (Coles 2001, §4.3.1: above a valid threshold it is linear in `u`,
+//! `(σ_u0 + ξ (u − u0))/(1 − ξ)` for ξ < 1); and the goodness-of-fit test at that `u`.
+//!
+//! # The automatic rule
+//!
+//! Coles (2001, §4.3.4) picks the lowest threshold above which the estimates of ξ and σ* are
+//! constant up to sampling error. Automated here ([`choose_threshold`]): the lowest candidate
+//! with at least `min_exceedances` cluster maxima whose fit is regular and not rejected by the
+//! Anderson–Darling test, and such that the point estimates of ξ and σ* at *every* higher
+//! candidate (with a regular fit) lie inside its own intervals. The minimum count is a rule of
+//! thumb of the trade (common practice; with fewer than a few dozen exceedances the ξ interval
+//! spans several tail types).
+//!
+//! **Limits.** The estimates at neighbouring thresholds share data, so they move together and
+//! the check is lenient; intervals widen with `u`, so high candidates are easy to accept and
+//! the rule can only be as good as the grid's low end (a grid that starts above the bias
+//! region cannot show it). The rule is a screening step: the table is there to be looked at.
+
+use crate::alarm::TailAccumulator;
+use crate::error::{check_confidence, parameter, TailError};
+use crate::fit::{Estimate, TailFit, Verdict};
+use crate::gof::GoodnessOfFit;
+use statrs::distribution::{ContinuousCDF, Normal};
+
+/// One candidate threshold of the stability table.
+#[derive(Debug, Clone)]
+pub struct StabilityRow {
+    /// The candidate threshold u.
+    pub threshold: f64,
+    /// Cluster maxima strictly above u.
+    pub exceedances: usize,
+    /// Mean excess of the cluster maxima over u, with a normal interval (`None` below two
+    /// exceedances).
+    pub mean_excess: Option<Estimate>,
+    /// ξ with its profile-likelihood interval (`None` when too few exceedances to fit).
+    pub xi: Option<Estimate>,
+    /// σ* = σ − ξ u with its delta-method interval (`None` when the fit or its information
+    /// matrix is unavailable).
+    pub modified_scale: Option<Estimate>,
+    /// The goodness-of-fit test (`None` without a fit).
+    pub goodness_of_fit: Option<GoodnessOfFit>,
+    /// The fit's verdict at the table's level (`None` without a fit).
+    pub verdict: Option<Verdict>,
+}
+
+/// The automatic threshold rule's settings (module doc).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ThresholdRule {
+    /// The fewest cluster maxima above a threshold it may choose.
+    pub min_exceedances: usize,
+    /// Confidence of the ξ and σ* intervals.
+    pub confidence: f64,
+    /// Significance level of the goodness-of-fit test.
+    pub gof_level: f64,
+}
+
+impl Default for ThresholdRule {
+    /// 30 exceedances (common practice), 95 % intervals, a 5 % test.
+    fn default() -> Self {
+        ThresholdRule {
+            min_exceedances: 30,
+            confidence: 0.95,
+            gof_level: 0.05,
+        }
+    }
+}
+
+/// Up to `count` candidate thresholds, ascending, spaced so that the number of cluster
+/// maxima above them falls geometrically from all clusters at the floor to `min_exceedances`
+/// (each candidate sits on a cluster maximum of the floor's clustering, so the count above
+/// it at its own clustering is at least the planned one).
+///
+/// # Errors
+/// When `count < 2`, `min_exceedances < crate::MIN_EXCESSES`, or too few clusters.
+pub fn candidate_thresholds(
+    acc: &TailAccumulator,
+    count: usize,
+    min_exceedances: usize,
+) -> Result<Vec<f64>, TailError> {
+    if count < 2 {
+        return Err(parameter("count", count as f64, ">= 2"));
+    }
+    if min_exceedances < crate::MIN_EXCESSES {
+        return Err(parameter(
+            "min_exceedances",
+            min_exceedances as f64,
+            ">= MIN_EXCESSES",
+        ));
+    }
+    let mut maxima: Vec<f64> = acc
+        .clusters(acc.floor())?
+        .into_iter()
+        .map(|c| c.max)
+        .collect();
+    maxima.sort_by(|a, b| b.total_cmp(a));
+    let total = maxima.len();
+    if total <= min_exceedances {
+        return Err(TailError::TooFewExceedances {
+            found: total,
+            needed: min_exceedances + 1,
+        });
+    }
+    // k_i from total − 1 down to min_exceedances, geometric; u_i = the (k_i + 1)-th largest,
+    // so k_i maxima lie strictly above it (fewer with ties).
+    let hi = (total - 1) as f64;
+    let lo = min_exceedances as f64;
+    let mut out: Vec<f64> = (0..count)
+        .map(|i| {
+            let f = i as f64 / (count - 1) as f64;
+            let k = (hi * (lo / hi).powf(f)).round() as usize;
+            maxima[k.min(total - 1)]
+        })
+        .collect();
+    out.sort_by(f64::total_cmp);
+    out.dedup();
+    Ok(out)
+}
+
+/// The stability table over `thresholds` (module doc).
+///
+/// # Errors
+/// When `confidence` or `gof_level` is not in (0, 1), or a threshold is below the
+/// accumulator's floor.
+pub fn stability_table(
+    acc: &TailAccumulator,
+    thresholds: &[f64],
+    confidence: f64,
+    gof_level: f64,
+) -> Result<Vec<StabilityRow>, TailError> {
+    check_confidence(confidence)?;
+    if !(gof_level > 0.0 && gof_level < 1.0) {
+        return Err(parameter("gof_level", gof_level, "strictly between 0 and 1"));
+    }
+    let z = Normal::standard().inverse_cdf(0.5 * (1.0 + confidence));
+    let mut rows = Vec::with_capacity(thresholds.len());
+    for &u in thresholds {
+        let excesses = acc.excesses(u)?;
+        let n = excesses.len();
+        let mean_excess = (n >= 2).then(|| {
+            let mean = excesses.iter().sum::<f64>() / n as f64;
+            let var = excesses.iter().map(|e| (e - mean).powi(2)).sum::<f64>() / (n - 1) as f64;
+            let half = z * (var / n as f64).sqrt();
+            Estimate {
+                value: mean,
+                lower: mean - half,
+                upper: mean + half,
+            }
+        });
+        let mut row = StabilityRow {
+            threshold: u,
+            exceedances: n,
+            mean_excess,
+            xi: None,
+            modified_scale: None,
+            goodness_of_fit: None,
+            verdict: None,
+        };
+        if let Ok(fit) = TailFit::from_excesses(u, &excesses, acc.exposure_h()) {
+            let g = fit.gpd();
+            let (lo, hi) = fit.gpd_fit().xi_interval(confidence)?;
+            row.xi = Some(Estimate {
+                value: g.xi(),
+                lower: lo,
+                upper: hi,
+            });
+            row.modified_scale = fit.gpd_fit().covariance().map(|[vs, c, vx]| {
+                let value = g.sigma() - g.xi() * u;
+                let var = vs - 2.0 * u * c + u * u * vx;
+                let half = z * var.max(0.0).sqrt();
+                Estimate {
+                    value,
+                    lower: value - half,
+                    upper: value + half,
+                }
+            });
+            row.goodness_of_fit = Some(fit.goodness_of_fit());
+            row.verdict = Some(fit.verdict(gof_level));
+        }
+        rows.push(row);
+    }
+    Ok(rows)
+}
+
+/// The index of the threshold the automatic rule chooses in `table` (ascending thresholds),
+/// or `None` when no candidate qualifies: then extrapolation is not supported by the data
+/// and the caller falls back to the brute-force bound.
+pub fn choose_threshold(table: &[StabilityRow], rule: &ThresholdRule) -> Option<usize> {
+    let regular = |r: &StabilityRow| r.xi.is_some() && r.verdict != Some(Verdict::Boundary);
+    for (i, row) in table.iter().enumerate() {
+        if row.exceedances < rule.min_exceedances || !regular(row) {
+            continue;
+        }
+        if row.verdict != Some(Verdict::Usable) {
+            continue;
+        }
+        let xi = row.xi.expect("regular rows have ξ");
+        let stable = table[i + 1..].iter().filter(|r| regular(r)).all(|r| {
+            let xi_ok = xi.contains(r.xi.expect("regular").value);
+            let scale_ok = match (row.modified_scale, r.modified_scale) {
+                (Some(s), Some(t)) => s.contains(t.value),
+                _ => true,
+            };
+            xi_ok && scale_ok
+        });
+        if stable {
+            return Some(i);
+        }
+    }
+    None
+}
+
+/// Builds the stability table over `thresholds` with `rule`'s confidence and test level and
+/// applies [`choose_threshold`]: the table for the report and the chosen index.
+///
+/// # Errors
+/// As [`stability_table`].
+pub fn choose_from(
+    acc: &TailAccumulator,
+    thresholds: &[f64],
+    rule: &ThresholdRule,
+) -> Result<(Vec<StabilityRow>, Option<usize>), TailError> {
+    let table = stability_table(acc, thresholds, rule.confidence, rule.gof_level)?;
+    let chosen = choose_threshold(&table, rule);
+    Ok((table, chosen))
+}
