@@ -3,11 +3,13 @@
 //!
 //! # Semantics (what the brute-force test checks)
 //!
-//! **Alarm statistic.** With scores `x_k` of one trial (a NaN score counts as `−inf`: it
-//! never reaches a threshold), `s_k` is the M-th largest of the window
-//! `x_{k−N+1} … x_k`, frames before the first counting as `−inf`. The M-of-N alarm
-//! condition at threshold `v` ("at least M of the last N scores are `>= v`") holds at frame
-//! `k` exactly when `s_k >= v`, so one trace of `s` serves every threshold.
+//! **Alarm statistic.** With scores `x_k` of one trial, `s_k` is the M-th largest of the
+//! window `x_{k−N+1} … x_k` (NaN scores ordered below everything, frames before the first
+//! absent; `s_k` is NaN, reaching no threshold, while fewer than M numbers are in the
+//! window). The M-of-N alarm condition at threshold `v` ("at least M of the last N scores
+//! are `>= v`") holds at frame `k` exactly when `s_k >= v`, so one trace of `s` serves every
+//! threshold. This is `echobench_core::alarm_statistic::MOfNStatistic`, the one the
+//! intrusion and presence scorers use, so all three agree on when the condition holds.
 //!
 //! **Runs declustering at level `v`** (Smith & Weissman 1994; Coles 2001, §5.3.2, with the
 //! run length measured in time). The exceedance frames of a trial are those with
@@ -48,6 +50,7 @@
 //! any split.
 
 use crate::error::{parameter, TailError};
+use echobench_core::alarm_statistic::MOfNStatistic;
 
 /// Rounding allowance of the gap comparison, seconds: a gap that equals `hold_s` up to the
 /// rounding of frame times separates clusters (the intrusion scoring's hold tolerance).
@@ -91,69 +94,9 @@ impl AlarmRule {
     }
 }
 
-/// The M-of-N alarm statistic as a streaming filter: push scores in time order, get `s_k`.
-///
-/// Keeps the last N scores in a ring and a sorted copy, so a push costs O(N).
-#[derive(Debug, Clone)]
-pub struct MOfNStatistic {
-    m: usize,
-    n: usize,
-    ring: Vec<f64>,
-    next: usize,
-    sorted: Vec<f64>,
-}
-
-impl MOfNStatistic {
-    /// A filter in its switched-on state (no frames seen).
-    pub fn new(rule: &AlarmRule) -> Self {
-        MOfNStatistic {
-            m: rule.m,
-            n: rule.n,
-            ring: Vec::with_capacity(rule.n),
-            next: 0,
-            sorted: Vec::with_capacity(rule.n),
-        }
-    }
-
-    /// Pushes one score and returns the statistic at that frame (`−inf` while fewer than M
-    /// frames have been seen).
-    pub fn push(&mut self, score: f64) -> f64 {
-        let v = if score.is_nan() {
-            f64::NEG_INFINITY
-        } else {
-            score
-        };
-        if self.n == 1 {
-            return v;
-        }
-        if self.ring.len() < self.n {
-            self.ring.push(v);
-        } else {
-            let old = std::mem::replace(&mut self.ring[self.next], v);
-            self.next = (self.next + 1) % self.n;
-            let at = self
-                .sorted
-                .binary_search_by(|p| p.total_cmp(&old))
-                .expect("window value is in the sorted copy");
-            self.sorted.remove(at);
-        }
-        let at = self
-            .sorted
-            .binary_search_by(|p| p.total_cmp(&v))
-            .unwrap_or_else(|i| i);
-        self.sorted.insert(at, v);
-        let len = self.sorted.len();
-        if len >= self.m {
-            self.sorted[len - self.m]
-        } else {
-            f64::NEG_INFINITY
-        }
-    }
-}
-
 /// The alarm statistic of a whole trace (see the module doc).
 pub fn alarm_statistic(rule: &AlarmRule, scores: &[f64]) -> Vec<f64> {
-    let mut filter = MOfNStatistic::new(rule);
+    let mut filter = MOfNStatistic::new(rule.m, rule.n);
     scores.iter().map(|&x| filter.push(x)).collect()
 }
 
@@ -316,7 +259,7 @@ impl TailAccumulator {
     pub fn scan(&self, key: u64) -> TrialScan {
         TrialScan {
             key,
-            statistic: MOfNStatistic::new(&self.rule),
+            statistic: MOfNStatistic::new(self.rule.m, self.rule.n),
             floor: self.floor,
             max_kept: self.max_kept,
             frames: Vec::new(),
@@ -545,9 +488,10 @@ mod tests {
     fn m_of_n_statistic_is_the_mth_largest_of_the_padded_window() {
         let rule = AlarmRule::new(2, 3, 0.0).unwrap();
         let s = alarm_statistic(&rule, &[5.0, 1.0, f64::NAN, 7.0, 3.0, 2.0]);
-        let ninf = f64::NEG_INFINITY;
-        // Windows: [5] → −inf, [5,1] → 1, [5,1,NaN] → 1, [1,NaN,7] → 1, [NaN,7,3] → 3, [7,3,2] → 3.
-        assert_eq!(s, vec![ninf, 1.0, 1.0, 1.0, 3.0, 3.0]);
+        // Windows: [5] → none, [5,1] → 1, [5,1,NaN] → 1, [1,NaN,7] → 1, [NaN,7,3] → 3,
+        // [7,3,2] → 3.
+        assert!(s[0].is_nan());
+        assert_eq!(s[1..], [1.0, 1.0, 1.0, 3.0, 3.0]);
     }
 
     #[test]

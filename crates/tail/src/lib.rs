@@ -49,8 +49,7 @@ mod solve;
 pub mod threshold;
 
 pub use alarm::{
-    alarm_statistic, AlarmRule, Cluster, MOfNStatistic, TailAccumulator, TrialScan,
-    HOLD_TOLERANCE_S,
+    alarm_statistic, AlarmRule, Cluster, TailAccumulator, TrialScan, HOLD_TOLERANCE_S,
 };
 pub use error::TailError;
 pub use fit::{Estimate, TailFit, Verdict};
