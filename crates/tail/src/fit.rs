@@ -208,7 +208,7 @@ impl TailFit {
             let upper = crossing(&mut h, c_hat, 1.0, c_hi_limit, 0.25)
                 .map_or(c_hi_limit.exp(), f64::exp);
             Ok(Estimate {
-                value: c_hat.exp(),
+                value: self.rate_per_h(x),
                 lower,
                 upper,
             })
