@@ -168,10 +168,7 @@ impl TrialScan {
         if s >= self.floor {
             self.frames.push((t_s, s));
             if self.frames.len() > self.max_kept.saturating_mul(2) {
-                let v = kth_largest(
-                    self.frames.iter().map(|f| f.1).collect(),
-                    self.max_kept,
-                );
+                let v = kth_largest(self.frames.iter().map(|f| f.1).collect(), self.max_kept);
                 self.floor = self.floor.max(v);
                 let floor = self.floor;
                 self.frames.retain(|f| f.1 >= floor);
@@ -284,10 +281,13 @@ impl TailAccumulator {
         self.trial_count += 1;
         self.frame_count += scan.frames_seen;
         self.exposure_ns += (duration_s * 1e9).round() as u64;
-        self.absorb(scan.floor, vec![TrialFrames {
-            key: scan.key,
-            frames: scan.frames,
-        }]);
+        self.absorb(
+            scan.floor,
+            vec![TrialFrames {
+                key: scan.key,
+                frames: scan.frames,
+            }],
+        );
         Ok(())
     }
 

@@ -81,7 +81,10 @@ impl fmt::Display for TailError {
                 write!(f, "trial {trial} was added to two accumulators")
             }
             TailError::RuleMismatch => {
-                write!(f, "accumulators with different alarm rules cannot be merged")
+                write!(
+                    f,
+                    "accumulators with different alarm rules cannot be merged"
+                )
             }
         }
     }
@@ -101,6 +104,10 @@ pub(crate) fn check_confidence(confidence: f64) -> Result<f64, TailError> {
     if confidence > 0.0 && confidence < 1.0 {
         Ok(confidence)
     } else {
-        Err(parameter("confidence", confidence, "strictly between 0 and 1"))
+        Err(parameter(
+            "confidence",
+            confidence,
+            "strictly between 0 and 1",
+        ))
     }
 }

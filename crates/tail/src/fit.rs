@@ -39,8 +39,8 @@ use crate::alarm::TailAccumulator;
 use crate::error::{check_confidence, parameter, TailError};
 use crate::gof::{anderson_darling, judge, GoodnessOfFit};
 use crate::gpd::{
-    chi2_1_quantile, crossing, excess_for_log_survival, log_likelihood, max_over_xi, Gpd,
-    GpdFit, XI_MIN,
+    chi2_1_quantile, crossing, excess_for_log_survival, log_likelihood, max_over_xi, Gpd, GpdFit,
+    XI_MIN,
 };
 use crate::solve::{brent_root, grid_then_brent_max};
 
@@ -73,8 +73,8 @@ pub enum Verdict {
         /// The test's p-value (an upper bound when reported as `Below`).
         p_value: f64,
     },
-    /// The fitted shape lies outside the goodness-of-fit table (ξ < −0.9 or ξ > 0.5): the fit
-    /// cannot be checked, so do not use it.
+    /// The fitted shape lies outside the goodness-of-fit table (ξ < −0.5, where the estimate
+    /// is not regular, or ξ > 0.9): the fit cannot be checked, so do not use it.
     Untestable,
     /// The maximum lies on the edge of the searched shapes: not a regular fit.
     Boundary,
@@ -205,8 +205,8 @@ impl TailFit {
         if w_hat.is_finite() {
             let c_hat = a0 + w_hat;
             let lower = crossing(&mut h, c_hat, -1.0, floor, 0.25).map_or(0.0, f64::exp);
-            let upper = crossing(&mut h, c_hat, 1.0, c_hi_limit, 0.25)
-                .map_or(c_hi_limit.exp(), f64::exp);
+            let upper =
+                crossing(&mut h, c_hat, 1.0, c_hi_limit, 0.25).map_or(c_hi_limit.exp(), f64::exp);
             Ok(Estimate {
                 value: self.rate_per_h(x),
                 lower,
@@ -279,8 +279,8 @@ impl TailFit {
         let mut h = |x: f64| profile.at(c, (x - u).max(min_d)) - cut;
         let step = 0.25 * g.sigma();
         let lower = crossing(&mut h, x_hat, -1.0, u + min_d, step).unwrap_or(u);
-        let upper = crossing(&mut h, x_hat, 1.0, x_hat + g.sigma() * 1e9, step)
-            .unwrap_or(f64::INFINITY);
+        let upper =
+            crossing(&mut h, x_hat, 1.0, x_hat + g.sigma() * 1e9, step).unwrap_or(f64::INFINITY);
         Ok(Estimate {
             value: x_hat,
             lower,
@@ -316,11 +316,29 @@ impl<'a> JointProfile<'a> {
         let mut pois = |b: f64| n * (b - b.exp() + 1.0) + delta;
         let b_lo_end = -(delta / n) - 1.0;
         let b_hi_end = (2.0 * delta / n).sqrt();
-        let b_lo = brent_root(&mut pois, b_lo_end, 0.0, pois_at(n, delta, b_lo_end), delta, 1e-12);
-        let b_hi = brent_root(&mut pois, 0.0, b_hi_end, delta, pois_at(n, delta, b_hi_end), 1e-12);
+        let b_lo = brent_root(
+            &mut pois,
+            b_lo_end,
+            0.0,
+            pois_at(n, delta, b_lo_end),
+            delta,
+            1e-12,
+        );
+        let b_hi = brent_root(
+            &mut pois,
+            0.0,
+            b_hi_end,
+            delta,
+            pois_at(n, delta, b_hi_end),
+            1e-12,
+        );
         let g_max = fit.fit.log_likelihood();
         let (xi_lo, xi_hi) = fit.fit.xi_range_above(g_max - delta);
-        let xi_hi = if xi_hi.is_finite() { xi_hi } else { crate::gpd::XI_MAX };
+        let xi_hi = if xi_hi.is_finite() {
+            xi_hi
+        } else {
+            crate::gpd::XI_MAX
+        };
         let xi_lo = xi_lo.max(XI_MIN + 1e-9);
         let max = n * a0 - n + g_max;
         JointProfile {

@@ -27,7 +27,7 @@
 //! `ℓ = −n ln y_max`. A fit whose maximum lies on that boundary is reported as such
 //! ([`GpdFit::at_boundary`]): its intervals are not the regular ones, and callers should not
 //! extrapolate with it. For `−1 < ξ < −0.5` the estimate exists but is not regular (Smith
-//! 1985), which the goodness-of-fit table also does not cover below `ξ = −0.9`.
+//! 1985), which the goodness-of-fit table does not cover either (it starts at ξ = −0.5).
 
 use crate::error::{check_confidence, parameter, TailError};
 use crate::solve::{brent_max, brent_root, grid_then_brent_max};
@@ -299,10 +299,7 @@ impl GpdFit {
             grid[best + 1]
         };
         let slope = |xi: f64| profile_slope(xi, &y, &stats);
-        let (s_lo, s_hi) = (
-            if lo <= XI_MIN { f64::NAN } else { slope(lo) },
-            slope(hi),
-        );
+        let (s_lo, s_hi) = (if lo <= XI_MIN { f64::NAN } else { slope(lo) }, slope(hi));
         let mut xi_hat = if s_lo > 0.0 && s_hi < 0.0 {
             let mut f = |xi: f64| slope(xi);
             brent_root(&mut f, lo, hi, s_lo, s_hi, 1e-13)

@@ -83,11 +83,7 @@ pub(crate) fn brent_root(
         }
         a = b;
         fa = fb;
-        b += if d.abs() > tol1 {
-            d
-        } else {
-            tol1.copysign(xm)
-        };
+        b += if d.abs() > tol1 { d } else { tol1.copysign(xm) };
         fb = f(b);
         if fb.is_nan() {
             // Treat an undefined value as the far side of the bracket (c's sign flipped)

@@ -138,7 +138,11 @@ pub fn stability_table(
 ) -> Result<Vec<StabilityRow>, TailError> {
     check_confidence(confidence)?;
     if !(gof_level > 0.0 && gof_level < 1.0) {
-        return Err(parameter("gof_level", gof_level, "strictly between 0 and 1"));
+        return Err(parameter(
+            "gof_level",
+            gof_level,
+            "strictly between 0 and 1",
+        ));
     }
     let z = Normal::standard().inverse_cdf(0.5 * (1.0 + confidence));
     let mut rows = Vec::with_capacity(thresholds.len());

@@ -50,7 +50,8 @@ fn coverage(name: &str, x_true: f64, mut frame: impl FnMut(&mut rand_chacha::Cha
         for trial in 0..TRIALS {
             let mut scan = acc.scan(trial);
             for k in 0..FRAMES_PER_TRIAL {
-                scan.push((k + 1) as f64 * FRAME_S, frame(&mut rng)).unwrap();
+                scan.push((k + 1) as f64 * FRAME_S, frame(&mut rng))
+                    .unwrap();
             }
             acc.add(scan, FRAMES_PER_TRIAL as f64 * FRAME_S).unwrap();
         }

@@ -8,7 +8,7 @@
 
 mod common;
 
-use echobench_tail::{TailFit, GpdFit};
+use echobench_tail::{GpdFit, TailFit};
 
 const SEEDS: u64 = 50;
 const NEEDED: usize = 44;
@@ -50,7 +50,14 @@ fn extrapolated_rate_and_level_intervals_cover_the_truth() {
         let x_true = 10.0 + sigma * ((-xi * p.ln()).exp_m1()) / xi;
         let (mut rate_hits, mut level_hits) = (0, 0);
         for seed in 0..SEEDS {
-            let fit = simulated_fit(&format!("coverage-rate-{xi}"), seed, lambda_u, t_h, xi, sigma);
+            let fit = simulated_fit(
+                &format!("coverage-rate-{xi}"),
+                seed,
+                lambda_u,
+                t_h,
+                xi,
+                sigma,
+            );
             let rate = fit.rate_interval(x_true, 0.95).unwrap();
             if rate.contains(target) {
                 rate_hits += 1;

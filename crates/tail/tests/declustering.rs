@@ -59,7 +59,11 @@ fn brute_statistic(m: usize, n: usize, x: &[f64]) -> Vec<f64> {
     (0..x.len())
         .map(|k| {
             let from = (k + 1).saturating_sub(n);
-            let mut w: Vec<f64> = x[from..=k].iter().copied().filter(|v| !v.is_nan()).collect();
+            let mut w: Vec<f64> = x[from..=k]
+                .iter()
+                .copied()
+                .filter(|v| !v.is_nan())
+                .collect();
             w.sort_by(|a, b| b.total_cmp(a));
             w.get(m - 1).copied().unwrap_or(f64::NAN)
         })
@@ -118,7 +122,10 @@ fn statistic_matches_sorting_each_window() {
                 let fast = alarm_statistic(&rule, &tr.x);
                 let slow = brute_statistic(m, n, &tr.x);
                 for (a, b) in fast.iter().zip(&slow) {
-                    assert!(a == b || (a.is_nan() && b.is_nan()), "{m}-of-{n}: {a} vs {b}");
+                    assert!(
+                        a == b || (a.is_nan() && b.is_nan()),
+                        "{m}-of-{n}: {a} vs {b}"
+                    );
                 }
             }
         }
@@ -150,7 +157,11 @@ fn cluster_counts_equal_quiet_time_alarm_counts_at_every_level() {
                 for c in &clusters {
                     longest_span_s = longest_span_s.max(c.span_s());
                 }
-                assert_eq!(clusters.len(), quiet, "{m}-of-{n} hold {hold_s} level {level}");
+                assert_eq!(
+                    clusters.len(),
+                    quiet,
+                    "{m}-of-{n} hold {hold_s} level {level}"
+                );
                 assert_eq!(acc.alarm_count(level).unwrap() as usize, quiet);
                 // The product's non-retriggerable count is never lower, and equal when no
                 // cluster lasts a hold (module doc).
@@ -168,12 +179,19 @@ fn cluster_counts_equal_quiet_time_alarm_counts_at_every_level() {
             }
             // Every frame at or above the floor within a cluster; maxima are the frames' maxima.
             let excess = acc.excesses(1.0).unwrap();
-            let maxima: Vec<f64> =
-                acc.clusters(1.0).unwrap().iter().filter(|c| c.max > 1.0).map(|c| c.max - 1.0).collect();
+            let maxima: Vec<f64> = acc
+                .clusters(1.0)
+                .unwrap()
+                .iter()
+                .filter(|c| c.max > 1.0)
+                .map(|c| c.max - 1.0)
+                .collect();
             assert_eq!(excess, maxima);
         }
     }
-    println!("held > quiet: {more_held}, short clusters: {equal_short}, multi-frame: {multi_frame}");
+    println!(
+        "held > quiet: {more_held}, short clusters: {equal_short}, multi-frame: {multi_frame}"
+    );
     assert!(more_held > 0 && equal_short > 0 && multi_frame > 0);
 }
 
@@ -191,8 +209,10 @@ fn results_do_not_depend_on_split_merge_order_or_pruning() {
         for shards in [2, 3, 5] {
             let mut parts: Vec<TailAccumulator> = (0..shards)
                 .map(|s| {
-                    let mine: Vec<&Trace> =
-                        all.iter().filter(|t| t.key as usize % shards == s).collect();
+                    let mine: Vec<&Trace> = all
+                        .iter()
+                        .filter(|t| t.key as usize % shards == s)
+                        .collect();
                     accumulate(rule, &mine, f64::NEG_INFINITY, cap)
                 })
                 .collect();
