@@ -361,7 +361,7 @@ impl<'a> JointProfile<'a> {
 
     /// `max_ξ ℓ(ξ, σ(ξ, w))` with σ set so that `ln P(Y > d) = w`.
     fn gpd_at_log_survival(&self, w: f64, d: f64) -> f64 {
-        if !(w < 0.0) {
+        if w.is_nan() || w >= 0.0 {
             return IMPOSSIBLE;
         }
         let mut g = |xi: f64| {

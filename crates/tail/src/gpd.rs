@@ -12,8 +12,8 @@
 //! `ℓ(ξ, σ) = −n ln σ − (1 + 1/ξ) Σ ln(1 + ξ y_i/σ)` (and `−n ln σ − Σ y_i/σ` at `ξ = 0`).
 //! It is maximised as a profile over `ξ`: for fixed `ξ > −1` the score equation in `σ`,
 //! `(1/n) Σ y_i/(σ + ξ y_i) = 1/(1 + ξ)`, has a left side strictly decreasing in `σ`, so it
-//! has exactly one root `σ̂(ξ)`, found by Brent's method inside the bracket derived in
-//! [`profile_sigma`]. The profile `ℓp(ξ) = ℓ(ξ, σ̂(ξ))` is then maximised over `ξ` on a grid
+//! has exactly one root `σ̂(ξ)`, found by Brent's method inside a bracket from Jensen's
+//! inequality (derived beside the code). The profile `ℓp(ξ) = ℓ(ξ, σ̂(ξ))` is then maximised over `ξ` on a grid
 //! refined by a Brent root of its derivative (by the envelope theorem `dℓp/dξ = ∂ℓ/∂ξ` at
 //! `σ̂(ξ)`), which gives the estimate to near machine precision. This is Grimshaw's (1993)
 //! reduction to one dimension, taken over `ξ` instead of `θ = ξ/σ` so that the search
@@ -444,7 +444,7 @@ pub(crate) fn crossing(
 ) -> Option<f64> {
     let mut prev = start;
     let mut f_prev = f(start);
-    if !(f_prev > 0.0) {
+    if f_prev.is_nan() || f_prev <= 0.0 {
         return Some(start);
     }
     let mut d = step;

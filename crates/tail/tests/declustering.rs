@@ -75,7 +75,7 @@ fn brute_statistic(m: usize, n: usize, x: &[f64]) -> Vec<f64> {
 fn brute_quiet_alarms(t_s: &[f64], s: &[f64], level: f64, hold_s: f64) -> usize {
     let mut count = 0;
     for k in 0..s.len() {
-        if !(s[k] >= level) {
+        if s[k].is_nan() || s[k] < level {
             continue;
         }
         let recent = (0..k).any(|j| s[j] >= level && t_s[k] - t_s[j] < hold_s - TOL_S);
