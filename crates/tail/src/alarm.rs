@@ -51,6 +51,7 @@
 
 use crate::error::{parameter, TailError};
 use echobench_core::alarm_statistic::MOfNStatistic;
+use std::collections::BTreeMap;
 
 /// Rounding allowance of the gap comparison, seconds: a gap that equals `hold_s` up to the
 /// rounding of frame times separates clusters (the intrusion scoring's hold tolerance).
@@ -122,12 +123,8 @@ impl Cluster {
     }
 }
 
-/// One trial's kept frames `(t_s, s_k)`, in time order.
-#[derive(Debug, Clone)]
-struct TrialFrames {
-    key: u64,
-    frames: Vec<(f64, f64)>,
-}
+/// Kept frames `(t_s, s_k)` of one trial, in time order.
+type Frames = Vec<(f64, f64)>;
 
 /// The `k`-th largest statistic (1-based) among `values`.
 fn kth_largest(mut values: Vec<f64>, k: usize) -> f64 {
@@ -210,7 +207,8 @@ pub struct TailAccumulator {
     max_kept: usize,
     floor: f64,
     kept: usize,
-    trials: Vec<TrialFrames>,
+    /// Trials with kept frames, by key (so queries visit them in key order).
+    trials: BTreeMap<u64, Frames>,
     trial_count: u64,
     frame_count: u64,
     exposure_ns: u64,
@@ -235,7 +233,7 @@ impl TailAccumulator {
             max_kept,
             floor: pre_threshold,
             kept: 0,
-            trials: Vec::new(),
+            trials: BTreeMap::new(),
             trial_count: 0,
             frame_count: 0,
             exposure_ns: 0,
@@ -273,21 +271,13 @@ impl TailAccumulator {
         if !(duration_s.is_finite() && duration_s >= 0.0) {
             return Err(parameter("duration_s", duration_s, "finite and >= 0"));
         }
-        if scan.frames.iter().any(|f| f.1 >= self.floor)
-            && self.trials.iter().any(|t| t.key == scan.key)
-        {
+        if scan.frames.iter().any(|f| f.1 >= self.floor) && self.trials.contains_key(&scan.key) {
             return Err(TailError::DuplicateTrial { trial: scan.key });
         }
         self.trial_count += 1;
         self.frame_count += scan.frames_seen;
         self.exposure_ns += (duration_s * 1e9).round() as u64;
-        self.absorb(
-            scan.floor,
-            vec![TrialFrames {
-                key: scan.key,
-                frames: scan.frames,
-            }],
-        );
+        self.absorb(scan.floor, BTreeMap::from([(scan.key, scan.frames)]));
         Ok(())
     }
 
@@ -318,10 +308,8 @@ impl TailAccumulator {
         {
             return Err(TailError::RuleMismatch);
         }
-        for t in &other.trials {
-            if self.trials.iter().any(|s| s.key == t.key) {
-                return Err(TailError::DuplicateTrial { trial: t.key });
-            }
+        if let Some(&key) = other.trials.keys().find(|k| self.trials.contains_key(k)) {
+            return Err(TailError::DuplicateTrial { trial: key });
         }
         self.trial_count += other.trial_count;
         self.frame_count += other.frame_count;
@@ -330,17 +318,17 @@ impl TailAccumulator {
         Ok(())
     }
 
-    fn absorb(&mut self, other_floor: f64, trials: Vec<TrialFrames>) {
+    fn absorb(&mut self, other_floor: f64, trials: BTreeMap<u64, Frames>) {
         if other_floor > self.floor {
             self.floor = other_floor;
             self.prune_below_floor();
         }
-        for mut t in trials {
+        for (key, mut frames) in trials {
             let floor = self.floor;
-            t.frames.retain(|f| f.1 >= floor);
-            if !t.frames.is_empty() {
-                self.kept += t.frames.len();
-                self.trials.push(t);
+            frames.retain(|f| f.1 >= floor);
+            if !frames.is_empty() {
+                self.kept += frames.len();
+                self.trials.insert(key, frames);
             }
         }
         if self.kept > self.max_kept.saturating_mul(2) {
@@ -352,11 +340,11 @@ impl TailAccumulator {
     fn prune_below_floor(&mut self) {
         let floor = self.floor;
         let mut kept = 0;
-        for t in &mut self.trials {
-            t.frames.retain(|f| f.1 >= floor);
-            kept += t.frames.len();
+        for frames in self.trials.values_mut() {
+            frames.retain(|f| f.1 >= floor);
+            kept += frames.len();
         }
-        self.trials.retain(|t| !t.frames.is_empty());
+        self.trials.retain(|_, frames| !frames.is_empty());
         self.kept = kept;
     }
 
@@ -371,8 +359,8 @@ impl TailAccumulator {
         if self.kept > self.max_kept {
             let values = self
                 .trials
-                .iter()
-                .flat_map(|t| t.frames.iter().map(|f| f.1))
+                .values()
+                .flat_map(|frames| frames.iter().map(|f| f.1))
                 .collect();
             kth_largest(values, self.max_kept).max(self.floor)
         } else {
@@ -416,13 +404,11 @@ impl TailAccumulator {
         if level.is_nan() || level < floor {
             return Err(TailError::BelowFloor { level, floor });
         }
-        let mut order: Vec<&TrialFrames> = self.trials.iter().collect();
-        order.sort_by_key(|t| t.key);
         let gap = self.rule.hold_s - HOLD_TOLERANCE_S;
         let mut out = Vec::new();
-        for t in order {
+        for (&key, frames) in &self.trials {
             let mut current: Option<Cluster> = None;
-            for &(t_s, s) in &t.frames {
+            for &(t_s, s) in frames {
                 if s < level {
                     continue;
                 }
@@ -439,7 +425,7 @@ impl TailAccumulator {
                             out.push(c);
                         }
                         current = Some(Cluster {
-                            trial: t.key,
+                            trial: key,
                             start_s: t_s,
                             end_s: t_s,
                             peak_s: t_s,
