@@ -46,7 +46,7 @@
 use crate::reflector::{
     add, cross, hermite_node_rate_hz, scale, Check, ParamError, MIN_NODE_RATE_HZ, NODES_PER_CYCLE,
 };
-use crate::{dot, norm, sub, Echo, MotionModel, Vec3};
+use crate::{dot, norm, sub, Echo, Flash, MotionModel, Vec3};
 use echobench_core::fastmath::sin_cos;
 use std::f64::consts::PI;
 
@@ -337,8 +337,16 @@ impl Fan {
     }
 }
 
-impl MotionModel for Fan {
-    fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>) {
+impl Fan {
+    /// The echoes at `t_s`; with `flashes`, the blades' sinc factors are left
+    /// out of their amplitudes and given there instead (with their rates).
+    fn echoes_into(
+        &self,
+        t_s: f64,
+        sensor_m: Vec3,
+        out: &mut Vec<Echo>,
+        mut flashes: Option<&mut Vec<Flash>>,
+    ) {
         let p = self.params;
         let (running_s, fraction, fraction_rate) = self.running(t_s);
         let omega_full = self.angular_rate_rad_s();
@@ -371,11 +379,34 @@ impl MotionModel for Fan {
             } else {
                 0.0
             };
-            out.push(Echo {
-                position_m: centre,
-                velocity_mps: velocity,
-                amplitude_m: blade_amplitude_m * sinc(wavenumber * 0.5 * blade_length_m * along),
-            });
+            let argument = wavenumber * 0.5 * blade_length_m * along;
+            match flashes.as_deref_mut() {
+                None => out.push(Echo {
+                    position_m: centre,
+                    velocity_mps: velocity,
+                    amplitude_m: blade_amplitude_m * sinc(argument),
+                }),
+                Some(flashes) => {
+                    // d(along)/dt for along = d·l/|l|, with the blade direction d
+                    // turning at ω (d' = ω·cos(tilt)·tangential) and l' the centre's velocity.
+                    let along_rate = if distance > 1e-12 {
+                        let turning = scale(tangential, tilt_c * omega);
+                        (dot(turning, line_of_sight) + dot(direction, velocity)) / distance
+                            - along * dot(line_of_sight, velocity) / (distance * distance)
+                    } else {
+                        0.0
+                    };
+                    out.push(Echo {
+                        position_m: centre,
+                        velocity_mps: velocity,
+                        amplitude_m: blade_amplitude_m,
+                    });
+                    flashes.push(Flash {
+                        argument_rad: argument,
+                        argument_rate_rad_s: wavenumber * 0.5 * blade_length_m * along_rate,
+                    });
+                }
+            }
             (s, c) = (s * step_c + c * step_s, c * step_c - s * step_s);
         }
         out.push(Echo {
@@ -383,13 +414,14 @@ impl MotionModel for Fan {
             velocity_mps: hub_velocity,
             amplitude_m: p.hub_rcs_m2.sqrt(),
         });
+        if let Some(flashes) = flashes {
+            flashes.push(Flash::NONE);
+        }
     }
 
-    fn echo_count(&self) -> usize {
-        self.params.blade_count + 1
-    }
-
-    fn node_rate_hz(&self, wavelength_m: f64) -> f64 {
+    /// Node rate for the ranges alone (Hermite phase error, eight nodes per
+    /// revolution and per mains vibration cycle), without the flashes.
+    fn range_node_rate_hz(&self, wavelength_m: f64) -> f64 {
         let p = &self.params;
         let omega = self.angular_rate_rad_s().abs();
         let omega_mains = 2.0 * PI * 2.0 * p.mains_hz;
@@ -404,6 +436,46 @@ impl MotionModel for Fan {
         if p.mains_vibration_m > 0.0 {
             rate = rate.max(NODES_PER_CYCLE * 2.0 * p.mains_hz);
         }
+        rate
+    }
+}
+
+impl MotionModel for Fan {
+    fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>) {
+        self.echoes_into(t_s, sensor_m, out, None);
+    }
+
+    fn echoes_with_flashes(
+        &mut self,
+        t_s: f64,
+        sensor_m: Vec3,
+        out: &mut Vec<Echo>,
+        flashes: &mut Vec<Flash>,
+    ) {
+        self.echoes_into(t_s, sensor_m, out, Some(flashes));
+    }
+
+    /// The ranges' rate, and the same Hermite criterion for the flash argument
+    /// x = (4π/λ)·(L/2)·ℓ: as if (L/2)·ℓ were a range, whose fourth derivative
+    /// is at most (L/2)·cos(tilt)·Ω⁴ for a blade direction turning at Ω (far
+    /// sensor), so x is interpolated within the phase tolerance (in radians of x).
+    fn flash_node_rate_hz(&self, wavelength_m: f64) -> f64 {
+        let p = &self.params;
+        let half_length_m = 0.5 * (p.tip_radius_m - p.root_radius_m);
+        let fourth = half_length_m * p.blade_tilt_rad.cos() * self.angular_rate_rad_s().powi(4);
+        // The blades' sinc arguments are scaled by the wavelength given at construction.
+        self.range_node_rate_hz(wavelength_m)
+            .max(hermite_node_rate_hz(fourth, self.wavelength_m))
+    }
+
+    fn echo_count(&self) -> usize {
+        self.params.blade_count + 1
+    }
+
+    fn node_rate_hz(&self, wavelength_m: f64) -> f64 {
+        let p = &self.params;
+        let omega = self.angular_rate_rad_s().abs();
+        let mut rate = self.range_node_rate_hz(wavelength_m);
         // The blade amplitudes depend on the wavelength given at construction.
         let blade_length_m = p.tip_radius_m - p.root_radius_m;
         if omega > 0.0 && p.blade_rcs_m2 > 0.0 {
@@ -739,6 +811,126 @@ mod tests {
                 let linear = 0.5 * (samples[i - 1][k].amplitude_m + samples[i + 1][k].amplitude_m);
                 assert!((linear - middle.amplitude_m).abs() < 0.05 * full);
             }
+        }
+    }
+
+    /// Echoes and flashes of the rendering split at `t`.
+    fn split_at(fan: &mut Fan, t: f64, sensor: Vec3) -> (Vec<Echo>, Vec<Flash>) {
+        let (mut echoes, mut flashes) = (Vec::new(), Vec::new());
+        fan.echoes_with_flashes(t, sensor, &mut echoes, &mut flashes);
+        (echoes, flashes)
+    }
+
+    #[test]
+    fn the_split_echoes_times_their_sinc_are_the_echoes() {
+        // The rendering split is the same model: slow amplitude × sinc(x) gives
+        // back the full amplitude (eq. 8.19), positions and velocities unchanged.
+        let lambda = C / 24.125e9;
+        let params = FanParams {
+            imbalance_whirl_m: 1e-4,
+            mains_vibration_m: 1e-5,
+            blade_tilt_rad: 0.2,
+            switch_on_s: 0.01,
+            ..desk_fan(3)
+        };
+        let sensor = sensor_at(2.0, 0.4);
+        let mut whole = Fan::new(params, lambda).unwrap();
+        let mut split = Fan::new(params, lambda).unwrap();
+        for i in 0..3000 {
+            let t = i as f64 * 1.7e-5;
+            let mut full = Vec::new();
+            whole.echoes(t, sensor, &mut full);
+            let (echoes, flashes) = split_at(&mut split, t, sensor);
+            assert_eq!((echoes.len(), flashes.len()), (full.len(), full.len()));
+            for ((e, f), exact) in echoes.iter().zip(&flashes).zip(&full) {
+                assert_eq!(e.position_m, exact.position_m);
+                assert_eq!(e.velocity_mps, exact.velocity_mps);
+                assert_eq!(e.amplitude_m * sinc(f.argument_rad), exact.amplitude_m);
+            }
+            assert_eq!(
+                *flashes.last().unwrap(),
+                Flash::NONE,
+                "the hub has no flash"
+            );
+        }
+    }
+
+    #[test]
+    fn the_flash_argument_rate_is_its_derivative() {
+        // Central differences of x against the analytic ẋ, spinning up (ω varying),
+        // tilted blades, a whirling and humming hub, a near sensor.
+        let lambda = C / 24.125e9;
+        let params = FanParams {
+            imbalance_whirl_m: 1e-4,
+            mains_vibration_m: 1e-5,
+            blade_tilt_rad: -0.3,
+            switch_on_s: 0.0,
+            spin_up_s: 0.5,
+            ..desk_fan(3)
+        };
+        let sensor = sensor_at(0.6, 0.2);
+        let mut fan = Fan::new(params, lambda).unwrap();
+        let dt = 1e-7;
+        for t in [0.1, 0.2371, 0.41, 0.9] {
+            let before = split_at(&mut fan, t - dt, sensor).1;
+            let now = split_at(&mut fan, t, sensor).1;
+            let after = split_at(&mut fan, t + dt, sensor).1;
+            for k in 0..3 {
+                let numeric = (after[k].argument_rad - before[k].argument_rad) / (2.0 * dt);
+                let rate = now[k].argument_rate_rad_s;
+                assert!(
+                    (numeric - rate).abs() <= 1e-5 * rate.abs().max(1.0),
+                    "t {t} blade {k}: {numeric} vs {rate}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn flash_nodes_follow_the_flashes_far_fewer_than_the_amplitude_nodes() {
+        // Rendering nodes at `flash_node_rate_hz`: cubic Hermite x between
+        // nodes stays within the phase tolerance in radians of x (the criterion
+        // the rate is set by), so sinc(x) per sample is within 0.44·0.01 of
+        // the exact factor (|sinc'| ≤ 0.44), where linear interpolation of the
+        // amplitude needed ten nodes per flash.
+        // Without a humming housing the rate is the Hermite one alone (no
+        // eight-per-mains-cycle floor), the hardest case for x.
+        for (f0, vibration_m) in [(2.45e9, 1e-5), (24.125e9, 1e-5), (24.125e9, 0.0)] {
+            let lambda = C / f0;
+            let params = FanParams {
+                mains_vibration_m: vibration_m,
+                imbalance_whirl_m: vibration_m,
+                ..desk_fan(3)
+            };
+            // A fan keeps no state between calls, so its times may be visited in any order.
+            let mut fan = Fan::new(params, lambda).unwrap();
+            let rate = fan.flash_node_rate_hz(lambda);
+            assert!(rate < fan.node_rate_hz(lambda), "{f0}: {rate}");
+            let sensor = sensor_at(3.0, 0.3);
+            let h = 1.0 / rate;
+            let mut worst: f64 = 0.0;
+            for node in 0..200 {
+                let t0 = node as f64 * h;
+                let a = split_at(&mut fan, t0, sensor).1;
+                let b = split_at(&mut fan, t0 + h, sensor).1;
+                for j in 1..8 {
+                    let u = j as f64 / 8.0;
+                    let exact = split_at(&mut fan, t0 + u * h, sensor).1;
+                    for k in 0..3 {
+                        let (x0, x1) = (a[k].argument_rad, b[k].argument_rad);
+                        let (m0, m1) = (h * a[k].argument_rate_rad_s, h * b[k].argument_rate_rad_s);
+                        let x = x0
+                            + u * (m0
+                                + u * ((3.0 * (x1 - x0) - 2.0 * m0 - m1)
+                                    + u * (m0 + m1 - 2.0 * (x1 - x0))));
+                        worst = worst.max((x - exact[k].argument_rad).abs());
+                    }
+                }
+            }
+            assert!(
+                worst <= NODE_PHASE_TOLERANCE_RAD,
+                "{f0}: {rate} Hz, {worst}"
+            );
         }
     }
 

@@ -45,6 +45,33 @@ pub struct Echo {
     pub amplitude_m: f64,
 }
 
+/// A fast factor sinc x = sin x / x of an echo's amplitude, given by its
+/// argument and the argument's rate at a node.
+///
+/// A line scatterer (a fan blade) returns √σ·sinc(x) with x proportional to
+/// the line's component along the line of sight (see [`fan`]); as the line
+/// turns through broadside, x sweeps through zero in a fraction of a
+/// revolution (the flash). The amplitude then changes far faster than the
+/// range, but x itself is as smooth as the range, so the renderer can take x
+/// by cubic Hermite interpolation from its value and rate at the nodes and
+/// evaluate sinc x per sample, with nodes at the range's rate rather than
+/// many per flash ([`MotionModel::echoes_with_flashes`]).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Flash {
+    /// The argument x, rad.
+    pub argument_rad: f64,
+    /// dx/dt, rad/s.
+    pub argument_rate_rad_s: f64,
+}
+
+impl Flash {
+    /// No fast factor: sinc 0 = 1.
+    pub const NONE: Flash = Flash {
+        argument_rad: 0.0,
+        argument_rate_rad_s: 0.0,
+    };
+}
+
 /// A moving thing, seen as point echoes.
 pub trait MotionModel: Send {
     /// Appends this model's echoes at time `t_s` (seconds from trial start).
@@ -56,6 +83,33 @@ pub trait MotionModel: Send {
     /// the actor is present (the synthesizer pairs echoes between nodes by index),
     /// so models that appear and disappear keep their echo count and ramp amplitudes.
     fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>);
+
+    /// Like [`echoes`](MotionModel::echoes), for rendering: the same echoes, but an
+    /// echo whose amplitude holds a fast sinc factor gives its amplitude without
+    /// it and the factor's argument in `flashes` (one entry appended per echo,
+    /// [`Flash::NONE`] where there is none). The renderer multiplies the
+    /// amplitude by sinc of the interpolated argument at every sample, and
+    /// places its nodes at [`flash_node_rate_hz`](MotionModel::flash_node_rate_hz).
+    /// By default every echo has [`Flash::NONE`].
+    fn echoes_with_flashes(
+        &mut self,
+        t_s: f64,
+        sensor_m: Vec3,
+        out: &mut Vec<Echo>,
+        flashes: &mut Vec<Flash>,
+    ) {
+        self.echoes(t_s, sensor_m, out);
+        flashes.resize(out.len(), Flash::NONE);
+    }
+
+    /// The node rate, Hz, for rendering through
+    /// [`echoes_with_flashes`](MotionModel::echoes_with_flashes): the ranges, the
+    /// slow amplitudes and the flash arguments interpolated as accurately as
+    /// [`node_rate_hz`](MotionModel::node_rate_hz) promises for the whole echo.
+    /// By default the same as `node_rate_hz`.
+    fn flash_node_rate_hz(&self, wavelength_m: f64) -> f64 {
+        self.node_rate_hz(wavelength_m)
+    }
 
     /// Number of echoes [`echoes`](MotionModel::echoes) appends on every call.
     fn echo_count(&self) -> usize;

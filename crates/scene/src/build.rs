@@ -387,8 +387,11 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
     let tracks: Vec<ActorTrack> = models
         .into_iter()
         .map(|model| {
-            let samples_per_node =
-                (sim_rate_hz / model.node_rate_hz(lambda)).floor().max(1.0) as usize;
+            // The renderer takes the fast sinc factors per sample (`echoes_with_flashes`),
+            // so the nodes need only follow ranges, slow amplitudes and flash arguments.
+            let samples_per_node = (sim_rate_hz / model.flash_node_rate_hz(lambda))
+                .floor()
+                .max(1.0) as usize;
             ActorTrack::new(model, samples_per_node, sim_rate_hz, &radar)
         })
         .collect();
