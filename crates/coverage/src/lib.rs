@@ -301,7 +301,8 @@ pub struct CoverageWarning {
 }
 
 fn pct(fraction: f64) -> String {
-    format!("{:.0} %", 100.0 * fraction)
+    // `max(0.0)` also turns a rounding residue of -0.0 into 0 (no "-0 %").
+    format!("{:.0} %", (100.0 * fraction).max(0.0))
 }
 
 impl fmt::Display for CoverageWarning {

@@ -3,6 +3,7 @@
 
 pub mod events;
 pub mod gate;
+pub mod presence_summary;
 pub mod runner;
 pub mod signal;
 pub mod suite;

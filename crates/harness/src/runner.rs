@@ -18,10 +18,13 @@
 
 use crate::events::{score_thresholds, AlarmLogic, MOfN, MatchWindow, TrialTruth};
 use crate::signal::TrialSignal;
-use crate::suite::{SceneLabel, Suite};
+use crate::suite::{PresenceOutput, SceneLabel, Suite};
 use echobench_core::detector::{check_scores, Detector, DetectorPlugin, Params};
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, Score};
+use echobench_presence::{
+    false_switch_ons_at, score_trial, statistic_frames, PresenceTally, PresenceTruth, Timer,
+};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -250,6 +253,16 @@ pub struct VariantTally {
     pub noise_frames: u64,
     /// Of those, frames at or above the nominal threshold.
     pub noise_frames_above_nominal: u64,
+    /// Presence products: the output pin at each operating point (empty otherwise).
+    #[serde(default)]
+    pub presence: Vec<PresenceTally>,
+    /// Presence products: at each operating point, the pin at each hold of the product's
+    /// sweep (`DetectorTally::presence_output.hold_sweep_s`).
+    #[serde(default)]
+    pub hold_sweep: Vec<Vec<PresenceTally>>,
+    /// Presence products: the pin at each pinned threshold.
+    #[serde(default)]
+    pub pinned_presence: Vec<PresenceTally>,
 }
 
 /// Tallies of one detector on one product over the whole run.
@@ -257,6 +270,13 @@ pub struct VariantTally {
 pub struct DetectorTally {
     /// The product (sensor module) whose scenes these are.
     pub product: String,
+    /// `intrusion` or `presence`: what the product's output is judged on.
+    #[serde(default = "intrusion_kind")]
+    pub kind: String,
+    /// A presence product's timer, budgets and hold sweep (operating points are chosen
+    /// for `false_switch_ons_per_day`, stored per hour in `OperatingPoint`).
+    #[serde(default)]
+    pub presence_output: Option<PresenceOutput>,
     /// Label.
     pub label: String,
     /// Plugin id.
@@ -283,6 +303,10 @@ pub struct DetectorTally {
     pub variants: Vec<VariantTally>,
     /// Trials on which the detector failed (excluded from the tallies).
     pub failures: Vec<Failure>,
+}
+
+fn intrusion_kind() -> String {
+    "intrusion".into()
 }
 
 /// Everything a run (or a shard of one) keeps; shards merge by adding these.
@@ -679,10 +703,27 @@ fn run_product(
         .first()
         .map_or_else(|| suite.name.clone(), |p| p.name.clone());
     let (logic, window) = alarm_logic(suite)?;
+    let presence = presence_setup(suite, &logic)?;
     let mut timing = Timing::default();
 
-    // Calibration: every shard runs the same trials and gets the same thresholds.
-    let (calibrated, calibration_signal_s) = calibrate(suite, detectors, &logic, window, progress)?;
+    // Calibration: every shard runs the same trials and gets the same thresholds. A
+    // presence product counts its output's false switch-ons against its own budget.
+    let counting = match &presence {
+        Some((_, timer, rule)) => Counting::SwitchOns { timer, rule: *rule },
+        None => Counting::Alarms {
+            logic: &logic,
+            window,
+        },
+    };
+    let targets_per_hour: Vec<f64> = match &presence {
+        Some((output, ..)) => output
+            .false_switch_ons_per_day
+            .iter()
+            .map(|per_day| per_day / 24.0)
+            .collect(),
+        None => suite.scoring.target_false_alarms_per_hour.clone(),
+    };
+    let (calibrated, calibration_signal_s) = calibrate(suite, detectors, counting, progress)?;
     let mut tallies: Vec<DetectorTally> = Vec::with_capacity(detectors.len());
     for (detector, cal) in detectors.iter().zip(calibrated) {
         let Calibrated {
@@ -692,9 +733,7 @@ fn run_product(
             rooms,
             failures,
         } = cal;
-        let operating = suite
-            .scoring
-            .target_false_alarms_per_hour
+        let operating = targets_per_hour
             .iter()
             .map(|&target| {
                 choose_operating_point(
@@ -725,6 +764,11 @@ fn run_product(
         let pinned_points = detector.pinned.get(&product).cloned().unwrap_or_default();
         let pinned_len = pinned_points.len();
         let (grid_len, operating_len) = (thresholds.len(), operating.len());
+        // Presence tallies exist for presence products only.
+        let (presence_len, sweep_len, pinned_presence_len) = match &presence {
+            Some((output, ..)) => (operating_len, output.hold_sweep_s.len(), pinned_len),
+            None => (0, 0, 0),
+        };
         let variants = suite
             .scenes
             .iter()
@@ -749,6 +793,9 @@ fn run_product(
                     max_scores: Vec::new(),
                     noise_frames: 0,
                     noise_frames_above_nominal: 0,
+                    presence: vec![PresenceTally::default(); presence_len],
+                    hold_sweep: vec![vec![PresenceTally::default(); sweep_len]; presence_len],
+                    pinned_presence: vec![PresenceTally::default(); pinned_presence_len],
                 })
             })
             .collect();
@@ -766,6 +813,12 @@ fn run_product(
             .collect();
         tallies.push(DetectorTally {
             product: product.clone(),
+            kind: suite
+                .products
+                .first()
+                .map_or("intrusion", |p| p.kind.name())
+                .to_string(),
+            presence_output: presence.as_ref().map(|(output, ..)| output.clone()),
             calibration_rooms,
             calibration_pooled: false_alarms,
             label: detector.label.clone(),
@@ -816,6 +869,10 @@ fn run_product(
         .try_fold(empty, |mut acc, job| -> Result<_, RunError> {
             let trial = run_trial(suite, detectors, job)?;
             let truth = trial_truth(&trial, window)?;
+            let occupancy = match presence {
+                Some(_) => Some(presence_truth(&trial)?),
+                None => None,
+            };
             let vi = variant_index[job.scene][job.variant];
             acc.1.synthesis_s += trial.synthesis_s;
             acc.1.samples += trial.samples;
@@ -854,6 +911,19 @@ fn run_product(
                             nominal,
                             job.key.trial,
                         );
+                        if let (Some((output, timer, rule)), Some(occupancy)) =
+                            (&presence, &occupancy)
+                        {
+                            tally_presence(
+                                &mut tally.variants[vi],
+                                scores,
+                                occupancy,
+                                output,
+                                timer,
+                                *rule,
+                                &tallies[di],
+                            )?;
+                        }
                     }
                 }
             }
@@ -955,31 +1025,49 @@ fn count_calibration_trial(
     trial: &TrialOutput,
     grids: &[Vec<f64>],
     room_of: &dyn Fn(&Job) -> Option<usize>,
-    logic: &AlarmLogic,
-    window: MatchWindow,
+    counting: Counting<'_>,
     counts: &mut [CalibrationCounts],
     add_exposure: bool,
 ) -> Result<(), RunError> {
-    let truth = trial_truth(trial, window)?;
+    let (truth, presence_truth) = match counting {
+        Counting::Alarms { window, .. } => (Some(trial_truth(trial, window)?), None),
+        Counting::SwitchOns { .. } => (None, Some(presence_truth(trial)?)),
+    };
     let room = room_of(job);
     for (di, count) in counts.iter_mut().enumerate() {
         match &trial.traces[di] {
             Trace::Ok { scores, .. } => {
                 let grid = &grids[di];
-                let results = score_thresholds(scores, &truth, logic, grid);
-                for (g, result) in results.iter().enumerate() {
-                    count.false_alarms[g] += result.false_alarms() as u64;
+                // False alarms (or false switch-ons) at each grid threshold, and the
+                // exposure they are counted over.
+                let (false_alarms, exposure_ns) = match (counting, &truth, &presence_truth) {
+                    (Counting::Alarms { logic, .. }, Some(truth), _) => (
+                        score_thresholds(scores, truth, logic, grid)
+                            .iter()
+                            .map(|r| r.false_alarms() as u64)
+                            .collect::<Vec<u64>>(),
+                        ns(truth.exposure_s()),
+                    ),
+                    (Counting::SwitchOns { timer, rule }, _, Some(truth)) => (
+                        false_switch_ons_at(&statistic_frames(scores, rule), truth, timer, grid)
+                            .map_err(|e| RunError(e.to_string()))?,
+                        truth.empty_ns(),
+                    ),
+                    _ => unreachable!("the truth is made for the counting in use"),
+                };
+                for (g, n) in false_alarms.iter().enumerate() {
+                    count.false_alarms[g] += n;
                 }
                 if add_exposure {
-                    count.exposure_ns += ns(truth.exposure_s());
+                    count.exposure_ns += exposure_ns;
                 }
                 if let Some(r) = room {
                     let (room_false_alarms, room_exposure) = &mut count.rooms[r];
-                    for (g, result) in results.iter().enumerate() {
-                        room_false_alarms[g] += result.false_alarms() as u64;
+                    for (g, n) in false_alarms.iter().enumerate() {
+                        room_false_alarms[g] += n;
                     }
                     if add_exposure {
-                        *room_exposure += ns(truth.exposure_s());
+                        *room_exposure += exposure_ns;
                     }
                 }
                 if add_exposure {
@@ -1060,8 +1148,7 @@ fn tail_thresholds(top: f64, beyond: &[(usize, f64)]) -> Vec<f64> {
 fn calibrate(
     suite: &Suite,
     detectors: &[RunDetector],
-    logic: &AlarmLogic,
-    window: MatchWindow,
+    counting: Counting<'_>,
     progress: &(dyn Fn(Progress) + Sync),
 ) -> Result<(Vec<Calibrated>, f64), RunError> {
     let all_jobs = jobs(suite, true, None);
@@ -1123,8 +1210,7 @@ fn calibrate(
             trial,
             &grids,
             &room_of,
-            logic,
-            window,
+            counting,
             &mut counts,
             true,
         )?;
@@ -1141,8 +1227,7 @@ fn calibrate(
                 &trial,
                 &grids,
                 &room_of,
-                logic,
-                window,
+                counting,
                 &mut acc,
                 true,
             )?;
@@ -1190,8 +1275,7 @@ fn calibrate(
                 &trial,
                 &tails,
                 &room_of,
-                logic,
-                window,
+                counting,
                 &mut acc,
                 false,
             )?;
@@ -1236,6 +1320,43 @@ fn calibrate(
         })
         .collect();
     Ok((calibrated, signal_s))
+}
+
+/// How a product's calibration trials are counted at each grid threshold.
+#[derive(Clone, Copy)]
+enum Counting<'a> {
+    /// Alarms outside every event window, over noise-only time (intrusion products).
+    Alarms {
+        logic: &'a AlarmLogic,
+        window: MatchWindow,
+    },
+    /// Switch-ons of the output pin while the room is empty, over empty time (presence
+    /// products).
+    SwitchOns {
+        timer: &'a Timer,
+        rule: echobench_presence::MOfN,
+    },
+}
+
+/// A trial's presence truth: moving while a target moves in the zone, still while one is
+/// there without moving, empty otherwise.
+fn presence_truth(trial: &TrialOutput) -> Result<PresenceTruth, RunError> {
+    PresenceTruth::from_intervals(trial.duration_s, &trial.truth, &trial.still)
+        .map_err(|e| RunError(format!("presence truth: {e}")))
+}
+
+/// The presence product's timer and M-of-N rule, when the product is one.
+fn presence_setup(
+    suite: &Suite,
+    logic: &AlarmLogic,
+) -> Result<Option<(PresenceOutput, Timer, echobench_presence::MOfN)>, RunError> {
+    let Some(output) = suite.products.first().and_then(|p| p.kind.presence()) else {
+        return Ok(None);
+    };
+    let timer = output.timer().map_err(|e| RunError(e.to_string()))?;
+    let rule = echobench_presence::MOfN::new(logic.m_of_n().m(), logic.m_of_n().n())
+        .map_err(|e| RunError(e.to_string()))?;
+    Ok(Some((output.clone(), timer, rule)))
 }
 
 /// A trial's truth prepared for scoring: matching windows, and the present-but-still
@@ -1367,6 +1488,8 @@ fn suite_stream_info(suite: &Suite) -> echobench_core::StreamInfo {
 fn empty_like(t: &DetectorTally) -> DetectorTally {
     DetectorTally {
         product: t.product.clone(),
+        kind: t.kind.clone(),
+        presence_output: t.presence_output.clone(),
         calibration_rooms: t.calibration_rooms.clone(),
         calibration_pooled: t.calibration_pooled.clone(),
         label: t.label.clone(),
@@ -1427,6 +1550,38 @@ fn tally_trial(
             }
         }
     }
+}
+
+/// Scores a presence product's output pin on one test trial: at each operating point,
+/// at each hold of the sweep there, and at each pinned threshold.
+fn tally_presence(
+    v: &mut VariantTally,
+    scores: &[Score],
+    occupancy: &PresenceTruth,
+    output: &PresenceOutput,
+    timer: &Timer,
+    rule: echobench_presence::MOfN,
+    detector: &DetectorTally,
+) -> Result<(), RunError> {
+    let error = |e: echobench_presence::PresenceError| RunError(format!("presence scoring: {e}"));
+    let frames = statistic_frames(scores, rule);
+    let conditions =
+        |threshold: f64| -> Vec<_> { frames.iter().map(|f| f.condition(threshold)).collect() };
+    for (o, point) in detector.operating.iter().enumerate() {
+        let at_threshold = conditions(point.threshold);
+        v.presence[o].merge(&score_trial(&at_threshold, occupancy, timer).map_err(error)?);
+        for (h, &hold_s) in output.hold_sweep_s.iter().enumerate() {
+            let hold_ns = Timer::new(hold_s).map_err(error)?.hold_ns();
+            let swept = timer.with_hold_ns(hold_ns).map_err(error)?;
+            v.hold_sweep[o][h]
+                .merge(&score_trial(&at_threshold, occupancy, &swept).map_err(error)?);
+        }
+    }
+    for (p, point) in detector.pinned.iter().enumerate() {
+        v.pinned_presence[p]
+            .merge(&score_trial(&conditions(point.threshold), occupancy, timer).map_err(error)?);
+    }
+    Ok(())
 }
 
 fn tally_operating(
@@ -1504,6 +1659,19 @@ pub fn merge_detector(into: &mut DetectorTally, other: DetectorTally) {
                 *x.false_alarms_by_source.entry(k).or_default() += v;
             }
             x.trials.extend(y.trials);
+        }
+        for (x, y) in a
+            .presence
+            .iter_mut()
+            .zip(&b.presence)
+            .chain(a.pinned_presence.iter_mut().zip(&b.pinned_presence))
+        {
+            x.merge(y);
+        }
+        for (xs, ys) in a.hold_sweep.iter_mut().zip(&b.hold_sweep) {
+            for (x, y) in xs.iter_mut().zip(ys) {
+                x.merge(y);
+            }
         }
         a.max_scores.extend(b.max_scores);
         a.noise_frames += b.noise_frames;
@@ -1630,7 +1798,16 @@ mod tests {
             .retain(|d| d.label == "energy" || d.label == "band-ratio");
         let detectors = resolve_detectors(&suite, &plugins).unwrap();
         let (logic, window) = alarm_logic(&suite).unwrap();
-        let (calibrated, _) = calibrate(&suite, &detectors, &logic, window, &|_| {}).unwrap();
+        let (calibrated, _) = calibrate(
+            &suite,
+            &detectors,
+            Counting::Alarms {
+                logic: &logic,
+                window,
+            },
+            &|_| {},
+        )
+        .unwrap();
         let all_jobs = jobs(&suite, true, None);
         let mut tails = 0;
         for (di, cal) in calibrated.iter().enumerate() {
@@ -1669,7 +1846,17 @@ mod tests {
                 .build()
                 .unwrap();
             let (again, _) = pool
-                .install(|| calibrate(&suite, &detectors, &logic, window, &|_| {}))
+                .install(|| {
+                    calibrate(
+                        &suite,
+                        &detectors,
+                        Counting::Alarms {
+                            logic: &logic,
+                            window,
+                        },
+                        &|_| {},
+                    )
+                })
                 .unwrap();
             for (a, b) in again.iter().zip(&calibrated) {
                 assert_eq!(a.thresholds, b.thresholds, "{threads} threads");

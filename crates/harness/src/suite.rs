@@ -71,6 +71,66 @@ pub struct Product {
     /// The module as the product states it (placement fields are the scenes'); `None` when
     /// the product takes the module its scenes share.
     pub module: Option<echobench_scene::spec::SensorSpec>,
+    /// What the product's output is for, and how it is judged.
+    pub kind: ProductKind,
+}
+
+/// What a product's output is for.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub enum ProductKind {
+    /// An alarm: onsets counted against motion events (detection, false alarms per hour).
+    #[default]
+    Intrusion,
+    /// An output pin held on by a retrigger timer (a light, a fan, a display), judged on
+    /// the pin against who is in the room.
+    Presence(PresenceOutput),
+}
+
+impl ProductKind {
+    /// `intrusion` or `presence`, as in suite files and outputs.
+    pub fn name(&self) -> &'static str {
+        match self {
+            ProductKind::Intrusion => "intrusion",
+            ProductKind::Presence(_) => "presence",
+        }
+    }
+
+    /// The presence output, for a presence product.
+    pub fn presence(&self) -> Option<&PresenceOutput> {
+        match self {
+            ProductKind::Presence(p) => Some(p),
+            ProductKind::Intrusion => None,
+        }
+    }
+}
+
+/// The retrigger timer of a presence product and the budget its thresholds are chosen for.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PresenceOutput {
+    /// Any alarm frame restarts a hold of this long; the output is on while it runs, s.
+    pub hold_s: f64,
+    /// Once on, the output stays on at least this long, s (0: no minimum).
+    pub min_on_s: f64,
+    /// After switching off, the output cannot switch on for this long, s (0: none).
+    pub lockout_s: f64,
+    /// False switch-ons per day of empty time at which operating thresholds are chosen,
+    /// in each room as the product's threshold rule says (e.g. 24 and 1).
+    pub false_switch_ons_per_day: Vec<f64>,
+    /// Hold times of the trade-off curve, s, ascending (the product's own hold among them).
+    pub hold_sweep_s: Vec<f64>,
+}
+
+impl PresenceOutput {
+    /// The product's timer.
+    ///
+    /// # Errors
+    /// A hold, minimum on-time or lock-out the presence scorer refuses (the suite loader
+    /// refuses these first).
+    pub fn timer(&self) -> Result<echobench_presence::Timer, echobench_presence::PresenceError> {
+        echobench_presence::Timer::new(self.hold_s)?
+            .with_min_on_s(self.min_on_s)?
+            .with_lockout_s(self.lockout_s)
+    }
 }
 
 impl Suite {

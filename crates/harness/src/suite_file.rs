@@ -42,8 +42,8 @@
 //! refused before any trial runs.
 
 use crate::suite::{
-    AlarmSpec, DetectorEntry, Product, SceneLabel, SceneVariant, ScoringSpec, Suite, SuiteScene,
-    ThresholdRule,
+    AlarmSpec, DetectorEntry, PresenceOutput, Product, ProductKind, SceneLabel, SceneVariant,
+    ScoringSpec, Suite, SuiteScene, ThresholdRule,
 };
 use echobench_core::detector::{DetectorPlugin, ParamValue, Params};
 use echobench_core::{Channels, StreamInfo};
@@ -158,7 +158,7 @@ pub const DEFAULT_SUITE_YAML: &str = include_str!("../../../scenarios/default-su
 ///
 /// One explicit table, so that the binary carries exactly these files; a test
 /// checks it against the folder `scenarios/suite-scenes/` and the suite.
-pub static DEFAULT_SUITE_SCENES: [(&str, &str); 18] = [
+pub static DEFAULT_SUITE_SCENES: [(&str, &str); 21] = [
     (
         "suite-scenes/bedroom-curtain-draught.yaml",
         include_str!("../../../scenarios/suite-scenes/bedroom-curtain-draught.yaml"),
@@ -214,6 +214,18 @@ pub static DEFAULT_SUITE_SCENES: [(&str, &str); 18] = [
     (
         "suite-scenes/reading-chair-breathing.yaml",
         include_str!("../../../scenarios/suite-scenes/reading-chair-breathing.yaml"),
+    ),
+    (
+        "suite-scenes/meeting-room-visit.yaml",
+        include_str!("../../../scenarios/suite-scenes/meeting-room-visit.yaml"),
+    ),
+    (
+        "suite-scenes/shop-counter-wait.yaml",
+        include_str!("../../../scenarios/suite-scenes/shop-counter-wait.yaml"),
+    ),
+    (
+        "suite-scenes/office-desk-worker.yaml",
+        include_str!("../../../scenarios/suite-scenes/office-desk-worker.yaml"),
     ),
     (
         "suite-scenes/shop-entrance-neighbour.yaml",
@@ -415,6 +427,7 @@ fn read_suite(
                 name: suite_name.clone(),
                 about: String::new(),
                 module: None,
+                kind: ProductKind::Intrusion,
             };
             read_scenes(
                 node,
@@ -614,6 +627,54 @@ fn read_products(
         let module_node = f.raw("module");
         let module_path = f.path_of("module");
         let scenes_node = f.raw("scenes");
+        let kind_name = f.choice_or("kind", &["intrusion", "presence"], "intrusion");
+        let output_node = f.raw("output");
+        let output_path = f.path_of("output");
+        let budget_node = f.raw("budget");
+        let budget_path = f.path_of("budget");
+        let hold_sweep_s: Option<Vec<f64>> = f.optional("hold_sweep_s");
+        if let Some(sweep) = hold_sweep_s.as_ref().filter(|sweep| {
+            sweep.is_empty()
+                || sweep.len() > MAX_HOLD_SWEEP
+                || sweep.iter().any(|h| !(*h > 0.0 && *h <= MAX_TIMER_S))
+        }) {
+            f.error_at(
+                "hold_sweep_s",
+                format!(
+                    "give 1 to {MAX_HOLD_SWEEP} hold times, each > 0 and at most {MAX_TIMER_S} s, found {sweep:?}"
+                ),
+            );
+        }
+        let presence_fields_given =
+            output_node.is_some() || budget_node.is_some() || hold_sweep_s.is_some();
+        if kind_name != "presence" && presence_fields_given {
+            f.error_at(
+                "kind",
+                "`output`, `budget` and `hold_sweep_s` describe a presence product's timer: add `kind: presence`, or remove them",
+            );
+        }
+        let kind = if kind_name == "presence" {
+            match (output_node, budget_node) {
+                (Some(output), Some(budget)) => read_presence_output(
+                    output,
+                    &output_path,
+                    budget,
+                    &budget_path,
+                    hold_sweep_s,
+                    f.reader(),
+                )
+                .map(ProductKind::Presence),
+                _ => {
+                    f.error_at(
+                        "kind",
+                        "a presence product needs `output: {hold_s, min_on_s, lockout_s}` and `budget: {false_switch_ons_per_day: [...]}`",
+                    );
+                    None
+                }
+            }
+        } else {
+            Some(ProductKind::Intrusion)
+        };
         if name.as_ref().is_some_and(|n| n.trim().is_empty()) {
             f.error_at("name", "must not be empty");
         }
@@ -644,7 +705,8 @@ fn read_products(
         let problems = reader.finish();
         let failed = problems.has_errors() || module_failed;
         report.extend(problems);
-        let (Some(name), Some(scenes_node), false) = (name, scenes_node, failed) else {
+        let (Some(name), Some(scenes_node), Some(kind), false) = (name, scenes_node, kind, failed)
+        else {
             ok = false;
             continue;
         };
@@ -665,6 +727,7 @@ fn read_products(
             name,
             about,
             module,
+            kind,
         };
         match read_scenes(
             scenes_node,
@@ -678,6 +741,94 @@ fn read_products(
             Some(list) => out.push((product, list, scenes_node.location)),
             None => ok = false,
         }
+    }
+    ok.then_some(out)
+}
+
+/// Most budgets (operating points) and hold times of a presence product.
+const MAX_PRESENCE_POINTS: usize = 8;
+const MAX_HOLD_SWEEP: usize = 32;
+/// Longest hold, minimum on-time or lock-out accepted, s (a day; timers of these modules
+/// run seconds to tens of minutes, common practice).
+const MAX_TIMER_S: f64 = 86_400.0;
+
+/// Reads a presence product's `output` (its retrigger timer), `budget` and hold sweep.
+fn read_presence_output(
+    output: &Node,
+    output_path: &str,
+    budget: &Node,
+    budget_path: &str,
+    hold_sweep_s: Option<Vec<f64>>,
+    reader: &mut Reader,
+) -> Option<PresenceOutput> {
+    let mut ok = true;
+    let (hold_s, min_on_s, lockout_s) = {
+        let mut f = reader.fields(output, output_path)?;
+        let hold_s: Option<f64> = f.required("hold_s");
+        let min_on_s: f64 = f.optional_or("min_on_s", 0.0);
+        let lockout_s: f64 = f.optional_or("lockout_s", 0.0);
+        if let Some(h) = hold_s.filter(|h| !(*h > 0.0 && *h <= MAX_TIMER_S)) {
+            f.error_at(
+                "hold_s",
+                format!("the hold must be > 0 and at most {MAX_TIMER_S} s, found {h}"),
+            );
+            ok = false;
+        }
+        for (key, value) in [("min_on_s", min_on_s), ("lockout_s", lockout_s)] {
+            if !(0.0..=MAX_TIMER_S).contains(&value) {
+                f.error_at(key, format!("must be 0 to {MAX_TIMER_S} s, found {value}"));
+                ok = false;
+            }
+        }
+        f.finish();
+        (hold_s?, min_on_s, lockout_s)
+    };
+    let false_switch_ons_per_day = {
+        let mut f = reader.fields(budget, budget_path)?;
+        let rates: Option<Vec<f64>> = f.required("false_switch_ons_per_day");
+        if let Some(rates) = &rates {
+            if rates.is_empty() || rates.len() > MAX_PRESENCE_POINTS {
+                f.error_at(
+                    "false_switch_ons_per_day",
+                    format!(
+                        "give 1 to {MAX_PRESENCE_POINTS} budgets (false switch-ons per day of empty time), found {}",
+                        rates.len()
+                    ),
+                );
+                ok = false;
+            }
+            if let Some(bad) = rates.iter().find(|r| **r <= 0.0) {
+                f.error_at(
+                    "false_switch_ons_per_day",
+                    format!("every budget must be positive, found {bad}"),
+                );
+                ok = false;
+            }
+        }
+        f.finish();
+        rates?
+    };
+    let mut sweep = hold_sweep_s.unwrap_or_else(|| {
+        // Default: a ladder around the product's hold, from a fifth to eight times it.
+        [0.2, 0.5, 1.0, 2.0, 4.0, 8.0]
+            .iter()
+            .map(|k| k * hold_s)
+            .filter(|h| *h <= MAX_TIMER_S)
+            .collect()
+    });
+    sweep.push(hold_s);
+    sweep.sort_by(f64::total_cmp);
+    sweep.dedup();
+    let out = PresenceOutput {
+        hold_s,
+        min_on_s,
+        lockout_s,
+        false_switch_ons_per_day,
+        hold_sweep_s: sweep,
+    };
+    if let Err(e) = out.timer() {
+        reader.error(output.location, output_path, e.to_string());
+        ok = false;
     }
     ok.then_some(out)
 }

@@ -210,6 +210,9 @@ pub struct DetectorSummary {
     pub failures: Vec<crate::runner::Failure>,
     /// State memory and arithmetic per sample the plugin declares.
     pub declared_cost: Option<crate::runner::DeclaredCost>,
+    /// Presence products: what the output pin did (`null` for intrusion products).
+    #[serde(default)]
+    pub presence: Option<crate::presence_summary::PresenceVerdict>,
 }
 
 /// The run's summary (`summary.json`).
@@ -270,6 +273,9 @@ pub struct ProductSummary {
     pub name: String,
     /// Free text.
     pub about: String,
+    /// `intrusion` or `presence`.
+    #[serde(default)]
+    pub kind: String,
     /// Carrier, Hz.
     pub carrier_hz: f64,
     /// ADC sample rate, Hz.
@@ -437,6 +443,7 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
         nominal,
         failures: d.failures.clone(),
         declared_cost,
+        presence: crate::presence_summary::presence_verdict(d),
     }
 }
 
@@ -652,6 +659,7 @@ fn summarise_product(product: &crate::suite::Product, suite: &Suite) -> ProductS
     ProductSummary {
         name: product.name.clone(),
         about: product.about.clone(),
+        kind: product.kind.name().into(),
         carrier_hz: sensor.map_or(0.0, |s| s.carrier_hz),
         sample_rate_hz: sensor.map_or(0.0, |s| s.sample_rate_hz),
         output: match sensor.map(|s| s.output) {
@@ -815,7 +823,11 @@ const CONSOLE_WIDTH: usize = 150;
 
 /// A text table: a first column of row names, then one column per detector (each as wide
 /// as its widest cell), cut into groups of columns that fit [`CONSOLE_WIDTH`].
-fn grid_table(corner: &str, columns: &[String], rows: &[(String, Vec<String>)]) -> String {
+pub(crate) fn grid_table(
+    corner: &str,
+    columns: &[String],
+    rows: &[(String, Vec<String>)],
+) -> String {
     let first = rows
         .iter()
         .map(|(name, _)| name.chars().count())
@@ -1023,7 +1035,20 @@ fn product_block(
         .iter()
         .map(|o| o.target_false_alarms_per_hour)
         .collect();
-    let label0 = rates.first().map_or_else(String::new, |r| rate_label(*r));
+    let presence: Vec<(&str, &crate::presence_summary::PresenceVerdict)> = detectors
+        .iter()
+        .filter_map(|d| Some((d.label.as_str(), d.presence.as_ref()?)))
+        .collect();
+    let label0 = match presence.first() {
+        // A presence product's operating points are its budgets of false switch-ons per day.
+        Some((_, v)) => v.points.first().map_or_else(String::new, |p| {
+            crate::presence_summary::budget_label(p.budget_per_day)
+        }),
+        None => rates.first().map_or_else(String::new, |r| rate_label(*r)),
+    };
+    if !presence.is_empty() {
+        out.push_str(&crate::presence_summary::console_block(&presence));
+    }
     // Ranking, as in the report: first the detectors whose test false-alarm rate at the
     // first operating point is not shown to be over its target, then by Pd, then by median
     // latency.
@@ -1087,16 +1112,23 @@ fn product_block(
             (name, cells)
         })
         .collect();
-    out.push_str(&format!(
-        "ranking (those meeting {label0} on the test trials first, then by Pd; \"(over)\": test FA/h shown above the target, its 95 % interval wholly over it; FA/h and on-time on noise-only time):\n"
-    ));
-    out.push_str(&grid_table("detector", &columns, &rows));
+    if presence.is_empty() {
+        out.push_str(&format!(
+            "ranking (those meeting {label0} on the test trials first, then by Pd; \"(over)\": test FA/h shown above the target, its 95 % interval wholly over it; FA/h and on-time on noise-only time):\n"
+        ));
+        out.push_str(&grid_table("detector", &columns, &rows));
+    }
 
     let names: Vec<String> = detectors.iter().map(|d| d.label.clone()).collect();
     let detection = scene_rows(detectors, 0, "target", fmt_pd_latency);
     if !detection.is_empty() {
         out.push_str(&format!(
-            "\ndetection @ {label0} per target scene (Pd [95 % interval], median latency):\n"
+            "\n{}detection @ {label0} per target scene (Pd [95 % interval], median latency):\n",
+            if presence.is_empty() {
+                ""
+            } else {
+                "motion events (as an intrusion alarm would be scored) "
+            }
         ));
         out.push_str(&grid_table("scene", &names, &detection));
         out.push_str(&reason_lines(&detection, reasons));
@@ -1124,7 +1156,7 @@ fn product_block(
             }
         }
     }
-    if !false_alarms.is_empty() {
+    if !false_alarms.is_empty() && presence.is_empty() {
         out.push_str(&format!(
             "\nfalse alarms per hour @ {label0} per room: test trials [95 % interval] | calibration (* the room that set the threshold):\n"
         ));

@@ -6,7 +6,7 @@ use crate::{ConditionFrame, Occupancy, OutputPin, PresenceError, PresenceTruth, 
 /// for each definition. [`PresenceTally::merge`] adds two tallies exactly: counts and times
 /// add, maxima take the maximum, lists are concatenated and kept sorted, so the result does not
 /// depend on the order of the trials.
-#[derive(Debug, Clone, Default, PartialEq, Eq)]
+#[derive(Debug, Clone, Default, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 pub struct PresenceTally {
     /// Empty time, ns (the exposure of false-on time and false switch-ons).
     pub empty_ns: u64,

@@ -202,6 +202,15 @@ impl PresenceTruth {
             .map_or(Occupancy::Empty, |s| s.occupancy)
     }
 
+    /// Time nobody is inside, ns.
+    pub fn empty_ns(&self) -> u64 {
+        self.segments
+            .iter()
+            .filter(|s| s.occupancy == Occupancy::Empty)
+            .map(|s| (s.end_ns - s.start_ns) as u64)
+            .sum()
+    }
+
     /// The occupied periods `[a, b)`: maximal runs of occupied time (moving and still
     /// together), in time order.
     pub fn occupied_periods(&self) -> Vec<(i64, i64)> {

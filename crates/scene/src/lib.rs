@@ -80,7 +80,12 @@ pub fn scene_sanity(scene: &SceneSpec, file: &str) -> Report {
         Err(e) => push(Severity::Error, e.field.clone(), e.message.clone()),
         Ok(truth) => {
             for (i, actor) in scene.actors.iter().enumerate() {
-                if actor.target && !truth.events.iter().any(|e| e.actor_id == actor.id) {
+                // A target that is there but never moves (a seated reader) has no event to
+                // detect, but a presence product still has to keep its light on: only a
+                // target that is never inside the zone at all is a mistake.
+                let moves = truth.events.iter().any(|e| e.actor_id == actor.id);
+                let present = truth.still_presence.iter().any(|e| e.actor_id == actor.id);
+                if actor.target && !moves && !present {
                     push(
                         Severity::Warning,
                         format!("actors[{i}]"),

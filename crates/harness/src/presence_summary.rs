@@ -1,0 +1,520 @@
+//! The verdict of a presence product: what its output pin did, per operating point, pooled
+//! and per scene, each rate with its interval, and the hold-time trade-off.
+//!
+//! The figures are defined (and computed exactly, in whole nanoseconds) by
+//! `echobench_presence`; this module only turns its tallies into rates with intervals and
+//! prints them. False switch-ons and drop-outs carry exact Garwood intervals (counts over
+//! time); false-on time carries the gamma interval of a weighted Poisson sum (Fay & Feuer
+//! 1997), because it is a sum of episodes of unequal length, not a count.
+
+use crate::runner::{DetectorTally, VariantTally};
+use crate::suite::PresenceOutput;
+use crate::summary::{Estimate, CONFIDENCE};
+use echobench_presence::{LatencyQuantile, OccupiedKind, PresenceTally, RateEstimate, Timer};
+use serde::{Deserialize, Serialize};
+
+/// A latency quantile: seconds, or `null` with `not_reached` when it falls among the
+/// entries (exits) after which the output never switched on (off) in the trial.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Quantile {
+    /// Seconds, when observed.
+    pub seconds: Option<f64>,
+    /// The quantile falls among the censored values.
+    pub not_reached: bool,
+}
+
+impl Quantile {
+    fn from(q: Result<LatencyQuantile, echobench_presence::PresenceError>) -> Quantile {
+        match q {
+            Ok(LatencyQuantile::Observed(seconds)) => Quantile {
+                seconds: Some(seconds),
+                not_reached: false,
+            },
+            Ok(LatencyQuantile::NotReached) => Quantile {
+                seconds: None,
+                not_reached: true,
+            },
+            _ => Quantile {
+                seconds: None,
+                not_reached: false,
+            },
+        }
+    }
+
+    /// `1.23 s`, `not reached` or `—`.
+    pub fn text(&self) -> String {
+        match (self.seconds, self.not_reached) {
+            (Some(s), _) => format!("{s:.2} s"),
+            (None, true) => "not reached".into(),
+            (None, false) => "—".into(),
+        }
+    }
+}
+
+/// What the output pin did on a slice of the test trials.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PresenceFigures {
+    /// Empty time, hours.
+    pub empty_hours: f64,
+    /// Occupied and moving time, hours.
+    pub moving_hours: f64,
+    /// Occupied and still time, hours.
+    pub still_hours: f64,
+    /// False-on time per day of empty time, seconds per day (Fay & Feuer gamma interval).
+    pub false_on_s_per_day: Estimate,
+    /// Share of empty time the output was on.
+    pub false_on_fraction: Option<f64>,
+    /// False switch-ons per day of empty time (Garwood).
+    pub false_switch_ons_per_day: Estimate,
+    /// False switch-ons counted.
+    pub false_switch_ons: u64,
+    /// Drop-outs per occupied hour, all (Garwood).
+    pub dropouts_per_occupied_hour: Estimate,
+    /// Drop-outs per hour of moving occupancy (Garwood).
+    pub dropouts_per_moving_hour: Estimate,
+    /// Drop-outs per hour of still occupancy (Garwood).
+    pub dropouts_per_still_hour: Estimate,
+    /// Drop-outs counted (moving, still).
+    pub dropouts: (u64, u64),
+    /// Longest drop-out, s.
+    pub longest_dropout_s: f64,
+    /// Occupied periods with no alarm at all (each also one drop-out).
+    pub missed_periods: u64,
+    /// Occupied periods.
+    pub occupied_periods: u64,
+    /// Entries (occupied periods starting inside a trial).
+    pub entries: u64,
+    /// Median switch-on latency after an entry.
+    pub switch_on_median: Quantile,
+    /// 90th percentile of the switch-on latency.
+    pub switch_on_p90: Quantile,
+    /// Exits (occupied periods ending inside a trial).
+    pub exits: u64,
+    /// Median time to switch off after the room empties.
+    pub switch_off_median: Quantile,
+    /// 90th percentile of the time to switch off.
+    pub switch_off_p90: Quantile,
+}
+
+fn estimate(rate: Result<RateEstimate, echobench_presence::PresenceError>) -> Estimate {
+    match rate {
+        Ok(r) => Estimate {
+            value: Some(r.estimate),
+            low: Some(r.interval.low),
+            high: Some(r.interval.high),
+        },
+        Err(_) => Estimate {
+            value: None,
+            low: None,
+            high: None,
+        },
+    }
+}
+
+impl PresenceFigures {
+    /// The figures of a tally, for the product's timer.
+    pub fn of(tally: &PresenceTally, timer: &Timer) -> PresenceFigures {
+        PresenceFigures {
+            empty_hours: tally.empty_ns as f64 / 3.6e12,
+            moving_hours: tally.moving_ns as f64 / 3.6e12,
+            still_hours: tally.still_ns as f64 / 3.6e12,
+            false_on_s_per_day: estimate(tally.false_on_s_per_day(timer, CONFIDENCE)),
+            false_on_fraction: (tally.empty_ns > 0)
+                .then(|| tally.false_on_ns as f64 / tally.empty_ns as f64),
+            false_switch_ons_per_day: estimate(tally.false_switch_ons_per_day(CONFIDENCE)),
+            false_switch_ons: tally.false_switch_ons,
+            dropouts_per_occupied_hour: estimate(
+                tally.dropouts_per_occupied_h(OccupiedKind::All, CONFIDENCE),
+            ),
+            dropouts_per_moving_hour: estimate(
+                tally.dropouts_per_occupied_h(OccupiedKind::Moving, CONFIDENCE),
+            ),
+            dropouts_per_still_hour: estimate(
+                tally.dropouts_per_occupied_h(OccupiedKind::Still, CONFIDENCE),
+            ),
+            dropouts: (tally.dropouts_moving, tally.dropouts_still),
+            longest_dropout_s: tally.longest_dropout_ns as f64 * 1e-9,
+            missed_periods: tally.missed_periods,
+            occupied_periods: tally.occupied_periods,
+            entries: tally.entries,
+            switch_on_median: Quantile::from(tally.switch_on_latency_quantile(0.5)),
+            switch_on_p90: Quantile::from(tally.switch_on_latency_quantile(0.9)),
+            exits: tally.exits,
+            switch_off_median: Quantile::from(tally.switch_off_quantile(0.5)),
+            switch_off_p90: Quantile::from(tally.switch_off_quantile(0.9)),
+        }
+    }
+}
+
+/// One scene variant's pin at an operating point.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PresenceScene {
+    /// Scene id.
+    pub scene: String,
+    /// Swept value, if swept.
+    pub sweep_value: Option<String>,
+    /// `target` or `nuisance`.
+    pub label: String,
+    /// The figures.
+    #[serde(flatten)]
+    pub figures: PresenceFigures,
+}
+
+/// A presence product's detector at one operating point.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PresencePoint {
+    /// The false switch-ons per day of empty time the threshold was chosen for.
+    pub budget_per_day: f64,
+    /// The threshold.
+    pub threshold: f64,
+    /// All test trials pooled.
+    #[serde(flatten)]
+    pub figures: PresenceFigures,
+    /// Per scene variant, in suite order.
+    pub by_scene: Vec<PresenceScene>,
+    /// Each room's calibration at the threshold: (room, false switch-ons per day of empty
+    /// time, Garwood interval).
+    pub calibration_rooms: Vec<(String, Estimate)>,
+    /// The room whose calibration set the threshold (worst-room rule).
+    pub limiting_room: Option<String>,
+}
+
+/// One hold time of the trade-off curve, all test trials pooled.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TradeoffRow {
+    /// Hold, s.
+    pub hold_s: f64,
+    /// Whether it is the product's own hold.
+    pub product_hold: bool,
+    /// The figures at that hold.
+    #[serde(flatten)]
+    pub figures: PresenceFigures,
+}
+
+/// What a presence product's output did with one detector.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PresenceVerdict {
+    /// The product's timer and budgets.
+    pub output: PresenceOutput,
+    /// One entry per budget.
+    pub points: Vec<PresencePoint>,
+    /// The hold-time trade-off at the first operating point's threshold.
+    pub tradeoff: Vec<TradeoffRow>,
+}
+
+/// The presence verdict of one detector on a presence product (`None` for intrusion
+/// products, or a timer the scorer refuses, which the suite loader refuses first).
+pub fn presence_verdict(d: &DetectorTally) -> Option<PresenceVerdict> {
+    let output = d.presence_output.as_ref()?;
+    let timer = output.timer().ok()?;
+    let pooled = |pick: &dyn Fn(&VariantTally) -> Option<&PresenceTally>| {
+        let mut sum = PresenceTally::default();
+        for v in &d.variants {
+            if let Some(t) = pick(v) {
+                sum.merge(t);
+            }
+        }
+        sum
+    };
+    let points = d
+        .operating
+        .iter()
+        .enumerate()
+        .map(|(o, op)| PresencePoint {
+            budget_per_day: op.target_per_hour * 24.0,
+            threshold: op.threshold,
+            figures: PresenceFigures::of(&pooled(&|v| v.presence.get(o)), &timer),
+            by_scene: d
+                .variants
+                .iter()
+                .filter_map(|v| {
+                    Some(PresenceScene {
+                        scene: v.scene.clone(),
+                        sweep_value: v.sweep_value.clone(),
+                        label: v.label.clone(),
+                        figures: PresenceFigures::of(v.presence.get(o)?, &timer),
+                    })
+                })
+                .collect(),
+            calibration_rooms: op
+                .rooms
+                .iter()
+                .map(|r| {
+                    (
+                        r.name(),
+                        Estimate::rate(r.false_alarms, r.exposure_ns as f64 / 8.64e13),
+                    )
+                })
+                .collect(),
+            limiting_room: op.limiting_room.clone(),
+        })
+        .collect();
+    let tradeoff = output
+        .hold_sweep_s
+        .iter()
+        .enumerate()
+        .filter_map(|(h, &hold_s)| {
+            let swept = Timer::new(hold_s)
+                .and_then(|t| timer.with_hold_ns(t.hold_ns()))
+                .ok()?;
+            let tally = pooled(&|v| v.hold_sweep.first().and_then(|row| row.get(h)));
+            Some(TradeoffRow {
+                hold_s,
+                product_hold: hold_s == output.hold_s,
+                figures: PresenceFigures::of(&tally, &swept),
+            })
+        })
+        .collect();
+    Some(PresenceVerdict {
+        output: output.clone(),
+        points,
+        tradeoff,
+    })
+}
+
+/// A per-day or per-hour rate with its interval, compact: `12.3 [4.5, 27]`.
+fn compact(e: &Estimate) -> String {
+    fn number(x: f64) -> String {
+        if x == 0.0 {
+            "0".into()
+        } else if x.abs() >= 100.0 {
+            format!("{x:.0}")
+        } else if x.abs() >= 10.0 {
+            format!("{x:.1}")
+        } else {
+            format!("{x:.2}")
+        }
+    }
+    match (e.value, e.low, e.high) {
+        (Some(v), Some(l), Some(h)) => format!("{} [{}, {}]", number(v), number(l), number(h)),
+        _ => "—".into(),
+    }
+}
+
+/// A budget per day as people say it: `24/day` or `1/day`.
+pub fn budget_label(per_day: f64) -> String {
+    if per_day >= 1.0 && per_day.fract() == 0.0 {
+        format!("{per_day:.0}/day")
+    } else {
+        format!("{per_day}/day")
+    }
+}
+
+/// The console block of a presence product: the pin's figures per detector at each
+/// budget, the per-scene drop-outs and latencies at the first, and the hold trade-off.
+pub fn console_block(detectors: &[(&str, &PresenceVerdict)]) -> String {
+    let mut out = String::new();
+    // Ranking: first the detectors whose test false switch-ons are not shown to be over the
+    // budget (the interval's lower end above it), then fewer drop-outs per occupied hour,
+    // then a quicker median switch-on.
+    let over = |v: &PresenceVerdict| {
+        v.points.first().is_some_and(|p| {
+            p.figures
+                .false_switch_ons_per_day
+                .low
+                .is_some_and(|low| low > p.budget_per_day)
+        })
+    };
+    let key = |v: &PresenceVerdict| {
+        let f = v.points.first().map(|p| &p.figures);
+        (
+            f.and_then(|f| f.dropouts_per_occupied_hour.value)
+                .unwrap_or(f64::INFINITY),
+            f.and_then(|f| f.switch_on_median.seconds)
+                .unwrap_or(f64::INFINITY),
+        )
+    };
+    let mut detectors: Vec<(&str, &PresenceVerdict)> = detectors.to_vec();
+    detectors.sort_by(|(_, a), (_, b)| {
+        over(a)
+            .cmp(&over(b))
+            .then(key(a).0.total_cmp(&key(b).0))
+            .then(key(a).1.total_cmp(&key(b).1))
+    });
+    let detectors = &detectors[..];
+    let Some((_, first)) = detectors.first() else {
+        return out;
+    };
+    let output = &first.output;
+    let budget0 = first
+        .points
+        .first()
+        .map_or_else(String::new, |p| budget_label(p.budget_per_day));
+    out.push_str(&format!(
+        "\nranking by the output pin (hold {} s{}{}; thresholds for at most {} false switch-ons per day of empty time; those not shown over the budget first, then by drop-outs per occupied hour; \"(over)\": test switch-ons/day interval wholly above the budget), test trials [95 % interval]:\n",
+        output.hold_s,
+        if output.min_on_s > 0.0 { format!(", min-on {} s", output.min_on_s) } else { String::new() },
+        if output.lockout_s > 0.0 { format!(", lock-out {} s", output.lockout_s) } else { String::new() },
+        first
+            .points
+            .iter()
+            .map(|p| budget_label(p.budget_per_day))
+            .collect::<Vec<_>>()
+            .join(" or ")
+    ));
+    let columns = [
+        format!("false-on s/day @ {budget0}"),
+        "switch-ons/day".to_string(),
+        "drop-outs/h moving".to_string(),
+        "drop-outs/h still".to_string(),
+        "longest drop-out".to_string(),
+        "switch-on median, p90".to_string(),
+        "switch-off median".to_string(),
+    ];
+    let rows: Vec<(String, Vec<String>)> = detectors
+        .iter()
+        .filter_map(|(label, verdict)| {
+            let f = &verdict.points.first()?.figures;
+            let name = if over(verdict) {
+                format!("{label} (over)")
+            } else {
+                label.to_string()
+            };
+            Some((
+                name,
+                vec![
+                    compact(&f.false_on_s_per_day),
+                    compact(&f.false_switch_ons_per_day),
+                    compact(&f.dropouts_per_moving_hour),
+                    compact(&f.dropouts_per_still_hour),
+                    format!("{:.1} s", f.longest_dropout_s),
+                    format!("{}, {}", f.switch_on_median.text(), f.switch_on_p90.text()),
+                    f.switch_off_median.text(),
+                ],
+            ))
+        })
+        .collect();
+    out.push_str(&crate::summary::grid_table("detector", &columns, &rows));
+
+    // Per scene: drop-outs (moving + still) and the switch-on latency, at the first budget.
+    let names: Vec<String> = detectors.iter().map(|(l, _)| l.to_string()).collect();
+    let mut scene_rows: Vec<(String, Vec<String>)> = Vec::new();
+    for (s, scene) in first
+        .points
+        .first()
+        .map_or(&[][..], |p| &p.by_scene[..])
+        .iter()
+        .enumerate()
+    {
+        if scene.label != "target" {
+            continue;
+        }
+        let cells = detectors
+            .iter()
+            .map(|(_, v)| {
+                v.points
+                    .first()
+                    .and_then(|p| p.by_scene.get(s))
+                    .map_or("—".into(), |sc| {
+                        let f = &sc.figures;
+                        format!(
+                            "{}+{} drop, on {}",
+                            f.dropouts.0,
+                            f.dropouts.1,
+                            f.switch_on_median.text()
+                        )
+                    })
+            })
+            .collect();
+        scene_rows.push((
+            crate::runner::room_name(&scene.scene, scene.sweep_value.as_deref()),
+            cells,
+        ));
+    }
+    if !scene_rows.is_empty() {
+        out.push_str(&format!(
+            "\noutput pin @ {budget0} per target scene (drop-outs moving+still over all its trials, median switch-on latency):\n"
+        ));
+        out.push_str(&crate::summary::grid_table("scene", &names, &scene_rows));
+    }
+
+    // Per room: test false switch-ons per day | calibration, `*` where the room set the
+    // threshold.
+    let mut room_rows: Vec<(String, Vec<String>)> = Vec::new();
+    for (s, scene) in first
+        .points
+        .first()
+        .map_or(&[][..], |p| &p.by_scene[..])
+        .iter()
+        .enumerate()
+    {
+        if scene.label != "nuisance" {
+            continue;
+        }
+        let room = crate::runner::room_name(&scene.scene, scene.sweep_value.as_deref());
+        let cells = detectors
+            .iter()
+            .map(|(_, v)| {
+                let Some(point) = v.points.first() else {
+                    return "—".into();
+                };
+                let test = point.by_scene.get(s).map_or("—".into(), |sc| {
+                    compact(&sc.figures.false_switch_ons_per_day)
+                });
+                let calibration = point
+                    .calibration_rooms
+                    .iter()
+                    .find(|(r, _)| *r == room)
+                    .and_then(|(_, e)| e.value)
+                    .map_or("—".into(), |x| format!("{x:.1}"));
+                let mark = if point.limiting_room.as_deref() == Some(room.as_str()) {
+                    "*"
+                } else {
+                    " "
+                };
+                format!("{test} | {calibration}{mark}")
+            })
+            .collect();
+        room_rows.push((room, cells));
+    }
+    if !room_rows.is_empty() {
+        out.push_str(&format!(
+            "\nfalse switch-ons per day @ {budget0} per room: test trials [95 % interval] | calibration (* the room that set the threshold):\n"
+        ));
+        out.push_str(&crate::summary::grid_table("room", &names, &room_rows));
+    }
+
+    // The hold trade-off: drop-outs per occupied hour and false-on time per day.
+    let holds: Vec<String> = first
+        .tradeoff
+        .iter()
+        .map(|t| {
+            if t.product_hold {
+                format!("{} s*", t.hold_s)
+            } else {
+                format!("{} s", t.hold_s)
+            }
+        })
+        .collect();
+    let trade_rows: Vec<(String, Vec<String>)> = detectors
+        .iter()
+        .map(|(label, v)| {
+            (
+                label.to_string(),
+                v.tradeoff
+                    .iter()
+                    .map(|t| {
+                        format!(
+                            "{} | {}",
+                            t.figures
+                                .dropouts_per_occupied_hour
+                                .value
+                                .map_or("—".into(), |x| format!("{x:.0}")),
+                            t.figures
+                                .false_on_s_per_day
+                                .value
+                                .map_or("—".into(), |x| format!("{x:.0}"))
+                        )
+                    })
+                    .collect(),
+            )
+        })
+        .collect();
+    if !holds.is_empty() {
+        out.push_str(&format!(
+            "\nhold-time trade-off @ {budget0} threshold (drop-outs per occupied hour | false-on s per day; * the product's hold):\n"
+        ));
+        out.push_str(&crate::summary::grid_table("detector", &holds, &trade_rows));
+    }
+    out
+}
