@@ -195,7 +195,7 @@ impl TailFit {
         }
         let q = chi2_1_quantile(confidence);
         let profile = JointProfile::new(self, q);
-        let d = (x - self.threshold).max(f64::MIN_POSITIVE);
+        let d = x - self.threshold;
         let cut = profile.max - 0.5 * q;
         let mut h = |c: f64| profile.at(c, d) - cut;
         let a0 = profile.a0;
@@ -275,10 +275,9 @@ impl TailFit {
         let cut = profile.max - 0.5 * q;
         let c = rate_per_h.ln();
         let u = self.threshold;
-        let min_d = g.sigma() * 1e-9;
-        let mut h = |x: f64| profile.at(c, (x - u).max(min_d)) - cut;
+        let mut h = |x: f64| profile.at(c, x - u) - cut;
         let step = 0.25 * g.sigma();
-        let lower = crossing(&mut h, x_hat, -1.0, u + min_d, step).unwrap_or(u);
+        let lower = crossing(&mut h, x_hat, -1.0, u, step).unwrap_or(u);
         let upper =
             crossing(&mut h, x_hat, 1.0, x_hat + g.sigma() * 1e9, step).unwrap_or(f64::INFINITY);
         Ok(Estimate {
@@ -304,6 +303,9 @@ struct JointProfile<'a> {
     xi_hi: f64,
     /// The joint maximum ℓ̂.
     max: f64,
+    /// The GPD part's maximum and scale estimate.
+    g_max: f64,
+    sigma_hat: f64,
 }
 
 impl<'a> JointProfile<'a> {
@@ -351,6 +353,8 @@ impl<'a> JointProfile<'a> {
             xi_lo,
             xi_hi,
             max,
+            g_max,
+            sigma_hat: fit.fit.gpd().sigma(),
         }
     }
 
@@ -376,16 +380,27 @@ impl<'a> JointProfile<'a> {
     }
 
     /// ℓ_prof(c) at `d = x − u`.
+    ///
+    /// The maximum over `w` is searched in `ln(−w)`: for a level just above `u` the best `w`
+    /// is about `−d/σ̂`, tiny, and a linear grid would step over it. The range is where the
+    /// Poisson part can matter (`c − w` within `[a0 + b_lo, a0 + b_hi]`), cut below at
+    /// `−w = 1e-6 d/σ̂` (a scale a million times the estimate, which the GPD likelihood
+    /// rules out by far more than any cut).
     fn at(&self, c: f64, d: f64) -> f64 {
-        // w = c − a with a = a0 + b, b in [b_lo, b_hi]; and w < 0.
-        let w_lo = c - self.a0 - self.b_hi;
-        let w_hi = (c - self.a0 - self.b_lo).min(-1e-300);
-        if w_lo >= w_hi {
+        if d <= 0.0 {
+            // At u itself every GPD gives P(Y > 0) = 1: only the Poisson part is left.
+            return self.poisson(c) + self.g_max;
+        }
+        let m_hi = self.a0 + self.b_hi - c;
+        let m_lo = (self.a0 + self.b_lo - c).max(1e-6 * d / self.sigma_hat);
+        if m_hi.is_nan() || m_hi <= m_lo {
             return IMPOSSIBLE;
         }
-        let mut f = |w: f64| self.poisson(c - w) + self.gpd_at_log_survival(w, d);
-        let span = w_hi - w_lo;
-        grid_then_brent_max(&mut f, w_lo, w_hi, 9, 1e-7 * span.max(1e-3)).1
+        let mut f = |v: f64| {
+            let m = v.exp();
+            self.poisson(c + m) + self.gpd_at_log_survival(-m, d)
+        };
+        grid_then_brent_max(&mut f, m_lo.ln(), m_hi.ln(), 13, 1e-8).1
     }
 }
 

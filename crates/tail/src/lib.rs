@@ -16,7 +16,9 @@
 //!    thresholds) and an automatic threshold rule;
 //! 5. [`gof`]: the **Anderson–Darling** test with Choulakian & Stephens' (2001) table; a fit
 //!    that fails it (or cannot be tested) says so through [`Verdict`], so the caller falls
-//!    back to the brute-force bound.
+//!    back to the brute-force bound;
+//! 6. [`extrapolate()`]: all of it in one call for a runner, ending in a [`Status`] that says
+//!    whether to use the fit or the brute-force bound.
 //!
 //! `TAIL.md` in this crate states the formulas, sources and limits for the README.
 //!
@@ -42,6 +44,7 @@
 
 pub mod alarm;
 mod error;
+pub mod extrapolate;
 pub mod fit;
 pub mod gof;
 pub mod gpd;
@@ -52,6 +55,7 @@ pub use alarm::{
     alarm_statistic, AlarmRule, Cluster, TailAccumulator, TrialScan, HOLD_TOLERANCE_S,
 };
 pub use error::TailError;
+pub use extrapolate::{extrapolate, Extrapolation, Status, TargetThreshold};
 pub use fit::{Estimate, TailFit, Verdict};
 pub use gof::{GoodnessOfFit, PValue};
 pub use gpd::{Gpd, GpdFit, MIN_EXCESSES};

@@ -15,15 +15,19 @@
 //! Coles (2001, §4.3.4) picks the lowest threshold above which the estimates of ξ and σ* are
 //! constant up to sampling error. Automated here ([`choose_threshold`]): the lowest candidate
 //! with at least `min_exceedances` cluster maxima whose fit is regular and not rejected by the
-//! Anderson–Darling test, and such that the point estimates of ξ and σ* at *every* higher
-//! candidate (with a regular fit) lie inside its own intervals. The minimum count is a rule of
-//! thumb of the trade (common practice; with fewer than a few dozen exceedances the ξ interval
-//! spans several tail types).
+//! Anderson–Darling test, and whose point estimates of ξ and σ* lie inside the intervals of
+//! *every* higher candidate (with a regular fit). Judging the low candidate by the higher
+//! ones' intervals, not the other way round, matters: the lowest candidate has the most data
+//! and the narrowest interval, which the noisy estimates of the highest candidates would
+//! almost never fall into, so the opposite check drives the choice to the top of the grid and
+//! throws away most of the data. The minimum count is a rule of thumb of the trade (common
+//! practice; with fewer than a few dozen exceedances the ξ interval spans several tail types).
 //!
 //! **Limits.** The estimates at neighbouring thresholds share data, so they move together and
-//! the check is lenient; intervals widen with `u`, so high candidates are easy to accept and
-//! the rule can only be as good as the grid's low end (a grid that starts above the bias
-//! region cannot show it). The rule is a screening step: the table is there to be looked at.
+//! the check is lenient: a bias at the low candidates shows only when it exceeds the interval
+//! half-width of the middle candidates. The rule can only be as good as the grid's low end (a
+//! grid that starts above the bias region cannot show it). It is a screening step: the table
+//! is there to be looked at, and the goodness-of-fit test is the guard that remains.
 
 use crate::alarm::TailAccumulator;
 use crate::error::{check_confidence, parameter, TailError};
@@ -206,11 +210,11 @@ pub fn choose_threshold(table: &[StabilityRow], rule: &ThresholdRule) -> Option<
         if row.verdict != Some(Verdict::Usable) {
             continue;
         }
-        let xi = row.xi.expect("regular rows have ξ");
+        let xi = row.xi.expect("regular rows have ξ").value;
         let stable = table[i + 1..].iter().filter(|r| regular(r)).all(|r| {
-            let xi_ok = xi.contains(r.xi.expect("regular").value);
+            let xi_ok = r.xi.expect("regular").contains(xi);
             let scale_ok = match (row.modified_scale, r.modified_scale) {
-                (Some(s), Some(t)) => s.contains(t.value),
+                (Some(s), Some(t)) => t.contains(s.value),
                 _ => true,
             };
             xi_ok && scale_ok

@@ -157,3 +157,46 @@ fn a_tail_with_a_shelf_has_no_usable_threshold() {
     }
     assert_eq!(chosen, None);
 }
+
+#[test]
+fn one_call_extrapolation_and_its_fallbacks() {
+    use echobench_tail::{extrapolate, Status};
+    const N: f64 = 16.0;
+    let acc = cfar_accumulator(3, 60_000, false);
+    let frames_per_h = 3600.0 / 0.01;
+    // Per-frame probabilities 1e-6 and 1e-7: 17 and 170 times rarer than the run's 60 000
+    // frames can show; their closed-form levels (Richards 2005, CA-CFAR section).
+    let probabilities = [1e-6, 1e-7];
+    let rates: Vec<f64> = probabilities.iter().map(|p| p * frames_per_h).collect();
+    let rule = ThresholdRule::default();
+    let ex = extrapolate(&acc, &rule, 10, &rates).unwrap();
+    assert_eq!(ex.status, Status::Fitted);
+    let fit = ex.fit.as_ref().unwrap();
+    for (target, p) in ex.targets.iter().zip(probabilities) {
+        let alpha = N * (f64::powf(p, -1.0 / N) - 1.0);
+        let est = target.threshold.as_ref().unwrap();
+        println!("p {p}: α {alpha:.3}, fitted {est:?}");
+        assert!(est.contains(alpha));
+    }
+    // The band for a report: rates fall with the level, intervals hold their estimates.
+    let u = fit.threshold();
+    let levels: Vec<f64> = (0..6).map(|i| u + i as f64 * 2.0).collect();
+    let band = ex.rate_band(&levels, 0.95).unwrap();
+    assert_eq!(band.len(), levels.len());
+    for w in band.windows(2) {
+        assert!(w[1].1.value < w[0].1.value && w[1].1.upper <= w[0].1.upper);
+    }
+    for (x, e) in &band {
+        println!("x {x}: {e:?}");
+    }
+    assert!(band
+        .iter()
+        .all(|(_, e)| e.lower <= e.value && e.value <= e.upper));
+
+    // Fallbacks: a shelf in the tail, and a run with too few clusters.
+    let shelf = extrapolate(&cfar_accumulator(2, 60_000, true), &rule, 10, &rates).unwrap();
+    assert_eq!(shelf.status, Status::NoStableThreshold);
+    assert!(shelf.fit.is_none() && shelf.targets.is_empty() && !shelf.table.is_empty());
+    let short = extrapolate(&cfar_accumulator(4, 25, false), &rule, 10, &rates).unwrap();
+    assert_eq!(short.status, Status::TooFewClusters);
+}
