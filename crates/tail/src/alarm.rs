@@ -102,7 +102,7 @@ pub fn alarm_statistic(rule: &AlarmRule, scores: &[f64]) -> Vec<f64> {
 }
 
 /// One cluster of exceedance frames (runs declustering, module doc).
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Cluster {
     /// The trial's key.
     pub trial: u64,

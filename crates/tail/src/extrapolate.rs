@@ -7,7 +7,7 @@ use crate::fit::{Estimate, TailFit, Verdict};
 use crate::threshold::{candidate_thresholds, choose_from, StabilityRow, ThresholdRule};
 
 /// How an extrapolation ended.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub enum Status {
     /// A threshold was chosen and its fit passed the goodness-of-fit test.
     Fitted,

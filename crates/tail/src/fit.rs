@@ -45,7 +45,7 @@ use crate::gpd::{
 use crate::solve::{brent_root, grid_then_brent_max};
 
 /// A value with a two-sided interval.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Estimate {
     /// The point estimate.
     pub value: f64,
@@ -63,7 +63,7 @@ impl Estimate {
 }
 
 /// Whether a fit may be used to extrapolate, and if not, why not.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub enum Verdict {
     /// The goodness-of-fit test does not reject the fit at the level asked for.
     Usable,

@@ -44,7 +44,7 @@ const CRITICAL: [[f64; 8]; 10] = [
 ];
 
 /// A p-value read from the table: interpolated, or a bound beyond its outer columns.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub enum PValue {
     /// Interpolated between tabulated levels.
     Interpolated(f64),
@@ -64,7 +64,7 @@ impl PValue {
 }
 
 /// The Anderson–Darling test of a GPD fit.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct GoodnessOfFit {
     /// The statistic A².
     pub statistic: f64,

@@ -47,7 +47,7 @@ pub const XI_MIN: f64 = -1.0;
 pub const XI_MAX: f64 = 20.0;
 
 /// A generalized Pareto distribution with location 0: shape `xi` (ξ), scale `sigma` (σ).
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct Gpd {
     xi: f64,
     sigma: f64,

@@ -36,7 +36,7 @@ use crate::gof::GoodnessOfFit;
 use statrs::distribution::{ContinuousCDF, Normal};
 
 /// One candidate threshold of the stability table.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct StabilityRow {
     /// The candidate threshold u.
     pub threshold: f64,
