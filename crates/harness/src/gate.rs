@@ -46,12 +46,14 @@
 //! the tests of change against the baseline.
 
 use crate::runner::{DetectorTally, RunDetector, Tallies, TrialOutcome, VariantTally};
+use echobench_presence::PresenceTally;
 use echobench_stats::{
     exposure_for_rate_claim, exposure_to_resolve_rate, fisher_exact_greater, garwood_lower_bound,
     garwood_upper_bound, holm_adjust, mcnemar_exact, rate_over_limit_p_value, rate_ratio_test,
     EventCount,
 };
 use serde::Serialize;
+use statrs::distribution::{ContinuousCDF, Normal};
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt::Write as _;
 
@@ -98,6 +100,13 @@ pub enum Metric {
     Detection,
     /// Trials with a missed event, paired exact McNemar test.
     DetectionPaired,
+    /// Presence products: false switch-ons per empty hour, exact conditional test with a margin.
+    FalseSwitchOns,
+    /// Presence products: drop-outs per occupied hour, exact conditional test with a margin.
+    Dropouts,
+    /// Presence products: false-on time per empty hour, large-sample test of two weighted
+    /// Poisson sums with a margin.
+    FalseOnTime,
 }
 
 impl Metric {
@@ -109,6 +118,9 @@ impl Metric {
             Metric::FalseAlarmBudget => "false-alarm budget",
             Metric::Detection => "detection",
             Metric::DetectionPaired => "detection, paired",
+            Metric::FalseSwitchOns => "false switch-ons",
+            Metric::Dropouts => "drop-outs",
+            Metric::FalseOnTime => "false-on time",
         }
     }
 }
@@ -378,6 +390,9 @@ pub fn gate(
                     });
                     detector_checks.push(budget_check(&at, &sc, settings));
                 }
+                if let Some((pb, pc)) = presence_sums(&pairs, o, p) {
+                    detector_checks.extend(presence_checks(&at, &name, &pb, &pc, settings));
+                }
                 if sb.events > 0 || sc.events > 0 {
                     detector_checks.push(detection_check(&at, &name, &sb, &sc));
                     detector_checks.push(paired_flags_check(
@@ -507,20 +522,147 @@ fn rate_words(k: u64, hours: f64) -> String {
 }
 
 fn rate_check(at: &OperatingRef, group: &str, b: &Sums, c: &Sums, s: &GateSettings) -> Check {
-    let mut check = at.check(Metric::FalseAlarmRate, group);
-    check.baseline = rate_words(b.false_alarms, b.exposure_h);
-    check.candidate = rate_words(c.false_alarms, c.exposure_h);
-    if b.exposure_h <= 0.0 || c.exposure_h <= 0.0 {
-        check.note = "no noise-only time in this group".into();
+    count_rise_check(
+        at,
+        Metric::FalseAlarmRate,
+        group,
+        (b.false_alarms, b.exposure_h),
+        (c.false_alarms, c.exposure_h),
+        s,
+        "no noise-only time in this group",
+    )
+}
+
+/// The presence tallies of both runs summed over a group's variants, when both runs have
+/// them (a presence product scored at the baseline's thresholds).
+fn presence_sums(
+    pairs: &[(&VariantTally, &VariantTally)],
+    o: usize,
+    p: usize,
+) -> Option<(PresenceTally, PresenceTally)> {
+    let mut b = PresenceTally::default();
+    let mut c = PresenceTally::default();
+    for (vb, vc) in pairs {
+        b.merge(vb.presence.get(o)?);
+        c.merge(vc.pinned_presence.get(p)?);
+    }
+    Some((b, c))
+}
+
+/// Fewest false-on episodes on a side before the large-sample false-on time test is run;
+/// below it the normal approximation of a sum of a few episodes is poor, and the exact
+/// test on false switch-ons (each episode starts with one, or with an exit) speaks instead.
+/// Five is the usual floor for a normal approximation of a Poisson count (common practice).
+const MIN_FALSE_ON_EPISODES: u64 = 5;
+
+/// A presence product's checks: false switch-ons and drop-outs (exact conditional tests
+/// of two Poisson counts with the ratio margin), and false-on time (a one-sided Wald test
+/// of `rate_c ≤ ρ₀·rate_b` for two weighted Poisson sums, each with the compound-Poisson
+/// variance Σ wᵢ² of Fay & Feuer 1997, §2).
+fn presence_checks(
+    at: &OperatingRef,
+    group: &str,
+    b: &PresenceTally,
+    c: &PresenceTally,
+    s: &GateSettings,
+) -> Vec<Check> {
+    let empty_h = |t: &PresenceTally| t.empty_ns as f64 / 3.6e12;
+    let occupied_h = |t: &PresenceTally| t.occupied_ns() as f64 / 3.6e12;
+    let mut out = vec![
+        count_rise_check(
+            at,
+            Metric::FalseSwitchOns,
+            group,
+            (b.false_switch_ons, empty_h(b)),
+            (c.false_switch_ons, empty_h(c)),
+            s,
+            "no empty time in this group",
+        ),
+        count_rise_check(
+            at,
+            Metric::Dropouts,
+            group,
+            (b.dropouts(), occupied_h(b)),
+            (c.dropouts(), occupied_h(c)),
+            s,
+            "no occupied time in this group",
+        ),
+    ];
+    let mut check = at.check(Metric::FalseOnTime, group);
+    let words = |t: &PresenceTally| {
+        format!(
+            "{:.1} s in {:.2} h ({} episodes)",
+            t.false_on_ns as f64 * 1e-9,
+            empty_h(t),
+            t.false_on_episodes
+        )
+    };
+    check.baseline = words(b);
+    check.candidate = words(c);
+    if b.empty_ns == 0 || c.empty_ns == 0 {
+        check.note = "no empty time in this group".into();
+    } else if b.false_on_episodes.min(c.false_on_episodes) < MIN_FALSE_ON_EPISODES
+        && c.false_on_ns as f64 / empty_h(c) <= s.ratio_margin * b.false_on_ns as f64 / empty_h(b)
+    {
+        // Not over the margin at all: nothing to test, whatever the sample size.
+        check.verdict = Verdict::Pass;
+        check.note = format!(
+            "not above {} × the baseline's false-on time",
+            s.ratio_margin
+        );
+    } else if b.false_on_episodes.min(c.false_on_episodes) < MIN_FALSE_ON_EPISODES {
+        check.note = format!(
+            "not tested: fewer than {MIN_FALSE_ON_EPISODES} false-on episodes on a side (the false switch-on test covers it)"
+        );
+    } else {
+        // Rates in seconds per empty hour; variances of the sums in s².
+        let (tb, tc) = (empty_h(b), empty_h(c));
+        let (yb, yc) = (b.false_on_ns as f64 * 1e-9, c.false_on_ns as f64 * 1e-9);
+        let (vb, vc) = (
+            b.false_on_episode_sq_ns2 as f64 * 1e-18,
+            c.false_on_episode_sq_ns2 as f64 * 1e-18,
+        );
+        let rho = s.ratio_margin;
+        let difference = yc / tc - rho * yb / tb;
+        let sd = (vc / (tc * tc) + rho * rho * vb / (tb * tb)).sqrt();
+        let z = difference / sd;
+        let p_value = 1.0 - Normal::new(0.0, 1.0).map_or(0.5, |n| n.cdf(z));
+        check.ratio = (yb > 0.0).then(|| (yc / tc) / (yb / tb));
+        check.p_value = Some(p_value);
+        check.verdict = Verdict::Pass;
+        check.note = format!(
+            "large-sample test of false-on time per empty hour > {rho} × the baseline's (one-sided; weighted Poisson variance, Fay & Feuer 1997)"
+        );
+    }
+    out.push(check);
+    out
+}
+
+/// A one-sided test that a count per unit of exposure rose by more than the ratio margin:
+/// the exact conditional test of two Poisson counts (Przyborowski & Wilenski 1940).
+fn count_rise_check(
+    at: &OperatingRef,
+    metric: Metric,
+    group: &str,
+    (b_count, b_hours): (u64, f64),
+    (c_count, c_hours): (u64, f64),
+    s: &GateSettings,
+    no_exposure: &str,
+) -> Check {
+    let mut check = at.check(metric, group);
+    check.baseline = rate_words(b_count, b_hours);
+    check.candidate = rate_words(c_count, c_hours);
+    if b_hours <= 0.0 || c_hours <= 0.0 {
+        check.note = no_exposure.into();
         return check;
     }
     let candidate = EventCount {
-        events: c.false_alarms,
-        exposure: c.exposure_h,
+        events: c_count,
+        exposure: c_hours,
     };
     let base = EventCount {
-        events: b.false_alarms,
-        exposure: b.exposure_h,
+        events: b_count,
+        exposure: b_hours,
     };
     match rate_ratio_test(candidate, base, s.ratio_margin, 1.0 - s.alpha) {
         Ok(t) => {
@@ -1233,6 +1375,93 @@ fn md_escape(s: &str) -> String {
 mod tests {
     use super::*;
     use statrs::distribution::{DiscreteCDF, Poisson};
+
+    /// A presence tally over `hours` of empty and of occupied time with `episodes` false-on
+    /// episodes of `episode_s` each (each starting with a false switch-on) and `dropouts`.
+    fn presence(hours: f64, episodes: u64, episode_s: f64, dropouts: u64) -> PresenceTally {
+        let episode_ns = (episode_s * 1e9) as u64;
+        PresenceTally {
+            empty_ns: (hours * 3.6e12) as u64,
+            moving_ns: (hours * 3.6e12) as u64,
+            false_on_ns: episodes * episode_ns,
+            false_switch_ons: episodes,
+            false_on_episodes: episodes,
+            false_on_episode_sq_ns2: u128::from(episodes) * u128::from(episode_ns).pow(2),
+            longest_false_on_episode_ns: episode_ns,
+            dropouts_moving: dropouts,
+            ..PresenceTally::default()
+        }
+    }
+
+    fn presence_verdicts(b: &PresenceTally, c: &PresenceTally) -> Vec<(Metric, Verdict)> {
+        let key = ComparisonKey {
+            product: "lights".into(),
+            detector: "d".into(),
+        };
+        let at = OperatingRef {
+            key: &key,
+            target_per_hour: 1.0,
+            threshold: 1.0,
+        };
+        let settings = GateSettings::default();
+        let mut checks = presence_checks(&at, "all scenes", b, c, &settings);
+        apply_holm(&mut checks, settings.alpha);
+        checks.iter().map(|c| (c.metric, c.verdict)).collect()
+    }
+
+    #[test]
+    fn a_presence_product_regresses_on_switch_ons_dropouts_or_false_on_time() {
+        use Metric::*;
+        use Verdict::*;
+        let baseline = presence(10.0, 20, 10.0, 10);
+        // The same run: nothing regresses.
+        assert_eq!(
+            presence_verdicts(&baseline, &baseline),
+            [
+                (FalseSwitchOns, Pass),
+                (Dropouts, Pass),
+                (FalseOnTime, Pass)
+            ]
+        );
+        // Four times the switch-ons (P(X ≥ 80 | Poisson-binomial split at ρ₀ = 1.25) is
+        // tiny): a regression of switch-ons and of false-on time.
+        assert_eq!(
+            presence_verdicts(&baseline, &presence(10.0, 80, 10.0, 10)),
+            [
+                (FalseSwitchOns, Regression),
+                (Dropouts, Pass),
+                (FalseOnTime, Regression)
+            ]
+        );
+        // As many switch-ons, each six times longer: only the false-on time regresses.
+        // z = (1200/10 − 1.25·200/10) / √(20·3600/100 + 1.25²·20·100/100) ≈ 95/27.6 ≈ 3.4.
+        assert_eq!(
+            presence_verdicts(&baseline, &presence(10.0, 20, 60.0, 10)),
+            [
+                (FalseSwitchOns, Pass),
+                (Dropouts, Pass),
+                (FalseOnTime, Regression)
+            ]
+        );
+        // Five times the drop-outs.
+        assert_eq!(
+            presence_verdicts(&baseline, &presence(10.0, 20, 10.0, 50)),
+            [
+                (FalseSwitchOns, Pass),
+                (Dropouts, Regression),
+                (FalseOnTime, Pass)
+            ]
+        );
+        // Too few episodes to test false-on time, but fewer seconds than the margin: pass.
+        assert_eq!(
+            presence_verdicts(&presence(10.0, 2, 10.0, 1), &presence(10.0, 2, 11.0, 1))[2],
+            (FalseOnTime, Pass)
+        );
+        assert_eq!(
+            presence_verdicts(&presence(10.0, 2, 10.0, 1), &presence(10.0, 3, 30.0, 1))[2],
+            (FalseOnTime, NotTested)
+        );
+    }
 
     /// Budget checks of one key at two operating points with the given candidate counts,
     /// settled as `gate` settles them.
