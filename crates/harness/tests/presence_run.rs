@@ -221,9 +221,21 @@ fn a_presence_product_is_calibrated_on_switch_ons_and_scored_on_its_pin() {
             assert!(pair[1].false_on_ns >= pair[0].false_on_ns, "{}", v.scene);
         }
     }
-    let visitor = energy.variants.iter().find(|v| v.scene == "visitor").unwrap();
-    let reader = energy.variants.iter().find(|v| v.scene == "reader").unwrap();
-    let room = energy.variants.iter().find(|v| v.scene == "fan-room").unwrap();
+    let visitor = energy
+        .variants
+        .iter()
+        .find(|v| v.scene == "visitor")
+        .unwrap();
+    let reader = energy
+        .variants
+        .iter()
+        .find(|v| v.scene == "reader")
+        .unwrap();
+    let room = energy
+        .variants
+        .iter()
+        .find(|v| v.scene == "fan-room")
+        .unwrap();
     // The visitor walks in from outside the zone, then stands still: one entry each.
     assert_eq!(visitor.presence[0].entries, 4);
     assert!(visitor.presence[0].moving_ns > 0 && visitor.presence[0].still_ns > 0);
