@@ -281,9 +281,11 @@ impl AdditiveNoise for FlickerNoise {
             return;
         }
         // The drive first (the same draws, in the same order), then the states
-        // four at a time with their values in registers: four independent
-        // recursions overlap in the pipeline, and each sample's sum still adds
-        // G·w, then state 1, 2, … in order, as one sample at a time would.
+        // up to sixteen at a time (all of them, at any usual rate) with their
+        // values in registers: each state's recursion is a chain of one
+        // multiply and one add per sample, so the more of them in one pass the
+        // more overlap in the pipeline, and each sample's sum still adds G·w,
+        // then state 1, 2, … in order, as one sample at a time would.
         let n = out.len();
         self.drive.clear();
         self.drive
@@ -293,22 +295,29 @@ impl AdditiveNoise for FlickerNoise {
             .extend(self.drive.iter().map(|&drive| self.gain_v * drive));
         let groups = self
             .states
-            .chunks_mut(4)
-            .zip(self.poles.chunks(4))
-            .zip(self.residues_v.chunks(4));
+            .chunks_mut(STATES_PER_PASS)
+            .zip(self.poles.chunks(STATES_PER_PASS))
+            .zip(self.residues_v.chunks(STATES_PER_PASS));
         for ((states, poles), residues) in groups {
-            match states.len() {
-                4 => run_states::<4>(states, poles, residues, &self.drive, &mut self.sum_v),
-                3 => run_states::<3>(states, poles, residues, &self.drive, &mut self.sum_v),
-                2 => run_states::<2>(states, poles, residues, &self.drive, &mut self.sum_v),
-                _ => run_states::<1>(states, poles, residues, &self.drive, &mut self.sum_v),
+            let (drive, sum) = (&self.drive, &mut self.sum_v);
+            macro_rules! run {
+                ($($n:literal)*) => {
+                    match states.len() {
+                        $($n => run_states::<$n>(states, poles, residues, drive, sum),)*
+                        _ => unreachable!("chunks of at most {STATES_PER_PASS}"),
+                    }
+                };
             }
+            run!(1 2 3 4 5 6 7 8 9 10 11 12 13 14 15 16);
         }
         for (sample, sum) in out.iter_mut().zip(&self.sum_v) {
             *sample += sum;
         }
     }
 }
+
+/// States advanced together in one pass over a block (see `add_to`).
+const STATES_PER_PASS: usize = 16;
 
 /// Adds `N` states' contributions to `sum_v` and advances them over `drive`.
 fn run_states<const N: usize>(
