@@ -139,8 +139,14 @@ impl CycleTable {
         let d10 = 3.0 * u2 - 4.0 * u + 1.0;
         let d11 = 3.0 * u2 - 2.0 * u;
         let (a, b) = (&self.states[i], &self.states[j]);
-        *out = self.template;
-        for (k, (segment, velocity)) in out.segments.iter_mut().zip(velocity_mps).enumerate() {
+        let segments = out.segments.iter_mut().zip(velocity_mps);
+        for (k, ((segment, velocity), template)) in
+            segments.zip(&self.template.segments).enumerate()
+        {
+            // Names and sizes from the template, field by field: the rest is written below.
+            segment.name = template.name;
+            segment.radius_m = template.radius_m;
+            segment.half_length_m = template.half_length_m;
             let mut axis = [0.0; 3];
             for c in 0..3 {
                 let (x0, x1) = (a.center_m[k][c], b.center_m[k][c]);
