@@ -287,7 +287,9 @@ impl ActorTrack {
         let k = radar.phase_per_m;
         let h = self.samples_per_node as f64 / self.sim_rate_hz;
         let step = 1.0 / self.samples_per_node as f64;
-        groups.clear();
+        // The groups of the last interval are written over (their unused lanes
+        // keep stale but finite values, which are computed and never added).
+        let mut used = 0;
         let echoes = self.start.iter().zip(&self.end);
         let flashes = self.start_flash.iter().zip(&self.end_flash);
         for ((a, b), (fa, fb)) in echoes.zip(flashes) {
@@ -295,10 +297,14 @@ impl ActorTrack {
             if a0 == 0.0 && da == 0.0 {
                 continue;
             }
-            if groups.last().is_none_or(|g| g.count == LANES) {
-                groups.push(EchoGroup::default());
+            if used == 0 || groups[used - 1].count == LANES {
+                if groups.len() == used {
+                    groups.push(EchoGroup::default());
+                }
+                (groups[used].count, groups[used].flash) = (0, false);
+                used += 1;
             }
-            let group = groups.last_mut().expect("a group was just pushed");
+            let group = &mut groups[used - 1];
             let lane = group.count;
             group.count += 1;
             // Hermite cubic of the range change over the interval, in u ∈ [0, 1):
@@ -325,8 +331,18 @@ impl ActorTrack {
                     c3: m0 + m1 - 2.0 * delta,
                 };
                 group.argument.set(lane, &argument, step);
+            } else {
+                // No flash: x = 0, sinc x = 1, should the group have a flash in another lane.
+                let none = Cubic {
+                    c0: 0.0,
+                    c1: 0.0,
+                    c2: 0.0,
+                    c3: 0.0,
+                };
+                group.argument.set(lane, &none, step);
             }
         }
+        groups.truncate(used);
     }
 }
 
@@ -440,7 +456,7 @@ fn complex_multiply(a: &mut [[f64; LANES]; 2], b: &[[f64; LANES]; 2]) {
 
 /// Up to four echoes of one node interval: amplitude a0 + da·u, phase and
 /// (for a blade) flash argument as cubics in u, with their running phasors.
-/// Unused lanes have zero amplitude and are never added.
+/// Lanes past `count` are never added.
 #[derive(Default, Clone)]
 struct EchoGroup {
     count: usize,
