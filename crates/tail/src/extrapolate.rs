@@ -79,7 +79,7 @@ pub fn extrapolate(
             targets: Vec::new(),
         });
     };
-    let fit = TailFit::from_accumulator(acc, table[i].threshold)?;
+    let fit = TailFit::from_accumulator(acc, table[i].threshold, rule.shape_floor)?;
     debug_assert_eq!(fit.verdict(rule.gof_level), Verdict::Usable);
     let targets = target_rates_per_h
         .iter()

@@ -93,31 +93,46 @@ pub struct TailFit {
 /// Where a maximum over w or ξ found nothing (every candidate outside the support).
 const IMPOSSIBLE: f64 = f64::NEG_INFINITY;
 
+/// Tolerance of interval ends: in `ln λ` (so relative in the rate), and in units of σ̂ for
+/// thresholds; far below any interval's width.
+const ROOT_TOL: f64 = 1e-7;
+
 /// Added to the cut when bounding the search ranges, so the bounds sit safely outside it.
 const RANGE_MARGIN: f64 = 2.0;
 
 impl TailFit {
-    /// Fits the clusters of `acc` declustered at `u` (their maxima strictly above `u`).
+    /// Fits the clusters of `acc` declustered at `u` (their maxima strictly above `u`), with
+    /// the shape constrained to `ξ >= shape_floor` ([`crate::NO_SHAPE_FLOOR`]: none).
     ///
     /// # Errors
     /// As [`TailAccumulator::excesses`] and [`TailFit::from_excesses`].
-    pub fn from_accumulator(acc: &TailAccumulator, u: f64) -> Result<Self, TailError> {
-        TailFit::from_excesses(u, &acc.excesses(u)?, acc.exposure_h())
+    pub fn from_accumulator(
+        acc: &TailAccumulator,
+        u: f64,
+        shape_floor: f64,
+    ) -> Result<Self, TailError> {
+        TailFit::from_excesses(u, &acc.excesses(u)?, acc.exposure_h(), shape_floor)
     }
 
-    /// Fits excesses over `u` observed in `exposure_h` hours.
+    /// Fits excesses over `u` observed in `exposure_h` hours, with the shape constrained to
+    /// `ξ >= shape_floor` ([`crate::NO_SHAPE_FLOOR`]: none; see [`GpdFit::with_shape_floor`]).
     ///
     /// # Errors
-    /// Fewer than [`crate::MIN_EXCESSES`] excesses, a bad excess, or an exposure that is not
-    /// finite and > 0.
-    pub fn from_excesses(u: f64, excesses: &[f64], exposure_h: f64) -> Result<Self, TailError> {
+    /// Fewer than [`crate::MIN_EXCESSES`] excesses, a bad excess, an exposure that is not
+    /// finite and > 0, or a shape floor out of range.
+    pub fn from_excesses(
+        u: f64,
+        excesses: &[f64],
+        exposure_h: f64,
+        shape_floor: f64,
+    ) -> Result<Self, TailError> {
         if !u.is_finite() {
             return Err(parameter("u", u, "finite"));
         }
         if !(exposure_h.is_finite() && exposure_h > 0.0) {
             return Err(parameter("exposure_h", exposure_h, "finite and > 0"));
         }
-        let fit = GpdFit::new(excesses)?;
+        let fit = GpdFit::with_shape_floor(excesses, shape_floor)?;
         let g = fit.gpd();
         let a2 = anderson_darling(fit.excesses(), |y| g.cdf(y));
         let gof = judge(a2, g.xi());
@@ -204,9 +219,9 @@ impl TailFit {
         let floor = a0 - 700.0;
         if w_hat.is_finite() {
             let c_hat = a0 + w_hat;
-            let lower = crossing(&mut h, c_hat, -1.0, floor, 0.25).map_or(0.0, f64::exp);
-            let upper =
-                crossing(&mut h, c_hat, 1.0, c_hi_limit, 0.25).map_or(c_hi_limit.exp(), f64::exp);
+            let lower = crossing(&mut h, c_hat, -1.0, floor, 0.25, ROOT_TOL).map_or(0.0, f64::exp);
+            let upper = crossing(&mut h, c_hat, 1.0, c_hi_limit, 0.25, ROOT_TOL)
+                .map_or(c_hi_limit.exp(), f64::exp);
             Ok(Estimate {
                 value: self.rate_per_h(x),
                 lower,
@@ -277,9 +292,16 @@ impl TailFit {
         let u = self.threshold;
         let mut h = |x: f64| profile.at(c, x - u) - cut;
         let step = 0.25 * g.sigma();
-        let lower = crossing(&mut h, x_hat, -1.0, u, step).unwrap_or(u);
-        let upper =
-            crossing(&mut h, x_hat, 1.0, x_hat + g.sigma() * 1e9, step).unwrap_or(f64::INFINITY);
+        let lower = crossing(&mut h, x_hat, -1.0, u, step, ROOT_TOL * g.sigma()).unwrap_or(u);
+        let upper = crossing(
+            &mut h,
+            x_hat,
+            1.0,
+            x_hat + g.sigma() * 1e9,
+            step,
+            ROOT_TOL * g.sigma(),
+        )
+        .unwrap_or(f64::INFINITY);
         Ok(Estimate {
             value: x_hat,
             lower,
@@ -400,7 +422,7 @@ impl<'a> JointProfile<'a> {
             let m = v.exp();
             self.poisson(c + m) + self.gpd_at_log_survival(-m, d)
         };
-        grid_then_brent_max(&mut f, m_lo.ln(), m_hi.ln(), 13, 1e-8).1
+        grid_then_brent_max(&mut f, m_lo.ln(), m_hi.ln(), 9, 1e-6).1
     }
 }
 

@@ -41,6 +41,9 @@ pub const MIN_EXCESSES: usize = 10;
 /// The lowest shape the fit searches (the boundary; see the module doc).
 pub const XI_MIN: f64 = -1.0;
 
+/// The shape floor that constrains nothing (the fit searches down to [`XI_MIN`]).
+pub const NO_SHAPE_FLOOR: f64 = XI_MIN;
+
 /// The highest shape the fit searches. A tail heavier than this (infinite moments of every
 /// order above 1/20) is not what a detector's noise statistic produces; a fit that runs into
 /// it is flagged like the lower boundary.
@@ -249,6 +252,7 @@ pub struct GpdFit {
     gpd: Gpd,
     log_likelihood: f64,
     at_boundary: bool,
+    shape_floor: f64,
     excesses: Vec<f64>,
     stats: SampleStats,
 }
@@ -267,6 +271,19 @@ impl GpdFit {
     /// # Errors
     /// Fewer than [`MIN_EXCESSES`] values, or a value that is not finite and > 0.
     pub fn new(excesses: &[f64]) -> Result<Self, TailError> {
+        GpdFit::with_shape_floor(excesses, XI_MIN)
+    }
+
+    /// Fits with the shape constrained to `ξ >= shape_floor` (maximum likelihood over that
+    /// part of the parameter space; `XI_MIN` is no constraint). A floor of 0 says "no upper
+    /// endpoint": see `TAIL.md` for when that is the safe assumption.
+    ///
+    /// # Errors
+    /// As [`GpdFit::new`]; also when `shape_floor` is not in `[XI_MIN, 1]`.
+    pub fn with_shape_floor(excesses: &[f64], shape_floor: f64) -> Result<Self, TailError> {
+        if !(XI_MIN..=1.0).contains(&shape_floor) {
+            return Err(parameter("shape_floor", shape_floor, "in [-1, 1]"));
+        }
         if excesses.len() < MIN_EXCESSES {
             return Err(TailError::TooFewExceedances {
                 found: excesses.len(),
@@ -280,10 +297,13 @@ impl GpdFit {
         y.sort_by(f64::total_cmp);
         let stats = SampleStats::of(&y);
         let lp = |xi: f64| profile_log_likelihood(xi, &y, &stats);
+        let constrained = shape_floor > XI_MIN;
 
-        // Grid over ξ: steps of 0.05 on (−1, 1.5], then coarser up to XI_MAX while the best
-        // point sits on the upper edge.
-        let mut grid: Vec<f64> = (1..=50).map(|i| -1.0 + 0.05 * i as f64).collect();
+        // Grid over ξ: steps of 0.05 from the floor (or from −0.95 without one) to 1.5, then
+        // coarser up to XI_MAX while the best point sits on the upper edge.
+        let first = if constrained { shape_floor } else { -0.95 };
+        let steps = (((1.5 - first) / 0.05).round() as usize).max(2);
+        let mut grid: Vec<f64> = (0..=steps).map(|i| first + 0.05 * i as f64).collect();
         let mut values: Vec<f64> = grid.iter().map(|&x| lp(x)).collect();
         let mut best = argmax(&values);
         while best + 1 == grid.len() && grid[best] < XI_MAX {
@@ -292,7 +312,13 @@ impl GpdFit {
             values.push(lp(next));
             best = argmax(&values);
         }
-        let lo = if best == 0 { XI_MIN } else { grid[best - 1] };
+        let lo = if best > 0 {
+            grid[best - 1]
+        } else if constrained {
+            shape_floor
+        } else {
+            XI_MIN
+        };
         let hi = if best + 1 == grid.len() {
             grid[best]
         } else {
@@ -300,7 +326,10 @@ impl GpdFit {
         };
         let slope = |xi: f64| profile_slope(xi, &y, &stats);
         let (s_lo, s_hi) = (if lo <= XI_MIN { f64::NAN } else { slope(lo) }, slope(hi));
-        let mut xi_hat = if s_lo > 0.0 && s_hi < 0.0 {
+        let mut xi_hat = if constrained && lo == shape_floor && s_lo <= 0.0 {
+            // The likelihood falls from the floor on: the constrained maximum is the floor.
+            shape_floor
+        } else if s_lo > 0.0 && s_hi < 0.0 {
             let mut f = |xi: f64| slope(xi);
             brent_root(&mut f, lo, hi, s_lo, s_hi, 1e-13)
         } else {
@@ -310,11 +339,13 @@ impl GpdFit {
         };
         let mut ll = lp(xi_hat);
         let mut at_boundary = false;
-        let boundary_ll = lp(XI_MIN);
-        if boundary_ll >= ll {
-            xi_hat = XI_MIN;
-            ll = boundary_ll;
-            at_boundary = true;
+        if !constrained {
+            let boundary_ll = lp(XI_MIN);
+            if boundary_ll >= ll {
+                xi_hat = XI_MIN;
+                ll = boundary_ll;
+                at_boundary = true;
+            }
         }
         if xi_hat >= XI_MAX * (1.0 - 1e-9) {
             at_boundary = true;
@@ -328,9 +359,20 @@ impl GpdFit {
             gpd: Gpd { xi: xi_hat, sigma },
             log_likelihood: ll,
             at_boundary,
+            shape_floor,
             excesses: y,
             stats,
         })
+    }
+
+    /// The lowest shape the fit allowed (`XI_MIN`: unconstrained).
+    pub fn shape_floor(&self) -> f64 {
+        self.shape_floor
+    }
+
+    /// Whether a shape floor above `XI_MIN` was binding: the estimate sits on it.
+    pub fn at_shape_floor(&self) -> bool {
+        self.shape_floor > XI_MIN && self.gpd.xi == self.shape_floor
     }
 
     /// The fitted distribution.
@@ -372,8 +414,8 @@ impl GpdFit {
 
     /// The profile-likelihood interval of ξ at `confidence`: the ξ whose profile
     /// log-likelihood is within `χ²₁(confidence)/2` of the maximum (Coles 2001, §2.6.6).
-    /// The lower end is −1 when the profile stays above the cut down to the boundary; the
-    /// upper end is `+inf` when it stays above up to [`XI_MAX`].
+    /// The lower end is the shape floor (−1 without one) when the profile stays above the
+    /// cut down to it; the upper end is `+inf` when it stays above up to [`XI_MAX`].
     ///
     /// # Errors
     /// When `confidence` is not in (0, 1).
@@ -386,12 +428,13 @@ impl GpdFit {
     pub(crate) fn xi_range_above(&self, cut: f64) -> (f64, f64) {
         let mut f = |xi: f64| self.profile_log_likelihood(xi) - cut;
         let xi_hat = self.gpd.xi;
-        let lower = if self.at_boundary && xi_hat <= XI_MIN {
-            XI_MIN
+        let floor = self.shape_floor;
+        let lower = if xi_hat <= floor {
+            floor
         } else {
-            crossing(&mut f, xi_hat, -1.0, XI_MIN, 0.05).unwrap_or(XI_MIN)
+            crossing(&mut f, xi_hat, -1.0, floor, 0.05, 1e-10).unwrap_or(floor)
         };
-        let upper = crossing(&mut f, xi_hat, 1.0, XI_MAX, 0.05).unwrap_or(f64::INFINITY);
+        let upper = crossing(&mut f, xi_hat, 1.0, XI_MAX, 0.05, 1e-10).unwrap_or(f64::INFINITY);
         (lower, upper)
     }
 
@@ -433,14 +476,15 @@ fn argmax(values: &[f64]) -> usize {
 }
 
 /// Where `f` (positive at `start`) first crosses zero walking from `start` in `direction`
-/// with steps `step, 2·step, 4·step, …`, not past `limit`; `None` when it stays positive up
-/// to the limit.
+/// with steps `step, 2·step, 4·step, …`, not past `limit`, to a tolerance `tol` in the
+/// argument; `None` when it stays positive up to the limit.
 pub(crate) fn crossing(
     f: &mut dyn FnMut(f64) -> f64,
     start: f64,
     direction: f64,
     limit: f64,
     step: f64,
+    tol: f64,
 ) -> Option<f64> {
     let mut prev = start;
     let mut f_prev = f(start);
@@ -457,7 +501,6 @@ pub(crate) fn crossing(
         let f_next = f(next);
         if f_next <= 0.0 || f_next.is_nan() {
             let f_next = if f_next.is_nan() { -1.0 } else { f_next };
-            let tol = 1e-10 * (1.0 + next.abs());
             return Some(brent_root(f, prev, next, f_prev, f_next, tol));
         }
         if last {
@@ -478,7 +521,7 @@ pub(crate) fn chi2_1_quantile(confidence: f64) -> f64 {
 
 /// The largest of a profile over ξ of `g(ξ)` on `[lo, hi]` (grid then Brent).
 pub(crate) fn max_over_xi(g: &mut dyn FnMut(f64) -> f64, lo: f64, hi: f64) -> f64 {
-    grid_then_brent_max(g, lo, hi, 13, 1e-6 * (hi - lo).max(1e-3)).1
+    grid_then_brent_max(g, lo, hi, 9, 1e-5 * (hi - lo).max(1e-3)).1
 }
 
 #[cfg(test)]

@@ -58,7 +58,7 @@ pub use error::TailError;
 pub use extrapolate::{extrapolate, Extrapolation, Status, TargetThreshold};
 pub use fit::{Estimate, TailFit, Verdict};
 pub use gof::{GoodnessOfFit, PValue};
-pub use gpd::{Gpd, GpdFit, MIN_EXCESSES};
+pub use gpd::{Gpd, GpdFit, MIN_EXCESSES, NO_SHAPE_FLOOR};
 pub use threshold::{
     candidate_thresholds, choose_from, choose_threshold, stability_table, StabilityRow,
     ThresholdRule,

@@ -12,27 +12,34 @@
 //!
 //! # The automatic rule
 //!
-//! Coles (2001, §4.3.4) picks the lowest threshold above which the estimates of ξ and σ* are
-//! constant up to sampling error. Automated here ([`choose_threshold`]): the lowest candidate
-//! with at least `min_exceedances` cluster maxima whose fit is regular and not rejected by the
-//! Anderson–Darling test, and whose point estimates of ξ and σ* lie inside the intervals of
-//! *every* higher candidate (with a regular fit). Judging the low candidate by the higher
-//! ones' intervals, not the other way round, matters: the lowest candidate has the most data
-//! and the narrowest interval, which the noisy estimates of the highest candidates would
-//! almost never fall into, so the opposite check drives the choice to the top of the grid and
-//! throws away most of the data. The minimum count is a rule of thumb of the trade (common
-//! practice; with fewer than a few dozen exceedances the ξ interval spans several tail types).
+//! Coles (2001, §4.3.4) picks the lowest threshold above which the GPD holds, checked by
+//! *threshold stability*: if GPD(ξ, σ) describes the excesses over `u`, then the excesses over
+//! any `v > u` are GPD(ξ, σ + ξ (v − u)) — same shape, modified scale σ* unchanged. Automated
+//! here ([`choose_threshold`]): the lowest candidate with at least `min_exceedances` cluster
+//! maxima whose fit is regular and not rejected by the Anderson–Darling test, and whose fitted
+//! GPD, carried up to every higher candidate as above, is not rejected there by a
+//! likelihood-ratio test (the higher candidate's own fit against the carried-up model, χ² with
+//! 2 degrees of freedom, at the table's confidence). The joint test matters: ξ and σ* are
+//! strongly correlated, so checking each against its own interval (the plot's view) lets a
+//! slowly drifting shape through — as with a Gaussian-like score, whose GPD shape at moderate
+//! thresholds is clearly negative and creeps towards 0 higher up (the penultimate
+//! approximation), which a low threshold turns into a false endpoint and a rate of 0 far out.
+//! The minimum count is a rule of thumb of the trade (common practice; with fewer than a few
+//! dozen exceedances the ξ interval spans several tail types).
 //!
-//! **Limits.** The estimates at neighbouring thresholds share data, so they move together and
-//! the check is lenient: a bias at the low candidates shows only when it exceeds the interval
-//! half-width of the middle candidates. The rule can only be as good as the grid's low end (a
-//! grid that starts above the bias region cannot show it). It is a screening step: the table
-//! is there to be looked at, and the goodness-of-fit test is the guard that remains.
+//! **Limits.** Nested candidates share data, so the test is lenient (a drift shows only when
+//! it is large against the higher candidates' sampling error), and it tests against several
+//! higher candidates, each at the table's level, so it errs towards higher thresholds (wider
+//! intervals, less bias). The rule can only be as good as the grid's low end (a grid that
+//! starts above the bias region cannot show it) and as the high end's power (few exceedances
+//! up there cannot reject much). It is a screening step: the table is there to be looked at,
+//! and the goodness-of-fit test is the guard that remains.
 
 use crate::alarm::TailAccumulator;
 use crate::error::{check_confidence, parameter, TailError};
 use crate::fit::{Estimate, TailFit, Verdict};
 use crate::gof::GoodnessOfFit;
+use crate::gpd::log_likelihood;
 use statrs::distribution::{ContinuousCDF, Normal};
 
 /// One candidate threshold of the stability table.
@@ -54,6 +61,9 @@ pub struct StabilityRow {
     pub goodness_of_fit: Option<GoodnessOfFit>,
     /// The fit's verdict at the table's level (`None` without a fit).
     pub verdict: Option<Verdict>,
+    /// Whether the GPD fitted here also describes the excesses over every higher candidate
+    /// (module doc: the likelihood-ratio check of threshold stability); `None` without a fit.
+    pub consistent_above: Option<bool>,
 }
 
 /// The automatic threshold rule's settings (module doc).
@@ -65,15 +75,24 @@ pub struct ThresholdRule {
     pub confidence: f64,
     /// Significance level of the goodness-of-fit test.
     pub gof_level: f64,
+    /// Every fit is constrained to `ξ >= shape_floor` ([`crate::NO_SHAPE_FLOOR`]: none).
+    pub shape_floor: f64,
+}
+
+impl ThresholdRule {
+    /// ξ >= 0: no upper endpoint. The default (module doc).
+    pub const LIGHT_TAIL_FLOOR: f64 = 0.0;
 }
 
 impl Default for ThresholdRule {
-    /// 30 exceedances (common practice), 95 % intervals, a 5 % test.
+    /// 30 exceedances (common practice), 95 % intervals, a 5 % test, and the shape floor
+    /// [`ThresholdRule::LIGHT_TAIL_FLOOR`] (module doc).
     fn default() -> Self {
         ThresholdRule {
             min_exceedances: 30,
             confidence: 0.95,
             gof_level: 0.05,
+            shape_floor: ThresholdRule::LIGHT_TAIL_FLOOR,
         }
     }
 }
@@ -129,7 +148,8 @@ pub fn candidate_thresholds(
     Ok(out)
 }
 
-/// The stability table over `thresholds` (module doc).
+/// The stability table over `thresholds` (module doc), with `rule`'s confidence, test level
+/// and shape floor.
 ///
 /// # Errors
 /// When `confidence` or `gof_level` is not in (0, 1), or a threshold is below the
@@ -137,10 +157,10 @@ pub fn candidate_thresholds(
 pub fn stability_table(
     acc: &TailAccumulator,
     thresholds: &[f64],
-    confidence: f64,
-    gof_level: f64,
+    rule: &ThresholdRule,
 ) -> Result<Vec<StabilityRow>, TailError> {
-    check_confidence(confidence)?;
+    let confidence = check_confidence(rule.confidence)?;
+    let gof_level = rule.gof_level;
     if !(gof_level > 0.0 && gof_level < 1.0) {
         return Err(parameter(
             "gof_level",
@@ -149,7 +169,8 @@ pub fn stability_table(
         ));
     }
     let z = Normal::standard().inverse_cdf(0.5 * (1.0 + confidence));
-    let mut rows = Vec::with_capacity(thresholds.len());
+    let mut rows: Vec<StabilityRow> = Vec::with_capacity(thresholds.len());
+    let mut fits: Vec<Option<TailFit>> = Vec::with_capacity(thresholds.len());
     for &u in thresholds {
         let excesses = acc.excesses(u)?;
         let n = excesses.len();
@@ -171,8 +192,9 @@ pub fn stability_table(
             modified_scale: None,
             goodness_of_fit: None,
             verdict: None,
+            consistent_above: None,
         };
-        if let Ok(fit) = TailFit::from_excesses(u, &excesses, acc.exposure_h()) {
+        if let Ok(fit) = TailFit::from_excesses(u, &excesses, acc.exposure_h(), rule.shape_floor) {
             let g = fit.gpd();
             let (lo, hi) = fit.gpd_fit().xi_interval(confidence)?;
             row.xi = Some(Estimate {
@@ -192,8 +214,34 @@ pub fn stability_table(
             });
             row.goodness_of_fit = Some(fit.goodness_of_fit());
             row.verdict = Some(fit.verdict(gof_level));
+            fits.push(Some(fit));
+        } else {
+            fits.push(None);
         }
         rows.push(row);
+    }
+    // Threshold stability (Coles 2001, §4.3.4): if GPD(ξ, σ) holds above u_i, the excesses
+    // over u_j > u_i are GPD(ξ, σ + ξ (u_j − u_i)). Each higher fit is tested against that
+    // fully specified model by its likelihood ratio, χ² with 2 degrees of freedom
+    // (quantile −2 ln(1 − confidence)).
+    let lr_cut = -2.0 * (1.0 - confidence).ln();
+    for i in 0..rows.len() {
+        let Some(fi) = &fits[i] else { continue };
+        let (xi, sigma, ui) = (fi.gpd().xi(), fi.gpd().sigma(), rows[i].threshold);
+        let consistent = fits[i + 1..].iter().zip(&rows[i + 1..]).all(|(fj, rj)| {
+            let Some(fj) = fj else { return true };
+            if fj.gpd_fit().at_boundary() {
+                return true;
+            }
+            let sigma_j = sigma + xi * (rj.threshold - ui);
+            let null = if sigma_j > 0.0 {
+                log_likelihood(xi, sigma_j, fj.gpd_fit().excesses())
+            } else {
+                f64::NEG_INFINITY
+            };
+            2.0 * (fj.gpd_fit().log_likelihood() - null) <= lr_cut
+        });
+        rows[i].consistent_above = Some(consistent);
     }
     Ok(rows)
 }
@@ -210,16 +258,7 @@ pub fn choose_threshold(table: &[StabilityRow], rule: &ThresholdRule) -> Option<
         if row.verdict != Some(Verdict::Usable) {
             continue;
         }
-        let xi = row.xi.expect("regular rows have ξ").value;
-        let stable = table[i + 1..].iter().filter(|r| regular(r)).all(|r| {
-            let xi_ok = r.xi.expect("regular").contains(xi);
-            let scale_ok = match (row.modified_scale, r.modified_scale) {
-                (Some(s), Some(t)) => t.contains(s.value),
-                _ => true,
-            };
-            xi_ok && scale_ok
-        });
-        if stable {
+        if row.consistent_above == Some(true) {
             return Some(i);
         }
     }
@@ -236,7 +275,7 @@ pub fn choose_from(
     thresholds: &[f64],
     rule: &ThresholdRule,
 ) -> Result<(Vec<StabilityRow>, Option<usize>), TailError> {
-    let table = stability_table(acc, thresholds, rule.confidence, rule.gof_level)?;
+    let table = stability_table(acc, thresholds, rule)?;
     let chosen = choose_threshold(&table, rule);
     Ok((table, chosen))
 }

@@ -8,7 +8,7 @@
 
 mod common;
 
-use echobench_tail::{GpdFit, TailFit};
+use echobench_tail::{GpdFit, TailFit, NO_SHAPE_FLOOR};
 
 const SEEDS: u64 = 50;
 const NEEDED: usize = 44;
@@ -35,7 +35,7 @@ fn simulated_fit(name: &str, seed: u64, lambda_u: f64, t_h: f64, xi: f64, sigma:
     let mut rng = common::rng(name, seed);
     let n = common::poisson(&mut rng, lambda_u * t_h);
     let y = common::gpd_sample(&mut rng, n, xi, sigma);
-    TailFit::from_excesses(10.0, &y, t_h).unwrap()
+    TailFit::from_excesses(10.0, &y, t_h, NO_SHAPE_FLOOR).unwrap()
 }
 
 #[test]

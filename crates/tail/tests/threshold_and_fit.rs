@@ -5,7 +5,7 @@ mod common;
 
 use echobench_tail::{
     candidate_thresholds, choose_from, AlarmRule, GpdFit, TailAccumulator, TailFit, ThresholdRule,
-    Verdict,
+    Verdict, NO_SHAPE_FLOOR,
 };
 use rand::Rng;
 
@@ -20,7 +20,7 @@ fn anderson_darling_size_matches_the_table_by_simulation() {
         for seed in 0..400 {
             let mut rng = common::rng(&format!("ad-size-{xi}"), seed);
             let y = common::gpd_sample(&mut rng, n, xi, 1.0);
-            let fit = TailFit::from_excesses(0.0, &y, 1.0).unwrap();
+            let fit = TailFit::from_excesses(0.0, &y, 1.0, NO_SHAPE_FLOOR).unwrap();
             if fit.goodness_of_fit().rejects(0.05) == Some(true) {
                 rejected += 1;
             }
@@ -40,7 +40,7 @@ fn a_two_lump_sample_is_rejected() {
         let y: Vec<f64> = (0..100)
             .map(|i| common::open_uniform(&mut rng) + if i % 2 == 0 { 0.0 } else { 3.0 })
             .collect();
-        let fit = TailFit::from_excesses(0.0, &y, 1.0).unwrap();
+        let fit = TailFit::from_excesses(0.0, &y, 1.0, NO_SHAPE_FLOOR).unwrap();
         if matches!(
             fit.verdict(0.05),
             Verdict::Rejected { .. } | Verdict::Boundary
@@ -79,7 +79,7 @@ fn exponential_limit_is_smooth_and_boundary_is_flagged() {
     // ξ < −1 (Smith 1985), so the fit stops at the boundary and says so.
     let mut rng = common::rng("boundary", 1);
     let y = common::gpd_sample(&mut rng, 200, -1.5, 1.0);
-    let tail = TailFit::from_excesses(0.0, &y, 1.0).unwrap();
+    let tail = TailFit::from_excesses(0.0, &y, 1.0, NO_SHAPE_FLOOR).unwrap();
     assert!(tail.gpd_fit().at_boundary());
     assert_eq!(tail.gpd().xi(), -1.0);
     assert_eq!(tail.verdict(0.05), Verdict::Boundary);
