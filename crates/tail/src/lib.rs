@@ -35,7 +35,10 @@
 //! clusters, GPD for their excesses — and intervals are likelihood-ratio intervals of the
 //! quantity asked for (rate at a level, level for a rate), because far in the tail the
 //! sampling distributions are strongly skewed and symmetric (delta-method) intervals
-//! under-cover exactly where the answer matters.
+//! under-cover exactly where the answer matters. By default the shape is constrained to
+//! ξ ≥ 0 (no upper endpoint), because a light tail seen at moderate levels otherwise turns
+//! into a false endpoint and a rate of 0 far out; the error then falls on the safe side
+//! ([`threshold`], "The shape floor").
 //!
 //! Conventions: an alarm condition holds when the statistic is `>=` the threshold (the ROC
 //! convention of the rest of echobench); exposure is noise-only time; rates are per hour;
