@@ -562,3 +562,31 @@ mod tests {
         assert!((near / s.mean - 1.0).abs() < 1e-6);
     }
 }
+
+#[cfg(test)]
+mod degenerate_tests {
+    use super::*;
+
+    #[test]
+    fn degenerate_samples_give_flagged_or_finite_fits_without_panicking() {
+        // All excesses equal: the likelihood keeps rising towards ξ = −1 (a point mass is the
+        // limit of ever narrower bounded tails), so the fit ends on the boundary.
+        let same = vec![1.5; 20];
+        let fit = GpdFit::new(&same).unwrap();
+        assert!(fit.at_boundary());
+        assert_eq!(fit.gpd().xi(), XI_MIN);
+        // With the floor ξ ≥ 0 the same sample is exponential with σ = the mean.
+        let floored = GpdFit::with_shape_floor(&same, 0.0).unwrap();
+        assert_eq!(floored.gpd().xi(), 0.0);
+        assert_eq!(floored.gpd().sigma(), 1.5);
+        assert!(floored.at_shape_floor());
+        // Twelve orders of magnitude between excesses: a very heavy tail, finite numbers.
+        let wide: Vec<f64> = (0..30).map(|i| 10f64.powf(i as f64 * 0.4 - 6.0)).collect();
+        let fit = GpdFit::new(&wide).unwrap();
+        assert!(fit.gpd().xi() > 1.0 && fit.log_likelihood().is_finite());
+        // Refused inputs.
+        assert!(GpdFit::new(&[1.0; 5]).is_err());
+        assert!(GpdFit::new(&[0.0; 20]).is_err());
+        assert!(GpdFit::with_shape_floor(&same, 2.0).is_err());
+    }
+}
