@@ -378,6 +378,19 @@ impl TailAccumulator {
         self.frame_count
     }
 
+    /// The statistics of the frames at or above [`TailAccumulator::floor`], largest first.
+    pub fn kept_statistics(&self) -> Vec<f64> {
+        let floor = self.effective_floor();
+        let mut v: Vec<f64> = self
+            .trials
+            .values()
+            .flat_map(|frames| frames.iter().map(|f| f.1))
+            .filter(|&s| s >= floor)
+            .collect();
+        v.sort_by(|a, b| b.total_cmp(a));
+        v
+    }
+
     /// Frames currently held (for memory accounting).
     pub fn kept_frames(&self) -> usize {
         self.kept

@@ -40,6 +40,35 @@
 //! into a false endpoint and a rate of 0 far out; the error then falls on the safe side
 //! ([`threshold`], "The shape floor").
 //!
+//! # Example
+//!
+//! ```
+//! use echobench_tail::{extrapolate, AlarmRule, Status, TailAccumulator, ThresholdRule};
+//!
+//! // 2-of-3 frames, clusters a hold of 1 s apart; keep the top 5000 frames of the run.
+//! let rule = AlarmRule::new(2, 3, 1.0)?;
+//! let mut acc = TailAccumulator::new(rule, f64::NEG_INFINITY, 5_000)?;
+//! // One noise-only trial: ten minutes of frames every 50 ms with exponential scores.
+//! let mut state = 1u64;
+//! let mut scan = acc.scan(0);
+//! for k in 0..12_000 {
+//!     state = state.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+//!     let uniform = ((state >> 11) as f64 + 0.5) / (1u64 << 53) as f64;
+//!     scan.push(k as f64 * 0.05, -uniform.ln())?;
+//! }
+//! acc.add(scan, 600.0)?;
+//! // The threshold for one false alarm per day, with its 95 % interval (a run 144 times
+//! // shorter than a day). A status other than `Fitted` means: use the brute-force bound.
+//! let ex = extrapolate(&acc, &ThresholdRule::default(), 10, &[1.0 / 24.0])?;
+//! assert_eq!(ex.status, Status::Fitted);
+//! let t = ex.targets[0].threshold.as_ref().unwrap();
+//! // Closed form: an alarm needs two scores above x in adjacent or next-but-one frames,
+//! // about 2 e^(−2x) per frame; one per day (1 in 1 728 000 frames) is x ≈ 7.5.
+//! let x_day = (2.0f64 * 1_728_000.0).ln() / 2.0;
+//! assert!(t.lower <= x_day && x_day <= t.upper);
+//! # Ok::<(), echobench_tail::TailError>(())
+//! ```
+//!
 //! Conventions: an alarm condition holds when the statistic is `>=` the threshold (the ROC
 //! convention of the rest of echobench); exposure is noise-only time; rates are per hour;
 //! `confidence` arguments are levels such as `0.95`.

@@ -36,7 +36,7 @@
 //! (penultimate) shape of a light tail, not a real bound, and extrapolating with it puts a
 //! false endpoint below the target level: a rate of 0 where alarms do happen. The test
 //! `brute_force.rs` shows exactly that on a correlated Gaussian score (a free-shape rule's
-//! upper end was below the long run's rate in 12 of 20 seeds). With the floor, the
+//! upper end was below the long run's rate in 14 of 20 seeds). With the floor, the
 //! goodness-of-fit test rejects the low thresholds where the tail still bends down, the rule
 //! moves up to where it is close to exponential, and a tail lighter than exponential beyond
 //! that is over-estimated: the error is on the safe side (a threshold too high, never too
@@ -113,13 +113,18 @@ impl Default for ThresholdRule {
     }
 }
 
-/// Up to `count` candidate thresholds, ascending, spaced so that the number of cluster
-/// maxima above them falls geometrically from all clusters at the floor to `min_exceedances`
-/// (each candidate sits on a cluster maximum of the floor's clustering, so the count above
-/// it at its own clustering is at least the planned one).
+/// Up to `count` candidate thresholds, ascending, each with at least `min_exceedances`
+/// cluster maxima above it, spread over the range where that holds.
+///
+/// Levels are probed at `4 · count` kept-frame statistics whose ranks fall geometrically from
+/// all kept frames to `min_exceedances`, and the clusters are counted at each level (at its
+/// own clustering): the count is not monotone in the level, since near the floor frames above
+/// it come so often that whole stretches merge into one cluster. The probes with enough
+/// cluster maxima are thinned evenly to `count`.
 ///
 /// # Errors
-/// When `count < 2`, `min_exceedances < crate::MIN_EXCESSES`, or too few clusters.
+/// When `count < 2`, `min_exceedances < crate::MIN_EXCESSES`, or no level has enough
+/// cluster maxima ([`TailError::TooFewExceedances`], with the most found).
 pub fn candidate_thresholds(
     acc: &TailAccumulator,
     count: usize,
@@ -135,31 +140,47 @@ pub fn candidate_thresholds(
             ">= MIN_EXCESSES",
         ));
     }
-    let mut maxima: Vec<f64> = acc
-        .clusters(acc.floor())?
-        .into_iter()
-        .map(|c| c.max)
-        .collect();
-    maxima.sort_by(|a, b| b.total_cmp(a));
-    let total = maxima.len();
+    let values = acc.kept_statistics();
+    let total = values.len();
     if total <= min_exceedances {
         return Err(TailError::TooFewExceedances {
             found: total,
             needed: min_exceedances + 1,
         });
     }
-    // k_i from total − 1 down to min_exceedances, geometric; u_i = the (k_i + 1)-th largest,
-    // so k_i maxima lie strictly above it (fewer with ties).
+    let probes = 4 * count;
     let hi = (total - 1) as f64;
     let lo = min_exceedances as f64;
-    let mut out: Vec<f64> = (0..count)
+    let mut levels: Vec<f64> = (0..probes)
         .map(|i| {
-            let f = i as f64 / (count - 1) as f64;
-            let k = (hi * (lo / hi).powf(f)).round() as usize;
-            maxima[k.min(total - 1)]
+            let f = i as f64 / (probes - 1) as f64;
+            values[((hi * (lo / hi).powf(f)).round() as usize).min(total - 1)]
         })
         .collect();
-    out.sort_by(f64::total_cmp);
+    levels.sort_by(f64::total_cmp);
+    levels.dedup();
+    let mut most = 0;
+    let mut usable = Vec::new();
+    for &u in &levels {
+        let n = acc.excesses(u)?.len();
+        most = most.max(n);
+        if n >= min_exceedances {
+            usable.push(u);
+        }
+    }
+    if usable.is_empty() {
+        return Err(TailError::TooFewExceedances {
+            found: most,
+            needed: min_exceedances,
+        });
+    }
+    if usable.len() <= count {
+        return Ok(usable);
+    }
+    let last = usable.len() - 1;
+    let mut out: Vec<f64> = (0..count)
+        .map(|j| usable[(j * last + (count - 1) / 2) / (count - 1)])
+        .collect();
     out.dedup();
     Ok(out)
 }
