@@ -90,10 +90,14 @@ pub struct PresenceFigures {
     pub switch_on_p90: Quantile,
     /// Exits (occupied periods ending inside a trial).
     pub exits: u64,
-    /// Median time to switch off after the room empties.
+    /// Median time to switch off after the room empties, over the exits at which the
+    /// output was on.
     pub switch_off_median: Quantile,
-    /// 90th percentile of the time to switch off.
+    /// 90th percentile of the time to switch off, over the exits at which it was on.
     pub switch_off_p90: Quantile,
+    /// Exits at which the output was already off (the person was lost before leaving;
+    /// their drop-out is counted).
+    pub exits_already_off: u64,
 }
 
 fn estimate(rate: Result<RateEstimate, echobench_presence::PresenceError>) -> Estimate {
@@ -140,8 +144,9 @@ impl PresenceFigures {
             switch_on_median: Quantile::from(tally.switch_on_latency_quantile(0.5)),
             switch_on_p90: Quantile::from(tally.switch_on_latency_quantile(0.9)),
             exits: tally.exits,
-            switch_off_median: Quantile::from(tally.switch_off_quantile(0.5)),
-            switch_off_p90: Quantile::from(tally.switch_off_quantile(0.9)),
+            switch_off_median: Quantile::from(tally.switch_off_quantile_when_on(0.5)),
+            switch_off_p90: Quantile::from(tally.switch_off_quantile_when_on(0.9)),
+            exits_already_off: tally.exits_already_off(),
         }
     }
 }
@@ -170,6 +175,11 @@ pub struct PresencePoint {
     /// All test trials pooled.
     #[serde(flatten)]
     pub figures: PresenceFigures,
+    /// The rooms (nuisance scenes) pooled: nobody comes in, so every moment the output is on
+    /// is false, and none of it is the hold running on after someone left.
+    pub rooms: PresenceFigures,
+    /// The target scenes pooled: drop-outs, switch-on and switch-off times of real visits.
+    pub visits: PresenceFigures,
     /// Per scene variant, in suite order.
     pub by_scene: Vec<PresenceScene>,
     /// Each room's calibration at the threshold: (room, false switch-ons per day of empty
@@ -207,15 +217,21 @@ pub struct PresenceVerdict {
 pub fn presence_verdict(d: &DetectorTally) -> Option<PresenceVerdict> {
     let output = d.presence_output.as_ref()?;
     let timer = output.timer().ok()?;
-    let pooled = |pick: &dyn Fn(&VariantTally) -> Option<&PresenceTally>| {
-        let mut sum = PresenceTally::default();
-        for v in &d.variants {
-            if let Some(t) = pick(v) {
-                sum.merge(t);
+    let pooled_where =
+        |label: Option<&str>, pick: &dyn Fn(&VariantTally) -> Option<&PresenceTally>| {
+            let mut sum = PresenceTally::default();
+            for v in d
+                .variants
+                .iter()
+                .filter(|v| label.is_none_or(|l| v.label == l))
+            {
+                if let Some(t) = pick(v) {
+                    sum.merge(t);
+                }
             }
-        }
-        sum
-    };
+            sum
+        };
+    let pooled = |pick: &dyn Fn(&VariantTally) -> Option<&PresenceTally>| pooled_where(None, pick);
     let points = d
         .operating
         .iter()
@@ -224,6 +240,14 @@ pub fn presence_verdict(d: &DetectorTally) -> Option<PresenceVerdict> {
             budget_per_day: op.target_per_hour * 24.0,
             threshold: op.threshold,
             figures: PresenceFigures::of(&pooled(&|v| v.presence.get(o)), &timer),
+            rooms: PresenceFigures::of(
+                &pooled_where(Some("nuisance"), &|v| v.presence.get(o)),
+                &timer,
+            ),
+            visits: PresenceFigures::of(
+                &pooled_where(Some("target"), &|v| v.presence.get(o)),
+                &timer,
+            ),
             by_scene: d
                 .variants
                 .iter()
@@ -309,14 +333,14 @@ pub fn console_block(detectors: &[(&str, &PresenceVerdict)]) -> String {
     // then a quicker median switch-on.
     let over = |v: &PresenceVerdict| {
         v.points.first().is_some_and(|p| {
-            p.figures
+            p.rooms
                 .false_switch_ons_per_day
                 .low
                 .is_some_and(|low| low > p.budget_per_day)
         })
     };
     let key = |v: &PresenceVerdict| {
-        let f = v.points.first().map(|p| &p.figures);
+        let f = v.points.first().map(|p| &p.visits);
         (
             f.and_then(|f| f.dropouts_per_occupied_hour.value)
                 .unwrap_or(f64::INFINITY),
@@ -341,7 +365,7 @@ pub fn console_block(detectors: &[(&str, &PresenceVerdict)]) -> String {
         .first()
         .map_or_else(String::new, |p| budget_label(p.budget_per_day));
     out.push_str(&format!(
-        "\nranking by the output pin (hold {} s{}{}; thresholds for at most {} false switch-ons per day of empty time; those not shown over the budget first, then by drop-outs per occupied hour; \"(over)\": test switch-ons/day interval wholly above the budget), test trials [95 % interval]:\n",
+        "\nranking by the output pin (hold {} s{}{}; thresholds for at most {} false switch-ons per day of empty time in every room; those whose room switch-ons are not shown over the budget first, then by drop-outs per occupied hour of the visits; \"(over)\": the test interval wholly above the budget); rooms: the nuisance scenes, visits: the target scenes; test trials [95 % interval]:\n",
         output.hold_s,
         if output.min_on_s > 0.0 { format!(", min-on {} s", output.min_on_s) } else { String::new() },
         if output.lockout_s > 0.0 { format!(", lock-out {} s", output.lockout_s) } else { String::new() },
@@ -353,18 +377,19 @@ pub fn console_block(detectors: &[(&str, &PresenceVerdict)]) -> String {
             .join(" or ")
     ));
     let columns = [
-        format!("false-on s/day @ {budget0}"),
-        "switch-ons/day".to_string(),
-        "drop-outs/h moving".to_string(),
+        format!("room false-on s/day @ {budget0}"),
+        "room switch-ons/day".to_string(),
+        "visit drop-outs/h moving".to_string(),
         "drop-outs/h still".to_string(),
         "longest drop-out".to_string(),
         "switch-on median, p90".to_string(),
-        "switch-off median".to_string(),
+        "switch-off median (exits lit)".to_string(),
     ];
     let rows: Vec<(String, Vec<String>)> = detectors
         .iter()
         .filter_map(|(label, verdict)| {
-            let f = &verdict.points.first()?.figures;
+            let point = verdict.points.first()?;
+            let (rooms, f) = (&point.rooms, &point.visits);
             let name = if over(verdict) {
                 format!("{label} (over)")
             } else {
@@ -373,13 +398,18 @@ pub fn console_block(detectors: &[(&str, &PresenceVerdict)]) -> String {
             Some((
                 name,
                 vec![
-                    compact(&f.false_on_s_per_day),
-                    compact(&f.false_switch_ons_per_day),
+                    compact(&rooms.false_on_s_per_day),
+                    compact(&rooms.false_switch_ons_per_day),
                     compact(&f.dropouts_per_moving_hour),
                     compact(&f.dropouts_per_still_hour),
                     format!("{:.1} s", f.longest_dropout_s),
                     format!("{}, {}", f.switch_on_median.text(), f.switch_on_p90.text()),
-                    f.switch_off_median.text(),
+                    format!(
+                        "{} ({} of {})",
+                        f.switch_off_median.text(),
+                        f.exits - f.exits_already_off,
+                        f.exits
+                    ),
                 ],
             ))
         })

@@ -147,6 +147,51 @@ fn censored_quantile(
     })
 }
 
+/// Kaplan–Meier quantile of right-censored times (both lists sorted ascending, ns): the
+/// survival estimate `S(t) = Π (1 − dᵢ/nᵢ)` over the distinct event times up to `t`, with `dᵢ`
+/// events at time `tᵢ` and `nᵢ` times (events or censorings) at or after it, so a censoring
+/// tied with an event counts as still at risk (the usual convention). The quantile is the
+/// first event time with `1 − S ≥ q`.
+fn kaplan_meier_quantile(
+    events_ns: &[u64],
+    censored_ns: &[u64],
+    q: f64,
+) -> Result<LatencyQuantile, PresenceError> {
+    if !(0.0..=1.0).contains(&q) {
+        return Err(PresenceError::InvalidParameter {
+            name: "q",
+            value: q,
+            allowed: "a quantile level in [0, 1]",
+        });
+    }
+    if events_ns.is_empty() && censored_ns.is_empty() {
+        return Ok(LatencyQuantile::NoValues);
+    }
+    let mut at_risk = (events_ns.len() + censored_ns.len()) as f64;
+    let mut survival = 1.0;
+    let (mut e, mut c) = (0, 0);
+    while e < events_ns.len() {
+        let t = events_ns[e];
+        // Censorings strictly before t leave the risk set first.
+        while c < censored_ns.len() && censored_ns[c] < t {
+            at_risk -= 1.0;
+            c += 1;
+        }
+        let mut deaths = 0.0;
+        while e < events_ns.len() && events_ns[e] == t {
+            deaths += 1.0;
+            e += 1;
+        }
+        survival *= 1.0 - deaths / at_risk;
+        at_risk -= deaths;
+        // A small allowance for the rounding of the product.
+        if 1.0 - survival >= q - 1e-12 {
+            return Ok(LatencyQuantile::Observed(t as f64 / 1e9));
+        }
+    }
+    Ok(LatencyQuantile::NotReached)
+}
+
 impl PresenceTally {
     /// False switch-ons per day of empty time, with the exact Garwood interval (the count is
     /// Poisson-like over empty time).
@@ -240,6 +285,31 @@ impl PresenceTally {
     /// `q` outside `[0, 1]`.
     pub fn switch_off_quantile(&self, q: f64) -> Result<LatencyQuantile, PresenceError> {
         censored_quantile(&self.switch_off_ns, self.switch_off_censored_ns.len(), q)
+    }
+
+    /// Quantile `q` of the time to switch off over the exits at which the output was on (an
+    /// exit with the output already off has no switch-off to wait for; counting its 0 would
+    /// make a detector that lost the person before they left look quick), by the
+    /// Kaplan–Meier estimator (Kaplan & Meier 1958): an exit whose trial ended (or someone
+    /// came back) with the output still on is right-censored at that time, and only says the
+    /// switch-off came later than that. The quantile is the smallest time at which the
+    /// estimated share switched off reaches `q` (Brookmeyer & Crowley 1982's convention);
+    /// [`LatencyQuantile::NotReached`] when censoring leaves the estimate short of `q`.
+    ///
+    /// # Errors
+    /// `q` outside `[0, 1]`.
+    pub fn switch_off_quantile_when_on(&self, q: f64) -> Result<LatencyQuantile, PresenceError> {
+        let first_on = self.switch_off_ns.partition_point(|&ns| ns == 0);
+        kaplan_meier_quantile(
+            &self.switch_off_ns[first_on..],
+            &self.switch_off_censored_ns,
+            q,
+        )
+    }
+
+    /// Exits at which the output was already off (the person had been lost before leaving).
+    pub fn exits_already_off(&self) -> u64 {
+        self.switch_off_ns.partition_point(|&ns| ns == 0) as u64
     }
 }
 

@@ -242,3 +242,63 @@ fn rates_of_the_worked_example() {
     assert!((false_on.interval.low - 2.0 * 0.242209 * 8640.0).abs() < 0.05);
     assert!((false_on.interval.high - 2.0 * 7.224688 * 8640.0).abs() < 0.05);
 }
+
+/// Exits with the output already off are kept apart from the switch-off times: two exits,
+/// one at which the output was off (time 0), one left lit for 7 s; the "when on" median is 7 s
+/// and one exit was already dark.
+#[test]
+fn switch_off_over_lit_exits_only() {
+    let tally = PresenceTally {
+        exits: 2,
+        switch_off_ns: vec![0, 7_000_000_000],
+        ..PresenceTally::default()
+    };
+    assert_eq!(tally.exits_already_off(), 1);
+    assert_eq!(
+        tally.switch_off_quantile_when_on(0.5).unwrap(),
+        LatencyQuantile::Observed(7.0)
+    );
+    // The plain quantile counts the dark exit as an instant switch-off.
+    assert_eq!(
+        tally.switch_off_quantile(0.5).unwrap(),
+        LatencyQuantile::Observed(3.5)
+    );
+}
+
+/// Kaplan–Meier by hand: lit exits switching off at 20, 21, 22 s and three censored when the
+/// trial ended 3, 5 and 21 s after the exit (output still on).
+/// Risk sets: at 20 s, 4 at risk (3 s and 5 s left before): S = 3/4; at 21 s, 3 at risk (the
+/// censoring at 21 s is still at risk, ties go to the event): S = 3/4 · 2/3 = 1/2, so the
+/// median is 21 s; at 22 s, 1 at risk: S = 0, so the 90th percentile is 22 s. Ranking the
+/// censored exits above every observed one instead would put the median among them.
+#[test]
+fn switch_off_median_by_kaplan_meier() {
+    let s = 1_000_000_000u64;
+    let tally = PresenceTally {
+        exits: 6,
+        switch_off_ns: vec![20 * s, 21 * s, 22 * s],
+        switch_off_censored_ns: vec![3 * s, 5 * s, 21 * s],
+        ..PresenceTally::default()
+    };
+    assert_eq!(
+        tally.switch_off_quantile_when_on(0.5).unwrap(),
+        LatencyQuantile::Observed(21.0)
+    );
+    assert_eq!(
+        tally.switch_off_quantile_when_on(0.9).unwrap(),
+        LatencyQuantile::Observed(22.0)
+    );
+    assert_eq!(
+        tally.switch_off_quantile(0.5).unwrap(),
+        LatencyQuantile::NotReached
+    );
+    // Everything censored: the estimate never leaves 1.
+    let dark = PresenceTally {
+        switch_off_censored_ns: vec![s, 2 * s],
+        ..PresenceTally::default()
+    };
+    assert_eq!(
+        dark.switch_off_quantile_when_on(0.5).unwrap(),
+        LatencyQuantile::NotReached
+    );
+}

@@ -5,8 +5,8 @@ use crate::plot::{
     escape, format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
     MarkedPoint, Marker, ReferenceLine, Series, Style,
 };
-use crate::product_part;
 use crate::run_folder::RunFolder;
+use crate::{presence_part, product_part};
 use echobench_harness::runner::DetectorTally;
 use echobench_harness::summary::{
     rate_label, DetectorSummary, Estimate, OperatingSummary, ProductSummary,
@@ -1354,6 +1354,29 @@ fn false_alarms_by_nuisance(page: &mut Page, part: &Part) -> String {
     out
 }
 
+/// The hold-time trade-off figure of a presence product.
+fn hold_tradeoff(page: &mut Page, part: &Part) -> String {
+    let Some(chart) = presence_part::tradeoff_chart(part, &|i| style_for(i, false)) else {
+        return String::new();
+    };
+    let holds = presence_part::verdicts(part)
+        .first()
+        .map(|(_, _, v)| {
+            v.tradeoff
+                .iter()
+                .map(|t| format!("{} s", format_number(t.hold_s, 3)))
+                .collect::<Vec<_>>()
+                .join(", ")
+        })
+        .unwrap_or_default();
+    let caption = format!(
+        "Each line is one detector at its operating threshold for the first budget, re-scored on the same test trials at every hold of the sweep ({}), shortest hold at the left. A longer hold never gives more drop-outs nor less false-on time (without a lock-out), so each line runs up-left to down-right: pick the hold whose drop-outs a still reader tolerates and whose false-on time the empty room can afford. The bars at the product's own hold are {} intervals.",
+        escape(&holds),
+        data::confidence_percent()
+    );
+    page.figure(&render_chart(&chart), &caption)
+}
+
 fn cost(part: &Part) -> String {
     let run = part.run;
     let mut rows = Vec::new();
@@ -1783,9 +1806,25 @@ fn product_entries(
             html,
         });
     };
+    if let Some(tables) = presence_part::pin_tables(part) {
+        add(
+            "output-pin",
+            "What the output pin does",
+            tables.into_string(),
+        );
+        add(
+            "hold-tradeoff",
+            "Hold time: drop-outs against false-on time",
+            hold_tradeoff(page, part),
+        );
+    }
     add(
         "ranking",
-        "Which detectors meet the false-alarm target",
+        if presence_part::verdicts(part).is_empty() {
+            "Which detectors meet the false-alarm target"
+        } else {
+            "Motion events, scored as an intrusion alarm would be"
+        },
         ranking(part),
     );
     add(

@@ -37,6 +37,7 @@ mod gate_section;
 mod html;
 mod markup;
 pub mod plot;
+mod presence_part;
 mod product_part;
 mod run_folder;
 
