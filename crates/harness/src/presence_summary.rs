@@ -324,9 +324,65 @@ pub fn budget_label(per_day: f64) -> String {
     }
 }
 
+/// Why the output stays dark for a scene's visitors, for every target scene in which each
+/// detector misses most occupied periods (no alarm while the person is in the zone). Two
+/// causes are told apart from the counts: the detector alarms, but only after the person has
+/// left the zone (the motion-event scoring, with its late tolerance, counts those alarms as
+/// detections: Pd ≥ 0.5 there), or it does not detect the motion at all (the reason is the
+/// motion-event table's).
+fn missed_visit_reasons(
+    first: &PresenceVerdict,
+    detectors: &[(&str, &PresenceVerdict)],
+    intrusion_pd: &dyn Fn(&str, usize) -> Option<f64>,
+) -> String {
+    let mut out = String::new();
+    let Some(point) = first.points.first() else {
+        return out;
+    };
+    for (s, scene) in point.by_scene.iter().enumerate() {
+        if scene.label != "target" {
+            continue;
+        }
+        let mostly_missed = |v: &PresenceVerdict| {
+            v.points
+                .first()
+                .and_then(|p| p.by_scene.get(s))
+                .is_some_and(|sc| {
+                    sc.figures.occupied_periods > 0
+                        && 2 * sc.figures.missed_periods > sc.figures.occupied_periods
+                })
+        };
+        if !detectors.iter().all(|(_, v)| mostly_missed(v)) {
+            continue;
+        }
+        let (late, unseen): (Vec<&str>, Vec<&str>) = detectors
+            .iter()
+            .map(|(label, _)| *label)
+            .partition(|label| intrusion_pd(label, s).is_some_and(|pd| pd >= 0.5));
+        let name = crate::runner::room_name(&scene.scene, scene.sweep_value.as_deref());
+        out.push_str(&format!("  why every detector leaves `{name}` dark:\n"));
+        if !late.is_empty() {
+            out.push_str(&format!(
+                "    alarms only after the person has left the zone (counted as motion-event detections within the late tolerance): {}\n",
+                late.join(", ")
+            ));
+        }
+        if !unseen.is_empty() {
+            out.push_str(&format!(
+                "    the motion itself is missed (the reason is in the motion-event table below): {}\n",
+                unseen.join(", ")
+            ));
+        }
+    }
+    out
+}
+
 /// The console block of a presence product: the pin's figures per detector at each
 /// budget, the per-scene drop-outs and latencies at the first, and the hold trade-off.
-pub fn console_block(detectors: &[(&str, &PresenceVerdict)]) -> String {
+pub fn console_block(
+    detectors: &[(&str, &PresenceVerdict)],
+    intrusion_pd: &dyn Fn(&str, usize) -> Option<f64>,
+) -> String {
     let mut out = String::new();
     // Ranking: first the detectors whose test false switch-ons are not shown to be over the
     // budget (the interval's lower end above it), then fewer drop-outs per occupied hour,
@@ -456,6 +512,7 @@ pub fn console_block(detectors: &[(&str, &PresenceVerdict)]) -> String {
             "\noutput pin @ {budget0} per target scene (drop-outs moving+still over all its trials, median switch-on latency):\n"
         ));
         out.push_str(&crate::summary::grid_table("scene", &names, &scene_rows));
+        out.push_str(&missed_visit_reasons(first, detectors, intrusion_pd));
     }
 
     // Per room: test false switch-ons per day | calibration, `*` where the room set the
@@ -542,7 +599,7 @@ pub fn console_block(detectors: &[(&str, &PresenceVerdict)]) -> String {
         .collect();
     if !holds.is_empty() {
         out.push_str(&format!(
-            "\nhold-time trade-off @ {budget0} threshold (drop-outs per occupied hour | false-on s per day; * the product's hold):\n"
+            "\nhold-time trade-off @ {budget0} threshold (drop-outs per occupied hour | false-on s per day of all empty time, the hold running on after each visitor leaves included; * the product's hold):\n"
         ));
         out.push_str(&crate::summary::grid_table("detector", &holds, &trade_rows));
     }

@@ -1047,7 +1047,24 @@ fn product_block(
         None => rates.first().map_or_else(String::new, |r| rate_label(*r)),
     };
     if !presence.is_empty() {
-        out.push_str(&crate::presence_summary::console_block(&presence));
+        // The motion-event Pd of a detector on the scene variant at `index` (suite order),
+        // at the first operating point: what tells "alarms too late" from "never sees it".
+        let intrusion_pd = |label: &str, index: usize| {
+            detectors
+                .iter()
+                .find(|d| d.label == label)?
+                .operating_points
+                .first()?
+                .by_scene
+                .get(index)?
+                .outcome
+                .pd
+                .value
+        };
+        out.push_str(&crate::presence_summary::console_block(
+            &presence,
+            &intrusion_pd,
+        ));
     }
     // Ranking, as in the report: first the detectors whose test false-alarm rate at the
     // first operating point is not shown to be over its target, then by Pd, then by median

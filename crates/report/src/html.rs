@@ -1370,7 +1370,7 @@ fn hold_tradeoff(page: &mut Page, part: &Part) -> String {
         })
         .unwrap_or_default();
     let caption = format!(
-        "Each line is one detector at its operating threshold for the first budget, re-scored on the same test trials at every hold of the sweep ({}), shortest hold at the left. A longer hold never gives more drop-outs nor less false-on time (without a lock-out), so each line runs up-left to down-right: pick the hold whose drop-outs a still reader tolerates and whose false-on time the empty room can afford. The bars at the product's own hold are {} intervals.",
+        "Each line is one detector at its operating threshold for the first budget, re-scored on the same test trials at every hold of the sweep ({}), shortest hold at the left. False-on time counts all empty test time: the rooms, and the time before a visitor comes and after they leave, where a long hold keeps the light on for nobody. A longer hold never gives more drop-outs nor less false-on time (without a lock-out), so each line runs up-left to down-right: pick the hold whose drop-outs a still reader tolerates and whose false-on time the empty room can afford. The bars at the product's own hold are {} intervals.",
         escape(&holds),
         data::confidence_percent()
     );
