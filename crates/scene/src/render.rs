@@ -12,7 +12,7 @@
 //! The key design decision: no sine or cosine per sample. A cubic phase has a
 //! constant third difference, so its phasor is carried from sample to sample
 //! by three complex multiplies and set again from the polynomial (one sine
-//! and cosine per term) at each node and every [`RESYNC_SAMPLES`] samples;
+//! and cosine per term) at each node and every `RESYNC_SAMPLES` (128) samples;
 //! see [`ActorTrack::render`]. Against the direct formula (a sine and cosine
 //! of the cubic at every sample) the difference stays below 1e-9 of the
 //! echo's amplitude (tested), far under any ADC step.
@@ -220,9 +220,9 @@ impl ActorTrack {
     /// advanced by three complex multiplies per sample (e^{−jφ} by e^{−jΔφ},
     /// that by e^{−jΔ²φ}, that by the constant e^{−jΔ³φ}) instead of a sine
     /// and cosine, and set again from the polynomial with a sine and cosine
-    /// at every node and every [`RESYNC_SAMPLES`] within a long interval, so
-    /// the rounding of the recurrence cannot grow (tested against the direct
-    /// formula). The resynchronisation points depend only on the node grid, so
+    /// at every node and every `RESYNC_SAMPLES` (128) samples within a long
+    /// interval, so the rounding of the recurrence cannot grow (tested against
+    /// the direct formula). The resynchronisation points depend only on the node grid, so
     /// the output is the same for any block split. An echo with a flash
     /// (sinc factor) also advances e^{jx} of its argument the same way and
     /// multiplies its amplitude by sin x / x.
