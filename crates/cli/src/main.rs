@@ -349,6 +349,13 @@ fn write_run_outputs(
     fault_point("roc.csv");
     summary::write_events_csv(&out.join("events.csv"), &summary)?;
     fault_point("events.csv");
+    if summary.detectors.iter().any(|d| d.presence.is_some()) {
+        echobench_harness::presence_summary::write_presence_csv(
+            &out.join("presence.csv"),
+            &summary,
+        )?;
+        fault_point("presence.csv");
+    }
     if let Some(t) = timing {
         summary::write_json(&out.join("timing.json"), t)?;
         fault_point("timing.json");

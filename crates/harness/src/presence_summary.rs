@@ -10,8 +10,11 @@
 use crate::runner::{DetectorTally, VariantTally};
 use crate::suite::PresenceOutput;
 use crate::summary::{Estimate, CONFIDENCE};
+use echobench_core::atomic::write_atomically;
 use echobench_presence::{LatencyQuantile, OccupiedKind, PresenceTally, RateEstimate, Timer};
 use serde::{Deserialize, Serialize};
+use std::io;
+use std::path::Path;
 
 /// A latency quantile: seconds, or `null` with `not_reached` when it falls among the
 /// entries (exits) after which the output never switched on (off) in the trial.
@@ -604,4 +607,131 @@ pub fn console_block(
         out.push_str(&crate::summary::grid_table("detector", &holds, &trade_rows));
     }
     out
+}
+
+/// `12.5`, `not reached` or empty.
+fn quantile_cell(q: &Quantile) -> String {
+    match (q.seconds, q.not_reached) {
+        (Some(s), _) => s.to_string(),
+        (None, true) => "not reached".into(),
+        (None, false) => String::new(),
+    }
+}
+
+fn estimate_cells(e: &Estimate) -> [String; 3] {
+    [e.value, e.low, e.high].map(|x| x.map_or_else(String::new, |v| v.to_string()))
+}
+
+/// The CSV header of [`write_presence_csv`].
+const PRESENCE_COLUMNS: [&str; 37] = [
+    "product",
+    "detector",
+    "budget_per_day",
+    "threshold",
+    "hold_s",
+    "slice",
+    "label",
+    "empty_h",
+    "moving_h",
+    "still_h",
+    "false_on_s_per_day",
+    "false_on_s_per_day_low",
+    "false_on_s_per_day_high",
+    "false_switch_ons",
+    "false_switch_ons_per_day",
+    "false_switch_ons_per_day_low",
+    "false_switch_ons_per_day_high",
+    "dropouts_moving",
+    "dropouts_still",
+    "dropouts_per_occupied_h",
+    "dropouts_per_occupied_h_low",
+    "dropouts_per_occupied_h_high",
+    "dropouts_per_moving_h",
+    "dropouts_per_moving_h_low",
+    "dropouts_per_moving_h_high",
+    "dropouts_per_still_h",
+    "dropouts_per_still_h_low",
+    "dropouts_per_still_h_high",
+    "longest_dropout_s",
+    "missed_periods",
+    "occupied_periods",
+    "entries",
+    "switch_on_median_s",
+    "switch_on_p90_s",
+    "exits_lit",
+    "switch_off_median_s",
+    "switch_off_p90_s",
+];
+
+/// Writes `presence.csv` for the run's presence products: per detector and budget, one row
+/// for all test trials, the rooms, the visits and each scene variant at the product's hold,
+/// then (slice `all`, first budget's threshold) one row per hold of the trade-off sweep.
+/// Quantiles are seconds, `not reached`, or empty when there was nothing to measure.
+///
+/// # Errors
+/// I/O errors, naming the file.
+pub fn write_presence_csv(path: &Path, summary: &crate::summary::Summary) -> io::Result<()> {
+    write_atomically(path, |file| {
+        let mut w = crate::summary::csv_writer(file);
+        w.write_record(PRESENCE_COLUMNS)?;
+        for d in &summary.detectors {
+            let Some(verdict) = &d.presence else {
+                continue;
+            };
+            let row = |w: &mut csv::Writer<_>,
+                       point: &PresencePoint,
+                       hold_s: f64,
+                       slice: &str,
+                       label: &str,
+                       f: &PresenceFigures|
+             -> io::Result<()> {
+                let mut cells = vec![
+                    d.product.clone(),
+                    d.label.clone(),
+                    point.budget_per_day.to_string(),
+                    point.threshold.to_string(),
+                    hold_s.to_string(),
+                    slice.to_string(),
+                    label.to_string(),
+                    f.empty_hours.to_string(),
+                    f.moving_hours.to_string(),
+                    f.still_hours.to_string(),
+                ];
+                cells.extend(estimate_cells(&f.false_on_s_per_day));
+                cells.push(f.false_switch_ons.to_string());
+                cells.extend(estimate_cells(&f.false_switch_ons_per_day));
+                cells.push(f.dropouts.0.to_string());
+                cells.push(f.dropouts.1.to_string());
+                cells.extend(estimate_cells(&f.dropouts_per_occupied_hour));
+                cells.extend(estimate_cells(&f.dropouts_per_moving_hour));
+                cells.extend(estimate_cells(&f.dropouts_per_still_hour));
+                cells.push(f.longest_dropout_s.to_string());
+                cells.push(f.missed_periods.to_string());
+                cells.push(f.occupied_periods.to_string());
+                cells.push(f.entries.to_string());
+                cells.push(quantile_cell(&f.switch_on_median));
+                cells.push(quantile_cell(&f.switch_on_p90));
+                cells.push((f.exits - f.exits_already_off).to_string());
+                cells.push(quantile_cell(&f.switch_off_median));
+                cells.push(quantile_cell(&f.switch_off_p90));
+                w.write_record(&cells).map_err(io::Error::from)
+            };
+            let hold_s = verdict.output.hold_s;
+            for point in &verdict.points {
+                row(&mut w, point, hold_s, "all", "", &point.figures)?;
+                row(&mut w, point, hold_s, "rooms", "nuisance", &point.rooms)?;
+                row(&mut w, point, hold_s, "visits", "target", &point.visits)?;
+                for scene in &point.by_scene {
+                    let name = crate::runner::room_name(&scene.scene, scene.sweep_value.as_deref());
+                    row(&mut w, point, hold_s, &name, &scene.label, &scene.figures)?;
+                }
+            }
+            if let Some(point) = verdict.points.first() {
+                for t in &verdict.tradeoff {
+                    row(&mut w, point, t.hold_s, "all", "", &t.figures)?;
+                }
+            }
+        }
+        w.flush()
+    })
 }

@@ -731,7 +731,7 @@ pub fn write_roc_csv(path: &Path, tallies: &Tallies) -> io::Result<()> {
 
 /// A CSV writer onto an atomically written file: fields with a comma, quote or line break
 /// (a label from a user's suite) are quoted, everything else is written as is.
-fn csv_writer<W: io::Write>(inner: W) -> csv::Writer<W> {
+pub(crate) fn csv_writer<W: io::Write>(inner: W) -> csv::Writer<W> {
     csv::WriterBuilder::new()
         .terminator(csv::Terminator::Any(b'\n'))
         .from_writer(inner)
