@@ -25,6 +25,7 @@ use echobench_core::{Interval, Score};
 use echobench_presence::{
     false_switch_ons_at, score_trial, statistic_frames, PresenceTally, PresenceTruth, Timer,
 };
+use echobench_tail::TailAccumulator;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -277,6 +278,10 @@ pub struct DetectorTally {
     /// for `false_switch_ons_per_day`, stored per hour in `OperatingPoint`).
     #[serde(default)]
     pub presence_output: Option<PresenceOutput>,
+    /// Per nuisance room, the tail fit of the calibration's alarm statistic and the
+    /// thresholds it gives for rare rates (the same in every shard).
+    #[serde(default)]
+    pub tail: Vec<crate::rare_rates::RoomTail>,
     /// Label.
     pub label: String,
     /// Plugin id.
@@ -723,7 +728,15 @@ fn run_product(
             .collect(),
         None => suite.scoring.target_false_alarms_per_hour.clone(),
     };
-    let (calibrated, calibration_signal_s) = calibrate(suite, detectors, counting, progress)?;
+    // Rare rates by tail extrapolation: the reporting ladder and the product's own targets.
+    let mut rare_rates = crate::rare_rates::REPORT_RATES_PER_HOUR.to_vec();
+    for &t in &targets_per_hour {
+        if !rare_rates.contains(&t) {
+            rare_rates.push(t);
+        }
+    }
+    let (calibrated, calibration_signal_s) =
+        calibrate(suite, detectors, counting, &rare_rates, progress)?;
     let mut tallies: Vec<DetectorTally> = Vec::with_capacity(detectors.len());
     for (detector, cal) in detectors.iter().zip(calibrated) {
         let Calibrated {
@@ -732,6 +745,7 @@ fn run_product(
             exposure_ns,
             rooms,
             failures,
+            tail_rooms,
         } = cal;
         let operating = targets_per_hour
             .iter()
@@ -819,6 +833,7 @@ fn run_product(
                 .map_or("intrusion", |p| p.kind.name())
                 .to_string(),
             presence_output: presence.as_ref().map(|(output, ..)| output.clone()),
+            tail: tail_rooms,
             calibration_rooms,
             calibration_pooled: false_alarms,
             label: detector.label.clone(),
@@ -973,6 +988,8 @@ struct Calibrated {
     exposure_ns: u64,
     rooms: Vec<RoomCounts>,
     failures: Vec<Failure>,
+    /// Each room's tail fit (rare rates by extrapolation).
+    tail_rooms: Vec<crate::rare_rates::RoomTail>,
 }
 
 /// Calibration counts of one detector while trials stream past.
@@ -986,20 +1003,27 @@ struct CalibrationCounts {
     /// Indices (into the calibration jobs) of trials whose largest score reaches the
     /// pilot grid's top, with that score.
     beyond_top: Vec<(usize, f64)>,
+    /// Per room: the exceedance frames of the alarm statistic, for the tail fit.
+    tails: Vec<TailAccumulator>,
 }
 
 impl CalibrationCounts {
-    fn new(grid_len: usize, rooms: usize) -> Self {
+    fn new(grid_len: usize, rooms: usize, tail: &TailAccumulator) -> Self {
         CalibrationCounts {
             false_alarms: vec![0; grid_len],
             exposure_ns: 0,
             rooms: vec![(vec![0; grid_len], 0); rooms],
             failures: Vec::new(),
             beyond_top: Vec::new(),
+            tails: vec![tail.clone(); rooms],
         }
     }
 
-    fn add(mut self, other: CalibrationCounts) -> Self {
+    fn add(mut self, other: CalibrationCounts) -> Result<Self, RunError> {
+        for (a, b) in self.tails.iter_mut().zip(other.tails) {
+            a.merge(b)
+                .map_err(|e| RunError(format!("tail accumulator: {e}")))?;
+        }
         for (a, b) in self.false_alarms.iter_mut().zip(&other.false_alarms) {
             *a += b;
         }
@@ -1012,7 +1036,7 @@ impl CalibrationCounts {
         }
         self.failures.extend(other.failures);
         self.beyond_top.extend(other.beyond_top);
-        self
+        Ok(self)
     }
 }
 
@@ -1068,6 +1092,16 @@ fn count_calibration_trial(
                     }
                     if add_exposure {
                         *room_exposure += exposure_ns;
+                        // A room is noise only: its whole trace feeds the tail fit, keyed by
+                        // the job's index (unique within the product's calibration).
+                        let tail = &mut count.tails[r];
+                        let mut scan = tail.scan(job_index as u64);
+                        for score in scores.iter().filter(|s| s.t_s.is_finite()) {
+                            scan.push(score.t_s, score.value)
+                                .map_err(|e| RunError(format!("tail scan: {e}")))?;
+                        }
+                        tail.add(scan, exposure_ns as f64 * 1e-9)
+                            .map_err(|e| RunError(format!("tail accumulator: {e}")))?;
                     }
                 }
                 if add_exposure {
@@ -1149,8 +1183,16 @@ fn calibrate(
     suite: &Suite,
     detectors: &[RunDetector],
     counting: Counting<'_>,
+    rare_rates_per_hour: &[f64],
     progress: &(dyn Fn(Progress) + Sync),
 ) -> Result<(Vec<Calibrated>, f64), RunError> {
+    // The tail fit declusters with the hold that separates one counted alarm (or one
+    // switch-on of a presence product's output) from the next.
+    let (m, n, hold_s) = match counting {
+        Counting::Alarms { logic, .. } => (logic.m_of_n().m(), logic.m_of_n().n(), logic.hold_s()),
+        Counting::SwitchOns { timer, rule } => (rule.m(), rule.n(), timer.hold_s()),
+    };
+    let tail_template = crate::rare_rates::accumulator(m, n, hold_s).map_err(RunError)?;
     let all_jobs = jobs(suite, true, None);
     let total = all_jobs.len() as u64;
     let done = std::sync::atomic::AtomicU64::new(0);
@@ -1198,7 +1240,7 @@ fn calibrate(
     let empty = || -> Vec<CalibrationCounts> {
         grids
             .iter()
-            .map(|g| CalibrationCounts::new(g.len(), room_list.len()))
+            .map(|g| CalibrationCounts::new(g.len(), room_list.len(), &tail_template))
             .collect()
     };
     let mut counts = empty();
@@ -1235,13 +1277,13 @@ fn calibrate(
             Ok(acc)
         })
         .try_reduce(empty, |a, b| {
-            Ok(a.into_iter().zip(b).map(|(x, y)| x.add(y)).collect())
+            a.into_iter().zip(b).map(|(x, y)| x.add(y)).collect()
         })?;
     counts = counts
         .into_iter()
         .zip(streamed_counts)
         .map(|(x, y)| x.add(y))
-        .collect();
+        .collect::<Result<_, _>>()?;
 
     // The tail: thresholds above each pilot grid, scored on the trials that reach them.
     let tails: Vec<Vec<f64>> = grids
@@ -1261,7 +1303,7 @@ fn calibrate(
     let tail_empty = || -> Vec<CalibrationCounts> {
         tails
             .iter()
-            .map(|t| CalibrationCounts::new(t.len(), room_list.len()))
+            .map(|t| CalibrationCounts::new(t.len(), room_list.len(), &tail_template))
             .collect()
     };
     let tail_counts = again
@@ -1282,7 +1324,7 @@ fn calibrate(
             Ok(acc)
         })
         .try_reduce(tail_empty, |a, b| {
-            Ok(a.into_iter().zip(b).map(|(x, y)| x.add(y)).collect())
+            a.into_iter().zip(b).map(|(x, y)| x.add(y)).collect()
         })?;
 
     let duration = |i: &usize| {
@@ -1293,10 +1335,12 @@ fn calibrate(
     };
     let signal_s: f64 = (0..all_jobs.len()).map(|i| duration(&i)).sum::<f64>()
         + again.iter().map(duration).sum::<f64>();
+    // Each detector's (and inside, each room's) tail fit is independent of the others:
+    // in parallel, collected in order.
     let calibrated = grids
-        .into_iter()
+        .into_par_iter()
         .zip(counts)
-        .zip(tails.into_iter().zip(tail_counts))
+        .zip(tails.into_par_iter().zip(tail_counts))
         .map(|((grid, c), (tail, t))| {
             let mut thresholds = grid;
             thresholds.extend(tail);
@@ -1310,12 +1354,26 @@ fn calibrate(
                 room.false_alarms = f;
                 room.exposure_ns = e;
             }
+            let tail_rooms = rooms
+                .par_iter()
+                .zip(&c.tails)
+                .map(|(room, acc)| {
+                    let scene = &suite.scenes[room.scene];
+                    crate::rare_rates::fit_room(
+                        &scene.id,
+                        scene.variants[room.variant].sweep_value.as_deref(),
+                        acc,
+                        rare_rates_per_hour,
+                    )
+                })
+                .collect();
             Calibrated {
                 thresholds,
                 false_alarms,
                 exposure_ns: c.exposure_ns,
                 rooms,
                 failures: c.failures,
+                tail_rooms,
             }
         })
         .collect();
@@ -1490,6 +1548,7 @@ fn empty_like(t: &DetectorTally) -> DetectorTally {
         product: t.product.clone(),
         kind: t.kind.clone(),
         presence_output: t.presence_output.clone(),
+        tail: t.tail.clone(),
         calibration_rooms: t.calibration_rooms.clone(),
         calibration_pooled: t.calibration_pooled.clone(),
         label: t.label.clone(),
@@ -1805,6 +1864,7 @@ mod tests {
                 logic: &logic,
                 window,
             },
+            &crate::rare_rates::REPORT_RATES_PER_HOUR,
             &|_| {},
         )
         .unwrap();
@@ -1854,6 +1914,7 @@ mod tests {
                             logic: &logic,
                             window,
                         },
+                        &crate::rare_rates::REPORT_RATES_PER_HOUR,
                         &|_| {},
                     )
                 })
@@ -1862,6 +1923,8 @@ mod tests {
                 assert_eq!(a.thresholds, b.thresholds, "{threads} threads");
                 assert_eq!(a.false_alarms, b.false_alarms, "{threads} threads");
                 assert_eq!(a.exposure_ns, b.exposure_ns, "{threads} threads");
+                // The tail fits too: the accumulators merge to the same frames in any order.
+                assert_eq!(a.tail_rooms, b.tail_rooms, "{threads} threads");
             }
         }
     }

@@ -213,6 +213,10 @@ pub struct DetectorSummary {
     /// Presence products: what the output pin did (`null` for intrusion products).
     #[serde(default)]
     pub presence: Option<crate::presence_summary::PresenceVerdict>,
+    /// Thresholds for one false alarm per hour, day, week and month by tail extrapolation
+    /// of the rooms' calibration, beside the counted ones.
+    #[serde(default)]
+    pub rare_thresholds: Vec<crate::rare_rates::RareThreshold>,
 }
 
 /// The run's summary (`summary.json`).
@@ -320,7 +324,7 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
         echobench_stats::auc_standard_error_hanley_mcneil(a, positives.len(), negatives.len())
     });
     let declared_cost = d.cost;
-    let operating_points = d
+    let operating_points: Vec<OperatingSummary> = d
         .operating
         .iter()
         .enumerate()
@@ -430,6 +434,7 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
             by_scene,
         }
     });
+    let rare_thresholds = crate::rare_rates::rare_thresholds(d, &operating_points);
     DetectorSummary {
         product: d.product.clone(),
         label: d.label.clone(),
@@ -439,11 +444,12 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
         negative_trials: negatives.len() as u64,
         trial_auc: auc,
         trial_auc_se: auc_se,
-        operating_points,
         nominal,
         failures: d.failures.clone(),
         declared_cost,
         presence: crate::presence_summary::presence_verdict(d),
+        rare_thresholds,
+        operating_points,
     }
 }
 
@@ -1180,6 +1186,7 @@ fn product_block(
         out.push_str(&grid_table("room", &names, &false_alarms));
     }
     out.push_str(&calibration_notes(detectors, &rates));
+    out.push_str(&crate::rare_rates::console_block(detectors));
     for d in detectors {
         if let Some(n) = &d.nominal {
             out.push_str(&format!(

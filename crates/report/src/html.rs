@@ -6,7 +6,7 @@ use crate::plot::{
     MarkedPoint, Marker, ReferenceLine, Series, Style,
 };
 use crate::run_folder::RunFolder;
-use crate::{presence_part, product_part};
+use crate::{presence_part, product_part, rare_part};
 use echobench_harness::runner::DetectorTally;
 use echobench_harness::summary::{
     rate_label, DetectorSummary, Estimate, OperatingSummary, ProductSummary,
@@ -1837,6 +1837,13 @@ fn product_entries(
         "False alarms by room",
         product_part::false_alarm_tables(part).into_string(),
     );
+    if let Some(table) = rare_part::rare_table(part) {
+        add(
+            "rare-rates",
+            "Rare false-alarm rates: thresholds by tail extrapolation",
+            table.into_string(),
+        );
+    }
     for (k, section) in extra {
         add(&format!("extra-{k}"), &section.title, section.html.clone());
     }

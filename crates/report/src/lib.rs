@@ -39,6 +39,7 @@ mod markup;
 pub mod plot;
 mod presence_part;
 mod product_part;
+mod rare_part;
 mod run_folder;
 
 pub use data::{fold_back_cut, grid_roc, trial_roc, GridRocPoint, TrialRoc};

@@ -131,11 +131,25 @@ fn the_report_renders_in_a_browser_without_errors_and_every_plot_and_table_draws
     ];
     let html = echobench_report::render_html(&run, Some(&run), &extra);
     // The shown per-product tables: a detection and a false-alarm table per product (the
-    // tables of the other target rates are folded in closed <details>).
-    let tables_shown = 2 * run.summary.products.len();
+    // tables of the other target rates are folded in closed <details>), and the rare-rate
+    // table of each product whose detectors have tail fits.
+    let rare_tables = run
+        .summary
+        .products
+        .iter()
+        .filter(|p| {
+            run.summary
+                .detectors
+                .iter()
+                .any(|d| d.product == p.name && !d.rare_thresholds.is_empty())
+        })
+        .count();
+    assert!(rare_tables > 0, "the fixture's runs have tail fits");
+    let tables_shown = 2 * run.summary.products.len() + rare_tables;
     assert_eq!(
         html.matches("data-check=").count(),
-        tables_shown * run.summary.detectors[0].operating_points.len()
+        2 * run.summary.products.len() * run.summary.detectors[0].operating_points.len()
+            + rare_tables
     );
     let plots_in_page = common::svgs(&html).len();
 

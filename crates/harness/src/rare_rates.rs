@@ -1,0 +1,443 @@
+//! Rare false-alarm rates from the calibration rooms by tail extrapolation: per detector and
+//! room, the declustered maxima of the alarm statistic are fitted with a generalized Pareto
+//! tail (`echobench_tail`), giving a threshold with an interval for rates the calibration
+//! time cannot reach by counting (one per day, week, month).
+//!
+//! # Design decision: per room, then the worst room
+//!
+//! Rooms differ in kind (a fan, a curtain, an empty lab), so their tails are fitted one by
+//! one; the product's threshold for a rate is the highest room threshold, as the worst-room
+//! rule asks of counted thresholds. Its interval is `[max of the lower ends, max of the upper
+//! ends]`: the maximum of the rooms' thresholds is increasing in each of them, so the set of
+//! maxima of values inside each room's interval spans exactly that range (a conservative
+//! combination: it is not a joint confidence statement, and says so in the README). A room
+//! whose fit fails its checks leaves the rate without an extrapolated threshold, and the
+//! output names the room and why: the counted (brute-force) bound is then all there is.
+
+use crate::runner::room_name;
+use echobench_tail::{extrapolate, AlarmRule, Status, TailAccumulator, ThresholdRule};
+use serde::{Deserialize, Serialize};
+
+/// The rates reported for every detector, per hour: one per hour, day, week and month (30 days).
+pub const REPORT_RATES_PER_HOUR: [f64; 4] = [1.0, 1.0 / 24.0, 1.0 / 168.0, 1.0 / 720.0];
+
+/// Most exceedance frames an accumulator keeps per room and detector (its floor rises past
+/// this): the tail fit needs the upper few hundred cluster maxima, not every frame.
+pub const MAX_KEPT_FRAMES: usize = 20_000;
+
+/// Candidate thresholds probed by the automatic choice.
+const CANDIDATES: usize = 12;
+
+/// A threshold for one rate in one room (or the product), with its interval.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RateThreshold {
+    /// The false-alarm rate, per hour.
+    pub rate_per_hour: f64,
+    /// The threshold, when the tail gives one.
+    pub threshold: Option<f64>,
+    /// Lower end of its 95 % interval.
+    pub low: Option<f64>,
+    /// Upper end of its 95 % interval (may be `+inf`, written as `null`).
+    pub high: Option<f64>,
+    /// Why there is none, when there is none.
+    pub note: Option<String>,
+}
+
+/// One room's tail fit for one detector.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RoomTail {
+    /// Scene id.
+    pub scene: String,
+    /// Swept value, if swept.
+    pub sweep_value: Option<String>,
+    /// `fitted`, `too few clusters` or `no stable threshold`.
+    pub status: String,
+    /// Noise-only time fed to the fit, ns.
+    pub exposure_ns: u64,
+    /// The chosen threshold u of the peaks-over-threshold fit.
+    pub fit_threshold: Option<f64>,
+    /// Cluster maxima above u.
+    pub exceedances: Option<u64>,
+    /// Shape ξ of the fitted tail.
+    pub xi: Option<f64>,
+    /// Scale σ of the fitted tail.
+    pub sigma: Option<f64>,
+    /// The Anderson–Darling p-value of the fit (a table value or a bound).
+    pub gof_p: Option<f64>,
+    /// Thresholds for [`REPORT_RATES_PER_HOUR`] and the product's targets.
+    pub thresholds: Vec<RateThreshold>,
+}
+
+impl RoomTail {
+    /// `scene` or `scene @ value`.
+    pub fn name(&self) -> String {
+        room_name(&self.scene, self.sweep_value.as_deref())
+    }
+}
+
+/// A fresh accumulator for one room and detector.
+///
+/// # Errors
+/// An alarm rule the tail crate refuses (the suite loader refuses these first).
+pub fn accumulator(m: usize, n: usize, hold_s: f64) -> Result<TailAccumulator, String> {
+    let rule = AlarmRule::new(m, n, hold_s).map_err(|e| e.to_string())?;
+    TailAccumulator::new(rule, f64::NEG_INFINITY, MAX_KEPT_FRAMES).map_err(|e| e.to_string())
+}
+
+fn finite(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+/// Fits one room's tail and reads the thresholds of `rates_per_hour`.
+pub fn fit_room(
+    scene: &str,
+    sweep_value: Option<&str>,
+    acc: &TailAccumulator,
+    rates_per_hour: &[f64],
+) -> RoomTail {
+    let mut room = RoomTail {
+        scene: scene.to_string(),
+        sweep_value: sweep_value.map(str::to_string),
+        status: String::new(),
+        exposure_ns: acc.exposure_ns(),
+        fit_threshold: None,
+        exceedances: None,
+        xi: None,
+        sigma: None,
+        gof_p: None,
+        thresholds: Vec::new(),
+    };
+    let none = |rate: f64, note: &str| RateThreshold {
+        rate_per_hour: rate,
+        threshold: None,
+        low: None,
+        high: None,
+        note: Some(note.to_string()),
+    };
+    match extrapolate(acc, &ThresholdRule::default(), CANDIDATES, rates_per_hour) {
+        Err(e) => {
+            room.status = format!("not fitted: {e}");
+            room.thresholds = rates_per_hour
+                .iter()
+                .map(|&r| none(r, &room.status))
+                .collect();
+        }
+        Ok(x) => {
+            room.status = match x.status {
+                Status::Fitted => "fitted",
+                Status::TooFewClusters => "too few clusters",
+                Status::NoStableThreshold => "no stable threshold",
+            }
+            .to_string();
+            if let Some(fit) = &x.fit {
+                room.fit_threshold = Some(fit.threshold());
+                room.exceedances = Some(fit.exceedances() as u64);
+                room.xi = Some(fit.gpd().xi());
+                room.sigma = Some(fit.gpd().sigma());
+                room.gof_p = fit.goodness_of_fit().p_value.map(|p| p.value());
+            }
+            room.thresholds = if x.status == Status::Fitted {
+                x.targets
+                    .iter()
+                    .map(|t| match &t.threshold {
+                        Ok(e) => RateThreshold {
+                            rate_per_hour: t.rate_per_h,
+                            threshold: finite(e.value),
+                            low: finite(e.lower),
+                            high: finite(e.upper),
+                            note: None,
+                        },
+                        Err(e) => none(t.rate_per_h, &e.to_string()),
+                    })
+                    .collect()
+            } else {
+                rates_per_hour
+                    .iter()
+                    .map(|&r| none(r, &room.status))
+                    .collect()
+            };
+        }
+    }
+    room
+}
+
+/// The product's threshold for each rate: the worst room's, with `[max of lows, max of
+/// highs]` (module doc), or why there is none.
+pub fn worst_room(
+    rooms: &[RoomTail],
+    rates_per_hour: &[f64],
+) -> Vec<(RateThreshold, Option<String>)> {
+    rates_per_hour
+        .iter()
+        .map(|&rate| {
+            let per_room: Vec<(&RoomTail, &RateThreshold)> = rooms
+                .iter()
+                .filter_map(|r| {
+                    r.thresholds
+                        .iter()
+                        .find(|t| t.rate_per_hour == rate)
+                        .map(|t| (r, t))
+                })
+                .collect();
+            if let Some((room, t)) = per_room.iter().find(|(_, t)| t.threshold.is_none()) {
+                return (
+                    RateThreshold {
+                        rate_per_hour: rate,
+                        threshold: None,
+                        low: None,
+                        high: None,
+                        note: Some(format!(
+                            "{}: {}",
+                            room.name(),
+                            t.note.as_deref().unwrap_or("no threshold")
+                        )),
+                    },
+                    None,
+                );
+            }
+            let worst = per_room.iter().max_by(|a, b| {
+                a.1.threshold
+                    .unwrap_or(f64::NEG_INFINITY)
+                    .total_cmp(&b.1.threshold.unwrap_or(f64::NEG_INFINITY))
+            });
+            let low = per_room
+                .iter()
+                .filter_map(|(_, t)| t.low)
+                .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))));
+            // An unbounded upper end in any room makes the product's unbounded.
+            let high = if per_room.iter().any(|(_, t)| t.high.is_none()) {
+                None
+            } else {
+                per_room
+                    .iter()
+                    .filter_map(|(_, t)| t.high)
+                    .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))))
+            };
+            (
+                RateThreshold {
+                    rate_per_hour: rate,
+                    threshold: worst.and_then(|(_, t)| t.threshold),
+                    low,
+                    high,
+                    note: None,
+                },
+                worst.map(|(r, _)| r.name()),
+            )
+        })
+        .collect()
+}
+
+/// A detector's threshold for one rare rate on its product, for the summary.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RareThreshold {
+    /// The false-alarm rate, per hour.
+    pub rate_per_hour: f64,
+    /// The extrapolated threshold (worst room) with its interval, and why there is none.
+    pub extrapolated: RateThreshold,
+    /// The room whose tail set it.
+    pub limiting_room: Option<String>,
+    /// The counted (brute-force) threshold for the same rate, when it is one of the
+    /// product's targets.
+    pub counted_threshold: Option<f64>,
+    /// Whether the calibration time resolves that counted threshold.
+    pub counted_resolved: Option<bool>,
+}
+
+/// The rare-rate thresholds of one detector on its product, for [`REPORT_RATES_PER_HOUR`].
+pub fn rare_thresholds(
+    d: &crate::runner::DetectorTally,
+    operating: &[crate::summary::OperatingSummary],
+) -> Vec<RareThreshold> {
+    if d.tail.is_empty() {
+        return Vec::new();
+    }
+    worst_room(&d.tail, &REPORT_RATES_PER_HOUR)
+        .into_iter()
+        .map(|(extrapolated, limiting_room)| {
+            let rate = extrapolated.rate_per_hour;
+            let counted = operating
+                .iter()
+                .find(|o| (o.target_false_alarms_per_hour / rate - 1.0).abs() < 1e-6);
+            RareThreshold {
+                rate_per_hour: rate,
+                extrapolated,
+                limiting_room,
+                counted_threshold: counted.map(|o| o.threshold),
+                counted_resolved: counted.map(|o| o.resolved),
+            }
+        })
+        .collect()
+}
+
+/// Three significant digits, plain or in exponent form.
+fn sig3(x: f64) -> String {
+    if x == 0.0 {
+        "0".into()
+    } else if x.abs() >= 1e5 || x.abs() < 1e-3 {
+        format!("{x:.2e}")
+    } else {
+        let digits = (2 - x.abs().log10().floor() as i32).max(0) as usize;
+        format!("{x:.digits$}")
+    }
+}
+
+/// The console block: per detector, the extrapolated threshold for each rare rate with its
+/// interval, the counted one beside it where there is one, and why a cell is empty.
+pub fn console_block(detectors: &[&crate::summary::DetectorSummary]) -> String {
+    let rows: Vec<(&str, &Vec<RareThreshold>)> = detectors
+        .iter()
+        .filter(|d| !d.rare_thresholds.is_empty())
+        .map(|d| (d.label.as_str(), &d.rare_thresholds))
+        .collect();
+    if rows.is_empty() {
+        return String::new();
+    }
+    let columns: Vec<String> = REPORT_RATES_PER_HOUR
+        .iter()
+        .map(|r| crate::summary::rate_label(*r))
+        .collect();
+    let mut notes: Vec<String> = Vec::new();
+    let table_rows: Vec<(String, Vec<String>)> = rows
+        .iter()
+        .map(|(label, list)| {
+            let cells = list
+                .iter()
+                .map(|t| {
+                    let e = &t.extrapolated;
+                    let mut cell = match (e.threshold, e.low) {
+                        (Some(v), Some(l)) => format!(
+                            "{} [{}, {}]",
+                            sig3(v),
+                            sig3(l),
+                            e.high.map_or("∞".into(), sig3)
+                        ),
+                        (Some(v), None) => sig3(v),
+                        _ => {
+                            let note = e.note.clone().unwrap_or_default();
+                            let k = notes.iter().position(|n| *n == note).unwrap_or_else(|| {
+                                notes.push(note);
+                                notes.len() - 1
+                            });
+                            format!("— ({})", k + 1)
+                        }
+                    };
+                    if let Some(c) = t.counted_threshold {
+                        cell.push_str(&format!(
+                            " | {}{}",
+                            sig3(c),
+                            if t.counted_resolved == Some(true) {
+                                ""
+                            } else {
+                                "?"
+                            }
+                        ));
+                    }
+                    cell
+                })
+                .collect();
+            (label.to_string(), cells)
+        })
+        .collect();
+    let mut out = String::from(
+        "\nrare rates by tail extrapolation: threshold [95 % profile-likelihood interval] from a generalized Pareto fit of each room's declustered alarm maxima, the worst room's | the counted threshold where the product has that target (? not resolved by the calibration time):\n",
+    );
+    out.push_str(&crate::summary::grid_table(
+        "detector",
+        &columns,
+        &table_rows,
+    ));
+    for (k, note) in notes.iter().enumerate() {
+        out.push_str(&format!("  ({}) {note}\n", k + 1));
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand::{Rng, SeedableRng};
+
+    /// Exponential scores, one frame a second, 1-of-1 with a hold shorter than a frame: each
+    /// frame above a high level is its own alarm, so the rate at x is 3600·e^(−x) per hour
+    /// and the threshold for rate r is ln(3600/r) (the exponential tail, ξ = 0). 200 h of
+    /// frames; the 1/h, 1/day and 1/week thresholds (8.19, 11.4, 13.3) must lie inside their
+    /// intervals (one fixed seed; the tail crate measures coverage over many).
+    #[test]
+    fn exponential_scores_give_the_closed_form_thresholds() {
+        let mut acc = accumulator(1, 1, 0.5).unwrap();
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
+        for trial in 0..200u64 {
+            let mut scan = acc.scan(trial);
+            for k in 0..3600 {
+                let u: f64 = rng.random();
+                scan.push(k as f64 + 1.0, -(1.0 - u).ln()).unwrap();
+            }
+            acc.add(scan, 3600.0).unwrap();
+        }
+        let rates = [1.0, 1.0 / 24.0, 1.0 / 168.0];
+        let room = fit_room("quiet", None, &acc, &rates);
+        assert_eq!(room.status, "fitted");
+        for t in &room.thresholds {
+            let truth = (3600.0 / t.rate_per_hour).ln();
+            let (low, high) = (t.low.unwrap(), t.high.unwrap_or(f64::INFINITY));
+            assert!(
+                low <= truth && truth <= high,
+                "{}/h: truth {truth} outside [{low}, {high}] (estimate {:?})",
+                t.rate_per_hour,
+                t.threshold
+            );
+        }
+    }
+
+    fn room(name: &str, value: Option<f64>, low: f64, high: Option<f64>) -> RoomTail {
+        RoomTail {
+            scene: name.into(),
+            sweep_value: None,
+            status: if value.is_some() {
+                "fitted"
+            } else {
+                "too few clusters"
+            }
+            .into(),
+            exposure_ns: 0,
+            fit_threshold: None,
+            exceedances: None,
+            xi: None,
+            sigma: None,
+            gof_p: None,
+            thresholds: vec![RateThreshold {
+                rate_per_hour: 1.0,
+                threshold: value,
+                low: value.map(|_| low),
+                high,
+                note: value.is_none().then(|| "too few clusters".to_string()),
+            }],
+        }
+    }
+
+    #[test]
+    fn the_worst_room_sets_the_threshold_and_each_end_of_its_interval() {
+        let rooms = [
+            room("fan", Some(10.0), 9.0, Some(14.0)),
+            room("cat", Some(12.0), 8.0, Some(13.0)),
+        ];
+        let (t, limiting) = &worst_room(&rooms, &[1.0])[0];
+        assert_eq!(t.threshold, Some(12.0));
+        assert_eq!((t.low, t.high), (Some(9.0), Some(14.0)));
+        assert_eq!(limiting.as_deref(), Some("cat"));
+        // An unbounded upper end anywhere leaves the product's unbounded.
+        let rooms = [
+            room("fan", Some(10.0), 9.0, None),
+            room("cat", Some(12.0), 8.0, Some(13.0)),
+        ];
+        assert_eq!(worst_room(&rooms, &[1.0])[0].0.high, None);
+        // A room without a fit leaves no threshold, and says which and why.
+        let rooms = [
+            room("fan", Some(10.0), 9.0, Some(14.0)),
+            room("lab", None, 0.0, None),
+        ];
+        let (t, _) = &worst_room(&rooms, &[1.0])[0];
+        assert_eq!(t.threshold, None);
+        assert_eq!(t.note.as_deref(), Some("lab: too few clusters"));
+    }
+}
