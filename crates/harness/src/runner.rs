@@ -1053,9 +1053,17 @@ fn count_calibration_trial(
     counts: &mut [CalibrationCounts],
     add_exposure: bool,
 ) -> Result<(), RunError> {
-    let (truth, presence_truth) = match counting {
-        Counting::Alarms { window, .. } => (Some(trial_truth(trial, window)?), None),
-        Counting::SwitchOns { .. } => (None, Some(presence_truth(trial)?)),
+    // The trial's truth in the form the counting needs, made once for every detector.
+    let prepared = match counting {
+        Counting::Alarms { logic, window } => Prepared::Alarms {
+            logic,
+            truth: trial_truth(trial, window)?,
+        },
+        Counting::SwitchOns { timer, rule } => Prepared::SwitchOns {
+            timer,
+            rule,
+            truth: presence_truth(trial)?,
+        },
     };
     let room = room_of(job);
     for (di, count) in counts.iter_mut().enumerate() {
@@ -1064,20 +1072,19 @@ fn count_calibration_trial(
                 let grid = &grids[di];
                 // False alarms (or false switch-ons) at each grid threshold, and the
                 // exposure they are counted over.
-                let (false_alarms, exposure_ns) = match (counting, &truth, &presence_truth) {
-                    (Counting::Alarms { logic, .. }, Some(truth), _) => (
+                let (false_alarms, exposure_ns) = match &prepared {
+                    Prepared::Alarms { logic, truth } => (
                         score_thresholds(scores, truth, logic, grid)
                             .iter()
                             .map(|r| r.false_alarms() as u64)
                             .collect::<Vec<u64>>(),
                         ns(truth.exposure_s()),
                     ),
-                    (Counting::SwitchOns { timer, rule }, _, Some(truth)) => (
-                        false_switch_ons_at(&statistic_frames(scores, rule), truth, timer, grid)
+                    Prepared::SwitchOns { timer, rule, truth } => (
+                        false_switch_ons_at(&statistic_frames(scores, *rule), truth, timer, grid)
                             .map_err(|e| RunError(e.to_string()))?,
                         truth.empty_ns(),
                     ),
-                    _ => unreachable!("the truth is made for the counting in use"),
                 };
                 for (g, n) in false_alarms.iter().enumerate() {
                     count.false_alarms[g] += n;
@@ -1393,6 +1400,19 @@ enum Counting<'a> {
     SwitchOns {
         timer: &'a Timer,
         rule: echobench_presence::MOfN,
+    },
+}
+
+/// One calibration trial's truth with what its counting needs.
+enum Prepared<'a> {
+    Alarms {
+        logic: &'a AlarmLogic,
+        truth: TrialTruth,
+    },
+    SwitchOns {
+        timer: &'a Timer,
+        rule: echobench_presence::MOfN,
+        truth: PresenceTruth,
     },
 }
 
