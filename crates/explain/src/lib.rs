@@ -27,7 +27,6 @@ mod alarms;
 mod gallery;
 mod key;
 mod picture;
-mod raster;
 mod replay;
 
 pub use gallery::{

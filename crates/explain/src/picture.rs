@@ -183,8 +183,8 @@ fn spectrogram_svg(input: &PictureInput<'_>, duration_s: f64) -> Result<String, 
                 .map_err(|e| ExplainError::Picture(format!("reading back {}: {e}", path.display())))
         });
     let _ = std::fs::remove_file(&path);
-    crate::raster::compress_embedded_images(&drawn?)
-        .map_err(|e| ExplainError::Picture(format!("spectrogram heat map: {e}")))
+    // The spectrogram's heat map is already a compressed PNG.
+    drawn
 }
 
 /// Nests the spectrogram's document at `y`, with its clip id made distinct; returns it and

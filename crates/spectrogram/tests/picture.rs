@@ -220,42 +220,11 @@ fn xml_checker_rejects_broken_documents() {
     assert_well_formed_xml("<?xml version=\"1.0\"?>\n<a x='1'><!-- c --><b/>t &amp; &#x41;</a>\n");
 }
 
-/// Base64 decoding (RFC 4648 §4), for reading back the embedded heat map.
 fn decode_base64(text: &str) -> Vec<u8> {
-    let value = |c: u8| match c {
-        b'A'..=b'Z' => c - b'A',
-        b'a'..=b'z' => c - b'a' + 26,
-        b'0'..=b'9' => c - b'0' + 52,
-        b'+' => 62,
-        b'/' => 63,
-        _ => panic!("not base64: {c}"),
-    };
-    let mut out = Vec::new();
-    for group in text.as_bytes().chunks(4) {
-        let digits: Vec<u8> = group
-            .iter()
-            .filter(|&&c| c != b'=')
-            .map(|&c| value(c))
-            .collect();
-        let mut bits = 0u32;
-        for (i, &d) in digits.iter().enumerate() {
-            bits |= u32::from(d) << (18 - 6 * i);
-        }
-        for i in 0..digits.len().saturating_sub(1) {
-            out.push((bits >> (16 - 8 * i)) as u8);
-        }
-    }
-    out
-}
-
-/// Width and height from a PNG's IHDR chunk.
-fn png_size(png: &[u8]) -> (u32, u32) {
-    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n", "PNG signature");
-    assert_eq!(&png[12..16], b"IHDR");
-    (
-        u32::from_be_bytes(png[16..20].try_into().unwrap()),
-        u32::from_be_bytes(png[20..24].try_into().unwrap()),
-    )
+    use base64::Engine as _;
+    base64::engine::general_purpose::STANDARD
+        .decode(text)
+        .expect("the embedded image is base64")
 }
 
 /// The embedded heat-map PNG of an SVG written by this crate.
@@ -275,39 +244,24 @@ fn attribute(svg: &str, element_start: &str, name: &str) -> f64 {
     element[start..end].parse().unwrap()
 }
 
-/// Row-major RGB pixels of a PNG written with stored deflate blocks and no filtering, as the
-/// SVG heat map is (RFC 1951 §3.2.4 stored blocks; PNG filter type 0).
-fn decode_stored_png(png: &[u8]) -> (usize, usize, Vec<u8>) {
-    let (width, height) = png_size(png);
-    let mut at = 8;
-    let mut idat = Vec::new();
-    while at < png.len() {
-        let len = u32::from_be_bytes(png[at..at + 4].try_into().unwrap()) as usize;
-        if &png[at + 4..at + 8] == b"IDAT" {
-            idat.extend_from_slice(&png[at + 8..at + 8 + len]);
-        }
-        at += 12 + len;
-    }
-    let mut scanlines = Vec::new();
-    let mut at = 2;
-    loop {
-        let header = idat[at];
-        let len = u16::from_le_bytes([idat[at + 1], idat[at + 2]]) as usize;
-        scanlines.extend_from_slice(&idat[at + 5..at + 5 + len]);
-        at += 5 + len;
-        if header & 1 == 1 {
-            break;
-        }
-    }
-    let row_bytes = width as usize * 3;
-    let rgb = scanlines
-        .chunks_exact(row_bytes + 1)
-        .flat_map(|line| {
-            assert_eq!(line[0], 0, "filter type 0");
-            line[1..].to_vec()
-        })
-        .collect();
-    (width as usize, height as usize, rgb)
+/// Width and height from a PNG's header, read by the `png` crate's decoder.
+fn png_size(png_bytes: &[u8]) -> (u32, u32) {
+    let reader = png::Decoder::new(png_bytes)
+        .read_info()
+        .expect("a PNG header");
+    let info = reader.info();
+    (info.width, info.height)
+}
+
+/// Row-major RGB pixels of a PNG, read by the `png` crate's decoder.
+fn decode_png(png_bytes: &[u8]) -> (usize, usize, Vec<u8>) {
+    let decoder = png::Decoder::new(png_bytes);
+    let mut reader = decoder.read_info().expect("a PNG header");
+    let mut pixels = vec![0; reader.output_buffer_size()];
+    let info = reader.next_frame(&mut pixels).expect("the PNG's pixels");
+    assert_eq!(info.color_type, png::ColorType::Rgb);
+    pixels.truncate(info.buffer_size());
+    (info.width as usize, info.height as usize, pixels)
 }
 
 fn leftover_temp_files(dir: &Path) -> Vec<String> {
@@ -415,7 +369,7 @@ fn svg_heat_map_is_aligned_with_its_axes() {
         );
         let image_w = attribute(&svg, "<image", "width");
         let image_h = attribute(&svg, "<image", "height");
-        let (columns, rows, rgb) = decode_stored_png(&embedded_png(&svg));
+        let (columns, rows, rgb) = decode_png(&embedded_png(&svg));
         let brightness = |row: usize, column: usize| {
             let at = (row * columns + column) * 3;
             u32::from(rgb[at]) + u32::from(rgb[at + 1]) + u32::from(rgb[at + 2])
