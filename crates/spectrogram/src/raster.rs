@@ -79,7 +79,11 @@ mod tests {
             .collect();
         let png_bytes = encode_png_rgb(width, height, &rgb).unwrap();
         assert_eq!(&png_bytes[..8], b"\x89PNG\r\n\x1a\n");
-        assert!(png_bytes.len() * 10 < rgb.len(), "{} bytes", png_bytes.len());
+        assert!(
+            png_bytes.len() * 10 < rgb.len(),
+            "{} bytes",
+            png_bytes.len()
+        );
         assert_eq!(encode_png_rgb(width, height, &rgb).unwrap(), png_bytes);
         let decoder = png::Decoder::new(png_bytes.as_slice());
         let mut reader = decoder.read_info().unwrap();
