@@ -20,6 +20,7 @@
 //! and arithmetic per sample, for a team that must fit it in a small MCU.
 
 use crate::doppler::Framing;
+use crate::suggest::nearest;
 use crate::{Score, StreamInfo};
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
@@ -473,30 +474,6 @@ impl Params {
     pub fn iter(&self) -> impl Iterator<Item = (&'static str, &ParamValue)> {
         self.values.iter().map(|(k, v)| (*k, v))
     }
-}
-
-fn nearest<'a>(word: &str, options: &[&'a str]) -> Option<&'a str> {
-    fn distance(a: &str, b: &str) -> usize {
-        let b: Vec<char> = b.chars().collect();
-        let mut previous: Vec<usize> = (0..=b.len()).collect();
-        for (i, ca) in a.chars().enumerate() {
-            let mut current = vec![i + 1; b.len() + 1];
-            for (j, cb) in b.iter().enumerate() {
-                current[j + 1] = (previous[j] + usize::from(ca != *cb))
-                    .min(previous[j + 1] + 1)
-                    .min(current[j] + 1);
-            }
-            previous = current;
-        }
-        previous[b.len()]
-    }
-    let limit = 2.max(word.chars().count() / 3);
-    options
-        .iter()
-        .map(|o| (distance(word, o), *o))
-        .filter(|(d, _)| *d <= limit)
-        .min_by_key(|(d, _)| *d)
-        .map(|(_, o)| o)
 }
 
 /// Checks a finished score trace: finite values in non-decreasing time order.

@@ -15,6 +15,7 @@ pub mod detector;
 pub mod doppler;
 pub mod fastmath;
 pub mod seed;
+pub mod suggest;
 
 use std::fmt;
 

@@ -305,49 +305,9 @@ impl<'r, 'n> Fields<'r, 'n> {
     }
 }
 
-/// The nearest of `options` to `word` by edit distance, if it is near enough
-/// to be a plausible slip (at most 2 edits, or a third of the word's length).
-///
-/// ```
-/// use echobench_yaml_reader::suggest;
-/// assert_eq!(suggest("carier_hz", &["carrier_hz", "sample_rate_hz"]), Some("carrier_hz"));
-/// assert_eq!(suggest("colour", &["carrier_hz"]), None);
-/// ```
-pub fn suggest<'a>(word: &str, options: &[&'a str]) -> Option<&'a str> {
-    let limit = 2.max(word.chars().count() / 3);
-    options
-        .iter()
-        .map(|o| (edit_distance(word, o), *o))
-        .filter(|(d, _)| *d <= limit)
-        .min_by_key(|(d, _)| *d)
-        .map(|(_, o)| o)
-}
-
-/// Optimal-string-alignment distance (Damerau–Levenshtein with adjacent transpositions).
-fn edit_distance(a: &str, b: &str) -> usize {
-    let a: Vec<char> = a.chars().collect();
-    let b: Vec<char> = b.chars().collect();
-    let mut rows = vec![vec![0usize; b.len() + 1]; a.len() + 1];
-    for (i, row) in rows.iter_mut().enumerate() {
-        row[0] = i;
-    }
-    for (j, cell) in rows[0].iter_mut().enumerate() {
-        *cell = j;
-    }
-    for i in 1..=a.len() {
-        for j in 1..=b.len() {
-            let cost = usize::from(a[i - 1] != b[j - 1]);
-            let mut best = (rows[i - 1][j] + 1)
-                .min(rows[i][j - 1] + 1)
-                .min(rows[i - 1][j - 1] + cost);
-            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
-                best = best.min(rows[i - 2][j - 2] + 1);
-            }
-            rows[i][j] = best;
-        }
-    }
-    rows[a.len()][b.len()]
-}
+/// The nearest of `options` to `word`, if near enough to be a slip: the one rule every
+/// crate suggests by (`echobench_core::suggest::nearest`).
+pub use echobench_core::suggest::nearest as suggest;
 
 /// A value that can be read from a node, recording problems on the way.
 pub trait FromNode: Sized {
@@ -565,12 +525,5 @@ mod tests {
             text.contains("expected a whole number, found a string"),
             "{text}"
         );
-    }
-
-    #[test]
-    fn edit_distance_counts_transpositions_as_one() {
-        assert_eq!(edit_distance("abc", "acb"), 1);
-        assert_eq!(edit_distance("kitten", "sitting"), 3);
-        assert_eq!(edit_distance("", "ab"), 2);
     }
 }
