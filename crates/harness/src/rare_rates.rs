@@ -66,6 +66,11 @@ pub struct RoomTail {
     pub gof_p: Option<f64>,
     /// Thresholds for [`REPORT_RATES_PER_HOUR`] and the product's targets.
     pub thresholds: Vec<RateThreshold>,
+    /// The fitted rate per hour against threshold with its 95 % band, from the fit threshold
+    /// to the one-per-month threshold: (threshold, rate, low, high). Computed for the room
+    /// that sets the product's one-per-day threshold only (what the report draws).
+    #[serde(default)]
+    pub band: Vec<(f64, f64, f64, f64)>,
 }
 
 impl RoomTail {
@@ -106,6 +111,7 @@ pub fn fit_room(
         sigma: None,
         gof_p: None,
         thresholds: Vec::new(),
+        band: Vec::new(),
     };
     let none = |rate: f64, note: &str| RateThreshold {
         rate_per_hour: rate,
@@ -159,6 +165,39 @@ pub fn fit_room(
         }
     }
     room
+}
+
+/// Points on the fitted rate curve drawn by the report, crowded towards the fit threshold
+/// (quadratic spacing), where the rate falls fastest.
+const BAND_POINTS: usize = 14;
+
+/// Adds to `room` the fitted rate against threshold with its band (see [`RoomTail::band`]),
+/// refitting at its chosen threshold (one fit; the stability search is not repeated).
+pub fn add_band(room: &mut RoomTail, acc: &TailAccumulator) {
+    let Some(u) = room.fit_threshold else {
+        return;
+    };
+    let Ok(fit) =
+        echobench_tail::TailFit::from_accumulator(acc, u, ThresholdRule::default().shape_floor)
+    else {
+        return;
+    };
+    let top = room
+        .thresholds
+        .iter()
+        .filter_map(|t| t.threshold)
+        .fold(u, f64::max);
+    if top <= u {
+        return;
+    }
+    room.band = (0..BAND_POINTS)
+        .filter_map(|k| {
+            let f = k as f64 / (BAND_POINTS - 1) as f64;
+            let x = u + (top - u) * f * f;
+            let e = fit.rate_interval(x, 0.95).ok()?;
+            Some((x, e.value, e.lower, e.upper))
+        })
+        .collect();
 }
 
 /// The product's threshold for each rate: the worst room's, with `[max of lows, max of
@@ -377,6 +416,22 @@ mod tests {
         let rates = [1.0, 1.0 / 24.0, 1.0 / 168.0];
         let room = fit_room("quiet", None, &acc, &rates);
         assert_eq!(room.status, "fitted");
+        // The drawn curve: falling with the threshold, inside its band, through the truth's
+        // neighbourhood (3600·e^(−x) per hour) within the band.
+        let mut room = room;
+        add_band(&mut room, &acc);
+        assert_eq!(room.band.len(), BAND_POINTS);
+        for pair in room.band.windows(2) {
+            assert!(pair[1].0 > pair[0].0 && pair[1].1 < pair[0].1);
+        }
+        for &(x, rate, low, high) in &room.band {
+            assert!(low <= rate && rate <= high);
+            let truth = 3600.0 * (-x).exp();
+            assert!(
+                low <= truth && truth <= high,
+                "at {x}: {truth} outside [{low}, {high}]"
+            );
+        }
         for t in &room.thresholds {
             let truth = (3600.0 / t.rate_per_hour).ln();
             let (low, high) = (t.low.unwrap(), t.high.unwrap_or(f64::INFINITY));
@@ -412,6 +467,7 @@ mod tests {
                 high,
                 note: value.is_none().then(|| "too few clusters".to_string()),
             }],
+            band: Vec::new(),
         }
     }
 

@@ -1361,7 +1361,7 @@ fn calibrate(
                 room.false_alarms = f;
                 room.exposure_ns = e;
             }
-            let tail_rooms = rooms
+            let mut tail_rooms: Vec<crate::rare_rates::RoomTail> = rooms
                 .par_iter()
                 .zip(&c.tails)
                 .map(|(room, acc)| {
@@ -1374,6 +1374,16 @@ fn calibrate(
                     )
                 })
                 .collect();
+            // The fitted curve of the room that sets the one-per-day threshold, for the
+            // report's picture of counted against extrapolated rates.
+            let per_day = crate::rare_rates::REPORT_RATES_PER_HOUR[1];
+            if let Some((_, Some(limiting))) =
+                crate::rare_rates::worst_room(&tail_rooms, &[per_day]).first()
+            {
+                if let Some(i) = tail_rooms.iter().position(|r| r.name() == *limiting) {
+                    crate::rare_rates::add_band(&mut tail_rooms[i], &c.tails[i]);
+                }
+            }
             Calibrated {
                 thresholds,
                 false_alarms,

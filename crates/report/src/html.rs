@@ -1838,10 +1838,21 @@ fn product_entries(
         product_part::false_alarm_tables(part).into_string(),
     );
     if let Some(table) = rare_part::rare_table(part) {
+        let mut html = table.into_string();
+        for (label, room, chart) in rare_part::rate_charts(part, &|i| style_for(i, false)) {
+            let caption = format!(
+                "{}: false alarms per hour against threshold in {}, the room that sets its one-per-day threshold. Dots: counted on the room's calibration trials at each grid threshold above the fit threshold, with {} exact Poisson intervals (a count of 0 sits on the axis's zero edge). Solid line: the fitted generalized Pareto tail; dashed: its {} profile-likelihood band. Where the dots still reach, the curve must pass through them; below the lowest dot only the fit speaks. Horizontal lines: one false alarm per hour, day, week and month.",
+                escape(&label),
+                escape(&room),
+                data::confidence_percent(),
+                data::confidence_percent()
+            );
+            html.push_str(&page.figure(&render_chart(&chart), &caption));
+        }
         add(
             "rare-rates",
             "Rare false-alarm rates: thresholds by tail extrapolation",
-            table.into_string(),
+            html,
         );
     }
     for (k, section) in extra {

@@ -93,3 +93,130 @@ pub(crate) fn rare_table(part: &Part) -> Option<Html> {
     }
     Some(h)
 }
+
+/// Per detector with a fitted curve: the limiting room's counted false alarms per hour at
+/// every grid threshold above the fit threshold (with their exact Poisson intervals) against
+/// the fitted tail and its band, with the four rates drawn across. `(label, room, chart)`.
+pub(crate) fn rate_charts(
+    part: &Part,
+    style: &dyn Fn(usize) -> crate::plot::Style,
+) -> Vec<(String, String, crate::plot::Chart)> {
+    use crate::plot::{Axis, Chart, MarkedPoint, Marker, ReferenceLine, Series, Style};
+    use echobench_harness::summary::Estimate;
+    let mut out = Vec::new();
+    for (i, d) in part.tallies().into_iter().enumerate() {
+        let Some(room) = d.tail.iter().find(|r| !r.band.is_empty()) else {
+            continue;
+        };
+        let Some(grid) = d
+            .calibration_rooms
+            .iter()
+            .find(|g| g.scene == room.scene && g.sweep_value == room.sweep_value)
+        else {
+            continue;
+        };
+        let (Some(first), Some(last)) = (room.band.first(), room.band.last()) else {
+            continue;
+        };
+        let (x_low, x_high) = (first.0, last.0);
+        let hours = grid.exposure_ns as f64 / 3.6e12;
+        let counted: Vec<MarkedPoint> = d
+            .thresholds
+            .iter()
+            .zip(&grid.false_alarms)
+            .filter(|(x, _)| **x >= x_low && **x <= x_high)
+            .filter_map(|(&x, &k)| {
+                let e = Estimate::rate(k, hours);
+                let mut p = MarkedPoint::at(x, e.value?);
+                p.y_interval = e.low.zip(e.high);
+                p.note = format!(
+                    "threshold {}: {k} false alarms in {} h",
+                    format_number(x, 4),
+                    format_number(hours, 3)
+                );
+                Some(p)
+            })
+            .collect();
+        let base = style(i);
+        let line = |pick: fn(&(f64, f64, f64, f64)) -> f64| -> Vec<(f64, f64)> {
+            room.band.iter().map(|b| (b.0, pick(b))).collect()
+        };
+        let lowest = room
+            .band
+            .iter()
+            .map(|b| b.2)
+            .filter(|y| *y > 0.0)
+            .fold(REPORT_RATES_PER_HOUR[3], f64::min);
+        let highest = counted
+            .iter()
+            .filter_map(|p| p.y_interval.map(|(_, h)| h))
+            .chain(room.band.iter().map(|b| b.1))
+            .fold(REPORT_RATES_PER_HOUR[0], f64::max);
+        let mut chart = Chart::new(
+            &format!(
+                "{}: false alarms per hour against threshold in {}",
+                d.label,
+                room.name()
+            ),
+            Axis::linear("threshold", x_low, x_high),
+            Axis::log(
+                &format!("false alarms per hour in {} (log scale)", room.name()),
+                lowest,
+                highest,
+                true,
+            ),
+        );
+        chart.height = 360.0;
+        chart.series = vec![
+            Series {
+                name: "counted in calibration".into(),
+                style: Style {
+                    colour: "#222222".into(),
+                    dashed: false,
+                    marker: Marker::Circle,
+                },
+                line: Vec::new(),
+                markers: counted,
+            },
+            Series {
+                name: "fitted tail".into(),
+                style: Style {
+                    marker: Marker::None,
+                    ..base.clone()
+                },
+                line: line(|b| b.1),
+                markers: Vec::new(),
+            },
+            Series {
+                name: "95 % band".into(),
+                style: Style {
+                    dashed: true,
+                    marker: Marker::None,
+                    ..base.clone()
+                },
+                line: line(|b| b.2),
+                markers: Vec::new(),
+            },
+            Series {
+                name: String::new(),
+                style: Style {
+                    dashed: true,
+                    marker: Marker::None,
+                    ..base
+                },
+                line: line(|b| b.3),
+                markers: Vec::new(),
+            },
+        ];
+        chart.horizontal_lines = REPORT_RATES_PER_HOUR
+            .iter()
+            .map(|&r| ReferenceLine {
+                value: r,
+                label: rate_label(r),
+            })
+            .collect();
+        chart.empty_message = "no calibration counts above the fit threshold".into();
+        out.push((d.label.clone(), room.name(), chart));
+    }
+    out
+}
