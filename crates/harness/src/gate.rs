@@ -191,6 +191,10 @@ pub struct Check {
     pub baseline: String,
     /// The candidate's counts, in words.
     pub candidate: String,
+    /// The baseline's counts as numbers (what the words say), when the check has counts.
+    pub baseline_counts: Option<Counts>,
+    /// The candidate's counts as numbers.
+    pub candidate_counts: Option<Counts>,
     /// Candidate ÷ baseline (rates or Pd), when defined.
     pub ratio: Option<f64>,
     /// A bound: the ratio's one-sided lower bound (rate test) or the candidate rate's upper
@@ -211,6 +215,22 @@ pub struct Check {
     pub verdict: Verdict,
     /// Why, in a sentence.
     pub note: String,
+}
+
+/// A check's counts as numbers: `count` out of `of` (hours of exposure, events or trials, as
+/// `unit` says), so a reader of `gate.json` need not parse the words.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Counts {
+    /// The count (false alarms, detections, trials flagged; seconds of false-on time).
+    pub count: f64,
+    /// What it is counted over.
+    pub of: f64,
+    /// `h` (exposure hours), `events` or `trials`.
+    pub unit: &'static str,
+}
+
+fn counts(count: f64, of: f64, unit: &'static str) -> Option<Counts> {
+    Some(Counts { count, of, unit })
 }
 
 /// Every check of a gate run.
@@ -438,6 +458,8 @@ impl OperatingRef<'_> {
             group: group.to_string(),
             baseline: String::new(),
             candidate: String::new(),
+            baseline_counts: None,
+            candidate_counts: None,
             ratio: None,
             bound: None,
             rate_bounds_per_hour: None,
@@ -599,6 +621,8 @@ fn presence_checks(
     };
     check.baseline = words(b);
     check.candidate = words(c);
+    check.baseline_counts = counts(b.false_on_ns as f64 * 1e-9, empty_h(b), "h");
+    check.candidate_counts = counts(c.false_on_ns as f64 * 1e-9, empty_h(c), "h");
     if b.empty_ns == 0 || c.empty_ns == 0 {
         check.note = "no empty time in this group".into();
     } else if b.false_on_episodes.min(c.false_on_episodes) < MIN_FALSE_ON_EPISODES
@@ -652,6 +676,8 @@ fn count_rise_check(
     let mut check = at.check(metric, group);
     check.baseline = rate_words(b_count, b_hours);
     check.candidate = rate_words(c_count, c_hours);
+    check.baseline_counts = counts(b_count as f64, b_hours, "h");
+    check.candidate_counts = counts(c_count as f64, c_hours, "h");
     if b_hours <= 0.0 || c_hours <= 0.0 {
         check.note = no_exposure.into();
         return check;
@@ -712,6 +738,8 @@ fn paired_check(
     // Each side counts the trials where only that run did `what`.
     check.baseline = format!("{baseline_only} of {} trials", outcomes.len());
     check.candidate = format!("{candidate_only} of {} trials", outcomes.len());
+    check.baseline_counts = counts(baseline_only as f64, outcomes.len() as f64, "trials");
+    check.candidate_counts = counts(candidate_only as f64, outcomes.len() as f64, "trials");
     if outcomes.is_empty() {
         check.note = "no paired trials".into();
         return check;
@@ -775,6 +803,7 @@ struct BudgetInput {
 fn budget_check(at: &OperatingRef, c: &Sums, s: &GateSettings) -> Check {
     let mut check = at.check(Metric::FalseAlarmBudget, "all scenes");
     check.candidate = rate_words(c.false_alarms, c.exposure_h);
+    check.candidate_counts = counts(c.false_alarms as f64, c.exposure_h, "h");
     let Some(budget) = s.budget_per_hour else {
         check.note = "the suite sets no false_alarm_budget_per_hour".into();
         return check;
@@ -950,6 +979,8 @@ fn detection_check(at: &OperatingRef, group: &str, b: &Sums, c: &Sums) -> Check 
     let mut check = at.check(Metric::Detection, group);
     check.baseline = format!("{} of {} events", b.detected, b.events);
     check.candidate = format!("{} of {} events", c.detected, c.events);
+    check.baseline_counts = counts(b.detected as f64, b.events as f64, "events");
+    check.candidate_counts = counts(c.detected as f64, c.events as f64, "events");
     if b.events == 0 || c.events == 0 {
         check.note = "no target events on one side".into();
         return check;
@@ -1414,6 +1445,32 @@ mod tests {
         use Metric::*;
         use Verdict::*;
         let baseline = presence(10.0, 20, 10.0, 10);
+        // The counts go into gate.json as numbers too.
+        let key = ComparisonKey {
+            product: "lights".into(),
+            detector: "d".into(),
+        };
+        let at = OperatingRef {
+            key: &key,
+            target_per_hour: 1.0,
+            threshold: 1.0,
+        };
+        let checks = presence_checks(
+            &at,
+            "all scenes",
+            &baseline,
+            &baseline,
+            &GateSettings::default(),
+        );
+        assert_eq!(
+            checks[0].candidate_counts,
+            Some(Counts {
+                count: 20.0,
+                of: 10.0,
+                unit: "h"
+            })
+        );
+        assert_eq!(checks[0].candidate, "20 in 10.00 h");
         // The same run: nothing regresses.
         assert_eq!(
             presence_verdicts(&baseline, &baseline),
