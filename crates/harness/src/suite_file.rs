@@ -745,6 +745,10 @@ fn read_products(
     ok.then_some(out)
 }
 
+/// Most calibration hours a room may ask for: about a year (the run's limits at the door
+/// still apply to the whole workload).
+const MAX_CALIBRATION_HOURS: f64 = 10_000.0;
+
 /// Most budgets (operating points) and hold times of a presence product.
 const MAX_PRESENCE_POINTS: usize = 8;
 const MAX_HOLD_SWEEP: usize = 32;
@@ -1072,6 +1076,22 @@ fn read_scene_entry(
     // Overrides are checked here; the suite-wide counts where they are written.
     let trials_override: Option<u64> = f.optional("trials");
     let calibration_override: Option<u64> = f.optional("calibration_trials");
+    // A room can ask for noise-only time instead of a trial count (a soak): converted to
+    // trials of the scene's length below, once the scene is read.
+    let calibration_hours: Option<f64> = f.optional("calibration_hours");
+    if let Some(h) = calibration_hours {
+        if calibration_override.is_some() {
+            f.error_at(
+                "calibration_hours",
+                "give `calibration_hours` or `calibration_trials`, not both",
+            );
+        } else if !(h > 0.0 && h <= MAX_CALIBRATION_HOURS) {
+            f.error_at(
+                "calibration_hours",
+                format!("must be > 0 and at most {MAX_CALIBRATION_HOURS} h, found {h}"),
+            );
+        }
+    }
     for (key, count) in [
         ("trials", trials_override),
         ("calibration_trials", calibration_override),
@@ -1081,7 +1101,9 @@ fn read_scene_entry(
         }
     }
     let trials = trials_override.or(defaults.trials);
-    let calibration_trials = calibration_override.or(defaults.calibration_trials);
+    let calibration_trials = calibration_override
+        .or(calibration_hours.map(|_| 1))
+        .or(defaults.calibration_trials);
     if capture_node.is_none() {
         for (key, count) in [
             ("trials", trials),
@@ -1185,7 +1207,10 @@ fn read_scene_entry(
     let label = label?;
     let capture = match capture_node {
         Some(capture_node) => {
-            if trials_override.is_some() || calibration_override.is_some() {
+            if trials_override.is_some()
+                || calibration_override.is_some()
+                || calibration_hours.is_some()
+            {
                 report.problems.push(error(
                     suite_file,
                     capture_node.location,
@@ -1215,7 +1240,14 @@ fn read_scene_entry(
     }
     let (trials, calibration_trials) = match &capture {
         Some(c) => (c.test.len() as u64, c.calibration.len() as u64),
-        None => (trials.unwrap_or(1), calibration_trials.unwrap_or(1)),
+        None => (
+            trials.unwrap_or(1),
+            match calibration_hours {
+                // Whole trials covering at least the hours asked for.
+                Some(hours) => (hours * 3600.0 / first.duration_s).ceil().max(1.0) as u64,
+                None => calibration_trials.unwrap_or(1),
+            },
+        ),
     };
     let id = id.unwrap_or_else(|| first.name.clone());
     let id_location = id_node.map_or(node.location, |n| n.location);

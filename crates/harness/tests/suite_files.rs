@@ -1152,3 +1152,59 @@ fn a_presence_product_with_a_bad_timer_is_refused_with_the_field() {
         );
     }
 }
+
+// ---------------------------------------------------------------- soak rooms
+
+fn soak_suite(entry_extra: &str) -> Result<(Suite, Report), Report> {
+    let text = format!(
+        "\
+seed: 7
+trials: 2
+calibration_trials: 2
+scenes:
+  - id: quiet-room
+    label: nuisance
+    {entry_extra}
+    scene:
+      duration_s: 15
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 2000
+        front_end: {{high_pass_hz: [0.5], low_pass_hz: [100]}}
+        adc: {{bits: 12, full_scale_v: 3.3}}
+detectors:
+  - plugin: os-cfar
+"
+    );
+    load_suite_text("soak.yaml", &text, &NoFiles, &plugins())
+}
+
+#[test]
+fn a_room_can_ask_for_hours_of_calibration_noise() {
+    // 72 h of 15 s trials: 17 280 trials, enough for zero alarms to bound a rate of one per
+    // day (−ln 0.05 / 72 h = 0.042 per hour).
+    let (suite, report) = soak_suite("calibration_hours: 72")
+        .unwrap_or_else(|report| panic!("does not load:\n{report}"));
+    assert!(!report.has_errors(), "{report}");
+    assert_eq!(suite.scenes[0].calibration_trials, 17_280);
+    // Rounded up to whole trials.
+    let (suite, _) = soak_suite("calibration_hours: 0.01").unwrap();
+    assert_eq!(suite.scenes[0].calibration_trials, 3);
+    for (extra, needle) in [
+        (
+            "calibration_hours: 2\n    calibration_trials: 10",
+            "not both",
+        ),
+        ("calibration_hours: -1", "must be > 0"),
+        ("calibration_hours: 1.0e9", "at most"),
+    ] {
+        let report = soak_suite(extra).expect_err(extra);
+        assert!(
+            report
+                .problems
+                .iter()
+                .any(|p| p.field == "scenes[0].calibration_hours" && p.message.contains(needle)),
+            "{extra}: {report}"
+        );
+    }
+}
