@@ -237,6 +237,7 @@ fn main() -> ExitCode {
                 budget_per_hour,
                 budget_confidence: 0.95,
                 require_conclusive,
+                budget_from_tail: false,
             },
             markdown,
             junit,
@@ -566,13 +567,17 @@ fn run_gate(
     use echobench_core::atomic::write_atomically;
     let candidate = read_tallies(run)?;
     let base = read_tallies(baseline)?;
-    if settings.budget_per_hour.is_none() && run.is_dir() {
+    if run.is_dir() {
+        // The suite's budget (unless given on the command line) and its evidence.
         let file = run.join("summary.json");
         let text = std::fs::read_to_string(&file)
             .with_context(|| format!("reading {}", file.display()))?;
         let summary: echobench_harness::summary::Summary =
             serde_json::from_str(&text).with_context(|| format!("parsing {}", file.display()))?;
-        settings.budget_per_hour = summary.false_alarm_budget_per_hour;
+        if settings.budget_per_hour.is_none() {
+            settings.budget_per_hour = summary.false_alarm_budget_per_hour;
+        }
+        settings.budget_from_tail |= summary.budget_from_tail;
     }
     let report = echobench_harness::gate::gate(&candidate, &base, &settings)?;
     let folder = if run.is_dir() { run } else { Path::new(".") };
@@ -638,6 +643,7 @@ fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Resu
     if let Some(b) = &base {
         let settings = echobench_harness::gate::GateSettings {
             budget_per_hour: folder.summary.false_alarm_budget_per_hour,
+            budget_from_tail: folder.summary.budget_from_tail,
             ..Default::default()
         };
         match echobench_harness::gate::gate(&folder.tallies, &b.tallies, &settings) {

@@ -71,6 +71,10 @@ pub struct GateSettings {
     pub budget_confidence: f64,
     /// Count an inconclusive budget check as a failure of the gate.
     pub require_conclusive: bool,
+    /// Judge the budget by the candidate's calibration-tail rate at the pinned threshold
+    /// (`DetectorTally::pinned_tail`) instead of its test-trial counts (the suite's
+    /// `budget_evidence: calibration_tail`).
+    pub budget_from_tail: bool,
 }
 
 impl Default for GateSettings {
@@ -82,6 +86,7 @@ impl Default for GateSettings {
             budget_per_hour: None,
             budget_confidence: 0.95,
             require_conclusive: false,
+            budget_from_tail: false,
         }
     }
 }
@@ -329,6 +334,12 @@ pub fn gate(
                 .into(),
         );
     }
+    if settings.budget_from_tail && settings.budget_per_hour.is_some() {
+        notes.push(
+            "the budget is judged by the calibration rooms at each pinned threshold (suite `budget_evidence: calibration_tail`): tail fit above each room's fit threshold, counted below, worst room"
+                .into(),
+        );
+    }
     if !paired {
         notes.push(format!(
             "the runs used different seeds ({} and {}): paired tests are not possible",
@@ -408,7 +419,8 @@ pub fn gate(
                         false_alarms: sc.false_alarms,
                         exposure_h: sc.exposure_h,
                     });
-                    detector_checks.push(budget_check(&at, &sc, settings));
+                    let tail = c.pinned_tail.get(p).and_then(Option::as_ref);
+                    detector_checks.push(budget_check(&at, &sc, tail, settings));
                 }
                 if let Some((pb, pc)) = presence_sums(&pairs, o, p) {
                     detector_checks.extend(presence_checks(&at, &name, &pb, &pc, settings));
@@ -800,7 +812,12 @@ struct BudgetInput {
 
 /// The budget check's bounds and regression-side p-value; its verdict waits for Holm across
 /// the key's budget checks ([`settle_budget`]).
-fn budget_check(at: &OperatingRef, c: &Sums, s: &GateSettings) -> Check {
+fn budget_check(
+    at: &OperatingRef,
+    c: &Sums,
+    tail: Option<&crate::rare_rates::RateAt>,
+    s: &GateSettings,
+) -> Check {
     let mut check = at.check(Metric::FalseAlarmBudget, "all scenes");
     check.candidate = rate_words(c.false_alarms, c.exposure_h);
     check.candidate_counts = counts(c.false_alarms as f64, c.exposure_h, "h");
@@ -809,6 +826,11 @@ fn budget_check(at: &OperatingRef, c: &Sums, s: &GateSettings) -> Check {
         return check;
     };
     check.baseline = format!("budget {budget}/h");
+    // Without a calibration-tail rate (a product without rooms) the test trials judge it,
+    // and the note says so (the counted notes name one-sided Poisson bounds).
+    if let (true, Some(t)) = (s.budget_from_tail, tail) {
+        return tail_budget_check(check, t, budget);
+    }
     if c.exposure_h <= 0.0 {
         check.note = "no noise-only time".into();
         return check;
@@ -824,6 +846,36 @@ fn budget_check(at: &OperatingRef, c: &Sums, s: &GateSettings) -> Check {
             check.verdict = Verdict::Inconclusive;
         }
         (Err(e), _) | (_, Err(e)) => check.note = format!("not tested: {e}"),
+    }
+    check
+}
+
+/// The budget judged by the candidate's calibration rooms at the pinned threshold (the suite's
+/// `budget_evidence: calibration_tail`): pass when the 95 % interval's upper end is under the
+/// budget, regression when its lower end is over it, inconclusive otherwise. Each end is a
+/// one-sided 97.5 % bound, so with k operating points the family's false-fail rate is at most
+/// k × 2.5 % (Bonferroni; 5 % for the usual two), and the check carries no p-value for Holm.
+fn tail_budget_check(mut check: Check, t: &crate::rare_rates::RateAt, budget: f64) -> Check {
+    check.candidate = format!("{:.4}/h in {} ({})", t.rate_per_hour, t.room, t.method);
+    check.candidate_counts = None;
+    check.rate_bounds_per_hour = t.high.map(|high| [t.low, high]);
+    check.bound = t.high;
+    let high = t.high.map_or("∞".to_string(), |h| format!("{h:.4}"));
+    let interval = format!(
+        "[{:.4}, {high}]/h (95 %, worst room {}, {})",
+        t.low, t.room, t.method
+    );
+    if t.high.is_some_and(|h| h < budget) {
+        check.verdict = Verdict::Pass;
+        check.note = format!("calibration rooms: {interval} is under the budget {budget}/h");
+    } else if t.low > budget {
+        check.verdict = Verdict::Regression;
+        check.note = format!("calibration rooms: {interval} is over the budget {budget}/h");
+    } else {
+        check.verdict = Verdict::Inconclusive;
+        check.note = format!(
+            "inconclusive: calibration rooms: {interval} straddles the budget {budget}/h (more calibration time per room narrows it)"
+        );
     }
     check
 }
@@ -1441,6 +1493,68 @@ mod tests {
     }
 
     #[test]
+    fn the_budget_by_calibration_tail_is_three_way_on_its_interval() {
+        let key = ComparisonKey {
+            product: "p".into(),
+            detector: "d".into(),
+        };
+        let at = OperatingRef {
+            key: &key,
+            target_per_hour: 1.0,
+            threshold: 7.0,
+        };
+        let settings = GateSettings {
+            budget_per_hour: Some(0.5),
+            budget_from_tail: true,
+            ..GateSettings::default()
+        };
+        let sums = Sums {
+            false_alarms: 3,
+            exposure_h: 1.0,
+            ..Sums::default()
+        };
+        let rate = |low: f64, value: f64, high: Option<f64>| crate::rare_rates::RateAt {
+            threshold: 7.0,
+            rate_per_hour: value,
+            low,
+            high,
+            room: "porch".into(),
+            method: "tail fit".into(),
+        };
+        let verdict = |t: &crate::rare_rates::RateAt| budget_check(&at, &sums, Some(t), &settings);
+        // Under, over, straddling, unbounded above.
+        assert_eq!(verdict(&rate(0.01, 0.1, Some(0.3))).verdict, Verdict::Pass);
+        assert_eq!(
+            verdict(&rate(0.6, 1.0, Some(2.0))).verdict,
+            Verdict::Regression
+        );
+        assert_eq!(
+            verdict(&rate(0.1, 0.4, Some(0.9))).verdict,
+            Verdict::Inconclusive
+        );
+        let open = verdict(&rate(0.1, 0.4, None));
+        assert_eq!(open.verdict, Verdict::Inconclusive);
+        assert!(
+            open.note.contains("porch") && open.note.contains("∞"),
+            "{}",
+            open.note
+        );
+        // No p-value: the counted checks' Holm family does not take it in.
+        assert_eq!(verdict(&rate(0.6, 1.0, Some(2.0))).p_value, None);
+        // Without the setting, the test trials' counts judge it (3 in 1 h against 0.5/h).
+        let counted = budget_check(
+            &at,
+            &sums,
+            Some(&rate(0.01, 0.1, Some(0.3))),
+            &GateSettings {
+                budget_from_tail: false,
+                ..settings
+            },
+        );
+        assert!(counted.p_value.is_some());
+    }
+
+    #[test]
     fn a_presence_product_regresses_on_switch_ons_dropouts_or_false_on_time() {
         use Metric::*;
         use Verdict::*;
@@ -1549,7 +1663,7 @@ mod tests {
                 false_alarms,
                 exposure_h,
             });
-            checks.push(budget_check(&at, &sums, &settings));
+            checks.push(budget_check(&at, &sums, None, &settings));
         }
         settle_budget(&mut checks, &inputs, &settings);
         checks

@@ -167,6 +167,86 @@ pub fn fit_room(
     room
 }
 
+/// A room's (or the product's) false-alarm rate at one threshold, with its 95 % interval.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RateAt {
+    /// The threshold.
+    pub threshold: f64,
+    /// Rate per hour.
+    pub rate_per_hour: f64,
+    /// Lower end, per hour.
+    pub low: f64,
+    /// Upper end, per hour (`None`: unbounded).
+    pub high: Option<f64>,
+    /// The room it is for (the worst room, for a product).
+    pub room: String,
+    /// `tail fit` above the fit threshold, `counted` (declustered alarms over the room's
+    /// calibration time, Garwood interval) below it or without a fit.
+    pub method: String,
+}
+
+/// A room's rate at threshold `x`: from its tail fit at or above the fit threshold, else
+/// counted (the accumulator's declustered alarms over its time, with Garwood's interval).
+pub fn rate_at(room: &RoomTail, acc: &TailAccumulator, x: f64) -> Option<RateAt> {
+    let fitted = room.status == "fitted";
+    if let (true, Some(u)) = (fitted, room.fit_threshold) {
+        if x >= u {
+            let fit = echobench_tail::TailFit::from_accumulator(
+                acc,
+                u,
+                ThresholdRule::default().shape_floor,
+            )
+            .ok()?;
+            let e = fit.rate_interval(x, 0.95).ok()?;
+            return Some(RateAt {
+                threshold: x,
+                rate_per_hour: e.value,
+                low: e.lower,
+                high: finite(e.upper),
+                room: room.name(),
+                method: "tail fit".into(),
+            });
+        }
+    }
+    let hours = acc.exposure_h();
+    let count = acc.alarm_count(x).ok()?;
+    let interval = echobench_stats::garwood_interval(count, hours, 0.95).ok()?;
+    Some(RateAt {
+        threshold: x,
+        rate_per_hour: count as f64 / hours,
+        low: interval.low,
+        high: Some(interval.high),
+        room: room.name(),
+        method: "counted".into(),
+    })
+}
+
+/// The product's rate at `x`: the worst room's, with `[max of lows, max of highs]` (as for
+/// thresholds, module doc); `None` when a room has no rate.
+pub fn product_rate_at(
+    rooms: &[RoomTail],
+    accumulators: &[TailAccumulator],
+    x: f64,
+) -> Option<RateAt> {
+    let per_room: Vec<RateAt> = rooms
+        .iter()
+        .zip(accumulators)
+        .map(|(room, acc)| rate_at(room, acc, x))
+        .collect::<Option<_>>()?;
+    let worst = per_room
+        .iter()
+        .max_by(|a, b| a.rate_per_hour.total_cmp(&b.rate_per_hour))?;
+    let high = per_room
+        .iter()
+        .map(|r| r.high)
+        .try_fold(0.0f64, |m, h| h.map(|h| m.max(h)));
+    Some(RateAt {
+        low: per_room.iter().map(|r| r.low).fold(0.0, f64::max),
+        high,
+        ..worst.clone()
+    })
+}
+
 /// Points on the fitted rate curve drawn by the report, crowded towards the fit threshold
 /// (quadratic spacing), where the rate falls fastest.
 const BAND_POINTS: usize = 14;
@@ -432,6 +512,33 @@ mod tests {
                 "at {x}: {truth} outside [{low}, {high}]"
             );
         }
+        // The rate at a pinned threshold: from the fit above u, counted below it.
+        let u = room.fit_threshold.unwrap();
+        let above = rate_at(&room, &acc, u + 3.0).unwrap();
+        assert_eq!(above.method, "tail fit");
+        let truth = 3600.0 * (-(u + 3.0)).exp();
+        assert!(above.low <= truth && truth <= above.high.unwrap());
+        // Without a fit (or below u) the rate is counted; below the accumulator's floor (the
+        // lowest level at which it knows every frame) there is no rate at all.
+        let unfitted = RoomTail {
+            status: "too few clusters".into(),
+            ..room.clone()
+        };
+        let x = u + 1.0;
+        let below = rate_at(&unfitted, &acc, x).unwrap();
+        assert_eq!(below.method, "counted");
+        let truth = 3600.0 * (-x).exp();
+        assert!(rate_at(&unfitted, &acc, acc.floor() - 1.0).is_none());
+        assert!(
+            below.low <= truth && truth <= below.high.unwrap(),
+            "{below:?} vs {truth}"
+        );
+        let product = product_rate_at(
+            std::slice::from_ref(&room),
+            std::slice::from_ref(&acc),
+            u + 3.0,
+        );
+        assert_eq!(product, Some(above));
         for t in &room.thresholds {
             let truth = (3600.0 / t.rate_per_hour).ln();
             let (low, high) = (t.low.unwrap(), t.high.unwrap_or(f64::INFINITY));

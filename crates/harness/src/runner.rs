@@ -282,6 +282,10 @@ pub struct DetectorTally {
     /// thresholds it gives for rare rates (the same in every shard).
     #[serde(default)]
     pub tail: Vec<crate::rare_rates::RoomTail>,
+    /// Per pinned threshold, the product's false-alarm rate from the calibration rooms
+    /// (tail fit above each room's fit threshold, counted below), worst room.
+    #[serde(default)]
+    pub pinned_tail: Vec<Option<crate::rare_rates::RateAt>>,
     /// Label.
     pub label: String,
     /// Plugin id.
@@ -746,6 +750,7 @@ fn run_product(
             rooms,
             failures,
             tail_rooms,
+            tails,
         } = cal;
         let operating = targets_per_hour
             .iter()
@@ -776,6 +781,13 @@ fn run_product(
                 ops_per_sample: c.ops_per_sample,
             });
         let pinned_points = detector.pinned.get(&product).cloned().unwrap_or_default();
+        // The product's calibration-tail rate at each pinned threshold, for a gate that
+        // judges the budget by it.
+        let pinned_tail: Vec<Option<crate::rare_rates::RateAt>> = pinned_points
+            .par_iter()
+            .map(|p| crate::rare_rates::product_rate_at(&tail_rooms, &tails, p.threshold))
+            .collect();
+        drop(tails);
         let pinned_len = pinned_points.len();
         let (grid_len, operating_len) = (thresholds.len(), operating.len());
         // Presence tallies exist for presence products only.
@@ -834,6 +846,7 @@ fn run_product(
                 .to_string(),
             presence_output: presence.as_ref().map(|(output, ..)| output.clone()),
             tail: tail_rooms,
+            pinned_tail,
             calibration_rooms,
             calibration_pooled: false_alarms,
             label: detector.label.clone(),
@@ -990,6 +1003,9 @@ struct Calibrated {
     failures: Vec<Failure>,
     /// Each room's tail fit (rare rates by extrapolation).
     tail_rooms: Vec<crate::rare_rates::RoomTail>,
+    /// Each room's accumulator, for rates at thresholds known only after calibration
+    /// (pinned ones); dropped with the calibration.
+    tails: Vec<TailAccumulator>,
 }
 
 /// Calibration counts of one detector while trials stream past.
@@ -1391,6 +1407,7 @@ fn calibrate(
                 rooms,
                 failures: c.failures,
                 tail_rooms,
+                tails: c.tails,
             }
         })
         .collect();
@@ -1579,6 +1596,7 @@ fn empty_like(t: &DetectorTally) -> DetectorTally {
         kind: t.kind.clone(),
         presence_output: t.presence_output.clone(),
         tail: t.tail.clone(),
+        pinned_tail: t.pinned_tail.clone(),
         calibration_rooms: t.calibration_rooms.clone(),
         calibration_pooled: t.calibration_pooled.clone(),
         label: t.label.clone(),

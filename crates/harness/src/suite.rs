@@ -266,6 +266,9 @@ pub struct ScoringSpec {
     pub false_alarm_budget_per_hour: Option<f64>,
     /// How the operating threshold for a target rate is chosen from the nuisance scenes.
     pub threshold_rule: ThresholdRule,
+    /// What the gate's budget check judges the candidate's rate by: the test trials' counts
+    /// (`false`, the default) or the calibration rooms' tail fit at the pinned threshold.
+    pub budget_from_tail: bool,
 }
 
 /// How calibration turns a target false-alarm rate into an operating threshold.
@@ -309,6 +312,7 @@ impl Default for ScoringSpec {
             threshold_count: 120,
             false_alarm_budget_per_hour: None,
             threshold_rule: ThresholdRule::WorstRoom,
+            budget_from_tail: false,
         }
     }
 }

@@ -2514,6 +2514,11 @@ fn read_scoring(node: &Node, suite_file: &str, report: &mut Report) -> Option<Sc
         );
         let threshold_count: usize = f.optional_or("threshold_count", defaults.threshold_count);
         let budget: Option<f64> = f.optional("false_alarm_budget_per_hour");
+        let budget_from_tail = f.choice_or(
+            "budget_evidence",
+            &["test_trials", "calibration_tail"],
+            "test_trials",
+        ) == "calibration_tail";
         let threshold_rule = match f.choice_or(
             "threshold_rule",
             &[
@@ -2575,6 +2580,7 @@ fn read_scoring(node: &Node, suite_file: &str, report: &mut Report) -> Option<Sc
             threshold_count,
             false_alarm_budget_per_hour: budget,
             threshold_rule,
+            budget_from_tail,
         })
     })();
     let problems = reader.finish();

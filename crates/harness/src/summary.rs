@@ -240,6 +240,10 @@ pub struct Summary {
     pub event_tolerance_s: (f64, f64),
     /// Absolute false-alarm budget for the gate, per hour.
     pub false_alarm_budget_per_hour: Option<f64>,
+    /// The gate judges the budget by the calibration rooms' tail fit (`calibration_tail`)
+    /// instead of the test trials' counts.
+    #[serde(default)]
+    pub budget_from_tail: bool,
     /// The products, in suite order.
     pub products: Vec<ProductSummary>,
     /// Per product and detector, product by product.
@@ -498,6 +502,7 @@ pub fn summarise(tallies: &Tallies, suite: &Suite) -> Summary {
         m_of_n: suite.alarm.m_of_n,
         event_tolerance_s: (suite.scoring.early_s, suite.scoring.late_s),
         false_alarm_budget_per_hour: suite.scoring.false_alarm_budget_per_hour,
+        budget_from_tail: suite.scoring.budget_from_tail,
         products: suite
             .products
             .iter()
