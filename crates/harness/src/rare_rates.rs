@@ -23,7 +23,7 @@ pub const REPORT_RATES_PER_HOUR: [f64; 4] = [1.0, 1.0 / 24.0, 1.0 / 168.0, 1.0 /
 
 /// Most exceedance frames an accumulator keeps per room and detector (its floor rises past
 /// this): the tail fit needs the upper few hundred cluster maxima, not every frame.
-pub const MAX_KEPT_FRAMES: usize = 20_000;
+pub const MAX_KEPT_FRAMES: usize = 4_000;
 
 /// Candidate thresholds probed by the automatic choice.
 const CANDIDATES: usize = 12;
