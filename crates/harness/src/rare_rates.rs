@@ -496,21 +496,18 @@ mod tests {
         let rates = [1.0, 1.0 / 24.0, 1.0 / 168.0];
         let room = fit_room("quiet", None, &acc, &rates);
         assert_eq!(room.status, "fitted");
-        // The drawn curve: falling with the threshold, inside its band, through the truth's
-        // neighbourhood (3600·e^(−x) per hour) within the band.
+        // The drawn curve: from the fit threshold up, falling with the threshold, inside its
+        // band (whether the band holds the truth is a coverage question, measured over many
+        // seeds in the tail crate; one seed's pointwise band may miss it).
         let mut room = room;
         add_band(&mut room, &acc);
         assert_eq!(room.band.len(), BAND_POINTS);
         for pair in room.band.windows(2) {
             assert!(pair[1].0 > pair[0].0 && pair[1].1 < pair[0].1);
         }
-        for &(x, rate, low, high) in &room.band {
+        assert_eq!(room.band[0].0, room.fit_threshold.unwrap());
+        for &(_, rate, low, high) in &room.band {
             assert!(low <= rate && rate <= high);
-            let truth = 3600.0 * (-x).exp();
-            assert!(
-                low <= truth && truth <= high,
-                "at {x}: {truth} outside [{low}, {high}]"
-            );
         }
         // The rate at a pinned threshold: from the fit above u, counted below it.
         let u = room.fit_threshold.unwrap();
@@ -529,10 +526,16 @@ mod tests {
         assert_eq!(below.method, "counted");
         let truth = 3600.0 * (-x).exp();
         assert!(rate_at(&unfitted, &acc, acc.floor() - 1.0).is_none());
+        // The counted rate is a Poisson count over 200 h: within 4 standard deviations of
+        // the truth (a false failure once in about 16 000 seeds), and its interval is
+        // Garwood's around the count.
+        let expected = truth * 200.0;
+        let counted = below.rate_per_hour * 200.0;
         assert!(
-            below.low <= truth && truth <= below.high.unwrap(),
+            (counted - expected).abs() <= 4.0 * expected.sqrt(),
             "{below:?} vs {truth}"
         );
+        assert!(below.low < below.rate_per_hour && below.rate_per_hour < below.high.unwrap());
         let product = product_rate_at(
             std::slice::from_ref(&room),
             std::slice::from_ref(&acc),
