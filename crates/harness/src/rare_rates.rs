@@ -362,6 +362,49 @@ pub struct RareThreshold {
     pub counted_resolved: Option<bool>,
 }
 
+impl RareThreshold {
+    /// The threshold as a table cell: `value [low, high]` (`∞` for an unbounded end), then
+    /// ` (room)` when `with_room`, then ` | counted` (with `?` when not resolved); a missing
+    /// threshold is `— (k)`, its note numbered in `notes` (shared by the table's cells).
+    pub fn cell(
+        &self,
+        number: &dyn Fn(f64) -> String,
+        notes: &mut Vec<String>,
+        with_room: bool,
+    ) -> String {
+        let e = &self.extrapolated;
+        let mut cell = match (e.threshold, e.low) {
+            (Some(v), Some(l)) => format!(
+                "{} [{}, {}]",
+                number(v),
+                number(l),
+                e.high.map_or("∞".into(), number)
+            ),
+            (Some(v), None) => number(v),
+            _ => {
+                let note = e.note.clone().unwrap_or_default();
+                let k = notes.iter().position(|n| *n == note).unwrap_or_else(|| {
+                    notes.push(note);
+                    notes.len() - 1
+                });
+                format!("— ({})", k + 1)
+            }
+        };
+        if let (true, Some(room)) = (with_room, &self.limiting_room) {
+            cell.push_str(&format!(" ({room})"));
+        }
+        if let Some(c) = self.counted_threshold {
+            let unresolved = if self.counted_resolved == Some(true) {
+                ""
+            } else {
+                "?"
+            };
+            cell.push_str(&format!(" | {}{unresolved}", number(c)));
+        }
+        cell
+    }
+}
+
 /// The rare-rate thresholds of one detector on its product, for [`REPORT_RATES_PER_HOUR`].
 pub fn rare_thresholds(
     d: &crate::runner::DetectorTally,
@@ -421,38 +464,7 @@ pub fn console_block(detectors: &[&crate::summary::DetectorSummary]) -> String {
         .map(|(label, list)| {
             let cells = list
                 .iter()
-                .map(|t| {
-                    let e = &t.extrapolated;
-                    let mut cell = match (e.threshold, e.low) {
-                        (Some(v), Some(l)) => format!(
-                            "{} [{}, {}]",
-                            sig3(v),
-                            sig3(l),
-                            e.high.map_or("∞".into(), sig3)
-                        ),
-                        (Some(v), None) => sig3(v),
-                        _ => {
-                            let note = e.note.clone().unwrap_or_default();
-                            let k = notes.iter().position(|n| *n == note).unwrap_or_else(|| {
-                                notes.push(note);
-                                notes.len() - 1
-                            });
-                            format!("— ({})", k + 1)
-                        }
-                    };
-                    if let Some(c) = t.counted_threshold {
-                        cell.push_str(&format!(
-                            " | {}{}",
-                            sig3(c),
-                            if t.counted_resolved == Some(true) {
-                                ""
-                            } else {
-                                "?"
-                            }
-                        ));
-                    }
-                    cell
-                })
+                .map(|t| t.cell(&sig3, &mut notes, false))
                 .collect();
             (label.to_string(), cells)
         })

@@ -115,6 +115,19 @@ fn garwood_rate(
     })
 }
 
+/// A quantile level must lie in `[0, 1]`.
+fn check_level(q: f64) -> Result<(), PresenceError> {
+    if (0.0..=1.0).contains(&q) {
+        Ok(())
+    } else {
+        Err(PresenceError::InvalidParameter {
+            name: "q",
+            value: q,
+            allowed: "a quantile level in [0, 1]",
+        })
+    }
+}
+
 /// Type-7 quantile (Hyndman & Fan 1996, as `echobench_stats::quantile`) of a sample made of
 /// `observed` (sorted) and `censored` values ranked above all of them.
 fn censored_quantile(
@@ -122,13 +135,7 @@ fn censored_quantile(
     censored: usize,
     q: f64,
 ) -> Result<LatencyQuantile, PresenceError> {
-    if !(0.0..=1.0).contains(&q) {
-        return Err(PresenceError::InvalidParameter {
-            name: "q",
-            value: q,
-            allowed: "a quantile level in [0, 1]",
-        });
-    }
+    check_level(q)?;
     let n = observed_ns.len() + censored;
     if n == 0 {
         return Ok(LatencyQuantile::NoValues);
@@ -157,13 +164,7 @@ fn kaplan_meier_quantile(
     censored_ns: &[u64],
     q: f64,
 ) -> Result<LatencyQuantile, PresenceError> {
-    if !(0.0..=1.0).contains(&q) {
-        return Err(PresenceError::InvalidParameter {
-            name: "q",
-            value: q,
-            allowed: "a quantile level in [0, 1]",
-        });
-    }
+    check_level(q)?;
     if events_ns.is_empty() && censored_ns.is_empty() {
         return Ok(LatencyQuantile::NoValues);
     }

@@ -47,38 +47,7 @@ pub(crate) fn rare_table(part: &Part) -> Option<Html> {
             .push(&Html::trusted(detector_cell(*i, label)))
             .raw("</th>");
         for t in list.iter() {
-            let e = &t.extrapolated;
-            let mut cell = match (e.threshold, e.low) {
-                (Some(v), Some(l)) => format!(
-                    "{} [{}, {}]",
-                    format_number(v, 3),
-                    format_number(l, 3),
-                    e.high.map_or("∞".into(), |x| format_number(x, 3))
-                ),
-                (Some(v), None) => format_number(v, 3),
-                _ => {
-                    let note = e.note.clone().unwrap_or_default();
-                    let k = notes.iter().position(|n| *n == note).unwrap_or_else(|| {
-                        notes.push(note);
-                        notes.len() - 1
-                    });
-                    format!("— ({})", k + 1)
-                }
-            };
-            if let Some(room) = &t.limiting_room {
-                cell.push_str(&format!(" ({room})"));
-            }
-            if let Some(c) = t.counted_threshold {
-                cell.push_str(&format!(
-                    " | {}{}",
-                    format_number(c, 3),
-                    if t.counted_resolved == Some(true) {
-                        ""
-                    } else {
-                        "?"
-                    }
-                ));
-            }
+            let cell = t.cell(&|x| format_number(x, 3), &mut notes, true);
             h.element("td", &[("class", "cell")], &cell);
         }
         h.raw("</tr>");
