@@ -327,6 +327,33 @@ pub fn budget_label(per_day: f64) -> String {
     }
 }
 
+/// One table row per scene variant labelled `label` (in suite order, at the first budget):
+/// the variant's name, then one cell per detector from `cell(point, variant index, name)`.
+fn pin_scene_rows(
+    first: &PresenceVerdict,
+    detectors: &[(&str, &PresenceVerdict)],
+    label: &str,
+    cell: &dyn Fn(&PresencePoint, usize, &str) -> String,
+) -> Vec<(String, Vec<String>)> {
+    let Some(point) = first.points.first() else {
+        return Vec::new();
+    };
+    point
+        .by_scene
+        .iter()
+        .enumerate()
+        .filter(|(_, scene)| scene.label == label)
+        .map(|(s, scene)| {
+            let name = crate::runner::room_name(&scene.scene, scene.sweep_value.as_deref());
+            let cells = detectors
+                .iter()
+                .map(|(_, v)| v.points.first().map_or("—".into(), |p| cell(p, s, &name)))
+                .collect();
+            (name, cells)
+        })
+        .collect()
+}
+
 /// Why the output stays dark for a scene's visitors, for every target scene in which each
 /// detector misses most occupied periods (no alarm while the person is in the zone). Two
 /// causes are told apart from the counts: the detector alarms, but only after the person has
@@ -477,39 +504,17 @@ pub fn console_block(
 
     // Per scene: drop-outs (moving + still) and the switch-on latency, at the first budget.
     let names: Vec<String> = detectors.iter().map(|(l, _)| l.to_string()).collect();
-    let mut scene_rows: Vec<(String, Vec<String>)> = Vec::new();
-    for (s, scene) in first
-        .points
-        .first()
-        .map_or(&[][..], |p| &p.by_scene[..])
-        .iter()
-        .enumerate()
-    {
-        if scene.label != "target" {
-            continue;
-        }
-        let cells = detectors
-            .iter()
-            .map(|(_, v)| {
-                v.points
-                    .first()
-                    .and_then(|p| p.by_scene.get(s))
-                    .map_or("—".into(), |sc| {
-                        let f = &sc.figures;
-                        format!(
-                            "{}+{} drop, on {}",
-                            f.dropouts.0,
-                            f.dropouts.1,
-                            f.switch_on_median.text()
-                        )
-                    })
-            })
-            .collect();
-        scene_rows.push((
-            crate::runner::room_name(&scene.scene, scene.sweep_value.as_deref()),
-            cells,
-        ));
-    }
+    let scene_rows = pin_scene_rows(first, detectors, "target", &|point, s, _| {
+        point.by_scene.get(s).map_or("—".into(), |sc| {
+            let f = &sc.figures;
+            format!(
+                "{}+{} drop, on {}",
+                f.dropouts.0,
+                f.dropouts.1,
+                f.switch_on_median.text()
+            )
+        })
+    });
     if !scene_rows.is_empty() {
         out.push_str(&format!(
             "\noutput pin @ {budget0} per target scene (drop-outs moving+still over all its trials, median switch-on latency):\n"
@@ -520,43 +525,23 @@ pub fn console_block(
 
     // Per room: test false switch-ons per day | calibration, `*` where the room set the
     // threshold.
-    let mut room_rows: Vec<(String, Vec<String>)> = Vec::new();
-    for (s, scene) in first
-        .points
-        .first()
-        .map_or(&[][..], |p| &p.by_scene[..])
-        .iter()
-        .enumerate()
-    {
-        if scene.label != "nuisance" {
-            continue;
-        }
-        let room = crate::runner::room_name(&scene.scene, scene.sweep_value.as_deref());
-        let cells = detectors
+    let room_rows = pin_scene_rows(first, detectors, "nuisance", &|point, s, room| {
+        let test = point.by_scene.get(s).map_or("—".into(), |sc| {
+            compact(&sc.figures.false_switch_ons_per_day)
+        });
+        let calibration = point
+            .calibration_rooms
             .iter()
-            .map(|(_, v)| {
-                let Some(point) = v.points.first() else {
-                    return "—".into();
-                };
-                let test = point.by_scene.get(s).map_or("—".into(), |sc| {
-                    compact(&sc.figures.false_switch_ons_per_day)
-                });
-                let calibration = point
-                    .calibration_rooms
-                    .iter()
-                    .find(|(r, _)| *r == room)
-                    .and_then(|(_, e)| e.value)
-                    .map_or("—".into(), |x| format!("{x:.1}"));
-                let mark = if point.limiting_room.as_deref() == Some(room.as_str()) {
-                    "*"
-                } else {
-                    " "
-                };
-                format!("{test} | {calibration}{mark}")
-            })
-            .collect();
-        room_rows.push((room, cells));
-    }
+            .find(|(r, _)| r == room)
+            .and_then(|(_, e)| e.value)
+            .map_or("—".into(), |x| format!("{x:.1}"));
+        let mark = if point.limiting_room.as_deref() == Some(room) {
+            "*"
+        } else {
+            " "
+        };
+        format!("{test} | {calibration}{mark}")
+    });
     if !room_rows.is_empty() {
         out.push_str(&format!(
             "\nfalse switch-ons per day @ {budget0} per room: test trials [95 % interval] | calibration (* the room that set the threshold):\n"

@@ -25,7 +25,9 @@ pub const REPORT_RATES_PER_HOUR: [f64; 4] = [1.0, 1.0 / 24.0, 1.0 / 168.0, 1.0 /
 /// this): the tail fit needs the upper few hundred cluster maxima, not every frame.
 pub const MAX_KEPT_FRAMES: usize = 4_000;
 
-/// Candidate thresholds probed by the automatic choice.
+/// Candidate thresholds probed by the automatic choice: enough for the stability check to
+/// see a trend, few enough that each room's fit stays in the tens of milliseconds (a choice
+/// of ours; the tail crate's tests use 10).
 const CANDIDATES: usize = 12;
 
 /// A threshold for one rate in one room (or the product), with its interval.
