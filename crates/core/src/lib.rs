@@ -11,6 +11,7 @@
 
 pub mod alarm_statistic;
 pub mod atomic;
+pub mod conformance;
 pub mod detector;
 pub mod doppler;
 pub mod fastmath;

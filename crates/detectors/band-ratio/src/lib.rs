@@ -3,13 +3,12 @@
 //!
 //! # What it detects
 //!
-//! A CW Doppler return of a target moving at radial speed v sits at
-//! f_d = 2v/λ = 2·v·f_c/c (physics.md §1; Skolnik ch. 3). A walking person fills
-//! a characteristic band (torso at the walking speed, limbs at up to ≈ 4× it,
-//! physics.md §2.2), while the usual false-alarm sources put their power
-//! elsewhere: a fan's blade tips far above it, a swaying plant or curtain
-//! within a few hertz of DC (physics.md §3), mains hum on k·50 or k·60 Hz lines.
-//! The score of each frame is
+//! A CW Doppler return of a target moving at radial speed v sits at f_d = 2v/λ = 2·v·f_c/c
+//! (docs/reference/radar-physics.md#r1; Skolnik ch. 3). A walking person fills a characteristic
+//! band (torso at the walking speed, limbs at up to ≈ 4× it, docs/reference/people.md#p4), while
+//! the usual false-alarm sources put their power elsewhere: a fan's blade tips far above it, a
+//! swaying plant or curtain within a few hertz of DC (docs/reference/nuisances.md), mains hum on
+//! k·50 or k·60 Hz lines. The score of each frame is
 //!
 //! ```text
 //! R = S(P_k, k ∈ motion bins) / S(P_k, k ∈ reference bins),   S = Σ or mean
@@ -38,12 +37,12 @@
 //!   limbs; 4.9–65.4 Hz at 2.45 GHz, 48.3–644 Hz at 24.125 GHz).
 //! - `reference_min_mps`..`reference_max_mps`, the nuisance band (4.5–25
 //!   m/s: two resolution cells above the motion band, up past the fastest
-//!   fan blade tips, 12–19 m/s, physics.md §3). Its default top is clipped to
+//!   fan blade tips, 12–19 m/s, docs/reference/nuisances.md#n2). Its default top is clipped to
 //!   the stream's Nyquist frequency; a stream whose Nyquist lies below
 //!   4.5 m/s (24 GHz sampled at 1 kHz: 3.1 m/s) has no room for it, and the
 //!   detector is refused there with a message naming `reference_min_mps`.
 //! - `sway_in_reference` with `sway_min_mps`..`sway_max_mps` (0.05–0.25 m/s:
-//!   a swaying object peaks near 0.19 m/s, physics.md §3): also count the
+//!   a swaying object peaks near 0.19 m/s, docs/reference/nuisances.md#n1): also count the
 //!   slow-sway band in the reference, so that a swaying object lowers the
 //!   score. The reference set is the union of the two bands.
 //! - In hertz, as an explicit choice: `band_units: hz`, or any of
@@ -78,7 +77,7 @@
 //!
 //! Bins are selected with inclusive edges on their centre frequency
 //! `f_k = k·fs/N` (k = 0..N/2 for real streams), exactly as the reference
-//! pipeline does (bench README): with fs = 2 kHz, N = 256 the Hz bands are
+//! pipeline does (docs/reference/detectors.md#d9): with fs = 2 kHz, N = 256 the Hz bands are
 //! bins 2–10 (15.6–78.1 Hz) and 13–51 (101.6–398.4 Hz). For I/Q streams both
 //! Doppler signs are used (approach and recede): a bin is selected when |f_k|
 //! lies in the band, so each band has about twice as many bins.
@@ -90,10 +89,10 @@
 //! (Kay, *Modern Spectral Estimation*, 1988, ch. 4, from memory), so the
 //! mean-ratio statistic over m motion and n reference bins follows the
 //! Fisher–Snedecor law F(2m, 2n) whatever σ² is, and the threshold
-//! `F⁻¹(1 − Pfa; 2m, 2n)` gives exactly that per-frame Pfa (detection.md §1,
-//! check value CV15; tested here). For I/Q streams every selected |f| counts
+//! `F⁻¹(1 − Pfa; 2m, 2n)` gives exactly that per-frame Pfa (docs/reference/detectors.md#d3,
+//! check value cv15; tested here). For I/Q streams every selected |f| counts
 //! its two bins. **With a Hann window this law does not hold**: adjacent bins
-//! are correlated (|ρ|² = 4/9, detection.md §2.4), each band has fewer
+//! are correlated (|ρ|² = 4/9, docs/reference/detectors.md#d7), each band has fewer
 //! effective degrees of freedom, the tail is heavier and the measured Pfa at
 //! the F threshold is higher than nominal (also tested here). Overlapping
 //! frames leave the per-frame law as it is but make successive frames
@@ -239,7 +238,8 @@ static PARAMS: [ParamSpec; 26] = [
         MOTION_MAX_MPS,
     ),
     // Above the motion band by two resolution cells (a Hann main lobe is ±2 bins wide),
-    // up past the fastest fan blade tips (desk fan 18.85 m/s, physics.md §3).
+    // up past the fastest fan blade tips (desk fan 18.85 m/s,
+    // docs/reference/nuisances.md#n2).
     mps(
         "reference_min_mps",
         "slowest radial speed of the nuisance (reference) band",
@@ -250,7 +250,8 @@ static PARAMS: [ParamSpec; 26] = [
         "fastest radial speed of the nuisance (reference) band (default: clipped to Nyquist)",
         25.0,
     ),
-    // A swaying object's speed: a 0.5 m pendulum at 5° peaks at 0.19 m/s (physics.md §3);
+    // A swaying object's speed: a 0.5 m pendulum at 5° peaks at 0.19 m/s
+    // (docs/reference/nuisances.md#n1);
     // from 0.05 m/s so the DC bin (static clutter) stays out.
     mps(
         "sway_min_mps",
@@ -907,7 +908,7 @@ mod tests {
 
     #[test]
     fn default_bands_select_the_reference_pipeline_bins() {
-        // Bench README §3(c): bins 2–10 (15.6–78.1 Hz) over 13–51 (101.6–398.4 Hz).
+        // docs/reference/detectors.md#d9: bins 2–10 (15.6–78.1 Hz) over 13–51 (101.6–398.4 Hz).
         let c = hz_config(&[], &test_stream(2000.0)).unwrap();
         assert_eq!(c.motion_bins, (2..=10).collect::<Vec<_>>());
         assert_eq!(c.reference_bins, (13..=51).collect::<Vec<_>>());
@@ -915,7 +916,8 @@ mod tests {
 
     #[test]
     fn speed_band_follows_two_v_over_lambda() {
-        // physics.md §2.2: v = 1.4 m/s at 24.125 GHz → torso Doppler ≈ 225 Hz (185–266 Hz range quoted).
+        // docs/reference/people.md#p4: v = 1.4 m/s at 24.125 GHz → torso Doppler ≈ 225 Hz
+        // (185–266 Hz range quoted).
         let f = doppler_hz(1.4, 24.125e9);
         assert!((f - 2.0 * 1.4 * 24.125e9 / 299_792_458.0).abs() < 1e-9);
         assert!((185.0..=266.0).contains(&f), "{f}");
@@ -978,5 +980,27 @@ mod tests {
         expected.extend((256 - 10)..=(256 - 2));
         assert_eq!(c.motion_bins, expected);
         assert_eq!(c.reference_bins.len(), 2 * 39);
+    }
+}
+
+// The contract every detector keeps (block splits, reset, silence, clipping, NaN,
+// a single sample, time order), checked by core's conformance kit.
+#[cfg(test)]
+mod conformance_tests {
+    use super::*;
+    use echobench_core::conformance;
+    use echobench_core::detector::{test_stream, DetectorPlugin, Params};
+    use echobench_core::{Channels, StreamInfo};
+
+    #[test]
+    fn keeps_the_detector_contract_with_its_defaults() {
+        let params = Params::defaults(BandRatioPlugin.params());
+        let iq = StreamInfo {
+            channels: Channels::Iq,
+            ..test_stream(2000.0)
+        };
+        for info in [test_stream(2000.0), iq] {
+            conformance::assert_conforms(&BandRatioPlugin, &params, &info);
+        }
     }
 }

@@ -66,7 +66,7 @@
 //! a Hann window neighbouring bins are correlated (|ρ|² = 4/9 one bin apart),
 //! overlapping frames correlate successive scores, and the folded cells near
 //! DC repeat; measured false-alarm rates then differ from the nominal one by
-//! factors of 2 to 4 either way (detection.md §2.4: 2.2e-3 with guard 2,
+//! factors of 2 to 4 either way (docs/reference/detectors.md#d7: 2.2e-3 with guard 2,
 //! 0.26e-3 with no guard, for a nominal 1e-3), so the harness calibrates
 //! thresholds empirically on noise-only runs and reports nominal and
 //! measured side by side.
@@ -606,7 +606,8 @@ impl DetectorPlugin for CaCfarPlugin {
     /// The CA-CFAR multiplier α for the configured `pfa`, and the per-frame
     /// false-alarm probability 1 − (1 − pfa)^(cells under test) that it promises
     /// when the cells are independent (rectangular window, no overlap); with a
-    /// Hann window or overlap the real rate differs (detection.md §2.4).
+    /// Hann window or overlap the real rate differs
+    /// (docs/reference/detectors.md#d7).
     fn nominal_operating_point(
         &self,
         params: &Params,
@@ -692,15 +693,15 @@ mod tests {
         assert_eq!(config, CaCfarConfig::default());
         let detector = CaCfarDetector::new(&config, &test_stream(2000.0)).unwrap();
         assert_eq!(detector.cut_bins(), (1..=12).collect::<Vec<_>>().as_slice());
-        // detection.md CV7: N = 16, Pfa = 1e-3.
+        // docs/reference/check-values.md#cv7: N = 16, Pfa = 1e-3.
         assert!((detector.nominal_multiplier() - 8.638824).abs() < 1e-6);
     }
 
-    /// With nothing set, the cells under test are 0.3–4 m/s and the frame resolves
-    /// 0.25 m/s at any carrier: a walker head-on at 1.3 m/s (2v/λ = 21.25 Hz at 2.45 GHz,
-    /// 209.2 Hz at 24.125 GHz; physics.md §1, 16.345 and 160.945 Hz per m/s) is under test
-    /// at both. Hand-worked frames: λ/(2·0.25 m/s) = 0.24473 s → 490 samples at 2 kHz,
-    /// 0.024853 s → 50 samples.
+    /// With nothing set, the cells under test are 0.3–4 m/s and the frame resolves 0.25 m/s at any
+    /// carrier: a walker head-on at 1.3 m/s (2v/λ = 21.25 Hz at 2.45 GHz, 209.2 Hz at 24.125 GHz;
+    /// docs/reference/radar-physics.md#r8, 16.345 and 160.945 Hz per m/s) is under test at both.
+    /// Hand-worked frames: λ/(2·0.25 m/s) = 0.24473 s → 490 samples at 2 kHz, 0.024853 s → 50
+    /// samples.
     #[test]
     fn speed_defaults_test_the_torso_line_at_both_carriers() {
         let params = Params::defaults(&PARAMS);
@@ -805,5 +806,27 @@ mod tests {
         .unwrap();
         let denser = CaCfarPlugin.cost(&half_hop, &fs).unwrap();
         assert!((denser.ops_per_sample / cost.ops_per_sample - 2.0).abs() < 1e-12);
+    }
+}
+
+// The contract every detector keeps (block splits, reset, silence, clipping, NaN,
+// a single sample, time order), checked by core's conformance kit.
+#[cfg(test)]
+mod conformance_tests {
+    use super::*;
+    use echobench_core::conformance;
+    use echobench_core::detector::{test_stream, DetectorPlugin, Params};
+    use echobench_core::{Channels, StreamInfo};
+
+    #[test]
+    fn keeps_the_detector_contract_with_its_defaults() {
+        let params = Params::defaults(CaCfarPlugin.params());
+        let iq = StreamInfo {
+            channels: Channels::Iq,
+            ..test_stream(2000.0)
+        };
+        for info in [test_stream(2000.0), iq] {
+            conformance::assert_conforms(&CaCfarPlugin, &params, &info);
+        }
     }
 }

@@ -470,3 +470,18 @@ mod tests {
         );
     }
 }
+
+// The contract every detector keeps (block splits, reset, silence, clipping, NaN,
+// a single sample, time order), checked by core's conformance kit.
+#[cfg(test)]
+mod conformance_tests {
+    use super::*;
+    use echobench_core::conformance;
+    use echobench_core::detector::{test_stream, DetectorPlugin, Params};
+
+    #[test]
+    fn keeps_the_detector_contract_with_its_defaults() {
+        let params = Params::defaults(EnergyCPlugin.params());
+        conformance::assert_conforms(&EnergyCPlugin, &params, &test_stream(2000.0));
+    }
+}

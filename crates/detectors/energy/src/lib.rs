@@ -1024,3 +1024,25 @@ mod tests {
         assert!(banded.state_bytes > raw.state_bytes);
     }
 }
+
+// The contract every detector keeps (block splits, reset, silence, clipping, NaN,
+// a single sample, time order), checked by core's conformance kit.
+#[cfg(test)]
+mod conformance_tests {
+    use super::*;
+    use echobench_core::conformance;
+    use echobench_core::detector::{test_stream, DetectorPlugin, Params};
+    use echobench_core::{Channels, StreamInfo};
+
+    #[test]
+    fn keeps_the_detector_contract_with_its_defaults() {
+        let params = Params::defaults(EnergyPlugin.params());
+        let iq = StreamInfo {
+            channels: Channels::Iq,
+            ..test_stream(2000.0)
+        };
+        for info in [test_stream(2000.0), iq] {
+            conformance::assert_conforms(&EnergyPlugin, &params, &info);
+        }
+    }
+}

@@ -308,3 +308,24 @@ fn time_between_blocks_is_not_charged_to_the_program() {
     assert_eq!(detector.failure(), None);
     assert_eq!(out.len(), (1024 - 256) / 128 + 1);
 }
+
+/// The external plugin running the numpy example keeps the whole detector
+/// contract, checked by core's conformance kit (2 s of signal, to keep the
+/// round trips of blocks of one value short).
+#[test]
+fn the_python_example_passes_the_conformance_kit() {
+    if !python_with_numpy() {
+        return;
+    }
+    let settings = [("frame_len", int(100)), ("hop", int(30))];
+    let params = common::params("python3", &as_args(&settings), &[]).expect("valid");
+    let plugin = echobench_detector_external::ExternalPlugin::new(true);
+    for info in [test_stream(2000.0), iq_stream(2000.0)] {
+        if let Err(violations) =
+            echobench_core::conformance::check_for(&plugin, &params, &info, 2.0)
+        {
+            let lines: Vec<String> = violations.iter().map(|v| v.to_string()).collect();
+            panic!("{} stream:\n{}", info.channels, lines.join("\n"));
+        }
+    }
+}

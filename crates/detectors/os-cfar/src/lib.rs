@@ -53,14 +53,13 @@
 //! `band_units: hz`, `frame_units: samples`) for the reference pipeline's
 //! 1–100 Hz, 256/128 geometry. `echobench_core::doppler` states the rules.
 //!
-//! **What the nominal Pfa means.** [`os_pfa`] = Π_{i<k} (N−i)/(N−i+T) holds
-//! for independent, identically distributed exponential cells: white
-//! Gaussian noise, a rectangular window, no overlap (`hop = frame_len`), a
-//! CUT whose cells fold at neither end. The tests check that case by Monte
-//! Carlo. A Hann window correlates neighbouring bins (|ρ|² = 4/9 one bin
-//! apart), overlap correlates successive frames and folded cells repeat, so
-//! measured false-alarm rates differ from the nominal one (detection.md
-//! §2.4); the harness calibrates thresholds empirically on noise-only runs.
+//! **What the nominal Pfa means.** [`os_pfa`] = Π_{i<k} (N−i)/(N−i+T) holds for independent,
+//! identically distributed exponential cells: white Gaussian noise, a rectangular window, no
+//! overlap (`hop = frame_len`), a CUT whose cells fold at neither end. The tests check that case by
+//! Monte Carlo. A Hann window correlates neighbouring bins (|ρ|² = 4/9 one bin apart), overlap
+//! correlates successive frames and folded cells repeat, so measured false-alarm rates differ from
+//! the nominal one (docs/reference/detectors.md#d7); the harness calibrates thresholds empirically
+//! on noise-only runs.
 //!
 //! **Input hygiene.** A non-finite input value (NaN, ±∞) is taken as 0 in the
 //! frames that contain it. Silence scores 0 (the order statistic is floored
@@ -627,11 +626,11 @@ mod tests {
         assert!((os_pfa(16, 12, detector.nominal_multiplier()) / 1e-3 - 1.0).abs() < 1e-12);
     }
 
-    /// With nothing set, the cells under test are 0.3–4 m/s and the frame resolves
-    /// 0.25 m/s at any carrier: a walker head-on at 1.3 m/s (2v/λ = 21.25 Hz at 2.45 GHz,
-    /// 209.2 Hz at 24.125 GHz; physics.md §1, 16.345 and 160.945 Hz per m/s) is under test
-    /// at both. Hand-worked frames: λ/(2·0.25 m/s) = 0.24473 s → 490 samples at 2 kHz,
-    /// 0.024853 s → 50 samples.
+    /// With nothing set, the cells under test are 0.3–4 m/s and the frame resolves 0.25 m/s at any
+    /// carrier: a walker head-on at 1.3 m/s (2v/λ = 21.25 Hz at 2.45 GHz, 209.2 Hz at 24.125 GHz;
+    /// docs/reference/radar-physics.md#r8, 16.345 and 160.945 Hz per m/s) is under test at both.
+    /// Hand-worked frames: λ/(2·0.25 m/s) = 0.24473 s → 490 samples at 2 kHz, 0.024853 s → 50
+    /// samples.
     #[test]
     fn speed_defaults_test_the_torso_line_at_both_carriers() {
         let params = Params::defaults(&PARAMS);
@@ -710,5 +709,27 @@ mod tests {
             "{cost:?}"
         );
         assert!(cost.state_bytes > 4 * 256 * 8);
+    }
+}
+
+// The contract every detector keeps (block splits, reset, silence, clipping, NaN,
+// a single sample, time order), checked by core's conformance kit.
+#[cfg(test)]
+mod conformance_tests {
+    use super::*;
+    use echobench_core::conformance;
+    use echobench_core::detector::{test_stream, DetectorPlugin, Params};
+    use echobench_core::{Channels, StreamInfo};
+
+    #[test]
+    fn keeps_the_detector_contract_with_its_defaults() {
+        let params = Params::defaults(OsCfarPlugin.params());
+        let iq = StreamInfo {
+            channels: Channels::Iq,
+            ..test_stream(2000.0)
+        };
+        for info in [test_stream(2000.0), iq] {
+            conformance::assert_conforms(&OsCfarPlugin, &params, &info);
+        }
     }
 }

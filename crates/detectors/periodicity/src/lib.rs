@@ -9,7 +9,7 @@
 //!   Rowe, *Sports Med* 2012), i.e. a step rate of 1.35–2.3 Hz; the Boulic
 //!   global walking model gives 2/D_c ≈ 1.7–2.1 Hz for relative speeds 1.3–2
 //!   (Boulic, Magnenat-Thalmann & Thalmann, *The Visual Computer* 6, 1990;
-//!   physics.md §2.1–2.2). At every step one leg swings: shin and foot reach
+//!   docs/reference/people.md#p1 to #p4). At every step one leg swings: shin and foot reach
 //!   3.5–4.5× the body speed in mid-swing and the torso speed itself swings
 //!   ±18 % at the step rate, so the power in every Doppler bin above the
 //!   torso line rises and falls once per step. The spectrogram of a walker is
@@ -19,10 +19,10 @@
 //! - **Fans are periodic too, but fast.** A rotor's blades flash when
 //!   broadside to the sensor, N (even N) or 2N (odd N) times per revolution
 //!   (Chen, *The Micro-Doppler Effect in Radar*, 2011, from memory;
-//!   physics.md §3): tens of hertz, with a comb of sharp harmonics and an
+//!   docs/reference/nuisances.md#n2): tens of hertz, with a comb of sharp harmonics and an
 //!   extremely regular period.
 //! - **Sways are slow and narrowband.** A pendulum or a plant moves at
-//!   0.1–1 Hz with peak speeds of a few cm/s to 0.2 m/s (physics.md §3):
+//!   0.1–1 Hz with peak speeds of a few cm/s to 0.2 m/s (docs/reference/nuisances.md#n1):
 //!   its Doppler stays below the motion band, which starts at a slow
 //!   walker's torso speed (0.3 m/s by default).
 //! - Noise, hum, lamp flicker and static clutter are stationary: their
@@ -1089,5 +1089,27 @@ mod tests {
         )
         .unwrap();
         assert_eq!(c.motion_bins, (1..128).collect::<Vec<_>>());
+    }
+}
+
+// The contract every detector keeps (block splits, reset, silence, clipping, NaN,
+// a single sample, time order), checked by core's conformance kit.
+#[cfg(test)]
+mod conformance_tests {
+    use super::*;
+    use echobench_core::conformance;
+    use echobench_core::detector::{test_stream, DetectorPlugin, Params};
+    use echobench_core::{Channels, StreamInfo};
+
+    #[test]
+    fn keeps_the_detector_contract_with_its_defaults() {
+        let params = Params::defaults(PeriodicityPlugin.params());
+        let iq = StreamInfo {
+            channels: Channels::Iq,
+            ..test_stream(2000.0)
+        };
+        for info in [test_stream(2000.0), iq] {
+            conformance::assert_conforms(&PeriodicityPlugin, &params, &info);
+        }
     }
 }

@@ -278,12 +278,10 @@ impl Detector for TemplateDetector {
 mod tests {
     // Everything from the crate above.
     use super::*;
+    // The conformance kit: every rule of the detector contract in one call.
+    use echobench_core::conformance;
     // Test helpers from core: score checks, a test stream, parameter values.
     use echobench_core::detector::{check_scores, test_stream, ParamValue};
-    // A seeded generator: the same input on every run and every machine.
-    use rand::{Rng, SeedableRng};
-    // ChaCha8, the project's generator.
-    use rand_chacha::ChaCha8Rng;
 
     // Builds a detector with some parameters given by name.
     fn build(frame_s: f64, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
@@ -308,38 +306,15 @@ mod tests {
         out
     }
 
-    // Contract: blocks of 1, 7, 256 or the whole trial give identical scores.
+    // The whole contract in one line: core's conformance kit feeds the
+    // detector blocks of 1, 7 and odd sizes, resets it after other input,
+    // and gives it silence, full-scale clipping, NaN and a single sample.
     #[test]
-    fn scores_do_not_depend_on_block_size() {
-        // Seeded random input (never an unseeded generator).
-        let mut rng = ChaCha8Rng::from_seed([1; 32]);
-        // Five seconds at 2 kHz of uniform noise around a DC offset.
-        let samples: Vec<f32> = (0..10_000)
-            .map(|_| 0.5 + rng.random_range(-0.1..0.1))
-            .collect();
-        // The stream the tests use: 2 kHz, real.
-        let info = test_stream(2000.0);
-        // The reference: the whole trial in one block.
-        let whole = run(
-            build(0.1, &info).expect("valid").as_mut(),
-            &samples,
-            samples.len(),
-        );
-        // 10 000 samples in frames of 200: 50 scores, finite and in order.
-        assert_eq!(whole.len(), 50);
-        // The harness's own check on every trace.
-        assert!(check_scores(&whole).is_ok());
-        // Every other block size gives bit-identical scores.
-        for block in [1, 7, 256] {
-            // A fresh detector per block size.
-            let mut detector = build(0.1, &info).expect("valid");
-            // Exact equality, not approximate.
-            assert_eq!(
-                run(detector.as_mut(), &samples, block),
-                whole,
-                "block {block}"
-            );
-        }
+    fn keeps_the_detector_contract() {
+        // The defaults, as a suite that names only the id would use them.
+        let params = Params::defaults(&PARAMS);
+        // Panics with every broken rule named; add I/Q streams if you take them.
+        conformance::assert_conforms(&TemplatePlugin, &params, &test_stream(2000.0));
     }
 
     // Known answer: a ±a square wave on a DC offset d scores exactly a.
@@ -439,20 +414,5 @@ mod tests {
                 value: 0.0
             }]
         );
-    }
-
-    // Contract: reset gives back a fresh detector.
-    #[test]
-    fn reset_forgets_everything() {
-        // Some input, half a frame too long.
-        let samples: Vec<f32> = (0..150).map(|n| (n % 7) as f32).collect();
-        // Run once.
-        let mut detector = build(0.1, &test_stream(1000.0)).expect("valid");
-        // The first run's scores.
-        let first = run(detector.as_mut(), &samples, 10);
-        // Forget, including the half frame.
-        detector.reset();
-        // The second run must match the first.
-        assert_eq!(run(detector.as_mut(), &samples, 10), first);
     }
 }
