@@ -1,4 +1,24 @@
-//! The `echobench` command: argument parsing and printing only; the work is in the library crates.
+//! The `echobench` command line as a library, so a team can run it with detectors of its own.
+//!
+//! ```no_run
+//! fn main() -> std::process::ExitCode {
+//!     let mut plugins = echobench_detectors::builtin();
+//!     // plugins.push(&my_detector::MyPlugin); // a team's own plugins, after the built-ins
+//!     echobench::main_with(plugins)
+//! }
+//! ```
+//!
+//! [`main_with`] parses the process's arguments and runs any verb (`run`, `check`, `merge`,
+//! `gate`, `report`, `explain`, `detectors`, ...) with the given plugins known to every one of
+//! them: a suite may name them, the default suite scores them (it lists `registered: all`),
+//! `detectors` lists them, and a reference or a shard made with them reads back. The
+//! `external` plugin is always added last, allowed to run programs only with `--allow-exec`.
+//!
+//! **Key design decision: this crate parses arguments and prints; it holds no logic a
+//! library user would need.** Loading is `echobench-harness::suite_file`, running is
+//! `echobench-harness::runner`, the run folder's files are `echobench-run-files`, the report
+//! is `echobench-report`. The `echobench` binary is [`main_with`] on the built-ins.
+#![deny(missing_docs)]
 
 // First, so that its `print!` family shadows std's in everything below (quiet on closed pipes).
 #[macro_use]
@@ -6,6 +26,8 @@ mod output;
 
 use anyhow::{bail, Context, Result};
 use clap::{Parser, Subcommand};
+use echobench_core::detector::DetectorPlugin;
+use echobench_run_files::RunFolder;
 use echobench_scene::{export, load_scene_file, synthesize, StreamKey};
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -142,7 +164,7 @@ enum Command {
         #[arg(long)]
         out: PathBuf,
     },
-    /// List the built-in detectors: parameters with units, defaults and ranges; state memory and cost.
+    /// List the known detectors (built-in and embedded): parameters with units, defaults and ranges; state memory and cost.
     Detectors {
         /// Sample rate the costs, bands and frames are computed for, Hz.
         #[arg(long, default_value_t = 2000.0)]
@@ -189,7 +211,11 @@ enum Command {
     },
 }
 
-fn main() -> ExitCode {
+/// Runs the command line (the process's arguments) with `plugins` as the detectors every verb
+/// knows, then `external`; returns the exit status (0 done, 1 a failed check or gate, 2 an
+/// error, 3 a detector that failed on every test trial).
+pub fn main_with(plugins: Vec<&'static dyn DetectorPlugin>) -> ExitCode {
+    let plugins = Plugins { own: plugins };
     let cli = Cli::parse();
     let result = match cli.command {
         Command::Synth {
@@ -198,7 +224,7 @@ fn main() -> ExitCode {
             seed,
             out,
         } => run_synth(&scene, trial, seed, &out),
-        Command::Check { files } => run_check(&files),
+        Command::Check { files } => run_check(&plugins, &files),
         Command::Run {
             suite,
             out,
@@ -209,6 +235,7 @@ fn main() -> ExitCode {
             against,
             allow_exec,
         } => run_suite(
+            &plugins,
             suite.as_deref(),
             out,
             replace,
@@ -248,18 +275,20 @@ fn main() -> ExitCode {
             as_folder,
             replace,
         } => keep_reference(&run, &as_folder, replace),
-        Command::Report { run, against, out } => run_report(&run, against.as_deref(), out),
+        Command::Report { run, against, out } => {
+            run_report(&plugins, &run, against.as_deref(), out)
+        }
         Command::Merge {
             runs,
             out,
             suite,
             partial,
             replace,
-        } => run_merge(&runs, &out, suite.as_deref(), partial, replace),
+        } => run_merge(&plugins, &runs, &out, suite.as_deref(), partial, replace),
         Command::Detectors {
             sample_rate_hz,
             carrier_hz,
-        } => run_detectors(sample_rate_hz, carrier_hz),
+        } => run_detectors(&plugins, sample_rate_hz, carrier_hz),
         Command::Explain {
             run,
             detector,
@@ -270,6 +299,7 @@ fn main() -> ExitCode {
             suite,
             allow_exec,
         } => run_explain(
+            &plugins,
             &run,
             echobench_explain::ExplainRequest {
                 detector,
@@ -291,8 +321,24 @@ fn main() -> ExitCode {
     }
 }
 
-fn load_suite(path: Option<&Path>, allow_exec: bool) -> Result<echobench_harness::suite::Suite> {
-    let plugins = echobench_detectors::with_external(allow_exec);
+/// The detectors every verb knows: the caller's list, then `external`.
+struct Plugins {
+    own: Vec<&'static dyn DetectorPlugin>,
+}
+
+impl Plugins {
+    /// The caller's plugins and `external`, which may run programs only when `allow_exec`.
+    fn with_external(&self, allow_exec: bool) -> Vec<&'static dyn DetectorPlugin> {
+        echobench_detectors::add_external(self.own.clone(), allow_exec)
+    }
+}
+
+fn load_suite(
+    plugins: &Plugins,
+    path: Option<&Path>,
+    allow_exec: bool,
+) -> Result<echobench_harness::suite::Suite> {
+    let plugins = plugins.with_external(allow_exec);
     let loaded = match path {
         Some(p) => echobench_harness::suite_file::load_suite_file(p, &plugins),
         None => echobench_harness::suite_file::default_suite(&plugins)
@@ -325,55 +371,26 @@ fn new_run_folder(suite_name: &str) -> PathBuf {
     PathBuf::from("runs").join(format!("{suite_name}-{stamp}"))
 }
 
-/// Writes a run's files into its staged folder, then seals it and moves it into place as
-/// a whole (`echobench_run_folder`): the `--out` folder is the complete run or absent.
+/// Writes a run's files into its staged folder (`echobench-run-files`), renders the report
+/// with its gallery, then seals the folder and moves it into place as a whole
+/// (`echobench_run_folder`): the `--out` folder is the complete run or absent.
 fn write_run_outputs(
+    plugins: &Plugins,
     staging: echobench_run_folder::Staging,
     suite: &echobench_harness::suite::Suite,
     suite_text: &str,
     tallies: &echobench_harness::runner::Tallies,
     timing: Option<&echobench_harness::runner::Timing>,
 ) -> Result<()> {
-    use echobench_harness::summary;
-    use echobench_run_folder::fault_point;
     let out = staging.dir().to_path_buf();
-    let summary = summary::summarise(tallies, suite);
-    echobench_core::atomic::write_atomically(&out.join("suite.yaml"), |w| {
-        w.write_all(suite_text.as_bytes())
-    })?;
-    fault_point("suite.yaml");
-    summary::write_json(&out.join("tallies.json"), tallies)?;
-    fault_point("tallies.json");
-    summary::write_json(&out.join("summary.json"), &summary)?;
-    fault_point("summary.json");
-    summary::write_roc_csv(&out.join("roc.csv"), tallies)?;
-    fault_point("roc.csv");
-    summary::write_events_csv(&out.join("events.csv"), &summary)?;
-    fault_point("events.csv");
-    if summary.detectors.iter().any(|d| d.presence.is_some()) {
-        echobench_harness::presence_summary::write_presence_csv(
-            &out.join("presence.csv"),
-            &summary,
-        )?;
-        fault_point("presence.csv");
-    }
-    if let Some(t) = timing {
-        summary::write_json(&out.join("timing.json"), t)?;
-        fault_point("timing.json");
-    }
-    let folder = echobench_report::RunFolder {
-        summary: summary.clone(),
-        tallies: tallies.clone(),
-        timing: timing.cloned(),
-        suite_text: Some(suite_text.to_string()),
-    };
+    let folder = RunFolder::from_run(suite, suite_text, tallies.clone(), timing.cloned());
+    folder.write_into(&out)?;
     // The gallery of worst misses and false alarms, each trial re-created from its seed.
     let gallery = echobench_explain::ExplainRun::new(suite.clone(), tallies.clone())
         .map(|run| {
-            let plugins = echobench_detectors::with_external(false);
             echobench_explain::gallery_sections(
                 &run,
-                &plugins,
+                &plugins.with_external(false),
                 echobench_explain::GALLERY_PER_DETECTOR,
             )
         })
@@ -385,10 +402,13 @@ fn write_run_outputs(
     echobench_core::atomic::write_atomically(&out.join("report.html"), |w| {
         w.write_all(html.as_bytes())
     })?;
-    fault_point("report.html");
+    echobench_run_folder::fault_point("report.html");
     let target = staging.target().to_path_buf();
     let (manifest, placement) = staging.commit(echobench_run_folder::FolderKind::Run)?;
-    print!("{}", summary::console_table(&summary, timing));
+    print!(
+        "{}",
+        echobench_harness::summary::console_table(&folder.summary, timing)
+    );
     let names: Vec<&str> = manifest.files.iter().map(|f| f.name.as_str()).collect();
     println!(
         "wrote {}/{{{}, {}}} ({placement}; run {})",
@@ -462,6 +482,7 @@ fn parse_budget(text: &str) -> Result<f64, String> {
 
 #[allow(clippy::too_many_arguments)]
 fn run_suite(
+    plugins: &Plugins,
     path: Option<&Path>,
     out: Option<PathBuf>,
     replace: bool,
@@ -472,7 +493,7 @@ fn run_suite(
     allow_exec: bool,
 ) -> Result<ExitCode> {
     use echobench_harness::runner::{resolve_detectors, run_suite as run, Progress, Shard};
-    let mut suite = load_suite(path, allow_exec)?;
+    let mut suite = load_suite(plugins, path, allow_exec)?;
     if let Some(seed) = seed {
         suite.seed = seed;
     }
@@ -494,10 +515,9 @@ fn run_suite(
             .build_global()
             .context("setting the thread count")?;
     }
-    let plugins = echobench_detectors::with_external(allow_exec);
-    let mut detectors = resolve_detectors(&suite, &plugins)?;
+    let mut detectors = resolve_detectors(&suite, &plugins.with_external(allow_exec))?;
     if let Some(dir) = baseline {
-        let base = read_tallies(dir)?;
+        let base = echobench_run_files::read_tallies(dir)?;
         if base.suite != suite.name {
             bail!(
                 "the reference {} is of suite `{}`, this run of suite `{}`",
@@ -518,7 +538,7 @@ fn run_suite(
     let report = |p: Progress| bar.update(p);
     let (tallies, timing) = run(&suite, &detectors, shard, &report)?;
     bar.finish();
-    write_run_outputs(staging, &suite, &text, &tallies, Some(&timing))?;
+    write_run_outputs(plugins, staging, &suite, &text, &tallies, Some(&timing))?;
     let failed = detectors_failed_everywhere(&tallies);
     if !failed.is_empty() {
         eprintln!(
@@ -531,31 +551,6 @@ fn run_suite(
     Ok(ExitCode::SUCCESS)
 }
 
-/// The tallies of a run or reference folder, which must be complete and of one run (or of
-/// a tallies.json file given directly).
-fn read_tallies(path: &Path) -> Result<echobench_harness::runner::Tallies> {
-    // A folder, or nothing there: a missing folder is named as such.
-    let file = if path.is_dir() || !path.exists() {
-        echobench_run_folder::verify(path, &["tallies.json"])?;
-        path.join("tallies.json")
-    } else {
-        path.to_path_buf()
-    };
-    let text =
-        std::fs::read_to_string(&file).with_context(|| format!("reading {}", file.display()))?;
-    let tallies: echobench_harness::runner::Tallies =
-        serde_json::from_str(&text).with_context(|| format!("parsing {}", file.display()))?;
-    if tallies.schema != echobench_harness::runner::SCHEMA_VERSION {
-        bail!(
-            "{} has schema {}, this echobench reads schema {}: rerun it",
-            file.display(),
-            tallies.schema,
-            echobench_harness::runner::SCHEMA_VERSION
-        );
-    }
-    Ok(tallies)
-}
-
 fn run_gate(
     run: &Path,
     baseline: &Path,
@@ -565,15 +560,11 @@ fn run_gate(
     all: bool,
 ) -> Result<ExitCode> {
     use echobench_core::atomic::write_atomically;
-    let candidate = read_tallies(run)?;
-    let base = read_tallies(baseline)?;
+    let candidate = echobench_run_files::read_tallies(run)?;
+    let base = echobench_run_files::read_tallies(baseline)?;
     if run.is_dir() {
         // The suite's budget (unless given on the command line) and its evidence.
-        let file = run.join("summary.json");
-        let text = std::fs::read_to_string(&file)
-            .with_context(|| format!("reading {}", file.display()))?;
-        let summary: echobench_harness::summary::Summary =
-            serde_json::from_str(&text).with_context(|| format!("parsing {}", file.display()))?;
+        let summary = echobench_run_files::read_summary(run)?;
         if settings.budget_per_hour.is_none() {
             settings.budget_per_hour = summary.false_alarm_budget_per_hour;
         }
@@ -630,15 +621,15 @@ fn run_gate(
     })
 }
 
-fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Result<ExitCode> {
-    use echobench_report::{gate_section, render_html, RunFolder};
-    let required = ["summary.json", "tallies.json"];
-    echobench_run_folder::verify(run, &required)?;
-    let folder = RunFolder::load(run)?;
-    if let Some(b) = baseline {
-        echobench_run_folder::verify(b, &required)?;
-    }
-    let base = baseline.map(RunFolder::load).transpose()?;
+fn run_report(
+    plugins: &Plugins,
+    run: &Path,
+    baseline: Option<&Path>,
+    out: Option<PathBuf>,
+) -> Result<ExitCode> {
+    use echobench_report::{gate_section, render_html};
+    let folder = RunFolder::open(run)?;
+    let base = baseline.map(RunFolder::open).transpose()?;
     let mut extra = Vec::new();
     if let Some(b) = &base {
         let settings = echobench_harness::gate::GateSettings {
@@ -652,7 +643,7 @@ fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Resu
         }
     }
     // The gallery of worst misses and false alarms, each trial re-created from its seed.
-    let plugins = echobench_detectors::with_external(false);
+    let plugins = plugins.with_external(false);
     match folder.suite_text.as_deref().map(|text| {
         echobench_explain::ExplainRun::from_text(text, folder.tallies.clone(), run, None, &plugins)
     }) {
@@ -683,13 +674,14 @@ fn run_report(run: &Path, baseline: Option<&Path>, out: Option<PathBuf>) -> Resu
 }
 
 fn run_explain(
+    plugins: &Plugins,
     run: &Path,
     request: echobench_explain::ExplainRequest,
     out: Option<PathBuf>,
     suite: Option<&Path>,
     allow_exec: bool,
 ) -> Result<ExitCode> {
-    let plugins = echobench_detectors::with_external(allow_exec);
+    let plugins = plugins.with_external(allow_exec);
     let again = echobench_explain::ExplainRun::load(run, suite, &plugins)?;
     let explanation = echobench_explain::explain_trial(&again, &plugins, &request)?;
     let out = out.unwrap_or_else(|| PathBuf::from(explanation.file_name()));
@@ -703,7 +695,7 @@ fn keep_reference(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
     if run.is_file() {
         bail!("{}: not a run folder", run.display());
     }
-    let tallies = read_tallies(run)?;
+    let tallies = echobench_run_files::read_tallies(run)?;
     if !tallies.shards.is_empty() {
         bail!(
             "{} holds only some shards: merge them first (`echobench merge`)",
@@ -718,13 +710,7 @@ fn keep_reference(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
     // timing, gate files) describes that one run only.
     let manifest = echobench_run_folder::verify(run, &["tallies.json"])?;
     let mut names = Vec::new();
-    for name in [
-        "tallies.json",
-        "summary.json",
-        "suite.yaml",
-        "roc.csv",
-        "events.csv",
-    ] {
+    for name in echobench_run_files::REFERENCE_FILES {
         if manifest.file(name).is_some() {
             names.push(name);
         } else {
@@ -746,20 +732,21 @@ fn keep_reference(run: &Path, to: &Path, replace: bool) -> Result<ExitCode> {
 }
 
 fn run_merge(
+    plugins: &Plugins,
     runs: &[PathBuf],
     out: &Path,
     suite_path: Option<&Path>,
     partial: bool,
     replace: bool,
 ) -> Result<ExitCode> {
-    let suite = load_suite(suite_path, false)?;
+    let suite = load_suite(plugins, suite_path, false)?;
     let staging = echobench_run_folder::Staging::begin(out, replace)?;
     let mut parts = Vec::new();
     for run in runs {
         if run.is_file() {
             bail!("{}: not a shard's run folder", run.display());
         }
-        parts.push(read_tallies(run)?);
+        parts.push(echobench_run_files::read_tallies(run)?);
     }
     let merged = echobench_harness::runner::merge_tallies(parts)?;
     if merged.suite != suite.name {
@@ -786,7 +773,14 @@ fn run_merge(
         }
         eprintln!("warning: {what}; the folder holds a partial run (--partial)");
     }
-    write_run_outputs(staging, &suite, &suite_text(suite_path)?, &merged, None)?;
+    write_run_outputs(
+        plugins,
+        staging,
+        &suite,
+        &suite_text(suite_path)?,
+        &merged,
+        None,
+    )?;
     Ok(ExitCode::SUCCESS)
 }
 
@@ -842,7 +836,7 @@ impl ProgressDisplay {
     }
 }
 
-fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
+fn run_detectors(plugins: &Plugins, sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
     use echobench_core::detector::{ParamKind, Params};
     use echobench_core::doppler::{doppler_hz, speed_mps, wavelength_m};
     if !(sample_rate_hz.is_finite() && sample_rate_hz > 0.0) {
@@ -869,7 +863,7 @@ fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
         speed_mps(nyquist_hz, carrier_hz)
     );
     println!();
-    for plugin in echobench_detectors::with_external(false) {
+    for plugin in plugins.with_external(false) {
         let defaults = Params::defaults(plugin.params());
         println!("{}: {}", plugin.id(), plugin.about());
         match plugin.cost(&defaults, &info) {
@@ -939,7 +933,7 @@ fn run_detectors(sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
     Ok(ExitCode::SUCCESS)
 }
 
-fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
+fn run_check(plugins: &Plugins, files: &[PathBuf]) -> Result<ExitCode> {
     let mut failed = 0;
     let mut limit_failures = 0;
     let mut refused = |file: &Path, report: echobench_yaml_reader::Report| {
@@ -954,7 +948,7 @@ fn run_check(files: &[PathBuf]) -> Result<ExitCode> {
     for file in files {
         if is_suite_file(file) {
             // `check` never runs a program, so `external` detectors are checked as if allowed.
-            let plugins = echobench_detectors::with_external(true);
+            let plugins = plugins.with_external(true);
             match echobench_harness::suite_file::load_suite_file(file, &plugins) {
                 Ok((suite, warnings)) => {
                     eprint!("{}", shown(&warnings));

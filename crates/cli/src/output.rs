@@ -2,8 +2,8 @@
 //!
 //! `std`'s `print!` family panics when a write fails, and Rust programs ignore SIGPIPE, so
 //! `echobench check scenes/*.yaml | head -1` used to panic on the closed pipe. The macros
-//! here shadow `print!`, `println!`, `eprint!` and `eprintln!` for the whole binary (they
-//! are declared before any other module or function of `main.rs`): a write that fails
+//! here shadow `print!`, `println!`, `eprint!` and `eprintln!` for the whole crate (they
+//! are declared before any other module or function of `lib.rs`): a write that fails
 //! with a broken pipe turns further output to that stream off, and the command goes on
 //! to its usual end and exit status (a `run` still writes its folder). Any other write
 //! error is ignored the same way: the terminal is not where results live.

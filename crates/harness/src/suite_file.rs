@@ -19,7 +19,8 @@
 //!   - id: quiet-room         # inline scenes need an id
 //!     label: nuisance
 //!     scene: { ...a whole scene mapping... }
-//! detectors:
+//! detectors:                # optional: without it, every registered plugin at its defaults
+//!   - registered: all        # every registered plugin (built-in or embedded) at its defaults
 //!   - plugin: ca-cfar
 //!     label: ca-cfar-rect    # optional, unique, default = plugin id
 //!     params: {window: rect, hop: 256}
@@ -411,9 +412,8 @@ fn read_suite(
         ),
         _ => {}
     }
-    if detectors_node.is_none() {
-        f.error_at("detectors", "missing required field");
-    }
+    // No `detectors:` list means every registered plugin at its defaults (`registered: all`).
+    let top_location = f.raw("seed").map_or(Location { line: 1, column: 1 }, |n| n.location);
     f.finish();
     report.extend(reader.finish());
 
@@ -444,9 +444,11 @@ fn read_suite(
         _ => None,
     };
     let products_read = products_read.and_then(|list| check_products(list, name, report));
-    let detectors = detectors_node
-        .and_then(|node| read_detectors(node, name, plugins, report))
-        .map(|list| anchor_external_commands(list, scenes, plugins));
+    let detectors = match detectors_node {
+        Some(node) => read_detectors(node, name, plugins, report),
+        None => Some(every_registered(plugins, top_location, "detectors")),
+    }
+    .map(|list| anchor_external_commands(list, scenes, plugins));
     let alarm = match alarm_node {
         Some(node) => read_alarm(node, name, report),
         None => Some(AlarmSpec::default()),
@@ -2218,6 +2220,36 @@ fn read_detectors(
     let mut ok = true;
     for (index, item) in items.iter().enumerate() {
         let path = format!("detectors[{index}]");
+        if let Some(word) = item.get("registered") {
+            let alone = matches!(&item.value, Value::Map(entries) if entries.len() == 1);
+            if !alone || word.value != Value::Str("all".into()) {
+                reader.error_with_hint(
+                    word.location,
+                    &format!("{path}.registered"),
+                    "`registered` takes the value `all` and stands alone in its entry",
+                    "write `- registered: all` to score every registered plugin at its defaults",
+                );
+                ok = false;
+                continue;
+            }
+            for read in every_registered(plugins, word.location, &path) {
+                if let Some(first) = out.iter().find(|d| d.entry.label == read.entry.label) {
+                    reader.error_with_hint(
+                        word.location,
+                        &path,
+                        format!(
+                            "detector label `{}` is used twice (first on line {}); labels name the results and must be unique",
+                            read.entry.label, first.location.line
+                        ),
+                        "give the other entry its own `label`",
+                    );
+                    ok = false;
+                    continue;
+                }
+                out.push(read);
+            }
+            continue;
+        }
         let Some(mut f) = reader.fields(item, &path) else {
             ok = false;
             continue;
@@ -2327,6 +2359,34 @@ fn read_detectors(
     }
     report.extend(reader.finish());
     ok.then_some(out)
+}
+
+/// Every registered plugin but `external` (which needs a program to run) once, at its
+/// defaults, labelled by its id, in the order the plugins were registered: what
+/// `registered: all` (or a suite without `detectors`) means. A team that embeds echobench
+/// with plugins of its own gets them scored by the default suite this way.
+fn every_registered(
+    plugins: &[&dyn DetectorPlugin],
+    location: Location,
+    path: &str,
+) -> Vec<DetectorRead> {
+    plugins
+        .iter()
+        .enumerate()
+        .filter(|(_, plugin)| plugin.id() != "external")
+        .map(|(plugin_index, plugin)| DetectorRead {
+            entry: DetectorEntry {
+                label: plugin.id().to_string(),
+                plugin: plugin.id().to_string(),
+                params: Vec::new(),
+            },
+            plugin_index,
+            params: Params::defaults(plugin.params()),
+            location,
+            path: path.to_string(),
+            param_locations: Vec::new(),
+        })
+        .collect()
 }
 
 /// A parameter value with the locations of its key and value.

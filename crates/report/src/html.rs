@@ -5,7 +5,7 @@ use crate::plot::{
     escape, format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
     MarkedPoint, Marker, ReferenceLine, Series, Style,
 };
-use crate::run_folder::RunFolder;
+use echobench_run_files::RunFolder;
 use crate::{presence_part, product_part, rare_part};
 use echobench_harness::runner::DetectorTally;
 use echobench_harness::summary::{

@@ -2,8 +2,9 @@
 //! detector: which detectors meet their false-alarm target, with what detection probability,
 //! range and latency, and at what cost.
 //!
-//! [`RunFolder::load`] reads a run folder (`summary.json`, `tallies.json`, and when present
-//! `timing.json` and `suite.yaml`); [`render_html`] turns it, with an optional baseline run and
+//! [`RunFolder::load`] (from `echobench-run-files`, the one reader of run folders) reads a
+//! run folder (`summary.json`, `tallies.json`, and when present `timing.json` and
+//! `suite.yaml`); [`render_html`] turns it, with an optional baseline run and
 //! any extra sections, into one HTML page. The page holds the run's facts (suite, seed, trials,
 //! hours of test signal, alarm logic, event tolerance, products) and the cautions, the extra
 //! sections about the whole run, then **one part per product**, then the suite text.
@@ -40,9 +41,8 @@ pub mod plot;
 mod presence_part;
 mod product_part;
 mod rare_part;
-mod run_folder;
 
 pub use data::{fold_back_cut, grid_roc, trial_roc, GridRocPoint, TrialRoc};
 pub use gate_section::gate_section;
 pub use html::{render_html, Section};
-pub use run_folder::{ReportError, RunFolder};
+pub use echobench_run_files::{RunFileError, RunFolder};

@@ -7,7 +7,7 @@ mod common;
 use common::{has_drawn_data, small_run, svgs};
 use echobench_harness::runner::SCHEMA_VERSION;
 use echobench_harness::summary::{write_json, write_roc_csv};
-use echobench_report::{grid_roc, render_html, trial_roc, ReportError, RunFolder, Section};
+use echobench_report::{grid_roc, render_html, trial_roc, RunFileError, RunFolder, Section};
 use std::path::PathBuf;
 
 fn scratch(name: &str) -> PathBuf {
@@ -251,7 +251,7 @@ fn a_baseline_adds_the_comparison_and_dashed_curves() {
 fn loading_names_the_file_and_refuses_other_schemas() {
     let empty = scratch("empty");
     let err = RunFolder::load(&empty).unwrap_err();
-    assert!(matches!(err, ReportError::Missing { .. }));
+    assert!(matches!(err, RunFileError::Missing { .. }));
     assert!(err.to_string().contains("summary.json"), "{err}");
 
     let run = small_run();
@@ -261,7 +261,7 @@ fn loading_names_the_file_and_refuses_other_schemas() {
     value["schema"] = serde_json::json!(SCHEMA_VERSION + 7);
     std::fs::write(dir.join("summary.json"), value.to_string()).unwrap();
     let err = RunFolder::load(&dir).unwrap_err();
-    assert!(matches!(err, ReportError::Schema { .. }), "{err}");
+    assert!(matches!(err, RunFileError::Schema { .. }), "{err}");
     let message = err.to_string();
     assert!(
         message.contains("summary.json")
@@ -271,7 +271,7 @@ fn loading_names_the_file_and_refuses_other_schemas() {
 
     std::fs::write(dir.join("summary.json"), "{ not json").unwrap();
     let err = RunFolder::load(&dir).unwrap_err();
-    assert!(matches!(err, ReportError::Parse { .. }) && err.to_string().contains("summary.json"));
+    assert!(matches!(err, RunFileError::Parse { .. }) && err.to_string().contains("summary.json"));
 
     // Summary and tallies of different runs.
     let dir = write_folder(run, "mismatch", true);
@@ -279,7 +279,7 @@ fn loading_names_the_file_and_refuses_other_schemas() {
     other.seed += 1;
     write_json(&dir.join("summary.json"), &other).unwrap();
     let err = RunFolder::load(&dir).unwrap_err();
-    assert!(matches!(err, ReportError::Mismatch { .. }), "{err}");
+    assert!(matches!(err, RunFileError::Mismatch { .. }), "{err}");
 }
 
 #[test]

@@ -1,12 +1,45 @@
-//! Reading a run folder written by `echobench run` or `echobench merge`.
+//! The files of a run folder: what a run writes, and reading them back.
+//!
+//! A run folder holds `suite.yaml` (the suite's text as run), `tallies.json` (the integer
+//! counts everything else is computed from), `summary.json`, `roc.csv`, `events.csv`,
+//! `presence.csv` (when a product is a presence product) and `timing.json` (absent for merged
+//! runs); `report.html` and the gate's files are added by their own writers. This crate is
+//! the one place that knows that list: [`RunFolder::write_into`] writes the data files into a
+//! staged folder, [`RunFolder::open`] reads a sealed folder back, and [`read_tallies`] takes
+//! the tallies of a run, a reference or a bare `tallies.json`. The command line, the report
+//! and an embedding program all go through it, so a second reader cannot drift from the
+//! first.
+//!
+//! **Key design decision: versions are checked before fields.** Each JSON file carries the
+//! harness's `schema` number, and a file of another version is refused by its version (the
+//! message says to re-run) rather than by whichever field happened to change; the summary
+//! and the tallies must then describe the same run, detector for detector. Every error names
+//! the file.
+#![deny(missing_docs)]
 
 use echobench_harness::runner::{Tallies, Timing, SCHEMA_VERSION};
-use echobench_harness::summary::Summary;
+use echobench_harness::suite::Suite;
+use echobench_harness::summary::{self, Summary};
+use echobench_run_folder::fault_point;
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
-/// Why a run folder cannot be reported. Every variant names the file.
+/// The files every reader of a run's results needs.
+pub const REQUIRED_FILES: [&str; 2] = ["summary.json", "tallies.json"];
+
+/// The files a reference folder keeps (`echobench keep`): what a later run and the gate
+/// read. The rest of a run folder (report, timing, gate files) describes that one run only.
+pub const REFERENCE_FILES: [&str; 5] = [
+    "tallies.json",
+    "summary.json",
+    "suite.yaml",
+    "roc.csv",
+    "events.csv",
+];
+
+/// Why a run folder cannot be read or written. Every variant names the file.
 #[derive(Debug, thiserror::Error)]
-pub enum ReportError {
+pub enum RunFileError {
     /// A file the report needs is not there.
     #[error("{}: not found (is this a folder written by `echobench run`?)", path.display())]
     Missing {
@@ -39,6 +72,17 @@ pub enum ReportError {
         /// The version this build reads.
         expected: u32,
     },
+    /// The folder is not complete or not of one run (its manifest disagrees with its files).
+    #[error(transparent)]
+    Folder(#[from] echobench_run_folder::FolderError),
+    /// A file could not be written.
+    #[error("{}: cannot write: {source}", path.display())]
+    Write {
+        /// The file.
+        path: PathBuf,
+        /// The I/O error.
+        source: std::io::Error,
+    },
     /// The files of the folder do not belong to the same run.
     #[error("{}: {message}", dir.display())]
     Mismatch {
@@ -49,7 +93,7 @@ pub enum ReportError {
     },
 }
 
-/// Everything the report reads from one run folder.
+/// The data files of one run folder, as read or about to be written.
 #[derive(Debug, Clone)]
 pub struct RunFolder {
     /// `summary.json`.
@@ -62,11 +106,11 @@ pub struct RunFolder {
     pub suite_text: Option<String>,
 }
 
-fn read_text(path: &Path) -> Result<Option<String>, ReportError> {
+fn read_text(path: &Path) -> Result<Option<String>, RunFileError> {
     match std::fs::read_to_string(path) {
         Ok(text) => Ok(Some(text)),
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(None),
-        Err(source) => Err(ReportError::Read {
+        Err(source) => Err(RunFileError::Read {
             path: path.to_path_buf(),
             source,
         }),
@@ -78,26 +122,96 @@ fn read_text(path: &Path) -> Result<Option<String>, ReportError> {
 fn read_versioned<T: serde::de::DeserializeOwned>(
     path: &Path,
     text: &str,
-) -> Result<T, ReportError> {
-    let value: serde_json::Value = serde_json::from_str(text).map_err(|e| ReportError::Parse {
+) -> Result<T, RunFileError> {
+    let value: serde_json::Value = serde_json::from_str(text).map_err(|e| RunFileError::Parse {
         path: path.to_path_buf(),
         message: e.to_string(),
     })?;
     let found = value.get("schema").and_then(serde_json::Value::as_u64);
     if found != Some(u64::from(SCHEMA_VERSION)) {
-        return Err(ReportError::Schema {
+        return Err(RunFileError::Schema {
             path: path.to_path_buf(),
             found: found.map_or_else(|| "none".to_string(), |v| v.to_string()),
             expected: SCHEMA_VERSION,
         });
     }
-    serde_json::from_value(value).map_err(|e| ReportError::Parse {
+    serde_json::from_value(value).map_err(|e| RunFileError::Parse {
         path: path.to_path_buf(),
         message: e.to_string(),
     })
 }
 
 impl RunFolder {
+    /// The files of a finished run: its summary is computed from the tallies here, so what
+    /// is written always agrees with them.
+    pub fn from_run(
+        suite: &Suite,
+        suite_text: &str,
+        tallies: Tallies,
+        timing: Option<Timing>,
+    ) -> RunFolder {
+        RunFolder {
+            summary: summary::summarise(&tallies, suite),
+            tallies,
+            timing,
+            suite_text: Some(suite_text.to_string()),
+        }
+    }
+
+    /// Writes the data files into `dir` (a staged folder: [`echobench_run_folder::Staging`]),
+    /// each atomically, with a fault point after each so the crash tests can stop the writer
+    /// there. `report.html` is not among them: the caller renders it from this value.
+    ///
+    /// # Errors
+    /// The first file that could not be written, named.
+    pub fn write_into(&self, dir: &Path) -> Result<(), RunFileError> {
+        let at = |name: &str| {
+            let path = dir.join(name);
+            move |source| RunFileError::Write { path, source }
+        };
+        if let Some(text) = &self.suite_text {
+            echobench_core::atomic::write_atomically(&dir.join("suite.yaml"), |w| {
+                w.write_all(text.as_bytes())
+            })
+            .map_err(at("suite.yaml"))?;
+            fault_point("suite.yaml");
+        }
+        summary::write_json(&dir.join("tallies.json"), &self.tallies)
+            .map_err(at("tallies.json"))?;
+        fault_point("tallies.json");
+        summary::write_json(&dir.join("summary.json"), &self.summary)
+            .map_err(at("summary.json"))?;
+        fault_point("summary.json");
+        summary::write_roc_csv(&dir.join("roc.csv"), &self.tallies).map_err(at("roc.csv"))?;
+        fault_point("roc.csv");
+        summary::write_events_csv(&dir.join("events.csv"), &self.summary)
+            .map_err(at("events.csv"))?;
+        fault_point("events.csv");
+        if self.summary.detectors.iter().any(|d| d.presence.is_some()) {
+            echobench_harness::presence_summary::write_presence_csv(
+                &dir.join("presence.csv"),
+                &self.summary,
+            )
+            .map_err(at("presence.csv"))?;
+            fault_point("presence.csv");
+        }
+        if let Some(timing) = &self.timing {
+            summary::write_json(&dir.join("timing.json"), timing).map_err(at("timing.json"))?;
+            fault_point("timing.json");
+        }
+        Ok(())
+    }
+
+    /// Reads a sealed run folder: its manifest is verified first (every file present, of
+    /// one run, nothing foreign), then the files as [`RunFolder::load`] reads them.
+    ///
+    /// # Errors
+    /// As [`RunFolder::load`], and [`RunFileError::Folder`] for a folder that is not complete.
+    pub fn open(dir: &Path) -> Result<RunFolder, RunFileError> {
+        echobench_run_folder::verify(dir, &REQUIRED_FILES)?;
+        RunFolder::load(dir)
+    }
+
     /// Reads `summary.json`, `tallies.json`, and, when present, `timing.json` and
     /// `suite.yaml` from `dir`.
     ///
@@ -105,12 +219,12 @@ impl RunFolder {
     /// A missing summary or tallies file, an unreadable or malformed file, a schema version
     /// other than the harness's [`SCHEMA_VERSION`], or a summary and tallies from different
     /// runs. Each error names the file.
-    pub fn load(dir: &Path) -> Result<RunFolder, ReportError> {
-        let required = |name: &str| -> Result<(PathBuf, String), ReportError> {
+    pub fn load(dir: &Path) -> Result<RunFolder, RunFileError> {
+        let required = |name: &str| -> Result<(PathBuf, String), RunFileError> {
             let path = dir.join(name);
             match read_text(&path)? {
                 Some(text) => Ok((path, text)),
-                None => Err(ReportError::Missing { path }),
+                None => Err(RunFileError::Missing { path }),
             }
         };
         let (summary_path, summary_text) = required("summary.json")?;
@@ -121,7 +235,7 @@ impl RunFolder {
         let timing = match read_text(&timing_path)? {
             Some(text) => {
                 Some(
-                    serde_json::from_str::<Timing>(&text).map_err(|e| ReportError::Parse {
+                    serde_json::from_str::<Timing>(&text).map_err(|e| RunFileError::Parse {
                         path: timing_path.clone(),
                         message: e.to_string(),
                     })?,
@@ -137,7 +251,7 @@ impl RunFolder {
             suite_text,
         };
         run.check_consistent()
-            .map_err(|message| ReportError::Mismatch {
+            .map_err(|message| RunFileError::Mismatch {
                 dir: dir.to_path_buf(),
                 message,
             })?;
@@ -200,5 +314,37 @@ impl RunFolder {
             }
         }
         Ok(())
+    }
+}
+
+/// The tallies of a run or reference folder, which must be complete and of one run, or of a
+/// `tallies.json` file given directly (a folder that does not exist is named as such).
+///
+/// # Errors
+/// An incomplete folder, an unreadable or malformed file, or another schema version, naming
+/// the file.
+pub fn read_tallies(path: &Path) -> Result<Tallies, RunFileError> {
+    let file = if path.is_dir() || !path.exists() {
+        echobench_run_folder::verify(path, &["tallies.json"])?;
+        path.join("tallies.json")
+    } else {
+        path.to_path_buf()
+    };
+    match read_text(&file)? {
+        Some(text) => read_versioned(&file, &text),
+        None => Err(RunFileError::Missing { path: file }),
+    }
+}
+
+/// The summary of a sealed run folder.
+///
+/// # Errors
+/// As [`read_tallies`].
+pub fn read_summary(dir: &Path) -> Result<Summary, RunFileError> {
+    echobench_run_folder::verify(dir, &["summary.json"])?;
+    let file = dir.join("summary.json");
+    match read_text(&file)? {
+        Some(text) => read_versioned(&file, &text),
+        None => Err(RunFileError::Missing { path: file }),
     }
 }

@@ -33,7 +33,15 @@ static EXTERNAL_ALLOWED: echobench_detector_external::ExternalPlugin =
 /// `--allow-exec`): a suite file from an untrusted branch must not start programs on a CI
 /// machine by itself. Without it, a suite that names `external` is refused when loaded.
 pub fn with_external(allow_exec: bool) -> Vec<&'static dyn DetectorPlugin> {
-    let mut plugins = builtin();
+    add_external(builtin(), allow_exec)
+}
+
+/// `plugins` (the built-ins and a team's own, say) with the `external` plugin appended, as
+/// [`with_external`] does for the built-ins alone.
+pub fn add_external(
+    mut plugins: Vec<&'static dyn DetectorPlugin>,
+    allow_exec: bool,
+) -> Vec<&'static dyn DetectorPlugin> {
     plugins.push(if allow_exec {
         &EXTERNAL_ALLOWED
     } else {
