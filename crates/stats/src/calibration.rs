@@ -9,11 +9,11 @@ use crate::interval::Interval;
 /// The true Pfa of a threshold set to the k-th largest of `noise_trials` noise-only scores.
 ///
 /// Whatever the score distribution (if continuous), the probability that a fresh noise score
-/// reaches the k-th largest of M₀ is the (M₀−k+1)-th smallest of M₀ uniform order statistics,
-/// so the true Pfa is `Beta(k, M₀ − k + 1)` (David & Nagaraja 2003, uniform order statistics,
-/// from memory; `detection.md` §4). With M₀ = 10 000 and k = 10 the nominal Pfa 1e-3 is in
-/// fact anywhere in [5.43e-4, 1.570e-3] with 90 % probability: calibrate on separate seeds
-/// and report this spread.
+/// reaches the k-th largest of M₀ is the (M₀−k+1)-th smallest of M₀ uniform order statistics, so
+/// the true Pfa is `Beta(k, M₀ − k + 1)` (David & Nagaraja 2003, uniform order statistics, from
+/// memory; `docs/reference/statistics.md#s4`). With M₀ = 10 000 and k = 10 the nominal Pfa 1e-3 is
+/// in fact anywhere in [5.43e-4, 1.570e-3] with 90 % probability: calibrate on separate seeds and
+/// report this spread.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct EmpiricalThresholdPfa {
     rank_from_top: u64,

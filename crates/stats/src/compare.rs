@@ -1,6 +1,6 @@
 //! Did a change make things worse? Exact tests comparing a candidate build with a baseline
-//! (`detection.md` §4.1): false-alarm rates per hour, per-trial proportions, paired trials
-//! on common random numbers, the multiple-testing correction across gated scenarios, and the
+//! (`docs/reference/statistics.md#s8`): false-alarm rates per hour, per-trial proportions, paired
+//! trials on common random numbers, the multiple-testing correction across gated scenarios, and the
 //! power of the rate test for sizing the noise-only exposure.
 //!
 //! All tests are one-sided in the direction "candidate is worse" unless stated, and exact:

@@ -11,7 +11,7 @@
 //! Brown, Cai & DasGupta 2001), and every test is an exact conditional or permutation test
 //! whose size never exceeds its nominal level. Distribution functions come from `statrs`.
 //!
-//! Conventions (shared with `detection.md` §0 and §4):
+//! Conventions (shared with `docs/reference/detectors.md#d1` and `statistics.md#s1`):
 //! - a detector **alarms when `score >= threshold`**;
 //! - Pfa is the false-alarm probability per noise-only trial, Pd the detection probability;
 //! - rates are events per unit of exposure; echobench passes exposures in hours, so rates are

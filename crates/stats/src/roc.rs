@@ -2,7 +2,7 @@
 //!
 //! Inputs are the scores of trials whose truth is known: `positives` (H1, a target present)
 //! and `negatives` (H0, noise or nuisance only). A detector alarms when `score >= threshold`,
-//! the scikit-learn `roc_curve` convention (`detection.md` §0).
+//! the scikit-learn `roc_curve` convention (`docs/reference/detectors.md#d1`).
 //!
 //! NaN scores have no place in an ordering, so any NaN makes the AUC NaN and the ROC empty;
 //! infinite scores are ordinary (largest or smallest) values.
@@ -153,9 +153,9 @@ fn last_at_or_below(roc: &[RocPoint], target_pfa: f64) -> Option<usize> {
     roc.partition_point(|p| p.0 <= target_pfa).checked_sub(1)
 }
 
-/// Pd at a target Pfa, conservative and achievable (`detection.md` §4 (a)): the vertex of the
-/// lowest threshold whose empirical Pfa does not exceed `target_pfa`. Returns that whole
-/// vertex `(pfa, pd, threshold)` so the caller can report the threshold and the Pfa achieved.
+/// Pd at a target Pfa, conservative and achievable (`docs/reference/statistics.md#s3`, (a)): the
+/// vertex of the lowest threshold whose empirical Pfa does not exceed `target_pfa`. Returns that
+/// whole vertex `(pfa, pd, threshold)` so the caller can report the threshold and the Pfa achieved.
 ///
 /// Returns `None` if `roc` is empty, `target_pfa` is NaN or no vertex has `pfa <= target_pfa`
 /// (never the case for a curve from [`roc_points`] and a target `>= 0`).
@@ -166,10 +166,10 @@ pub fn pd_at_pfa_conservative(roc: &[RocPoint], target_pfa: f64) -> Option<RocPo
     last_at_or_below(roc, target_pfa).map(|i| roc[i])
 }
 
-/// Pd at a target Pfa by linear interpolation between adjacent ROC vertices (`detection.md`
-/// §4 (b), the same as `np.interp(target, fpr, tpr)`): the Pd of a randomised mix of two
-/// thresholds, legitimate on the ROC convex hull (Provost & Fawcett 2001). At a Pfa where the
-/// curve rises vertically the top of the rise is returned.
+/// Pd at a target Pfa by linear interpolation between adjacent ROC vertices
+/// (`docs/reference/statistics.md#s3`, (b); the same as `np.interp(target, fpr, tpr)`): the Pd of a
+/// randomised mix of two thresholds, legitimate on the ROC convex hull (Provost & Fawcett 2001). At
+/// a Pfa where the curve rises vertically the top of the rise is returned.
 ///
 /// Returns `None` if `target_pfa` is outside `[0, 1]` or NaN, or `roc` has no vertex at or
 /// below it.

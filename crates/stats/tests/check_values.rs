@@ -1,10 +1,10 @@
-//! Check values of `/work/shared/reference/detection.md` §4, §4.1 and §6 (CV16–CV25 and the
-//! extra values named under the §6 table). Provenance is given per check: [B] a published
-//! source, [C] the reference computation in `detection-checks.py` (scipy / statsmodels /
-//! scikit-learn), "by hand" a value derived here from the cited definition.
+//! Check values cv16–cv25 and the extra rows of `docs/reference/check-values.md` (formulas in
+//! `docs/reference/statistics.md` and `event-scoring.md`). Provenance is given per check: [B]
+//! a published source, [C] a value computed with scipy / statsmodels / scikit-learn as listed
+//! in `check-values.md`, "by hand" a value derived here from the cited definition.
 //!
-//! Quoted values are compared to within half a unit of their last quoted digit (the tightest
-//! test a rounded number allows, and never looser than the 1e-6 of `detection.md` §6);
+//! Quoted values are compared to within half a unit of their last quoted digit (the tightest test a
+//! rounded number allows, and never looser than the 1e-6 of `docs/reference/statistics.md#s9`);
 //! closed forms are compared to 1e-9 relative or tighter.
 
 use echobench_stats::*;
@@ -36,7 +36,7 @@ fn ok<T, E: std::fmt::Display>(result: Result<T, E>) -> T {
     result.unwrap_or_else(|e| panic!("unexpected error: {e}"))
 }
 
-// The tie example of detection.md §4.
+// The tie example of docs/reference/check-values.md#cv16.
 const POSITIVES: [f64; 6] = [0.9, 0.8, 0.7, 0.7, 0.55, 0.5];
 const NEGATIVES: [f64; 7] = [0.7, 0.6, 0.5, 0.4, 0.3, 0.2, 0.1];
 
@@ -76,7 +76,7 @@ fn roc_vertices_of_the_tie_example() {
         );
         assert_eq!(got.2, want.2);
     }
-    // §4: the trapezoidal area equals the Mann–Whitney estimate.
+    // docs/reference/statistics.md#s1: the trapezoidal area equals the Mann–Whitney estimate.
     assert!((roc_area(&roc) - 36.5 / 42.0).abs() < 1e-12);
 }
 
@@ -109,8 +109,8 @@ fn cv17_partial_auc_and_pd_at_pfa() {
         "0.566667",
         "Pd@0.1",
     );
-    // By hand from §4 (a): thresholds with Pfâ = 0 <= 0.1 are +∞, 0.9, 0.8; the lowest is
-    // 0.8, where Pd̂ = 2/6.
+    // By hand from docs/reference/statistics.md#s3 (a): thresholds with Pfâ = 0 <= 0.1 are +∞, 0.9,
+    // 0.8; the lowest is 0.8, where Pd̂ = 2/6.
     assert_eq!(
         pd_at_pfa_conservative(&roc, 0.1),
         Some((0.0, 2.0 / 6.0, 0.8))
@@ -155,7 +155,7 @@ fn cv17_sw1_partial_auc_closed_form_against_a_fine_curve() {
 fn cv18_auc_estimates_match_closed_forms_within_hanley_mcneil_error() {
     // [C] SW1 square-law single cell: AUC = (1+S)/(2+S), S = 10 → 0.916667; Gaussian shift
     // d = 1: Φ(d/√2) = 0.760250. Seeded draws by inverse transform; |Â − A| <= 4.5·SE_HM
-    // (detection.md §6 MC rule, SE from Hanley & McNeil 1982).
+    // (docs/reference/statistics.md#s9, SE from Hanley & McNeil 1982).
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
     use statrs::distribution::{ContinuousCDF, Normal};
@@ -275,7 +275,8 @@ fn cv22_garwood_intervals() {
 
 #[test]
 fn exposure_needed_to_claim_a_rate() {
-    // [C] detection.md §4: ≤ 0.1 FA/h at one-sided 95 % needs 29.96 / 47.44 / 62.96 h.
+    // [C] docs/reference/statistics.md#s6: ≤ 0.1 FA/h at one-sided 95 % needs
+    // 29.96 / 47.44 / 62.96 h.
     assert_quoted(ok(exposure_for_rate_claim(0.1, 0, 0.95)), "29.96", "0 FA");
     assert_quoted(ok(exposure_for_rate_claim(0.1, 1, 0.95)), "47.44", "1 FA");
     assert_quoted(ok(exposure_for_rate_claim(0.1, 2, 0.95)), "62.96", "2 FA");
@@ -283,7 +284,8 @@ fn exposure_needed_to_claim_a_rate() {
 
 #[test]
 fn cv24_rate_interval_of_the_event_example() {
-    // [C] detection.md §5: 4 FAs over 3600 − 118.5 s → 4.136148 FA/h, 95 % [1.126961, 10.590182].
+    // [C] docs/reference/event-scoring.md#e7: 4 FAs over 3600 − 118.5 s → 4.136148 FA/h,
+    // 95 % [1.126961, 10.590182].
     let exposure_h = (3600.0 - 118.5) / 3600.0;
     assert_quoted(exposure_h, "0.967083", "exposure");
     assert_quoted(4.0 / exposure_h, "4.136148", "FA/h");
@@ -310,7 +312,7 @@ fn cv23_rate_regression_gate() {
     let t = ok(rate_ratio_test(count(40), count(20), 1.25, 0.95));
     assert_quoted(t.p_value, "0.053309", "40 vs 20 at ρ0 = 1.25");
     assert_close(t.null_proportion, 1.25 / 2.25, 1e-15, "p0");
-    // §4.1: consistent — the bound is below the margin and p > 0.05.
+    // docs/reference/statistics.md#s8: consistent — the bound is below the margin and p > 0.05.
     assert!(t.lower_bound < 1.25 && t.p_value > 0.05);
 }
 
@@ -359,8 +361,8 @@ fn holm_adjusted_p_values() {
 
 #[test]
 fn power_table_of_the_exact_conditional_gate() {
-    // [C] detection.md §4.1: one-sided α = 0.01, baseline 1 FA/h vs candidate 2 FA/h, T h
-    // each: T = 10 → 0.2466, 20 → 0.5610, 30 → 0.7804, 50 → 0.9586; size at T = 10: 0.00547.
+    // [C] docs/reference/statistics.md#s8: one-sided α = 0.01, baseline 1 FA/h vs candidate 2 FA/h,
+    // T h each: T = 10 → 0.2466, 20 → 0.5610, 30 → 0.7804, 50 → 0.9586; size at T = 10: 0.00547.
     let design = |candidate_rate, hours| RatePowerDesign {
         baseline_rate: 1.0,
         candidate_rate,
@@ -397,8 +399,8 @@ fn median_interval_for_twenty_latencies() {
 
 #[test]
 fn latency_summaries_of_the_event_example() {
-    // detection.md §5: latencies [−0.2, 2, 3.5, 11] s, median 2.75 s [C]. p90 by hand from
-    // Hyndman & Fan 1996 definition 7: h = 3·0.9 = 2.7 → 3.5 + 0.7·(11 − 3.5) = 8.75.
+    // docs/reference/event-scoring.md#e7: latencies [−0.2, 2, 3.5, 11] s, median 2.75 s [C]. p90 by
+    // hand from Hyndman & Fan 1996 definition 7: h = 3·0.9 = 2.7 → 3.5 + 0.7·(11 − 3.5) = 8.75.
     let latencies = [2.0, -0.2, 11.0, 3.5];
     assert_close(ok(median(&latencies)), 2.75, 1e-15, "median");
     assert_close(ok(quantile(&latencies, 0.9)), 8.75, 1e-15, "p90");
