@@ -18,7 +18,7 @@
 //! (the sensor has just been switched on). The onset time is the frame's
 //! `t_s`. An onset at a non-finite time cannot be placed and is dropped.
 //!
-//! **Hold time `H`**, non-retriggerable (detection.md §5 item 1): after a
+//! **Hold time `H`**, non-retriggerable (docs/reference/event-scoring.md#e1): after a
 //! *counted* alarm at `t`, onsets in `[t, t + H)` are suppressed and do not
 //! extend the hold. An onset is therefore counted when
 //! `t_onset >= t_last + H − HOLD_TOLERANCE_S`; the 1 ns tolerance makes an
@@ -27,7 +27,7 @@
 //! alarm frame.
 //!
 //! **Matching windows.** Truth event `i` = `[on_i, off_i]` gets the window
-//! `W_i = [on_i − τ_pre, off_i + τ_post]` (detection.md §5 item 2). Windows
+//! `W_i = [on_i − τ_pre, off_i + τ_post]` (docs/reference/event-scoring.md#e2). Windows
 //! that overlap or touch are merged into one *matched event*, whose onset is
 //! the earliest truth onset among those merged. "Events total" counts matched
 //! events.
@@ -36,9 +36,9 @@
 //! lies in its (closed) window; its latency is the first such onset minus the
 //! event's onset (negative down to `−τ_pre`). Further counted onsets inside
 //! the same window are *re-triggers*: neither detections nor false alarms,
-//! counted apart (detection.md §5 item 3).
+//! counted apart (docs/reference/event-scoring.md#e3).
 //!
-//! **Alarm already latched when a window opens** (detection.md §5 item 3,
+//! **Alarm already latched when a window opens** (docs/reference/event-scoring.md#e3,
 //! decided as in its worked example): its onset lies before the window, so it
 //! is a false alarm, and the event needs a *new* counted onset inside the
 //! window to be detected. With the onset-based logic above this needs no
@@ -46,7 +46,7 @@
 //!
 //! **False alarms** are counted onsets outside every window. **Exposure** is
 //! the noise-only time, `trial duration − |∪ W_i ∩ [0, duration]|`; the
-//! false-alarm rate is false alarms / exposure (detection.md §5 item 4).
+//! false-alarm rate is false alarms / exposure (docs/reference/event-scoring.md#e4).
 //!
 //! **Present, not moving.** Intervals in which a person is inside the zone
 //! but still (seated, standing; see the scene crate's truth) are *ignored*:
@@ -64,7 +64,7 @@
 //! all, while an alarm that outlasts its event's window by less than a hold
 //! (a detector with a long integration lets go late) is not charged. Inside a
 //! window a re-count is nothing (a detection still needs a rising edge there).
-//! The plain logic of detection.md §5 (and its worked examples) has no
+//! The plain logic of docs/reference/event-scoring.md (and its worked example) has no
 //! re-counts.
 //!
 //! **False-on time** is the time the condition holds on noise frames (outside
@@ -794,7 +794,7 @@ pub fn attribute_false_alarms<T: Clone + PartialEq>(
 /// probability `p` at `frame_rate_hz`, under a non-retriggerable hold of
 /// `hold_s`.
 ///
-/// Renewal argument (detection.md §5): after a counted alarm the next `h − 1`
+/// Renewal argument (docs/reference/event-scoring.md#e6): after a counted alarm the next `h − 1`
 /// frames are suppressed, then the wait for an exceedance is geometric with
 /// mean `1/p` frames, so the mean spacing is `h − 1 + 1/p` frames and the rate
 /// `r / (h − 1 + 1/p)`. `h = H·r` when the hold is a whole number of frames
@@ -896,8 +896,8 @@ mod tests {
 
     #[test]
     fn cv24_worked_example() {
-        // detection.md §5 worked example / CV24 [C: reference scorer in
-        // detection-checks.py], tolerance 1e-6.
+        // docs/reference/event-scoring.md#e7, check value cv24 [C: worked by hand and by an
+        // independent scorer], tolerance 1e-6.
         let truth = cv24_truth();
         let logic = AlarmLogic::new(5.0, MOfN::SINGLE).unwrap();
         for pulse_frames in [1, 3] {
@@ -930,7 +930,7 @@ mod tests {
             assert!(close(ci.low, 1.126961, 1e-6), "{ci:?}");
             assert!(close(ci.high, 10.590182, 1e-6), "{ci:?}");
         }
-        // Without the hold: 6 false alarms (detection.md §5), 103.0 and 125.0
+        // Without the hold: 6 false alarms (docs/reference/event-scoring.md#e7), 103.0 and 125.0
         // both re-trigger E1.
         let no_hold = AlarmLogic::new(0.0, MOfN::SINGLE).unwrap();
         let score = score_threshold(&cv24_trace(1), &truth, &no_hold, 0.5);
@@ -938,15 +938,15 @@ mod tests {
         assert_eq!(score.events_detected(), 4);
         assert_eq!(score.retriggers, 2);
         assert_eq!(score.suppressed_onsets, 0);
-        // Dividing by the full hour would give 4.0 (detection.md §5): the
+        // Dividing by the full hour would give 4.0 (docs/reference/event-scoring.md#e7): the
         // exposure is what makes it 4.136.
         assert!(close(4.0 / (truth.duration_s() / 3600.0), 4.0, 1e-12));
     }
 
     #[test]
     fn cv25_formula() {
-        // detection.md §5 / CV25 [C]: r = 20 Hz, p = 1e-3, H = 5 s → 65.514 FA/h
-        // (72 without the hold); tolerance 1e-3 relative.
+        // docs/reference/event-scoring.md#e6, check value cv25 [C]: r = 20 Hz, p = 1e-3, H = 5 s →
+        // 65.514 FA/h (72 without the hold); tolerance 1e-3 relative.
         let per_h = 3600.0 * fa_rate_with_hold(20.0, 1e-3, 5.0).unwrap();
         assert!(close(per_h, 65.514, 65.514 * 1e-3), "{per_h}");
         assert!(close(per_h, 72000.0 / 1099.0, 1e-9));
@@ -962,7 +962,7 @@ mod tests {
     #[test]
     fn cv25_monte_carlo() {
         // Bernoulli(p) frames at 20 Hz for 200 h through the whole alarm path
-        // (threshold → rising edges → hold), as in detection.md §5 [MC: 65.85
+        // (threshold → rising edges → hold), as in docs/reference/event-scoring.md#e6 [MC: 65.85
         // over 200 h]. Tolerance 4.5 σ of a renewal count (renewal CLT,
         // var N ≈ T·var X / (E X)³: Cox 1962, Renewal Theory, from memory),
         // which must itself be within ±5 %.
@@ -1427,7 +1427,7 @@ mod tests {
 
     #[test]
     fn alarm_latched_before_the_window_is_a_false_alarm_and_a_miss() {
-        // detection.md §5 item 3, as its worked example decides: the score is
+        // docs/reference/event-scoring.md#e3, as its worked example decides: the score is
         // above threshold from 5 s, before the window [9.5, 22] opens, and
         // stays there: one false alarm at 5 s, the event needs a new onset.
         let events = [interval(10.0, 20.0)];

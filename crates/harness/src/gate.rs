@@ -5,12 +5,13 @@
 //! threshold per target rate, the way a threshold ships in firmware. Then, per detector,
 //! operating point and scene group (all scenes pooled, and each scene):
 //!
-//! - **false-alarm rate**: the exact one-sided conditional test of the two Poisson counts
-//!   against a ratio margin ρ₀ (Przyborowski & Wilenski 1940; Gu et al. 2008; reference
-//!   §4.1), so only a rise larger than ρ₀ that is also significant fails;
+//! - **false-alarm rate**: the exact one-sided conditional test of the two Poisson counts against a
+//!   ratio margin ρ₀ (Przyborowski & Wilenski 1940; Gu et al. 2008;
+//!   docs/reference/statistics.md#s8), so only a rise larger than ρ₀ that is also significant
+//!   fails;
 //! - **false alarms, paired trials**: with the same seeds both runs see the same signals
 //!   (common random numbers), and the exact McNemar test on the trials that alarm in one run
-//!   only catches small changes the unpaired test cannot see (reference §4.1);
+//!   only catches small changes the unpaired test cannot see (docs/reference/statistics.md#s8);
 //! - **false-alarm budget, three-way**: the candidate's pooled rate against the suite's
 //!   absolute budget, from both one-sided Garwood (1936) bounds at `budget_confidence`:
 //!   **pass** when the upper bound is under the budget, **regression** when the lower bound
@@ -79,7 +80,7 @@ pub struct GateSettings {
 
 impl Default for GateSettings {
     fn default() -> Self {
-        // ρ₀ = 1.25 and α = 0.01: the recipe of reference §4.1.
+        // ρ₀ = 1.25 and α = 0.01: the recipe of docs/reference/statistics.md#s8.
         GateSettings {
             ratio_margin: 1.25,
             alpha: 0.01,

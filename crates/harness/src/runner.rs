@@ -5,7 +5,7 @@
 //! quantiles) and its operating thresholds (the lowest grid threshold whose
 //! calibration false-alarm rate meets each target). **Test** trials are then
 //! tallied at those fixed thresholds, so Pd and false-alarm rates at the
-//! operating points are not optimistically biased (detection.md §4), and so
+//! operating points are not optimistically biased (docs/reference/statistics.md#s4), and so
 //! shards' tallies add up exactly.
 //!
 //! Only tallies are kept, never trials: each test trial is synthesized in

@@ -272,7 +272,7 @@ detectors:
 
 /// Regularised upper incomplete gamma through statrs, for the noncentral χ² tail.
 fn noncentral_chi2_sf(x: f64, k: f64, lambda: f64) -> f64 {
-    // Poisson mixture of central χ² tails (detection.md §1 implementation hint;
+    // Poisson mixture of central χ² tails (docs/reference/detectors.md#d2;
     // Johnson, Kotz & Balakrishnan): Σ_j Pois(j; λ/2)·Q(k/2 + j, x/2).
     let half = lambda / 2.0;
     let mut total = 0.0;
@@ -291,7 +291,7 @@ fn noncentral_chi2_sf(x: f64, k: f64, lambda: f64) -> f64 {
 
 /// A sinusoid in white Gaussian noise at a known SNR: the energy detector's
 /// measured Pd at a set Pfa matches the noncentral χ² closed form (Urkowitz
-/// 1967; Kay 1998 vol. II; detection.md §1 and CV1).
+/// 1967; Kay 1998 vol. II; docs/reference/detectors.md#d2 and check-values.md#cv1).
 #[test]
 fn energy_detector_pd_on_a_sinusoid_matches_the_noncentral_chi_square() {
     use rand::SeedableRng;
@@ -305,7 +305,8 @@ fn energy_detector_pd_on_a_sinusoid_matches_the_noncentral_chi_square() {
     let amplitude = (2.0f64).sqrt() * sigma;
     let lambda = n as f64 * amplitude * amplitude / (2.0 * sigma * sigma);
     let expected_pd = noncentral_chi2_sf(gamma, n as f64, lambda);
-    // CV1's value at λ = 16 and Pfa 1e-3 checks the helper itself (scipy ncx2.sf, detection.md).
+    // CV1's value at λ = 16 and Pfa 1e-3 checks the helper itself (scipy ncx2.sf,
+    // docs/reference/check-values.md#cv1).
     let cv1 = noncentral_chi2_sf(39.252355, 16.0, 16.0);
     assert!((cv1 - 0.216690).abs() < 1e-6, "{cv1}");
 
