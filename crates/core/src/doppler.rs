@@ -5,7 +5,7 @@
 //! quantities first.** A walker's torso moves at the same 0.3–1.5 m/s in
 //! front of a 2.45 GHz and a 24.125 GHz module, but its Doppler line is ten
 //! times higher at 24 GHz (f_D = 2·v·f_c/c, Skolnik, *Introduction to Radar
-//! Systems*, 3rd ed., ch. 3; physics.md §0–1). A band written in hertz
+//! Systems*, 3rd ed., ch. 3; docs/reference/radar-physics.md#r1). A band written in hertz
 //! therefore fits one carrier; a band written in m/s fits every carrier. The
 //! same holds for frames: a frame of T seconds resolves speeds Δv = λ/(2T)
 //! (one FFT bin is 1/T Hz, and 1 Hz is λ/2 m/s), so a fixed frame is ten
@@ -44,7 +44,7 @@ pub const SPEED_OF_LIGHT_MPS: f64 = 299_792_458.0;
 /// Wavelength λ = c/f_c of a carrier, m.
 ///
 /// ```
-/// // physics.md §1 table: 12.427 mm at 24.125 GHz.
+/// // docs/reference/radar-physics.md#r8: 12.427 mm at 24.125 GHz.
 /// let l = echobench_core::doppler::wavelength_m(24.125e9);
 /// assert!((l - 12.427e-3).abs() < 1e-6);
 /// ```
@@ -52,7 +52,8 @@ pub fn wavelength_m(carrier_hz: f64) -> f64 {
     SPEED_OF_LIGHT_MPS / carrier_hz
 }
 
-/// Doppler frequency of a radial speed, f_D = 2·v·f_c/c, Hz (Skolnik ch. 3; physics.md §0).
+/// Doppler frequency of a radial speed, f_D = 2·v·f_c/c, Hz (Skolnik ch. 3;
+/// docs/reference/radar-physics.md#r1).
 pub fn doppler_hz(speed_mps: f64, carrier_hz: f64) -> f64 {
     2.0 * speed_mps * carrier_hz / SPEED_OF_LIGHT_MPS
 }
@@ -567,7 +568,7 @@ pub const BAND_UNITS_SPEC: ParamSpec = ParamSpec {
 ///
 /// 0.25 m/s: about half the torso's own speed swing over one step (±18 %
 /// around the walking speed, i.e. 0.47–0.50 m/s peak to peak at 1.3–1.4 m/s;
-/// physics.md §2.2), so a finer bin would only split a line the gait itself
+/// docs/reference/people.md#p4), so a finer bin would only split a line the gait itself
 /// smears. The frame it takes is λ/(2Δv): 0.245 s at 2.45 GHz, 0.103 s at
 /// 5.8 GHz, 0.057 s at 10.525 GHz, 0.0249 s at 24.125 GHz; a decision
 /// therefore waits ten times longer at 2.45 GHz than at 24 GHz for the same
@@ -579,16 +580,16 @@ pub const DEFAULT_RESOLUTION_MPS: f64 = 0.25;
 /// 0.3 m/s: the bottom of a walker's torso speed range (brief of issue 11; a
 /// slow walker at 0.5 m/s seen 50° off its heading is at 0.32 m/s radial),
 /// and above the peak speed of a swaying object (a 0.5 m pendulum at 5°:
-/// 0.19 m/s, physics.md §3), so sway stays out of the motion band.
+/// 0.19 m/s, docs/reference/nuisances.md#n1), so sway stays out of the motion band.
 pub const MOTION_MIN_MPS: f64 = 0.3;
 
 /// Fastest radial speed of the default motion bands, m/s.
 ///
 /// 4.0 m/s: the limbs of a walker at its comfortable 1.3–1.4 m/s (hands to
 /// 2·v ≈ 2.8 m/s, ankles to 3.5·v ≈ 4.9 m/s at their brief mid-swing peak;
-/// physics.md §2.2). The ankle's peak lasts a small part of the cycle, so the
+/// docs/reference/people.md#p4). The ankle's peak lasts a small part of the cycle, so the
 /// band takes the bulk of limb energy without reaching a fan's blade tips
-/// (12–19 m/s, physics.md §3).
+/// (12–19 m/s, docs/reference/nuisances.md#n2).
 pub const MOTION_MAX_MPS: f64 = 4.0;
 
 #[cfg(test)]
@@ -603,7 +604,7 @@ mod tests {
         // at 24.125e9 Hz: 2 · 1.3 · 24.125e9 / 299 792 458 = 62.725e9 / 299 792 458 = 209.227 Hz.
         assert!((doppler_hz(1.3, 2.45e9) - 21.2480).abs() < 1e-3);
         assert!((doppler_hz(1.3, 24.125e9) - 209.2273).abs() < 1e-3);
-        // physics.md §1 check value 2: 1 m/s is 16.345 / 160.945 Hz at 2.45 / 24.125 GHz.
+        // docs/reference/check-values.md#pc2: 1 m/s is 16.345 / 160.945 Hz at 2.45 / 24.125 GHz.
         assert!((doppler_hz(1.0, 2.45e9) - 16.345).abs() < 1e-3);
         assert!((doppler_hz(1.0, 24.125e9) - 160.945).abs() < 1e-3);
         // And back: 100 Hz at 24.125 GHz is 100 / 160.945 = 0.62133 m/s.
@@ -721,8 +722,8 @@ mod tests {
     #[test]
     fn auto_units_follow_what_the_suite_set() {
         let info = stream(2000.0, 2.45e9);
-        // Nothing set: m/s defaults; 1 m/s is 16.3446 Hz at 2.45 GHz (physics.md §1, check
-        // value 2), so 0.3–4 m/s = 4.9034–65.378 Hz.
+        // Nothing set: m/s defaults; 1 m/s is 16.3446 Hz at 2.45 GHz
+        // (docs/reference/check-values.md#pc2), so 0.3–4 m/s = 4.9034–65.378 Hz.
         let b = band(&[], &info).unwrap();
         assert_eq!((b.low_name, b.high_name), ("low_mps", "high_mps"));
         assert!((b.low_hz - 4.9034).abs() < 1e-3 && (b.high_hz - 65.378).abs() < 1e-3);

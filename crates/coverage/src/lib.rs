@@ -33,7 +33,7 @@
 //! - the **torso line**: the same percentiles of the torso echo's |f_D|, one
 //!   sample per instant (the torso echo of a walker; for other kinds the
 //!   strongest echo at that instant, which for a body is its trunk: the
-//!   torso dominates a walker's power, physics.md §2.2);
+//!   torso dominates a walker's power, docs/reference/people.md#p4);
 //! - the **energy fraction** inside a set of bands.
 //!
 //! # When a warning fires
@@ -72,8 +72,8 @@ use std::fmt;
 ///
 /// The question is the distribution of the instantaneous Doppler over
 /// seconds of walking, not the signal itself: 100 samples per second put
-/// about 100 samples in each gait cycle (D_c ≈ 1.07 s at 1.4 m/s, physics.md
-/// §2.2), enough to resolve the swing of the limbs within a cycle.
+/// about 100 samples in each gait cycle (D_c ≈ 1.07 s at 1.4 m/s,
+/// docs/reference/people.md#p4), enough to resolve the swing of the limbs within a cycle.
 pub const SAMPLE_RATE_HZ: f64 = 100.0;
 
 /// "Most" of the target's Doppler energy: more than this fraction (module doc).

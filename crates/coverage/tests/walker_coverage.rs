@@ -2,9 +2,9 @@
 //! detector's default bands, and the coverage warnings the issue asks for.
 //!
 //! Reference values: f_D = 2v/λ (Skolnik, ch. 3); 1 m/s is 16.345 Hz at 2.45 GHz and
-//! 160.945 Hz at 24.125 GHz (physics.md §1, check value 2), so the walking speed's line is
+//! 160.945 Hz at 24.125 GHz (docs/reference/check-values.md#pc2), so the walking speed's line is
 //! 1.3 × 16.345 = 21.25 Hz and 1.3 × 160.945 = 209.2 Hz. The torso speed swings ±18 %
-//! around the walking speed over a step (physics.md §2.2).
+//! around the walking speed over a step (docs/reference/people.md#p4).
 
 use echobench_core::detector::{BandRole, Params};
 use echobench_core::{Channels, StreamInfo};

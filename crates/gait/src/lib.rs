@@ -51,7 +51,7 @@
 //! of a m/s and the heel of the leading foot dips up to ≈ 0.1 m (0.2 m at
 //! RV = 3) below the floor around heel strike. Both are centimetre-scale
 //! position errors of the weakest echoes. The wrist peak speed is ≈ 15 %
-//! above the reference table of physics.md §2.2, whose implementation turned
+//! above the reference table of docs/reference/people.md#p4, whose implementation turned
 //! the arm against the trunk tilt; here the arm is carried by the trunk.
 #![deny(missing_docs)]
 
@@ -346,7 +346,7 @@ impl Gait {
             });
         }
 
-        // Global characteristics (Boulic 1990; physics.md §2.2).
+        // Global characteristics (Boulic 1990; docs/reference/people.md#p2).
         let relative_cycle_length = 1.346 * rv.sqrt();
         let cycle_s = relative_cycle_length / rv;
         let support_s = 0.752 * cycle_s - 0.143;

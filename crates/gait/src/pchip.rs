@@ -190,7 +190,7 @@ mod tests {
 
     #[test]
     fn periodic_curve_equals_the_replicated_interpolant_on_one_cycle() {
-        // Knee control points of regime b (physics.md §2.2 after Chen 2011) and the
+        // Knee control points of regime b (docs/reference/people.md#p2, after Chen 2011) and the
         // regime-b ankle with D_s/D_c = 0.618.
         for points in [
             vec![(0.17, 3.0), (0.4, 3.0), (0.75, 70.0), (1.0, 3.0)],
@@ -228,7 +228,8 @@ mod tests {
 
     #[test]
     fn coincident_points_after_wrapping_are_merged() {
-        // Hip, regimes a/b: (−0.1, 25) and (0.9, 25) are one knot (physics.md §2.2 pitfall).
+        // Hip, regimes a/b: (−0.1, 25) and (0.9, 25) are one knot
+        // (docs/reference/people.md#p3).
         let curve = PeriodicPchip::new(&[(-0.1, 25.0), (0.5, -15.0), (0.9, 25.0)]);
         assert_eq!(curve.knots.len(), 2);
         assert!((curve.at(0.9) - 25.0).abs() < 1e-12);

@@ -35,7 +35,7 @@ fn within(value: f64, expected: f64, relative: f64) -> bool {
 
 #[test]
 fn cycle_timing_at_unit_relative_velocity_matches_check_11() {
-    // physics.md check 11 [C from Boulic 1990's global formulas]:
+    // docs/reference/check-values.md#pc11 [C from Boulic 1990's global formulas]:
     // RV = 1 → D_c = 1.3460 s, D_s = 0.8692 s, D_ds = 0.1962 s.
     let gait = gait_at(1.0);
     assert!((gait.relative_velocity() - 1.0).abs() < 1e-12);
@@ -50,13 +50,13 @@ fn cycle_timing_at_unit_relative_velocity_matches_check_11() {
         "{}",
         gait.double_support_s()
     );
-    // physics.md §2.2 [C]: RV = 0.5 → D_c = 1.9035 s.
+    // docs/reference/people.md#p4 [C]: RV = 0.5 → D_c = 1.9035 s.
     assert!((gait_at(0.5).cycle_s() - 1.9035).abs() < 1e-4);
 }
 
 #[test]
 fn tall_adult_at_relative_velocity_1_584_matches_check_12() {
-    // physics.md check 12 [C]: H = 1.8 m, RV = 1.584 → v = 1.400 m/s,
+    // docs/reference/check-values.md#pc12 [C]: H = 1.8 m, RV = 1.584 → v = 1.400 m/s,
     // D_c = 1.0695 s, 112.2 steps/min, stride 1.497 m.
     let gait = gait_at(1.584);
     assert!((gait.thigh_height_m() - 0.8838).abs() < 1e-4);
@@ -77,7 +77,8 @@ fn tall_adult_at_relative_velocity_1_584_matches_check_12() {
 fn cadence_at_comfortable_speeds_lies_in_the_published_ranges() {
     // Comfortable gait speed 1.272–1.462 m/s (Bohannon, Age and Ageing
     // 26:15–19, 1997); cadence 81–138 steps/min, observed pedestrians' mean
-    // 115.2 steps/min (Tudor-Locke & Rowe, Sports Med 2012) — physics.md check 14.
+    // 115.2 steps/min (Tudor-Locke & Rowe, Sports Med 2012) —
+    // docs/reference/check-values.md#pc14.
     for height_m in [1.60, 1.70, 1.80, 1.90] {
         for speed_mps in [1.272, 1.35, 1.462] {
             let gait = Gait::new(height_m, speed_mps).expect("valid gait");
@@ -99,7 +100,7 @@ fn cadence_at_comfortable_speeds_lies_in_the_published_ranges() {
 
 #[test]
 fn ground_frame_forward_speeds_match_the_reference_table() {
-    // physics.md §2.2 table [C, Boulic model], H = 1.8 m, ±10 %:
+    // docs/reference/people.md#p4 table [C, Boulic model], H = 1.8 m, ±10 %:
     // (RV, spine base min–max, head min–max, knee max, ankle max, toe max, hand max).
     let table = [
         (1.300, (0.93, 1.37), (1.00, 1.30), 2.23, 4.28, 5.21, 2.17),
@@ -149,9 +150,9 @@ fn ground_frame_forward_speeds_match_the_reference_table() {
 
 #[test]
 fn peak_foot_speeds_at_1_4_mps_match_check_13() {
-    // physics.md check 13 [C]: peak toe / ankle speed 5.9 / 4.9 m/s (±10 %) at
+    // docs/reference/check-values.md#pc13 [C]: peak toe / ankle speed 5.9 / 4.9 m/s (±10 %) at
     // v = 1.4 m/s; and the swing foot peaks at ≈ 3.5–4.5 × walking speed
-    // (physics.md §2.1, from memory of the gait literature).
+    // (docs/reference/people.md#p1, from memory of the gait literature).
     let gait = Gait::new(H_M, 1.4).expect("valid gait");
     let toe = forward_speed_range(&gait, |p| p.segment(SegmentKind::RightFoot).distal_end_m()).1;
     let ankle = forward_speed_range(&gait, |p| p.segment(SegmentKind::RightShank).distal_end_m()).1;
@@ -162,8 +163,8 @@ fn peak_foot_speeds_at_1_4_mps_match_check_13() {
 
 #[test]
 fn spine_origin_speed_oscillates_about_18_percent_around_the_walking_speed() {
-    // physics.md §2.2 [C]: torso ±18 % around v at v = 1.4 m/s (from a_fb =
-    // 0.021 m at twice the stride frequency); also the simple model of §2.3
+    // docs/reference/people.md#p4 [C]: torso ±18 % around v at v = 1.4 m/s (from a_fb =
+    // 0.021 m at twice the stride frequency); also the simple model of people.md#p5
     // (v_t = v[1 + 0.18 sin(...)]).
     let gait = Gait::new(H_M, 1.4).expect("valid gait");
     let (lo, hi) = forward_speed_range(&gait, |p| p.segment(SegmentKind::Torso).proximal_end_m());
@@ -179,7 +180,7 @@ fn spine_origin_speed_oscillates_about_18_percent_around_the_walking_speed() {
 
 #[test]
 fn joint_trajectories_are_continuous_across_the_regime_boundaries() {
-    // physics.md §2.2: regimes a/b meet at RV = 0.5 and b/c at RV = 1.3; with the
+    // docs/reference/people.md#p3: regimes a/b meet at RV = 0.5 and b/c at RV = 1.3; with the
     // flagged corrections (regime-a amplitude signs, regime-c elbow "RV − 1.3")
     // every angle and offset is continuous there.
     for boundary in [0.5, 1.3] {
