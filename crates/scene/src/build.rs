@@ -160,7 +160,8 @@ pub fn build_model(
 /// follow the analog RC response within a few per cent only well below the
 /// internal Nyquist (at f = f_sim/8 a first-order low-pass is within 4 % of the
 /// analog one; at 0.4·f_sim it is 2.6× too deep), so the internal rate is kept
-/// at 8× the highest Doppler (physics.md §5 recipe: M ≥ 8 where aliasing matters).
+/// at 8× the highest Doppler (docs/reference/front-end-and-noise.md#f12:
+/// M ≥ 8 where aliasing matters).
 pub const SIM_RATE_PER_DOPPLER: f64 = 8.0;
 
 /// The internal oversampling factor for a highest signal frequency `max_doppler_hz` at
@@ -486,7 +487,8 @@ mod tests {
     #[test]
     fn oversampling_follows_the_largest_doppler() {
         assert_eq!(oversampling_for(200.0, 2000.0), 1);
-        // Desk fan at 24.125 GHz: 3034 Hz tip Doppler (physics.md §3) at fs = 2 kHz.
+        // Desk fan at 24.125 GHz: 3034 Hz tip Doppler (docs/reference/nuisances.md#n2) at
+        // fs = 2 kHz.
         assert_eq!(oversampling_for(3034.0, 2000.0), 13);
         assert_eq!(oversampling_for(1e9, 2000.0), MAX_OVERSAMPLING);
     }

@@ -51,7 +51,7 @@ impl LinkBudget {
     ///
     /// In its small-signal regime the mixer's IF voltage is proportional to the
     /// received RF voltage, √(2 P_r R_load), less the conversion loss; every
-    /// echo then scales as √σ / R² times the two-way pattern (physics.md §1.2,
+    /// echo then scales as √σ / R² times the two-way pattern (docs/reference/radar-physics.md#r4,
     /// common practice).
     pub fn amplitude_v_at_1m_1m2(&self, wavelength_m: f64) -> f64 {
         let gain = 10f64.powf(self.antenna_gain_dbi / 10.0);
@@ -71,7 +71,7 @@ impl LinkBudget {
 /// side and back lobes.
 ///
 /// One-way power gain G(θ)/G0 = cosⁿθ with n = ln 0.5 / ln cos(θ₃dB/2)
-/// (physics.md §1.2, common practice); the two-way amplitude pattern of equal
+/// (docs/reference/radar-physics.md#r5, common practice); the two-way amplitude pattern of equal
 /// TX and RX antennas is the same number.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Beam {
@@ -131,7 +131,7 @@ mod tests {
 
     #[test]
     fn wavelengths_and_doppler_match_reference_table() {
-        // physics.md §6 checks 1–3 [C, c exact; formula Skolnik].
+        // docs/reference/check-values.md#pc1 to #pc3 [C, c exact; formula Skolnik].
         for (f0, lambda_mm, fd) in [
             (2.45e9, 122.364, 16.345),
             (5.8e9, 51.688, 38.693),
@@ -146,7 +146,8 @@ mod tests {
 
     #[test]
     fn range_equation_example() {
-        // physics.md check 7 [C from Skolnik's range equation]: 10 dBm, 6 dBi × 2, 1 m², 5 m, 5.8 GHz → −64.67 dBm.
+        // docs/reference/check-values.md#pc7 [C from Skolnik's range equation]: 10 dBm,
+        // 6 dBi × 2, 1 m², 5 m, 5.8 GHz → −64.67 dBm.
         let g = 10f64.powf(0.6);
         let p = received_power_w(dbm_to_w(10.0), g, g, wavelength_m(5.8e9), 1.0, 5.0);
         let dbm = 10.0 * (p / 1e-3).log10();
@@ -155,7 +156,8 @@ mod tests {
 
     #[test]
     fn a_round_beam_is_the_product_of_its_two_cuts() {
-        // The one-power shortcut for equal widths against cosⁿ(az)·cosⁿ(el) (physics.md §1.2).
+        // The one-power shortcut for equal widths against cosⁿ(az)·cosⁿ(el)
+        // (docs/reference/radar-physics.md#r5).
         let beam = Beam::new(80.0, 80.0, -30.0);
         let n = cos_exponent_for_width(80.0);
         for (f, l, u) in [
@@ -216,7 +218,7 @@ mod tests {
 
     #[test]
     fn beam_exponent_and_half_power_points() {
-        // physics.md check 28 [C]: 80° HPBW → n = 2.601; 60° → 4.82.
+        // docs/reference/check-values.md#pc28 [C]: 80° HPBW → n = 2.601; 60° → 4.82.
         assert!((cos_exponent_for_width(80.0) - 2.601).abs() < 1e-3);
         assert!((cos_exponent_for_width(60.0) - 4.82).abs() < 1e-2);
         let beam = Beam::new(80.0, 40.0, -30.0);

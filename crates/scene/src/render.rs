@@ -77,7 +77,8 @@ impl RadarGeometry {
         }
     }
 
-    /// Range, range rate and IF amplitude of one echo (amplitude ∝ √σ·g/R², physics.md §1.2).
+    /// Range, range rate and IF amplitude of one echo (amplitude ∝ √σ·g/R²,
+    /// docs/reference/radar-physics.md#r4).
     pub fn see(&self, echo: &Echo) -> EchoNode {
         let mut out = Vec::with_capacity(1);
         self.see_all(std::slice::from_ref(echo), &mut out, &mut Vec::new());
@@ -556,7 +557,8 @@ impl EchoGroup {
             let mut i = [0.0; LANES];
             let mut q = [0.0; LANES];
             for lane in 0..LANES {
-                // z = A·e^{−jφ}: an approaching echo (φ falling) turns positive (physics.md §0).
+                // z = A·e^{−jφ}: an approaching echo (φ falling) turns positive
+                // (docs/reference/radar-physics.md#r1).
                 i[lane] = amplitude[lane] * self.phase.value[0][lane];
                 q[lane] = amplitude[lane] * self.phase.value[1][lane];
             }

@@ -595,10 +595,11 @@ impl FromNode for SensorSpec {
         let position_m = f.optional_or("position_m", [0.0, 0.0, 1.0]);
         let azimuth_deg = f.optional_or("azimuth_deg", 0.0);
         let elevation_deg = f.optional_or("elevation_deg", 0.0);
-        // Defaults: an 80° × 40° patch-antenna module (physics.md §1.2 uses the 80° beam);
-        // a −25 dB lobe floor (common practice for small patch arrays); 10 dBm and 6 dBi
-        // per antenna as in physics.md's range-equation example; 7 dB mixer conversion loss
-        // and a 50 Ω load (common practice for single-diode / transistor mixers).
+        // Defaults: an 80° × 40° patch-antenna module (docs/reference/radar-physics.md#r5 uses the
+        // 80° beam); a −25 dB lobe floor (common practice for small patch arrays); 10 dBm and 6 dBi
+        // per antenna as in the range-equation example of docs/reference/radar-physics.md#r4; 7 dB
+        // mixer conversion loss and a 50 Ω load (common practice for single-diode / transistor
+        // mixers).
         let beam_azimuth_3db_deg = f.optional_or("beam_azimuth_3db_deg", 80.0);
         let beam_elevation_3db_deg = f.optional_or("beam_elevation_3db_deg", 40.0);
         let beam_floor_db = f.optional_or("beam_floor_db", -25.0);

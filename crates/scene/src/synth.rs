@@ -1,6 +1,7 @@
 //! The streaming synthesizer: from a drawn scene to ADC samples, block by block.
 //!
-//! Signal chain, in the order things happen in a module (physics.md §1, §4, §5):
+//! Signal chain, in the order things happen in a module (docs/reference/radar-physics.md,
+//! front-end-and-noise.md):
 //! echoes (phase 4πR/λ, amplitude from the range equation and the beam) and the
 //! static DC at the mixer output; noise and interference added there; the
 //! analog band-pass, gain and op-amp swing; sample-and-hold decimation from
