@@ -1,7 +1,7 @@
 //! The ADC: uniform quantization to integer codes with clipping.
 //!
 //! Ideal N-bit converter over a span [low, high]: LSB q = (high − low)/2^N
-//! (physics.md §4: 12 bit at 3.3 V → 0.806 mV). Conversion rounds to the
+//! (docs/reference/front-end-and-noise.md#f8: 12 bit at 3.3 V → 0.806 mV). Conversion rounds to the
 //! nearest level (mid-tread): code k stands for low + k·q, k = 0 … 2^N − 1, so
 //! inside the span the error is uniform on ±q/2 with power q²/12 (Bennett 1948)
 //! and a full-scale sine has SNR 6.02·N + 1.76 dB. Inputs beyond the span clip
@@ -158,7 +158,7 @@ impl Adc {
 }
 
 /// SNR of an ideal N-bit converter for a full-scale sine:
-/// 10·log10(1.5·2^(2N)) = 6.02·N + 1.76 dB (Bennett 1948; physics.md §4:
+/// 10·log10(1.5·2^(2N)) = 6.02·N + 1.76 dB (Bennett 1948; docs/reference/front-end-and-noise.md#f8:
 /// 10/12/16 bit → 62.0/74.0/98.1 dB).
 pub fn ideal_sine_snr_db(bits: u8) -> f64 {
     10.0 * (1.5f64).log10() + 20.0 * f64::from(bits) * 2f64.log10()

@@ -83,7 +83,8 @@ pub struct AnalogChainParams {
     pub high_pass_corners_hz: Vec<f64>,
     /// −3 dB corners of the first-order low-pass sections (C‖R feedback, RC), Hz.
     pub low_pass_corners_hz: Vec<f64>,
-    /// Total voltage gain of the op-amp stages, V/V (60–80 dB is typical, §5).
+    /// Total voltage gain of the op-amp stages, V/V (60–80 dB is typical,
+    /// docs/reference/front-end-and-noise.md#f9).
     pub gain_v_per_v: f64,
     /// DC level of the output, V (mid-rail on a single supply).
     pub output_bias_v: f64,
@@ -266,7 +267,8 @@ impl AnalogChain {
     }
 
     /// Time to discard after power-on or clipping: five time constants
-    /// τ = 1/(2π f_HP) of the lowest high-pass corner, s (physics.md §5:
+    /// τ = 1/(2π f_HP) of the lowest high-pass corner, s
+    /// (docs/reference/front-end-and-noise.md#f11:
     /// 0.5 Hz → τ = 0.318 s, 5τ = 1.6 s); 0 without a high-pass.
     pub fn settling_time_s(&self) -> f64 {
         self.high_pass
@@ -333,7 +335,7 @@ impl Decimator {
 }
 
 /// Chain at f_sim = M·f_s, sample-and-hold every M-th sample, ADC: the whole
-/// acquisition path of physics.md §5's simulation recipe.
+/// acquisition path of the simulation recipe in docs/reference/front-end-and-noise.md#f12.
 #[derive(Debug, Clone, PartialEq)]
 pub struct OversampledFrontEnd {
     chain: AnalogChain,

@@ -1,7 +1,7 @@
 //! The analog front end and the ADC of a CW Doppler motion sensor.
 //!
 //! The module's IF passes a coupling high-pass, op-amp stages with gain and
-//! RC low-passes, and reaches the ADC (physics.md §5): here a cascade of
+//! RC low-passes, and reaches the ADC (docs/reference/front-end-and-noise.md#f9): here a cascade of
 //! [`FirstOrderSection`]s, a voltage gain and a soft-knee output swing limit
 //! ([`AnalogChain`]), then an [`Adc`] that quantizes and clips to its codes.
 //!

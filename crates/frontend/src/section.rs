@@ -15,7 +15,7 @@ pub enum SectionKind {
 
 /// One analog RC stage as a digital first-order section.
 ///
-/// Bilinear transform with pre-warping (physics.md §5, verified there with
+/// Bilinear transform with pre-warping (docs/reference/front-end-and-noise.md#f10, verified with
 /// scipy.signal.bilinear): K = tan(π f_c/f_s), a1 = (K − 1)/(K + 1);
 /// low-pass b0 = b1 = K/(1 + K); high-pass b0 = 1/(1 + K), b1 = −b0;
 /// y[n] = b0·x[n] + b1·x[n−1] − a1·y[n−1]. Pre-warping puts the −3 dB point
@@ -144,7 +144,8 @@ impl FirstOrderSection {
     }
 }
 
-/// Corner of an RC stage, f_c = 1/(2πRC), Hz (physics.md §5: 47 kΩ·10 µF →
+/// Corner of an RC stage, f_c = 1/(2πRC), Hz (docs/reference/front-end-and-noise.md#f9:
+/// 47 kΩ·10 µF →
 /// 0.339 Hz, 100 kΩ·22 nF → 72.3 Hz).
 ///
 /// Non-positive or non-finite R or C give a non-finite or non-positive corner,
@@ -158,9 +159,9 @@ pub fn corner_from_rc_hz(r_ohm: f64, c_farad: f64) -> f64 {
     1.0 / (TAU * r_ohm * c_farad)
 }
 
-/// Where an analog corner `corner_hz` lands if the bilinear transform is used
-/// without pre-warping: (f_s/π)·atan(π f_c/f_s) (frequency warping of the
-/// bilinear transform; physics.md §5: 100 Hz at 1 kHz → 96.89 Hz). Shows why
+/// Where an analog corner `corner_hz` lands if the bilinear transform is used without pre-warping:
+/// (f_s/π)·atan(π f_c/f_s) (frequency warping of the bilinear transform;
+/// docs/reference/front-end-and-noise.md#f10: 100 Hz at 1 kHz → 96.89 Hz). Shows why
 /// [`FirstOrderSection`] pre-warps.
 pub fn bilinear_corner_without_prewarp_hz(corner_hz: f64, sample_rate_hz: f64) -> f64 {
     sample_rate_hz / PI * (PI * corner_hz / sample_rate_hz).atan()

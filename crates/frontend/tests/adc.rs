@@ -1,4 +1,4 @@
-//! The ADC (physics.md §4 "ADC"; check 22).
+//! The ADC (docs/reference/front-end-and-noise.md#f8; check-values.md#pc22).
 
 mod support;
 
@@ -6,7 +6,7 @@ use echobench_frontend::{ideal_sine_snr_db, Adc, AdcCoding};
 use std::f64::consts::PI;
 use support::uniform_input;
 
-/// Check 22: 12 bit over 3.3 V has an LSB of 0.806 mV (q = V_FS/2^N).
+/// docs/reference/check-values.md#pc22: 12 bit over 3.3 V has an LSB of 0.806 mV (q = V_FS/2^N).
 #[test]
 fn lsb_of_12_bit_at_3v3() {
     let adc = Adc::new(12, 3.3).unwrap();
@@ -31,7 +31,8 @@ fn quantization_noise_power_is_q_squared_over_12() {
         assert!((ratio - 1.0).abs() < 0.05, "{bits} bit: {ratio}");
     }
     // A slow sine dithered by 1 LSB RMS of Gaussian-like noise (sum of uniforms)
-    // also gives q²/12: the dither makes the error uniform (common practice, §4).
+    // also gives q²/12: the dither makes the error uniform (common practice,
+    // docs/reference/front-end-and-noise.md#f8).
     let adc = Adc::new(12, 3.3).unwrap();
     let q = adc.lsb_v();
     let dither = uniform_input(400_000, -0.5, 0.5, 77);
@@ -46,8 +47,8 @@ fn quantization_noise_power_is_q_squared_over_12() {
     assert!((power / (q * q / 12.0) - 1.0).abs() < 0.05);
 }
 
-/// Full-scale sine SNR = 6.02·N + 1.76 dB (Bennett 1948; check 22: 12 bit →
-/// 74.0 dB; §4: 10/16 bit → 62.0/98.1 dB).
+/// Full-scale sine SNR = 6.02·N + 1.76 dB (Bennett 1948;
+/// docs/reference/check-values.md#pc22: 12 bit → 74.0 dB, 10/16 bit → 62.0/98.1 dB).
 #[test]
 fn full_scale_sine_snr() {
     for (bits, expected_db) in [(10u8, 62.0), (12, 74.0), (16, 98.1)] {
@@ -74,8 +75,8 @@ fn full_scale_sine_snr() {
     }
 }
 
-/// Inputs beyond the span clip to the end codes (§4: "clip … then ADC codes
-/// [0, 2^N − 1]"); NaN does not panic.
+/// Inputs beyond the span clip to the end codes (docs/reference/front-end-and-noise.md#f8: "clip …
+/// then ADC codes [0, 2^N − 1]"); NaN does not panic.
 #[test]
 fn clipping_at_full_scale() {
     let adc = Adc::new(12, 3.3).unwrap();

@@ -1,4 +1,5 @@
-//! The analog chain, decimation and the oversampled front end (physics.md §5).
+//! The analog chain, decimation and the oversampled front end
+//! (docs/reference/front-end-and-noise.md#f9 to #f12).
 
 mod support;
 
@@ -163,8 +164,8 @@ fn output_swing_soft_knee() {
     assert_eq!(hard.limit(3.29), 3.29);
 }
 
-/// An overdriven chain stays inside the rails (op-amp saturation, §4 "clip in
-/// two places").
+/// An overdriven chain stays inside the rails (op-amp saturation,
+/// docs/reference/front-end-and-noise.md#f8: clipping in two places).
 #[test]
 fn overdriven_chain_stays_within_rails() {
     let params = AnalogChainParams {
@@ -266,7 +267,7 @@ fn decimator_phase_carries_over() {
 
 /// Sampling and holding every M-th sample of the f_sim chain aliases a tone
 /// above f_s/2 into the band at |f − k·f_s|, attenuated by the chain's response
-/// at the original frequency (physics.md §5 recipe: aliasing through the weak
+/// at the original frequency (docs/reference/front-end-and-noise.md#f12: aliasing through the weak
 /// RC anti-alias filter is physical; sampling theorem).
 #[test]
 fn out_of_band_tone_aliases_through_the_weak_low_pass() {
@@ -309,8 +310,8 @@ fn out_of_band_tone_aliases_through_the_weak_low_pass() {
     );
 }
 
-/// §5: 5τ of a 0.5 Hz high-pass is 1.6 s (τ = 0.318 s).
-// τ at 0.5 Hz is 1/π s; physics.md's rounded 0.318 s is checked as written.
+/// docs/reference/front-end-and-noise.md#f11: 5τ of a 0.5 Hz high-pass is 1.6 s (τ = 0.318 s).
+// τ at 0.5 Hz is 1/π s; the reference's rounded 0.318 s is checked as written.
 #[allow(clippy::approx_constant)]
 #[test]
 fn settling_time_of_the_lowest_high_pass() {

@@ -1,5 +1,5 @@
-//! First-order sections and RC corners (physics.md §5; checks 23 and §5 numbers,
-//! computed there and verified with scipy.signal.bilinear).
+//! First-order sections and RC corners (docs/reference/front-end-and-noise.md#f9 and #f10;
+//! check-values.md#pc23 and the other numbers there, verified with scipy.signal.bilinear).
 
 mod support;
 
@@ -25,7 +25,7 @@ fn measured_gain(mut section: FirstOrderSection, f_hz: f64, fs: f64, settle_s: f
     fitted_amplitude(&rows)
 }
 
-/// Check 23: f_s = 1 kHz, f_c = 100 Hz low-pass: K = 0.3249197,
+/// docs/reference/check-values.md#pc23: f_s = 1 kHz, f_c = 100 Hz low-pass: K = 0.3249197,
 /// b0 = b1 = 0.2452373, a1 = −0.5095254, |H(f_c)| = −3.0103 dB.
 #[test]
 fn check_23_low_pass_coefficients_and_corner() {
@@ -44,8 +44,8 @@ fn check_23_low_pass_coefficients_and_corner() {
     );
 }
 
-/// §5: f_s = 1 kHz, f_c = 0.5 Hz high-pass: K = 0.0015708, b0 = 0.9984317,
-/// a1 = −0.9968633; and its −3 dB point measured with a sine.
+/// docs/reference/front-end-and-noise.md#f10: f_s = 1 kHz, f_c = 0.5 Hz high-pass: K = 0.0015708,
+/// b0 = 0.9984317, a1 = −0.9968633; and its −3 dB point measured with a sine.
 #[test]
 fn half_hertz_high_pass() {
     let hp = FirstOrderSection::high_pass(0.5, 1000.0).unwrap();
@@ -61,8 +61,8 @@ fn half_hertz_high_pass() {
     );
 }
 
-/// §5: the 0.5 Hz high-pass at f_sim = 16 kHz has its pole at 0.99980 (why the
-/// states are f64).
+/// docs/reference/front-end-and-noise.md#f10: the 0.5 Hz high-pass at f_sim = 16 kHz has its pole
+/// at 0.99980 (why the states are f64).
 #[test]
 fn high_pass_pole_at_16_khz() {
     let hp = FirstOrderSection::high_pass(0.5, 16_000.0).unwrap();
@@ -70,8 +70,8 @@ fn high_pass_pole_at_16_khz() {
     assert!((pole - 0.99980).abs() < 5e-6, "pole {pole}");
 }
 
-/// §5: without pre-warping, an analog 100 Hz corner lands at 96.89 Hz at 1 kHz;
-/// with pre-warping the section's −3 dB point is exactly 100 Hz.
+/// docs/reference/front-end-and-noise.md#f10: without pre-warping, an analog 100 Hz corner lands at
+/// 96.89 Hz at 1 kHz; with pre-warping the section's −3 dB point is exactly 100 Hz.
 #[test]
 fn prewarping_matters() {
     let unwarped = bilinear_corner_without_prewarp_hz(100.0, 1000.0);
@@ -81,8 +81,8 @@ fn prewarping_matters() {
     assert!((lp.magnitude_at(unwarped) - 0.5f64.sqrt()).abs() > 1e-3);
 }
 
-/// §5: f_c = 1/(2πRC): 47 kΩ·10 µF → 0.339 Hz; 1 MΩ·1 µF → 0.159 Hz;
-/// 100 kΩ·22 nF → 72.3 Hz; 10 kΩ·100 nF → 159 Hz.
+/// docs/reference/front-end-and-noise.md#f9: f_c = 1/(2πRC): 47 kΩ·10 µF → 0.339 Hz; 1 MΩ·1 µF →
+/// 0.159 Hz; 100 kΩ·22 nF → 72.3 Hz; 10 kΩ·100 nF → 159 Hz.
 #[test]
 fn rc_corners() {
     let cases = [
