@@ -302,7 +302,7 @@ fn adc_descriptions_are_checked() {
     assert!(AdcDescription::new(12, 3.3, Some(f64::INFINITY)).is_err());
     let err = AdcDescription::new(12, -1.0, None).unwrap_err().to_string();
     assert!(err.contains("full_scale_v") && err.contains("-1"), "{err}");
-    // physics.md §4 check value: 12 bit over 3.3 V → LSB 0.806 mV.
+    // docs/reference/check-values.md#pc22: 12 bit over 3.3 V → LSB 0.806 mV.
     let adc = adc12();
     assert!((adc.lsb_v() - 0.806e-3).abs() < 1e-6);
     assert_eq!(adc.mid_code(), 2048.0);

@@ -1,14 +1,13 @@
 //! The beat tone of a neighbouring CW sensor.
 //!
-//! Two free-running oscillators near the same carrier couple directly (one-way
-//! path), and the mixer outputs their difference frequency
-//! f_b(t) = Δf0 + (κ1 − κ2)·f0·ΔT(t) (physics.md §4). At 10.525 GHz a 3 ppm/°C
-//! oscillator drifts 31.6 kHz/°C, so f_b is usually far above the IF band, and the
-//! tone shows up only as short chirps when the drifting offset crosses zero. This
-//! generator therefore never clamps f_b into the band: it integrates the phase
-//! φ[n+1] = φ[n] + 2π f_b[n]/f_s continuously (so the chirp through zero
-//! frequency is smooth and the phase reverses as the sign of f_b changes, as
-//! cos(2π∫(f1 − f2)dt) does) and lets the front-end low-pass decide what remains.
+//! Two free-running oscillators near the same carrier couple directly (one-way path), and the mixer
+//! outputs their difference frequency f_b(t) = Δf0 + (κ1 − κ2)·f0·ΔT(t)
+//! (docs/reference/front-end-and-noise.md#f7). At 10.525 GHz a 3 ppm/°C oscillator drifts 31.6
+//! kHz/°C, so f_b is usually far above the IF band, and the tone shows up only as short chirps when
+//! the drifting offset crosses zero. This generator therefore never clamps f_b into the band: it
+//! integrates the phase φ[n+1] = φ[n] + 2π f_b[n]/f_s continuously (so the chirp through zero
+//! frequency is smooth and the phase reverses as the sign of f_b changes, as cos(2π∫(f1 − f2)dt)
+//! does) and lets the front-end low-pass decide what remains.
 //!
 //! Offset drift, one of:
 //! - [`OffsetDrift::Steady`]: constant f_b.

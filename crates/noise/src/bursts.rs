@@ -1,13 +1,12 @@
 //! Impulsive radio bursts: envelope-detected packets of a strong in-band carrier.
 //!
-//! A transistor mixer also works as an envelope detector for a strong carrier in
-//! its band, so each packet of a 2.4 GHz radio appears at the IF as a pulse
-//! (≈ 0.1–5 ms), later shaped by the IF filter (physics.md §4). Model: Poisson
-//! arrivals at `poisson_rate_hz` plus an optional periodic train (the beacon of
-//! an access point: 100 TU = 102.4 ms, IEEE 802.11 TU = 1024 µs; check 20), each
-//! a rectangular pulse of `width_s`. Square-law detection makes the pulse
-//! amplitude proportional to the interferer's received power (common practice),
-//! so a log-normal jitter of that power with standard deviation
+//! A transistor mixer also works as an envelope detector for a strong carrier in its band, so each
+//! packet of a 2.4 GHz radio appears at the IF as a pulse (≈ 0.1–5 ms), later shaped by the IF
+//! filter (docs/reference/front-end-and-noise.md#f6). Model: Poisson arrivals at `poisson_rate_hz`
+//! plus an optional periodic train (the beacon of an access point: 100 TU = 102.4 ms, IEEE 802.11
+//! TU = 1024 µs; docs/reference/check-values.md#pc20), each a rectangular pulse of `width_s`.
+//! Square-law detection makes the pulse amplitude proportional to the interferer's received power
+//! (common practice), so a log-normal jitter of that power with standard deviation
 //! `power_jitter_db` multiplies the amplitude by 10^(σ·z/10), z ~ N(0, 1).
 //!
 //! Pulse edges fall at exact times; each output sample holds the pulse's average

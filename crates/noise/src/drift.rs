@@ -1,14 +1,13 @@
 //! Slow DC drift (temperature) as a smooth second-order random process.
 //!
-//! Temperature drift moves the stationary-clutter phase and the mixer's DC level
-//! slowly (physics.md §4; the IF high-pass removes most of it). It is stated by
-//! its RMS and its correlation time. A plain Ornstein–Uhlenbeck process with
-//! those two numbers has a Lorentzian spectrum whose 1/f² tail would put
-//! tens of µV/√Hz of "drift" into the Hz band, far above a module's noise floor;
-//! a temperature follows its heat source through a thermal lag, so the drift
-//! here is an OU process passed through a first-order lag of the same time
-//! constant: spectrum ∝ 1/(1 + (2πfτ)²)², autocorrelation (1 + |lag|/τ)·e^{−|lag|/τ}
-//! (common practice for a thermally smoothed random walk).
+//! Temperature drift moves the stationary-clutter phase and the mixer's DC level slowly
+//! (docs/reference/front-end-and-noise.md#f3; the IF high-pass removes most of it). It is stated by
+//! its RMS and its correlation time. A plain Ornstein–Uhlenbeck process with those two numbers has
+//! a Lorentzian spectrum whose 1/f² tail would put tens of µV/√Hz of "drift" into the Hz band, far
+//! above a module's noise floor; a temperature follows its heat source through a thermal lag, so
+//! the drift here is an OU process passed through a first-order lag of the same time constant:
+//! spectrum ∝ 1/(1 + (2πfτ)²)², autocorrelation (1 + |lag|/τ)·e^{−|lag|/τ} (common practice for a
+//! thermally smoothed random walk).
 
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, StandardNormal};

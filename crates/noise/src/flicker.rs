@@ -1,7 +1,7 @@
 //! Flicker (1/f) noise: one Gaussian per sample through a pinking filter.
 //!
-//! Target (physics.md §4): one-sided PSD S(f) = S_w·f_c/f, so that white noise of
-//! density² = S_w plus this generator gives S_w·(1 + f_c/f), with f_c the corner.
+//! Target (docs/reference/front-end-and-noise.md#f2): one-sided PSD S(f) = S_w·f_c/f, so that white
+//! noise of density² = S_w plus this generator gives S_w·(1 + f_c/f), with f_c the corner.
 //!
 //! Method: unit white noise w is filtered by a cascade of first-order pole–zero
 //! (shelving) sections whose poles p_k = f_lowest·r^k and zeros z_k = p_k·√r
@@ -637,7 +637,8 @@ fn solve_positive_definite(matrix: &[f64], rhs: &[f64]) -> Option<Vec<f64>> {
 }
 
 /// Kasdin's fractional-integration filter for 1/f^α noise: h_0 = 1,
-/// h_k = h_{k−1}·(k − 1 + α/2)/k (Kasdin, Proc. IEEE 83(5):802–827, 1995; recursion as quoted in physics.md §4).
+/// h_k = h_{k−1}·(k − 1 + α/2)/k (Kasdin, Proc. IEEE 83(5):802–827, 1995;
+/// docs/reference/front-end-and-noise.md#f2).
 /// Filtering unit white noise with these taps gives PSD ∝ 1/f^α; α = 1 gives
 /// 1, 0.5, 0.375, 0.3125, 0.2734375, …; α = 2 gives all ones (a random walk).
 ///

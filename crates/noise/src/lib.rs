@@ -1,10 +1,9 @@
 //! Additive noise and interference at the mixer output of a CW Doppler module.
 //!
-//! Every generator here models one thing that adds to the IF voltage before the
-//! analog front end (physics.md §4): white noise, flicker (1/f) noise, mains hum,
-//! lamp flicker, impulsive radio bursts, a neighbouring sensor's beat tone and
-//! slow DC drift. Each one implements [`AdditiveNoise`]: it adds its next
-//! samples into a caller-owned block.
+//! Every generator here models one thing that adds to the IF voltage before the analog front end
+//! (docs/reference/front-end-and-noise.md#f1 to #f7): white noise, flicker (1/f) noise, mains hum,
+//! lamp flicker, impulsive radio bursts, a neighbouring sensor's beat tone and slow DC drift. Each
+//! one implements [`AdditiveNoise`]: it adds its next samples into a caller-owned block.
 //!
 //! The one design decision: **every generator is a streaming state machine that
 //! advances exactly one sample at a time, in a fixed order of arithmetic and of

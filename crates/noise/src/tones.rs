@@ -1,9 +1,9 @@
 //! Mains hum and lamp flicker: fixed sets of harmonically related tones.
 //!
-//! Mains (physics.md §4): tones at f_m = 50 or 60 Hz and its harmonics (odd ones
-//! from rectifier currents, 2·f_m from full-wave ripple). Gas-discharge lamps:
-//! the plasma's reflectivity is modulated at 2·f_m, so IF tones appear at 2·f_m
-//! and its harmonics (100/200/300 … Hz or 120/240/360 … Hz; check 25).
+//! Mains (docs/reference/front-end-and-noise.md#f4): tones at f_m = 50 or 60 Hz and its harmonics
+//! (odd ones from rectifier currents, 2·f_m from full-wave ripple). Gas-discharge lamps: the
+//! plasma's reflectivity is modulated at 2·f_m, so IF tones appear at 2·f_m and its harmonics
+//! (100/200/300 … Hz or 120/240/360 … Hz; docs/reference/check-values.md#pc25).
 //!
 //! Phases are drawn once from the seed (uniform on [0, 2π)). Harmonics at or
 //! above f_s/2 are left out: the analog chain removes them in the real module,

@@ -1,4 +1,5 @@
-//! Neighbouring-sensor beat tone and slow DC drift (physics.md §4).
+//! Neighbouring-sensor beat tone and slow DC drift
+//! (docs/reference/front-end-and-noise.md#f3 and #f7).
 
 mod support;
 

@@ -1,4 +1,4 @@
-//! Impulsive radio bursts (physics.md §4; check 20).
+//! Impulsive radio bursts (docs/reference/front-end-and-noise.md#f6; check-values.md#pc20).
 
 mod support;
 
@@ -30,7 +30,7 @@ fn onsets_s(signal: &[f64], amplitude_v: f64, fs: f64) -> Vec<f64> {
     onsets
 }
 
-/// Check 20: the beacon train has a 102.4 ms period (100 TU, IEEE 802.11
+/// docs/reference/check-values.md#pc20: the beacon train has a 102.4 ms period (100 TU, IEEE 802.11
 /// TU = 1024 µs), i.e. lines at multiples of 9.766 Hz.
 #[test]
 fn beacon_period_is_102_4_ms() {

@@ -1,6 +1,6 @@
 //! Flicker generator: stationary from the first sample, the realized spectrum
 //! against S_w·f_c/f up to the top of the band, and a speed report
-//! (physics.md §4).
+//! (docs/reference/front-end-and-noise.md#f2).
 
 mod support;
 

@@ -1,4 +1,5 @@
-//! PSD checks of the white and flicker generators (physics.md §4).
+//! PSD checks of the white and flicker generators
+//! (docs/reference/front-end-and-noise.md#f1 and #f2).
 
 mod support;
 
@@ -73,7 +74,7 @@ fn log_log_slope(bands: &[(f64, f64)]) -> f64 {
 }
 
 /// Flicker PSD S_w·f_c/f: log-log slope −1 ± 0.15 below the corner
-/// (physics.md §4, Kasdin 1995 for the 1/f^α form with α = 1).
+/// (docs/reference/front-end-and-noise.md#f2, Kasdin 1995 for the 1/f^α form with α = 1).
 #[test]
 fn flicker_slope_is_minus_one_below_corner() {
     let fs = 4000.0;
@@ -85,7 +86,7 @@ fn flicker_slope_is_minus_one_below_corner() {
 }
 
 /// The flicker PSD crosses the white level S_w at f_c (±20 %), and white plus
-/// flicker follows S_w·(1 + f_c/f) (physics.md §4).
+/// flicker follows S_w·(1 + f_c/f) (docs/reference/front-end-and-noise.md#f2).
 #[test]
 fn flicker_meets_white_at_the_corner() {
     let fs = 4000.0;
@@ -139,8 +140,8 @@ fn flicker_meets_white_at_the_corner() {
     }
 }
 
-/// Check 26: Kasdin's α = 1 taps 1, 0.5, 0.375, 0.3125, 0.2734375
-/// (Kasdin, Proc. IEEE 83(5), 1995; values computed in physics.md §6).
+/// docs/reference/check-values.md#pc26: Kasdin's α = 1 taps 1, 0.5, 0.375, 0.3125, 0.2734375
+/// (Kasdin, Proc. IEEE 83(5), 1995; values computed there).
 #[test]
 fn kasdin_taps_match_check_26() {
     let taps = kasdin_taps(1.0, 5).unwrap();

@@ -1,5 +1,5 @@
-//! Mains hum and lamp flicker lines (physics.md §4, check 25: 50, 100, 150 … Hz /
-//! 60, 120, 180 … Hz; lamp at 2·f_m; common practice).
+//! Mains hum and lamp flicker lines (docs/reference/front-end-and-noise.md#f4,
+//! check-values.md#pc25: 50, 100, 150 … Hz / 60, 120, 180 … Hz; lamp at 2·f_m; common practice).
 
 mod support;
 
