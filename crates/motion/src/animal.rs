@@ -4,13 +4,14 @@
 //!
 //! * **Stride frequency** from body mass, f = 1.62·M^−0.15 Hz (preferred-gait
 //!   stride frequency of mammals, Sci. Rep. 6:28825, 2016, Fig. 2 fit;
-//!   physics.md §3), unless given.
+//!   docs/reference/nuisances.md#n5), unless given.
 //! * **Body RCS** from mass, unless given: RCS roughly proportional to body
 //!   mass, as Schultz, Burgener & King (Proc. IRE 46, 1958) observed for men,
 //!   extrapolated down to pets — σ = 0.5 m² × M / 90.7 kg (0.5 m² the scenario
-//!   default for a person, physics.md §1.3; 90.7 kg = the 200 lb subject). This
+//!   default for a person, docs/reference/radar-physics.md#r7; 90.7 kg = the 200 lb subject). This
 //!   is an extrapolation, not a measurement; it gives 0.022 m² for a 4 kg cat
-//!   and 0.11 m² for a 20 kg dog, inside the ranges physics.md §3 suggests.
+//!   and 0.11 m² for a 20 kg dog, inside the ranges of
+//!   docs/reference/nuisances.md#n5.
 //! * **Legs** (no source for the kinematics): a trot, diagonal pairs in phase
 //!   (left fore with right hind). Each paw moves fore-aft relative to its hip
 //!   as A·sin(2πφ), A = v/(2π f), so that in the backward half of the cycle its
@@ -292,7 +293,7 @@ mod tests {
     #[test]
     fn stride_law_matches_the_reference_values() {
         // f = 1.62·M^−0.15 (Sci. Rep. 6:28825, 2016) → 1.32 / 1.15 / 0.97 Hz at
-        // 4 / 10 / 30 kg (physics.md §3 [C]).
+        // 4 / 10 / 30 kg (docs/reference/nuisances.md#n5 [C]).
         for (mass, expected) in [(4.0, 1.32), (10.0, 1.15), (30.0, 0.97)] {
             assert!(
                 (stride_frequency_hz(mass) - expected).abs() < 0.005,
@@ -311,7 +312,7 @@ mod tests {
 
     #[test]
     fn default_rcs_falls_in_the_suggested_pet_ranges() {
-        // physics.md §3 (extrapolation, no measurement): cat 4 kg ≈ 0.02–0.05 m²,
+        // docs/reference/nuisances.md#n5 (extrapolation, no measurement): cat 4 kg ≈ 0.02–0.05 m²,
         // dog 20 kg ≈ 0.1–0.3 m².
         assert!((0.02..=0.05).contains(&body_rcs_from_mass_m2(4.0)));
         assert!((0.1..=0.3).contains(&body_rcs_from_mass_m2(20.0)));

@@ -7,12 +7,12 @@
 //! * **Breathing** moves the chest along the facing axis with a non-sinusoidal
 //!   periodic waveform: a half-cosine rise over the inhale fraction of the
 //!   cycle and a half-cosine fall over the rest. The inhale fraction ≈ 0.4 is
-//!   from memory (physics.md §2.4); with fraction 0.5 the waveform is an
+//!   from memory (docs/reference/people.md#p6); with fraction 0.5 the waveform is an
 //!   exact sinusoid. Resting rate 12–20 breaths/min (clinical norm, common
 //!   practice); chest-wall displacement 4–12 mm peak-to-peak (from memory,
 //!   after Droitcour et al., IEEE T-MTT 52(3), 2004).
 //! * **Heartbeat** adds a sinusoidal chest displacement, 0.2–0.5 mm at
-//!   1.0–1.7 Hz (from memory, physics.md §2.4).
+//!   1.0–1.7 Hz (from memory, docs/reference/people.md#p6).
 //! * **Fidgets** (no source): smooth out-and-back displacements of the torso or
 //!   of the arm/hand (equally likely), 1–5 cm over 0.5–2 s, along a random
 //!   direction, with a sin² profile. A person does one such movement at a
@@ -131,7 +131,7 @@ impl BreathingParams {
     /// the 0.2–0.5 mm, 1.0–1.7 Hz ranges, from memory), no fidgets (set
     /// `fidget_rate_per_min` to enable them; the 1–5 cm, 0.5–2 s ranges have no
     /// source). Chest RCS 0.211 m²: the broadside ellipsoid torso of a 1.8 m
-    /// person (physics.md check 10, Chen 2011). Hand resting 0.3 m in front of
+    /// person (docs/reference/check-values.md#pc10, Chen 2011). Hand resting 0.3 m in front of
     /// and 0.3 m below the chest, σ = 0.02 m² (no source). Present throughout.
     pub fn seated_adult(position_m: [f64; 2], chest_height_m: f64, facing_rad: f64) -> Self {
         BreathingParams {
@@ -662,7 +662,7 @@ mod tests {
 
     #[test]
     fn inhale_takes_the_given_fraction_of_the_cycle() {
-        // Inhale ≈ 40 % of the cycle (physics.md §2.4, from memory): time from
+        // Inhale ≈ 40 % of the cycle (docs/reference/people.md#p6, from memory): time from
         // the displacement minimum to the maximum is 0.4 of the period.
         let model = Breathing::new(quiet(), [1; 32]).unwrap();
         let period = 4.0;
@@ -693,7 +693,7 @@ mod tests {
 
     #[test]
     fn even_split_is_the_sinusoid_of_the_reference_check() {
-        // physics.md §2.4 check [C]: 5 mm p-p at 0.25 Hz (sinusoid) → peak
+        // docs/reference/people.md#p6 check [C]: 5 mm p-p at 0.25 Hz (sinusoid) → peak
         // velocity 3.93 mm/s → peak |f_d| 0.632 Hz at 24.125 GHz.
         let params = BreathingParams {
             rate_per_min: 15.0,
@@ -829,7 +829,7 @@ mod tests {
     #[test]
     fn node_rate_keeps_interpolated_phase_accurate() {
         // At 24.125 GHz, where breathing spans several IF cycles (m = 2.5 rad,
-        // physics.md check 15), fidgets included.
+        // docs/reference/check-values.md#pc15), fidgets included.
         let lambda = 299_792_458.0 / 24.125e9;
         let make = || -> Box<dyn MotionModel> {
             Box::new(

@@ -1,4 +1,5 @@
-//! A door: a rigid plate turning about a vertical hinge (physics.md §3).
+//! A door: a rigid plate turning about a vertical hinge
+//! (docs/reference/nuisances.md#n6).
 //!
 //! Points at distance r along the width sit at
 //! p(t) = hinge + r·(cos ψ(t), sin ψ(t)), at mid-height. The opening angle
@@ -6,7 +7,7 @@
 //! `open_start_s`, and optionally back again, with a raised-cosine profile
 //! ψ = ψ₀ + (ψ₁−ψ₀)·(1 − cos πu)/2, u ∈ [0, 1]: zero speed at both ends, and a
 //! peak angular rate π/2 times the mean. (A 0.9 m door opened by 90° in 1.5 s
-//! has a mean edge speed of 0.94 m/s, physics.md §3; the peak here is 1.48 m/s.)
+//! has a mean edge speed of 0.94 m/s, docs/reference/nuisances.md#n6; the peak here is 1.48 m/s.)
 //!
 //! Echoes:
 //! * [`DOOR_EDGE_POINTS`] points at r = w/4, w/2, 3w/4 and w carry the edge,
@@ -16,7 +17,8 @@
 //!   amplitude is √σ_peak·sinc((2πw/λ)·sin θ), σ_peak = 4πA²/λ² (Skolnik;
 //!   Knott), θ the horizontal angle between the line of sight and the plate
 //!   normal: the far-field pattern of a plate of width w, kept only inside its
-//!   main lobe |sin θ| < λ/(2w), an angular window ≈ λ/w (physics.md §3), and
+//!   main lobe |sin θ| < λ/(2w), an angular window ≈ λ/w
+//!   (docs/reference/nuisances.md#n6), and
 //!   zero outside. Vertically the plate is treated as near-field: the flash
 //!   exists only if the sensor height lies within the door's height (the
 //!   mirror point is then on the plate), and its level is capped at the
@@ -330,7 +332,7 @@ mod tests {
 
     #[test]
     fn edge_speed_matches_the_reference_and_the_stated_profile() {
-        // physics.md §3 [C]: 0.9 m door, 90° in 1.5 s → mean edge speed 0.94 m/s
+        // docs/reference/nuisances.md#n6 [C]: 0.9 m door, 90° in 1.5 s → mean edge speed 0.94 m/s
         // (= w·Δψ/T, profile-independent). Raised-cosine profile: peak = π/2 × mean.
         let lambda = C / 5.8e9;
         let mut model = Door::new(door(), lambda).unwrap();
@@ -398,7 +400,8 @@ mod tests {
     #[test]
     fn specular_flash_reaches_the_plate_peak_only_near_normal_incidence() {
         // σ = 4πA²/λ² (Skolnik; Knott): 0.9 × 2.0 m at 2.45 GHz → 34.3 dBsm,
-        // at 5.8 GHz → 41.8 dBsm (physics.md §3 [C]); window ≈ λ/w (physics.md §3).
+        // at 5.8 GHz → 41.8 dBsm (docs/reference/nuisances.md#n6 [C]); window ≈ λ/w (same
+        // section).
         for (f0, peak_dbsm) in [(2.45e9, 34.3), (5.8e9, 41.8)] {
             let lambda = C / f0;
             let (model, trace) = flash(lambda);

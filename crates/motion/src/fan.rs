@@ -2,7 +2,7 @@
 //!
 //! Blade k of a rotor turning at Ω = 2π·f_rot returns (Chen & Ling,
 //! *Time-Frequency Transforms for Radar Imaging and Signal Analysis*, Artech
-//! 2002, eq. 8.19, physics.md §3):
+//! 2002, eq. 8.19, docs/reference/nuisances.md#n2):
 //!
 //! ```text
 //! s_k(t) = (r₂−r₁)·exp(−j(4π/λ)·r̄·ℓ_k)·sinc((4π/λ)·((r₂−r₁)/2)·ℓ_k),   sinc x = sin x / x
@@ -27,7 +27,8 @@
 //! Blade pitch (twist about the blade's own axis) does not enter the thin-line
 //! model and is not modelled. The hub echo whirls in the rotor plane at f_rot
 //! (imbalance) and vibrates along the axis at 2·f_mains (motor
-//! magnetostriction), both from memory (physics.md §3); the whole rotor moves
+//! magnetostriction), both from memory
+//! (docs/reference/nuisances.md#n2); the whole rotor moves
 //! with the hub.
 //!
 //! # Switching on and off
@@ -166,7 +167,8 @@ impl Fan {
     /// use echobench_motion::fan::{Fan, FanParams};
     /// use echobench_motion::MotionModel;
     ///
-    /// // Desk fan, 3 blades to r = 0.15 m, 1200 rpm, at 5.8 GHz (physics.md check 18).
+    /// // Desk fan, 3 blades to r = 0.15 m, 1200 rpm, at 5.8 GHz
+    /// // (docs/reference/check-values.md#pc18).
     /// let lambda = 299_792_458.0 / 5.8e9;
     /// let params = FanParams::rotor([0.0, 0.0, 1.0], [1.0, 0.0, 0.0], 3, 0.03, 0.15, 20.0, 0.01);
     /// let fan = Fan::new(params, lambda)?;
@@ -542,7 +544,7 @@ mod tests {
 
     const C: f64 = 299_792_458.0;
 
-    /// A desk fan of physics.md check 18: r₂ = 0.15 m, 1200 rpm; axis along +x,
+    /// A desk fan of docs/reference/check-values.md#pc18: r₂ = 0.15 m, 1200 rpm; axis along +x,
     /// hub 1 m above the floor.
     fn desk_fan(blades: usize) -> FanParams {
         FanParams::rotor(
@@ -568,8 +570,8 @@ mod tests {
 
     #[test]
     fn tip_doppler_bound_matches_check_18() {
-        // physics.md check 18 [C]: 0.15 m, 1200 rpm, 5.8 GHz → tip 18.85 m/s → 729.4 Hz;
-        // bound ±2Ωr₂cosβ/λ (Chen & Ling 2002).
+        // docs/reference/check-values.md#pc18 [C]: 0.15 m, 1200 rpm, 5.8 GHz → tip 18.85 m/s →
+        // 729.4 Hz; bound ±2Ωr₂cosβ/λ (Chen & Ling 2002).
         let lambda = C / 5.8e9;
         let fan = Fan::new(desk_fan(3), lambda).unwrap();
         assert!((fan.tip_speed_mps() - 18.85).abs() < 0.005);
@@ -581,7 +583,8 @@ mod tests {
             let d = 2.0 * Fan::new(desk_fan(3), l).unwrap().max_speed_mps() / l;
             assert!((d - expected).abs() < 1.0, "{d} vs {expected}");
         }
-        // Flash duration 2.7 ms at 5.8 GHz for a 0.15 m blade (physics.md §3 [C]).
+        // Flash duration 2.7 ms at 5.8 GHz for a 0.15 m blade
+        // (docs/reference/nuisances.md#n2 [C]).
         let full_blade = Fan::new(
             FanParams {
                 root_radius_m: 0.0,
@@ -720,7 +723,7 @@ mod tests {
 
     #[test]
     fn flashes_per_revolution_are_n_for_even_and_2n_for_odd_blade_counts() {
-        // From memory (Chen 2011), physics.md §3 [M]: N flashes per revolution
+        // From memory (Chen 2011), docs/reference/nuisances.md#n2 [M]: N flashes per revolution
         // for even N, 2N for odd N.
         for sensor in [sensor_at(3.0, 0.0), sensor_at(3.0, 0.6)] {
             for blades in 2..=7 {

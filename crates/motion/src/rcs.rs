@@ -40,7 +40,8 @@ mod tests {
 
     #[test]
     fn torso_ellipsoid_matches_reference_check_values() {
-        // physics.md check 10 [C]: a = b = 0.15 m, c = 0.259 m: broadside 0.2111 m², end-on 0.02367 m².
+        // docs/reference/check-values.md#pc10 [C]: a = b = 0.15 m, c = 0.259 m: broadside
+        // 0.2111 m², end-on 0.02367 m².
         let broadside = ellipsoid_rcs_m2(0.15, 0.15, 0.259, std::f64::consts::FRAC_PI_2, 0.0);
         let end_on = ellipsoid_rcs_m2(0.15, 0.15, 0.259, 0.0, 0.0);
         assert!((broadside - 0.2111).abs() < 5e-4, "{broadside}");
@@ -64,7 +65,7 @@ mod tests {
 
     #[test]
     fn door_plate_peak_rcs_matches_reference() {
-        // physics.md §3 [C]: 0.9 × 2.0 m door at 2.45 GHz → 34.3 dBsm.
+        // docs/reference/nuisances.md#n6 [C]: 0.9 × 2.0 m door at 2.45 GHz → 34.3 dBsm.
         let lambda = 299_792_458.0 / 2.45e9;
         let db = 10.0 * flat_plate_peak_rcs_m2(1.8, lambda).log10();
         assert!((db - 34.3).abs() < 0.05, "{db}");

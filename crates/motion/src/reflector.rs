@@ -638,7 +638,7 @@ mod tests {
 
     #[test]
     fn node_rate_keeps_interpolated_phase_accurate() {
-        // 24.125 GHz (λ = 12.427 mm, physics.md check 1), shaker at 1 mm, 10 Hz:
+        // 24.125 GHz (λ = 12.427 mm, docs/reference/check-values.md#pc1), shaker at 1 mm, 10 Hz:
         // Hermite nodes at the declared rate stay within the phase tolerance
         // except across the speed steps, bounded by π/8 rad.
         let lambda = 299_792_458.0 / 24.125e9;

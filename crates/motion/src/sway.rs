@@ -1,7 +1,7 @@
 //! A swaying object (potted plant, curtain, hanging sign, lamp) moved by gusts.
 //!
 //! The displacement x(t) of the object's tip obeys a driven damped oscillator
-//! (physics.md §3, common practice):
+//! (docs/reference/nuisances.md#n1, common practice):
 //!
 //! ```text
 //! ẍ + 2ζω₀ẋ + ω₀²x = w(t),     dw = −ω_c·w·dt + q·dW
@@ -60,7 +60,7 @@ const SPEED_BOUND_SIGMAS: f64 = 8.0;
 /// # Example
 /// ```
 /// use echobench_motion::sway::pendulum_natural_frequency_hz;
-/// // physics.md check 17: L = 0.5 m → 0.7048 Hz.
+/// // docs/reference/check-values.md#pc17: L = 0.5 m → 0.7048 Hz.
 /// let f0 = pendulum_natural_frequency_hz(0.5)?;
 /// assert!((f0 - 0.7048).abs() < 1e-4);
 /// # Ok::<(), echobench_motion::reflector::ParamError>(())
@@ -566,7 +566,8 @@ mod tests {
 
     #[test]
     fn pendulum_frequency_matches_check_17() {
-        // physics.md check 17 [C]: L = 0.5 m → 0.7048 Hz; §3: 0.25/1/2 m → 0.997/0.498/0.352 Hz.
+        // docs/reference/check-values.md#pc17 [C]: L = 0.5 m → 0.7048 Hz; 0.25/1/2 m →
+        // 0.997/0.498/0.352 Hz.
         let f = |l: f64| pendulum_natural_frequency_hz(l).unwrap();
         assert!((f(0.5) - 0.7048).abs() < 1e-4, "{}", f(0.5));
         assert!((f(0.25) - 0.997).abs() < 1e-3);
@@ -638,7 +639,7 @@ mod tests {
 
     #[test]
     fn spectrum_peaks_at_f0_with_width_two_zeta_f0_and_rms_on_target() {
-        // physics.md §3 [CP]: narrowband motion at f₀ with −3 dB width ≈ 2ζf₀
+        // docs/reference/nuisances.md#n1 [CP]: narrowband motion at f₀ with −3 dB width ≈ 2ζf₀
         // (exact half-power width of the oscillator for ζ = 0.05: 0.1003·f₀).
         let rate_hz = 8.0;
         let x = tip_series(plant(), 11, rate_hz, 32_768.0);

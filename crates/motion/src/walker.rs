@@ -582,7 +582,7 @@ mod tests {
 
     #[test]
     fn doppler_of_a_walker_heading_at_the_sensor_matches_the_reference_ranges() {
-        // physics.md §2.2 [C, Boulic model]: v = 1.4 m/s straight at the sensor,
+        // docs/reference/people.md#p4 [C, Boulic model]: v = 1.4 m/s straight at the sensor,
         // torso 19–27 / 45–64 / 81–116 / 185–266 Hz and toe up to 97 / 229 / 415 /
         // 951 Hz at 2.45 / 5.8 / 10.525 / 24.125 GHz (±10 %). The echoes sit at
         // segment centres: the foot-centre echo is the fastest, a little slower
@@ -920,8 +920,9 @@ mod tests {
     #[test]
     fn amplitudes_follow_the_ellipsoid_rcs_and_the_scale() {
         // Standing (mid-pause) torso seen broadside at its own height: σ = πc² with
-        // c = 0.288·H/2 = 0.2592 m (H = 1.8 m) → 0.2111 m² (physics.md check 10,
-        // Chen 2011 ellipsoid); amplitude √σ ∝ √(rcs_scale) (physics.md §6 property b).
+        // c = 0.288·H/2 = 0.2592 m (H = 1.8 m) → 0.2111 m² (check-values.md#pc10,
+        // Chen 2011 ellipsoid); amplitude √σ ∝ √(rcs_scale) (docs/reference/radar-physics.md#r9,
+        // property b).
         let pause = vec![Pause {
             at_s: 2.0,
             duration_s: 4.0,
@@ -943,7 +944,8 @@ mod tests {
         for (x, y) in a.iter().zip(b.iter()) {
             assert!((y.amplitude_m - 2.0 * x.amplitude_m).abs() < 1e-12);
         }
-        // Seen from straight above, the torso is end-on: πa⁴/c² = 0.02367 m² (check 10).
+        // Seen from straight above, the torso is end-on: πa⁴/c² = 0.02367 m²
+        // (docs/reference/check-values.md#pc10).
         let torso_echo = a[torso];
         a.clear();
         unit.echoes(4.0, [torso_echo.position_m[0], 0.0, 10.0], &mut a);
