@@ -1,6 +1,6 @@
-//! Behaviour of the `band-ratio` detector: the reference pipeline's scores,
-//! the F law of the mean ratio in white noise (detection.md §1, CV15), block
-//! invariance and the edge cases every detector must survive.
+//! Behaviour of the `band-ratio` detector: the reference pipeline's scores, the F law of the mean
+//! ratio in white noise (docs/reference/detectors.md#d3, check-values.md#cv15), block invariance
+//! and the edge cases every detector must survive.
 
 use echobench_core::detector::{check_scores, test_stream, DetectorPlugin, ParamValue, Params};
 use echobench_core::{Channels, Score, StreamInfo};
@@ -65,7 +65,8 @@ fn noise(seed: u8, len: usize, sigma: f64) -> Vec<f32> {
         .collect()
 }
 
-/// |x̂ − x| ≤ 4.5·√(x(1−x)/M): the Monte Carlo acceptance band of detection.md §6.
+/// |x̂ − x| ≤ 4.5·√(x(1−x)/M): the Monte Carlo acceptance band of
+/// docs/reference/statistics.md#s9.
 fn assert_rate_within(measured: f64, expected: f64, trials: usize, what: &str) {
     let half_width = 4.5 * (expected * (1.0 - expected) / trials as f64).sqrt();
     assert!(
@@ -76,7 +77,7 @@ fn assert_rate_within(measured: f64, expected: f64, trials: usize, what: &str) {
 
 // ---------------------------------------------------------------- reference pipeline
 
-/// The numpy reference pipeline (bench README §3(c); fixture README): Hann
+/// The numpy reference pipeline (docs/reference/detectors.md#d9; fixture README): Hann
 /// 256/128, Σ P over 10–80 Hz ÷ Σ P over 100–400 Hz; each trial's score is its
 /// maximum over frames. Must agree to 1e-9 relative.
 #[test]
@@ -155,8 +156,8 @@ fn exceedances(scores: &[Score], threshold: f64) -> f64 {
     scores.iter().filter(|s| s.value >= threshold).count() as f64 / scores.len() as f64
 }
 
-/// detection.md §1 and CV15: with iid exponential bins the mean ratio over
-/// m = 8 and n = 32 bins is F(16, 64) under H0; `f.isf(1e-3, 16, 64)` = 2.978561.
+/// docs/reference/detectors.md#d3 and check-values.md#cv15: with iid exponential bins the mean
+/// ratio over m = 8 and n = 32 bins is F(16, 64) under H0; `f.isf(1e-3, 16, 64)` = 2.978561.
 #[test]
 fn mean_ratio_of_white_noise_follows_the_f_law() {
     let info = test_stream(1280.0);
@@ -207,7 +208,7 @@ fn mean_ratio_of_white_noise_follows_the_f_law() {
     );
 }
 
-/// CV15: a Gaussian motion signal with per-bin mean SNR S over the m bins makes
+/// check-values.md#cv15: a Gaussian motion signal with per-bin mean SNR S over the m bins makes
 /// the motion bins exponential with mean σ²(1+S), so Pd = F.sf(t/(1+S)) = 0.131750 at S = 0 dB.
 #[test]
 fn detection_of_a_gaussian_motion_signal_follows_the_scaled_f_law() {
@@ -293,7 +294,7 @@ fn iq_mean_ratio_counts_both_doppler_signs() {
     );
 }
 
-/// detection.md §2.4: Hann makes adjacent bins correlated (|ρ|² = 4/9), so the
+/// docs/reference/detectors.md#d7: Hann makes adjacent bins correlated (|ρ|² = 4/9), so the
 /// F threshold no longer gives its nominal Pfa (numpy, 2e5 frames: 0.011 at a
 /// nominal 1e-3, 0.103 at 0.05). The harness must calibrate empirically.
 #[test]
@@ -581,10 +582,10 @@ fn cost_counts_the_buffers_and_the_fft() {
 
 // ---------------------------------------------------------------- m/s defaults
 
-/// With no parameter set, a tone at a walker's torso line (1.3 m/s head-on: 2v/λ =
-/// 21.25 Hz at 2.45 GHz, 209.2 Hz at 24.125 GHz; physics.md §1, 16.345 and 160.945 Hz
-/// per m/s) lands in the motion band at both carriers, and scores far above the same
-/// tone moved to a fan's blade-tip speed (12 m/s, physics.md §3, inside the reference band).
+/// With no parameter set, a tone at a walker's torso line (1.3 m/s head-on: 2v/λ = 21.25 Hz at 2.45
+/// GHz, 209.2 Hz at 24.125 GHz; docs/reference/radar-physics.md#r8, 16.345 and 160.945 Hz per m/s)
+/// lands in the motion band at both carriers, and scores far above the same tone moved to a fan's
+/// blade-tip speed (12 m/s, docs/reference/nuisances.md#n2, inside the reference band).
 #[test]
 fn speed_defaults_find_the_torso_line_at_both_carriers() {
     for carrier_hz in [2.45e9, 24.125e9] {

@@ -43,7 +43,7 @@ pub(crate) fn ratio_to_mean(cut_power: f64, training_sum: f64, cells: usize) -> 
 ///
 /// ```
 /// use echobench_detector_ca_cfar::ca_multiplier;
-/// // detection.md CV7.
+/// // docs/reference/check-values.md#cv7.
 /// assert!((ca_multiplier(16, 1e-3) - 8.638824).abs() < 1e-6);
 /// ```
 pub fn ca_multiplier(n: usize, pfa: f64) -> f64 {

@@ -6,13 +6,13 @@ use statrs::distribution::{ContinuousCDF, FisherSnedecor};
 
 #[test]
 fn multipliers_match_cv7_and_the_table() {
-    // detection.md CV7 (Finn & Johnson 1968; Richards 2014 eq. 6.135), to 1e-6.
+    // docs/reference/check-values.md#cv7 (Finn & Johnson 1968; Richards 2014 eq. 6.135), to 1e-6.
     let cv7 = [
         (16, 1e-3, 8.638824),
         (24, 1e-6, 18.678706),
         (32, 1e-4, 10.672686),
     ];
-    // detection.md §2.1 table, more rows of the same formula [C].
+    // docs/reference/detectors.md#d4 table, more rows of the same formula [C].
     let table = [
         (8, 1e-3, 10.970990),
         (8, 1e-6, 36.987306),
@@ -41,7 +41,7 @@ fn pfa_inverts_the_multiplier() {
 #[test]
 fn many_cells_approach_the_known_noise_threshold() {
     // Richards 2014 §6.5.3: as N → ∞ the CA threshold tends to the ideal
-    // known-noise one, −ln Pfa (detection.md §2.1 table, row ∞: 6.907755).
+    // known-noise one, −ln Pfa (docs/reference/detectors.md#d4 table, row ∞: 6.907755).
     let alpha = ca_multiplier(10_000_000, 1e-3);
     assert!((alpha - 6.907755).abs() < 1e-5, "{alpha}");
     assert!((alpha - 1e-3f64.ln().abs()).abs() < 1e-5);
@@ -49,7 +49,7 @@ fn many_cells_approach_the_known_noise_threshold() {
 
 #[test]
 fn pfa_is_the_f_distribution_tail() {
-    // detection.md §1 band-ratio note: CA-CFAR is the m = 1 band ratio, so
+    // docs/reference/detectors.md#d3: CA-CFAR is the m = 1 band ratio, so
     // P(CUT/mean ≥ α) = sf of F(2, 2N) at α = (1 + α/N)^(−N).
     for n in [4usize, 16, 24, 32] {
         let f = FisherSnedecor::new(2.0, 2.0 * n as f64).unwrap();

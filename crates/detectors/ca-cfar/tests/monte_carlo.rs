@@ -2,7 +2,7 @@
 //! Pfa = (1 + α/N)^(−N) (Finn & Johnson 1968; Richards 2014 eq. 6.134).
 //!
 //! Every check is seeded and asserts |p̂ − p| ≤ 4.5·√(p(1 − p)/M), the
-//! interval of detection.md §6 (false-failure chance 6.8e-6 per check if a
+//! interval of docs/reference/statistics.md#s9 (false-failure chance 6.8e-6 per check if a
 //! seed ever changes).
 
 use echobench_core::detector::{test_stream, Detector};
@@ -25,7 +25,7 @@ fn assert_in_interval(hits: usize, trials: usize, p: f64, what: &str) {
 #[test]
 fn exponential_cells_follow_the_closed_form() {
     // Independent unit-mean exponential cells: the square-law output of
-    // complex Gaussian noise (detection.md §0).
+    // complex Gaussian noise (docs/reference/detectors.md#d1).
     const TRIALS: usize = 200_000;
     let mut rng = ChaCha8Rng::from_seed([7; 32]);
     for n in [16usize, 32] {
@@ -135,7 +135,7 @@ fn iq_frames_test_both_doppler_signs_independently() {
 
 #[test]
 fn hann_cells_are_correlated_and_break_the_nominal_rate() {
-    // detection.md §2.4 [MC]: Hann, guard 2, contiguous 8 + 8 training bins,
+    // docs/reference/detectors.md#d7 [MC]: Hann, guard 2, contiguous 8 + 8 training bins,
     // nominal Pfa 1e-3 measures about 2.2e-3: fewer effective cells. Checked
     // here as "clearly above the nominal interval", which is what the crate
     // doc promises (the harness must calibrate empirically).

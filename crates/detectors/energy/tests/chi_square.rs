@@ -1,8 +1,8 @@
-//! The energy statistic in white Gaussian noise (detection.md §1; Urkowitz 1967;
+//! The energy statistic in white Gaussian noise (docs/reference/detectors.md#d2; Urkowitz 1967;
 //! Kay 1998 Vol. II): with N samples per frame and known σ², N·score/σ² ~ χ²_N
 //! for real samples and ~ Gamma(N, 1) for complex samples of total variance σ².
 //! Thresholds come from `statrs` quantiles; the measured per-frame Pfa must lie
-//! within |p̂ − p| ≤ 4.5·√(p(1 − p)/M) (detection.md §6).
+//! within |p̂ − p| ≤ 4.5·√(p(1 − p)/M) (docs/reference/statistics.md#s9).
 
 use echobench_core::detector::{test_stream, DetectorPlugin, ParamValue, Params};
 use echobench_core::{Channels, Score, StreamInfo};
@@ -14,8 +14,8 @@ use statrs::distribution::{ChiSquared, ContinuousCDF, Gamma};
 
 #[test]
 fn check_values_cv1_and_cv2_agree_with_statrs() {
-    // CV1: chi2.isf(1e-3, 16) = 39.252355; CV2: gamma.isf(1e-3, 16) = 31.243610
-    // (detection.md §6, computed there with scipy), to 1e-6 relative.
+    // cv1: chi2.isf(1e-3, 16) = 39.252355; cv2: gamma.isf(1e-3, 16) = 31.243610
+    // (docs/reference/check-values.md#cv1 and #cv2, computed with scipy), to 1e-6 relative.
     let chi2 = ChiSquared::new(16.0)
         .expect("valid dof")
         .inverse_cdf(1.0 - 1e-3);
@@ -97,7 +97,7 @@ fn real_noise_pfa_matches_the_chi_square_quantile() {
 
 #[test]
 fn complex_noise_pfa_matches_the_gamma_quantile() {
-    // CN(0, σ²): σ²/2 per rail (detection.md §0).
+    // CN(0, σ²): σ²/2 per rail (docs/reference/detectors.md#d1).
     let n = 16;
     let sigma2: f64 = 2.0e-4;
     let info = StreamInfo {

@@ -1,7 +1,7 @@
 //! Cross-check against the numpy reference pipeline (tests/fixtures/reference-pipeline,
 //! made by the bench's `ref_pipeline.py`): its energy score is "the mean of x² over the
 //! raw frame", frames of 256 samples every 128 starting at sample 0, trial score = max
-//! over frames (bench README, step 3a).
+//! over frames (docs/reference/detectors.md#d9).
 
 use echobench_core::detector::{DetectorPlugin, ParamValue, Params};
 use echobench_core::{detector::test_stream, Score};

@@ -48,7 +48,7 @@ fn ln_os_pfa(n: usize, k: usize, t: f64) -> f64 {
 ///
 /// ```
 /// use echobench_detector_os_cfar::os_pfa;
-/// // detection.md CV12 (Richards 2014 §6.5.6: N = 20, k = 15, α = 6.857).
+/// // docs/reference/check-values.md#cv12 (Richards 2014 §6.5.6: N = 20, k = 15, α = 6.857).
 /// assert!((os_pfa(20, 15, 6.857) - 9.98724e-4).abs() < 1e-9);
 /// ```
 pub fn os_pfa(n: usize, k: usize, t: f64) -> f64 {
@@ -76,7 +76,7 @@ pub fn os_pfa(n: usize, k: usize, t: f64) -> f64 {
 ///
 /// ```
 /// use echobench_detector_os_cfar::os_multiplier;
-/// // detection.md CV11: N = 24, k = 18, Pfa = 1e-3.
+/// // docs/reference/check-values.md#cv11: N = 24, k = 18, Pfa = 1e-3.
 /// assert!((os_multiplier(24, 18, 1e-3) - 6.502431).abs() < 1e-6);
 /// ```
 pub fn os_multiplier(n: usize, k: usize, pfa: f64) -> f64 {

@@ -8,7 +8,7 @@ use statrs::function::gamma::ln_gamma;
 
 #[test]
 fn multipliers_match_cv11() {
-    // detection.md CV11 (Rohling 1983; product form [C]): N = 24, k = 18.
+    // docs/reference/check-values.md#cv11 (Rohling 1983; product form [C]): N = 24, k = 18.
     for (pfa, expected) in [(1e-3, 6.502431), (1e-4, 9.340805), (1e-6, 16.293288)] {
         let t = os_multiplier(24, 18, pfa);
         assert!((t - expected).abs() < 1e-6, "Pfa={pfa}: {t} vs {expected}");
@@ -17,7 +17,7 @@ fn multipliers_match_cv11() {
 
 #[test]
 fn textbook_multiplier_gives_the_1e_3_design_point() {
-    // detection.md CV12: Richards 2014 §6.5.6 works N = 20, k = 15 with
+    // docs/reference/check-values.md#cv12: Richards 2014 §6.5.6 works N = 20, k = 15 with
     // α = 6.857; the formula gives 9.98724e-4 (quoted to 6 digits, so the
     // rounding error is at most 5e-10).
     let pfa = os_pfa(20, 15, 6.857);

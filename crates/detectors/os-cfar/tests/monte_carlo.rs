@@ -1,7 +1,7 @@
 //! Monte Carlo false-alarm rates against Pfa = Π_{i<k} (N−i)/(N−i+T)
 //! (Rohling 1983; Richards 2014 §6.5.6).
 //!
-//! Seeded; each check asserts |p̂ − p| ≤ 4.5·√(p(1 − p)/M) (detection.md §6).
+//! Seeded; each check asserts |p̂ − p| ≤ 4.5·√(p(1 − p)/M) (docs/reference/statistics.md#s9).
 
 use echobench_core::detector::{test_stream, Detector};
 use echobench_detector_dsp::Window;
@@ -21,7 +21,7 @@ fn assert_in_interval(hits: usize, trials: usize, p: f64, what: &str) {
 
 #[test]
 fn exponential_cells_follow_the_closed_form() {
-    // detection.md §2.3 [MC]: N = 24, k = 18, T = 6.50243 → 0.000995 over 2e6.
+    // docs/reference/check-values.md#cv11 [MC]: N = 24, k = 18, T = 6.50243 → 0.000995 over 2e6.
     const TRIALS: usize = 200_000;
     let mut rng = ChaCha8Rng::from_seed([21; 32]);
     for (n, k) in [(24usize, 18usize), (16, 12)] {

@@ -70,7 +70,8 @@ fn built(info: &StreamInfo) -> Box<dyn Detector> {
 
 #[test]
 fn block_size_does_not_change_the_scores() {
-    // DESIGN.md: feeding 1, 7, 256 or all samples at a time gives identical scores.
+    // DEVELOPERS.md, Habits (streaming code): feeding 1, 7, 256 or all samples at a time gives
+    // identical scores.
     for (info, seed) in [(test_stream(FS_HZ), 1), (iq_stream(), 2)] {
         let input = random_input(12_000, seed);
         let whole = run_in_blocks(built(&info).as_mut(), &input, input.len());

@@ -94,7 +94,7 @@ fn to_f32(x: &[f64]) -> Vec<f32> {
 }
 
 /// Walker-like: a torso line at 20 Hz (1.2 m/s at 2.45 GHz) whose amplitude
-/// swings ±20 % at the step rate (physics.md §2.2: torso speed ±18 %), and two
+/// swings ±20 % at the step rate (docs/reference/people.md#p4: torso speed ±18 %), and two
 /// limb lines at 36 and 55 Hz (2.2 and 3.4 m/s: hand ≈ 2 v, ankle ≈ 3.5 v)
 /// that swell and fade once per step (depth 0.9), in white noise.
 fn walker_like(seed: u8, seconds: f64, step_hz: f64) -> Vec<f64> {
@@ -144,7 +144,7 @@ fn walker_like_iq(seed: u8, seconds: f64) -> Vec<f32> {
 
 /// A flash: a 1 ms Gaussian burst on a 40 Hz carrier, broadband over the
 /// motion band, as a blade passing broadside sweeps through all its Doppler
-/// (physics.md §3: flash ≈ λ/(L·Ω·cosβ), a few ms).
+/// (docs/reference/nuisances.md#n2: flash ≈ λ/(L·Ω·cosβ), a few ms).
 fn add_flashes(x: &mut [f64], times_s: impl Iterator<Item = (f64, f64)>, width_s: f64) {
     for (centre_s, amplitude) in times_s {
         let first = ((centre_s - 5.0 * width_s) * FS_HZ).max(0.0) as usize;
@@ -170,7 +170,8 @@ fn fan_like(seed: u8, seconds: f64) -> Vec<f64> {
     x
 }
 
-/// Sway-like: a reflector swinging 3 cm at 0.4 Hz (bench README nuisance):
+/// Sway-like: a reflector swinging 3 cm at 0.4 Hz (the reference pipeline's
+/// nuisance, docs/reference/detectors.md#d9):
 /// phase excursion 4π·0.03/λ ≈ 3 rad, Doppler ≤ 1.2 Hz, below the motion band.
 fn sway_like(seed: u8, seconds: f64) -> Vec<f64> {
     let mut rng = ChaCha8Rng::from_seed([seed; 32]);
@@ -198,7 +199,7 @@ fn min_score(scores: &[Score]) -> f64 {
 
 /// Step-rate modulation (1.9 Hz = 114 steps/min, inside the 81–138 range of
 /// Tudor-Locke & Rowe 2012) scores far above a 45 Hz flash train (3 blades at
-/// 15 rev/s, the bench README's fan; an odd rotor may flash 2N times per
+/// 15 rev/s, the reference pipeline's fan; an odd rotor may flash 2N times per
 /// revolution, Chen 2011, which only moves the line higher), a slow sway and
 /// plain noise.
 #[test]
