@@ -396,10 +396,10 @@ detectors:
     std::fs::remove_dir_all(&dir).unwrap();
 }
 
-/// `detectors --carrier-hz` shows the same m/s bands as different hertz at each carrier:
-/// 0.3–4 m/s is 4.9–65.4 Hz at 2.45 GHz and 48.3–643.8 Hz at 24.125 GHz (f = 2v·f_c/c;
-/// physics.md §1: 16.345 and 160.945 Hz per m/s), and a 0.25 m/s resolution takes
-/// λ/(2Δv) = 0.245 s (490 samples at 2 kHz) and 0.0249 s (50 samples).
+/// `detectors --carrier-hz` shows the same m/s bands as different hertz at each carrier: 0.3–4 m/s
+/// is 4.9–65.4 Hz at 2.45 GHz and 48.3–643.8 Hz at 24.125 GHz (f = 2v·f_c/c;
+/// docs/reference/radar-physics.md#r8: 16.345 and 160.945 Hz per m/s), and a 0.25 m/s resolution
+/// takes λ/(2Δv) = 0.245 s (490 samples at 2 kHz) and 0.0249 s (50 samples).
 #[test]
 fn detectors_prints_bands_and_frames_in_both_units_at_a_carrier() {
     for (carrier, band, frame) in [

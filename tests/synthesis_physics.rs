@@ -20,7 +20,7 @@ use std::f64::consts::PI;
 /// Speed of light, m/s (exact by the SI definition).
 const SPEED_OF_LIGHT_MPS: f64 = 299_792_458.0;
 
-/// The four usual motion-sensor carriers, Hz (physics.md §1.4).
+/// The four usual motion-sensor carriers, Hz (docs/reference/radar-physics.md#r8).
 const CARRIERS_HZ: [f64; 4] = [2.45e9, 5.8e9, 10.525e9, 24.125e9];
 
 /// Op-amp output bias of the bench scenes (mid-rail of 0–3.3 V, the scene default), V.
@@ -156,7 +156,8 @@ fn wavelength_m(carrier_hz: f64) -> f64 {
     SPEED_OF_LIGHT_MPS / carrier_hz
 }
 
-/// f_d = 2·v·f0/c (Skolnik, *Introduction to Radar Systems*, ch. 3; physics.md §0).
+/// f_d = 2·v·f0/c (Skolnik, *Introduction to Radar Systems*, ch. 3;
+/// docs/reference/radar-physics.md#r1).
 fn doppler_hz(speed_mps: f64, carrier_hz: f64) -> f64 {
     2.0 * speed_mps * carrier_hz / SPEED_OF_LIGHT_MPS
 }
@@ -192,7 +193,7 @@ fn analog_front_end_gain(bench: &Bench, f_hz: f64) -> f64 {
 ///
 /// Received power by the radar range equation P_r = P_t·G²·λ²·σ/((4π)³·R⁴)
 /// (Skolnik, ch. 2), developed as a peak voltage √(2·P_r·R_load) across the
-/// mixer load, less the conversion loss (physics.md §1.2: IF voltage ∝ √P_r
+/// mixer load, less the conversion loss (docs/reference/radar-physics.md#r4: IF voltage ∝ √P_r
 /// for a mixer in its small-signal regime; common practice).
 fn mixer_amplitude_v_at_1m_1m2(
     tx_power_dbm: f64,
@@ -373,9 +374,9 @@ fn lsb_v(bits: u8) -> f64 {
 
 #[test]
 fn constant_velocity_reflector_peaks_at_the_doppler_frequency() {
-    // physics.md checks 1–2 and §0: f_d = 2·v·f0/c (Skolnik, ch. 3). A 10 m² plate
-    // approaches from 8 m at 0.8 m/s; the single-channel output's strongest line must
-    // lie within one FFT bin of f_d at every carrier.
+    // docs/reference/check-values.md#pc1, #pc2 and radar-physics.md#r1: f_d = 2·v·f0/c (Skolnik,
+    // ch. 3). A 10 m² plate approaches from 8 m at 0.8 m/s; the single-channel output's strongest
+    // line must lie within one FFT bin of f_d at every carrier.
     let speed_mps = 0.8;
     for carrier_hz in CARRIERS_HZ {
         let bench = Bench {
@@ -406,13 +407,13 @@ fn constant_velocity_reflector_peaks_at_the_doppler_frequency() {
 
 #[test]
 fn echo_amplitude_falls_as_the_inverse_square_of_range() {
-    // physics.md §1.2 and checks 7–8: A = K·√σ·g(θ)/R² (Skolnik, ch. 2, with IF voltage
-    // ∝ √P_r). A 1 m² reflector on boresight on a radial shaker (40 Hz, modulation index
-    // m = 4πa/λ = 1) gives, through an I/Q mixer, complex lines at ±40 Hz of magnitude
-    // A·J1(m) whatever the mean phase 4πR/λ (Jacobi–Anger; Droitcour et al. 2004), so the
-    // ratio of line magnitudes at two ranges is the ratio of the echo amplitudes, with the
-    // front end's gain at 40 Hz cancelling. Window: 2 s = 80 shaker cycles, after the
-    // 2 Hz high-pass has settled on the reflector's own DC (6 time constants).
+    // docs/reference/radar-physics.md#r4 and check-values.md#pc7, #pc8: A = K·√σ·g(θ)/R² (Skolnik,
+    // ch. 2, with IF voltage ∝ √P_r). A 1 m² reflector on boresight on a radial shaker (40 Hz,
+    // modulation index m = 4πa/λ = 1) gives, through an I/Q mixer, complex lines at ±40 Hz of
+    // magnitude A·J1(m) whatever the mean phase 4πR/λ (Jacobi–Anger; Droitcour et al. 2004), so the
+    // ratio of line magnitudes at two ranges is the ratio of the echo amplitudes, with the front
+    // end's gain at 40 Hz cancelling. Window: 2 s = 80 shaker cycles, after the 2 Hz high-pass has
+    // settled on the reflector's own DC (6 time constants).
     let carrier_hz = 24.125e9;
     let lambda = wavelength_m(carrier_hz);
     let modulation_index: f64 = 1.0;
@@ -485,9 +486,9 @@ fn echo_amplitude_falls_as_the_inverse_square_of_range() {
 
 #[test]
 fn iq_output_shows_the_doppler_sign() {
-    // physics.md §0 and §1.1: z = A·e^{−jφ}, φ = 4πR/λ, so an approaching target
-    // (R falling) gives a positive frequency and a receding one a negative frequency.
-    // An ideal quadrature mixer has no image: the other side must be ≥ 40 dB down.
+    // docs/reference/radar-physics.md#r1 and #r2: z = A·e^{−jφ}, φ = 4πR/λ, so an approaching
+    // target (R falling) gives a positive frequency and a receding one a negative frequency. An
+    // ideal quadrature mixer has no image: the other side must be ≥ 40 dB down.
     let carrier_hz = 10.525e9;
     let speed_mps = 0.8;
     let fd_hz = doppler_hz(speed_mps, carrier_hz);
@@ -533,15 +534,14 @@ fn iq_output_shows_the_doppler_sign() {
 
 #[test]
 fn single_channel_spectra_of_approach_and_recession_are_the_same() {
-    // physics.md §1.1, property (a) (Droitcour et al. 2004): Re{z} loses the sign, so ±v
-    // give the same |spectrum|. The two runs are each other's time reversal (6 m → 2.8 m
-    // vs 2.8 m → 6 m in 4 s), and a periodic Hann window is symmetric under that
-    // reversal, so the windowed magnitude spectra should agree up to the front end's
-    // phase at f_d (it shifts the line's phase oppositely in the two runs), the
-    // one sample the reversal does not map, and the start: the front end begins
-    // settled on the echo present at t = 0 (a module switched on long before),
-    // which the reversal maps onto the unsettled end of the other run. Together
-    // about 1 % of the spectrum's norm.
+    // docs/reference/radar-physics.md#r9, property (a) (Droitcour et al. 2004): Re{z} loses the
+    // sign, so ±v give the same |spectrum|. The two runs are each other's time reversal (6 m → 2.8
+    // m vs 2.8 m → 6 m in 4 s), and a periodic Hann window is symmetric under that reversal, so the
+    // windowed magnitude spectra should agree up to the front end's phase at f_d (it shifts the
+    // line's phase oppositely in the two runs), the one sample the reversal does not map, and the
+    // start: the front end begins settled on the echo present at t = 0 (a module switched on long
+    // before), which the reversal maps onto the unsettled end of the other run. Together about 1 %
+    // of the spectrum's norm.
     let carrier_hz = 10.525e9;
     let speed_mps = 0.8;
     let run = |azimuth_deg: f64, start_m: f64| {
@@ -583,9 +583,9 @@ fn single_channel_spectra_of_approach_and_recession_are_the_same() {
 
 #[test]
 fn doppler_scales_linearly_with_the_carrier() {
-    // physics.md property (c): for the same motion f_d/f0 = 2v/c at every carrier
-    // (Skolnik, ch. 3). Refined (zero-padded, interpolated) peaks of a plate receding
-    // from 2 m at 1.25 m/s must give the same f_d/f0 to 0.1 %, equal to 2v/c.
+    // docs/reference/radar-physics.md#r9, property (c): for the same motion f_d/f0 = 2v/c at every
+    // carrier (Skolnik, ch. 3). Refined (zero-padded, interpolated) peaks of a plate receding from
+    // 2 m at 1.25 m/s must give the same f_d/f0 to 0.1 %, equal to 2v/c.
     let speed_mps = 1.25;
     let expected_ratio = 2.0 * speed_mps / SPEED_OF_LIGHT_MPS;
     for carrier_hz in CARRIERS_HZ {
@@ -634,13 +634,13 @@ fn stationary_room(white_noise_v_per_rthz: f64) -> Bench {
 
 #[test]
 fn stationary_scene_gives_only_front_end_noise() {
-    // physics.md property (d): static clutter is DC, removed by the high-pass; what is
-    // left is the mixer noise shaped by the front end: one-sided PSD d²·G²·|H(f)|².
-    // For one HP (f_h) and one LP (f_l) section, ∫₀^∞|H|² df = (π/2)·f_l²/(f_l + f_h)
-    // (standard integral ∫ f²/((f²+a²)(f²+b²)) df = π/(2(a+b))), so the output RMS is
-    // d·G·√((π/2)·f_l²/(f_l + f_h)). The still reflector's own DC enters as a step at
-    // t = 0 (the chain starts settled on the static clutter only) and has decayed by
-    // 1.5 s (9 time constants of the 1 Hz high-pass).
+    // docs/reference/radar-physics.md#r9, property (d): static clutter is DC, removed by the
+    // high-pass; what is left is the mixer noise shaped by the front end: one-sided PSD
+    // d²·G²·|H(f)|². For one HP (f_h) and one LP (f_l) section, ∫₀^∞|H|² df = (π/2)·f_l²/(f_l +
+    // f_h) (standard integral ∫ f²/((f²+a²)(f²+b²)) df = π/(2(a+b))), so the output RMS is
+    // d·G·√((π/2)·f_l²/(f_l + f_h)). The still reflector's own DC enters as a step at t = 0 (the
+    // chain starts settled on the static clutter only) and has decayed by 1.5 s (9 time constants
+    // of the 1 Hz high-pass).
     let density = 300e-9;
     let bench = stationary_room(density);
     let fs = bench.sample_rate_hz;
@@ -664,10 +664,10 @@ fn stationary_scene_gives_only_front_end_noise() {
         segments += welch_accumulate(&x, fs, segment, &mut psd_sum);
     }
     let measured_rms = (sum_squares / count as f64).sqrt();
-    // Allowance: (i) the simulation holds noise only up to f_sim/2 and its sections are
-    // bilinear (physics.md §5), whose LP noise bandwidth is (f_sim/2)·K/(1+K), K = tan(πf_l/f_sim)
-    // instead of the analog (π/2)·f_l: an RMS shortfall of ½·(1 − ratio); (ii) 3 standard
-    // deviations of an RMS estimate over 2·B·T independent samples (common practice).
+    // Allowance: (i) the simulation holds noise only up to f_sim/2 and its sections are bilinear
+    // (docs/reference/front-end-and-noise.md#f10), whose LP noise bandwidth is (f_sim/2)·K/(1+K), K
+    // = tan(πf_l/f_sim) instead of the analog (π/2)·f_l: an RMS shortfall of ½·(1 − ratio); (ii) 3
+    // standard deviations of an RMS estimate over 2·B·T independent samples (common practice).
     let k = (PI * f_l / fs).tan();
     let bilinear_shortfall = 0.5 * (1.0 - (0.5 * fs * k / (1.0 + k)) / (0.5 * PI * f_l));
     let statistical =
@@ -702,9 +702,10 @@ fn stationary_scene_gives_only_front_end_noise() {
 
 #[test]
 fn stationary_scene_without_noise_is_flat_at_the_bias() {
-    // physics.md property (d) and §4 (ADC): without noise a still scene is pure DC, which
-    // the high-pass blocks, so the ADC reads the bias code to within one LSB once the
-    // still reflector's step has decayed (2 s = 12.6 time constants of the 1 Hz HP).
+    // docs/reference/radar-physics.md#r9, property (d), and front-end-and-noise.md#f8 (ADC):
+    // without noise a still scene is pure DC, which the high-pass blocks, so the ADC reads the bias
+    // code to within one LSB once the still reflector's step has decayed (2 s = 12.6 time constants
+    // of the 1 Hz HP).
     let bench = stationary_room(0.0);
     let t = bench.run();
     let lsb = lsb_v(bench.adc_bits);
@@ -754,10 +755,10 @@ fn fast_plate(low_pass_hz: Vec<f64>, iq: bool) -> Bench {
 
 #[test]
 fn doppler_above_nyquist_appears_at_its_alias() {
-    // physics.md §5 (simulation recipe; common practice): a Doppler above f_s/2 is folded
-    // by the sample-and-hold to |f_d − k·f_s|, here |650 − 500| = 150 Hz; in the complex
-    // spectrum the fold keeps the sign, +650 → +150 Hz. The synthesizer must have raised
-    // its internal rate to hold 650 Hz before the filter.
+    // docs/reference/front-end-and-noise.md#f12 (simulation recipe; common practice): a Doppler
+    // above f_s/2 is folded by the sample-and-hold to |f_d − k·f_s|, here |650 − 500| = 150 Hz; in
+    // the complex spectrum the fold keeps the sign, +650 → +150 Hz. The synthesizer must have
+    // raised its internal rate to hold 650 Hz before the filter.
     let fd_hz = 650.0;
     for iq in [false, true] {
         let bench = fast_plate(vec![100.0], iq);
@@ -795,11 +796,11 @@ fn doppler_above_nyquist_appears_at_its_alias() {
 #[test]
 
 fn doppler_above_nyquist_keeps_the_analog_low_pass_attenuation() {
-    // physics.md §5 (common practice): what folds into the band has passed the analog RC
-    // low-pass at its true frequency, so the alias carries |H_LP(f_d)| = 1/√(1 + (f_d/f_c)²)
-    // = 0.152 for 650 Hz through 100 Hz. Two runs with identical motion, one without the
-    // low-pass, share the echo envelope (∝ R(t)⁻²) exactly, so the RMS ratio of their
-    // I/Q magnitudes is the low-pass attenuation at f_d. Allowance 10 % (0.8 dB).
+    // docs/reference/front-end-and-noise.md#f12 (common practice): what folds into the band has
+    // passed the analog RC low-pass at its true frequency, so the alias carries |H_LP(f_d)| = 1/√(1
+    // + (f_d/f_c)²) = 0.152 for 650 Hz through 100 Hz. Two runs with identical motion, one without
+    // the low-pass, share the echo envelope (∝ R(t)⁻²) exactly, so the RMS ratio of their I/Q
+    // magnitudes is the low-pass attenuation at f_d. Allowance 10 % (0.8 dB).
     let fd_hz = 650.0;
     let with_filter = fast_plate(vec![100.0], true).run();
     let without_filter = fast_plate(Vec::new(), true).run();
@@ -820,11 +821,11 @@ fn doppler_above_nyquist_keeps_the_analog_low_pass_attenuation() {
 #[test]
 
 fn vibration_above_nyquist_aliases_through_the_low_pass() {
-    // Vibrating target R = R0 + a·sin(2πf_v t): lines at n·f_v with weights J_n(4πa/λ)
-    // (Chen, Li, Ho, Wechsler, IEEE T-AES 42(1), 2006; physics.md §3). A 650 Hz shaker
-    // (m = 0.3) at a 500 Hz ADC: the ±650 Hz lines fold to ±150 Hz after passing the
-    // 100 Hz analog low-pass at 650 Hz (physics.md §5, common practice), so against the
-    // same run without the low-pass the ±150 Hz lines shrink by 1/√(1 + 6.5²) = 0.152.
+    // Vibrating target R = R0 + a·sin(2πf_v t): lines at n·f_v with weights J_n(4πa/λ) (Chen, Li,
+    // Ho, Wechsler, IEEE T-AES 42(1), 2006; docs/reference/nuisances.md#n3). A 650 Hz shaker (m =
+    // 0.3) at a 500 Hz ADC: the ±650 Hz lines fold to ±150 Hz after passing the 100 Hz analog
+    // low-pass at 650 Hz (docs/reference/front-end-and-noise.md#f12, common practice), so against
+    // the same run without the low-pass the ±150 Hz lines shrink by 1/√(1 + 6.5²) = 0.152.
     let carrier_hz = 24.125e9;
     let shaker_hz = 650.0;
     let make = |low_pass_hz: Vec<f64>| Bench {
@@ -992,11 +993,11 @@ fn band_power(x: &[f64], fs: f64, lo_hz: f64, hi_hz: f64) -> f64 {
 
 #[test]
 fn walker_raises_power_in_its_torso_doppler_band() {
-    // physics.md §2: the torso moves at about the walking speed, so its line sits near
-    // 2v/λ (Skolnik ch. 3; Chen 2011 ch. 4 for the torso dominating the return). The
-    // corridor walker draws 1.1–1.5 m/s, seen from 2.5 m up at ≤ 12° below the LOS
-    // (cos ≥ 0.97): 171–241 Hz at 24.125 GHz; the band 150–270 Hz holds it. During the
-    // event that band must hold far more power (≥ 10 dB) than before the walker enters.
+    // docs/reference/people.md#p4: the torso moves at about the walking speed, so its line sits
+    // near 2v/λ (Skolnik ch. 3; Chen 2011 ch. 4 for the torso dominating the return). The corridor
+    // walker draws 1.1–1.5 m/s, seen from 2.5 m up at ≤ 12° below the LOS (cos ≥ 0.97): 171–241 Hz
+    // at 24.125 GHz; the band 150–270 Hz holds it. During the event that band must hold far more
+    // power (≥ 10 dB) than before the walker enters.
     let scene = example_scene("office-corridor-24g.yaml", 20.0);
     let fs = scene.sensor.sample_rate_hz;
     let lambda = wavelength_m(scene.sensor.carrier_hz);

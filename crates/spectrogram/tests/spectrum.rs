@@ -115,7 +115,7 @@ fn iq_separates_positive_and_negative_doppler() {
 #[test]
 fn real_input_cannot_tell_approach_from_recession() {
     // A single-channel mixer outputs Re{z}: the spectra of ±f_d are identical
-    // (reference/physics.md §1.1, after Droitcour et al. 2004).
+    // (docs/reference/radar-physics.md#r2, after Droitcour et al. 2004).
     let fs = 1000.0;
     let approaching: Vec<f32> = complex_tone(70.0, 1.0, fs, 2000)
         .iter()
