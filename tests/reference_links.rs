@@ -18,6 +18,16 @@ use echobench_integration_tests::workspace_root;
 
 /// Where the reference pages live, relative to the workspace root.
 const REFERENCE_DIR: &str = "docs/reference";
+/// Top-level folders scanned (besides the README, DEVELOPERS.md and the workspace manifest).
+const SCANNED_DIRS: &[&str] = &[
+    "crates",
+    "tests",
+    "benches",
+    "examples",
+    "fuzz",
+    "docs",
+    "scenarios",
+];
 /// File kinds that may hold a citation.
 const SCANNED_EXTENSIONS: &[&str] = &["rs", "md", "py", "c", "h", "yaml", "yml", "toml", "sh"];
 /// Folders never scanned (build output, version control).
@@ -272,7 +282,7 @@ fn citations_point_into_the_repository_and_resolve() {
         "expected the reference pages, each with anchors, under {REFERENCE_DIR}: {pages:?}"
     );
     let mut files = Vec::new();
-    for top in ["crates", "tests", "benches", "fuzz", "docs", "scenarios"] {
+    for top in SCANNED_DIRS {
         collect_files(&root.join(top), &mut files);
     }
     for top in ["README.md", "DEVELOPERS.md", "Cargo.toml"] {
