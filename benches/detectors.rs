@@ -12,7 +12,7 @@
 //! the results into the README table.
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use echobench_core::detector::{check_scores, Params};
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::Normal;
@@ -99,7 +99,7 @@ fn detectors(c: &mut Criterion) {
             let mut detector = plugin
                 .build(&params, &info)
                 .unwrap_or_else(|e| panic!("{e}"));
-            let mut scores: Vec<Score> = Vec::with_capacity(input.len());
+            let mut scores: Vec<FrameScore> = Vec::with_capacity(input.len());
             // One checked pass first: the timed work must produce valid scores.
             for block in input.chunks(BLOCK_LEN) {
                 detector.process(block, &mut scores);

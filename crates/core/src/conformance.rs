@@ -27,9 +27,9 @@
 //! documented way and keep scoring (every built-in counts them as 0) or report
 //! a failure (`Detector::failure`), which the harness records for that trial.
 
-use crate::detector::{check_scores, Detector, DetectorPlugin, Params};
+use crate::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params};
 use crate::seed::mix64;
-use crate::{Channels, Score, StreamInfo};
+use crate::{Channels, StreamInfo};
 use std::fmt;
 use std::panic::{catch_unwind, AssertUnwindSafe};
 
@@ -349,7 +349,7 @@ fn compare(
     info: &StreamInfo,
     stream: &[f32],
     split: Split,
-    reference: &[Score],
+    reference: &[FrameScore],
     rule: Rule,
     label: &str,
     violate: &mut dyn FnMut(Rule, String),
@@ -378,7 +378,7 @@ enum Split {
 /// What feeding a stream gave.
 enum Fed {
     /// Scores, in the order emitted.
-    Scores(Vec<Score>),
+    Scores(Vec<FrameScore>),
     /// The detector reported a failure.
     Failed(String),
     /// The detector panicked.
@@ -425,12 +425,12 @@ fn feed(detector: &mut dyn Detector, samples: &[f32], split: Split, info: &Strea
         if let Some(m) = detector.failure() {
             return Fed::Failed(m);
         }
-        // Whole instants given so far; a score may not end after them.
-        let given_s = (end / channels) as f64 / info.sample_rate_hz;
-        if let Some(s) = out[before..].iter().find(|s| s.t_s > given_s) {
+        // Whole instants given so far; a frame may not end after them.
+        let given = (end / channels) as u64;
+        if let Some(s) = out[before..].iter().find(|s| s.end_sample > given) {
             return Fed::Future(format!(
-                "a score at t = {} s after only {given_s} s of samples were given",
-                s.t_s
+                "a frame ending at sample {} after only {given} samples were given",
+                s.end_sample
             ));
         }
         at = end;
@@ -439,14 +439,14 @@ fn feed(detector: &mut dyn Detector, samples: &[f32], split: Split, info: &Strea
 }
 
 /// Where two score traces first differ (bit for bit), in words.
-fn first_difference(got: &[Score], want: &[Score]) -> Option<String> {
-    let same = |a: &Score, b: &Score| {
-        a.t_s.to_bits() == b.t_s.to_bits() && a.value.to_bits() == b.value.to_bits()
+fn first_difference(got: &[FrameScore], want: &[FrameScore]) -> Option<String> {
+    let same = |a: &FrameScore, b: &FrameScore| {
+        a.end_sample == b.end_sample && a.value.to_bits() == b.value.to_bits()
     };
     if let Some(i) = (0..got.len().min(want.len())).find(|&i| !same(&got[i], &want[i])) {
         return Some(format!(
-            "score {i} is {} at t = {} s, expected {} at t = {} s",
-            got[i].value, got[i].t_s, want[i].value, want[i].t_s
+            "score {i} is {} at sample {}, expected {} at sample {}",
+            got[i].value, got[i].end_sample, want[i].value, want[i].end_sample
         ));
     }
     (got.len() != want.len()).then(|| format!("{} scores, expected {}", got.len(), want.len()))
@@ -496,10 +496,11 @@ fn panic_text(payload: Box<dyn std::any::Any + Send>) -> String {
 /// example above can run; not part of the API a plugin uses.
 #[doc(hidden)]
 pub mod tests_support {
+    use crate::detector::FrameScore;
     use crate::detector::{
         Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
     };
-    use crate::{Channels, Score, StreamInfo};
+    use crate::{Channels, StreamInfo};
 
     static PARAMS: [ParamSpec; 1] = [ParamSpec {
         name: "frame_len",
@@ -566,12 +567,11 @@ pub mod tests_support {
             params: &Params,
             info: &StreamInfo,
         ) -> Result<Box<dyn Detector>, ParamError> {
-            let fs = crate::detector::check_sample_rate(self.id(), info)?;
+            crate::detector::check_sample_rate(self.id(), info)?;
             Ok(Box::new(MeanDetector {
                 flaw: self.0,
                 frame_len: params.integer("frame_len") as u64,
                 channels: info.channels,
-                sample_rate_hz: fs,
                 sum: 0.0,
                 in_frame: 0,
                 consumed: 0,
@@ -590,7 +590,6 @@ pub mod tests_support {
         flaw: Flaw,
         frame_len: u64,
         channels: Channels,
-        sample_rate_hz: f64,
         sum: f64,
         in_frame: u64,
         consumed: u64,
@@ -598,13 +597,13 @@ pub mod tests_support {
     }
 
     impl MeanDetector {
-        fn instant(&mut self, power: f64, out: &mut Vec<Score>) {
+        fn instant(&mut self, power: f64, out: &mut Vec<FrameScore>) {
             self.sum += if power.is_finite() { power } else { 0.0 };
             self.in_frame += 1;
             self.consumed += 1;
             if self.in_frame == self.frame_len {
-                out.push(Score {
-                    t_s: self.consumed as f64 / self.sample_rate_hz,
+                out.push(FrameScore {
+                    end_sample: self.consumed,
                     value: self.sum / self.frame_len as f64,
                 });
                 self.sum = 0.0;
@@ -614,7 +613,7 @@ pub mod tests_support {
     }
 
     impl Detector for MeanDetector {
-        fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+        fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
             let sq = |x: f32| f64::from(x) * f64::from(x);
             match self.channels {
                 Channels::Real => block.iter().for_each(|&x| self.instant(sq(x), out)),

@@ -25,13 +25,48 @@ use crate::{Score, StreamInfo};
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
 
+/// One detector output: the score of the decision frame that ends just
+/// before sample instant `end_sample`.
+///
+/// A detector counts samples; it does not compute times. `end_sample` is the
+/// index one past the frame's last sample instant, counting from 0 at the
+/// trial's first sample and one per I/Q pair, so it is exact whatever the
+/// sample rate; the harness turns it into seconds in one place
+/// ([`FrameScore::timed`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FrameScore {
+    /// Index one past the frame's last sample instant.
+    pub end_sample: u64,
+    /// The score; higher means more likely motion.
+    pub value: f64,
+}
+
+impl FrameScore {
+    /// The score with its frame end in seconds: `end_sample / sample_rate_hz`,
+    /// the one conversion from sample index to time (every built-in computed
+    /// exactly this division before frame ends were counted in samples, so the
+    /// times are bit-identical to theirs).
+    ///
+    /// ```
+    /// use echobench_core::detector::FrameScore;
+    /// let s = FrameScore { end_sample: 200, value: 1.5 }.timed(2000.0);
+    /// assert_eq!((s.t_s, s.value), (0.1, 1.5));
+    /// ```
+    pub fn timed(self, sample_rate_hz: f64) -> Score {
+        Score {
+            t_s: self.end_sample as f64 / sample_rate_hz,
+            value: self.value,
+        }
+    }
+}
+
 /// A running detector: state for one stream.
 pub trait Detector: Send {
     /// Consumes `block` (any length, including 0 and 1; I/Q streams interleave
-    /// I, Q) and pushes one [`Score`] per completed decision frame, in time
-    /// order, onto `out`. Scores must not depend on how the stream is split
-    /// into blocks.
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>);
+    /// I, Q) and pushes one [`FrameScore`] per completed decision frame, in
+    /// time order, onto `out`. Scores must not depend on how the stream is
+    /// split into blocks.
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>);
 
     /// Forgets all state, as if freshly built.
     fn reset(&mut self);
@@ -476,29 +511,35 @@ impl Params {
     }
 }
 
-/// Checks a finished score trace: finite values in non-decreasing time order.
+/// Checks a finished score trace: finite values with non-decreasing frame ends.
 ///
 /// The harness calls this on every detector's output, so a plugin that
-/// returns NaN or scrambles its time stamps is reported, not silently scored.
+/// returns NaN or scrambles its frame ends is reported, not silently scored.
 ///
 /// # Errors
 /// The index and a description of the first bad score.
-pub fn check_scores(scores: &[Score]) -> Result<(), (usize, String)> {
-    let mut previous = f64::NEG_INFINITY;
+pub fn check_scores(scores: &[FrameScore]) -> Result<(), (usize, String)> {
+    let mut previous = 0;
     for (i, s) in scores.iter().enumerate() {
         if !s.value.is_finite() {
             return Err((
                 i,
-                format!("score {} at t = {} s is not finite", s.value, s.t_s),
+                format!(
+                    "score {} of the frame ending at sample {} is not finite",
+                    s.value, s.end_sample
+                ),
             ));
         }
-        if !s.t_s.is_finite() || s.t_s < previous {
+        if s.end_sample < previous {
             return Err((
                 i,
-                format!("time stamp {} s comes after {} s", s.t_s, previous),
+                format!(
+                    "frame end at sample {} comes after sample {previous}",
+                    s.end_sample
+                ),
             ));
         }
-        previous = s.t_s;
+        previous = s.end_sample;
     }
     Ok(())
 }
@@ -580,32 +621,23 @@ mod tests {
 
     #[test]
     fn score_checks_find_nan_and_disorder() {
-        let good = [
-            Score {
-                t_s: 0.1,
-                value: 1.0,
-            },
-            Score {
-                t_s: 0.2,
-                value: 2.0,
-            },
-        ];
-        assert!(check_scores(&good).is_ok());
-        let nan = [Score {
-            t_s: 0.1,
-            value: f64::NAN,
-        }];
-        assert_eq!(check_scores(&nan).unwrap_err().0, 0);
-        let backwards = [
-            Score {
-                t_s: 0.2,
-                value: 1.0,
-            },
-            Score {
-                t_s: 0.1,
-                value: 1.0,
-            },
-        ];
-        assert_eq!(check_scores(&backwards).unwrap_err().0, 1);
+        let at = |end_sample: u64, value: f64| FrameScore { end_sample, value };
+        assert!(check_scores(&[at(100, 1.0), at(200, 2.0), at(200, 0.5)]).is_ok());
+        assert_eq!(check_scores(&[at(100, f64::NAN)]).unwrap_err().0, 0);
+        assert_eq!(
+            check_scores(&[at(200, 1.0), at(100, 1.0)]).unwrap_err().0,
+            1
+        );
+    }
+
+    #[test]
+    fn frame_ends_become_seconds_by_one_division() {
+        // 1/3 s is not exact in binary: the division must match `n as f64 / fs` bit for bit.
+        let s = FrameScore {
+            end_sample: 1000,
+            value: 0.0,
+        }
+        .timed(3000.0);
+        assert_eq!(s.t_s.to_bits(), (1000.0_f64 / 3000.0).to_bits());
     }
 }

@@ -18,6 +18,8 @@ pub mod fastmath;
 pub mod seed;
 pub mod suggest;
 
+pub use detector::FrameScore;
+
 use std::fmt;
 
 /// How many values one sample instant carries.

@@ -3,7 +3,7 @@
 
 use crate::key::TrialRef;
 use crate::ExplainError;
-use echobench_core::detector::{check_scores, Detector, DetectorPlugin, Params};
+use echobench_core::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params};
 use echobench_core::{Score, StreamInfo};
 use echobench_harness::runner::trial_key;
 use echobench_harness::signal::{SignalTruth, TrialSignal};
@@ -137,7 +137,7 @@ pub(crate) fn replay(
             },
         )
         .collect();
-    let mut scores: Vec<Vec<Score>> = vec![Vec::new(); detectors.len()];
+    let mut scores: Vec<Vec<FrameScore>> = vec![Vec::new(); detectors.len()];
     let mut samples = Vec::new();
     let mut block = Vec::with_capacity(BLOCK * 2);
     let mut codes = Vec::with_capacity(BLOCK * 2);
@@ -169,7 +169,11 @@ pub(crate) fn replay(
         .map(|(slot, trace)| match slot {
             Err(message) => Err(message),
             Ok(_) => match check_scores(&trace) {
-                Ok(()) => Ok(trace),
+                // Frame ends to seconds, as the runner does.
+                Ok(()) => Ok(trace
+                    .into_iter()
+                    .map(|s| s.timed(info.sample_rate_hz))
+                    .collect()),
                 Err((i, message)) => Err(format!("score {i}: {message}")),
             },
         })

@@ -19,7 +19,7 @@
 use crate::events::{score_thresholds, AlarmLogic, MOfN, MatchWindow, TrialTruth};
 use crate::signal::TrialSignal;
 use crate::suite::{PresenceOutput, SceneLabel, Suite};
-use echobench_core::detector::{check_scores, Detector, DetectorPlugin, Params};
+use echobench_core::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params};
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, Score};
 use echobench_presence::{
@@ -522,7 +522,7 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
             },
         )
         .collect();
-    let mut scores: Vec<Vec<Score>> = vec![Vec::new(); detectors.len()];
+    let mut scores: Vec<Vec<FrameScore>> = vec![Vec::new(); detectors.len()];
     let mut busy = vec![0.0f64; detectors.len()];
     let mut volts = Vec::with_capacity(BLOCK * 2);
     let mut codes = Vec::with_capacity(BLOCK * 2);
@@ -566,7 +566,11 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
             Err(message) => Trace::Failed(message),
             Ok(_) => match check_scores(&trace) {
                 Ok(()) => Trace::Ok {
-                    scores: trace,
+                    // The one place where frame ends become seconds.
+                    scores: trace
+                        .into_iter()
+                        .map(|s| s.timed(info.sample_rate_hz))
+                        .collect(),
                     busy_s,
                 },
                 Err((i, message)) => Trace::Failed(format!("score {i}: {message}")),

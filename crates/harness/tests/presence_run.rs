@@ -3,7 +3,7 @@
 //! sweep, and the summary's figures.
 
 use echobench_core::detector::{Cost, Detector, DetectorPlugin, ParamError, ParamSpec, Params};
-use echobench_core::{Score, StreamInfo};
+use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::presence_summary::presence_verdict;
 use echobench_harness::runner::{resolve_detectors, run_suite, DetectorTally, Tallies};
 use echobench_harness::suite::Suite;
@@ -26,16 +26,15 @@ impl SceneSource for NoFiles {
 struct SilentPlugin;
 struct Silent {
     samples: u64,
-    sample_rate_hz: f64,
 }
 
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Silent {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         self.samples += block.len() as u64;
-        out.push(Score {
-            t_s: self.samples as f64 / self.sample_rate_hz,
+        out.push(FrameScore {
+            end_sample: self.samples,
             value: 0.0,
         });
     }
@@ -54,11 +53,8 @@ impl DetectorPlugin for SilentPlugin {
     fn params(&self) -> &'static [ParamSpec] {
         &NO_PARAMS
     }
-    fn build(&self, _: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(Silent {
-            samples: 0,
-            sample_rate_hz: info.sample_rate_hz,
-        }))
+    fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+        Ok(Box::new(Silent { samples: 0 }))
     }
     fn cost(&self, _: &Params, _: &StreamInfo) -> Result<Cost, ParamError> {
         Ok(Cost {

@@ -4,7 +4,7 @@
 use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
 };
-use echobench_core::{Score, StreamInfo};
+use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{merge_tallies, resolve_detectors, run_suite, Shard, Tallies};
 use echobench_harness::suite::Suite;
 use echobench_harness::suite_file::{default_suite, load_suite_text, FolderSource};
@@ -88,13 +88,13 @@ struct Panicking {
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Panicking {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         if self.first && block.first().is_some_and(|&x| x > 0.0) {
             panic!("deliberate failure for the test");
         }
         self.first = false;
-        out.push(Score {
-            t_s: 0.0,
+        out.push(FrameScore {
+            end_sample: 0,
             value: 0.0,
         });
     }
@@ -140,10 +140,10 @@ static NAN_PARAMS: [ParamSpec; 1] = [ParamSpec {
 }];
 
 impl Detector for NanDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         if !block.is_empty() {
-            out.push(Score {
-                t_s: 1.0,
+            out.push(FrameScore {
+                end_sample: 1,
                 value: f64::NAN,
             });
         }

@@ -115,7 +115,7 @@ use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, ResolvedBand, DEFAULT_RESOLUTION_MPS,
     MOTION_MAX_MPS, MOTION_MIN_MPS,
 };
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
 
@@ -819,7 +819,6 @@ pub struct BandRatioDetector {
     framer: Framer,
     scorer: FrameScorer,
     values_per_sample: u64,
-    sample_rate_hz: f64,
 }
 
 impl BandRatioDetector {
@@ -845,23 +844,22 @@ impl BandRatioDetector {
                 statistic: config.statistic,
             },
             values_per_sample: values_per_sample as u64,
-            sample_rate_hz: config.sample_rate_hz,
         }
     }
 }
 
 impl Detector for BandRatioDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         let mut clean = [0.0f32; CLEAN_CHUNK];
         let scorer = &mut self.scorer;
-        let (values_per_sample, fs) = (self.values_per_sample, self.sample_rate_hz);
+        let values_per_sample = self.values_per_sample;
         for chunk in block.chunks(CLEAN_CHUNK) {
             for (c, &v) in clean.iter_mut().zip(chunk) {
                 *c = if v.is_finite() { v } else { 0.0 };
             }
             self.framer.push(&clean[..chunk.len()], |frame, end_index| {
-                out.push(Score {
-                    t_s: (end_index / values_per_sample) as f64 / fs,
+                out.push(FrameScore {
+                    end_sample: end_index / values_per_sample,
                     value: scorer.score(frame),
                 });
             });

@@ -3,7 +3,7 @@
 //! and the edge cases every detector must survive.
 
 use echobench_core::detector::{check_scores, test_stream, DetectorPlugin, ParamValue, Params};
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_band_ratio::{BandRatioConfig, BandRatioPlugin};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -37,7 +37,7 @@ fn pinned(given: &[(&str, ParamValue)]) -> Vec<(String, ParamValue)> {
 }
 
 /// With no parameter set, as a suite with `plugin: band-ratio` alone.
-fn run_defaults(info: &StreamInfo, data: &[f32]) -> Vec<Score> {
+fn run_defaults(info: &StreamInfo, data: &[f32]) -> Vec<FrameScore> {
     let params = Params::resolve("band-ratio", BandRatioPlugin.params(), &[]).unwrap();
     let mut detector = BandRatioPlugin.build(&params, info).expect("builds");
     let mut out = Vec::new();
@@ -45,7 +45,12 @@ fn run_defaults(info: &StreamInfo, data: &[f32]) -> Vec<Score> {
     out
 }
 
-fn run(given: &[(&str, ParamValue)], info: &StreamInfo, data: &[f32], block: usize) -> Vec<Score> {
+fn run(
+    given: &[(&str, ParamValue)],
+    info: &StreamInfo,
+    data: &[f32],
+    block: usize,
+) -> Vec<FrameScore> {
     let mut detector = BandRatioPlugin.build(&params(given), info).expect("builds");
     let mut out = Vec::new();
     for chunk in data.chunks(block.max(1)) {
@@ -113,7 +118,7 @@ fn reproduces_the_reference_pipeline_scores() {
             .iter()
             .map(|&c| (f64::from(c) * lsb_v) as f32)
             .collect();
-        let max_of = |scores: Vec<Score>| {
+        let max_of = |scores: Vec<FrameScore>| {
             assert_eq!(scores.len(), (samples_per_trial - 256) / 128 + 1); // 77 frames
             scores
                 .iter()
@@ -152,7 +157,7 @@ fn f_law_setup(window: &str) -> Vec<(&'static str, ParamValue)> {
     ]
 }
 
-fn exceedances(scores: &[Score], threshold: f64) -> f64 {
+fn exceedances(scores: &[FrameScore], threshold: f64) -> f64 {
     scores.iter().filter(|s| s.value >= threshold).count() as f64 / scores.len() as f64
 }
 
@@ -341,7 +346,7 @@ fn a_motion_band_tone_scores_above_a_reference_band_tone() {
         }
         data
     };
-    let median = |mut s: Vec<Score>| {
+    let median = |mut s: Vec<FrameScore>| {
         s.sort_by(|a, b| a.value.total_cmp(&b.value));
         s[s.len() / 2].value
     };
@@ -394,15 +399,15 @@ fn time_stamps_mark_the_end_of_each_frame() {
     let info = test_stream(2000.0);
     let scores = run(&[], &info, &noise(2, 1000, 0.01), 100);
     // Frames end at samples 256, 384, ..., 896 (one past the last sample).
-    let ends: Vec<f64> = scores.iter().map(|s| s.t_s * 2000.0).collect();
-    assert_eq!(ends, vec![256.0, 384.0, 512.0, 640.0, 768.0, 896.0]);
+    let ends: Vec<u64> = scores.iter().map(|s| s.end_sample).collect();
+    assert_eq!(ends, vec![256, 384, 512, 640, 768, 896]);
     let mut iq = info;
     iq.channels = Channels::Iq;
     let scores = run(&[], &iq, &noise(2, 1000, 0.01), 100);
     // 500 sample instants: frames end at instants 256 and 384.
     assert_eq!(
-        scores.iter().map(|s| s.t_s).collect::<Vec<_>>(),
-        vec![256.0 / 2000.0, 384.0 / 2000.0]
+        scores.iter().map(|s| s.end_sample).collect::<Vec<_>>(),
+        vec![256, 384]
     );
 }
 
@@ -601,7 +606,7 @@ fn speed_defaults_find_the_torso_line_at_both_carriers() {
             }
             data
         };
-        let median = |mut s: Vec<Score>| {
+        let median = |mut s: Vec<FrameScore>| {
             s.sort_by(|a, b| a.value.total_cmp(&b.value));
             s[s.len() / 2].value
         };

@@ -93,7 +93,7 @@ use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
     MOTION_MIN_MPS,
 };
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::cfar_cells::CellPlan;
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 
@@ -456,7 +456,6 @@ pub struct CaCfarDetector {
     power: Vec<f64>,
     plan: CellPlan,
     values_per_sample: u64,
-    sample_rate_hz: f64,
     nominal_multiplier: f64,
 }
 
@@ -483,7 +482,6 @@ impl CaCfarDetector {
             power: vec![0.0; layout.axis.bins()],
             plan: layout.plan,
             values_per_sample: values_per_sample as u64,
-            sample_rate_hz: info.sample_rate_hz,
             nominal_multiplier: config.nominal_multiplier(),
         })
     }
@@ -525,7 +523,7 @@ fn frame_score(power: &[f64], plan: &CellPlan) -> f64 {
 }
 
 impl Detector for CaCfarDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         let CaCfarDetector {
             framer,
             transform,
@@ -533,14 +531,13 @@ impl Detector for CaCfarDetector {
             power,
             plan,
             values_per_sample,
-            sample_rate_hz,
             ..
         } = self;
         framer.push(block, |frame, end_value| {
             let frame = finite_frame(frame, clean_frame);
             transform.compute(frame, power);
-            out.push(Score {
-                t_s: (end_value / *values_per_sample) as f64 / *sample_rate_hz,
+            out.push(FrameScore {
+                end_sample: end_value / *values_per_sample,
                 value: frame_score(power, plan),
             });
         });

@@ -6,7 +6,7 @@
 //! seed ever changes).
 
 use echobench_core::detector::{test_stream, Detector};
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_ca_cfar::{ca_multiplier, ca_pfa, ca_ratio, CaCfarConfig, CaCfarDetector};
 use echobench_detector_dsp::Window;
 use rand::{Rng, SeedableRng};
@@ -56,7 +56,7 @@ fn noise_scores(
     frames: usize,
     sigma_v: f32,
     seed: u8,
-) -> Vec<Score> {
+) -> Vec<FrameScore> {
     let mut rng = ChaCha8Rng::from_seed([seed; 32]);
     let values = frames * frame_len * info.channels.count();
     let mut chunk = vec![0.0f32; 8192];

@@ -75,7 +75,7 @@ use echobench_core::detector::{
     ParamSpec, Params,
 };
 use echobench_core::doppler::Framing;
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use std::ffi::{c_int, c_void};
 
 /// The plugin's id in suite files.
@@ -252,7 +252,6 @@ impl Config {
 struct EnergyC {
     /// `energy_state_size()` bytes, 8-byte aligned (u64 words); only C reads it.
     state: Box<[u64]>,
-    config: Config,
     consumed: u64,
 }
 
@@ -287,16 +286,12 @@ impl EnergyC {
                 format!("the C code's energy_init refused them (code {status})"),
             ));
         }
-        Ok(EnergyC {
-            state,
-            config,
-            consumed: 0,
-        })
+        Ok(EnergyC { state, consumed: 0 })
     }
 }
 
 impl Detector for EnergyC {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         let state = self.state.as_mut_ptr().cast::<c_void>();
         for &sample in block {
             let mut score = 0.0_f32;
@@ -305,8 +300,8 @@ impl Detector for EnergyC {
             let ready: c_int = unsafe { ffi::energy_push(state, sample, &mut score) };
             self.consumed += 1;
             if ready != 0 {
-                out.push(Score {
-                    t_s: self.consumed as f64 / self.config.sample_rate_hz,
+                out.push(FrameScore {
+                    end_sample: self.consumed,
                     value: f64::from(score),
                 });
             }
@@ -336,7 +331,7 @@ mod tests {
         EnergyCPlugin.build(&Params::resolve(ID, &PARAMS, &given)?, info)
     }
 
-    fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<Score> {
+    fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         let mut out = Vec::new();
         for chunk in samples.chunks(block.max(1)) {
             detector.process(chunk, &mut out);
@@ -463,8 +458,8 @@ mod tests {
         );
         assert_eq!(
             one,
-            vec![Score {
-                t_s: 0.001,
+            vec![FrameScore {
+                end_sample: 1,
                 value: 0.25
             }]
         );

@@ -73,7 +73,7 @@ use echobench_core::detector::{
     ParamSpec, Params,
 };
 use echobench_core::doppler::{self, BandNames, FrameRules, FrameUnits, Framing};
-use echobench_core::{Score, StreamInfo};
+use echobench_core::{FrameScore, StreamInfo};
 
 /// The plugin's id in suite files.
 const ID: &str = "energy";
@@ -556,13 +556,13 @@ impl EnergyDetector {
     }
 
     /// As [`Detector::process`], for samples held as f64.
-    pub fn process_f64(&mut self, block: &[f64], out: &mut Vec<Score>) {
+    pub fn process_f64(&mut self, block: &[f64], out: &mut Vec<FrameScore>) {
         for &value in block {
             self.push_value(value, out);
         }
     }
 
-    fn push_value(&mut self, value: f64, out: &mut Vec<Score>) {
+    fn push_value(&mut self, value: f64, out: &mut Vec<FrameScore>) {
         let value = if value.is_finite() { value } else { 0.0 };
         let power = if self.config.channels == 2 {
             let Some(in_phase) = self.pending_in_phase.take() else {
@@ -579,7 +579,7 @@ impl EnergyDetector {
         self.push_power(power, out);
     }
 
-    fn push_power(&mut self, power: f64, out: &mut Vec<Score>) {
+    fn push_power(&mut self, power: f64, out: &mut Vec<FrameScore>) {
         let n = self.config.frame_len;
         self.powers[self.head] = power;
         self.head += 1;
@@ -597,8 +597,8 @@ impl EnergyDetector {
                     Normalise::None => energy_v2,
                     Normalise::Floor => self.floor.score(energy_v2),
                 };
-                out.push(Score {
-                    t_s: self.consumed as f64 / self.config.sample_rate_hz,
+                out.push(FrameScore {
+                    end_sample: self.consumed,
                     value,
                 });
             }
@@ -607,7 +607,7 @@ impl EnergyDetector {
 }
 
 impl Detector for EnergyDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         for &value in block {
             self.push_value(f64::from(value), out);
         }
@@ -651,7 +651,7 @@ mod tests {
         EnergyPlugin.build(&params(given)?, info)
     }
 
-    fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<Score> {
+    fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         let mut out = Vec::new();
         for chunk in samples.chunks(block.max(1)) {
             detector.process(chunk, &mut out);
@@ -806,8 +806,8 @@ mod tests {
         .expect("valid");
         assert_eq!(
             run(detector.as_mut(), &[0.5], 1),
-            vec![Score {
-                t_s: 1.0 / 2000.0,
+            vec![FrameScore {
+                end_sample: 1,
                 value: 0.25
             }]
         );
@@ -818,17 +818,14 @@ mod tests {
         let fs = 2000.0;
         let mut detector = build(&[], &test_stream(fs)).expect("valid");
         let scores = run(detector.as_mut(), &noise(1, 1000, 0.01), 1000);
-        let ends: Vec<f64> = scores.iter().map(|s| s.t_s * fs).collect();
-        assert_eq!(ends, vec![256.0, 384.0, 512.0, 640.0, 768.0, 896.0]);
+        let ends: Vec<u64> = scores.iter().map(|s| s.end_sample).collect();
+        assert_eq!(ends, vec![256, 384, 512, 640, 768, 896]);
         // I/Q: an instant is one I, Q pair, so 1000 values are 500 instants.
         let mut detector =
             build(&[("frame_len", int(100)), ("hop", int(50))], &iq_stream(fs)).expect("valid");
         let scores = run(detector.as_mut(), &noise(2, 1000, 0.01), 3);
-        let ends: Vec<f64> = scores.iter().map(|s| s.t_s * fs).collect();
-        assert_eq!(
-            ends,
-            (2..=10).map(|k| f64::from(k) * 50.0).collect::<Vec<_>>()
-        );
+        let ends: Vec<u64> = scores.iter().map(|s| s.end_sample).collect();
+        assert_eq!(ends, (2..=10).map(|k| k * 50).collect::<Vec<u64>>());
     }
 
     /// |H|² of the bilinear-transformed Butterworth filter of order 2:

@@ -5,7 +5,7 @@
 //! within |p̂ − p| ≤ 4.5·√(p(1 − p)/M) (docs/reference/statistics.md#s9).
 
 use echobench_core::detector::{test_stream, DetectorPlugin, ParamValue, Params};
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_energy::EnergyPlugin;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -49,7 +49,7 @@ fn noise_scores(
     let normal = Normal::new(0.0, sigma).expect("valid sigma");
     let values = frames * frame_len * info.channels.count();
     let mut block = vec![0.0_f32; 8192];
-    let mut out: Vec<Score> = Vec::with_capacity(1024);
+    let mut out: Vec<FrameScore> = Vec::with_capacity(1024);
     let mut scores = Vec::with_capacity(frames);
     let mut done = 0;
     while done < values {

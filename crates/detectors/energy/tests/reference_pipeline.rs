@@ -4,7 +4,7 @@
 //! over frames (docs/reference/detectors.md#d9).
 
 use echobench_core::detector::{DetectorPlugin, ParamValue, Params};
-use echobench_core::{detector::test_stream, Score};
+use echobench_core::{detector::test_stream, FrameScore};
 use echobench_detector_energy::{EnergyDetector, EnergyPlugin};
 
 const SAMPLES_PER_TRIAL: usize = 10_000;
@@ -62,7 +62,7 @@ fn reference_params() -> Params {
     Params::resolve("energy", EnergyPlugin.params(), &given).expect("valid parameters")
 }
 
-fn max_score(scores: &[Score]) -> f64 {
+fn max_score(scores: &[FrameScore]) -> f64 {
     scores
         .iter()
         .map(|s| s.value)

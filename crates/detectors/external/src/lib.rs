@@ -124,10 +124,12 @@
 //!
 //! Records may be written before the whole block has been read. The host
 //! checks each answer and fails the detector when a value or a time stamp is
-//! not finite, a time stamp is negative, earlier than the one before, or
-//! later than the end of the samples sent (beyond 1e-9 relative: a wrong
-//! sample rate or frame end), or an answer holds more scores than the block
-//! has sample instants.
+//! not finite, a time stamp is negative, earlier than the one before, later
+//! than the end of the samples sent (a wrong sample rate or frame end), or
+//! more than 1e-6 samples away from a whole sample instant, or an answer holds
+//! more scores than the block has sample instants. The host maps each t_s to
+//! its sample instant: the harness counts frame ends in samples, as the
+//! built-in detectors report them, and makes them seconds in one place.
 //!
 //! **5. END, host → program:** tag `END ` (with a space), then the host
 //! closes the program's stdin. The program writes nothing more and exits with
@@ -214,7 +216,7 @@ mod session;
 use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
 };
-use echobench_core::{Score, StreamInfo};
+use echobench_core::{FrameScore, Score, StreamInfo};
 use protocol::{encode_hello, MAX_BLOCK_VALUES, TAG_BLOCK, VERSION};
 use session::{FromProgram, Session, Wait};
 use std::path::{Path, PathBuf};
@@ -230,10 +232,11 @@ const MAX_TIMEOUT_S: f64 = 86_400.0;
 /// ended (it normally arrives within microseconds of the pipe closing).
 const EXIT_REPORT_WAIT: Duration = Duration::from_secs(1);
 
-/// How much a time stamp may exceed the end of the samples sent, relative:
+/// How far t_s × sample rate may lie from a whole sample instant, in samples:
 /// room for a program that computes t_s by a different but exact-enough
-/// formula (float sums of hops), far below one sample at any real rate.
-const FUTURE_TOLERANCE: f64 = 1e-9;
+/// formula (float sums of hops), far below one sample at any real rate. The
+/// host maps each t_s to that instant, the frame end the harness works with.
+const INSTANT_TOLERANCE: f64 = 1e-6;
 
 /// The kind given to `command` and `args`: free text.
 pub const TEXT_KIND: ParamKind = ParamKind::Text;
@@ -589,7 +592,7 @@ impl ExternalDetector {
     }
 
     /// Sends one BLCK holding `values` (already clean) and pushes its answer.
-    fn exchange(&mut self, message: Vec<u8>, instants: u64, out: &mut Vec<Score>) {
+    fn exchange(&mut self, message: Vec<u8>, instants: u64, out: &mut Vec<FrameScore>) {
         let Some(session) = &mut self.session else {
             return;
         };
@@ -617,7 +620,12 @@ impl ExternalDetector {
         match session.receive() {
             Wait::Got(FromProgram::Answer(answer)) => match self.check_answer(&answer, instants) {
                 Ok(()) => {
-                    out.extend_from_slice(&answer);
+                    let fs = self.info.sample_rate_hz;
+                    out.extend(answer.iter().map(|s| FrameScore {
+                        // check_answer made sure this is within 1e-6 of a whole instant.
+                        end_sample: (s.t_s * fs).round() as u64,
+                        value: s.value,
+                    }));
                     if let Some(last) = answer.last() {
                         self.last_t_s = last.t_s;
                     }
@@ -685,10 +693,19 @@ impl ExternalDetector {
                     score.t_s
                 ));
             }
-            if score.t_s > end_s * (1.0 + FUTURE_TOLERANCE) {
+            let instant = score.t_s * self.info.sample_rate_hz;
+            if instant.round() > self.sent_instants as f64 {
                 return Err(format!(
                     "sent a score for t = {} s, after the end of the samples sent so far ({end_s} s): \
                      a wrong sample rate or frame end?",
+                    score.t_s
+                ));
+            }
+            if (instant - instant.round()).abs() > INSTANT_TOLERANCE {
+                return Err(format!(
+                    "sent a score for t = {} s, which is not the end of a sample instant \
+                     (t_s × sample rate = {instant}): t_s must be (index one past the frame's \
+                     last sample) / sample rate",
                     score.t_s
                 ));
             }
@@ -701,7 +718,7 @@ impl ExternalDetector {
 impl Detector for ExternalDetector {
     /// Sends `block` in BLCK messages of at most 4096 values (whole I/Q
     /// pairs; a dangling I waits for its Q) and pushes every answer.
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         let iq = self.info.channels.count() == 2;
         let mut values = block
             .iter()

@@ -153,7 +153,7 @@ fn a_hanging_program_is_killed_at_its_time_limit() {
 
 #[test]
 fn scores_out_of_order_nan_or_in_the_future_are_refused() {
-    let cases: [(&str, Vec<u8>, &str); 4] = [
+    let cases: [(&str, Vec<u8>, &str); 5] = [
         (
             "backwards",
             [score_record(0.5, 1.0), score_record(0.25, 1.0)].concat(),
@@ -170,6 +170,11 @@ fn scores_out_of_order_nan_or_in_the_future_are_refused() {
             "after the end of the samples sent so far (1 s)",
         ),
         ("negative", score_record(-1.0, 1.0), "time stamp of -1 s"),
+        (
+            "between-instants",
+            score_record(0.5 + 0.3 / FS, 1.0),
+            "not the end of a sample instant",
+        ),
     ];
     for (stem, records, expected) in cases {
         let answer = [records, b"DONE".to_vec()].concat();

@@ -24,7 +24,7 @@ mod common;
 
 use common::{build, energy_example, python_with_numpy, run};
 use echobench_core::detector::{check_scores, test_stream, DetectorPlugin, ParamValue, Params};
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_energy::EnergyPlugin;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -53,7 +53,11 @@ fn iq_stream(fs: f64) -> StreamInfo {
 }
 
 /// The built-in detector's scores with the same settings (name, value).
-fn built_in(settings: &[(&str, ParamValue)], info: &StreamInfo, samples: &[f32]) -> Vec<Score> {
+fn built_in(
+    settings: &[(&str, ParamValue)],
+    info: &StreamInfo,
+    samples: &[f32],
+) -> Vec<FrameScore> {
     let given: Vec<(String, ParamValue)> = settings
         .iter()
         .map(|(n, v)| (n.to_string(), v.clone()))
@@ -75,7 +79,7 @@ fn python(
     info: &StreamInfo,
     samples: &[f32],
     block: usize,
-) -> Vec<Score> {
+) -> Vec<FrameScore> {
     let mut detector =
         build("python3", &as_args(settings), &[], info).unwrap_or_else(|e| panic!("{e}"));
     let scores = run(detector.as_mut(), samples, block);
@@ -83,16 +87,16 @@ fn python(
     scores
 }
 
-fn assert_close(python: &[Score], rust: &[Score], what: &str) {
+fn assert_close(python: &[FrameScore], rust: &[FrameScore], what: &str) {
     assert_eq!(python.len(), rust.len(), "{what}: frame counts");
     assert!(!rust.is_empty(), "{what}");
     for (p, r) in python.iter().zip(rust) {
-        assert_eq!(p.t_s, r.t_s, "{what}: time stamps");
+        assert_eq!(p.end_sample, r.end_sample, "{what}: frame ends");
         let difference = (p.value - r.value).abs();
         assert!(
             difference <= RELATIVE * r.value.abs(),
-            "{what} at {} s: python {} vs rust {}",
-            r.t_s,
+            "{what} at sample {}: python {} vs rust {}",
+            r.end_sample,
             p.value,
             r.value
         );
@@ -234,8 +238,8 @@ fn nan_silence_clipping_and_a_single_sample_behave() {
     );
     assert_eq!(
         one,
-        vec![Score {
-            t_s: 1.0 / 2000.0,
+        vec![FrameScore {
+            end_sample: 1,
             value: 0.25
         }]
     );

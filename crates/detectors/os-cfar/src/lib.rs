@@ -79,7 +79,7 @@ use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
     MOTION_MIN_MPS,
 };
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::cfar_cells::{CellPlan, DopplerAxis};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 
@@ -407,7 +407,6 @@ pub struct OsCfarDetector {
     plan: CellPlan,
     rank: usize,
     values_per_sample: u64,
-    sample_rate_hz: f64,
     nominal_multiplier: f64,
 }
 
@@ -437,7 +436,6 @@ impl OsCfarDetector {
             plan: layout.plan,
             rank: config.rank,
             values_per_sample: values_per_sample as u64,
-            sample_rate_hz: info.sample_rate_hz,
             nominal_multiplier: config.nominal_multiplier(),
         })
     }
@@ -454,7 +452,7 @@ impl OsCfarDetector {
 }
 
 impl Detector for OsCfarDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         let OsCfarDetector {
             framer,
             transform,
@@ -464,7 +462,6 @@ impl Detector for OsCfarDetector {
             plan,
             rank,
             values_per_sample,
-            sample_rate_hz,
             ..
         } = self;
         framer.push(block, |frame, end_value| {
@@ -491,8 +488,8 @@ impl Detector for OsCfarDetector {
                 }
                 score = score.max(os_ratio(power[k], cells, *rank));
             }
-            out.push(Score {
-                t_s: (end_value / *values_per_sample) as f64 / *sample_rate_hz,
+            out.push(FrameScore {
+                end_sample: end_value / *values_per_sample,
                 value: score,
             });
         });

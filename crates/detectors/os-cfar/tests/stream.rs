@@ -2,7 +2,7 @@
 //! implementation, silence, NaN, clipping and trials shorter than a frame.
 
 use echobench_core::detector::{check_scores, test_stream, Detector, DetectorPlugin, Params};
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::Window;
 use echobench_detector_os_cfar::{OsCfarConfig, OsCfarDetector, OsCfarPlugin};
 use rand::{Rng, SeedableRng};
@@ -35,7 +35,7 @@ fn random_input(values: usize, seed: u8) -> Vec<f32> {
         .collect()
 }
 
-fn run_in_blocks(detector: &mut dyn Detector, input: &[f32], block: usize) -> Vec<Score> {
+fn run_in_blocks(detector: &mut dyn Detector, input: &[f32], block: usize) -> Vec<FrameScore> {
     let mut out = Vec::new();
     for chunk in input.chunks(block.max(1)) {
         detector.process(chunk, &mut out);
@@ -159,10 +159,10 @@ fn naive_scores(x: &[f32], c: &OsCfarConfig, iq: bool) -> Vec<(f64, f64)> {
     scores
 }
 
-fn assert_close(fast: &[Score], slow: &[(f64, f64)]) {
+fn assert_close(fast: &[FrameScore], slow: &[(f64, f64)]) {
     assert_eq!(fast.len(), slow.len());
     for (f, &(t_s, value)) in fast.iter().zip(slow) {
-        assert!((f.t_s - t_s).abs() < 1e-12);
+        assert!((f.end_sample as f64 / FS_HZ - t_s).abs() < 1e-12);
         assert!(
             (f.value / value - 1.0).abs() < 1e-9,
             "t = {t_s}: {} vs {value}",
@@ -278,6 +278,6 @@ fn short_trials_give_no_scores_and_frames_end_on_time() {
         assert!(out.is_empty());
         detector.process(&frame[frame.len() - 1..], &mut out);
         assert_eq!(out.len(), 1);
-        assert_eq!(out[0].t_s, 256.0 / FS_HZ);
+        assert_eq!(out[0].end_sample, 256);
     }
 }

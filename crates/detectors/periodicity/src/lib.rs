@@ -141,7 +141,7 @@ use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
     MOTION_MIN_MPS,
 };
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 use realfft::num_complex::Complex;
 use realfft::{RealFftPlanner, RealToComplex};
@@ -811,7 +811,7 @@ struct State {
 }
 
 impl State {
-    fn on_frame(&mut self, frame: &[f64], end_index: u64, out: &mut Vec<Score>) {
+    fn on_frame(&mut self, frame: &[f64], end_index: u64, out: &mut Vec<FrameScore>) {
         match &mut self.spectrum {
             Spectrum::Real(s) => s.compute(frame, &mut self.power),
             Spectrum::Iq(s) => s.compute(frame, &mut self.power),
@@ -829,10 +829,10 @@ impl State {
         if self.frames_seen >= w
             && (self.frames_seen - w).is_multiple_of(self.decision_frames as u64)
         {
-            let t_s = (end_index / self.values_per_sample) as f64 / self.sample_rate_hz;
-            let reading = self.analyse(t_s);
-            out.push(Score {
-                t_s,
+            let end_sample = end_index / self.values_per_sample;
+            let reading = self.analyse(end_sample as f64 / self.sample_rate_hz);
+            out.push(FrameScore {
+                end_sample,
                 value: reading.score,
             });
             self.last = Some(reading);
@@ -976,7 +976,7 @@ impl PeriodicityDetector {
 }
 
 impl Detector for PeriodicityDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         let mut clean = [0.0f32; CLEAN_CHUNK];
         let state = &mut self.state;
         for chunk in block.chunks(CLEAN_CHUNK) {

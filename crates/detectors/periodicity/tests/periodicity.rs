@@ -4,7 +4,7 @@
 //! that whitens the cadence spectrum; and the contract every detector meets.
 
 use echobench_core::detector::{check_scores, DetectorPlugin, ParamValue, Params};
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_periodicity::{
     CadenceReading, PeriodicityConfig, PeriodicityDetector, PeriodicityPlugin,
 };
@@ -58,7 +58,12 @@ fn detector(given: &[(&str, ParamValue)], info: &StreamInfo) -> PeriodicityDetec
     PeriodicityDetector::new(config)
 }
 
-fn run(given: &[(&str, ParamValue)], info: &StreamInfo, data: &[f32], block: usize) -> Vec<Score> {
+fn run(
+    given: &[(&str, ParamValue)],
+    info: &StreamInfo,
+    data: &[f32],
+    block: usize,
+) -> Vec<FrameScore> {
     let mut detector = PeriodicityPlugin
         .build(&params(given), info)
         .expect("builds");
@@ -69,7 +74,7 @@ fn run(given: &[(&str, ParamValue)], info: &StreamInfo, data: &[f32], block: usi
     out
 }
 
-fn run_with_readings(data: &[f32]) -> (Vec<Score>, Vec<CadenceReading>) {
+fn run_with_readings(data: &[f32]) -> (Vec<FrameScore>, Vec<CadenceReading>) {
     let mut detector = detector(&[], &stream_2g4());
     let (mut scores, mut readings) = (Vec::new(), Vec::new());
     for chunk in data.chunks(1000) {
@@ -184,14 +189,14 @@ fn sway_like(seed: u8, seconds: f64) -> Vec<f64> {
     x
 }
 
-fn max_score(scores: &[Score]) -> f64 {
+fn max_score(scores: &[FrameScore]) -> f64 {
     scores
         .iter()
         .map(|s| s.value)
         .fold(f64::NEG_INFINITY, f64::max)
 }
 
-fn min_score(scores: &[Score]) -> f64 {
+fn min_score(scores: &[FrameScore]) -> f64 {
     scores.iter().map(|s| s.value).fold(f64::INFINITY, f64::min)
 }
 
@@ -460,8 +465,8 @@ fn time_stamps_mark_the_end_of_the_newest_frame() {
         &to_f32(&white_noise(&mut rng, 12_000, 0.01)),
         999,
     );
-    let ends: Vec<f64> = scores.iter().map(|s| s.t_s * FS_HZ).collect();
-    assert_eq!(ends, vec![8192.0, 9216.0, 10240.0, 11264.0]);
+    let ends: Vec<u64> = scores.iter().map(|s| s.end_sample).collect();
+    assert_eq!(ends, vec![8192, 9216, 10240, 11264]);
 }
 
 #[test]

@@ -21,7 +21,7 @@
 //!
 //! **Input rules.** Real streams only (I/Q refused, parameter `channels`). A
 //! non-finite sample (NaN, ±∞) counts as 0. Silence scores 0. One score per
-//! frame, at t_s = (index one past the frame's last sample) / fs.
+//! frame, its `end_sample` the index one past the frame's last sample.
 
 // Every public item must have a doc comment: the build fails otherwise.
 #![deny(missing_docs)]
@@ -31,7 +31,7 @@ use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
 };
 // The stream description, the score type and the channel kinds.
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 
 /// The id that suite files use to pick this detector (kebab-case).
 const ID: &str = "template";
@@ -108,10 +108,9 @@ impl DetectorPlugin for TemplatePlugin {
 /// Checked parameters: what `build` and `cost` agree on.
 #[derive(Debug, Clone, Copy)]
 struct Config {
-    // Frame length converted to whole samples (at least 1).
+    // Frame length converted to whole samples (at least 1). No sample rate:
+    // scores carry sample indices, which the harness turns into seconds.
     frame_samples: usize,
-    // The stream's sample rate, for time stamps.
-    sample_rate_hz: f64,
 }
 
 // Turning user parameters into a checked configuration.
@@ -165,8 +164,6 @@ impl Config {
         Ok(Config {
             // At least 1, checked just above (and finite: fs and frame_s are).
             frame_samples: frame_samples as usize,
-            // Kept for time stamps.
-            sample_rate_hz,
         })
     }
 }
@@ -184,7 +181,7 @@ struct TemplateDetector {
     max: f64,
     // Samples in the current frame so far.
     in_frame: usize,
-    // Samples since the start of the stream (for time stamps).
+    // Samples since the start of the stream (each score's `end_sample`).
     consumed: u64,
 }
 
@@ -226,7 +223,7 @@ impl TemplateDetector {
 impl Detector for TemplateDetector {
     // Any block length works, and the scores do not depend on it, because all
     // state lives in `self` and is updated one sample at a time.
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         // One sample at a time.
         for &sample in block {
             // The documented NaN rule: a non-finite sample counts as 0.
@@ -254,9 +251,9 @@ impl Detector for TemplateDetector {
                 // The larger excursion from the mean, up or down.
                 let peak_v = (self.max - mean).max(mean - self.min);
                 // One score per frame, stamped at the end of the frame.
-                out.push(Score {
-                    // Index one past the last sample, in seconds.
-                    t_s: self.consumed as f64 / self.config.sample_rate_hz,
+                out.push(FrameScore {
+                    // Index one past the frame's last sample (the harness makes it seconds).
+                    end_sample: self.consumed,
                     // Rounding can leave −1e-17 for a flat frame: clamp at 0.
                     value: peak_v.max(0.0),
                 });
@@ -294,7 +291,7 @@ mod tests {
     }
 
     // Feeds `samples` in blocks of `block` and collects the scores.
-    fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<Score> {
+    fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         // The caller owns the output buffer.
         let mut out = Vec::new();
         // Split the stream into blocks.
@@ -334,8 +331,8 @@ mod tests {
         assert_eq!(scores.len(), 10);
         // Each scores the swing, not the offset.
         assert!(scores.iter().all(|s| s.value == 0.25));
-        // The first frame ends at sample 100, i.e. 0.1 s.
-        assert_eq!(scores[0].t_s, 0.1);
+        // The first frame ends at sample 100 (index one past its last sample).
+        assert_eq!(scores[0].end_sample, 100);
     }
 
     // Contract: bad parameters are refused with an error naming them.
@@ -406,11 +403,11 @@ mod tests {
         assert!(run(build(0.1, &info).expect("valid").as_mut(), &[1.0], 1).is_empty());
         // A one-sample frame scores 0: the sample is its own mean.
         let one = run(build(0.001, &info).expect("valid").as_mut(), &[1.0], 1);
-        // One score of 0 at 1 ms.
+        // One score of 0, for the frame ending at sample 1 (1 ms).
         assert_eq!(
             one,
-            vec![Score {
-                t_s: 0.001,
+            vec![FrameScore {
+                end_sample: 1,
                 value: 0.0
             }]
         );

@@ -67,7 +67,7 @@ use echobench_core::detector::{
     ParamSpec, Params,
 };
 use echobench_core::doppler::{self, BandNames};
-use echobench_core::{Channels, Score, StreamInfo};
+use echobench_core::{Channels, FrameScore, StreamInfo};
 
 /// The plugin's id in suite files.
 const ID: &str = "window-comparator";
@@ -426,7 +426,6 @@ struct WindowComparator {
     frame_samples: usize,
     countdown: usize,
     consumed: u64,
-    sample_rate_hz: f64,
 }
 
 impl WindowComparator {
@@ -440,13 +439,12 @@ impl WindowComparator {
             frame_samples: config.frame_samples,
             countdown: config.frame_samples,
             consumed: 0,
-            sample_rate_hz: config.sample_rate_hz,
         }
     }
 }
 
 impl Detector for WindowComparator {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         for &sample in block {
             let mut y = if sample.is_finite() {
                 f64::from(sample)
@@ -464,8 +462,8 @@ impl Detector for WindowComparator {
             self.countdown -= 1;
             if self.countdown == 0 {
                 self.countdown = self.frame_samples;
-                out.push(Score {
-                    t_s: self.consumed as f64 / self.sample_rate_hz,
+                out.push(FrameScore {
+                    end_sample: self.consumed,
                     value: self.peaks.peak(),
                 });
             }
@@ -508,7 +506,7 @@ mod tests {
             .expect("valid parameters")
     }
 
-    fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<Score> {
+    fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         let mut out = Vec::new();
         for chunk in samples.chunks(block.max(1)) {
             detector.process(chunk, &mut out);
@@ -567,7 +565,7 @@ mod tests {
         let scores = run(detector.as_mut(), &samples, 20_000);
         // The 2 Hz DC block has settled (τ = 80 ms) well before 3 s; the 1.5 V
         // offset is gone and only the tone is left.
-        for s in scores.iter().filter(|s| s.t_s > 3.0) {
+        for s in scores.iter().filter(|s| s.end_sample as f64 / fs > 3.0) {
             let v = s.value;
             assert!(
                 v >= lowest * (1.0 - 1e-6) && v <= peak * (1.0 + 1e-6),
@@ -778,8 +776,8 @@ mod tests {
         ];
         assert_eq!(
             run(build(&one, fs).as_mut(), &[-0.5], 1),
-            vec![Score {
-                t_s: 0.001,
+            vec![FrameScore {
+                end_sample: 1,
                 value: 0.5
             }]
         );

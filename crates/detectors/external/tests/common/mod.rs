@@ -2,7 +2,7 @@
 #![allow(dead_code)]
 
 use echobench_core::detector::{Detector, DetectorPlugin, ParamError, ParamValue, Params};
-use echobench_core::Score;
+use echobench_core::FrameScore;
 use echobench_detector_external::ExternalPlugin;
 use std::path::PathBuf;
 use std::process::Command;
@@ -69,7 +69,7 @@ pub fn score_record(t_s: f64, value: f64) -> Vec<u8> {
 }
 
 /// Feeds `samples` in blocks of `block` values; returns every score.
-pub fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<Score> {
+pub fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
     let mut out = Vec::new();
     for chunk in samples.chunks(block.max(1)) {
         detector.process(chunk, &mut out);
