@@ -2,10 +2,9 @@
 //! on the same time axis, the score trace with the threshold, the alarm state and the truth as
 //! the scorer takes it.
 //!
-//! The spectrogram is drawn by `echobench_spectrogram::write_picture` (its heat map, colour bar
-//! and truth strip) and nested as an inner `<svg>`; the panels below are hand-written SVG that
-//! take their time axis from the spectrogram's plot area, read back from the clip rectangle
-//! the spectrogram writes around its heat map, so the two line up to the pixel. Every element
+//! The spectrogram is drawn by `echobench_spectrogram::draw_picture` (its heat map, colour bar
+//! and truth strip) and nested as an inner `<svg>`; the panels below take their time axis
+//! from the spectrogram's plot area (`Picture::plot_area`), so the two line up to the pixel. Every element
 //! has a class naming what it shows (`score-trace`, `threshold`, `alarm-on`, `alarm-detection`,
 //! `alarm-false`, `truth-event`, `truth-window`, `truth-still`, `truth-nuisance`, ...), and the
 //! score trace carries `data`, which the report's browser self-check looks for.
@@ -15,9 +14,10 @@ use crate::ExplainError;
 use echobench_core::{Channels, Interval, Score};
 use echobench_harness::events::TrialTruth;
 use echobench_report::plot::{escape, format_number, linear_ticks, Axis, Scale};
-use echobench_spectrogram::{short_time_spectrum, write_picture, Marked, SpectrogramOptions};
+use echobench_spectrogram::{
+    draw_picture, short_time_spectrum, Marked, Picture, SpectrogramOptions,
+};
 use std::fmt::Write as _;
-use std::sync::atomic::{AtomicU64, Ordering};
 
 /// Picture width, px.
 const WIDTH: i32 = 1000;
@@ -109,19 +109,8 @@ impl Frame {
     }
 }
 
-/// The value of attribute `name` in the first tag of `svg` that follows `after`.
-fn attribute_after(svg: &str, after: &str, name: &str) -> Option<String> {
-    let start = svg.find(after)?;
-    let tag_end = start + svg[start..].find("/>")?;
-    let tag = &svg[start..tag_end];
-    let key = format!(" {name}=\"");
-    let at = tag.find(&key)? + key.len();
-    let len = tag[at..].find('"')?;
-    Some(tag[at..at + len].to_string())
-}
-
-/// Draws the spectrogram through the spectrogram crate and returns its SVG text.
-fn spectrogram_svg(input: &PictureInput<'_>, duration_s: f64) -> Result<String, ExplainError> {
+/// Draws the spectrogram through the spectrogram crate, in memory.
+fn spectrogram(input: &PictureInput<'_>, duration_s: f64) -> Result<Picture, ExplainError> {
     let instants = input.samples.len() / input.channels.count().max(1);
     let nyquist_hz = input.sample_rate_hz / 2.0;
     let band_hz = input.max_hz.map_or(nyquist_hz, |f| f.min(nyquist_hz));
@@ -168,46 +157,7 @@ fn spectrogram_svg(input: &PictureInput<'_>, duration_s: f64) -> Result<String, 
         title: input.spectrogram_title.to_string(),
         size_px: (WIDTH as u32, SPECTROGRAM_H as u32),
     };
-    // The spectrogram crate writes files only: draw into a private temporary file and read it
-    // back (its bytes do not depend on the file's name).
-    static COUNTER: AtomicU64 = AtomicU64::new(0);
-    let path = std::env::temp_dir().join(format!(
-        "echobench-explain-{}-{}.svg",
-        std::process::id(),
-        COUNTER.fetch_add(1, Ordering::Relaxed)
-    ));
-    let drawn = write_picture(&path, &spectrum, &marks, &options)
-        .map_err(|e| ExplainError::Picture(e.to_string()))
-        .and_then(|()| {
-            std::fs::read_to_string(&path)
-                .map_err(|e| ExplainError::Picture(format!("reading back {}: {e}", path.display())))
-        });
-    let _ = std::fs::remove_file(&path);
-    // The spectrogram's heat map is already a compressed PNG.
-    drawn
-}
-
-/// Nests the spectrogram's document at `y`, with its clip id made distinct; returns it and
-/// the heat map's horizontal extent.
-fn nest_spectrogram(svg: &str, y: i32, suffix: &str) -> Result<(String, f64, f64), ExplainError> {
-    let unrecognised =
-        || ExplainError::Picture("the spectrogram picture's layout is not recognised".into());
-    let clip_id = attribute_after(svg, "<clipPath", "id").ok_or_else(unrecognised)?;
-    let rect = svg.find("<clipPath").ok_or_else(unrecognised)?;
-    let x0: f64 = attribute_after(&svg[rect..], "<rect", "x")
-        .and_then(|v| v.parse().ok())
-        .ok_or_else(unrecognised)?;
-    let width: f64 = attribute_after(&svg[rect..], "<rect", "width")
-        .and_then(|v| v.parse().ok())
-        .ok_or_else(unrecognised)?;
-    let open = svg.find("<svg").ok_or_else(unrecognised)?;
-    let body = svg[open..].replacen(
-        "<svg",
-        &format!("<svg class=\"spectrogram\" x=\"0\" y=\"{y}\""),
-        1,
-    );
-    let body = body.replace(&clip_id, &format!("{clip_id}-{suffix}"));
-    Ok((body.trim_end().to_string(), x0, x0 + width))
+    draw_picture(&spectrum, &marks, &options).map_err(|e| ExplainError::Picture(e.to_string()))
 }
 
 fn text(out: &mut String, x: f64, y: f64, size: f64, colour: &str, anchor: &str, body: &str) {
@@ -284,8 +234,12 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
             "the trial lasts {duration_s} s: nothing to draw"
         )));
     }
-    let spectrogram = spectrogram_svg(input, duration_s)?;
-    let (nested, x0, x1) = nest_spectrogram(&spectrogram, HEADER_H, input.id_suffix)?;
+    let spectrogram = spectrogram(input, duration_s)?;
+    let nested = spectrogram
+        .nested(f64::from(HEADER_H), "spectrogram", input.id_suffix)
+        .into_string();
+    let area = spectrogram.plot_area();
+    let (x0, x1) = (area.left, area.right());
     let frame = Frame { x0, x1, duration_s };
 
     // Lanes under the score panel.

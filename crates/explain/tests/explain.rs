@@ -343,7 +343,9 @@ fn the_gallery_draws_each_pick_with_its_key() {
     assert!(html.contains("<code>corridor@3/0</code>"));
     assert!(html.contains("echobench explain RUN --detector energy --trial corridor@3/0"));
     assert!(html.contains("class=\"plot explain\""));
-    // Both pictures are of the same trial: one spectrogram, drawn twice.
-    assert_eq!(html.matches("data:image/png;base64,").count(), 1);
+    // Both pictures are of the same trial: one spectrogram (its heat map and colour bar are
+    // the two images), drawn twice.
+    assert_eq!(html.matches("class=\"spectrogram\"").count(), 1);
+    assert_eq!(html.matches("data:image/png;base64,").count(), 2);
     assert_eq!(html.matches("<use href=\"#spectrogram-").count(), 1);
 }

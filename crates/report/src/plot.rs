@@ -1,345 +1,23 @@
-//! Hand-written SVG plot primitives: axes (linear and logarithmic), line and marker charts, and
-//! horizontal bar charts, each rendered to a self-contained `<svg>` string.
+//! The report's plots: line and marker charts and horizontal bar charts, each drawn through
+//! `echobench_svg` into a self-contained `<svg>` string.
 //!
 //! Every element that carries data has the class `data` (lines, markers, bars); axes, grid,
 //! labels and error bars do not. The report's browser self-check and the tests use that class
 //! to tell a plot that drew something from one that only drew its frame. A chart with nothing
 //! to draw says so in words and carries `class="plot empty"`.
 //!
-//! Layout uses a fixed estimate of the width of sans-serif text (0.6 em per character), which
-//! is enough to keep labels apart without knowing which font the viewer picks.
+//! Axes, ticks, number formatting and escaping live in `echobench_svg` (re-exported here), so
+//! the report, the spectrogram and the explanation pictures share one drawing path.
 
 use std::fmt::Write as _;
 
-/// Escapes text for HTML and SVG, both in element content and in quoted attributes.
-///
-/// ```
-/// assert_eq!(echobench_report::plot::escape("a<b & \"c\"'"), "a&lt;b &amp; &quot;c&quot;&#39;");
-/// ```
-pub fn escape(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        match c {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&#39;"),
-            // Control characters other than tab and newline are not allowed in HTML text.
-            c if c.is_control() && c != '\n' && c != '\t' => out.push('\u{FFFD}'),
-            c => out.push(c),
-        }
-    }
-    out
-}
-
-/// Formats a number with `significant` significant digits, plainly for magnitudes in
-/// [10⁻⁴, 10⁶) and in exponent form outside; never prints `-0`, and prints `—` for NaN.
-///
-/// ```
-/// use echobench_report::plot::format_number;
-/// assert_eq!(format_number(13.6138, 3), "13.6");
-/// assert_eq!(format_number(0.0416667, 3), "0.0417");
-/// assert_eq!(format_number(2.5e-7, 2), "2.5e-7");
-/// assert_eq!(format_number(-0.0, 3), "0");
-/// ```
-pub fn format_number(value: f64, significant: usize) -> String {
-    if value.is_nan() {
-        return "—".into();
-    }
-    if value.is_infinite() {
-        return if value > 0.0 {
-            "∞".into()
-        } else {
-            "−∞".into()
-        };
-    }
-    if value == 0.0 {
-        return "0".into();
-    }
-    let significant = significant.clamp(1, 15);
-    let magnitude = value.abs().log10().floor() as i32;
-    if !(-4..6).contains(&magnitude) {
-        let text = format!("{:.*e}", significant - 1, value);
-        // Rust writes `2.50e-7`; drop trailing zeros of the mantissa.
-        if let Some((mantissa, exponent)) = text.split_once('e') {
-            let mantissa = trim_zeros(mantissa);
-            return format!("{mantissa}e{exponent}");
-        }
-        return text;
-    }
-    let decimals = (significant as i32 - 1 - magnitude).max(0) as usize;
-    let text = format!("{value:.decimals$}");
-    let text = trim_zeros(&text);
-    if text == "-0" {
-        "0".into()
-    } else {
-        text
-    }
-}
-
-fn trim_zeros(text: &str) -> String {
-    if text.contains('.') {
-        text.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        text.to_string()
-    }
-}
-
-/// A tick on an axis: major ticks carry a label, minor ticks an empty one.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Tick {
-    /// Where, in data units.
-    pub value: f64,
-    /// Its label; empty for a minor tick.
-    pub label: String,
-}
-
-/// How data values map onto an axis.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum Scale {
-    /// Evenly spaced values.
-    Linear,
-    /// Logarithmic (base 10). With `zero_edge`, values ≤ 0 are drawn at a marked position left
-    /// of (or below) the smallest decade, since a log axis cannot show zero.
-    Log {
-        /// Whether zero gets its own marked place at the edge.
-        zero_edge: bool,
-    },
-}
-
-/// Share of a log axis with a zero edge that the zero position and the break take.
-pub const ZERO_EDGE_SHARE: f64 = 0.08;
-
-/// A plot axis: a label, a range and a scale.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Axis {
-    /// Label, with its unit.
-    pub label: String,
-    /// Smallest value shown (for a log axis, the smallest positive value).
-    pub min: f64,
-    /// Largest value shown.
-    pub max: f64,
-    /// Linear or logarithmic.
-    pub scale: Scale,
-    /// Ticks to use instead of the computed ones (e.g. the names of categories).
-    pub custom_ticks: Option<Vec<Tick>>,
-}
-
-impl Axis {
-    /// A linear axis over `[min, max]`. Non-finite ends fall back to `[0, 1]`; an empty range
-    /// is widened around its value, so the axis is always drawable.
-    pub fn linear(label: &str, min: f64, max: f64) -> Axis {
-        let (mut min, mut max) = if min.is_finite() && max.is_finite() {
-            (min.min(max), min.max(max))
-        } else {
-            (0.0, 1.0)
-        };
-        if max - min <= f64::EPSILON * max.abs().max(1.0) {
-            let half = if min == 0.0 { 0.5 } else { min.abs() * 0.1 };
-            min -= half;
-            max += half;
-        }
-        Axis {
-            label: label.to_string(),
-            min,
-            max,
-            scale: Scale::Linear,
-            custom_ticks: None,
-        }
-    }
-
-    /// A log axis covering `[min_positive, max]`, widened to whole decades (at least one).
-    /// Non-positive or non-finite ends fall back to one decade either side of the other end,
-    /// or to `[0.1, 10]`.
-    pub fn log(label: &str, min_positive: f64, max: f64, zero_edge: bool) -> Axis {
-        let usable = |x: f64| x.is_finite() && x > 0.0;
-        let (low, high) = match (usable(min_positive), usable(max)) {
-            (true, true) => (min_positive.min(max), min_positive.max(max)),
-            (true, false) => (min_positive, min_positive * 10.0),
-            (false, true) => (max / 10.0, max),
-            (false, false) => (0.1, 10.0),
-        };
-        let mut low_decade = low.log10().floor();
-        let mut high_decade = high.log10().ceil();
-        // Guard against rounding just above a decade (log10(1000) = 2.9999999999999996).
-        if (10f64.powf(low_decade + 1.0) - low).abs() <= low * 1e-12 {
-            low_decade += 1.0;
-        }
-        if (high - 10f64.powf(high_decade - 1.0)).abs() <= high * 1e-12 {
-            high_decade -= 1.0;
-        }
-        if high_decade <= low_decade {
-            high_decade = low_decade + 1.0;
-        }
-        Axis {
-            label: label.to_string(),
-            min: 10f64.powf(low_decade),
-            max: 10f64.powf(high_decade),
-            scale: Scale::Log { zero_edge },
-            custom_ticks: None,
-        }
-    }
-
-    /// Position of `value` along the axis as a fraction of its length, 0 at `min`, 1 at `max`
-    /// (outside values fall outside [0, 1]). `None` for NaN, and for values ≤ 0 on a log axis
-    /// without a zero edge. On a log axis with a zero edge, values ≤ 0 are at 0 and the
-    /// decades fill [[`ZERO_EDGE_SHARE`], 1].
-    pub fn fraction(&self, value: f64) -> Option<f64> {
-        if value.is_nan() {
-            return None;
-        }
-        match self.scale {
-            Scale::Linear => Some((value - self.min) / (self.max - self.min)),
-            Scale::Log { zero_edge } => {
-                let start = if zero_edge { ZERO_EDGE_SHARE } else { 0.0 };
-                if value <= 0.0 {
-                    return zero_edge.then_some(0.0);
-                }
-                let (low, high) = (self.min.log10(), self.max.log10());
-                Some(start + (1.0 - start) * (value.log10() - low) / (high - low))
-            }
-        }
-    }
-
-    /// The axis's ticks, major (labelled) and minor.
-    pub fn ticks(&self) -> Vec<Tick> {
-        if let Some(custom) = &self.custom_ticks {
-            return custom.clone();
-        }
-        match self.scale {
-            Scale::Linear => linear_ticks(self.min, self.max, 6),
-            Scale::Log { zero_edge } => {
-                let mut ticks = log_ticks(self.min, self.max);
-                if zero_edge {
-                    ticks.insert(
-                        0,
-                        Tick {
-                            value: 0.0,
-                            label: "0".into(),
-                        },
-                    );
-                }
-                ticks
-            }
-        }
-    }
-}
-
-/// The "nice" step (1, 2 or 5 × 10ᵏ) nearest above `raw` (Heckbert, "Nice numbers for graph
-/// labels", Graphics Gems, 1990). Returns 1 for a non-positive or non-finite `raw`.
-pub fn nice_step(raw: f64) -> f64 {
-    if !(raw.is_finite() && raw > 0.0) {
-        return 1.0;
-    }
-    let exponent = raw.log10().floor();
-    let base = 10f64.powf(exponent);
-    let fraction = raw / base;
-    let nice = if fraction <= 1.0 + 1e-9 {
-        1.0
-    } else if fraction <= 2.0 + 1e-9 {
-        2.0
-    } else if fraction <= 5.0 + 1e-9 {
-        5.0
-    } else {
-        10.0
-    };
-    nice * base
-}
-
-/// Labelled ticks at a nice step over `[min, max]`, about `approx_count` of them, each label
-/// with just enough decimals for the step.
-pub fn linear_ticks(min: f64, max: f64, approx_count: usize) -> Vec<Tick> {
-    if !(min.is_finite() && max.is_finite()) || max <= min {
-        return Vec::new();
-    }
-    let step = nice_step((max - min) / approx_count.max(2) as f64);
-    let decimals = (-step.log10().floor()).max(0.0) as usize;
-    let first = (min / step - 1e-9).ceil() as i64;
-    let last = (max / step + 1e-9).floor() as i64;
-    (first..=last)
-        .map(|i| {
-            let value = i as f64 * step;
-            let mut label = format!("{value:.decimals$}");
-            if label.starts_with('-') && label.trim_start_matches(['-', '0', '.']).is_empty() {
-                label = label[1..].to_string();
-            }
-            Tick { value, label }
-        })
-        .collect()
-}
-
-fn superscript(exponent: i32) -> String {
-    exponent
-        .to_string()
-        .chars()
-        .map(|c| match c {
-            '-' => '⁻',
-            '0' => '⁰',
-            '1' => '¹',
-            '2' => '²',
-            '3' => '³',
-            '4' => '⁴',
-            '5' => '⁵',
-            '6' => '⁶',
-            '7' => '⁷',
-            '8' => '⁸',
-            _ => '⁹',
-        })
-        .collect()
-}
-
-fn decade_label(exponent: i32) -> String {
-    if (-4..=4).contains(&exponent) {
-        format_number(10f64.powi(exponent), 1)
-    } else {
-        format!("10{}", superscript(exponent))
-    }
-}
-
-/// Ticks of a log axis over `[min, max]` (both > 0): every decade labelled (every second or
-/// more over very wide ranges), minor ticks at 2–9 × 10ᵏ, and 2 and 5 labelled too when the
-/// range spans at most two decades. Empty for a range that is not positive.
-pub fn log_ticks(min: f64, max: f64) -> Vec<Tick> {
-    if !(min > 0.0 && max > min && max.is_finite()) {
-        return Vec::new();
-    }
-    // Tolerances so that an exact decade (log10 = 2.0000000000000004) is not a decade more.
-    let low = (min.log10() + 1e-9).floor() as i32;
-    let high = (max.log10() - 1e-9).ceil() as i32;
-    let decades = high - low;
-    let label_every = ((decades + 7) / 8).max(1);
-    let in_range = |v: f64| v >= min * (1.0 - 1e-9) && v <= max * (1.0 + 1e-9);
-    let mut ticks = Vec::new();
-    for exponent in low..=high {
-        let decade = 10f64.powi(exponent);
-        if in_range(decade) {
-            let labelled = (exponent - low) % label_every == 0;
-            ticks.push(Tick {
-                value: decade,
-                label: if labelled {
-                    decade_label(exponent)
-                } else {
-                    String::new()
-                },
-            });
-        }
-        if decades <= 12 {
-            for m in 2..=9 {
-                let value = m as f64 * decade;
-                if in_range(value) {
-                    let label = if decades <= 2 && (m == 2 || m == 5) {
-                        format_number(value, 1)
-                    } else {
-                        String::new()
-                    };
-                    ticks.push(Tick { value, label });
-                }
-            }
-        }
-    }
-    ticks
-}
+use echobench_svg::axis::{draw_ticks, Edge, PlotArea, TickStyle, CHAR_EM};
+pub use echobench_svg::axis::{
+    format_number, linear_ticks, log_ticks, nice_step, text_width, Axis, Scale, Tick,
+    ZERO_EDGE_SHARE,
+};
+pub use echobench_svg::escape;
+use echobench_svg::{Svg, SVG_NAMESPACE};
 
 /// Shape of a series' markers.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -469,98 +147,24 @@ impl Chart {
 }
 
 const FONT_PX: f64 = 13.0;
-const CHAR_EM: f64 = 0.6;
 const INK: &str = "#222222";
 const GRID: &str = "#d9d9d9";
 const REFERENCE: &str = "#6b6b6b";
 
-/// Estimated width of `text` in px at `font_px`.
-pub fn text_width(text: &str, font_px: f64) -> f64 {
-    text.chars().count() as f64 * font_px * CHAR_EM
-}
+/// How the charts draw their ticks: grid lines at labelled ticks, labels 20 px below the
+/// frame or 9 px left of it.
+const TICKS: TickStyle = TickStyle {
+    ink: INK,
+    grid: Some(GRID),
+    font_px: FONT_PX,
+    major_px: 6.0,
+    minor_px: 3.0,
+    bottom_label_drop_px: 20.0,
+    left_label_gap_px: 9.0,
+    left_label_shift_px: 4.5,
+};
 
-/// Which way an axis runs on the page.
-#[derive(Clone, Copy)]
-enum Direction {
-    /// The x axis, along the bottom edge.
-    Across,
-    /// The y axis, up the left edge.
-    Up,
-}
-
-/// One axis's grid lines (at labelled ticks), tick marks (long where
-/// labelled) and labels, inside the frame.
-fn draw_ticks(body: &mut String, frame: &Frame, axis: &Axis, direction: Direction) {
-    let bottom = frame.top + frame.height;
-    for tick in axis.ticks() {
-        let (position, low, high) = match direction {
-            Direction::Across => (
-                frame.x(axis, tick.value),
-                frame.left,
-                frame.left + frame.width,
-            ),
-            Direction::Up => (frame.y(axis, tick.value), frame.top, bottom),
-        };
-        let Some(p) = position else {
-            continue;
-        };
-        if !(low - 0.5..=high + 0.5).contains(&p) {
-            continue;
-        }
-        let major = !tick.label.is_empty();
-        let tick_len = if major { 6.0 } else { 3.0 };
-        let line = |body: &mut String, (x1, y1, x2, y2): (f64, f64, f64, f64), colour: &str| {
-            let _ = write!(
-                body,
-                "<line x1=\"{x1:.1}\" y1=\"{y1:.1}\" x2=\"{x2:.1}\" y2=\"{y2:.1}\" stroke=\"{colour}\" stroke-width=\"1\"/>"
-            );
-        };
-        match direction {
-            Direction::Across => {
-                if major {
-                    line(body, (p, frame.top, p, bottom), GRID);
-                }
-                line(body, (p, bottom, p, bottom + tick_len), INK);
-                if major {
-                    body.push_str(&text(p, bottom + 20.0, "middle", FONT_PX, &tick.label, ""));
-                }
-            }
-            Direction::Up => {
-                if major {
-                    line(body, (frame.left, p, frame.left + frame.width, p), GRID);
-                    body.push_str(&text(
-                        frame.left - 9.0,
-                        p + 4.5,
-                        "end",
-                        FONT_PX,
-                        &tick.label,
-                        "",
-                    ));
-                }
-                line(body, (frame.left - tick_len, p, frame.left, p), INK);
-            }
-        }
-    }
-}
-
-struct Frame {
-    left: f64,
-    top: f64,
-    width: f64,
-    height: f64,
-}
-
-impl Frame {
-    fn x(&self, axis: &Axis, value: f64) -> Option<f64> {
-        axis.fraction(value)
-            .map(|f| self.left + f.clamp(-0.02, 1.02) * self.width)
-    }
-    fn y(&self, axis: &Axis, value: f64) -> Option<f64> {
-        axis.fraction(value)
-            .map(|f| self.top + (1.0 - f.clamp(-0.02, 1.02)) * self.height)
-    }
-}
-
+/// The path of a marker centred at (`x`, `y`), `size` px across.
 fn marker_path(marker: Marker, x: f64, y: f64, size: f64) -> String {
     let r = size / 2.0;
     match marker {
@@ -649,25 +253,37 @@ fn marker_path(marker: Marker, x: f64, y: f64, size: f64) -> String {
     }
 }
 
-fn marker_element(marker: Marker, colour: &str, x: f64, y: f64, size: f64, note: &str) -> String {
-    let d = marker_path(marker, x, y, size);
-    if d.is_empty() {
-        return String::new();
-    }
-    let title = if note.is_empty() {
-        String::new()
-    } else {
-        format!("<title>{}</title>", escape(note))
-    };
+/// Paints a marker's path: strokes only for a cross (it has no inside to fill), filled with
+/// a white edge otherwise.
+fn paint_marker<'a>(
+    tag: echobench_svg::Tag<'a>,
+    marker: Marker,
+    colour: &str,
+) -> echobench_svg::Tag<'a> {
     match marker {
-        // Strokes only: a cross has no inside to fill.
-        Marker::Cross | Marker::Plus => format!(
-            "<path class=\"data\" d=\"{d}\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"2.2\">{title}</path>"
-        ),
-        _ => format!(
-            "<path class=\"data\" d=\"{d}\" fill=\"{colour}\" stroke=\"#ffffff\" stroke-width=\"1\">{title}</path>"
-        ),
+        Marker::Cross | Marker::Plus => tag
+            .attr("fill", "none")
+            .attr("stroke", colour)
+            .attr("stroke-width", 2.2),
+        _ => tag
+            .attr("fill", colour)
+            .attr("stroke", "#ffffff")
+            .attr("stroke-width", 1),
     }
+}
+
+/// A marker carrying data, with its note as a tooltip.
+fn marker_element(svg: &mut Svg, marker: Marker, colour: &str, (x, y): (f64, f64), note: &str) {
+    let d = marker_path(marker, x, y, 10.0);
+    if d.is_empty() {
+        return;
+    }
+    let tag = svg.tag("path").attr("class", "data").attr("d", d);
+    paint_marker(tag, marker, colour).open();
+    if !note.is_empty() {
+        svg.tag("title").content(note);
+    }
+    svg.close("path");
 }
 
 /// Drops points that add nothing at screen resolution: repeats after rounding to 0.1 px, and
@@ -698,10 +314,10 @@ fn thin(points: &[(f64, f64)]) -> Vec<(f64, f64)> {
     kept
 }
 
-fn polyline(points: &[(f64, f64)], style: &Style, width: f64) -> String {
+fn polyline(svg: &mut Svg, points: &[(f64, f64)], style: &Style, width: f64) {
     let thinned = thin(points);
     if thinned.len() < 2 {
-        return String::new();
+        return;
     }
     let mut coordinates = String::new();
     for (i, (x, y)) in thinned.iter().enumerate() {
@@ -710,33 +326,45 @@ fn polyline(points: &[(f64, f64)], style: &Style, width: f64) -> String {
         }
         let _ = write!(coordinates, "{x:.1},{y:.1}");
     }
-    let dash = if style.dashed {
-        " stroke-dasharray=\"7 4\""
-    } else {
-        ""
-    };
-    format!(
-        "<polyline class=\"data\" points=\"{coordinates}\" fill=\"none\" stroke=\"{}\" stroke-width=\"{width}\" stroke-linejoin=\"round\"{dash}/>",
-        style.colour
-    )
+    svg.tag("polyline")
+        .attr("class", "data")
+        .attr("points", coordinates)
+        .attr("fill", "none")
+        .attr("stroke", &style.colour)
+        .attr("stroke-width", width)
+        .attr("stroke-linejoin", "round")
+        .attr_if("stroke-dasharray", style.dashed.then_some("7 4"))
+        .end();
 }
 
-fn text(x: f64, y: f64, anchor: &str, size: f64, content: &str, extra: &str) -> String {
-    format!(
-        "<text x=\"{x:.1}\" y=\"{y:.1}\" text-anchor=\"{anchor}\" font-size=\"{size}\"{extra}>{}</text>",
-        escape(content)
-    )
+/// A line between two points, px.
+fn line(svg: &mut Svg, (x1, y1): (f64, f64), (x2, y2): (f64, f64)) -> echobench_svg::Tag<'_> {
+    svg.tag("line")
+        .px("x1", x1)
+        .px("y1", y1)
+        .px("x2", x2)
+        .px("y2", y2)
 }
 
-fn svg_open(width: f64, height: f64, title: &str, empty: Option<&str>) -> String {
-    let (class, data) = match empty {
-        Some(message) => ("plot empty", format!(" data-empty=\"{}\"", escape(message))),
-        None => ("plot", String::new()),
-    };
-    format!(
-        "<svg class=\"{class}\"{data} xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 {width} {height}\" width=\"{width}\" height=\"{height}\" role=\"img\" font-family=\"sans-serif\" fill=\"{INK}\"><title>{}</title>",
-        escape(title)
-    )
+/// Opens a plot's `<svg>` element with its title; an empty plot says why in `data-empty`.
+fn svg_open(svg: &mut Svg, width: f64, height: f64, title: &str, empty: Option<&str>) {
+    svg.tag("svg")
+        .attr(
+            "class",
+            if empty.is_some() {
+                "plot empty"
+            } else {
+                "plot"
+            },
+        )
+        .attr_if("data-empty", empty)
+        .attr("xmlns", SVG_NAMESPACE)
+        .view_box(width, height)
+        .attr("role", "img")
+        .attr("font-family", "sans-serif")
+        .attr("fill", INK)
+        .open();
+    svg.tag("title").content(title);
 }
 
 fn legend_width(series: &[Series]) -> f64 {
@@ -782,63 +410,75 @@ pub fn render_chart(chart: &Chart) -> String {
         .iter()
         .map(|t| text_width(&t.label, FONT_PX))
         .fold(0.0, f64::max);
-    let frame = Frame {
+    let frame = PlotArea {
         left: 30.0 + y_tick_width + 10.0,
         top: 16.0,
         width: width - (30.0 + y_tick_width + 10.0) - legend - 16.0,
         height: height - 16.0 - 52.0,
     };
-    let mut body = String::new();
-    let mut data = String::new();
+    let mut body = Svg::new();
+    let mut data = Svg::new();
 
     // Grid and ticks.
-    let _ = write!(
-        body,
-        "<rect x=\"{:.1}\" y=\"{:.1}\" width=\"{:.1}\" height=\"{:.1}\" fill=\"#ffffff\" stroke=\"{INK}\" stroke-width=\"1\"/>",
-        frame.left, frame.top, frame.width, frame.height
-    );
-    draw_ticks(&mut body, &frame, &chart.x, Direction::Across);
-    draw_ticks(&mut body, &frame, &chart.y, Direction::Up);
+    body.tag("rect")
+        .px("x", frame.left)
+        .px("y", frame.top)
+        .px("width", frame.width)
+        .px("height", frame.height)
+        .attr("fill", "#ffffff")
+        .attr("stroke", INK)
+        .attr("stroke-width", 1)
+        .end();
+    draw_ticks(&mut body, &frame, &chart.x, Edge::Bottom, &TICKS);
+    draw_ticks(&mut body, &frame, &chart.y, Edge::Left, &TICKS);
     // The break between the zero edge and the first decade.
     if let Scale::Log { zero_edge: true } = chart.x.scale {
         let x = frame.left + frame.width * ZERO_EDGE_SHARE * 0.55;
-        let y = frame.top + frame.height;
-        let _ = write!(
-            body,
-            "<rect x=\"{:.1}\" y=\"{:.1}\" width=\"6\" height=\"10\" fill=\"#ffffff\"/><path d=\"M{:.1},{:.1}l4,-10M{:.1},{:.1}l4,-10\" stroke=\"{INK}\" stroke-width=\"1.2\" fill=\"none\"/>",
-            x - 3.0,
-            y - 5.0,
-            x - 5.0,
-            y + 5.0,
-            x,
-            y + 5.0
-        );
-        let _ = write!(
-            body,
-            "<line x1=\"{x:.1}\" y1=\"{:.1}\" x2=\"{x:.1}\" y2=\"{:.1}\" stroke=\"{GRID}\" stroke-width=\"1\" stroke-dasharray=\"2 3\"/>",
-            frame.top,
-            frame.top + frame.height - 6.0
-        );
+        let y = frame.bottom();
+        body.tag("rect")
+            .px("x", x - 3.0)
+            .px("y", y - 5.0)
+            .attr("width", 6)
+            .attr("height", 10)
+            .attr("fill", "#ffffff")
+            .end();
+        body.tag("path")
+            .attr(
+                "d",
+                format_args!(
+                    "M{:.1},{:.1}l4,-10M{:.1},{:.1}l4,-10",
+                    x - 5.0,
+                    y + 5.0,
+                    x,
+                    y + 5.0
+                ),
+            )
+            .attr("stroke", INK)
+            .attr("stroke-width", 1.2)
+            .attr("fill", "none")
+            .end();
+        line(&mut body, (x, frame.top), (x, frame.bottom() - 6.0))
+            .attr("stroke", GRID)
+            .attr("stroke-width", 1)
+            .attr("stroke-dasharray", "2 3")
+            .end();
     }
     // Axis labels.
-    body.push_str(&text(
+    body.text_at(
         frame.left + frame.width / 2.0,
         height - 10.0,
         "middle",
         14.0,
-        &chart.x.label,
-        "",
-    ));
+    )
+    .content(&chart.x.label);
     let label_x = 16.0;
     let label_y = frame.top + frame.height / 2.0;
-    body.push_str(&text(
-        label_x,
-        label_y,
-        "middle",
-        14.0,
-        &chart.y.label,
-        &format!(" transform=\"rotate(-90 {label_x:.1} {label_y:.1})\""),
-    ));
+    body.text_at(label_x, label_y, "middle", 14.0)
+        .attr(
+            "transform",
+            format_args!("rotate(-90 {label_x:.1} {label_y:.1})"),
+        )
+        .content(&chart.y.label);
 
     // Reference lines.
     if chart.diagonal {
@@ -849,51 +489,40 @@ pub fn render_chart(chart: &Chart) -> String {
             frame.y(&chart.y, chart.x.max.min(chart.y.max)),
         );
         if let (Some(x1), Some(y1), Some(x2), Some(y2)) = ends {
-            let _ = write!(
-                body,
-                "<line x1=\"{x1:.1}\" y1=\"{y1:.1}\" x2=\"{x2:.1}\" y2=\"{y2:.1}\" stroke=\"{REFERENCE}\" stroke-width=\"1\" stroke-dasharray=\"3 3\"/>"
-            );
+            line(&mut body, (x1, y1), (x2, y2))
+                .attr("stroke", REFERENCE)
+                .attr("stroke-width", 1)
+                .attr("stroke-dasharray", "3 3")
+                .end();
         }
     }
-    for (i, line) in chart.vertical_lines.iter().enumerate() {
-        let Some(x) = frame.x(&chart.x, line.value) else {
+    for (i, reference) in chart.vertical_lines.iter().enumerate() {
+        let Some(x) = frame.x(&chart.x, reference.value) else {
             continue;
         };
-        let _ = write!(
-            body,
-            "<line x1=\"{x:.1}\" y1=\"{:.1}\" x2=\"{x:.1}\" y2=\"{:.1}\" stroke=\"{REFERENCE}\" stroke-width=\"1.5\" stroke-dasharray=\"5 3\"/>",
-            frame.top,
-            frame.top + frame.height
-        );
+        line(&mut body, (x, frame.top), (x, frame.bottom()))
+            .attr("stroke", REFERENCE)
+            .attr("stroke-width", 1.5)
+            .attr("stroke-dasharray", "5 3")
+            .end();
         // Labels alternate top and a line lower so that two close targets stay legible.
         let y = frame.top + 14.0 + 16.0 * (i % 2) as f64;
-        body.push_str(&text(
-            x + 4.0,
-            y,
-            "start",
-            12.0,
-            &line.label,
-            &format!(" fill=\"{REFERENCE}\""),
-        ));
+        body.text_at(x + 4.0, y, "start", 12.0)
+            .attr("fill", REFERENCE)
+            .content(&reference.label);
     }
-    for line in &chart.horizontal_lines {
-        let Some(y) = frame.y(&chart.y, line.value) else {
+    for reference in &chart.horizontal_lines {
+        let Some(y) = frame.y(&chart.y, reference.value) else {
             continue;
         };
-        let _ = write!(
-            body,
-            "<line x1=\"{:.1}\" y1=\"{y:.1}\" x2=\"{:.1}\" y2=\"{y:.1}\" stroke=\"{REFERENCE}\" stroke-width=\"1\" stroke-dasharray=\"5 3\"/>",
-            frame.left,
-            frame.left + frame.width
-        );
-        body.push_str(&text(
-            frame.left + frame.width - 4.0,
-            y - 5.0,
-            "end",
-            12.0,
-            &line.label,
-            &format!(" fill=\"{REFERENCE}\""),
-        ));
+        line(&mut body, (frame.left, y), (frame.right(), y))
+            .attr("stroke", REFERENCE)
+            .attr("stroke-width", 1)
+            .attr("stroke-dasharray", "5 3")
+            .end();
+        body.text_at(frame.right() - 4.0, y - 5.0, "end", 12.0)
+            .attr("fill", REFERENCE)
+            .content(&reference.label);
     }
 
     // Data: lines first, then error bars, then markers on top.
@@ -906,12 +535,12 @@ pub fn render_chart(chart: &Chart) -> String {
             match place(x, y) {
                 Some(p) => run.push(p),
                 None => {
-                    data.push_str(&polyline(&run, &series.style, 2.0));
+                    polyline(&mut data, &run, &series.style, 2.0);
                     run.clear();
                 }
             }
         }
-        data.push_str(&polyline(&run, &series.style, 2.0));
+        polyline(&mut data, &run, &series.style, 2.0);
     }
     for series in &chart.series {
         for point in &series.markers {
@@ -920,39 +549,50 @@ pub fn render_chart(chart: &Chart) -> String {
             };
             if let Some((low, high)) = point.y_interval {
                 if let (Some(y1), Some(y2)) = (frame.y(&chart.y, low), frame.y(&chart.y, high)) {
-                    let _ = write!(
-                        body,
-                        "<path d=\"M{px:.1},{y1:.1}V{y2:.1}M{:.1},{y1:.1}h8M{:.1},{y2:.1}h8\" stroke=\"{}\" stroke-width=\"1.4\" fill=\"none\"/>",
-                        px - 4.0,
-                        px - 4.0,
-                        series.style.colour
-                    );
+                    body.tag("path")
+                        .attr(
+                            "d",
+                            format_args!(
+                                "M{px:.1},{y1:.1}V{y2:.1}M{:.1},{y1:.1}h8M{:.1},{y2:.1}h8",
+                                px - 4.0,
+                                px - 4.0
+                            ),
+                        )
+                        .attr("stroke", &series.style.colour)
+                        .attr("stroke-width", 1.4)
+                        .attr("fill", "none")
+                        .end();
                 }
             }
             if let Some((low, high)) = point.x_interval {
                 if let (Some(x1), Some(x2)) = (frame.x(&chart.x, low), frame.x(&chart.x, high)) {
-                    let _ = write!(
-                        body,
-                        "<path d=\"M{x1:.1},{py:.1}H{x2:.1}M{x1:.1},{:.1}v8M{x2:.1},{:.1}v8\" stroke=\"{}\" stroke-width=\"1.4\" fill=\"none\"/>",
-                        py - 4.0,
-                        py - 4.0,
-                        series.style.colour
-                    );
+                    body.tag("path")
+                        .attr(
+                            "d",
+                            format_args!(
+                                "M{x1:.1},{py:.1}H{x2:.1}M{x1:.1},{:.1}v8M{x2:.1},{:.1}v8",
+                                py - 4.0,
+                                py - 4.0
+                            ),
+                        )
+                        .attr("stroke", &series.style.colour)
+                        .attr("stroke-width", 1.4)
+                        .attr("fill", "none")
+                        .end();
                 }
             }
         }
     }
     for series in &chart.series {
         for point in &series.markers {
-            if let Some((px, py)) = place(point.x, point.y) {
-                data.push_str(&marker_element(
+            if let Some(p) = place(point.x, point.y) {
+                marker_element(
+                    &mut data,
                     series.style.marker,
                     &series.style.colour,
-                    px,
-                    py,
-                    10.0,
+                    p,
                     &point.note,
-                ));
+                );
             }
         }
     }
@@ -963,76 +603,57 @@ pub fn render_chart(chart: &Chart) -> String {
             &chart.empty_message,
             (frame.width / (FONT_PX * CHAR_EM)) as usize,
         );
-        body.push_str(&text(
+        body.text_at(
             frame.left + frame.width / 2.0,
             frame.top + frame.height / 2.0,
             "middle",
             15.0,
-            &message,
-            " font-style=\"italic\"",
-        ));
+        )
+        .attr("font-style", "italic")
+        .content(&message);
     }
 
     // Legend.
-    let mut legend_svg = String::new();
+    let mut legend_svg = Svg::new();
     if legend > 0.0 && !empty {
-        let x0 = frame.left + frame.width + 16.0;
+        let x0 = frame.right() + 16.0;
         let mut y = frame.top + 10.0;
         let max_chars = ((legend - 46.0) / (FONT_PX * CHAR_EM)) as usize;
         for series in chart.series.iter().filter(|s| !s.name.is_empty()) {
             let style = &series.style;
-            let dash = if style.dashed {
-                " stroke-dasharray=\"7 4\""
-            } else {
-                ""
-            };
             if !series.line.is_empty() {
-                let _ = write!(
-                    legend_svg,
-                    "<line x1=\"{x0:.1}\" y1=\"{y:.1}\" x2=\"{:.1}\" y2=\"{y:.1}\" stroke=\"{}\" stroke-width=\"2.5\"{dash}/>",
-                    x0 + 30.0,
-                    style.colour
-                );
+                line(&mut legend_svg, (x0, y), (x0 + 30.0, y))
+                    .attr("stroke", &style.colour)
+                    .attr("stroke-width", 2.5)
+                    .attr_if("stroke-dasharray", style.dashed.then_some("7 4"))
+                    .end();
             }
             let d = marker_path(style.marker, x0 + 15.0, y, 10.0);
             if !d.is_empty() {
-                let paint = match style.marker {
-                    Marker::Cross | Marker::Plus => format!(
-                        "fill=\"none\" stroke=\"{}\" stroke-width=\"2.2\"",
-                        style.colour
-                    ),
-                    _ => format!(
-                        "fill=\"{}\" stroke=\"#ffffff\" stroke-width=\"1\"",
-                        style.colour
-                    ),
-                };
-                let _ = write!(legend_svg, "<path d=\"{d}\" {paint}/>");
+                let tag = legend_svg.tag("path").attr("d", d);
+                paint_marker(tag, style.marker, &style.colour).end();
             }
-            legend_svg.push_str(&text(
-                x0 + 38.0,
-                y + 4.5,
-                "start",
-                FONT_PX,
-                &shorten(&series.name, max_chars),
-                "",
-            ));
+            legend_svg
+                .text_at(x0 + 38.0, y + 4.5, "start", FONT_PX)
+                .content(&shorten(&series.name, max_chars));
             y += 20.0;
         }
     }
 
-    let mut out = svg_open(
+    let mut out = Svg::new();
+    svg_open(
+        &mut out,
         width,
         height,
         &chart.title,
         empty.then_some(chart.empty_message.as_str()),
     );
-    out.push_str(&body);
-    out.push_str(&data);
-    out.push_str(&legend_svg);
-    out.push_str("</svg>");
-    out
+    out.append(&body);
+    out.append(&data);
+    out.append(&legend_svg);
+    out.close("svg");
+    out.into_string()
 }
-
 /// One bar of a bar chart.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Bar {
@@ -1119,223 +740,116 @@ pub fn render_bar_chart(chart: &BarChart) -> String {
     let plot_height = chart.groups.len() as f64 * HEADING + rows as f64 * ROW + 8.0;
     let height = 12.0 + plot_height + 48.0;
     let empty = top_value <= 0.0;
-    let mut body = String::new();
-    let mut data = String::new();
+    let mut body = Svg::new();
+    let mut data = Svg::new();
     let plot_top = 12.0;
     let plot_bottom = plot_top + plot_height;
     if !empty {
         for tick in linear_ticks(0.0, axis.max, 6) {
             let x = left + scale(tick.value);
-            let _ = write!(
-                body,
-                "<line x1=\"{x:.1}\" y1=\"{plot_top:.1}\" x2=\"{x:.1}\" y2=\"{plot_bottom:.1}\" stroke=\"{GRID}\" stroke-width=\"1\"/>"
-            );
-            body.push_str(&text(
-                x,
-                plot_bottom + 18.0,
-                "middle",
-                FONT_PX,
-                &tick.label,
-                "",
-            ));
+            line(&mut body, (x, plot_top), (x, plot_bottom))
+                .attr("stroke", GRID)
+                .attr("stroke-width", 1)
+                .end();
+            body.text_at(x, plot_bottom + 18.0, "middle", FONT_PX)
+                .content(&tick.label);
         }
     }
-    let _ = write!(
-        body,
-        "<line x1=\"{left:.1}\" y1=\"{plot_top:.1}\" x2=\"{left:.1}\" y2=\"{plot_bottom:.1}\" stroke=\"{INK}\" stroke-width=\"1\"/><line x1=\"{left:.1}\" y1=\"{plot_bottom:.1}\" x2=\"{:.1}\" y2=\"{plot_bottom:.1}\" stroke=\"{INK}\" stroke-width=\"1\"/>",
-        left + bar_space
-    );
-    body.push_str(&text(
-        left + bar_space / 2.0,
-        height - 10.0,
-        "middle",
-        14.0,
-        &chart.axis_label,
-        "",
-    ));
+    line(&mut body, (left, plot_top), (left, plot_bottom))
+        .attr("stroke", INK)
+        .attr("stroke-width", 1)
+        .end();
+    line(
+        &mut body,
+        (left, plot_bottom),
+        (left + bar_space, plot_bottom),
+    )
+    .attr("stroke", INK)
+    .attr("stroke-width", 1)
+    .end();
+    body.text_at(left + bar_space / 2.0, height - 10.0, "middle", 14.0)
+        .content(&chart.axis_label);
     let max_label_chars = (label_width / (FONT_PX * CHAR_EM)) as usize;
     let mut y = plot_top;
     for group in &chart.groups {
-        body.push_str(&text(
-            12.0,
-            y + 17.0,
-            "start",
-            14.0,
-            &group.label,
-            " font-weight=\"bold\"",
-        ));
+        body.text_at(12.0, y + 17.0, "start", 14.0)
+            .attr("font-weight", "bold")
+            .content(&group.label);
         y += HEADING;
         if group.bars.is_empty() {
-            body.push_str(&text(
-                left + 8.0,
-                y + 15.0,
-                "start",
-                12.0,
-                &group.empty_text,
-                " font-style=\"italic\"",
-            ));
+            body.text_at(left + 8.0, y + 15.0, "start", 12.0)
+                .attr("font-style", "italic")
+                .content(&group.empty_text);
             y += ROW;
         }
         for bar in &group.bars {
-            body.push_str(&text(
-                left - 8.0,
-                y + 15.0,
-                "end",
-                FONT_PX,
-                &shorten(&bar.label, max_label_chars),
-                "",
-            ));
+            body.text_at(left - 8.0, y + 15.0, "end", FONT_PX)
+                .content(&shorten(&bar.label, max_label_chars));
             let length = scale(bar.value);
             if length > 0.0 {
-                let _ = write!(
-                    data,
-                    "<rect class=\"data\" x=\"{left:.1}\" y=\"{:.1}\" width=\"{length:.1}\" height=\"{:.1}\" fill=\"{}\"><title>{}</title></rect>",
-                    y + 3.0,
-                    ROW - 6.0,
-                    bar.colour,
-                    escape(&format!("{}: {}", bar.label, bar.text))
-                );
+                data.tag("rect")
+                    .attr("class", "data")
+                    .px("x", left)
+                    .px("y", y + 3.0)
+                    .px("width", length)
+                    .px("height", ROW - 6.0)
+                    .attr("fill", &bar.colour)
+                    .open();
+                data.tag("title")
+                    .content(&format!("{}: {}", bar.label, bar.text));
+                data.close("rect");
             }
             let mut end = left + length;
             if let Some((low, high)) = bar.interval {
                 let (x1, x2) = (left + scale(low), left + scale(high));
                 let mid = y + ROW / 2.0;
-                let _ = write!(
-                    body,
-                    "<path d=\"M{x1:.1},{mid:.1}H{x2:.1}M{x1:.1},{:.1}v8M{x2:.1},{:.1}v8\" stroke=\"{INK}\" stroke-width=\"1.2\" fill=\"none\"/>",
-                    mid - 4.0,
-                    mid - 4.0
-                );
+                body.tag("path")
+                    .attr(
+                        "d",
+                        format_args!(
+                            "M{x1:.1},{mid:.1}H{x2:.1}M{x1:.1},{:.1}v8M{x2:.1},{:.1}v8",
+                            mid - 4.0,
+                            mid - 4.0
+                        ),
+                    )
+                    .attr("stroke", INK)
+                    .attr("stroke-width", 1.2)
+                    .attr("fill", "none")
+                    .end();
                 end = end.max(x2);
             }
-            body.push_str(&text(end + 6.0, y + 15.0, "start", 12.0, &bar.text, ""));
+            body.text_at(end + 6.0, y + 15.0, "start", 12.0)
+                .content(&bar.text);
             y += ROW;
         }
     }
     if empty {
-        body.push_str(&text(
+        body.text_at(
             left + bar_space / 2.0,
             plot_top + plot_height / 2.0,
             "middle",
             15.0,
-            &chart.empty_message,
-            " font-style=\"italic\"",
-        ));
+        )
+        .attr("font-style", "italic")
+        .content(&chart.empty_message);
     }
-    let mut out = svg_open(
+    let mut out = Svg::new();
+    svg_open(
+        &mut out,
         width,
         height,
         &chart.title,
         empty.then_some(chart.empty_message.as_str()),
     );
-    out.push_str(&body);
-    out.push_str(&data);
-    out.push_str("</svg>");
-    out
+    out.append(&body);
+    out.append(&data);
+    out.close("svg");
+    out.into_string()
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn labels(ticks: &[Tick]) -> Vec<&str> {
-        ticks
-            .iter()
-            .filter(|t| !t.label.is_empty())
-            .map(|t| t.label.as_str())
-            .collect()
-    }
-
-    #[test]
-    fn escaping_covers_markup_and_quotes() {
-        assert_eq!(
-            escape("<script>alert('x')</script> & \"y\""),
-            "&lt;script&gt;alert(&#39;x&#39;)&lt;/script&gt; &amp; &quot;y&quot;"
-        );
-        assert_eq!(escape("a\u{0}b\nc"), "a\u{FFFD}b\nc");
-    }
-
-    #[test]
-    fn log_axis_widens_to_decades_and_labels_each() {
-        let axis = Axis::log("FA/h", 0.03, 13.6, false);
-        assert_eq!((axis.min, axis.max), (0.01, 100.0));
-        let ticks = axis.ticks();
-        assert_eq!(labels(&ticks), vec!["0.01", "0.1", "1", "10", "100"]);
-        // Minor ticks at 2..9 of each of the four decades, plus five decades.
-        assert_eq!(ticks.len(), 5 + 4 * 8);
-        // Decade boundaries exactly: 1000 is the top, not 10 000.
-        let exact = Axis::log("x", 1.0, 1000.0, false);
-        assert_eq!((exact.min, exact.max), (1.0, 1000.0));
-    }
-
-    #[test]
-    fn log_axis_scales_logarithmically_and_places_zero_at_the_edge() {
-        let axis = Axis::log("x", 0.1, 10.0, false);
-        assert!((axis.fraction(1.0).unwrap() - 0.5).abs() < 1e-12);
-        assert!((axis.fraction(0.1).unwrap()).abs() < 1e-12);
-        assert!((axis.fraction(10.0).unwrap() - 1.0).abs() < 1e-12);
-        assert_eq!(axis.fraction(0.0), None);
-        assert_eq!(axis.fraction(f64::NAN), None);
-        let with_zero = Axis::log("x", 0.1, 10.0, true);
-        assert_eq!(with_zero.fraction(0.0), Some(0.0));
-        assert!((with_zero.fraction(0.1).unwrap() - ZERO_EDGE_SHARE).abs() < 1e-12);
-        assert!(
-            (with_zero.fraction(1.0).unwrap() - (ZERO_EDGE_SHARE + (1.0 - ZERO_EDGE_SHARE) / 2.0))
-                .abs()
-                < 1e-12
-        );
-        assert_eq!(with_zero.ticks()[0].label, "0");
-    }
-
-    #[test]
-    fn narrow_and_wide_log_ranges_stay_readable() {
-        // Within two decades, 2 and 5 are labelled too.
-        assert_eq!(
-            labels(&log_ticks(1.0, 100.0)),
-            vec!["1", "2", "5", "10", "20", "50", "100"]
-        );
-        // Twenty decades: labels thin out and use exponents, and stay under a dozen.
-        let wide_ticks = log_ticks(1e-10, 1e10);
-        let wide = labels(&wide_ticks);
-        assert!(wide.len() <= 11, "{wide:?}");
-        assert_eq!(wide[0], "10⁻¹⁰");
-        // Bad ranges give nothing rather than a panic.
-        assert!(log_ticks(0.0, 10.0).is_empty() && log_ticks(5.0, 1.0).is_empty());
-        let fallback = Axis::log("x", f64::NAN, -3.0, true);
-        assert_eq!((fallback.min, fallback.max), (0.1, 10.0));
-    }
-
-    #[test]
-    fn nice_steps_and_linear_ticks() {
-        // Heckbert (1990): steps are 1, 2 or 5 times a power of ten.
-        assert_eq!(nice_step(0.17), 0.2);
-        assert_eq!(nice_step(3.0), 5.0);
-        assert_eq!(nice_step(7.0), 10.0);
-        assert_eq!(nice_step(0.0), 1.0);
-        let ticks = linear_ticks(0.0, 1.0, 5);
-        assert_eq!(
-            labels(&ticks),
-            vec!["0.0", "0.2", "0.4", "0.6", "0.8", "1.0"]
-        );
-        let negative = linear_ticks(-0.5, 2.0, 5);
-        assert_eq!(
-            labels(&negative),
-            vec!["-0.5", "0.0", "0.5", "1.0", "1.5", "2.0"]
-        );
-        assert!(linear_ticks(1.0, 1.0, 5).is_empty());
-        let axis = Axis::linear("x", 2.0, 2.0);
-        assert!(axis.max > axis.min);
-        assert!((axis.fraction(2.0).unwrap() - 0.5).abs() < 1e-12);
-    }
-
-    #[test]
-    fn number_formatting() {
-        assert_eq!(format_number(1.0, 3), "1");
-        assert_eq!(format_number(1234.6, 3), "1235");
-        assert_eq!(format_number(0.000123, 2), "0.00012");
-        assert_eq!(format_number(1.5e7, 2), "1.5e7");
-        assert_eq!(format_number(f64::NAN, 3), "—");
-    }
 
     fn style() -> Style {
         Style {

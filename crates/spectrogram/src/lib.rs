@@ -2,28 +2,33 @@
 //!
 //! [`short_time_spectrum`] computes a Hann-windowed short-time power spectral density (one-sided
 //! for a real single-channel IF, two-sided and shifted for I/Q), planning its FFT once per call.
-//! [`write_picture`] draws it as time × Doppler frequency with a colour bar, and the truth
-//! intervals as labelled bands above it; `echobench synth` calls [`write_spectrogram`] after
-//! writing a trial so that an engineer can see what the detectors were given.
+//! [`draw_picture`] draws it as time × Doppler frequency with a colour bar, and the truth
+//! intervals as labelled bands above it, through `echobench_svg` (the drawing path the report
+//! and the explanation pictures use too); [`write_picture`] writes it as an SVG file, and
+//! `echobench synth` calls it after writing a trial so that an engineer can see what the
+//! detectors were given. [`Picture::nested`] places the same drawing inside a larger SVG, with
+//! [`Picture::plot_area`] telling where the heat map landed.
 //!
 //! The one design decision: the picture's size must not grow with the trial. The heat map is
 //! max-pooled onto at most [`MAX_TIME_CELLS`] × [`MAX_FREQUENCY_CELLS`] equal cells (max, so a
-//! one-frame burst or a one-bin line survives) and goes into an SVG as a single embedded raster
-//! image, while axes, labels and marks stay vector text rendered by the viewer. A 60 s trial at
-//! 2 kHz gives an SVG well under a megabyte that opens instantly. Pictures never depend on the
-//! fonts a machine happens to have: text is measured (and, for PNG, drawn) with a bundled
-//! DejaVu Sans (licence in `assets/`).
+//! one-frame burst or a one-bin line survives) and goes into the SVG as a single embedded,
+//! deflate-compressed PNG, while axes, labels and marks stay vector text rendered by the
+//! viewer. A 60 s trial at 2 kHz gives an SVG well under a megabyte that opens instantly.
+//! Text is left to the viewer's generic sans-serif font and laid out with a fixed estimate of
+//! its width, so pictures never depend on the fonts a machine happens to have.
 #![deny(missing_docs)]
 
 mod colormap;
 mod picture;
-mod raster;
 mod spectrum;
 
 use std::path::{Path, PathBuf};
 
 pub use echobench_core::Channels;
-pub use picture::{write_picture, Marked, SpectrogramOptions, MAX_FREQUENCY_CELLS, MAX_TIME_CELLS};
+pub use picture::{
+    draw_picture, write_picture, Marked, Picture, SpectrogramOptions, MAX_FREQUENCY_CELLS,
+    MAX_TIME_CELLS,
+};
 pub use spectrum::{short_time_spectrum, Spectrum, MAX_SPECTRUM_CELLS, POWER_FLOOR_V2_PER_HZ};
 
 /// What went wrong computing a spectrum or writing its picture. Every picture error names the
@@ -85,8 +90,8 @@ pub enum SpectrogramError {
         /// Why the spectrum failed.
         source: Box<SpectrogramError>,
     },
-    /// The file name ends in neither `.svg` nor `.png`.
-    #[error("cannot draw {path}: unsupported picture format; name the file *.svg or *.png")]
+    /// The file name does not end in `.svg`.
+    #[error("cannot draw {path}: unsupported picture format; name the file *.svg")]
     UnsupportedFormat {
         /// The picture file.
         path: PathBuf,
@@ -99,19 +104,11 @@ pub enum SpectrogramError {
         /// What is wrong.
         problem: String,
     },
-    /// The bundled font could not be registered with the drawing library.
-    #[error("cannot draw {path}: the bundled font could not be loaded")]
-    Font {
-        /// The picture file.
-        path: PathBuf,
-    },
-    /// The drawing library failed.
-    #[error("cannot draw {path}: {message}")]
-    Draw {
-        /// The picture file.
-        path: PathBuf,
-        /// The drawing library's message.
-        message: String,
+    /// Options, spectrum or marks are not usable for a picture drawn in memory.
+    #[error("cannot draw the spectrogram: {problem}")]
+    Drawing {
+        /// What is wrong.
+        problem: String,
     },
     /// Writing or renaming the file failed.
     #[error("cannot write {path}: {source}")]

@@ -1,18 +1,17 @@
-//! Drawing a [`Spectrum`] with its truth intervals as an SVG or PNG picture.
+//! Drawing a [`Spectrum`] with its truth intervals as an SVG picture, through `echobench_svg`.
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU64, Ordering};
-use std::sync::OnceLock;
 
 use echobench_core::Channels;
-use plotters::coord::Shift;
-use plotters::prelude::*;
-use plotters::style::text_anchor::{HPos, Pos, VPos};
-use plotters::style::FontTransform;
+use echobench_svg::axis::{
+    draw_ticks, linear_ticks, nice_step, text_width, Axis, Edge, PlotArea, TickStyle,
+};
+use echobench_svg::raster::{Placement, RgbImage};
+use echobench_svg::{Svg, SVG_NAMESPACE};
 
-use crate::colormap::{colour_table, COLOUR_STEPS};
-use crate::raster::{base64, crc32, encode_png_rgb};
+use crate::colormap::colour_table;
 use crate::{SpectrogramError, Spectrum};
 
 /// At most this many heat-map columns (time cells) are drawn; frames are max-pooled into them.
@@ -73,117 +72,168 @@ const MAX_SIDE_PX: u32 = 4096;
 const MAX_LABEL_CHARS: usize = 48;
 
 // Layout, pixels.
-const MARGIN: i32 = 14;
-const TITLE_ROW: i32 = 28;
-const SUBTITLE_ROW: i32 = 22;
-const SIDE_COLUMN: i32 = 132;
-const LEFT_LABEL_AREA: i32 = 84;
-const BOTTOM_LABEL_AREA: i32 = 50;
-const LANE: i32 = 22;
-const STRIP_PAD: i32 = 4;
-const STRIP_GAP: i32 = 8;
+const MARGIN: f64 = 14.0;
+const TITLE_ROW: f64 = 28.0;
+const SUBTITLE_ROW: f64 = 22.0;
+const SIDE_COLUMN: f64 = 132.0;
+const LEFT_LABEL_AREA: f64 = 84.0;
+const BOTTOM_LABEL_AREA: f64 = 50.0;
+const LANE: f64 = 22.0;
+const STRIP_PAD: f64 = 4.0;
+const STRIP_GAP: f64 = 8.0;
 const MAX_LANES_PER_KIND: usize = 4;
-const COLOUR_BAR_WIDTH: i32 = 20;
+const COLOUR_BAR_WIDTH: f64 = 20.0;
+/// A text's baseline sits this many font sizes below the line it is centred on (about half
+/// the height of a digit in a sans-serif font: common practice).
+const CENTRE_TO_BASELINE_EM: f64 = 0.35;
 
 // Colours: targets and nuisances from the Okabe–Ito palette, which stays distinct for the
 // common colour-vision deficiencies (common practice); the sky blue does not occur in the
 // heat-map colour table, so target edges stay visible on it.
-const TARGET_FILL: RGBColor = RGBColor(0x00, 0x72, 0xB2);
-const TARGET_EDGE: RGBColor = RGBColor(0x56, 0xB4, 0xE9);
-const NUISANCE_FILL: RGBColor = RGBColor(0xDD, 0xDD, 0xDD);
-const NUISANCE_BORDER: RGBColor = RGBColor(0x70, 0x70, 0x70);
-const STRIP_BACKGROUND: RGBColor = RGBColor(0xF3, 0xF3, 0xF3);
+const TARGET_FILL: &str = "#0072B2";
+const TARGET_EDGE: &str = "#56B4E9";
+const NUISANCE_FILL: &str = "#DDDDDD";
+const NUISANCE_BORDER: &str = "#707070";
+const STRIP_BACKGROUND: &str = "#F3F3F3";
 const MISSING_VALUE: [u8; 3] = [0x80, 0x80, 0x80];
-const TEXT: RGBColor = RGBColor(0x20, 0x20, 0x20);
-const MUTED_TEXT: RGBColor = RGBColor(0x60, 0x60, 0x60);
+const TEXT: &str = "#202020";
+const MUTED_TEXT: &str = "#606060";
 
-/// The font plotters measures (and, for PNG, draws) text with: DejaVu Sans, bundled so that
-/// pictures never depend on the fonts a machine happens to have. Licence in `assets/`.
-static DEJAVU_SANS: &[u8] = include_bytes!("../assets/DejaVuSans.ttf");
-const FONT_FAMILY: &str = "sans-serif";
+/// Ticks of the heat map's axes: no grid (it would hide the data), labels beside the marks.
+const TICKS: TickStyle = TickStyle {
+    ink: TEXT,
+    grid: None,
+    font_px: 13.0,
+    major_px: 5.0,
+    minor_px: 3.0,
+    bottom_label_drop_px: 20.0,
+    left_label_gap_px: 8.0,
+    left_label_shift_px: 13.0 * CENTRE_TO_BASELINE_EM,
+};
 
-/// Registers the bundled font with plotters once per process.
-fn ensure_font_registered() -> bool {
-    static REGISTERED: OnceLock<bool> = OnceLock::new();
-    *REGISTERED.get_or_init(|| {
-        plotters::style::register_font(FONT_FAMILY, FontStyle::Normal, DEJAVU_SANS).is_ok()
-    })
-}
-
-/// The picture formats [`write_picture`] writes, chosen by the file extension.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum PictureFormat {
-    Svg,
-    Png,
-}
-
-impl PictureFormat {
-    fn of(path: &Path) -> Option<Self> {
-        let extension = path.extension()?.to_str()?.to_ascii_lowercase();
-        match extension.as_str() {
-            "svg" => Some(Self::Svg),
-            "png" => Some(Self::Png),
-            _ => None,
-        }
-    }
-}
-
-/// Writes a picture of `spectrum`: time on x, Doppler frequency on y, colour = power spectral
-/// density in dB (a perceptually ordered map, with a colour bar), and above it a truth strip in
-/// which every mark is a labelled band (targets filled blue, nuisances grey); target start and
-/// end are also drawn as sky-blue lines across the heat map.
+/// Writes a picture of `spectrum` as an SVG file (see [`draw_picture`] for what it shows).
 ///
-/// The format follows the extension: `.svg` (text left to the viewer, heat map embedded as one
-/// raster image) or `.png` (text drawn with the bundled DejaVu Sans). The heat map is
-/// max-pooled to at most [`MAX_TIME_CELLS`] × [`MAX_FREQUENCY_CELLS`] cells, so a short burst or
-/// a narrow line stays visible and the file size does not grow with the trial length. The file
-/// is written to a temporary name in the same folder and renamed, so a reader never sees half a
-/// picture.
+/// The file name must end in `.svg`. The file is written to a temporary name in the same
+/// folder and renamed, so a reader never sees half a picture.
 ///
 /// # Errors
-/// Every error names `path`: an extension other than svg/png, invalid options (non-positive
-/// dynamic range or `max_hz`, picture size outside 480..=4096 px), a spectrum whose axes do not
-/// match its values, a mark that is not finite or ends before it starts, a drawing failure, or
-/// an I/O failure.
+/// Every error names `path`: an extension other than svg, anything [`draw_picture`] refuses,
+/// or an I/O failure.
 pub fn write_picture(
     path: &Path,
     spectrum: &Spectrum,
     marks: &[Marked],
     options: &SpectrogramOptions,
 ) -> Result<(), SpectrogramError> {
-    let format = PictureFormat::of(path).ok_or_else(|| SpectrogramError::UnsupportedFormat {
-        path: path.to_path_buf(),
-    })?;
-    let invalid = |problem: String| SpectrogramError::InvalidPicture {
-        path: path.to_path_buf(),
-        problem,
-    };
-    validate_options(options).map_err(invalid)?;
-    validate_spectrum(spectrum).map_err(invalid)?;
-    validate_marks(marks).map_err(invalid)?;
-    if !ensure_font_registered() {
-        return Err(SpectrogramError::Font {
+    let is_svg = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .is_some_and(|e| e.eq_ignore_ascii_case("svg"));
+    if !is_svg {
+        return Err(SpectrogramError::UnsupportedFormat {
             path: path.to_path_buf(),
         });
     }
-    let figure = Figure::prepare(spectrum, marks, options);
-    let drawing_failed = |message: String| SpectrogramError::Draw {
-        path: path.to_path_buf(),
-        message,
-    };
-    match format {
-        PictureFormat::Svg => {
-            let svg = render_svg(&figure).map_err(drawing_failed)?;
-            write_atomically(path, svg.as_bytes())
-        }
-        PictureFormat::Png => {
-            let temp = temp_path_beside(path, "png");
-            let drawn = render_png(&temp, &figure).map_err(drawing_failed);
-            finish_atomically(path, &temp, drawn)
-        }
-    }
+    let picture = draw_picture(spectrum, marks, options).map_err(|e| match e {
+        SpectrogramError::Drawing { problem } => SpectrogramError::InvalidPicture {
+            path: path.to_path_buf(),
+            problem,
+        },
+        other => other,
+    })?;
+    write_atomically(path, picture.document().as_str().as_bytes())
 }
 
+/// A spectrogram picture drawn in memory: a whole SVG document ([`Picture::document`]) or
+/// the same drawing nested in a larger one ([`Picture::nested`]), with the heat map's place
+/// on the page ([`Picture::plot_area`]) so that other panels can share its time axis.
+pub struct Picture {
+    figure: Figure,
+    layout: Layout,
+    png: Vec<u8>,
+}
+
+/// Draws `spectrum`: time on x, Doppler frequency on y, colour = power spectral density in
+/// dB (a perceptually ordered map, with a colour bar), and above it a truth strip in which
+/// every mark is a labelled band (targets filled blue, nuisances grey); target start and end
+/// are also drawn as sky-blue lines across the heat map.
+///
+/// Text is left to the viewer; the heat map is embedded as one compressed PNG, max-pooled to
+/// at most [`MAX_TIME_CELLS`] × [`MAX_FREQUENCY_CELLS`] cells, so a short burst or a narrow
+/// line stays visible and the size does not grow with the trial length.
+///
+/// # Errors
+/// [`SpectrogramError::Drawing`]: invalid options (non-positive dynamic range or `max_hz`,
+/// picture size outside 480..=4096 px), a spectrum whose axes do not match its values, or a
+/// mark that is not finite or ends before it starts.
+pub fn draw_picture(
+    spectrum: &Spectrum,
+    marks: &[Marked],
+    options: &SpectrogramOptions,
+) -> Result<Picture, SpectrogramError> {
+    let invalid = |problem: String| SpectrogramError::Drawing { problem };
+    validate_options(options).map_err(invalid)?;
+    validate_spectrum(spectrum).map_err(invalid)?;
+    validate_marks(marks).map_err(invalid)?;
+    let figure = Figure::prepare(spectrum, marks, options);
+    let layout = Layout::of(&figure);
+    let png = RgbImage {
+        width: figure.heat.columns as u32,
+        height: figure.heat.rows as u32,
+        rgb: figure.heat.rgb.clone(),
+    }
+    .to_png()
+    .ok_or_else(|| invalid("the heat-map image could not be encoded".into()))?;
+    Ok(Picture {
+        figure,
+        layout,
+        png,
+    })
+}
+
+impl Picture {
+    /// The heat map's rectangle, px from the picture's top left.
+    pub fn plot_area(&self) -> PlotArea {
+        self.layout.plot
+    }
+
+    /// The picture's size, px.
+    pub fn size_px(&self) -> (u32, u32) {
+        self.figure.size_px
+    }
+
+    /// The picture as a standalone SVG document.
+    pub fn document(&self) -> Svg {
+        let (width, height) = self.figure.size_px;
+        let mut svg = Svg::new();
+        svg.tag("svg")
+            .attr("xmlns", SVG_NAMESPACE)
+            .view_box(width, height)
+            .attr("font-family", "sans-serif")
+            .open();
+        self.draw(&mut svg, "");
+        svg.close("svg");
+        svg
+    }
+
+    /// The picture as an `<svg>` element with class `class` at (0, `y`) of a larger SVG; its
+    /// one id gets `-{id_suffix}` appended, so that two pictures of the same data can share a
+    /// page.
+    pub fn nested(&self, y: f64, class: &str, id_suffix: &str) -> Svg {
+        let (width, height) = self.figure.size_px;
+        let mut svg = Svg::new();
+        svg.tag("svg")
+            .attr("class", class)
+            .attr("x", 0)
+            .attr("y", y)
+            .view_box(width, height)
+            .attr("font-family", "sans-serif")
+            .open();
+        self.draw(&mut svg, id_suffix);
+        svg.close("svg");
+        svg
+    }
+}
 fn validate_options(options: &SpectrogramOptions) -> Result<(), String> {
     if !(options.dynamic_range_db.is_finite() && options.dynamic_range_db > 0.0) {
         return Err(format!(
@@ -268,23 +318,23 @@ struct HeatImage {
     bins_per_row: usize,
 }
 
-/// Everything the drawing needs, prepared once for either backend.
-struct Figure<'a> {
+/// Everything the drawing needs, prepared once.
+struct Figure {
     heat: HeatImage,
     top_db: f64,
     dynamic_range_db: f64,
     colours: Vec<[u8; 3]>,
     time_axis_s: (f64, f64),
     freq_axis_hz: (f64, f64),
-    marks: &'a [Marked],
-    title: &'a str,
+    marks: Vec<Marked>,
+    title: String,
     subtitle: String,
     freq_axis_title: &'static str,
     size_px: (u32, u32),
 }
 
-impl<'a> Figure<'a> {
-    fn prepare(spectrum: &Spectrum, marks: &'a [Marked], options: &'a SpectrogramOptions) -> Self {
+impl Figure {
+    fn prepare(spectrum: &Spectrum, marks: &[Marked], options: &SpectrogramOptions) -> Self {
         let nyquist_hz = spectrum.sample_rate_hz / 2.0;
         let top_hz = options.max_hz.map_or(nyquist_hz, |f| f.min(nyquist_hz));
         let freq_axis_hz = match spectrum.channels {
@@ -331,8 +381,8 @@ impl<'a> Figure<'a> {
             colours,
             time_axis_s: (0.0, duration_s),
             freq_axis_hz,
-            marks,
-            title: &options.title,
+            marks: marks.to_vec(),
+            title: options.title.clone(),
             subtitle,
             freq_axis_title,
             size_px: options.size_px,
@@ -433,53 +483,6 @@ fn pool_and_colour(
     (heat, top_db)
 }
 
-/// The heat-map plotting area in backend pixels: `x0..x1`, `y0..y1` (ends exclusive).
-#[derive(Debug, Clone, Copy)]
-struct PlotArea {
-    x0: i32,
-    x1: i32,
-    y0: i32,
-    y1: i32,
-}
-
-impl PlotArea {
-    fn width(&self) -> f64 {
-        f64::from(self.x1 - self.x0)
-    }
-    fn height(&self) -> f64 {
-        f64::from(self.y1 - self.y0)
-    }
-}
-
-/// Whether the heat map is blitted by plotters (bitmap) or added to the SVG text afterwards.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum HeatPainting {
-    Blit,
-    Deferred,
-}
-
-fn font(size: f64) -> FontDesc<'static> {
-    FontDesc::new(FontFamily::Name(FONT_FAMILY), size, FontStyle::Normal)
-}
-
-fn text_style(size: f64, colour: RGBColor, h: HPos, v: VPos) -> TextStyle<'static> {
-    font(size).color(&colour).pos(Pos::new(h, v))
-}
-
-fn err_text<E: std::fmt::Display>(error: E) -> String {
-    error.to_string()
-}
-
-/// A mark placed on a lane of the truth strip, in pixels.
-struct PlacedMark<'a> {
-    mark: &'a Marked,
-    lane: usize,
-    bar: (i32, i32),
-    label: String,
-    label_x: i32,
-    label_inside: bool,
-}
-
 /// Cleans a label for drawing: no control characters, at most [`MAX_LABEL_CHARS`].
 fn clean_label(label: &str) -> String {
     let cleaned: String = label
@@ -496,20 +499,65 @@ fn clean_label(label: &str) -> String {
     }
 }
 
+/// A mark placed on a lane of the truth strip, in pixels.
+struct PlacedMark<'a> {
+    mark: &'a Marked,
+    lane: usize,
+    bar: (f64, f64),
+    label: String,
+    label_x: f64,
+    label_inside: bool,
+}
+
+/// Where everything goes, px.
+struct Layout {
+    /// The heat map.
+    plot: PlotArea,
+    strip_top: f64,
+    strip_height: f64,
+    lanes: usize,
+}
+
+impl Layout {
+    fn of(figure: &Figure) -> Layout {
+        let (width, height) = (f64::from(figure.size_px.0), f64::from(figure.size_px.1));
+        let left = MARGIN + LEFT_LABEL_AREA;
+        let right = width - MARGIN - SIDE_COLUMN;
+        // The marks' lanes fix the strip's height, which does not depend on the plot's
+        // height; only its x range matters for placing them.
+        let (_, lanes) = place_marks(&figure.marks, figure.time_axis_s, left, right);
+        let strip_top = MARGIN + TITLE_ROW + SUBTITLE_ROW + 4.0;
+        let strip_height = 2.0 * STRIP_PAD + LANE * lanes.max(1) as f64;
+        let top = strip_top + strip_height + STRIP_GAP;
+        let bottom = height - MARGIN - BOTTOM_LABEL_AREA;
+        Layout {
+            plot: PlotArea {
+                left,
+                top,
+                width: right - left,
+                height: (bottom - top).max(1.0),
+            },
+            strip_top,
+            strip_height,
+            lanes,
+        }
+    }
+}
+
 /// Puts marks on lanes so that no two bands or labels overlap: targets on the upper lanes,
 /// nuisances below, first fit in order of start (at most [`MAX_LANES_PER_KIND`] lanes each;
-/// past that, marks share the lane that frees up first).
-fn place_marks<'a, DB: DrawingBackend>(
-    root: &DrawingArea<DB, Shift>,
-    marks: &'a [Marked],
+/// past that, marks share the lane that frees up first). Returns the placed marks and the
+/// number of lanes.
+fn place_marks(
+    marks: &[Marked],
     time_axis_s: (f64, f64),
-    plot: PlotArea,
-) -> Result<(Vec<PlacedMark<'a>>, usize), String> {
+    left: f64,
+    right: f64,
+) -> (Vec<PlacedMark<'_>>, usize) {
     let to_px = |t: f64| {
         let fraction = (t - time_axis_s.0) / (time_axis_s.1 - time_axis_s.0);
-        plot.x0 + (fraction.clamp(0.0, 1.0) * plot.width()).round() as i32
+        (left + fraction.clamp(0.0, 1.0) * (right - left)).round()
     };
-    let label_style = TextStyle::from(font(12.0));
     let mut placed = Vec::new();
     let mut lanes_used = 0;
     for is_target in [true, false] {
@@ -522,35 +570,32 @@ fn place_marks<'a, DB: DrawingBackend>(
             continue;
         }
         group.sort_by(|a, b| a.start_s.total_cmp(&b.start_s));
-        let mut lane_ends: Vec<i32> = Vec::new();
+        let mut lane_ends: Vec<f64> = Vec::new();
         for mark in group {
             let start = to_px(mark.start_s);
-            let end = to_px(mark.end_s).max(start + 2);
+            let end = to_px(mark.end_s).max(start + 2.0);
             let label = clean_label(&mark.label);
-            let (label_width, _) = root
-                .estimate_text_size(&label, &label_style)
-                .map_err(err_text)?;
-            let label_width = label_width as i32;
-            let label_inside = label_width + 8 <= end - start;
+            let label_width = text_width(&label, 12.0).ceil();
+            let label_inside = label_width + 8.0 <= end - start;
             let label_x = if label_inside {
-                start + 4
-            } else if end + 4 + label_width <= plot.x1 {
-                end + 4
+                start + 4.0
+            } else if end + 4.0 + label_width <= right {
+                end + 4.0
             } else {
-                (start - 4 - label_width).max(plot.x0)
+                (start - 4.0 - label_width).max(left)
             };
             let extent = (start.min(label_x), end.max(label_x + label_width));
             let free = lane_ends
                 .iter()
-                .position(|&lane_end| lane_end + 6 <= extent.0);
+                .position(|&lane_end| lane_end + 6.0 <= extent.0);
             let lane = match free {
                 Some(lane) => lane,
                 None if lane_ends.len() < MAX_LANES_PER_KIND => {
-                    lane_ends.push(i32::MIN);
+                    lane_ends.push(f64::NEG_INFINITY);
                     lane_ends.len() - 1
                 }
                 None => (0..lane_ends.len())
-                    .min_by_key(|&lane| lane_ends[lane])
+                    .min_by(|&a, &b| lane_ends[a].total_cmp(&lane_ends[b]))
                     .unwrap_or(0),
             };
             lane_ends[lane] = lane_ends[lane].max(extent.1);
@@ -565,254 +610,243 @@ fn place_marks<'a, DB: DrawingBackend>(
         }
         lanes_used += lane_ends.len();
     }
-    Ok((placed, lanes_used))
+    (placed, lanes_used)
 }
 
-/// Draws everything except (for [`HeatPainting::Deferred`]) the heat-map raster; returns the
-/// heat-map plotting area.
-fn draw_figure<DB: DrawingBackend>(
-    root: &DrawingArea<DB, Shift>,
-    figure: &Figure<'_>,
-    painting: HeatPainting,
-) -> Result<PlotArea, String> {
-    let (width, height) = root.dim_in_pixel();
-    let (width, height) = (width as i32, height as i32);
+/// Text centred vertically on `y`.
+fn centred_text<'a>(
+    svg: &'a mut Svg,
+    x: f64,
+    y: f64,
+    anchor: &'static str,
+    font_px: f64,
+    colour: &str,
+) -> echobench_svg::Tag<'a> {
+    svg.text_at(x, y + CENTRE_TO_BASELINE_EM * font_px, anchor, font_px)
+        .attr("fill", colour)
+}
 
-    // Header: title and legend on the first row, analysis settings on the second.
-    let title_y = MARGIN + TITLE_ROW / 2;
-    root.draw(&Text::new(
-        figure.title.to_string(),
-        (MARGIN, title_y),
-        text_style(20.0, TEXT, HPos::Left, VPos::Center),
-    ))
-    .map_err(err_text)?;
-    draw_legend(root, width - MARGIN, title_y)?;
-    root.draw(&Text::new(
-        figure.subtitle.clone(),
-        (MARGIN, MARGIN + TITLE_ROW + SUBTITLE_ROW / 2),
-        text_style(12.5, MUTED_TEXT, HPos::Left, VPos::Center),
-    ))
-    .map_err(err_text)?;
+fn rect<'a>(svg: &'a mut Svg, x: f64, y: f64, width: f64, height: f64) -> echobench_svg::Tag<'a> {
+    svg.tag("rect")
+        .px("x", x)
+        .px("y", y)
+        .px("width", width)
+        .px("height", height)
+}
 
-    // The plot's x pixel range does not depend on the strip height, so marks can be placed
-    // (which fixes the strip height) before the chart is built.
-    let main_right = width - MARGIN - SIDE_COLUMN;
-    let predicted = PlotArea {
-        x0: MARGIN + LEFT_LABEL_AREA,
-        x1: main_right,
-        y0: 0,
-        y1: 0,
-    };
-    let (placed, lanes) = place_marks(root, figure.marks, figure.time_axis_s, predicted)?;
-    let strip_top = MARGIN + TITLE_ROW + SUBTITLE_ROW + 4;
-    let strip_height = 2 * STRIP_PAD + LANE * lanes.max(1) as i32;
-    let chart_top = strip_top + strip_height + STRIP_GAP;
+impl Picture {
+    /// Draws the picture's contents (everything inside its `<svg>` element).
+    fn draw(&self, svg: &mut Svg, id_suffix: &str) {
+        let figure = &self.figure;
+        let layout = &self.layout;
+        let plot = layout.plot;
+        let (width, height) = (f64::from(figure.size_px.0), f64::from(figure.size_px.1));
+        svg.tag("rect")
+            .attr("x", 0)
+            .attr("y", 0)
+            .attr("width", width)
+            .attr("height", height)
+            .attr("fill", "#FFFFFF")
+            .end();
 
-    let chart_area = root.clone().shrink(
-        (MARGIN, chart_top),
-        (
-            (main_right - MARGIN).max(1) as u32,
-            (height - MARGIN - chart_top).max(1) as u32,
-        ),
-    );
-    let (t0, t1) = figure.time_axis_s;
-    let (f0, f1) = figure.freq_axis_hz;
-    let mut chart = ChartBuilder::on(&chart_area)
-        .x_label_area_size(BOTTOM_LABEL_AREA)
-        .y_label_area_size(LEFT_LABEL_AREA)
-        .build_cartesian_2d(t0..t1, f0..f1)
-        .map_err(err_text)?;
-    let (x_range, y_range) = chart.plotting_area().get_pixel_range();
-    let plot = PlotArea {
-        x0: x_range.start,
-        x1: x_range.end,
-        y0: y_range.start,
-        y1: y_range.end,
-    };
+        // The heat map first, clipped to the plot area, so that everything else is over it.
+        // A content-derived id keeps documents deterministic and ids distinct when several
+        // pictures are inlined into one HTML page.
+        let mut clip_id = format!("heat-map-area-{:08x}", crc32fast::hash(&self.png));
+        if !id_suffix.is_empty() {
+            clip_id.push('-');
+            clip_id.push_str(id_suffix);
+        }
+        svg.tag("clipPath").attr("id", &clip_id).open();
+        rect(svg, plot.left, plot.top, plot.width, plot.height).end();
+        svg.close("clipPath");
+        let heat = &figure.heat;
+        let time_axis = Axis::linear("", figure.time_axis_s.0, figure.time_axis_s.1);
+        let freq_axis = Axis::linear("", figure.freq_axis_hz.0, figure.freq_axis_hz.1);
+        let x_of = |t: f64| plot.left + time_axis.fraction(t).unwrap_or(0.0) * plot.width;
+        let y_of = |f: f64| plot.bottom() - freq_axis.fraction(f).unwrap_or(0.0) * plot.height;
+        let (left, right) = (x_of(heat.time_extent_s.0), x_of(heat.time_extent_s.1));
+        let (top, bottom) = (y_of(heat.freq_extent_hz.1), y_of(heat.freq_extent_hz.0));
+        svg.png_image(
+            &self.png,
+            &Placement {
+                x: left,
+                y: top,
+                width: right - left,
+                height: bottom - top,
+                clip_id: Some(clip_id),
+            },
+        );
 
-    if painting == HeatPainting::Blit {
-        let pixels = raster_for_area(figure, plot);
-        let element = BitMapElement::with_owned_buffer(
-            (plot.x0, plot.y0),
-            ((plot.x1 - plot.x0) as u32, (plot.y1 - plot.y0) as u32),
-            pixels,
+        // Header: title and legend on the first row, analysis settings on the second.
+        let title_y = MARGIN + TITLE_ROW / 2.0;
+        centred_text(svg, MARGIN, title_y, "start", 20.0, TEXT).content(&figure.title);
+        draw_legend(svg, width - MARGIN, title_y);
+        centred_text(
+            svg,
+            MARGIN,
+            MARGIN + TITLE_ROW + SUBTITLE_ROW / 2.0,
+            "start",
+            12.5,
+            MUTED_TEXT,
         )
-        .ok_or("heat-map buffer does not match the plot area")?;
-        root.draw(&element).map_err(err_text)?;
-    }
+        .content(&figure.subtitle);
 
-    let tick_style = font(13.0).color(&TEXT);
-    let title_style = font(15.0).color(&TEXT);
-    let number = |v: &f64| format_number(*v, 3);
-    chart
-        .configure_mesh()
-        .disable_mesh()
-        .x_labels(12)
-        .y_labels(9)
-        .x_label_formatter(&number)
-        .y_label_formatter(&number)
-        .x_label_style(tick_style.clone())
-        .y_label_style(tick_style)
-        .axis_desc_style(title_style)
-        .x_desc("Time (s)")
-        .y_desc(figure.freq_axis_title)
-        .draw()
-        .map_err(err_text)?;
+        // Axes: nice-number ticks, about ten in time and eight in frequency.
+        let mut time_ticks = time_axis.clone();
+        time_ticks.custom_ticks = Some(linear_ticks(time_axis.min, time_axis.max, 10));
+        let mut freq_ticks = freq_axis.clone();
+        freq_ticks.custom_ticks = Some(linear_ticks(freq_axis.min, freq_axis.max, 8));
+        draw_ticks(svg, &plot, &time_ticks, Edge::Bottom, &TICKS);
+        draw_ticks(svg, &plot, &freq_ticks, Edge::Left, &TICKS);
+        svg.text_at(
+            plot.left + plot.width / 2.0,
+            plot.bottom() + 42.0,
+            "middle",
+            15.0,
+        )
+        .attr("fill", TEXT)
+        .content("Time (s)");
+        let (label_x, label_y) = (plot.left - 66.0, plot.top + plot.height / 2.0);
+        svg.text_at(label_x, label_y, "middle", 15.0)
+            .attr("fill", TEXT)
+            .attr(
+                "transform",
+                format_args!("rotate(-90 {label_x:.1} {label_y:.1})"),
+            )
+            .content(figure.freq_axis_title);
 
-    // Target edges across the heat map.
-    for mark in figure.marks.iter().filter(|m| m.is_target) {
-        for t in [mark.start_s, mark.end_s] {
-            if t >= t0 && t <= t1 {
-                chart
-                    .draw_series(LineSeries::new(
-                        [(t, f0), (t, f1)],
-                        TARGET_EDGE.stroke_width(1),
-                    ))
-                    .map_err(err_text)?;
+        // Target edges across the heat map.
+        let (t0, t1) = figure.time_axis_s;
+        for mark in figure.marks.iter().filter(|m| m.is_target) {
+            for t in [mark.start_s, mark.end_s] {
+                if t >= t0 && t <= t1 {
+                    let x = x_of(t);
+                    svg.tag("line")
+                        .px("x1", x)
+                        .px("y1", plot.top)
+                        .px("x2", x)
+                        .px("y2", plot.bottom())
+                        .attr("stroke", TARGET_EDGE)
+                        .attr("stroke-width", 1)
+                        .end();
+                }
             }
         }
-    }
-    // Frame around the heat map.
-    root.draw(&Rectangle::new(
-        [(plot.x0, plot.y0), (plot.x1, plot.y1)],
-        BLACK.stroke_width(1),
-    ))
-    .map_err(err_text)?;
+        // Frame around the heat map.
+        rect(svg, plot.left, plot.top, plot.width, plot.height)
+            .attr("fill", "none")
+            .attr("stroke", "#000000")
+            .attr("stroke-width", 1)
+            .end();
 
-    draw_truth_strip(root, &placed, lanes, plot, strip_top, strip_height)?;
-    draw_colour_bar(root, figure, plot)?;
-    Ok(plot)
+        draw_truth_strip(svg, figure, layout);
+        draw_colour_bar(svg, figure, plot);
+    }
 }
 
-fn draw_legend<DB: DrawingBackend>(
-    root: &DrawingArea<DB, Shift>,
-    right: i32,
-    y: i32,
-) -> Result<(), String> {
-    let style = text_style(13.0, TEXT, HPos::Right, VPos::Center);
+fn draw_legend(svg: &mut Svg, right: f64, y: f64) {
     let entries = [
         ("nuisance", NUISANCE_FILL, NUISANCE_BORDER),
         ("target", TARGET_FILL, TARGET_FILL),
     ];
     let mut x = right;
-    for (text, fill, border) in entries {
-        let (text_width, _) = root
-            .estimate_text_size(text, &TextStyle::from(font(13.0)))
-            .map_err(err_text)?;
-        root.draw(&Text::new(text, (x, y), style.clone()))
-            .map_err(err_text)?;
-        x -= text_width as i32 + 6;
-        let swatch = [(x - 22, y - 6), (x, y + 6)];
-        root.draw(&Rectangle::new(swatch, fill.filled()))
-            .map_err(err_text)?;
-        root.draw(&Rectangle::new(swatch, border.stroke_width(1)))
-            .map_err(err_text)?;
-        x -= 22 + 18;
+    for (label, fill, border) in entries {
+        centred_text(svg, x, y, "end", 13.0, TEXT).content(label);
+        x -= text_width(label, 13.0) + 6.0;
+        rect(svg, x - 22.0, y - 6.0, 22.0, 12.0)
+            .attr("fill", fill)
+            .attr("stroke", border)
+            .attr("stroke-width", 1)
+            .end();
+        x -= 22.0 + 18.0;
     }
-    Ok(())
 }
 
-fn draw_truth_strip<DB: DrawingBackend>(
-    root: &DrawingArea<DB, Shift>,
-    placed: &[PlacedMark<'_>],
-    lanes: usize,
-    plot: PlotArea,
-    top: i32,
-    height: i32,
-) -> Result<(), String> {
-    root.draw(&Rectangle::new(
-        [(plot.x0, top), (plot.x1, top + height)],
-        STRIP_BACKGROUND.filled(),
-    ))
-    .map_err(err_text)?;
-    root.draw(&Text::new(
-        "truth",
-        (plot.x0 - 8, top + height / 2),
-        text_style(14.0, TEXT, HPos::Right, VPos::Center),
-    ))
-    .map_err(err_text)?;
-    if lanes == 0 {
-        root.draw(&Text::new(
-            "no truth intervals",
-            (plot.x0 + 6, top + height / 2),
-            text_style(12.0, MUTED_TEXT, HPos::Left, VPos::Center),
-        ))
-        .map_err(err_text)?;
-        return Ok(());
+fn draw_truth_strip(svg: &mut Svg, figure: &Figure, layout: &Layout) {
+    let plot = layout.plot;
+    let (top, height) = (layout.strip_top, layout.strip_height);
+    rect(svg, plot.left, top, plot.width, height)
+        .attr("fill", STRIP_BACKGROUND)
+        .end();
+    centred_text(svg, plot.left - 8.0, top + height / 2.0, "end", 14.0, TEXT).content("truth");
+    if layout.lanes == 0 {
+        centred_text(
+            svg,
+            plot.left + 6.0,
+            top + height / 2.0,
+            "start",
+            12.0,
+            MUTED_TEXT,
+        )
+        .content("no truth intervals");
+        return;
     }
+    let (placed, _) = place_marks(&figure.marks, figure.time_axis_s, plot.left, plot.right());
     for placed_mark in placed {
-        let lane_top = top + STRIP_PAD + LANE * placed_mark.lane as i32;
-        let bar = [
-            (placed_mark.bar.0, lane_top + 3),
-            (placed_mark.bar.1, lane_top + LANE - 3),
-        ];
+        let lane_top = top + STRIP_PAD + LANE * placed_mark.lane as f64;
         let (fill, border, inside_text) = if placed_mark.mark.is_target {
-            (TARGET_FILL, TARGET_FILL, WHITE)
+            (TARGET_FILL, TARGET_FILL, "#FFFFFF")
         } else {
-            (NUISANCE_FILL, NUISANCE_BORDER, BLACK)
+            (NUISANCE_FILL, NUISANCE_BORDER, "#000000")
         };
-        root.draw(&Rectangle::new(bar, fill.filled()))
-            .map_err(err_text)?;
-        root.draw(&Rectangle::new(bar, border.stroke_width(1)))
-            .map_err(err_text)?;
+        let (start, end) = placed_mark.bar;
+        rect(svg, start, lane_top + 3.0, end - start, LANE - 6.0)
+            .attr("fill", fill)
+            .attr("stroke", border)
+            .attr("stroke-width", 1)
+            .end();
         let colour = if placed_mark.label_inside {
             inside_text
         } else {
             TEXT
         };
-        root.draw(&Text::new(
-            placed_mark.label.clone(),
-            (placed_mark.label_x, lane_top + LANE / 2),
-            text_style(12.0, colour, HPos::Left, VPos::Center),
-        ))
-        .map_err(err_text)?;
-    }
-    Ok(())
-}
-
-/// A tick step of 1, 2 or 5 × 10ⁿ dB giving at most eight ticks over `span_db`.
-fn colour_bar_step_db(span_db: f64) -> f64 {
-    let mut magnitude = 10f64.powf((span_db / 8.0).log10().floor());
-    loop {
-        for factor in [1.0, 2.0, 5.0] {
-            let step = factor * magnitude;
-            if span_db / step <= 8.0 {
-                return step;
-            }
-        }
-        magnitude *= 10.0;
+        centred_text(
+            svg,
+            placed_mark.label_x,
+            lane_top + LANE / 2.0,
+            "start",
+            12.0,
+            colour,
+        )
+        .content(&placed_mark.label);
     }
 }
 
-fn draw_colour_bar<DB: DrawingBackend>(
-    root: &DrawingArea<DB, Shift>,
-    figure: &Figure<'_>,
-    plot: PlotArea,
-) -> Result<(), String> {
-    let x0 = plot.x1 + 22;
+/// The colour bar right of the heat map: the colour table as a one-column image, ticks at a
+/// nice step (at most about eight over the range) and its title.
+fn draw_colour_bar(svg: &mut Svg, figure: &Figure, plot: PlotArea) {
+    let x0 = plot.right() + 22.0;
+    // Strongest colour at the top.
+    let rgb: Vec<u8> = figure.colours.iter().rev().flatten().copied().collect();
+    let image = RgbImage {
+        width: 1,
+        height: figure.colours.len() as u32,
+        rgb,
+    };
+    if let Some(png) = image.to_png() {
+        svg.png_image(
+            &png,
+            &Placement {
+                x: x0,
+                y: plot.top,
+                width: COLOUR_BAR_WIDTH,
+                height: plot.height,
+                clip_id: None,
+            },
+        );
+    }
+    rect(svg, x0, plot.top, COLOUR_BAR_WIDTH, plot.height)
+        .attr("fill", "none")
+        .attr("stroke", TEXT)
+        .attr("stroke-width", 1)
+        .end();
+
     let x1 = x0 + COLOUR_BAR_WIDTH;
-    let steps = COLOUR_STEPS as f64;
-    for (index, colour) in figure.colours.iter().enumerate() {
-        // Entry 0 (weakest) at the bottom.
-        let y_top = plot.y0 + ((steps - 1.0 - index as f64) / steps * plot.height()).round() as i32;
-        let y_bottom = plot.y0 + ((steps - index as f64) / steps * plot.height()).round() as i32;
-        let [r, g, b] = *colour;
-        root.draw(&Rectangle::new(
-            [(x0, y_top), (x1, y_bottom)],
-            RGBColor(r, g, b).filled(),
-        ))
-        .map_err(err_text)?;
-    }
-    root.draw(&Rectangle::new(
-        [(x0, plot.y0), (x1, plot.y1)],
-        TEXT.stroke_width(1),
-    ))
-    .map_err(err_text)?;
-
     let bottom_db = figure.bottom_db();
     let span_db = figure.dynamic_range_db;
-    let step_db = colour_bar_step_db(span_db);
-    let label_style = text_style(12.0, TEXT, HPos::Left, VPos::Center);
+    // 1, 2 or 5 × 10ⁿ dB with at most eight steps over the range (Heckbert 1990).
+    let step_db = nice_step(span_db / 8.0);
     let first_tick = (bottom_db / step_db).ceil();
     let last_tick = (figure.top_db / step_db + 1e-9).floor();
     // Counted, not accumulated, so that a step lost in rounding cannot loop forever.
@@ -823,131 +857,30 @@ fn draw_colour_bar<DB: DrawingBackend>(
     };
     for tick in 0..tick_count {
         let tick_db = (first_tick + tick as f64) * step_db;
-        let y = plot.y1 - ((tick_db - bottom_db) / span_db * plot.height()).round() as i32;
-        root.draw(&PathElement::new(
-            vec![(x1, y), (x1 + 5, y)],
-            TEXT.stroke_width(1),
-        ))
-        .map_err(err_text)?;
-        root.draw(&Text::new(
-            format_number(tick_db, 1),
-            (x1 + 8, y),
-            label_style.clone(),
-        ))
-        .map_err(err_text)?;
+        let y = plot.bottom() - (tick_db - bottom_db) / span_db * plot.height;
+        svg.tag("line")
+            .px("x1", x1)
+            .px("y1", y)
+            .px("x2", x1 + 5.0)
+            .px("y2", y)
+            .attr("stroke", TEXT)
+            .attr("stroke-width", 1)
+            .end();
+        centred_text(svg, x1 + 8.0, y, "start", 12.0, TEXT).content(&format_number(tick_db, 1));
     }
-    let title_style = font(14.0)
-        .color(&TEXT)
-        .transform(FontTransform::Rotate270)
-        .pos(Pos::new(HPos::Center, VPos::Center));
-    root.draw(&Text::new(
-        "PSD (dB re 1 V²/Hz)",
-        (x1 + 66, (plot.y0 + plot.y1) / 2),
-        title_style,
-    ))
-    .map_err(err_text)?;
-    Ok(())
-}
-
-/// The heat map resampled (nearest cell) onto the plot area's pixels, for bitmap output.
-fn raster_for_area(figure: &Figure<'_>, plot: PlotArea) -> Vec<u8> {
-    let heat = &figure.heat;
-    let (width, height) = ((plot.x1 - plot.x0) as usize, (plot.y1 - plot.y0) as usize);
-    let mut pixels = vec![255_u8; width * height * 3];
-    let (t0, t1) = figure.time_axis_s;
-    let (f0, f1) = figure.freq_axis_hz;
-    let column_of = |px: usize| {
-        let t = t0 + (px as f64 + 0.5) / width as f64 * (t1 - t0);
-        let fraction = (t - heat.time_extent_s.0) / (heat.time_extent_s.1 - heat.time_extent_s.0);
-        let column = (fraction * heat.columns as f64).floor();
-        (column >= 0.0 && column < heat.columns as f64).then_some(column as usize)
-    };
-    let columns: Vec<Option<usize>> = (0..width).map(column_of).collect();
-    for py in 0..height {
-        let f = f1 - (py as f64 + 0.5) / height as f64 * (f1 - f0);
-        let fraction =
-            (f - heat.freq_extent_hz.0) / (heat.freq_extent_hz.1 - heat.freq_extent_hz.0);
-        let from_bottom = (fraction * heat.rows as f64).floor();
-        if !(from_bottom >= 0.0 && from_bottom < heat.rows as f64) {
-            continue;
-        }
-        let row = heat.rows - 1 - from_bottom as usize;
-        for (px, column) in columns.iter().enumerate() {
-            if let Some(column) = column {
-                let source = (row * heat.columns + column) * 3;
-                let target = (py * width + px) * 3;
-                pixels[target..target + 3].copy_from_slice(&heat.rgb[source..source + 3]);
-            }
-        }
-    }
-    pixels
-}
-
-fn render_png(temp: &Path, figure: &Figure<'_>) -> Result<(), String> {
-    let root = BitMapBackend::new(temp, figure.size_px).into_drawing_area();
-    root.fill(&WHITE).map_err(err_text)?;
-    draw_figure(&root, figure, HeatPainting::Blit)?;
-    root.present().map_err(err_text)
-}
-
-fn render_svg(figure: &Figure<'_>) -> Result<String, String> {
-    let mut svg = String::new();
-    let plot = {
-        let root = SVGBackend::with_string(&mut svg, figure.size_px).into_drawing_area();
-        let plot = draw_figure(&root, figure, HeatPainting::Deferred)?;
-        root.present().map_err(err_text)?;
-        plot
-    };
-    // plotters opens the document with `<svg ...>` and a newline; the background and the heat
-    // map go first so that axes, marks and labels are drawn over them.
-    let insert_at = svg
-        .find(">\n")
-        .map(|at| at + 2)
-        .ok_or("the SVG backend wrote no opening tag")?;
-    let heat_map = svg_heat_map(figure, plot)?;
-    svg.insert_str(insert_at, &heat_map);
-    Ok(svg)
-}
-
-/// The white background, a clip path for the plot area and the heat map as one embedded PNG.
-fn svg_heat_map(figure: &Figure<'_>, plot: PlotArea) -> Result<String, String> {
-    let heat = &figure.heat;
-    let png = encode_png_rgb(heat.columns as u32, heat.rows as u32, &heat.rgb)
-        .ok_or("heat-map image is empty")?;
-    let (t0, t1) = figure.time_axis_s;
-    let (f0, f1) = figure.freq_axis_hz;
-    let x_of = |t: f64| f64::from(plot.x0) + (t - t0) / (t1 - t0) * plot.width();
-    let y_of = |f: f64| f64::from(plot.y1) - (f - f0) / (f1 - f0) * plot.height();
-    let left = x_of(heat.time_extent_s.0);
-    let right = x_of(heat.time_extent_s.1);
-    let top = y_of(heat.freq_extent_hz.1);
-    let bottom = y_of(heat.freq_extent_hz.0);
-    let (width, height) = figure.size_px;
-    // A content-derived id keeps documents deterministic and ids distinct when several
-    // pictures are inlined into one HTML page.
-    let clip_id = format!("heat-map-area-{:08x}", crc32(&png));
-    Ok(format!(
-        concat!(
-            "<rect x=\"0\" y=\"0\" width=\"{w}\" height=\"{h}\" fill=\"#FFFFFF\" stroke=\"none\"/>\n",
-            "<clipPath id=\"{id}\"><rect x=\"{px}\" y=\"{py}\" width=\"{pw}\" height=\"{ph}\"/></clipPath>\n",
-            "<image x=\"{x:.2}\" y=\"{y:.2}\" width=\"{iw:.2}\" height=\"{ih:.2}\" preserveAspectRatio=\"none\" ",
-            "image-rendering=\"optimizeSpeed\" style=\"image-rendering:crisp-edges;image-rendering:pixelated\" ",
-            "clip-path=\"url(#{id})\" xmlns:xlink=\"http://www.w3.org/1999/xlink\" ",
-            "xlink:href=\"data:image/png;base64,{data}\"/>\n"
-        ),
-        w = width,
-        h = height,
-        id = clip_id,
-        px = plot.x0,
-        py = plot.y0,
-        pw = plot.x1 - plot.x0,
-        ph = plot.y1 - plot.y0,
-        x = left,
-        y = top,
-        iw = right - left,
-        ih = bottom - top,
-        data = base64(&png),
-    ))
+    let (label_x, label_y) = (x1 + 66.0, plot.top + plot.height / 2.0);
+    svg.text_at(
+        label_x,
+        label_y + CENTRE_TO_BASELINE_EM * 14.0,
+        "middle",
+        14.0,
+    )
+    .attr("fill", TEXT)
+    .attr(
+        "transform",
+        format_args!("rotate(-90 {label_x:.1} {label_y:.1})"),
+    )
+    .content("PSD (dB re 1 V²/Hz)");
 }
 
 /// A number with at most `max_decimals` decimals, trailing zeros dropped, never "-0".
@@ -1018,6 +951,7 @@ fn finish_atomically(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::colormap::COLOUR_STEPS;
 
     fn flat_spectrum(frames: usize, bins: usize, fs: f64, frame_len: usize) -> Spectrum {
         Spectrum {
@@ -1093,11 +1027,13 @@ mod tests {
 
     #[test]
     fn colour_bar_steps_are_round() {
-        assert_eq!(colour_bar_step_db(80.0), 10.0);
-        assert_eq!(colour_bar_step_db(60.0), 10.0);
-        assert_eq!(colour_bar_step_db(30.0), 5.0);
-        assert_eq!(colour_bar_step_db(12.0), 2.0);
-        assert_eq!(colour_bar_step_db(150.0), 20.0);
+        // At most eight steps of 1, 2 or 5 × 10ⁿ dB over the range.
+        let step_db = |span_db: f64| nice_step(span_db / 8.0);
+        assert_eq!(step_db(80.0), 10.0);
+        assert_eq!(step_db(60.0), 10.0);
+        assert_eq!(step_db(30.0), 5.0);
+        assert_eq!(step_db(12.0), 2.0);
+        assert_eq!(step_db(150.0), 20.0);
     }
 
     #[test]

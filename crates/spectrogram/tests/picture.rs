@@ -4,8 +4,8 @@ use std::f64::consts::PI;
 use std::path::{Path, PathBuf};
 
 use echobench_spectrogram::{
-    short_time_spectrum, write_picture, write_spectrogram, Channels, Marked, SpectrogramError,
-    SpectrogramOptions, MAX_FREQUENCY_CELLS, MAX_TIME_CELLS,
+    draw_picture, short_time_spectrum, write_picture, write_spectrogram, Channels, Marked,
+    SpectrogramError, SpectrogramOptions, MAX_FREQUENCY_CELLS, MAX_TIME_CELLS,
 };
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -411,22 +411,44 @@ fn svg_heat_map_is_aligned_with_its_axes() {
 }
 
 #[test]
-fn png_is_written_at_the_requested_size() {
-    let dir = test_folder("png");
+fn a_picture_drawn_in_memory_nests_with_its_plot_area_and_distinct_ids() {
     let fs = 1000.0;
-    for channels in [Channels::Real, Channels::Iq] {
-        let (samples, marks) = test_trial(channels, fs, 12.0);
-        let path = dir.join(format!("trial-{channels}.png"));
-        let options = SpectrogramOptions {
-            title: format!("{channels} trial as PNG"),
-            size_px: (1000, 600),
-            ..SpectrogramOptions::default()
-        };
-        write_spectrogram(&path, &samples, channels, fs, &marks, &options).unwrap();
-        let png = std::fs::read(&path).unwrap();
-        assert_eq!(png_size(&png), (1000, 600));
-        assert!(leftover_temp_files(&dir).is_empty());
-    }
+    let (samples, marks) = test_trial(Channels::Iq, fs, 12.0);
+    let spectrum = short_time_spectrum(&samples, Channels::Iq, fs, 128, 32).unwrap();
+    let options = SpectrogramOptions {
+        title: "nested <one>".into(),
+        size_px: (1000, 600),
+        ..SpectrogramOptions::default()
+    };
+    let picture = draw_picture(&spectrum, &marks, &options).unwrap();
+    assert_eq!(picture.size_px(), (1000, 600));
+    let document = picture.document().into_string();
+    assert_well_formed_xml(&document);
+    // The plot area is the clip path's rectangle, which the heat map is clipped to.
+    let area = picture.plot_area();
+    let clip = &document[document.find("<clipPath").unwrap()..];
+    assert!((attribute(clip, "<rect", "x") - area.left).abs() < 0.051);
+    assert!((attribute(clip, "<rect", "width") - area.width).abs() < 0.051);
+    assert!(area.left > 0.0 && area.right() < 1000.0 && area.bottom() < 600.0);
+    // Nested twice on one page: the same drawing, each with its own clip id.
+    let a = picture.nested(40.0, "spectrogram", "a").into_string();
+    let b = picture.nested(40.0, "spectrogram", "b").into_string();
+    assert!(a.starts_with("<svg class=\"spectrogram\" x=\"0\" y=\"40\""));
+    assert_well_formed_xml(&a);
+    let id = |svg: &str| {
+        let at = svg.find("<clipPath id=\"").unwrap() + 14;
+        svg[at..at + svg[at..].find('"').unwrap()].to_string()
+    };
+    assert_ne!(id(&a), id(&b));
+    assert!(a.contains(&format!("url(#{})", id(&a))));
+    assert_eq!(a.replace(&id(&a), "ID"), b.replace(&id(&b), "ID"));
+    // Refusals in memory carry no file name.
+    let bad = SpectrogramOptions {
+        size_px: (10, 10),
+        ..options
+    };
+    let error = draw_picture(&spectrum, &marks, &bad).err().unwrap();
+    assert!(matches!(error, SpectrogramError::Drawing { .. }), "{error}");
 }
 
 #[test]
@@ -454,10 +476,12 @@ fn errors_name_the_file_and_leave_nothing_behind() {
     let spectrum = short_time_spectrum(&samples, Channels::Real, fs, 128, 32).unwrap();
     let options = SpectrogramOptions::default();
 
-    let jpeg = dir.join("trial.jpg");
-    let error = write_picture(&jpeg, &spectrum, &marks, &options).unwrap_err();
-    assert!(matches!(error, SpectrogramError::UnsupportedFormat { .. }));
-    assert!(error.to_string().contains("trial.jpg"), "{error}");
+    for name in ["trial.jpg", "trial.png"] {
+        let other = dir.join(name);
+        let error = write_picture(&other, &spectrum, &marks, &options).unwrap_err();
+        assert!(matches!(error, SpectrogramError::UnsupportedFormat { .. }));
+        assert!(error.to_string().contains(name), "{error}");
+    }
 
     let svg = dir.join("trial.svg");
     let backwards = [Marked {

@@ -4,7 +4,7 @@
 #![allow(dead_code)]
 
 use echobench_core::detector::{Cost, Detector, DetectorPlugin, ParamError, ParamSpec, Params};
-use echobench_core::{Score, StreamInfo};
+use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{resolve_detectors, run_suite};
 use echobench_harness::suite_file::{load_suite_text, FolderSource};
 use echobench_harness::summary::summarise;
@@ -308,22 +308,21 @@ pub fn two_products_run() -> &'static RunFolder {
 /// first block has a positive mean: about half the trials, always the same ones.
 pub struct FlakyPlugin;
 struct Flaky {
-    sample_rate_hz: f64,
     samples: u64,
 }
 
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Flaky {
-    fn process(&mut self, block: &[f32], out: &mut Vec<Score>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         if block.is_empty() {
             return;
         }
         let fail = self.samples == 0 && block.iter().map(|&x| f64::from(x)).sum::<f64>() > 0.0;
         self.samples += block.len() as u64;
         let mean = block.iter().map(|x| f64::from(x.abs())).sum::<f64>() / block.len() as f64;
-        out.push(Score {
-            t_s: self.samples as f64 / self.sample_rate_hz,
+        out.push(FrameScore {
+            end_sample: self.samples,
             value: if fail { f64::NAN } else { mean },
         });
     }
@@ -342,11 +341,8 @@ impl DetectorPlugin for FlakyPlugin {
     fn params(&self) -> &'static [ParamSpec] {
         &NO_PARAMS
     }
-    fn build(&self, _: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(Flaky {
-            sample_rate_hz: info.sample_rate_hz,
-            samples: 0,
-        }))
+    fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+        Ok(Box::new(Flaky { samples: 0 }))
     }
     fn cost(&self, _: &Params, _: &StreamInfo) -> Result<Cost, ParamError> {
         Ok(Cost {
