@@ -25,7 +25,7 @@
 //! **Non-finite input (NaN, ±∞).** The decision: a detector must not panic
 //! and must not emit a non-finite score. It may either treat such samples in a
 //! documented way and keep scoring (every built-in counts them as 0) or report
-//! a failure (`Detector::failure`), which the harness records for that trial.
+//! a failure (`process` returns a `DetectorFailure`), which the harness records for that trial.
 
 use crate::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params};
 use crate::seed::mix64;
@@ -414,16 +414,17 @@ fn feed(detector: &mut dyn Detector, samples: &[f32], split: Split, info: &Strea
         }
         let end = (at + size.max(1)).min(samples.len());
         let before = out.len();
-        if let Err(p) = catch_unwind(AssertUnwindSafe(|| {
+        match catch_unwind(AssertUnwindSafe(|| {
             detector.process(&samples[at..end], &mut out)
         })) {
-            return Fed::Panicked(format!(
-                "{} in `process` (values {at}..{end})",
-                panic_text(p)
-            ));
-        }
-        if let Some(m) = detector.failure() {
-            return Fed::Failed(m);
+            Err(p) => {
+                return Fed::Panicked(format!(
+                    "{} in `process` (values {at}..{end})",
+                    panic_text(p)
+                ))
+            }
+            Ok(Err(failure)) => return Fed::Failed(failure.message),
+            Ok(Ok(())) => {}
         }
         // Whole instants given so far; a frame may not end after them.
         let given = (end / channels) as u64;
@@ -496,10 +497,10 @@ fn panic_text(payload: Box<dyn std::any::Any + Send>) -> String {
 /// example above can run; not part of the API a plugin uses.
 #[doc(hidden)]
 pub mod tests_support {
-    use crate::detector::FrameScore;
     use crate::detector::{
         Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
     };
+    use crate::detector::{DetectorFailure, FrameScore};
     use crate::{Channels, StreamInfo};
 
     static PARAMS: [ParamSpec; 1] = [ParamSpec {
@@ -613,7 +614,11 @@ pub mod tests_support {
     }
 
     impl Detector for MeanDetector {
-        fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+        fn process(
+            &mut self,
+            block: &[f32],
+            out: &mut Vec<FrameScore>,
+        ) -> Result<(), DetectorFailure> {
             let sq = |x: f32| f64::from(x) * f64::from(x);
             match self.channels {
                 Channels::Real => block.iter().for_each(|&x| self.instant(sq(x), out)),
@@ -631,6 +636,7 @@ pub mod tests_support {
                     }
                 }
             }
+            Ok(())
         }
 
         fn reset(&mut self) {

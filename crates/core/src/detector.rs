@@ -60,24 +60,47 @@ impl FrameScore {
     }
 }
 
+/// Why a detector can produce no more scores for its stream: an external
+/// program that crashed, hung or replied out of protocol, say. In-process
+/// detectors never fail this way (bad input is defined, not an error).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct DetectorFailure {
+    /// What happened, for the run's `failures` list.
+    pub message: String,
+}
+
+impl DetectorFailure {
+    /// A failure saying `message`.
+    pub fn new(message: impl Into<String>) -> Self {
+        DetectorFailure {
+            message: message.into(),
+        }
+    }
+}
+
+impl fmt::Display for DetectorFailure {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+impl std::error::Error for DetectorFailure {}
+
 /// A running detector: state for one stream.
 pub trait Detector: Send {
     /// Consumes `block` (any length, including 0 and 1; I/Q streams interleave
     /// I, Q) and pushes one [`FrameScore`] per completed decision frame, in
     /// time order, onto `out`. Scores must not depend on how the stream is
     /// split into blocks.
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>);
+    ///
+    /// # Errors
+    /// When the detector can produce no more scores for this stream. The
+    /// runner then records the trial as failed for this detector and feeds it
+    /// nothing more; scores pushed before the error are discarded with it.
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure>;
 
     /// Forgets all state, as if freshly built.
     fn reset(&mut self);
-
-    /// Why this detector can no longer produce scores, once it cannot (an
-    /// external program that crashed or replied out of protocol, say). The
-    /// runner asks after every block and reports the trial as failed for this
-    /// detector; in-process detectors never fail this way.
-    fn failure(&self) -> Option<String> {
-        None
-    }
 }
 
 /// A kind of detector that can be built from parameters.

@@ -155,11 +155,8 @@ pub(crate) fn replay(
             let Ok(detector) = slot else { continue };
             match catch_unwind(AssertUnwindSafe(|| detector.process(&block, out))) {
                 Err(p) => *slot = Err(panic_message(p)),
-                Ok(()) => {
-                    if let Some(message) = detector.failure() {
-                        *slot = Err(message);
-                    }
-                }
+                Ok(Err(failure)) => *slot = Err(failure.message),
+                Ok(Ok(())) => {}
             }
         }
     }

@@ -549,11 +549,8 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
             busy[i] += t1.elapsed().as_secs_f64();
             match result {
                 Err(p) => *slot = Err(panic_message(p)),
-                Ok(()) => {
-                    if let Some(message) = detector.failure() {
-                        *slot = Err(message);
-                    }
-                }
+                Ok(Err(failure)) => *slot = Err(failure.message),
+                Ok(Ok(())) => {}
             }
         }
     }

@@ -2,7 +2,9 @@
 //! day in every room, the output pin's tallies at the operating point and over the hold
 //! sweep, and the summary's figures.
 
-use echobench_core::detector::{Cost, Detector, DetectorPlugin, ParamError, ParamSpec, Params};
+use echobench_core::detector::{
+    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params,
+};
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::presence_summary::presence_verdict;
 use echobench_harness::runner::{resolve_detectors, run_suite, DetectorTally, Tallies};
@@ -31,12 +33,13 @@ struct Silent {
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Silent {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         self.samples += block.len() as u64;
         out.push(FrameScore {
             end_sample: self.samples,
             value: 0.0,
         });
+        Ok(())
     }
     fn reset(&mut self) {
         self.samples = 0;

@@ -2,7 +2,8 @@
 //! detectors, and detection statistics through the whole chain.
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
+    ParamSpec, Params,
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{merge_tallies, resolve_detectors, run_suite, Shard, Tallies};
@@ -88,7 +89,7 @@ struct Panicking {
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Panicking {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         if self.first && block.first().is_some_and(|&x| x > 0.0) {
             panic!("deliberate failure for the test");
         }
@@ -97,6 +98,7 @@ impl Detector for Panicking {
             end_sample: 0,
             value: 0.0,
         });
+        Ok(())
     }
     fn reset(&mut self) {
         self.first = true;
@@ -140,13 +142,14 @@ static NAN_PARAMS: [ParamSpec; 1] = [ParamSpec {
 }];
 
 impl Detector for NanDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         if !block.is_empty() {
             out.push(FrameScore {
                 end_sample: 1,
                 value: f64::NAN,
             });
         }
+        Ok(())
     }
     fn reset(&mut self) {}
 }
@@ -349,7 +352,7 @@ fn energy_detector_pd_on_a_sinusoid_matches_the_noncentral_chi_square() {
         })
         .collect();
     let mut scores = Vec::new();
-    detector.process(&samples, &mut scores);
+    detector.process(&samples, &mut scores).unwrap();
     assert_eq!(scores.len(), frames);
     // Raw mode scores the mean of x², so N·score/σ² is the χ² statistic.
     let detected = scores

@@ -108,8 +108,8 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, NominalPoint, ParamError,
-    ParamKind, ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
+    NominalPoint, ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, ResolvedBand, DEFAULT_RESOLUTION_MPS,
@@ -849,7 +849,7 @@ impl BandRatioDetector {
 }
 
 impl Detector for BandRatioDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         let mut clean = [0.0f32; CLEAN_CHUNK];
         let scorer = &mut self.scorer;
         let values_per_sample = self.values_per_sample;
@@ -864,6 +864,7 @@ impl Detector for BandRatioDetector {
                 });
             });
         }
+        Ok(())
     }
 
     fn reset(&mut self) {

@@ -41,7 +41,7 @@ fn run_defaults(info: &StreamInfo, data: &[f32]) -> Vec<FrameScore> {
     let params = Params::resolve("band-ratio", BandRatioPlugin.params(), &[]).unwrap();
     let mut detector = BandRatioPlugin.build(&params, info).expect("builds");
     let mut out = Vec::new();
-    detector.process(data, &mut out);
+    detector.process(data, &mut out).unwrap();
     out
 }
 
@@ -54,7 +54,7 @@ fn run(
     let mut detector = BandRatioPlugin.build(&params(given), info).expect("builds");
     let mut out = Vec::new();
     for chunk in data.chunks(block.max(1)) {
-        detector.process(chunk, &mut out);
+        detector.process(chunk, &mut out).unwrap();
     }
     out
 }
@@ -417,10 +417,10 @@ fn reset_forgets_the_stream() {
     let data = noise(4, 2000, 0.01);
     let mut detector = BandRatioPlugin.build(&params(&[]), &info).unwrap();
     let mut first = Vec::new();
-    detector.process(&data, &mut first);
+    detector.process(&data, &mut first).unwrap();
     detector.reset();
     let mut second = Vec::new();
-    detector.process(&data, &mut second);
+    detector.process(&data, &mut second).unwrap();
     assert_eq!(first, second);
 }
 

@@ -86,8 +86,8 @@ pub use echobench_detector_dsp::cfar_cells::{training_offsets, DopplerAxis};
 
 use closed_form::ratio_to_mean;
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
-    ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
+    ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
@@ -523,7 +523,7 @@ fn frame_score(power: &[f64], plan: &CellPlan) -> f64 {
 }
 
 impl Detector for CaCfarDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         let CaCfarDetector {
             framer,
             transform,
@@ -541,6 +541,7 @@ impl Detector for CaCfarDetector {
                 value: frame_score(power, plan),
             });
         });
+        Ok(())
     }
 
     fn reset(&mut self) {

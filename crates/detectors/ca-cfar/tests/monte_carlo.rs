@@ -68,7 +68,7 @@ fn noise_scores(
             let g: f32 = rng.sample(StandardNormal);
             *v = sigma_v * g;
         }
-        detector.process(&chunk[..len], &mut scores);
+        detector.process(&chunk[..len], &mut scores).unwrap();
         left -= len;
     }
     assert_eq!(scores.len(), frames);

@@ -66,7 +66,7 @@ fn max_score(samples: &[f32]) -> (f64, usize) {
     let params = Params::resolve("ca-cfar", CaCfarPlugin.params(), &given).unwrap();
     let mut detector = CaCfarPlugin.build(&params, &test_stream(2000.0)).unwrap();
     let mut scores = Vec::new();
-    detector.process(samples, &mut scores);
+    detector.process(samples, &mut scores).unwrap();
     let max = scores
         .iter()
         .map(|s| s.value)

@@ -38,7 +38,7 @@ fn random_input(values: usize, seed: u8) -> Vec<f32> {
 fn run_in_blocks(detector: &mut dyn Detector, input: &[f32], block: usize) -> Vec<FrameScore> {
     let mut out = Vec::new();
     for chunk in input.chunks(block.max(1)) {
-        detector.process(chunk, &mut out);
+        detector.process(chunk, &mut out).unwrap();
     }
     out
 }
@@ -88,11 +88,11 @@ fn block_size_does_not_change_the_scores() {
         // Empty blocks are harmless, and reset starts over.
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&[], &mut out);
-        detector.process(&input[..1000], &mut out);
+        detector.process(&[], &mut out).unwrap();
+        detector.process(&input[..1000], &mut out).unwrap();
         detector.reset();
         out.clear();
-        detector.process(&input, &mut out);
+        detector.process(&input, &mut out).unwrap();
         assert_eq!(out, whole);
     }
 }
@@ -266,7 +266,7 @@ fn silence_scores_zero() {
     for info in [test_stream(FS_HZ), iq_stream()] {
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&vec![0.0; 4000], &mut out);
+        detector.process(&vec![0.0; 4000], &mut out).unwrap();
         assert!(!out.is_empty());
         assert!(out.iter().all(|s| s.value == 0.0), "{:?}", &out[..3]);
     }
@@ -285,7 +285,7 @@ fn a_lone_tone_over_empty_cells_stays_finite() {
         .collect();
     let mut detector = CaCfarDetector::new(&config, &test_stream(FS_HZ)).unwrap();
     let mut out = Vec::new();
-    detector.process(&tone, &mut out);
+    detector.process(&tone, &mut out).unwrap();
     check_scores(&out).unwrap();
     assert!(out.iter().all(|s| s.value > 1e6), "{:?}", &out[..2]);
 }
@@ -340,19 +340,25 @@ fn short_trials_give_no_scores_and_frames_end_on_time() {
         let values = info.channels.count();
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&[0.5; 2][..values], &mut out);
+        detector.process(&[0.5; 2][..values], &mut out).unwrap();
         assert!(out.is_empty(), "a single sample cannot complete a frame");
         // One value short of a frame, then the last one: exactly one score,
         // stamped at the end of the frame (256 samples at 2 kHz).
         detector.reset();
         let frame = random_input(256 * values, 6);
-        detector.process(&frame[..frame.len() - 1], &mut out);
+        detector
+            .process(&frame[..frame.len() - 1], &mut out)
+            .unwrap();
         assert!(out.is_empty());
-        detector.process(&frame[frame.len() - 1..], &mut out);
+        detector
+            .process(&frame[frame.len() - 1..], &mut out)
+            .unwrap();
         assert_eq!(out.len(), 1);
         assert_eq!(out[0].end_sample, 256);
         // The next frames follow every hop (128 samples).
-        detector.process(&random_input(256 * values, 7), &mut out);
+        detector
+            .process(&random_input(256 * values, 7), &mut out)
+            .unwrap();
         let ends: Vec<u64> = out.iter().map(|s| s.end_sample).collect();
         assert_eq!(ends, vec![256, 384, 512]);
     }

@@ -71,8 +71,8 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
-    ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
+    ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::doppler::Framing;
 use echobench_core::{Channels, FrameScore, StreamInfo};
@@ -291,7 +291,7 @@ impl EnergyC {
 }
 
 impl Detector for EnergyC {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         let state = self.state.as_mut_ptr().cast::<c_void>();
         for &sample in block {
             let mut score = 0.0_f32;
@@ -306,6 +306,7 @@ impl Detector for EnergyC {
                 });
             }
         }
+        Ok(())
     }
 
     fn reset(&mut self) {
@@ -334,7 +335,7 @@ mod tests {
     fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         let mut out = Vec::new();
         for chunk in samples.chunks(block.max(1)) {
-            detector.process(chunk, &mut out);
+            detector.process(chunk, &mut out).unwrap();
         }
         out
     }

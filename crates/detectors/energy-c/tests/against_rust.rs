@@ -33,7 +33,7 @@ fn scores(
     let mut detector = plugin.build(&params, &test_stream(2000.0)).expect("valid");
     let mut out = Vec::new();
     for block in samples.chunks(1000) {
-        detector.process(block, &mut out);
+        detector.process(block, &mut out).unwrap();
     }
     out
 }

@@ -69,8 +69,8 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
-    ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
+    ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::doppler::{self, BandNames, FrameRules, FrameUnits, Framing};
 use echobench_core::{FrameScore, StreamInfo};
@@ -607,10 +607,11 @@ impl EnergyDetector {
 }
 
 impl Detector for EnergyDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         for &value in block {
             self.push_value(f64::from(value), out);
         }
+        Ok(())
     }
 
     fn reset(&mut self) {
@@ -654,7 +655,7 @@ mod tests {
     fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         let mut out = Vec::new();
         for chunk in samples.chunks(block.max(1)) {
-            detector.process(chunk, &mut out);
+            detector.process(chunk, &mut out).unwrap();
         }
         out
     }

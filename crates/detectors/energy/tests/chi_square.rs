@@ -57,7 +57,7 @@ fn noise_scores(
         for x in &mut block[..len] {
             *x = normal.sample(&mut rng) as f32;
         }
-        detector.process(&block[..len], &mut out);
+        detector.process(&block[..len], &mut out).unwrap();
         scores.extend(out.drain(..).map(|s| s.value));
         done += len;
     }

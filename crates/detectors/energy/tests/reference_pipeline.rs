@@ -97,7 +97,7 @@ fn raw_mode_reproduces_the_reference_energy_scores() {
             .build(&reference_params(), &info)
             .expect("valid");
         let mut scores = Vec::new();
-        detector.process(&samples, &mut scores);
+        detector.process(&samples, &mut scores).unwrap();
         let got_f32 = max_score(&scores);
         let u = f64::from(f32::EPSILON) / 2.0;
         assert!(

@@ -214,7 +214,8 @@ pub mod protocol;
 mod session;
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
+    ParamSpec, Params,
 };
 use echobench_core::{FrameScore, Score, StreamInfo};
 use protocol::{encode_hello, MAX_BLOCK_VALUES, TAG_BLOCK, VERSION};
@@ -715,10 +716,11 @@ impl ExternalDetector {
     }
 }
 
-impl Detector for ExternalDetector {
+impl ExternalDetector {
     /// Sends `block` in BLCK messages of at most 4096 values (whole I/Q
-    /// pairs; a dangling I waits for its Q) and pushes every answer.
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    /// pairs; a dangling I waits for its Q) and pushes every answer, until
+    /// the program fails (then `self.failure` says why).
+    fn feed(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
         let iq = self.info.channels.count() == 2;
         let mut values = block
             .iter()
@@ -764,6 +766,20 @@ impl Detector for ExternalDetector {
             self.exchange(message, instants, out);
         }
     }
+}
+
+impl Detector for ExternalDetector {
+    /// Feeds `block` to the program; once it has failed, every call returns
+    /// the same failure (the program is gone).
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+        if self.failure.is_none() {
+            self.feed(block, out);
+        }
+        match &self.failure {
+            Some(message) => Err(DetectorFailure::new(message.clone())),
+            None => Ok(()),
+        }
+    }
 
     fn reset(&mut self) {
         if let Some(mut session) = self.session.take() {
@@ -772,10 +788,6 @@ impl Detector for ExternalDetector {
         if let Err(message) = self.start() {
             self.failure = Some(message);
         }
-    }
-
-    fn failure(&self) -> Option<String> {
-        self.failure.clone()
     }
 }
 

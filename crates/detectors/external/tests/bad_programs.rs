@@ -1,5 +1,5 @@
 //! Programs that break the protocol, each a small /bin/sh script (no numpy
-//! needed): every one ends in a build error or a `failure()` message that
+//! needed): every one ends in a build error or a `DetectorFailure` that
 //! says what happened, within its time limit, and nothing panics or hangs.
 //!
 //! The scripts speak the protocol with `printf` octal escapes and read their
@@ -8,7 +8,7 @@
 
 mod common;
 
-use common::{build, params, printf_bytes, ready, run, score_record, shell_script};
+use common::{build, params, printf_bytes, ready, run_until_failure, score_record, shell_script};
 use echobench_core::detector::{test_stream, Detector, DetectorPlugin, ParamValue};
 use echobench_detector_external::{ExternalDetector, ExternalPlugin, ExternalProgram};
 use std::time::{Duration, Instant};
@@ -40,14 +40,16 @@ fn failure_after_a_block(command: &str) -> String {
     )
     .unwrap_or_else(|e| panic!("handshake should pass: {e}"));
     let mut out = Vec::new();
-    detector.process(&one_second(), &mut out);
-    detector.process(&one_second(), &mut out);
-    let message = detector.failure().expect("the program broke the protocol");
+    let message = detector
+        .process(&one_second(), &mut out)
+        .and_then(|()| detector.process(&one_second(), &mut out))
+        .expect_err("the program broke the protocol")
+        .message;
     // After a failure nothing more is pushed, and the message stays.
     let before = out.len();
-    detector.process(&one_second(), &mut out);
+    let again = detector.process(&one_second(), &mut out);
     assert_eq!(out.len(), before);
-    assert_eq!(detector.failure().as_deref(), Some(message.as_str()));
+    assert_eq!(again.map_err(|f| f.message), Err(message.clone()));
     message
 }
 
@@ -120,9 +122,9 @@ fn a_hanging_program_is_killed_at_its_time_limit() {
     )
     .expect("handshake passes");
     let mut out = Vec::new();
-    detector.process(&one_second(), &mut out);
+    let result = detector.process(&one_second(), &mut out);
     let elapsed_s = started.elapsed().as_secs_f64();
-    let message = detector.failure().expect("timed out");
+    let message = result.expect_err("timed out").message;
     assert!(message.contains("timeout_s = 1 s"), "{message}");
     assert!(message.contains("killed"), "{message}");
     // The deadline runs from start-up; allow 1 s for the kill and reaping.
@@ -207,9 +209,9 @@ fn scores_out_of_order_nan_or_in_the_future_are_refused() {
         &test_stream(FS),
     )
     .expect("handshake passes");
-    let out = run(detector.as_mut(), &[0.0], 1);
+    let (out, failure) = run_until_failure(detector.as_mut(), &[0.0], 1);
     assert!(out.is_empty());
-    let message = detector.failure().expect("refused");
+    let message = failure.expect("refused").message;
     assert!(
         message.contains("2 scores for a block of 1 sample instants"),
         "{message}"
@@ -400,12 +402,11 @@ fn empty_blocks_send_nothing() {
         build(&command, "", &[], &test_stream(FS)).expect("starts");
     let mut out = Vec::new();
     for _ in 0..5 {
-        detector.process(&[], &mut out);
+        assert_eq!(detector.process(&[], &mut out), Ok(()));
     }
-    assert_eq!(detector.failure(), None);
-    detector.process(&[0.0], &mut out);
     assert!(detector
-        .failure()
-        .expect("died")
+        .process(&[0.0], &mut out)
+        .expect_err("died")
+        .message
         .contains("exited with status 9 after 0 blocks"));
 }

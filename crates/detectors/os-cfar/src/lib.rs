@@ -72,8 +72,8 @@ mod closed_form;
 pub use closed_form::{os_multiplier, os_pfa, os_ratio, NOISE_FLOOR};
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
-    ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
+    ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
@@ -452,7 +452,7 @@ impl OsCfarDetector {
 }
 
 impl Detector for OsCfarDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         let OsCfarDetector {
             framer,
             transform,
@@ -493,6 +493,7 @@ impl Detector for OsCfarDetector {
                 value: score,
             });
         });
+        Ok(())
     }
 
     fn reset(&mut self) {

@@ -73,7 +73,7 @@ fn rectangular_frames_without_overlap_follow_the_closed_form() {
             let g: f32 = rng.sample(StandardNormal);
             *v = 0.002 * g;
         }
-        detector.process(&chunk, &mut scores);
+        detector.process(&chunk, &mut scores).unwrap();
     }
     assert_eq!(scores.len(), FRAMES);
     for pfa in [1e-2, 1e-3] {

@@ -38,7 +38,7 @@ fn random_input(values: usize, seed: u8) -> Vec<f32> {
 fn run_in_blocks(detector: &mut dyn Detector, input: &[f32], block: usize) -> Vec<FrameScore> {
     let mut out = Vec::new();
     for chunk in input.chunks(block.max(1)) {
-        detector.process(chunk, &mut out);
+        detector.process(chunk, &mut out).unwrap();
     }
     out
 }
@@ -82,10 +82,10 @@ fn block_size_does_not_change_the_scores() {
         }
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&input[..999], &mut out);
+        detector.process(&input[..999], &mut out).unwrap();
         detector.reset();
         out.clear();
-        detector.process(&input, &mut out);
+        detector.process(&input, &mut out).unwrap();
         assert_eq!(out, whole);
     }
 }
@@ -270,13 +270,17 @@ fn short_trials_give_no_scores_and_frames_end_on_time() {
         let values = info.channels.count();
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&[0.5; 2][..values], &mut out);
+        detector.process(&[0.5; 2][..values], &mut out).unwrap();
         assert!(out.is_empty(), "a single sample cannot complete a frame");
         detector.reset();
         let frame = random_input(256 * values, 6);
-        detector.process(&frame[..frame.len() - 1], &mut out);
+        detector
+            .process(&frame[..frame.len() - 1], &mut out)
+            .unwrap();
         assert!(out.is_empty());
-        detector.process(&frame[frame.len() - 1..], &mut out);
+        detector
+            .process(&frame[frame.len() - 1..], &mut out)
+            .unwrap();
         assert_eq!(out.len(), 1);
         assert_eq!(out[0].end_sample, 256);
     }

@@ -134,8 +134,8 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
-    ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
+    ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
@@ -976,7 +976,7 @@ impl PeriodicityDetector {
 }
 
 impl Detector for PeriodicityDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         let mut clean = [0.0f32; CLEAN_CHUNK];
         let state = &mut self.state;
         for chunk in block.chunks(CLEAN_CHUNK) {
@@ -987,6 +987,7 @@ impl Detector for PeriodicityDetector {
                 state.on_frame(frame, end_index, out);
             });
         }
+        Ok(())
     }
 
     fn reset(&mut self) {

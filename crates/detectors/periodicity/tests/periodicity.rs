@@ -69,7 +69,7 @@ fn run(
         .expect("builds");
     let mut out = Vec::new();
     for chunk in data.chunks(block.max(1)) {
-        detector.process(chunk, &mut out);
+        detector.process(chunk, &mut out).unwrap();
     }
     out
 }
@@ -80,7 +80,7 @@ fn run_with_readings(data: &[f32]) -> (Vec<FrameScore>, Vec<CadenceReading>) {
     for chunk in data.chunks(1000) {
         let before = scores.len();
         use echobench_core::detector::Detector;
-        detector.process(chunk, &mut scores);
+        detector.process(chunk, &mut scores).unwrap();
         if scores.len() > before {
             readings.push(detector.last_reading().expect("a reading per score"));
         }
@@ -369,7 +369,7 @@ fn the_cadence_spectrum_of_noise_averages_one_at_every_modulation_frequency() {
         let before = scores.len();
         for chunk in block.chunks(1024) {
             let had = scores.len();
-            detector.process(chunk, &mut scores);
+            detector.process(chunk, &mut scores).unwrap();
             if scores.len() > had {
                 decisions += 1;
                 if decisions % 8 == 0 {
@@ -475,11 +475,11 @@ fn reset_forgets_the_stream() {
     let mut detector = detector(&[], &stream_2g4());
     use echobench_core::detector::Detector;
     let mut first = Vec::new();
-    detector.process(&data, &mut first);
+    detector.process(&data, &mut first).unwrap();
     detector.reset();
     assert!(detector.last_reading().is_none());
     let mut second = Vec::new();
-    detector.process(&data, &mut second);
+    detector.process(&data, &mut second).unwrap();
     assert_eq!(first, second);
 }
 

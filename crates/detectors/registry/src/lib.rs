@@ -81,9 +81,9 @@ mod tests {
             );
             // Silence, then full-scale clipping, then a single sample: finite scores in time order.
             let mut scores = Vec::new();
-            detector.process(&vec![0.0; 20_000], &mut scores);
-            detector.process(&vec![1.65; 20_000], &mut scores);
-            detector.process(&[0.1], &mut scores);
+            detector.process(&vec![0.0; 20_000], &mut scores).unwrap();
+            detector.process(&vec![1.65; 20_000], &mut scores).unwrap();
+            detector.process(&[0.1], &mut scores).unwrap();
             assert!(
                 check_scores(&scores).is_ok(),
                 "{}: {:?}",

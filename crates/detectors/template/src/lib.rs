@@ -28,7 +28,8 @@
 
 // The plugin interface and the parameter machinery, from the core crate.
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
+    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
+    ParamSpec, Params,
 };
 // The stream description, the score type and the channel kinds.
 use echobench_core::{Channels, FrameScore, StreamInfo};
@@ -223,7 +224,7 @@ impl TemplateDetector {
 impl Detector for TemplateDetector {
     // Any block length works, and the scores do not depend on it, because all
     // state lives in `self` and is updated one sample at a time.
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         // One sample at a time.
         for &sample in block {
             // The documented NaN rule: a non-finite sample counts as 0.
@@ -261,6 +262,10 @@ impl Detector for TemplateDetector {
                 self.start_frame();
             }
         }
+        // Never a failure: every input, NaN included, has a defined score
+        // (an error is for a detector that can go on no longer, such as an
+        // external program that crashed).
+        Ok(())
     }
 
     // Back to the state of a freshly built detector.
@@ -296,8 +301,8 @@ mod tests {
         let mut out = Vec::new();
         // Split the stream into blocks.
         for chunk in samples.chunks(block) {
-            // Push each block.
-            detector.process(chunk, &mut out);
+            // Push each block; an in-process detector never returns a failure.
+            detector.process(chunk, &mut out).expect("no failure");
         }
         // All scores, in time order.
         out

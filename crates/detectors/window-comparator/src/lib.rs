@@ -63,8 +63,8 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorPlugin, DopplerBand, ParamError, ParamKind,
-    ParamSpec, Params,
+    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
+    ParamError, ParamKind, ParamSpec, Params,
 };
 use echobench_core::doppler::{self, BandNames};
 use echobench_core::{Channels, FrameScore, StreamInfo};
@@ -444,7 +444,7 @@ impl WindowComparator {
 }
 
 impl Detector for WindowComparator {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         for &sample in block {
             let mut y = if sample.is_finite() {
                 f64::from(sample)
@@ -468,6 +468,7 @@ impl Detector for WindowComparator {
                 });
             }
         }
+        Ok(())
     }
 
     fn reset(&mut self) {
@@ -509,7 +510,7 @@ mod tests {
     fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         let mut out = Vec::new();
         for chunk in samples.chunks(block.max(1)) {
-            detector.process(chunk, &mut out);
+            detector.process(chunk, &mut out).unwrap();
         }
         out
     }
@@ -810,7 +811,7 @@ mod tests {
             for x in &mut block {
                 *x = normal.sample(&mut rng) as f32;
             }
-            detector.process(&block, &mut out);
+            detector.process(&block, &mut out).unwrap();
             seen += out.len();
             alarms += out.iter().filter(|s| s.value >= theta).count();
             out.clear();

@@ -16,8 +16,8 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorPlugin, FrameScore, ParamError, ParamKind, ParamSpec,
-    Params,
+    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, FrameScore, ParamError,
+    ParamKind, ParamSpec, Params,
 };
 use echobench_core::{Channels, StreamInfo};
 
@@ -157,7 +157,11 @@ impl GatedEnergy {
 }
 
 impl Detector for GatedEnergy {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(
+        &mut self,
+        block: &[f32],
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
         for &sample in block {
             let x = if sample.is_finite() {
                 f64::from(sample)
@@ -185,6 +189,7 @@ impl Detector for GatedEnergy {
                 self.in_frame = 0;
             }
         }
+        Ok(())
     }
 
     fn reset(&mut self) {
@@ -203,7 +208,7 @@ mod tests {
         let mut detector = GatedEnergyPlugin.build(&params, &info).expect("defaults fit");
         let mut out = Vec::new();
         for chunk in samples.chunks(block) {
-            detector.process(chunk, &mut out);
+            detector.process(chunk, &mut out).expect("no failure");
         }
         out
     }

@@ -1,7 +1,9 @@
 //! Helpers shared by the integration tests: parameters, scripts, runs.
 #![allow(dead_code)]
 
-use echobench_core::detector::{Detector, DetectorPlugin, ParamError, ParamValue, Params};
+use echobench_core::detector::{
+    Detector, DetectorFailure, DetectorPlugin, ParamError, ParamValue, Params,
+};
 use echobench_core::FrameScore;
 use echobench_detector_external::ExternalPlugin;
 use std::path::PathBuf;
@@ -69,12 +71,31 @@ pub fn score_record(t_s: f64, value: f64) -> Vec<u8> {
 }
 
 /// Feeds `samples` in blocks of `block` values; returns every score.
+///
+/// # Panics
+/// When the detector fails (see [`run_until_failure`] for tests that expect it to).
 pub fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
-    let mut out = Vec::new();
-    for chunk in samples.chunks(block.max(1)) {
-        detector.process(chunk, &mut out);
+    let (out, failure) = run_until_failure(detector, samples, block);
+    if let Some(failure) = failure {
+        panic!("the detector failed: {failure}");
     }
     out
+}
+
+/// Feeds `samples` in blocks of `block` values until the detector fails; returns the
+/// scores pushed until then and the failure, if any.
+pub fn run_until_failure(
+    detector: &mut dyn Detector,
+    samples: &[f32],
+    block: usize,
+) -> (Vec<FrameScore>, Option<DetectorFailure>) {
+    let mut out = Vec::new();
+    for chunk in samples.chunks(block.max(1)) {
+        if let Err(failure) = detector.process(chunk, &mut out) {
+            return (out, Some(failure));
+        }
+    }
+    (out, None)
 }
 
 /// Whether `python3` with numpy can run the examples. When it cannot, the
