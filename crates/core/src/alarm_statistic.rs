@@ -9,6 +9,72 @@
 //! what "the condition holds" means.
 
 use std::cmp::Ordering;
+use std::fmt;
+
+/// The M-of-N rule: the alarm condition holds when at least `m` of the last `n` frame
+/// decisions are true. Invariant: `1 <= m <= n`, so a value of this type is always a rule
+/// the scorers can apply (the one validated type the intrusion scorer, the presence scorer
+/// and the tail fits share).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct MOfN {
+    m: usize,
+    n: usize,
+}
+
+impl MOfN {
+    /// 1-of-1: the condition is the frame decision itself.
+    pub const SINGLE: MOfN = MOfN { m: 1, n: 1 };
+
+    /// Makes an M-of-N rule.
+    ///
+    /// # Errors
+    /// When `m` is 0 or larger than `n`.
+    ///
+    /// ```
+    /// use echobench_core::alarm_statistic::MOfN;
+    /// assert_eq!(MOfN::new(2, 3).unwrap().m(), 2);
+    /// assert!(MOfN::new(0, 3).is_err());
+    /// assert!(MOfN::new(4, 3).unwrap_err().to_string().contains("m_of_n.m = 4"));
+    /// ```
+    pub fn new(m: usize, n: usize) -> Result<Self, MOfNError> {
+        if m >= 1 && m <= n {
+            Ok(MOfN { m, n })
+        } else {
+            Err(MOfNError { m, n })
+        }
+    }
+
+    /// How many true decisions are needed.
+    pub fn m(&self) -> usize {
+        self.m
+    }
+
+    /// How many recent frames are looked at.
+    pub fn n(&self) -> usize {
+        self.n
+    }
+}
+
+/// An M-of-N rule with `m` outside `1..=n`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct MOfNError {
+    /// The refused M.
+    pub m: usize,
+    /// The N it was given with.
+    pub n: usize,
+}
+
+impl fmt::Display for MOfNError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "m_of_n.m = {} is not valid: must be between 1 and n = {}",
+            self.m, self.n
+        )
+    }
+}
+
+impl std::error::Error for MOfNError {}
 
 /// Orders scores with NaN below everything, `-inf` included: a NaN frame is a
 /// false decision at every threshold.
@@ -27,7 +93,8 @@ pub fn nan_lowest(a: f64, b: f64) -> Ordering {
 ///
 /// ```
 /// use echobench_core::alarm_statistic::MOfNStatistic;
-/// let mut s = MOfNStatistic::new(2, 3);
+/// use echobench_core::alarm_statistic::MOfN;
+/// let mut s = MOfNStatistic::new(MOfN::new(2, 3).unwrap());
 /// assert!(s.push(5.0).is_nan()); // one frame: no second-largest yet
 /// assert_eq!(s.push(1.0), 1.0);
 /// assert_eq!(s.push(3.0), 3.0);
@@ -43,10 +110,9 @@ pub struct MOfNStatistic {
 }
 
 impl MOfNStatistic {
-    /// A statistic for M of N. The caller validates `1 <= m <= n`; an `m` above `n`
-    /// gives NaN for ever (the condition never holds), `n = 0` is taken as 1.
-    pub fn new(m: usize, n: usize) -> Self {
-        let n = n.max(1);
+    /// The statistic of `rule`.
+    pub fn new(rule: MOfN) -> Self {
+        let (m, n) = (rule.m, rule.n);
         MOfNStatistic {
             m,
             n,
@@ -111,7 +177,7 @@ mod tests {
             .collect();
         for (m, n) in [(1, 1), (1, 3), (2, 3), (3, 3), (2, 5)] {
             for theta in [0.5, 3.0, 7.7, 9.9] {
-                let mut statistic = MOfNStatistic::new(m, n);
+                let mut statistic = MOfNStatistic::new(MOfN::new(m, n).unwrap());
                 for k in 0..values.len() {
                     let s = statistic.push(values[k]);
                     let from = (k + 1).saturating_sub(n);

@@ -130,51 +130,8 @@ fn check_non_negative(parameter: &'static str, value: f64) -> Result<f64, EventP
     }
 }
 
-/// The M-of-N rule: the alarm condition holds when at least `m` of the last
-/// `n` frame decisions are true. Invariant: `1 <= m <= n`.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
-pub struct MOfN {
-    m: usize,
-    n: usize,
-}
-
-impl MOfN {
-    /// 1-of-1: the condition is the frame decision itself.
-    pub const SINGLE: MOfN = MOfN { m: 1, n: 1 };
-
-    /// Makes an M-of-N rule.
-    ///
-    /// # Errors
-    /// When `m` is 0 or larger than `n`.
-    ///
-    /// ```
-    /// use echobench_harness::events::MOfN;
-    /// assert_eq!(MOfN::new(2, 3).unwrap().m(), 2);
-    /// assert!(MOfN::new(0, 3).is_err());
-    /// assert!(MOfN::new(4, 3).is_err());
-    /// ```
-    pub fn new(m: usize, n: usize) -> Result<Self, EventParamError> {
-        if m >= 1 && m <= n {
-            Ok(MOfN { m, n })
-        } else {
-            Err(EventParamError {
-                parameter: "m_of_n.m",
-                value: m as f64,
-                allowed: format!("between 1 and n = {n}"),
-            })
-        }
-    }
-
-    /// How many true decisions are needed.
-    pub fn m(&self) -> usize {
-        self.m
-    }
-
-    /// How many recent frames are looked at.
-    pub fn n(&self) -> usize {
-        self.n
-    }
-}
+/// The M-of-N rule (`1 <= m <= n`), the one validated type the scorers and the tail fits share.
+pub use echobench_core::alarm_statistic::MOfN;
 
 /// The alarm logic applied to every detector's scores: M-of-N, then rising
 /// edges, then a non-retriggerable hold.
@@ -561,8 +518,8 @@ impl AlarmTracker {
             threshold,
             hold_s: logic.hold_s,
             recount_stuck: logic.recount_stuck,
-            m: logic.m_of_n.m,
-            recent: vec![false; logic.m_of_n.n],
+            m: logic.m_of_n.m(),
+            recent: vec![false; logic.m_of_n.n()],
             next_slot: 0,
             true_count: 0,
             condition: false,
@@ -691,7 +648,7 @@ pub fn score_thresholds(
     // Last frame each threshold's condition was on inside a window or ignored interval.
     let mut last_excused_s = vec![f64::NEG_INFINITY; sorted.len()];
 
-    let mut statistic = MOfNStatistic::new(logic.m_of_n.m, logic.m_of_n.n);
+    let mut statistic = MOfNStatistic::new(logic.m_of_n);
     let mut previous = f64::NAN;
     // False-on time per sorted threshold as a difference array: a noise frame adds its
     // duration to every threshold the statistic reaches, a prefix of the sorted grid.

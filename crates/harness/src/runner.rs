@@ -1460,9 +1460,7 @@ fn presence_setup(
         return Ok(None);
     };
     let timer = output.timer().map_err(|e| RunError(e.to_string()))?;
-    let rule = echobench_presence::MOfN::new(logic.m_of_n().m(), logic.m_of_n().n())
-        .map_err(|e| RunError(e.to_string()))?;
-    Ok(Some((output.clone(), timer, rule)))
+    Ok(Some((output.clone(), timer, logic.m_of_n())))
 }
 
 /// A trial's truth prepared for scoring: matching windows, and the present-but-still

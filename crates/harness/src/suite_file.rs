@@ -50,7 +50,8 @@ use echobench_core::detector::{DetectorPlugin, ParamValue, Params};
 use echobench_core::{Channels, StreamInfo};
 use echobench_scene::{load_scene_node, scene_sanity, SceneSpec};
 use echobench_yaml_reader::{
-    parse, suggest, FromNode, Limits, Location, Node, Problem, Reader, Report, Severity, Value,
+    parse, suggest, FieldPath, FromNode, Limits, Location, Node, Problem, Reader, Report,
+    Severity, Value,
 };
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
@@ -1043,7 +1044,7 @@ enum Origin<'n> {
 struct SweepRead<'n> {
     field: String,
     field_location: Location,
-    steps: Vec<Step>,
+    steps: FieldPath,
     values: Vec<&'n Node>,
 }
 
@@ -1350,10 +1351,16 @@ fn read_variants(
             written: None,
         }]);
     };
-    if let Err(miss) = node_at(tree, &sweep.steps) {
+    if let Err(miss) = tree.at(&sweep.steps, "the scene") {
         let message = format!(
-            "the field to sweep is not in the scene `{}`: {}",
-            context.scene_file, miss.message
+            "the field to sweep is not in the scene `{}`: {}{}",
+            context.scene_file,
+            miss.message,
+            if miss.field_missing {
+                "; a sweep only replaces a value the scene writes"
+            } else {
+                ""
+            }
         );
         report.problems.push(problem(
             Severity::Error,
@@ -1368,7 +1375,7 @@ fn read_variants(
     let mut variants = Vec::with_capacity(sweep.values.len());
     for (point, value) in sweep.values.iter().enumerate() {
         let mut variant = tree.clone();
-        let target = node_at_mut(&mut variant, &sweep.steps)?;
+        let target = variant.at_mut(&sweep.steps)?;
         let mut new_value = (*value).clone();
         if !context.inline {
             // Located at the field it replaces, so that the scene file's locations
@@ -1760,7 +1767,7 @@ fn read_sweep<'n>(node: &'n Node, path: &str, reader: &mut Reader) -> Option<Swe
     let values_node = f.raw("values");
     let values_path = f.path_of("values");
     let steps = match &field {
-        Some(field) => match parse_field_path(field) {
+        Some(field) => match FieldPath::parse(field) {
             Ok(steps) => Some(steps),
             Err(message) => {
                 f.error_at("field", message);
@@ -1877,7 +1884,7 @@ impl VariantContext<'_> {
         let mut attributed = Vec::with_capacity(problems.len());
         for mut p in problems {
             if p.location.is_none() {
-                p.location = Some(deepest_location(tree, &p.field));
+                p.location = Some(tree.deepest_location(&p.field));
             }
             if let Some(sweep) = sweep.filter(|s| field_is_within(&p.field, s.field)) {
                 p.message = format!(
@@ -1953,183 +1960,6 @@ fn relocate(node: &mut Node, location: Location) {
         }
         _ => {}
     }
-}
-
-// ---------------------------------------------------------------- field paths
-
-/// One step of a field path: a mapping key or a list index.
-#[derive(Debug, Clone, PartialEq)]
-enum Step {
-    Key(String),
-    Index(usize),
-}
-
-/// Parses `actors[0].path.start_m[0]` into steps.
-fn parse_field_path(text: &str) -> Result<Vec<Step>, String> {
-    let bad =
-        |why: &str| format!("`{text}` is not a field path like `actors[0].path.start_m[0]`: {why}");
-    if text.is_empty() {
-        return Err(bad("it is empty"));
-    }
-    let mut steps = Vec::new();
-    for segment in text.split('.') {
-        let (name, mut rest) = match segment.find('[') {
-            Some(i) => (&segment[..i], &segment[i..]),
-            None => (segment, ""),
-        };
-        if name.is_empty() {
-            return Err(bad("a field name is missing"));
-        }
-        if !name
-            .chars()
-            .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
-        {
-            return Err(bad(&format!("`{name}` is not a field name")));
-        }
-        steps.push(Step::Key(name.to_string()));
-        while !rest.is_empty() {
-            let Some(inner) = rest.strip_prefix('[') else {
-                return Err(bad(&format!("unexpected `{rest}` after an index")));
-            };
-            let Some(close) = inner.find(']') else {
-                return Err(bad("a `[` is not closed"));
-            };
-            let index: usize = inner[..close]
-                .parse()
-                .map_err(|_| bad(&format!("`[{}]` is not a list index", &inner[..close])))?;
-            steps.push(Step::Index(index));
-            rest = &inner[close + 1..];
-        }
-    }
-    Ok(steps)
-}
-
-fn render_steps(steps: &[Step]) -> String {
-    let mut out = String::new();
-    for step in steps {
-        match step {
-            Step::Key(key) if out.is_empty() => out.push_str(key),
-            Step::Key(key) => {
-                out.push('.');
-                out.push_str(key);
-            }
-            Step::Index(i) => out.push_str(&format!("[{i}]")),
-        }
-    }
-    out
-}
-
-/// Why a field path does not lead to a node.
-struct PathMiss {
-    message: String,
-    hint: Option<String>,
-}
-
-fn node_at<'a>(root: &'a Node, steps: &[Step]) -> Result<&'a Node, PathMiss> {
-    let mut node = root;
-    for (depth, step) in steps.iter().enumerate() {
-        let here = render_steps(&steps[..depth]);
-        let here_named = if here.is_empty() {
-            "the scene".to_string()
-        } else {
-            format!("`{here}`")
-        };
-        node = match (step, &node.value) {
-            (Step::Key(key), Value::Map(entries)) => {
-                match entries.iter().find(|(k, _, _)| k == key) {
-                    Some((_, value, _)) => value,
-                    None => {
-                        let keys: Vec<&str> = entries.iter().map(|(k, _, _)| k.as_str()).collect();
-                        let full = render_steps(&steps[..=depth]);
-                        let hint = match suggest(key, &keys) {
-                            Some(near) => {
-                                let mut fixed = steps[..=depth].to_vec();
-                                fixed[depth] = Step::Key(near.to_string());
-                                Some(format!("did you mean `{}`?", render_steps(&fixed)))
-                            }
-                            None if keys.is_empty() => None,
-                            None => Some(format!("fields there: {}", keys.join(", "))),
-                        };
-                        return Err(PathMiss {
-                            message: format!(
-                                "{here_named} has no field `{key}`, so `{full}` does not exist; a sweep only replaces a value the scene writes"
-                            ),
-                            hint,
-                        });
-                    }
-                }
-            }
-            (Step::Index(i), Value::Seq(items)) => match items.get(*i) {
-                Some(item) => item,
-                None => {
-                    return Err(PathMiss {
-                        message: format!(
-                            "{here_named} has {} {} (indices count from 0), so there is no `[{i}]`",
-                            items.len(),
-                            if items.len() == 1 { "entry" } else { "entries" }
-                        ),
-                        hint: None,
-                    })
-                }
-            },
-            (Step::Key(key), _) => {
-                return Err(PathMiss {
-                    message: format!(
-                        "{here_named} is {}, not a mapping with a field `{key}`",
-                        node.kind_name()
-                    ),
-                    hint: None,
-                })
-            }
-            (Step::Index(i), _) => {
-                return Err(PathMiss {
-                    message: format!(
-                        "{here_named} is {}, not a list with an entry `[{i}]`",
-                        node.kind_name()
-                    ),
-                    hint: None,
-                })
-            }
-        };
-    }
-    Ok(node)
-}
-
-fn node_at_mut<'a>(root: &'a mut Node, steps: &[Step]) -> Option<&'a mut Node> {
-    let mut node = root;
-    for step in steps {
-        node = match (step, &mut node.value) {
-            (Step::Key(key), Value::Map(entries)) => {
-                let position = entries.iter().position(|(k, _, _)| k == key)?;
-                &mut entries[position].1
-            }
-            (Step::Index(i), Value::Seq(items)) => items.get_mut(*i)?,
-            _ => return None,
-        };
-    }
-    Some(node)
-}
-
-/// The location of the deepest node on `field`'s path that exists (the root's when none).
-fn deepest_location(root: &Node, field: &str) -> Location {
-    let Ok(steps) = parse_field_path(field) else {
-        return root.location;
-    };
-    let mut node = root;
-    for step in &steps {
-        let next = match (step, &node.value) {
-            (Step::Key(key), Value::Map(entries)) => {
-                entries.iter().find(|(k, _, _)| k == key).map(|(_, v, _)| v)
-            }
-            (Step::Index(i), Value::Seq(items)) => items.get(*i),
-            _ => None,
-        };
-        match next {
-            Some(next) => node = next,
-            None => break,
-        }
-    }
-    node.location
 }
 
 // ---------------------------------------------------------------- detectors
@@ -2656,25 +2486,6 @@ fn read_scoring(node: &Node, suite_file: &str, report: &mut Report) -> Option<Sc
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn field_paths_parse_and_render_back() {
-        let steps = parse_field_path("actors[0].path.start_m[1]").unwrap();
-        assert_eq!(
-            steps,
-            vec![
-                Step::Key("actors".into()),
-                Step::Index(0),
-                Step::Key("path".into()),
-                Step::Key("start_m".into()),
-                Step::Index(1),
-            ]
-        );
-        assert_eq!(render_steps(&steps), "actors[0].path.start_m[1]");
-        for bad in ["", "a..b", "a[", "a[x]", "a[0]b", "[0]", "a b"] {
-            assert!(parse_field_path(bad).is_err(), "{bad}");
-        }
-    }
 
     #[test]
     fn field_containment_respects_segment_boundaries() {

@@ -2,54 +2,11 @@
 //! the intrusion scorer uses (`echobench_core::alarm_statistic`), so both kinds of product
 //! agree on when the condition holds.
 
-use crate::PresenceError;
 use echobench_core::alarm_statistic::MOfNStatistic;
 use echobench_core::Score;
 
-/// The M-of-N rule: the condition holds when at least `m` of the last `n` frame decisions are
-/// true. Invariant: `1 <= m <= n`.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
-pub struct MOfN {
-    m: usize,
-    n: usize,
-}
-
-impl MOfN {
-    /// 1-of-1: the condition is the frame decision itself.
-    pub const SINGLE: MOfN = MOfN { m: 1, n: 1 };
-
-    /// Makes an M-of-N rule.
-    ///
-    /// # Errors
-    /// When `m` is 0 or larger than `n`.
-    ///
-    /// ```
-    /// use echobench_presence::MOfN;
-    /// assert_eq!(MOfN::new(2, 3).unwrap().n(), 3);
-    /// assert!(MOfN::new(0, 3).is_err() && MOfN::new(4, 3).is_err());
-    /// ```
-    pub fn new(m: usize, n: usize) -> Result<Self, PresenceError> {
-        if m >= 1 && m <= n {
-            Ok(MOfN { m, n })
-        } else {
-            Err(PresenceError::InvalidParameter {
-                name: "m_of_n.m",
-                value: m as f64,
-                allowed: "between 1 and n",
-            })
-        }
-    }
-
-    /// How many true decisions are needed.
-    pub fn m(&self) -> usize {
-        self.m
-    }
-
-    /// How many recent frames are looked at.
-    pub fn n(&self) -> usize {
-        self.n
-    }
-}
+/// The M-of-N rule (`1 <= m <= n`), the same validated type the intrusion scorer uses.
+pub use echobench_core::alarm_statistic::MOfN;
 
 /// One frame's condition at the frame's end time.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -111,7 +68,7 @@ impl StatisticFrame {
 /// `echobench_core::alarm_statistic`); frames whose `t_s` is not finite take part in the
 /// window but are left out of the result.
 pub fn statistic_frames(trace: &[Score], rule: MOfN) -> Vec<StatisticFrame> {
-    let mut statistic = MOfNStatistic::new(rule.m, rule.n);
+    let mut statistic = MOfNStatistic::new(rule);
     let mut frames = Vec::with_capacity(trace.len());
     for score in trace {
         let value = statistic.push(score.value);

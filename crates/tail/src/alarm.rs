@@ -50,7 +50,7 @@
 //! any split.
 
 use crate::error::{parameter, TailError};
-use echobench_core::alarm_statistic::MOfNStatistic;
+use echobench_core::alarm_statistic::{MOfN, MOfNStatistic};
 use std::collections::BTreeMap;
 
 /// Rounding allowance of the gap comparison, seconds: a gap that equals `hold_s` up to the
@@ -61,8 +61,7 @@ pub const HOLD_TOLERANCE_S: f64 = 1e-9;
 /// the threshold, clusters separated by at least `hold_s`.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct AlarmRule {
-    m: usize,
-    n: usize,
+    m_of_n: MOfN,
     hold_s: f64,
 }
 
@@ -70,23 +69,26 @@ impl AlarmRule {
     /// # Errors
     /// Unless `1 <= m <= n` and `hold_s` is finite and `>= 0`.
     pub fn new(m: usize, n: usize, hold_s: f64) -> Result<Self, TailError> {
-        if m == 0 || m > n {
-            return Err(parameter("m", m as f64, "1 <= m <= n"));
-        }
+        let m_of_n = MOfN::new(m, n).map_err(|_| parameter("m", m as f64, "1 <= m <= n"))?;
         if !(hold_s.is_finite() && hold_s >= 0.0) {
             return Err(parameter("hold_s", hold_s, "finite and >= 0"));
         }
-        Ok(AlarmRule { m, n, hold_s })
+        Ok(AlarmRule { m_of_n, hold_s })
     }
 
     /// M.
     pub fn m(&self) -> usize {
-        self.m
+        self.m_of_n.m()
     }
 
     /// N.
     pub fn n(&self) -> usize {
-        self.n
+        self.m_of_n.n()
+    }
+
+    /// The M-of-N rule.
+    pub fn m_of_n(&self) -> MOfN {
+        self.m_of_n
     }
 
     /// The declustering gap (the product's hold time), seconds.
@@ -97,7 +99,7 @@ impl AlarmRule {
 
 /// The alarm statistic of a whole trace (see the module doc).
 pub fn alarm_statistic(rule: &AlarmRule, scores: &[f64]) -> Vec<f64> {
-    let mut filter = MOfNStatistic::new(rule.m, rule.n);
+    let mut filter = MOfNStatistic::new(rule.m_of_n);
     scores.iter().map(|&x| filter.push(x)).collect()
 }
 
@@ -254,7 +256,7 @@ impl TailAccumulator {
     pub fn scan(&self, key: u64) -> TrialScan {
         TrialScan {
             key,
-            statistic: MOfNStatistic::new(self.rule.m, self.rule.n),
+            statistic: MOfNStatistic::new(self.rule.m_of_n),
             floor: self.floor,
             max_kept: self.max_kept,
             frames: Vec::new(),

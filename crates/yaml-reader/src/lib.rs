@@ -17,9 +17,11 @@
 //! scalars are always strings.
 #![deny(missing_docs)]
 
+mod field_path;
 mod reader;
 mod tree;
 
+pub use field_path::{FieldPath, PathMiss, Step};
 pub use reader::{suggest, Fields, FromNode, Reader};
 pub use tree::{parse, Limits, Node, Value};
 
