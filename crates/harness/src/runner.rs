@@ -230,6 +230,14 @@ pub struct VariantTally {
     pub sweep_value: Option<String>,
     /// Swept value as a number.
     pub sweep_number: Option<f64>,
+    /// The swept field's path as the suite writes it (`actors[0].path.start_m[0]`), when the
+    /// scene is swept: readers need not parse the suite again to name the axis.
+    #[serde(default)]
+    pub sweep_field: Option<String>,
+    /// The swept field's unit by the project's naming rule (the suffix of its name,
+    /// `crate::suite::unit_of_field`), when it has one.
+    #[serde(default)]
+    pub sweep_unit: Option<String>,
     /// Target or nuisance scene.
     pub label: String,
     /// Test trials tallied.
@@ -805,6 +813,8 @@ fn run_product(
                     sweep_point: v.sweep_point,
                     sweep_value: v.sweep_value.clone(),
                     sweep_number: v.sweep_number,
+                    sweep_field: s.sweep_field.clone(),
+                    sweep_unit: s.sweep_unit().map(str::to_string),
                     label: match s.label {
                         SceneLabel::Target => "target".into(),
                         SceneLabel::Nuisance => "nuisance".into(),

@@ -188,6 +188,43 @@ pub struct SuiteScene {
     pub capture: Option<CaptureSource>,
 }
 
+impl SuiteScene {
+    /// The swept field's unit, from its name ([`unit_of_field`]).
+    pub fn sweep_unit(&self) -> Option<&'static str> {
+        self.sweep_field.as_deref().and_then(unit_of_field)
+    }
+}
+
+/// The unit a field path's last name gives by the project's naming rule, a unit suffix on
+/// every quantity (`start_m[0]` → `m`, `speed_mps` → `m/s`); `None` for a name without one.
+///
+/// ```
+/// use echobench_harness::suite::unit_of_field;
+/// assert_eq!(unit_of_field("actors[0].path.start_m[0]"), Some("m"));
+/// assert_eq!(unit_of_field("actors[1].speed_mps"), Some("m/s"));
+/// assert_eq!(unit_of_field("actors[0].kind"), None);
+/// ```
+pub fn unit_of_field(field: &str) -> Option<&'static str> {
+    let last = field.rsplit('.').next().unwrap_or(field);
+    let name = last.split('[').next().unwrap_or(last);
+    let units: [(&str, &str); 10] = [
+        ("_mps", "m/s"),
+        ("_hz", "Hz"),
+        ("_db", "dB"),
+        ("_deg", "°"),
+        ("_rpm", "rpm"),
+        ("_dbsm", "dBsm"),
+        ("_m2", "m²"),
+        ("_m", "m"),
+        ("_s", "s"),
+        ("_v", "V"),
+    ];
+    units
+        .iter()
+        .find(|(suffix, _)| name.ends_with(suffix))
+        .map(|(_, unit)| *unit)
+}
+
 /// Recordings as a scene's signal: each is cut into trials of the scene's duration.
 #[derive(Debug, Clone)]
 pub struct CaptureSource {

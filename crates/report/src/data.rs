@@ -170,8 +170,6 @@ pub struct Sweep {
     pub scene: String,
     /// `target` or `nuisance`.
     pub label: String,
-    /// Index of the scene among the suite's scenes (for the swept field's name).
-    pub scene_index: usize,
     /// Per detector (in run order): the points.
     pub by_detector: Vec<Vec<SweepPoint>>,
 }
@@ -198,7 +196,7 @@ pub fn sweeps(detectors: &[&DetectorTally], op: usize) -> Vec<Sweep> {
         return Vec::new();
     };
     let mut out = Vec::new();
-    for (scene_index, id) in ids.iter().enumerate() {
+    for id in &ids {
         let swept = first
             .variants
             .iter()
@@ -237,107 +235,13 @@ pub fn sweeps(detectors: &[&DetectorTally], op: usize) -> Vec<Sweep> {
         out.push(Sweep {
             scene: id.clone(),
             label,
-            scene_index,
             by_detector,
         });
     }
     out
 }
 
-/// The swept field of each scene entry of one product in a suite text
-/// (`products[k].scenes[i].sweep.field` for the product named `product`, or
-/// `scenes[i].sweep.field` in a suite of one product written without `products:`), by
-/// entry index; empty when the text does not parse or has no such product.
-pub fn sweep_fields(suite_text: &str, product: &str) -> Vec<Option<String>> {
-    use echobench_yaml_reader::Value;
-    let Ok(root) = echobench_yaml_reader::parse(
-        "suite.yaml",
-        suite_text,
-        &echobench_yaml_reader::Limits::default(),
-    ) else {
-        return Vec::new();
-    };
-    let scenes = match root.get("products").map(|n| &n.value) {
-        Some(Value::Seq(products)) => products
-            .iter()
-            .find(|p| {
-                matches!(p.get("name").map(|n| &n.value), Some(Value::Str(name)) if name == product)
-            })
-            .and_then(|p| p.get("scenes")),
-        _ => root.get("scenes"),
-    };
-    match scenes.map(|n| &n.value) {
-        Some(Value::Seq(entries)) => entries
-            .iter()
-            .map(|entry| {
-                match entry
-                    .get("sweep")
-                    .and_then(|s| s.get("field"))
-                    .map(|f| &f.value)
-                {
-                    Some(Value::Str(field)) => Some(field.clone()),
-                    _ => None,
-                }
-            })
-            .collect(),
-        _ => Vec::new(),
-    }
-}
-
-/// The unit a field name's suffix gives (`start_m[0]` → `m`), by the project's naming rule.
-pub fn unit_of_field(field: &str) -> Option<&'static str> {
-    let last = field.rsplit('.').next().unwrap_or(field);
-    let name = last.split('[').next().unwrap_or(last);
-    let units: [(&str, &str); 10] = [
-        ("_mps", "m/s"),
-        ("_hz", "Hz"),
-        ("_db", "dB"),
-        ("_deg", "°"),
-        ("_rpm", "rpm"),
-        ("_dbsm", "dBsm"),
-        ("_m2", "m²"),
-        ("_m", "m"),
-        ("_s", "s"),
-        ("_v", "V"),
-    ];
-    units
-        .iter()
-        .find(|(suffix, _)| name.ends_with(suffix))
-        .map(|(_, unit)| *unit)
-}
-
 /// Confidence level of the intervals, for captions.
 pub fn confidence_percent() -> String {
     format!("{:.0} %", CONFIDENCE * 100.0)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn sweep_fields_follow_the_scene_entries() {
-        let text = "name: x\nscenes:\n  - file: a.yaml\n    label: target\n    sweep:\n      field: actors[0].path.start_m[0]\n      values: [2, 4]\n  - file: b.yaml\n    label: nuisance\n";
-        assert_eq!(
-            sweep_fields(text, "x"),
-            vec![Some("actors[0].path.start_m[0]".to_string()), None]
-        );
-        assert!(sweep_fields("scenes: [unclosed", "x").is_empty());
-        // With products, each product's own entries.
-        let text = "name: x\nproducts:\n  - name: a\n    scenes:\n      - file: a.yaml\n        label: nuisance\n  - name: b\n    scenes:\n      - file: b.yaml\n        label: nuisance\n      - file: c.yaml\n        label: target\n        sweep:\n          field: actors[1].speed_mps\n          values: [1, 2]\n";
-        assert_eq!(sweep_fields(text, "a"), vec![None]);
-        assert_eq!(
-            sweep_fields(text, "b"),
-            vec![None, Some("actors[1].speed_mps".to_string())]
-        );
-        assert!(sweep_fields(text, "c").is_empty());
-    }
-
-    #[test]
-    fn units_come_from_the_name_suffix() {
-        assert_eq!(unit_of_field("actors[0].path.start_m[0]"), Some("m"));
-        assert_eq!(unit_of_field("actors[1].speed_mps"), Some("m/s"));
-        assert_eq!(unit_of_field("sensor.carrier_hz"), Some("Hz"));
-        assert_eq!(unit_of_field("actors[0].kind"), None);
-    }
 }

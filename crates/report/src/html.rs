@@ -1,16 +1,17 @@
 //! The report page: its sections, tables, figures, style sheet and self-check.
 
 use crate::data::{self, GridRocPoint, Sweep};
+use crate::markup::Html;
 use crate::plot::{
     escape, format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
     MarkedPoint, Marker, ReferenceLine, Series, Style,
 };
-use echobench_run_files::RunFolder;
 use crate::{presence_part, product_part, rare_part};
 use echobench_harness::runner::DetectorTally;
 use echobench_harness::summary::{
     rate_label, DetectorSummary, Estimate, OperatingSummary, ProductSummary,
 };
+use echobench_run_files::RunFolder;
 use std::fmt::Write as _;
 
 /// A section added by the caller (the gate's verdict, a gallery of explained trials): a
@@ -299,12 +300,23 @@ fn fmt_probability(e: &Estimate) -> String {
 }
 
 /// A detector's name with its colour swatch, kept on one line.
-pub(crate) fn detector_cell(index: usize, label: &str) -> String {
-    format!(
-        "<span class=\"nw\">{}{}</span>",
-        swatch(index),
-        escape(label)
-    )
+pub(crate) fn detector_cell(index: usize, label: &str) -> Html {
+    let mut h = Html::new();
+    h.open("span", &[("class", "nw")])
+        .open(
+            "span",
+            &[
+                ("class", "swatch"),
+                (
+                    "style",
+                    &format!("background:{}", PALETTE[index % PALETTE.len()]),
+                ),
+            ],
+        )
+        .close("span")
+        .text(label)
+        .close("span");
+    h
 }
 
 fn swatch(index: usize) -> String {
@@ -314,36 +326,31 @@ fn swatch(index: usize) -> String {
     )
 }
 
-/// A table of already-escaped cells; columns named in `numeric` are right-aligned.
-fn table(headers: &[&str], numeric: &[usize], rows: &[(String, Vec<String>)]) -> String {
-    let mut out = String::from("<table><thead><tr>");
-    for (i, h) in headers.iter().enumerate() {
-        let class = if numeric.contains(&i) {
-            " class=\"num\""
-        } else {
-            ""
-        };
-        let _ = write!(out, "<th{class}>{}</th>", escape(h));
+/// A table: headings as text, cells as HTML built with [`Html`] (so a cell's text is escaped
+/// unless the cell says otherwise); columns named in `numeric` are right-aligned, a row class
+/// of `""` gives none.
+fn table(headers: &[&str], numeric: &[usize], rows: &[(&'static str, Vec<Html>)]) -> String {
+    let num: &[(&'static str, &str)] = &[("class", "num")];
+    let class_of = |i: usize| if numeric.contains(&i) { num } else { &[] };
+    let mut h = Html::new();
+    h.raw("<table><thead><tr>");
+    for (i, heading) in headers.iter().enumerate() {
+        h.element("th", class_of(i), heading);
     }
-    out.push_str("</tr></thead><tbody>");
+    h.raw("</tr></thead><tbody>");
     for (row_class, cells) in rows {
         if row_class.is_empty() {
-            out.push_str("<tr>");
+            h.open("tr", &[]);
         } else {
-            let _ = write!(out, "<tr class=\"{row_class}\">");
+            h.open("tr", &[("class", row_class)]);
         }
         for (i, cell) in cells.iter().enumerate() {
-            let class = if numeric.contains(&i) {
-                " class=\"num\""
-            } else {
-                ""
-            };
-            let _ = write!(out, "<td{class}>{cell}</td>");
+            h.open("td", class_of(i)).push(cell).close("td");
         }
-        out.push_str("</tr>");
+        h.close("tr");
     }
-    out.push_str("</tbody></table>");
-    out
+    h.raw("</tbody></table>");
+    h.into_string()
 }
 
 /// Where figures are numbered: one count over the whole page.
@@ -352,12 +359,18 @@ struct Page {
 }
 
 impl Page {
-    fn figure(&mut self, svg: &str, caption: &str) -> String {
+    /// A numbered figure: a plot drawn by `echobench_svg` and a caption given as HTML.
+    fn figure(&mut self, svg: &str, caption_html: &str) -> String {
         self.figures += 1;
-        format!(
-            "<figure id=\"figure-{}\">{svg}<figcaption>Figure {}. {caption}</figcaption></figure>",
-            self.figures, self.figures
-        )
+        let mut h = Html::new();
+        h.open("figure", &[("id", &format!("figure-{}", self.figures))])
+            .push(&Html::raw_html(svg.to_string()))
+            .open("figcaption", &[])
+            .text(&format!("Figure {}. ", self.figures))
+            .push(&Html::raw_html(caption_html.to_string()))
+            .close("figcaption")
+            .close("figure");
+        h.into_string()
     }
 }
 
@@ -399,21 +412,21 @@ impl<'a> Part<'a> {
         self.detectors.iter().map(|(_, t)| *t).collect()
     }
 
-    /// The swept field of one of the product's scenes, as the suite text writes it.
-    pub(crate) fn sweep_field(&self, scene: &str) -> Option<String> {
-        let fields = self
-            .run
-            .suite_text
-            .as_deref()
-            .map(|text| data::sweep_fields(text, self.name))
-            .unwrap_or_default();
-        let ids = data::scene_ids(&self.tallies());
-        // Scene entries and scene ids are in the same (suite) order.
-        if fields.len() != ids.len() {
-            return None;
-        }
-        let index = ids.iter().position(|id| id == scene)?;
-        fields.get(index).cloned().flatten()
+    /// The first variant of one of the product's scenes, in the tallies.
+    fn variant(&self, scene: &str) -> Option<&'a echobench_harness::runner::VariantTally> {
+        let (_, first) = self.detectors.first()?;
+        first.variants.iter().find(|v| v.scene == scene)
+    }
+
+    /// The swept field of one of the product's scenes, as the suite writes it (the tallies
+    /// carry it; tallies written before they did give `None`).
+    pub(crate) fn sweep_field(&self, scene: &str) -> Option<&'a str> {
+        self.variant(scene)?.sweep_field.as_deref()
+    }
+
+    /// The unit of the swept field of one of the product's scenes, when its name gives one.
+    pub(crate) fn sweep_unit(&self, scene: &str) -> Option<&'a str> {
+        self.variant(scene)?.sweep_unit.as_deref()
     }
 
     /// The product's name as page text: in code type, escaped.
@@ -753,20 +766,23 @@ fn ranking(part: &Part) -> String {
         for (rank, (i, d, op)) in meets.iter().enumerate() {
             let upper = op.outcome.false_alarms_per_hour_upper;
             let shown = match upper {
-                Some(u) if u <= *target => "<span class=\"good\">shown</span>".to_string(),
+                Some(u) if u <= *target => {
+                    let mut good = Html::new();
+                    good.element("span", &[("class", "good")], "shown");
+                    good
+                }
                 Some(u) => {
                     let needed = echobench_stats::exposure_for_rate_claim(*target, 0, 0.95)
                         .map_or_else(
                             |_| "—".into(),
                             |h| format!("{} h with no false alarm", format_number(h, 3)),
                         );
-                    format!(
-                        "not shown (bound {}/h); needs {}",
+                    Html::from_text(&format!(
+                        "not shown (bound {}/h); needs {needed}",
                         format_number(u, 3),
-                        escape(&needed)
-                    )
+                    ))
                 }
-                None => "—".into(),
+                None => Html::from_text("—"),
             };
             let cost = d.declared_cost.map_or_else(
                 || "—".to_string(),
@@ -779,19 +795,19 @@ fn ranking(part: &Part) -> String {
                 },
             );
             rows.push((
-                "meets".to_string(),
+                "meets",
                 vec![
-                    (rank + 1).to_string(),
+                    Html::from_text(&(rank + 1).to_string()),
                     detector_cell(*i, &d.label),
-                    fmt_pd(&op.outcome.pd),
-                    fmt_seconds(op.latency_median_s),
-                    escape(&fmt_estimate(&op.outcome.false_alarms_per_hour, 3)),
-                    format!(
+                    Html::from_text(&fmt_pd(&op.outcome.pd)),
+                    Html::from_text(&fmt_seconds(op.latency_median_s)),
+                    Html::from_text(&fmt_estimate(&op.outcome.false_alarms_per_hour, 3)),
+                    Html::from_text(&format!(
                         "{} in {} h",
                         op.outcome.false_alarms,
                         format_number(op.outcome.exposure_hours, 3)
-                    ),
-                    escape(&cost),
+                    )),
+                    Html::from_text(&cost),
                     shown,
                 ],
             ));
@@ -1017,13 +1033,13 @@ fn trial_roc(page: &mut Page, part: &Part) -> String {
             markers,
         });
         rows.push((
-            String::new(),
+            "",
             vec![
                 detector_cell(i, &d.label),
-                format!("{:.3}", roc.auc),
-                roc.auc_se.map_or("—".into(), |s| format!("{s:.3}")),
-                roc.positives.to_string(),
-                roc.negatives.to_string(),
+                Html::from_text(&format!("{:.3}", roc.auc)),
+                Html::from_text(&roc.auc_se.map_or("—".into(), |s| format!("{s:.3}"))),
+                Html::from_text(&roc.positives.to_string()),
+                Html::from_text(&roc.negatives.to_string()),
             ],
         ));
     }
@@ -1045,12 +1061,13 @@ fn trial_roc(page: &mut Page, part: &Part) -> String {
 }
 
 fn sweep_axis_label(part: &Part, sweep: &Sweep) -> String {
-    match part.sweep_field(&sweep.scene) {
-        Some(f) => match data::unit_of_field(&f) {
-            Some(unit) => format!("{} ({unit})", f),
-            None => f,
-        },
-        None => "swept value".to_string(),
+    match (
+        part.sweep_field(&sweep.scene),
+        part.sweep_unit(&sweep.scene),
+    ) {
+        (Some(field), Some(unit)) => format!("{field} ({unit})"),
+        (Some(field), None) => field.to_string(),
+        (None, _) => "swept value".to_string(),
     }
 }
 
@@ -1205,9 +1222,8 @@ fn latency(page: &mut Page, part: &Part) -> String {
         };
         let latencies = data::latencies_s(tally, 0);
         rows.push((
-            String::new(),
-            vec![
-                detector_cell(i, &d.label),
+            "",
+            [
                 format!("{} of {}", op.outcome.detected, op.outcome.events),
                 fmt_seconds(op.latency_median_s),
                 op.latency_median_interval_s
@@ -1215,7 +1231,12 @@ fn latency(page: &mut Page, part: &Part) -> String {
                     .map_or("—".into(), |(l, h)| format!("[{l:.2}, {h:.2}] s")),
                 fmt_seconds(op.latency_p90_s),
                 fmt_seconds(latencies.last().copied()),
-            ],
+            ]
+            .iter()
+            .fold(vec![detector_cell(i, &d.label)], |mut cells, text| {
+                cells.push(Html::from_text(text));
+                cells
+            }),
         ));
         if latencies.is_empty() {
             undetected.push(d.label.clone());
@@ -1398,14 +1419,14 @@ fn cost(part: &Part) -> String {
             |c| (fmt_bytes(c.state_bytes), format_number(c.ops_per_sample, 3)),
         );
         rows.push((
-            String::new(),
+            "",
             vec![
                 detector_cell(i, &d.label),
-                escape(&d.plugin),
-                ns,
-                rate,
-                escape(&memory),
-                escape(&ops),
+                Html::from_text(&d.plugin),
+                Html::from_text(&ns),
+                Html::from_text(&rate),
+                Html::from_text(&memory),
+                Html::from_text(&ops),
             ],
         ));
     }
@@ -1450,29 +1471,35 @@ fn nominal(part: &Part) -> Option<String> {
     for (i, d) in &with {
         let Some(n) = &d.nominal else { continue };
         let m = &n.measured_frame_pfa;
-        let verdict = match (m.low, m.high) {
+        let mut verdict = Html::new();
+        match (m.low, m.high) {
             (Some(l), Some(h)) if l <= n.nominal_frame_pfa && n.nominal_frame_pfa <= h => {
-                "<span class=\"good\">consistent</span>".to_string()
+                verdict.element("span", &[("class", "good")], "consistent");
             }
-            (Some(l), Some(_)) if l > n.nominal_frame_pfa => format!(
-                "<span class=\"bad\">more than promised</span> (×{})",
-                m.value.map_or("—".into(), |v| format_number(
-                    v / n.nominal_frame_pfa.max(f64::MIN_POSITIVE),
-                    3
-                ))
-            ),
-            (Some(_), Some(_)) => "fewer than promised".to_string(),
-            _ => "not measured".to_string(),
+            (Some(l), Some(_)) if l > n.nominal_frame_pfa => {
+                let ratio = m.value.map_or("—".into(), |v| {
+                    format_number(v / n.nominal_frame_pfa.max(f64::MIN_POSITIVE), 3)
+                });
+                verdict
+                    .element("span", &[("class", "bad")], "more than promised")
+                    .text(&format!(" (×{ratio})"));
+            }
+            (Some(_), Some(_)) => {
+                verdict.text("fewer than promised");
+            }
+            _ => {
+                verdict.text("not measured");
+            }
         };
         let measured = fmt_probability(m);
         rows.push((
-            String::new(),
+            "",
             vec![
                 detector_cell(*i, &d.label),
-                format_number(n.threshold, 4),
-                format_number(n.nominal_frame_pfa, 3),
-                measured,
-                fmt_count(n.noise_frames),
+                Html::from_text(&format_number(n.threshold, 4)),
+                Html::from_text(&format_number(n.nominal_frame_pfa, 3)),
+                Html::from_text(&measured),
+                Html::from_text(&fmt_count(n.noise_frames)),
                 verdict,
             ],
         ));
@@ -1481,7 +1508,7 @@ fn nominal(part: &Part) -> Option<String> {
             "<details><summary>{}: measured per-frame Pfa by scene</summary>",
             escape(&d.label)
         );
-        let scene_rows: Vec<(String, Vec<String>)> = n
+        let scene_rows: Vec<(&'static str, Vec<Html>)> = n
             .by_scene
             .iter()
             .map(|(scene, sweep, e)| {
@@ -1489,7 +1516,10 @@ fn nominal(part: &Part) -> Option<String> {
                     Some(v) => format!("{scene} = {v}"),
                     None => scene.clone(),
                 };
-                (String::new(), vec![escape(&name), fmt_probability(e)])
+                (
+                    "",
+                    vec![Html::from_text(&name), Html::from_text(&fmt_probability(e))],
+                )
             })
             .collect();
         details.push_str(&table(
@@ -1527,15 +1557,18 @@ fn failures(part: &Part) -> Option<String> {
     for d in part.summaries() {
         for f in d.failures.iter().take(MAX_ROWS) {
             rows.push((
-                String::new(),
-                vec![
-                    escape(&d.label),
-                    escape(&f.scene),
+                "",
+                [
+                    d.label.clone(),
+                    f.scene.clone(),
                     f.sweep_point.to_string(),
                     f.trial.to_string(),
-                    escape(&f.phase),
-                    escape(&f.message),
-                ],
+                    f.phase.clone(),
+                    f.message.clone(),
+                ]
+                .iter()
+                .map(|text| Html::from_text(text))
+                .collect(),
             ));
         }
         if d.failures.len() > MAX_ROWS {
@@ -1570,21 +1603,22 @@ fn failures(part: &Part) -> Option<String> {
 fn parameters(part: &Part) -> String {
     let mut rows = Vec::new();
     for (i, d) in part.summaries().enumerate() {
-        let params: Vec<String> = d
-            .params
-            .iter()
-            .map(|(k, v)| format!("<code>{}</code> = {}", escape(k), escape(v)))
-            .collect();
+        let mut params = Html::new();
+        for (k, (key, value)) in d.params.iter().enumerate() {
+            if k > 0 {
+                params.raw(", ");
+            }
+            params.element("code", &[], key).text(" = ").text(value);
+        }
+        if d.params.is_empty() {
+            params.text("(none)");
+        }
         rows.push((
-            String::new(),
+            "",
             vec![
                 detector_cell(i, &d.label),
-                escape(&d.plugin),
-                if params.is_empty() {
-                    "(none)".into()
-                } else {
-                    params.join(", ")
-                },
+                Html::from_text(&d.plugin),
+                params,
             ],
         ));
     }
@@ -1630,7 +1664,7 @@ fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> St
         (Some(a), None) => format!("{a:.3}"),
         _ => "—".into(),
     };
-    let rows: Vec<(String, Vec<String>)> = pairs
+    let rows: Vec<(&'static str, Vec<Html>)> = pairs
         .iter()
         .map(|(i, d, b, _)| {
             let delta = match (finite(d.trial_auc), finite(b.trial_auc)) {
@@ -1638,8 +1672,13 @@ fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> St
                 _ => "—".into(),
             };
             (
-                String::new(),
-                vec![detector_cell(*i, &d.label), auc(b), auc(d), delta],
+                "",
+                vec![
+                    detector_cell(*i, &d.label),
+                    Html::from_text(&auc(b)),
+                    Html::from_text(&auc(d)),
+                    Html::from_text(&delta),
+                ],
             )
         })
         .collect();
@@ -1656,21 +1695,21 @@ fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> St
     ));
     let targets = targets(part);
     for (o, target) in targets.iter().enumerate() {
-        let rows: Vec<(String, Vec<String>)> = pairs
+        let rows: Vec<(&'static str, Vec<Html>)> = pairs
             .iter()
             .map(|(i, d, b, _)| {
                 let ours = d.operating_points.get(o);
                 let theirs = b.operating_points.get(o);
                 let pd = |x: Option<&OperatingSummary>| {
-                    x.map_or("—".into(), |x| fmt_pd(&x.outcome.pd))
+                    Html::from_text(&x.map_or("—".into(), |x| fmt_pd(&x.outcome.pd)))
                 };
                 let fa = |x: Option<&OperatingSummary>| {
-                    x.map_or("—".into(), |x| {
-                        escape(&fmt_estimate(&x.outcome.false_alarms_per_hour, 3))
-                    })
+                    Html::from_text(&x.map_or("—".into(), |x| {
+                        fmt_estimate(&x.outcome.false_alarms_per_hour, 3)
+                    }))
                 };
                 (
-                    String::new(),
+                    "",
                     vec![
                         detector_cell(*i, &d.label),
                         pd(theirs),

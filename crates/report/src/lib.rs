@@ -22,15 +22,16 @@
 //! over its monotone part); the trial-level ROC with AUC ± SE; detection against each swept
 //! value; latency; false alarms by nuisance; cost; CFAR nominal against measured per-frame
 //! Pfa; the comparison with the baseline; failures; the detectors' parameters. Text from
-//! user files (product names, scene ids, reasons) is escaped by default (the private `markup` module: text and attribute values are escaped, markup must be a literal).
+//! user files (product names, scene ids, reasons) is escaped by default (the private `markup` module: text and attribute values are escaped, markup must be a literal or go through its one named raw method).
 //!
-//! **Design decision: the SVG is written by hand ([`plot`]), not with plotters.** The report
-//! must be byte-identical for the same inputs, open offline with no font files, and let a
-//! browser check that every plot drew data. Hand-written SVG gives all three directly: the
-//! output is a pure function of the numbers (fixed decimal places, no generated ids), text is
-//! left to the viewer's generic `sans-serif` font instead of being measured with a font file
-//! at build time, and every data element carries `class="data"` for the self-check. What it
-//! costs — axes, ticks, a legend, a bar chart — is a few hundred lines, tested below.
+//! **Design decision: the SVG is written through `echobench_svg` ([`plot`]), not a plotting
+//! library.** The report must be byte-identical for the same inputs, open offline with no font
+//! files, and let a browser check that every plot drew data. An SVG writer gives all three
+//! directly: the output is a pure function of the numbers (fixed decimal places, no generated
+//! ids), text is left to the viewer's generic `sans-serif` font instead of being measured with
+//! a font file at build time, every text and attribute value is escaped by the writer, and
+//! every data element carries `class="data"` for the self-check. The spectrogram and the
+//! explanation pictures draw through the same crate.
 #![deny(missing_docs)]
 
 mod data;
@@ -43,6 +44,6 @@ mod product_part;
 mod rare_part;
 
 pub use data::{fold_back_cut, grid_roc, trial_roc, GridRocPoint, TrialRoc};
+pub use echobench_run_files::{RunFileError, RunFolder};
 pub use gate_section::gate_section;
 pub use html::{render_html, Section};
-pub use echobench_run_files::{RunFileError, RunFolder};

@@ -1,11 +1,13 @@
 //! HTML that is escaped unless said otherwise.
 //!
 //! Product names, scene ids, detector labels and miss reasons come from user files, so the
-//! per-product parts are built with [`Html`]: text goes in through [`Html::text`], which
-//! escapes it, and attribute values through [`Html::open`], which escapes them too. Markup
-//! goes in through [`Html::raw`], which takes only `&'static str`, i.e. literals written in
-//! this crate, so a string read from a file cannot reach the page unescaped by accident.
-//! HTML already built by this crate's other renderers enters through [`Html::trusted`].
+//! page is built with [`Html`]: text goes in through [`Html::text`] (or [`Html::from_text`]),
+//! which escapes it, and attribute values through [`Html::open`], which escapes them too.
+//! Markup goes in through [`Html::raw`], which takes only `&'static str`, i.e. literals
+//! written in this crate, so a string read from a file cannot reach the page unescaped by
+//! accident. The one way in for markup built elsewhere (a plot drawn by `echobench_svg`, a
+//! caller's section body) is the explicitly named [`Html::raw_html`]. Escaping is
+//! `echobench_svg::escape`, the same function the pictures use.
 
 use crate::plot::escape;
 
@@ -19,8 +21,17 @@ impl Html {
         Html(String::new())
     }
 
-    /// HTML made by this crate's own renderers (tables, figures): taken as it is.
-    pub(crate) fn trusted(html: String) -> Html {
+    /// Text, escaped, as a piece of its own (a table cell).
+    pub(crate) fn from_text(text: &str) -> Html {
+        let mut h = Html::new();
+        h.text(text);
+        h
+    }
+
+    /// Markup taken as it is, unescaped: only for HTML built by code (a plot drawn by
+    /// `echobench_svg`, whose text is escaped there; a section body a caller hands in as
+    /// HTML), never for text read from a file.
+    pub(crate) fn raw_html(html: String) -> Html {
         Html(html)
     }
 

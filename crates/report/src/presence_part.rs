@@ -120,10 +120,7 @@ pub(crate) fn pin_tables(part: &Part) -> Option<Html> {
             .iter()
             .filter_map(|(i, label, v)| {
                 let p = v.points.get(o)?;
-                Some((
-                    Html::trusted(detector_cell(*i, label)),
-                    pin_cells(&p.rooms, &p.visits),
-                ))
+                Some((detector_cell(*i, label), pin_cells(&p.rooms, &p.visits)))
             })
             .collect();
         let budget = budget_label(point.budget_per_day);

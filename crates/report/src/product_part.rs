@@ -148,14 +148,12 @@ fn cell_of<'a>(
 }
 
 /// A scene variant's name as a row heading: the scene id, and the swept value with the
-/// unit of the swept field when the suite text gives it.
+/// unit of the swept field when the tallies give it.
 fn row_heading(part: &Part, row: &SceneOutcome) -> Html {
     let mut h = Html::new();
     h.element("code", &[], &row.scene);
     if let Some(value) = &row.sweep_value {
-        let unit = part
-            .sweep_field(&row.scene)
-            .and_then(|f| crate::data::unit_of_field(&f));
+        let unit = part.sweep_unit(&row.scene);
         let shown = match unit {
             Some(unit) => format!(" @ {value} {unit}"),
             None => format!(" @ {value}"),
@@ -171,7 +169,7 @@ fn grid_head(part: &Part, corner: &str) -> Html {
     h.raw("<thead><tr>").element("th", &[], corner);
     for (j, d) in part.summaries().enumerate() {
         h.raw("<th class=\"num\">")
-            .push(&Html::trusted(detector_cell(j, &d.label)))
+            .push(&detector_cell(j, &d.label))
             .raw("</th>");
     }
     h.raw("</tr></thead>");

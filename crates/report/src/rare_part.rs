@@ -44,7 +44,7 @@ pub(crate) fn rare_table(part: &Part) -> Option<Html> {
     let mut notes: Vec<String> = Vec::new();
     for (i, label, list) in &rows {
         h.raw("<tr><th scope=\"row\">")
-            .push(&Html::trusted(detector_cell(*i, label)))
+            .push(&detector_cell(*i, label))
             .raw("</th>");
         for t in list.iter() {
             let cell = t.cell(&|x| format_number(x, 3), &mut notes, true);

@@ -86,6 +86,26 @@ fn every_section_is_present_and_every_plot_draws_data() {
     assert!(html.contains("Radio rules"));
     // The swept field and its unit label the sweep plot.
     assert!(html.contains("actors[0].path.start_m[0] (m)"));
+    // They come from the tallies, not from the suite text: the same without it.
+    let mut without_suite = run.clone();
+    without_suite.suite_text = None;
+    let bare = render_html(&without_suite, None, &[]);
+    assert!(bare.contains("actors[0].path.start_m[0] (m)"));
+    assert!(bare.contains("corridor-walker</code> @ 2 m"));
+    // Tallies written before they carried the field still load; the axis is then unnamed.
+    let mut value = serde_json::to_value(&run.tallies).unwrap();
+    for detector in value["detectors"].as_array_mut().unwrap() {
+        for variant in detector["variants"].as_array_mut().unwrap() {
+            let fields = variant.as_object_mut().unwrap();
+            assert!(
+                fields.remove("sweep_field").is_some() && fields.remove("sweep_unit").is_some()
+            );
+        }
+    }
+    let mut old = without_suite;
+    old.tallies = serde_json::from_value(value).unwrap();
+    let old_html = render_html(&old, None, &[]);
+    assert!(!old_html.contains("start_m[0] (m)") && old_html.contains("swept value"));
     // Every detector appears in the parameters table, with its parameters.
     for d in &run.summary.detectors {
         assert!(html.contains(&format!("{}</span>", d.label)), "{}", d.label);
@@ -375,4 +395,68 @@ fn bad_numbers_do_not_panic() {
             assert!(!table.contains(bad), "{bad} in {id}: {table}");
         }
     }
+}
+
+/// Replaces `from` by `to` in every string value (not key) of a JSON tree.
+fn rename_everywhere(value: &mut serde_json::Value, from: &str, to: &str) {
+    match value {
+        serde_json::Value::String(s) => *s = s.replace(from, to),
+        serde_json::Value::Array(items) => {
+            for item in items {
+                rename_everywhere(item, from, to);
+            }
+        }
+        serde_json::Value::Object(fields) => {
+            for (_, item) in fields.iter_mut() {
+                rename_everywhere(item, from, to);
+            }
+        }
+        _ => {}
+    }
+}
+
+#[test]
+fn hostile_detector_labels_and_scene_names_are_escaped_everywhere() {
+    // Every string the run carries (summary and tallies: detector labels and ids, scene ids,
+    // room names, product names) gets markup, quotes and ampersands; the page must show them
+    // as text wherever they appear: tables, headings, plot legends, titles and tooltips.
+    let label = "energy<script>alert(\"label\")</script>&'x'";
+    let scene = "desk-fan<b onmouseover=\"x\">&amp;'room'";
+    let product = "report-test<i>\"p\"</i>";
+    let run = small_run();
+    let mut summary = serde_json::to_value(&run.summary).unwrap();
+    let mut tallies = serde_json::to_value(&run.tallies).unwrap();
+    for tree in [&mut summary, &mut tallies] {
+        rename_everywhere(tree, "energy", label);
+        rename_everywhere(tree, "desk-fan-room", scene);
+        rename_everywhere(tree, "report-test", product);
+    }
+    let mut hostile = run.clone();
+    hostile.summary = serde_json::from_value(summary).unwrap();
+    hostile.tallies = serde_json::from_value(tallies).unwrap();
+    let html = render_html(&hostile, None, &[]);
+    for raw in [
+        "<script>alert",
+        "(\"label\")",
+        "&'x'",
+        "<b onmouseover",
+        "=\"x\">",
+        "&amp;'room'",
+        "<i>\"p\"",
+    ] {
+        assert!(!html.contains(raw), "{raw:?} reached the page unescaped");
+    }
+    // Exactly the page's own two scripts.
+    assert_eq!(html.matches("<script").count(), 2);
+    // And the names are there, escaped, in text and in the plots.
+    let label_text = "energy&lt;script&gt;alert(&quot;label&quot;)&lt;/script&gt;&amp;&#39;x&#39;";
+    let scene_text = "desk-fan&lt;b onmouseover=&quot;x&quot;&gt;&amp;amp;&#39;room&#39;";
+    assert!(html.matches(label_text).count() >= 10);
+    assert!(html.matches(scene_text).count() >= 3);
+    assert!(html.contains("report-test&lt;i&gt;&quot;p&quot;&lt;/i&gt;"));
+    let in_plots: usize = svgs(&html)
+        .iter()
+        .map(|s| s.matches(label_text).count())
+        .sum();
+    assert!(in_plots >= 3, "{in_plots} in plots");
 }
