@@ -7,8 +7,8 @@ use crate::{explain_replayed, operating_index, ExplainRun};
 use echobench_core::detector::DetectorPlugin;
 use echobench_harness::runner::Tallies;
 use echobench_harness::summary::rate_label;
-use echobench_report::plot::escape;
 use echobench_report::Section;
+use echobench_svg::escape;
 use rayon::prelude::*;
 use std::fmt::Write as _;
 

@@ -4,19 +4,22 @@
 //!
 //! The spectrogram is drawn by `echobench_spectrogram::draw_picture` (its heat map, colour bar
 //! and truth strip) and nested as an inner `<svg>`; the panels below take their time axis
-//! from the spectrogram's plot area (`Picture::plot_area`), so the two line up to the pixel. Every element
-//! has a class naming what it shows (`score-trace`, `threshold`, `alarm-on`, `alarm-detection`,
-//! `alarm-false`, `truth-event`, `truth-window`, `truth-still`, `truth-nuisance`, ...), and the
-//! score trace carries `data`, which the report's browser self-check looks for.
+//! from the spectrogram's plot area (`Picture::plot_area`), so the two line up to the pixel.
+//! Everything is written through `echobench_svg`, so every text (headline, facts, nuisance
+//! sources) is escaped by the writer. Every element has a class naming what it shows
+//! (`score-trace`, `threshold`, `alarm-on`, `alarm-detection`, `alarm-false`, `truth-event`,
+//! `truth-window`, `truth-still`, `truth-nuisance`, ...), and the score trace carries `data`,
+//! which the report's browser self-check looks for.
 
 use crate::alarms::{AlarmReplay, MarkKind};
 use crate::ExplainError;
 use echobench_core::{Channels, Interval, Score};
 use echobench_harness::events::TrialTruth;
-use echobench_report::plot::{escape, format_number, linear_ticks, Axis, Scale};
 use echobench_spectrogram::{
     draw_picture, short_time_spectrum, Marked, Picture, SpectrogramOptions,
 };
+use echobench_svg::axis::{format_number, linear_ticks, text_width, Axis, Scale};
+use echobench_svg::{Svg, Tag, SVG_NAMESPACE};
 use std::fmt::Write as _;
 
 /// Picture width, px.
@@ -160,30 +163,49 @@ fn spectrogram(input: &PictureInput<'_>, duration_s: f64) -> Result<Picture, Exp
     draw_picture(&spectrum, &marks, &options).map_err(|e| ExplainError::Picture(e.to_string()))
 }
 
-fn text(out: &mut String, x: f64, y: f64, size: f64, colour: &str, anchor: &str, body: &str) {
-    let _ = write!(
-        out,
-        "<text x=\"{x:.1}\" y=\"{y:.1}\" font-size=\"{size}\" fill=\"{colour}\" text-anchor=\"{anchor}\">{}</text>",
-        escape(body)
-    );
+fn text(out: &mut Svg, x: f64, y: f64, size: f64, colour: &str, anchor: &str, body: &str) {
+    out.tag("text")
+        .px("x", x)
+        .px("y", y)
+        .attr("font-size", size)
+        .attr("fill", colour)
+        .attr("text-anchor", anchor)
+        .content(body);
 }
 
 /// Text with a white halo, readable over the alarm bars.
-fn halo_text(out: &mut String, x: f64, y: f64, colour: &str, body: &str) {
-    let _ = write!(
-        out,
-        "<text x=\"{x:.1}\" y=\"{y:.1}\" font-size=\"11\" fill=\"{colour}\" stroke=\"#ffffff\" stroke-width=\"3\" paint-order=\"stroke\">{}</text>",
-        escape(body)
-    );
+fn halo_text(out: &mut Svg, x: f64, y: f64, colour: &str, body: &str) {
+    out.tag("text")
+        .px("x", x)
+        .px("y", y)
+        .attr("font-size", 11)
+        .attr("fill", colour)
+        .attr("stroke", "#ffffff")
+        .attr("stroke-width", 3)
+        .attr("paint-order", "stroke")
+        .content(body);
 }
 
 #[allow(clippy::too_many_arguments)]
-fn rect(out: &mut String, class: &str, x: f64, y: f64, w: f64, h: f64, fill: &str, stroke: &str) {
-    let _ = write!(
-        out,
-        "<rect class=\"{class}\" x=\"{x:.1}\" y=\"{y:.1}\" width=\"{:.1}\" height=\"{h:.1}\" fill=\"{fill}\" stroke=\"{stroke}\"/>",
-        w.max(1.0)
-    );
+fn rect(out: &mut Svg, class: &str, x: f64, y: f64, w: f64, h: f64, fill: &str, stroke: &str) {
+    out.tag("rect")
+        .attr("class", class)
+        .px("x", x)
+        .px("y", y)
+        .px("width", w.max(1.0))
+        .px("height", h)
+        .attr("fill", fill)
+        .attr("stroke", stroke)
+        .end();
+}
+
+/// A line from (`x1`, `y1`) to (`x2`, `y2`), px; stroke and the rest follow on the tag.
+fn line(out: &mut Svg, (x1, y1): (f64, f64), (x2, y2): (f64, f64)) -> Tag<'_> {
+    out.tag("line")
+        .px("x1", x1)
+        .px("y1", y1)
+        .px("x2", x2)
+        .px("y2", y2)
 }
 
 /// The score axis: linear, or logarithmic when the positive scores span over three decades;
@@ -235,9 +257,7 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
         )));
     }
     let spectrogram = spectrogram(input, duration_s)?;
-    let nested = spectrogram
-        .nested(f64::from(HEADER_H), "spectrogram", input.id_suffix)
-        .into_string();
+    let nested = spectrogram.nested(f64::from(HEADER_H), "spectrogram", input.id_suffix);
     let area = spectrogram.plot_area();
     let (x0, x1) = (area.left, area.right());
     let frame = Frame { x0, x1, duration_s };
@@ -275,34 +295,42 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
     let legend_y = axis_y + 48.0;
     let height = (legend_y + 18.0 * legend.len() as f64).ceil() as i32;
 
-    let mut out = String::with_capacity(64 * 1024);
-    let _ = write!(
-        out,
-        "<svg xmlns=\"http://www.w3.org/2000/svg\" class=\"plot explain\" width=\"{WIDTH}\" height=\"{height}\" viewBox=\"0 0 {WIDTH} {height}\" font-family=\"sans-serif\" role=\"img\"><title>{}</title>",
-        escape(input.headline)
-    );
-    let _ = write!(
-        out,
-        "<rect x=\"0\" y=\"0\" width=\"{WIDTH}\" height=\"{height}\" fill=\"#ffffff\"/>"
-    );
+    let mut out = Svg::new();
+    out.tag("svg")
+        .attr("xmlns", SVG_NAMESPACE)
+        .attr("class", "plot explain")
+        .view_box(WIDTH, height)
+        .attr("font-family", "sans-serif")
+        .attr("role", "img")
+        .open();
+    out.tag("title").content(input.headline);
+    out.tag("rect")
+        .attr("x", 0)
+        .attr("y", 0)
+        .attr("width", WIDTH)
+        .attr("height", height)
+        .attr("fill", "#ffffff")
+        .end();
     // Header.
-    let _ = write!(
-        out,
-        "<text class=\"headline\" x=\"14\" y=\"22\" font-size=\"17\" font-weight=\"bold\" fill=\"#1a1a1a\">{}</text>",
-        escape(input.headline)
-    );
+    out.tag("text")
+        .attr("class", "headline")
+        .attr("x", 14)
+        .attr("y", 22)
+        .attr("font-size", 17)
+        .attr("font-weight", "bold")
+        .attr("fill", "#1a1a1a")
+        .content(input.headline);
     text(&mut out, 14.0, 41.0, 12.5, MUTED, "start", input.facts[0]);
     text(&mut out, 14.0, 58.0, 12.5, MUTED, "start", input.facts[1]);
-    out.push_str(&nested);
+    out.append(&nested);
 
     // Time grid through every panel.
     let ticks = linear_ticks(0.0, duration_s, 10);
     for tick in &ticks {
         let x = frame.x(tick.value);
-        let _ = write!(
-            out,
-            "<line x1=\"{x:.1}\" y1=\"{score_top:.1}\" x2=\"{x:.1}\" y2=\"{lanes_bottom:.1}\" stroke=\"{GRID}\"/>"
-        );
+        line(&mut out, (x, score_top), (x, lanes_bottom))
+            .attr("stroke", GRID)
+            .end();
     }
 
     // Score panel.
@@ -318,18 +346,31 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
     );
     for &(start, end) in &input.alarms.on {
         let (a, b) = (frame.x(start), frame.x(end));
-        let _ = write!(
-            out,
-            "<rect class=\"alarm-on-shade\" x=\"{a:.1}\" y=\"{score_top:.1}\" width=\"{:.1}\" height=\"{SCORE_H}\" fill=\"{ALARM_ON}\" fill-opacity=\"0.18\"/>",
-            (b - a).max(0.5)
-        );
+        out.tag("rect")
+            .attr("class", "alarm-on-shade")
+            .px("x", a)
+            .px("y", score_top)
+            .px("width", (b - a).max(0.5))
+            .attr("height", SCORE_H)
+            .attr("fill", ALARM_ON)
+            .attr("fill-opacity", 0.18)
+            .end();
     }
-    let _ = write!(
-        out,
-        "<text x=\"0\" y=\"0\" font-size=\"13\" fill=\"#1a1a1a\" text-anchor=\"middle\" transform=\"translate({:.1},{:.1}) rotate(-90)\">score</text>",
-        x0 - 70.0,
-        (score_top + score_bottom) / 2.0
-    );
+    out.tag("text")
+        .attr("x", 0)
+        .attr("y", 0)
+        .attr("font-size", 13)
+        .attr("fill", "#1a1a1a")
+        .attr("text-anchor", "middle")
+        .attr(
+            "transform",
+            format_args!(
+                "translate({:.1},{:.1}) rotate(-90)",
+                x0 - 70.0,
+                (score_top + score_bottom) / 2.0
+            ),
+        )
+        .content("score");
     match score_axis(input.scores, input.threshold) {
         None => text(
             &mut out,
@@ -355,11 +396,9 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
             };
             for tick in axis_ticks {
                 if let Some(y) = y_of(tick.value) {
-                    let _ = write!(
-                        out,
-                        "<line x1=\"{:.1}\" y1=\"{y:.1}\" x2=\"{x0:.1}\" y2=\"{y:.1}\" stroke=\"#000000\"/>",
-                        x0 - 4.0
-                    );
+                    line(&mut out, (x0 - 4.0, y), (x0, y))
+                        .attr("stroke", "#000000")
+                        .end();
                     text(
                         &mut out,
                         x0 - 6.0,
@@ -415,10 +454,14 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
             if let Some(c) = column {
                 flush(&mut path, c, &mut pen_down);
             }
-            let _ = write!(
-                out,
-                "<path class=\"score-trace data\" d=\"{path}\" fill=\"none\" stroke=\"{SCORE}\" stroke-width=\"1.2\" stroke-linejoin=\"round\"/>"
-            );
+            out.tag("path")
+                .attr("class", "score-trace data")
+                .attr("d", path)
+                .attr("fill", "none")
+                .attr("stroke", SCORE)
+                .attr("stroke-width", 1.2)
+                .attr("stroke-linejoin", "round")
+                .end();
             // The threshold.
             let threshold_y = match off {
                 None => y_of(input.threshold),
@@ -426,10 +469,16 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
                 Some(false) => Some(score_bottom),
             };
             if let Some(y) = threshold_y {
-                let _ = write!(
-                    out,
-                    "<line class=\"threshold\" x1=\"{x0:.1}\" y1=\"{y:.1}\" x2=\"{x1:.1}\" y2=\"{y:.1}\" stroke=\"{THRESHOLD}\" stroke-width=\"1.6\" stroke-dasharray=\"7 4\"/>"
-                );
+                out.tag("line")
+                    .attr("class", "threshold")
+                    .px("x1", x0)
+                    .px("y1", y)
+                    .px("x2", x1)
+                    .px("y2", y)
+                    .attr("stroke", THRESHOLD)
+                    .attr("stroke-width", 1.6)
+                    .attr("stroke-dasharray", "7 4")
+                    .end();
                 text(
                     &mut out,
                     x1 + 6.0,
@@ -459,7 +508,7 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
     }
 
     // Alarm lane: condition on, the hold after each counted alarm, then the onsets.
-    let lane_label = |out: &mut String, y: f64, h: f64, label: &str| {
+    let lane_label = |out: &mut Svg, y: f64, h: f64, label: &str| {
         let mut label: String = label.chars().filter(|c| !c.is_control()).collect();
         if label.chars().count() > 13 {
             label = label.chars().take(12).collect::<String>() + "…";
@@ -506,12 +555,20 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
         }
         let (a, b) = (frame.x(mark.t_s), frame.x(mark.t_s + input.hold_s));
         let y = alarm_top + 4.0;
-        let _ = write!(
-            out,
-            "<path class=\"alarm-hold\" d=\"M{a:.1},{:.1}L{a:.1},{y:.1}L{b:.1},{y:.1}L{b:.1},{:.1}\" fill=\"none\" stroke=\"{MUTED}\" stroke-width=\"1.2\"/>",
-            y + 4.0,
-            y + 4.0
-        );
+        out.tag("path")
+            .attr("class", "alarm-hold")
+            .attr(
+                "d",
+                format_args!(
+                    "M{a:.1},{:.1}L{a:.1},{y:.1}L{b:.1},{y:.1}L{b:.1},{:.1}",
+                    y + 4.0,
+                    y + 4.0
+                ),
+            )
+            .attr("fill", "none")
+            .attr("stroke", MUTED)
+            .attr("stroke-width", 1.2)
+            .end();
     }
     let mid = alarm_top + 16.0;
     let mut label_end = f64::NEG_INFINITY;
@@ -586,24 +643,32 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
             MarkKind::Retrigger => (DETECTION, "none", 1.2),
             _ => ("#333333", "none", 1.6),
         };
-        let _ = write!(
-            out,
-            "<path class=\"{class}\" d=\"{shape}\" fill=\"{fill}\" stroke=\"{colour}\" stroke-width=\"{width}\"/>"
-        );
+        out.tag("path")
+            .attr("class", class)
+            .attr("d", shape)
+            .attr("fill", fill)
+            .attr("stroke", colour)
+            .attr("stroke-width", width)
+            .end();
         if matches!(
             mark.kind,
             MarkKind::Detection { .. } | MarkKind::FalseAlarm { .. }
         ) {
             // A guide across the score panel, so the onset can be read against the trace.
-            let _ = write!(
-                out,
-                "<line class=\"{class}-guide\" x1=\"{x:.1}\" y1=\"{score_top:.1}\" x2=\"{x:.1}\" y2=\"{score_bottom:.1}\" stroke=\"{colour}\" stroke-dasharray=\"2 3\"/>"
-            );
+            out.tag("line")
+                .attr("class", format_args!("{class}-guide"))
+                .px("x1", x)
+                .px("y1", score_top)
+                .px("x2", x)
+                .px("y2", score_bottom)
+                .attr("stroke", colour)
+                .attr("stroke-dasharray", "2 3")
+                .end();
         }
         if let Some(label) = label {
             // Right of the mark, or left of it near the right edge; never over the previous
             // label.
-            let width = echobench_report::plot::text_width(&label, 11.0);
+            let width = text_width(&label, 11.0);
             let start = if x + 9.0 + width < f64::from(WIDTH) - 10.0 {
                 x + 9.0
             } else {
@@ -652,13 +717,13 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
         } else {
             "event-detected"
         };
-        let _ = write!(
-            out,
-            "<text class=\"{class}\" x=\"{:.1}\" y=\"{:.1}\" font-size=\"11\" fill=\"{}\">{status}</text>",
-            a + 3.0,
-            event_top + f64::from(EVENT_LANE_H) - 4.0,
-            if missed { FALSE_ALARM } else { DETECTION }
-        );
+        out.tag("text")
+            .attr("class", class)
+            .px("x", a + 3.0)
+            .px("y", event_top + f64::from(EVENT_LANE_H) - 4.0)
+            .attr("font-size", 11)
+            .attr("fill", if missed { FALSE_ALARM } else { DETECTION })
+            .content(status);
     }
     for e in input.events {
         if e.end_s() < 0.0 || e.start_s() > duration_s {
@@ -742,17 +807,14 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
     }
 
     // Time axis.
-    let _ = write!(
-        out,
-        "<line x1=\"{x0:.1}\" y1=\"{axis_y:.1}\" x2=\"{x1:.1}\" y2=\"{axis_y:.1}\" stroke=\"#000000\"/>"
-    );
+    line(&mut out, (x0, axis_y), (x1, axis_y))
+        .attr("stroke", "#000000")
+        .end();
     for tick in &ticks {
         let x = frame.x(tick.value);
-        let _ = write!(
-            out,
-            "<line x1=\"{x:.1}\" y1=\"{axis_y:.1}\" x2=\"{x:.1}\" y2=\"{:.1}\" stroke=\"#000000\"/>",
-            axis_y + 4.0
-        );
+        line(&mut out, (x, axis_y), (x, axis_y + 4.0))
+            .attr("stroke", "#000000")
+            .end();
         text(
             &mut out,
             x,
@@ -777,7 +839,7 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
     for (row, entries) in legend.iter().enumerate() {
         let y = legend_y + 18.0 * row as f64;
         for entry in entries {
-            out.push_str(&legend_swatch(entry, y));
+            legend_swatch(&mut out, entry, y);
             text(
                 &mut out,
                 entry.x + 20.0,
@@ -789,8 +851,8 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
             );
         }
     }
-    out.push_str("</svg>\n");
-    Ok(out)
+    out.close("svg");
+    Ok(format!("{out}\n"))
 }
 
 /// One legend entry, placed.
@@ -802,19 +864,114 @@ struct LegendEntry {
 }
 
 /// The small drawing of a legend entry at height `y`.
-fn legend_swatch(entry: &LegendEntry, y: f64) -> String {
+fn legend_swatch(out: &mut Svg, entry: &LegendEntry, y: f64) {
     let (x, colour) = (entry.x, entry.colour);
+    fn path(out: &mut Svg, d: String) -> Tag<'_> {
+        out.tag("path").attr("d", d)
+    }
+    /// The 16 × 10 px box of a lane's legend entry.
+    fn swatch(out: &mut Svg, x: f64, y: f64) -> Tag<'_> {
+        out.tag("rect")
+            .px("x", x)
+            .px("y", y - 5.0)
+            .attr("width", 16)
+            .attr("height", 10)
+    }
     match entry.kind {
-        "line" => format!("<line x1=\"{x:.1}\" y1=\"{y:.1}\" x2=\"{:.1}\" y2=\"{y:.1}\" stroke=\"{colour}\" stroke-width=\"1.4\"/>", x + 16.0),
-        "dash" => format!("<line x1=\"{x:.1}\" y1=\"{y:.1}\" x2=\"{:.1}\" y2=\"{y:.1}\" stroke=\"{colour}\" stroke-width=\"1.6\" stroke-dasharray=\"5 3\"/>", x + 16.0),
-        "hold" => format!("<path d=\"M{x:.1},{:.1}L{x:.1},{:.1}L{:.1},{:.1}L{:.1},{:.1}\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"1.2\"/>", y + 4.0, y - 3.0, x + 16.0, y - 3.0, x + 16.0, y + 4.0),
-        "tick" => format!("<path d=\"M{:.1},{:.1}L{:.1},{:.1}\" stroke=\"{colour}\" stroke-width=\"1.6\"/>", x + 8.0, y - 6.0, x + 8.0, y + 6.0),
-        "triangle" => format!("<path d=\"M{:.1},{:.1}L{:.1},{:.1}L{:.1},{:.1}Z\" fill=\"{colour}\"/>", x + 8.0, y - 6.0, x + 2.0, y + 5.0, x + 14.0, y + 5.0),
-        "cross" => format!("<path d=\"M{:.1},{:.1}L{:.1},{:.1}M{:.1},{:.1}L{:.1},{:.1}\" stroke=\"{colour}\" stroke-width=\"2\"/>", x + 3.0, y - 5.0, x + 13.0, y + 5.0, x + 3.0, y + 5.0, x + 13.0, y - 5.0),
-        "window" => format!("<rect x=\"{x:.1}\" y=\"{:.1}\" width=\"16\" height=\"10\" fill=\"{WINDOW_FILL}\" stroke=\"{WINDOW_EDGE}\"/><rect x=\"{:.1}\" y=\"{:.1}\" width=\"8\" height=\"4\" fill=\"{colour}\"/>", y - 5.0, x + 4.0, y - 2.0),
-        "still" => format!("<rect x=\"{x:.1}\" y=\"{:.1}\" width=\"16\" height=\"10\" fill=\"{STILL_FILL}\" stroke=\"{colour}\"/>", y - 5.0),
-        "nuisance" => format!("<rect x=\"{x:.1}\" y=\"{:.1}\" width=\"16\" height=\"10\" fill=\"{NUISANCE_FILL}\" stroke=\"{colour}\"/>", y - 5.0),
-        _ => format!("<rect x=\"{x:.1}\" y=\"{:.1}\" width=\"16\" height=\"10\" fill=\"{colour}\" stroke=\"none\"/>", y - 5.0),
+        "line" => line(out, (x, y), (x + 16.0, y))
+            .attr("stroke", colour)
+            .attr("stroke-width", 1.4)
+            .end(),
+        "dash" => line(out, (x, y), (x + 16.0, y))
+            .attr("stroke", colour)
+            .attr("stroke-width", 1.6)
+            .attr("stroke-dasharray", "5 3")
+            .end(),
+        "hold" => path(
+            out,
+            format!(
+                "M{x:.1},{:.1}L{x:.1},{:.1}L{:.1},{:.1}L{:.1},{:.1}",
+                y + 4.0,
+                y - 3.0,
+                x + 16.0,
+                y - 3.0,
+                x + 16.0,
+                y + 4.0
+            ),
+        )
+        .attr("fill", "none")
+        .attr("stroke", colour)
+        .attr("stroke-width", 1.2)
+        .end(),
+        "tick" => path(
+            out,
+            format!(
+                "M{:.1},{:.1}L{:.1},{:.1}",
+                x + 8.0,
+                y - 6.0,
+                x + 8.0,
+                y + 6.0
+            ),
+        )
+        .attr("stroke", colour)
+        .attr("stroke-width", 1.6)
+        .end(),
+        "triangle" => path(
+            out,
+            format!(
+                "M{:.1},{:.1}L{:.1},{:.1}L{:.1},{:.1}Z",
+                x + 8.0,
+                y - 6.0,
+                x + 2.0,
+                y + 5.0,
+                x + 14.0,
+                y + 5.0
+            ),
+        )
+        .attr("fill", colour)
+        .end(),
+        "cross" => path(
+            out,
+            format!(
+                "M{:.1},{:.1}L{:.1},{:.1}M{:.1},{:.1}L{:.1},{:.1}",
+                x + 3.0,
+                y - 5.0,
+                x + 13.0,
+                y + 5.0,
+                x + 3.0,
+                y + 5.0,
+                x + 13.0,
+                y - 5.0
+            ),
+        )
+        .attr("stroke", colour)
+        .attr("stroke-width", 2)
+        .end(),
+        "window" => {
+            swatch(out, x, y)
+                .attr("fill", WINDOW_FILL)
+                .attr("stroke", WINDOW_EDGE)
+                .end();
+            out.tag("rect")
+                .px("x", x + 4.0)
+                .px("y", y - 2.0)
+                .attr("width", 8)
+                .attr("height", 4)
+                .attr("fill", colour)
+                .end();
+        }
+        "still" => swatch(out, x, y)
+            .attr("fill", STILL_FILL)
+            .attr("stroke", colour)
+            .end(),
+        "nuisance" => swatch(out, x, y)
+            .attr("fill", NUISANCE_FILL)
+            .attr("stroke", colour)
+            .end(),
+        _ => swatch(out, x, y)
+            .attr("fill", colour)
+            .attr("stroke", "none")
+            .end(),
     }
 }
 
@@ -835,7 +992,7 @@ fn legend_rows() -> Vec<Vec<LegendEntry>> {
     let mut rows: Vec<Vec<LegendEntry>> = vec![Vec::new()];
     let mut x = 14.0;
     for (kind, colour, label) in entries {
-        let width = 20.0 + echobench_report::plot::text_width(label, 11.0) + 16.0;
+        let width = 20.0 + text_width(label, 11.0) + 16.0;
         if x + width > f64::from(WIDTH) - 10.0 {
             rows.push(Vec::new());
             x = 14.0;
