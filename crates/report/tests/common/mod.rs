@@ -3,7 +3,9 @@
 
 #![allow(dead_code)]
 
-use echobench_core::detector::{Cost, Detector, DetectorPlugin, ParamError, ParamSpec, Params};
+use echobench_core::detector::{
+    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params,
+};
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{resolve_detectors, run_suite};
 use echobench_harness::suite_file::{load_suite_text, FolderSource};
@@ -314,9 +316,9 @@ struct Flaky {
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Flaky {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
+    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
         if block.is_empty() {
-            return;
+            return Ok(());
         }
         let fail = self.samples == 0 && block.iter().map(|&x| f64::from(x)).sum::<f64>() > 0.0;
         self.samples += block.len() as u64;
@@ -325,6 +327,7 @@ impl Detector for Flaky {
             end_sample: self.samples,
             value: if fail { f64::NAN } else { mean },
         });
+        Ok(())
     }
     fn reset(&mut self) {
         self.samples = 0;
