@@ -4,6 +4,7 @@
 pub mod events;
 pub mod gate;
 pub mod presence_summary;
+pub mod rare_events;
 pub mod rare_rates;
 pub mod runner;
 pub mod signal;

@@ -238,7 +238,7 @@ pub struct VariantTally {
     /// `crate::suite::unit_of_field`), when it has one.
     #[serde(default)]
     pub sweep_unit: Option<String>,
-    /// Target or nuisance scene.
+    /// `target`, `nuisance` (a room) or `event` (a rare event, scored per occurrence).
     pub label: String,
     /// Test trials tallied.
     pub trials: u64,
@@ -262,6 +262,16 @@ pub struct VariantTally {
     pub noise_frames: u64,
     /// Of those, frames at or above the nominal threshold.
     pub noise_frames_above_nominal: u64,
+    /// A rare event's declared occurrences per day (`None` for a room or a target scene;
+    /// its `label` is then `event`). Its trials add no exposure and no false alarms to the
+    /// counts above: each holds one occurrence, counted in `trials_alarmed` and in the
+    /// operating points' `trials`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub occurrences_per_day: Option<f64>,
+    /// A rare event: at each grid threshold, the trials (occurrences) that raised at least
+    /// one false alarm (empty otherwise).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub trials_alarmed: Vec<u64>,
     /// Presence products: the output pin at each operating point (empty otherwise).
     #[serde(default)]
     pub presence: Vec<PresenceTally>,
@@ -815,9 +825,12 @@ fn run_product(
                     sweep_number: v.sweep_number,
                     sweep_field: s.sweep_field.clone(),
                     sweep_unit: s.sweep_unit().map(str::to_string),
-                    label: match s.label {
-                        SceneLabel::Target => "target".into(),
-                        SceneLabel::Nuisance => "nuisance".into(),
+                    // A rare event is a nuisance scored per occurrence, not a room: its own
+                    // label keeps it out of every per-room table and pooled rate.
+                    label: match (s.label, s.occurrences_per_day) {
+                        (SceneLabel::Target, _) => "target".into(),
+                        (SceneLabel::Nuisance, None) => "nuisance".into(),
+                        (SceneLabel::Nuisance, Some(_)) => "event".into(),
                     },
                     trials: 0,
                     events: 0,
@@ -830,6 +843,12 @@ fn run_product(
                     max_scores: Vec::new(),
                     noise_frames: 0,
                     noise_frames_above_nominal: 0,
+                    occurrences_per_day: s.occurrences_per_day,
+                    trials_alarmed: if s.occurrences_per_day.is_some() {
+                        vec![0; grid_len]
+                    } else {
+                        Vec::new()
+                    },
                     presence: vec![PresenceTally::default(); presence_len],
                     hold_sweep: vec![vec![PresenceTally::default(); sweep_len]; presence_len],
                     pinned_presence: vec![PresenceTally::default(); pinned_presence_len],
@@ -1636,20 +1655,28 @@ fn tally_trial(
 ) {
     v.trials += 1;
     v.events += truth.events().len() as u64;
-    v.exposure_ns += ns(truth.exposure_s());
+    // A rare event's trial is one occurrence, not noise-only time of a room.
+    let steady = v.occurrences_per_day.is_none();
+    if steady {
+        v.exposure_ns += ns(truth.exposure_s());
+    }
     let results = score_thresholds(scores, truth, logic, thresholds);
     for (g, r) in results.iter().enumerate() {
         v.detected[g] += r.events_detected() as u64;
-        v.false_alarms[g] += r.false_alarms() as u64;
         v.retriggers[g] += r.retriggers as u64;
+        if steady {
+            v.false_alarms[g] += r.false_alarms() as u64;
+        } else if r.false_alarms() > 0 {
+            v.trials_alarmed[g] += 1;
+        }
     }
     for (o, &g) in operating.iter().enumerate() {
-        tally_operating(&mut v.operating[o], &results[g], trial, trial_index);
+        tally_operating(&mut v.operating[o], &results[g], trial, trial_index, steady);
     }
     if !pinned.is_empty() {
         let pinned_results = score_thresholds(scores, truth, logic, pinned);
         for (op, r) in v.pinned.iter_mut().zip(&pinned_results) {
-            tally_operating(op, r, trial, trial_index);
+            tally_operating(op, r, trial, trial_index, steady);
         }
     }
     let max = scores
@@ -1700,26 +1727,31 @@ fn tally_presence(
     Ok(())
 }
 
+/// Adds one trial's scoring at one threshold; `steady` is false for a rare event's
+/// occurrence, whose false alarms are kept per trial only (they are not a rate per hour).
 fn tally_operating(
     op: &mut OperatingTally,
     r: &crate::events::TrialEventScore,
     trial: &TrialOutput,
     trial_index: u64,
+    steady: bool,
 ) {
     op.detected += r.events_detected() as u64;
-    op.false_alarms += r.false_alarms() as u64;
-    op.stuck_recounts += r.stuck_recounts as u64;
-    op.false_on_ns += r.false_on_ns;
     op.latencies_ms
         .extend(r.latencies_s().iter().map(|l| (l * 1e3).round() as i64));
-    for sources in
-        crate::events::attribute_false_alarms(&r.false_alarm_times_s, &trial.nuisances, 0.0)
-    {
-        if sources.is_empty() {
-            *op.false_alarms_by_source.entry("none".into()).or_default() += 1;
-        }
-        for source in sources {
-            *op.false_alarms_by_source.entry(source).or_default() += 1;
+    if steady {
+        op.false_alarms += r.false_alarms() as u64;
+        op.stuck_recounts += r.stuck_recounts as u64;
+        op.false_on_ns += r.false_on_ns;
+        for sources in
+            crate::events::attribute_false_alarms(&r.false_alarm_times_s, &trial.nuisances, 0.0)
+        {
+            if sources.is_empty() {
+                *op.false_alarms_by_source.entry("none".into()).or_default() += 1;
+            }
+            for source in sources {
+                *op.false_alarms_by_source.entry(source).or_default() += 1;
+            }
         }
     }
     op.trials.push(TrialOutcome {
@@ -1755,6 +1787,9 @@ pub fn merge_detector(into: &mut DetectorTally, other: DetectorTally) {
             *x += y;
         }
         for (x, y) in a.false_alarms.iter_mut().zip(&b.false_alarms) {
+            *x += y;
+        }
+        for (x, y) in a.trials_alarmed.iter_mut().zip(&b.trials_alarmed) {
             *x += y;
         }
         for (x, y) in a.retriggers.iter_mut().zip(&b.retriggers) {

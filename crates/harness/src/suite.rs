@@ -186,6 +186,10 @@ pub struct SuiteScene {
     /// Recorded signal in place of synthesis, when the entry has `capture` (the scene then
     /// describes the module and, with a mix level, what is added to the recording).
     pub capture: Option<CaptureSource>,
+    /// A rare event (`occurrences_per_day` in the suite): each test trial holds one
+    /// occurrence, scored for whether it raises a false alarm; the scene has no calibration
+    /// trials and no part in the steady false-alarm rate.
+    pub occurrences_per_day: Option<f64>,
 }
 
 impl SuiteScene {

@@ -752,6 +752,10 @@ fn read_products(
 /// still apply to the whole workload).
 const MAX_CALIBRATION_HOURS: f64 = 10_000.0;
 
+/// Most occurrences per day a rare event may declare: one a second. More often than that it
+/// is not rare but steady, and belongs in a room's noise.
+const MAX_OCCURRENCES_PER_DAY: f64 = 86_400.0;
+
 /// Most budgets (operating points) and hold times of a presence product.
 const MAX_PRESENCE_POINTS: usize = 8;
 const MAX_HOLD_SWEEP: usize = 32;
@@ -901,6 +905,20 @@ fn check_products(
                     format!(
                         "scene id `{}` is used in product `{}` and in product `{}`; ids must be unique in a suite, as they seed the trials",
                         scene.id, other.product, product.name
+                    ),
+                ));
+                ok = false;
+            }
+        }
+        if product.kind.presence().is_some() {
+            if let Some(event) = scenes.iter().find(|s| s.occurrences_per_day.is_some()) {
+                report.problems.push(error(
+                    suite_file,
+                    location,
+                    "scenes".into(),
+                    format!(
+                        "scene `{}` of presence product `{}` is a rare event (`occurrences_per_day`): rare events are scored on alarms, for intrusion products only so far",
+                        event.id, product.name
                     ),
                 ));
                 ok = false;
@@ -1095,6 +1113,34 @@ fn read_scene_entry(
             );
         }
     }
+    // A rare event (a door swinging, air conditioning starting): each trial holds one
+    // occurrence, and the event's rate of false alarms is its occurrences per day times the
+    // fraction of occurrences that raise one. Its trials are not noise-only time of a room,
+    // so it has no calibration trials and no part in the threshold or the steady rate.
+    let occurrences_per_day: Option<f64> = f.optional("occurrences_per_day");
+    if let Some(rate) = occurrences_per_day {
+        if !(rate > 0.0 && rate <= MAX_OCCURRENCES_PER_DAY) {
+            f.error_at(
+                "occurrences_per_day",
+                format!("must be > 0 and at most {MAX_OCCURRENCES_PER_DAY} per day, found {rate}"),
+            );
+        } else if label == Some(SceneLabel::Target) {
+            f.error_at(
+                "occurrences_per_day",
+                "only a nuisance scene can be a rare event (a target scene is scored for detection)",
+            );
+        } else if calibration_override.is_some() || calibration_hours.is_some() {
+            f.error_at(
+                "occurrences_per_day",
+                "a rare event is not a calibration room: drop `calibration_trials` and `calibration_hours`",
+            );
+        } else if capture_node.is_some() {
+            f.error_at(
+                "occurrences_per_day",
+                "a rare event is synthesized, one occurrence per trial; a recording cannot be one",
+            );
+        }
+    }
     for (key, count) in [
         ("trials", trials_override),
         ("calibration_trials", calibration_override),
@@ -1245,10 +1291,12 @@ fn read_scene_entry(
         Some(c) => (c.test.len() as u64, c.calibration.len() as u64),
         None => (
             trials.unwrap_or(1),
-            match calibration_hours {
+            match (calibration_hours, occurrences_per_day) {
+                // A rare event's occurrences are scored on test trials only.
+                (_, Some(_)) => 0,
                 // Whole trials covering at least the hours asked for.
-                Some(hours) => (hours * 3600.0 / first.duration_s).ceil().max(1.0) as u64,
-                None => calibration_trials.unwrap_or(1),
+                (Some(hours), None) => (hours * 3600.0 / first.duration_s).ceil().max(1.0) as u64,
+                (None, None) => calibration_trials.unwrap_or(1),
             },
         ),
     };
@@ -1264,6 +1312,7 @@ fn read_scene_entry(
             sweep_field: sweep.map(|s| s.field),
             variants,
             capture,
+            occurrences_per_day,
         },
         id_location,
     ))

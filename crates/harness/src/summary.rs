@@ -166,6 +166,10 @@ pub struct OperatingSummary {
     pub false_alarms_by_source: BTreeMap<String, u64>,
     /// Per scene variant.
     pub by_scene: Vec<SceneOutcome>,
+    /// The product's rare events at this threshold and its rate with them (absent when the
+    /// suite declares none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rare_events: Option<crate::rare_events::RareEvents>,
 }
 
 /// The closed-form operating point of a CFAR-type detector against the measured rate.
@@ -296,6 +300,9 @@ pub struct ProductSummary {
     pub target_scenes: Vec<String>,
     /// Nuisance scene variants (rooms).
     pub nuisance_scenes: Vec<String>,
+    /// Its rare events (nuisance scenes with `occurrences_per_day`), not among the rooms.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub rare_events: Vec<String>,
 }
 
 /// The cautions printed with every result.
@@ -392,6 +399,9 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
                 stuck += v.operating[o].stuck_recounts;
                 false_on_ns += v.operating[o].false_on_ns;
             }
+            let outcome = outcome(events, detected, false_alarms, exposure_ns);
+            let rare_events =
+                crate::rare_events::at_operating_point(d, o, &outcome.false_alarms_per_hour);
             OperatingSummary {
                 target_false_alarms_per_hour: op.target_per_hour,
                 threshold: op.threshold,
@@ -403,12 +413,13 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
                 resolved,
                 stuck_recounts: stuck,
                 false_on_hours: false_on_ns as f64 / 3.6e12,
-                outcome: outcome(events, detected, false_alarms, exposure_ns),
+                outcome,
                 latency_median_s: median,
                 latency_median_interval_s: interval,
                 latency_p90_s: p90,
                 false_alarms_by_source: by_source,
                 by_scene,
+                rare_events,
             }
         })
         .collect();
@@ -656,10 +667,10 @@ fn summarise_product(product: &crate::suite::Product, suite: &Suite) -> ProductS
         .filter(|s| s.product == product.name)
         .collect();
     let sensor = scenes.first().map(|s| &s.variants[0].scene.sensor);
-    let rooms = |label: crate::suite::SceneLabel| {
+    let rooms = |label: crate::suite::SceneLabel, event: bool| {
         scenes
             .iter()
-            .filter(|s| s.label == label)
+            .filter(|s| s.label == label && s.occurrences_per_day.is_some() == event)
             .flat_map(|s| {
                 s.variants
                     .iter()
@@ -678,8 +689,9 @@ fn summarise_product(product: &crate::suite::Product, suite: &Suite) -> ProductS
             _ => "real".into(),
         },
         threshold_rule: suite.scoring.threshold_rule.name().into(),
-        target_scenes: rooms(crate::suite::SceneLabel::Target),
-        nuisance_scenes: rooms(crate::suite::SceneLabel::Nuisance),
+        target_scenes: rooms(crate::suite::SceneLabel::Target, false),
+        nuisance_scenes: rooms(crate::suite::SceneLabel::Nuisance, false),
+        rare_events: rooms(crate::suite::SceneLabel::Nuisance, true),
     }
 }
 
@@ -1191,6 +1203,7 @@ fn product_block(
         out.push_str(&grid_table("room", &names, &false_alarms));
     }
     out.push_str(&calibration_notes(detectors, &rates));
+    out.push_str(&crate::rare_events::console_block(detectors, &label0));
     out.push_str(&crate::rare_rates::console_block(detectors));
     for d in detectors {
         if let Some(n) = &d.nominal {
