@@ -430,8 +430,10 @@ impl<'a> Part<'a> {
     }
 
     /// The product's name as page text: in code type, escaped.
-    pub(crate) fn name_html(&self) -> String {
-        format!("<code>{}</code>", escape(self.name))
+    pub(crate) fn name_html(&self) -> Html {
+        let mut h = Html::new();
+        h.element("code", &[], self.name);
+        h
     }
 }
 
@@ -498,9 +500,12 @@ fn run_targets(run: &RunFolder) -> Vec<f64> {
 
 fn header(run: &RunFolder) -> String {
     let s = &run.summary;
-    let mut facts: Vec<(&str, String)> = Vec::new();
-    facts.push(("suite", format!("<code>{}</code>", escape(&s.suite))));
-    facts.push(("seed", s.seed.to_string()));
+    // Each fact's value is built as HTML: text escaped, markup only as written here.
+    let mut facts: Vec<(&str, Html)> = Vec::new();
+    let mut suite = Html::new();
+    suite.element("code", &[], &s.suite);
+    facts.push(("suite", suite));
+    facts.push(("seed", Html::from_text(&s.seed.to_string())));
     let (mut target_trials, mut nuisance_trials, mut events, mut exposure_ns) = (0, 0, 0, 0);
     // Each product's trials are counted once, through its first detector.
     for part in parts(run) {
@@ -519,19 +524,19 @@ fn header(run: &RunFolder) -> String {
     }
     facts.push((
         "test trials",
-        format!(
+        Html::from_text(&format!(
             "{} ({target_trials} in target scenes, {nuisance_trials} in nuisance scenes)",
             s.test_trials
-        ),
+        )),
     ));
     facts.push((
         "test signal",
-        format!(
+        Html::from_text(&format!(
             "{} h ({} min); {} h of it noise-only (outside every event window); {events} target events",
             format_number(s.test_signal_hours, 3),
             format_number(s.test_signal_hours * 60.0, 3),
             format_number(exposure_ns as f64 / 3.6e12, 3)
-        ),
+        )),
     ));
     let m_of_n = s.m_of_n.map_or_else(
         || "one frame at or above the threshold".to_string(),
@@ -539,14 +544,14 @@ fn header(run: &RunFolder) -> String {
     );
     facts.push((
         "alarm logic",
-        escape(&format!(
+        Html::from_text(&format!(
             "alarm when score ≥ threshold, {m_of_n}; hold {} s after each counted alarm (not retriggerable)",
             format_number(s.hold_s, 3)
         )),
     ));
     facts.push((
         "event matching",
-        escape(&format!(
+        Html::from_text(&format!(
             "an alarm from {} s before an event's start to {} s after its end detects it",
             format_number(s.event_tolerance_s.0, 3),
             format_number(s.event_tolerance_s.1, 3)
@@ -555,40 +560,42 @@ fn header(run: &RunFolder) -> String {
     let rates: Vec<String> = run_targets(run).into_iter().map(fmt_target).collect();
     facts.push((
         "target false-alarm rates",
-        escape(&if rates.is_empty() {
+        Html::from_text(&if rates.is_empty() {
             "none".to_string()
         } else {
             rates.join(", ")
         }),
     ));
-    let products: Vec<String> = parts(run)
-        .iter()
-        .map(|p| format!("<a href=\"#{}\">{}</a>", p.id("product"), p.name_html()))
-        .collect();
-    facts.push((
-        "products",
-        format!(
-            "{} ({}); each is one sensor module with its own scenes, calibrated and ranked on its own",
-            products.len(),
-            products.join(", ")
-        ),
-    ));
-    facts.push((
-        "calibration",
-        "per product: thresholds chosen on that product's calibration trials (own seeds), then scored on its test trials".to_string(),
-    ));
+    let mut products = Html::new();
+    let all = parts(run);
+    products.text(&format!("{} (", all.len()));
+    for (k, p) in all.iter().enumerate() {
+        if k > 0 {
+            products.raw(", ");
+        }
+        products
+            .open("a", &[("href", &format!("#{}", p.id("product")))])
+            .push(&p.name_html())
+            .close("a");
+    }
+    products
+        .raw("); each is one sensor module with its own scenes, calibrated and ranked on its own");
+    facts.push(("products", products));
+    let mut calibration = Html::new();
+    calibration.raw("per product: thresholds chosen on that product's calibration trials (own seeds), then scored on its test trials");
+    facts.push(("calibration", calibration));
     if let Some(budget) = s.false_alarm_budget_per_hour {
         facts.push((
             "false-alarm budget",
-            format!("{}/h (for the gate)", format_number(budget, 3)),
+            Html::from_text(&format!("{}/h (for the gate)", format_number(budget, 3))),
         ));
     }
     facts.push((
         "intervals",
-        format!(
+        Html::from_text(&format!(
             "{} two-sided: Wilson for proportions, exact Poisson (Garwood) for rates, Clopper–Pearson for per-frame Pfa, order statistics for medians",
             data::confidence_percent()
-        ),
+        )),
     ));
     if !run.tallies.shards.is_empty() {
         let shards: Vec<String> = run
@@ -597,23 +604,26 @@ fn header(run: &RunFolder) -> String {
             .iter()
             .map(|sh| format!("{}/{}", sh.index, sh.count))
             .collect();
-        facts.push((
-            "shards",
-            format!(
-                "<span class=\"bad\">partial run: shards {} only</span>",
-                shards.join(", ")
-            ),
-        ));
+        let mut partial = Html::new();
+        partial.element(
+            "span",
+            &[("class", "bad")],
+            &format!("partial run: shards {} only", shards.join(", ")),
+        );
+        facts.push(("shards", partial));
     }
-    let mut out = format!(
-        "<header><h1>echobench report: suite <code>{}</code></h1><dl class=\"facts\">",
-        escape(&s.suite)
-    );
+    let mut out = Html::new();
+    out.raw("<header><h1>echobench report: suite ")
+        .element("code", &[], &s.suite)
+        .raw("</h1><dl class=\"facts\">");
     for (k, v) in facts {
-        let _ = write!(out, "<dt>{}</dt><dd>{v}</dd>", escape(k));
+        out.element("dt", &[], k)
+            .open("dd", &[])
+            .push(&v)
+            .close("dd");
     }
-    out.push_str("</dl></header>");
-    out
+    out.raw("</dl></header>");
+    out.into_string()
 }
 
 /// Cautions particular to this run, in words.
@@ -682,20 +692,18 @@ fn run_cautions(run: &RunFolder, baseline: Option<&RunFolder>) -> Vec<String> {
 }
 
 fn cautions(run: &RunFolder, baseline: Option<&RunFolder>) -> String {
-    let mut out = String::from("<aside class=\"cautions\" id=\"cautions\"><div><h2>Cautions</h2>");
-    let _ = write!(
-        out,
-        "<p><strong>{}</strong></p><ul>",
-        escape(&run.summary.cautions)
-    );
+    let mut out = Html::new();
+    out.raw("<aside class=\"cautions\" id=\"cautions\"><div><h2>Cautions</h2><p>")
+        .element("strong", &[], &run.summary.cautions)
+        .raw("</p><ul>");
     for c in FIXED_CAUTIONS {
-        let _ = write!(out, "<li>{}</li>", escape(c));
+        out.element("li", &[], c);
     }
     for c in run_cautions(run, baseline) {
-        let _ = write!(out, "<li class=\"bad\">{}</li>", escape(&c));
+        out.element("li", &[("class", "bad")], &c);
     }
-    out.push_str("</ul></div></aside>");
-    out
+    out.raw("</ul></div></aside>");
+    out.into_string()
 }
 
 /// Why a detector cannot be ranked at a target, or `None` when it meets it.
@@ -1628,10 +1636,12 @@ fn parameters(part: &Part) -> String {
 }
 
 fn suite_text(run: &RunFolder) -> String {
+    let mut out = Html::new();
     match &run.suite_text {
-        Some(text) => format!("<pre>{}</pre>", escape(text)),
-        None => "<p class=\"note\">This folder has no <code>suite.yaml</code>.</p>".into(),
-    }
+        Some(text) => out.element("pre", &[], text),
+        None => out.raw("<p class=\"note\">This folder has no <code>suite.yaml</code>.</p>"),
+    };
+    out.into_string()
 }
 
 fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> String {

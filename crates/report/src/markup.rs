@@ -96,6 +96,13 @@ impl Html {
     }
 }
 
+/// Writes the HTML as built (already escaped where it holds text).
+impl std::fmt::Display for Html {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.0)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
