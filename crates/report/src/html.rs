@@ -319,11 +319,26 @@ pub(crate) fn detector_cell(index: usize, label: &str) -> Html {
     h
 }
 
-fn swatch(index: usize) -> String {
-    format!(
-        "<span class=\"swatch\" style=\"background:{}\"></span>",
-        PALETTE[index % PALETTE.len()]
-    )
+/// A list item: a detector's swatch and name in bold, then why.
+fn listed(index: usize, label: &str, why: &str) -> Html {
+    let mut h = Html::new();
+    h.open("li", &[])
+        .open(
+            "span",
+            &[
+                ("class", "swatch"),
+                (
+                    "style",
+                    &format!("background:{}", PALETTE[index % PALETTE.len()]),
+                ),
+            ],
+        )
+        .close("span")
+        .element("strong", &[], label)
+        .text(": ")
+        .text(why)
+        .close("li");
+    h
 }
 
 /// A table: headings as text, cells as HTML built with [`Html`] (so a cell's text is escaped
@@ -754,7 +769,9 @@ fn ranking(part: &Part) -> String {
         return out;
     }
     for (o, target) in targets.iter().enumerate() {
-        let _ = write!(out, "<h4>Target {}</h4>", escape(&fmt_target(*target)));
+        let mut h = Html::new();
+        h.element("h4", &[], &format!("Target {}", fmt_target(*target)));
+        out.push_str(&h.into_string());
         let mut meets: Vec<(usize, &DetectorSummary, &OperatingSummary)> = Vec::new();
         let mut fails: Vec<(usize, &DetectorSummary, &OperatingSummary, String)> = Vec::new();
         for (i, d) in part.summaries().enumerate() {
@@ -850,26 +867,14 @@ fn ranking(part: &Part) -> String {
                         fmt_estimate(&op.outcome.false_alarms_per_hour, 3)
                     )
                 };
-                let _ = write!(
-                    out,
-                    "<li>{}<strong>{}</strong>: {}</li>",
-                    swatch(*i),
-                    escape(&d.label),
-                    escape(&why)
-                );
+                out.push_str(&listed(*i, &d.label, &why).into_string());
             }
             out.push_str("</ul>");
         }
         if !fails.is_empty() {
             out.push_str("<p>Do not meet it:</p><ul>");
             for (i, d, _, why) in &fails {
-                let _ = write!(
-                    out,
-                    "<li>{}<strong>{}</strong>: {}</li>",
-                    swatch(*i),
-                    escape(&d.label),
-                    escape(why)
-                );
+                out.push_str(&listed(*i, &d.label, why).into_string());
             }
             out.push_str("</ul>");
         }
@@ -1059,11 +1064,16 @@ fn trial_roc(page: &mut Page, part: &Part) -> String {
         &rows,
     ));
     if !missing.is_empty() {
-        let _ = write!(
-            out,
-            "<p class=\"note\">No trial-level ROC for: {} (a class of trials is missing).</p>",
-            escape(&missing.join(", "))
+        let mut note = Html::new();
+        note.element(
+            "p",
+            &[("class", "note")],
+            &format!(
+                "No trial-level ROC for: {} (a class of trials is missing).",
+                missing.join(", ")
+            ),
         );
+        out.push_str(&note.into_string());
     }
     out
 }
@@ -1511,11 +1521,13 @@ fn nominal(part: &Part) -> Option<String> {
                 verdict,
             ],
         ));
-        let _ = write!(
-            details,
-            "<details><summary>{}: measured per-frame Pfa by scene</summary>",
-            escape(&d.label)
+        let mut summary = Html::new();
+        summary.raw("<details>").element(
+            "summary",
+            &[],
+            &format!("{}: measured per-frame Pfa by scene", d.label),
         );
+        details.push_str(&summary.into_string());
         let scene_rows: Vec<(&'static str, Vec<Html>)> = n
             .by_scene
             .iter()
@@ -1603,7 +1615,9 @@ fn failures(part: &Part) -> Option<String> {
         &rows,
     ));
     if !more.is_empty() {
-        let _ = write!(out, "<p class=\"note\">{}</p>", escape(&more.join("; ")));
+        let mut note = Html::new();
+        note.element("p", &[("class", "note")], &more.join("; "));
+        out.push_str(&note.into_string());
     }
     Some(out)
 }
@@ -1730,7 +1744,9 @@ fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> St
                 )
             })
             .collect();
-        let _ = write!(out, "<h4>At target {}</h4>", escape(&fmt_target(*target)));
+        let mut h = Html::new();
+        h.element("h4", &[], &format!("At target {}", fmt_target(*target)));
+        out.push_str(&h.into_string());
         out.push_str(&table(
             &[
                 "detector",
@@ -1762,18 +1778,22 @@ fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> St
         .map(|b| b.label.as_str())
         .collect();
     if !only_here.is_empty() {
-        let _ = write!(
-            out,
-            "<p class=\"note\">Only in this run: {}.</p>",
-            escape(&only_here.join(", "))
+        let mut note = Html::new();
+        note.element(
+            "p",
+            &[("class", "note")],
+            &format!("Only in this run: {}.", only_here.join(", ")),
         );
+        out.push_str(&note.into_string());
     }
     if !only_there.is_empty() {
-        let _ = write!(
-            out,
-            "<p class=\"note\">Only in the baseline: {}.</p>",
-            escape(&only_there.join(", "))
+        let mut note = Html::new();
+        note.element(
+            "p",
+            &[("class", "note")],
+            &format!("Only in the baseline: {}.", only_there.join(", ")),
         );
+        out.push_str(&note.into_string());
     }
     let _ = write!(
         out,
@@ -1998,75 +2018,72 @@ pub fn render_html(run: &RunFolder, baseline: Option<&RunFolder>, extra: &[Secti
         product_parts.push((part, product_part::heading(part), entries));
     }
 
-    let mut out = String::with_capacity(256 * 1024);
-    let _ = write!(
-        out,
-        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"><title>echobench report: {}</title><script>{ERROR_CAPTURE}</script><style>{CSS}</style></head><body>",
-        escape(&run.summary.suite)
-    );
-    out.push_str(&header(run));
-    out.push_str(&cautions(run, baseline));
-    out.push_str("<nav class=\"toc\"><strong>Contents</strong><ol>");
+    // The page: its own markup written here, every title and name escaped by `Html`, and
+    // the sections' bodies (built by this crate, or handed in by the caller as HTML) as they
+    // are.
+    let mut page = Html::new();
+    page.raw("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">")
+        .element("title", &[], &format!("echobench report: {}", run.summary.suite))
+        .raw("<script>")
+        .raw(ERROR_CAPTURE)
+        .raw("</script><style>")
+        .raw(CSS)
+        .raw("</style></head><body>")
+        .push(&Html::raw_html(header(run)))
+        .push(&Html::raw_html(cautions(run, baseline)))
+        .raw("<nav class=\"toc\"><strong>Contents</strong><ol>");
+    let link = |page: &mut Html, id: &str, title: &str| {
+        page.open("li", &[])
+            .element("a", &[("href", &format!("#{id}"))], title)
+            .close("li");
+    };
     for entry in &top {
-        let _ = write!(
-            out,
-            "<li><a href=\"#{}\">{}</a></li>",
-            entry.id,
-            escape(&entry.title)
-        );
+        link(&mut page, &entry.id, &entry.title);
     }
     for (part, _, entries) in &product_parts {
-        let _ = write!(
-            out,
-            "<li><a href=\"#{}\">Product {}</a><ol>",
-            part.id("product"),
-            part.name_html()
-        );
+        page.open("li", &[])
+            .open("a", &[("href", &format!("#{}", part.id("product")))])
+            .raw("Product ")
+            .push(&part.name_html())
+            .close("a")
+            .open("ol", &[]);
         for entry in entries {
-            let _ = write!(
-                out,
-                "<li><a href=\"#{}\">{}</a></li>",
-                entry.id,
-                escape(&entry.title)
-            );
+            link(&mut page, &entry.id, &entry.title);
         }
-        out.push_str("</ol></li>");
+        page.raw("</ol></li>");
     }
-    out.push_str("<li><a href=\"#suite\">The suite</a></li></ol></nav><main>");
+    page.raw("<li><a href=\"#suite\">The suite</a></li></ol></nav><main>");
     for entry in &top {
-        let _ = write!(
-            out,
-            "<section id=\"{}\"><h2>{}</h2>{}</section>",
-            entry.id,
-            escape(&entry.title),
-            entry.html
-        );
+        page.open("section", &[("id", &entry.id)])
+            .element("h2", &[], &entry.title)
+            .push(&Html::raw_html(entry.html.clone()))
+            .close("section");
     }
     for (part, heading, entries) in &product_parts {
-        let _ = write!(
-            out,
-            "<section class=\"product\" id=\"{}\" data-product=\"{}\"><h2>Product {}</h2>{}",
-            part.id("product"),
-            escape(part.name),
-            part.name_html(),
-            heading.clone().into_string()
-        );
+        page.open(
+            "section",
+            &[
+                ("class", "product"),
+                ("id", &part.id("product")),
+                ("data-product", part.name),
+            ],
+        )
+        .raw("<h2>Product ")
+        .push(&part.name_html())
+        .raw("</h2>")
+        .push(heading);
         for entry in entries {
-            let _ = write!(
-                out,
-                "<section id=\"{}\"><h3>{}</h3>{}</section>",
-                entry.id,
-                escape(&entry.title),
-                entry.html
-            );
+            page.open("section", &[("id", &entry.id)])
+                .element("h3", &[], &entry.title)
+                .push(&Html::raw_html(entry.html.clone()))
+                .close("section");
         }
-        out.push_str("</section>");
+        page.raw("</section>");
     }
-    let _ = write!(
-        out,
-        "<section id=\"suite\"><h2>The suite</h2>{}</section>",
-        suite_text(run)
-    );
+    page.raw("<section id=\"suite\"><h2>The suite</h2>")
+        .push(&Html::raw_html(suite_text(run)))
+        .raw("</section>");
+    let mut out = page.into_string();
     out.push_str("</main><script>");
     out.push_str(SELF_CHECK);
     out.push_str("</script></body></html>\n");
