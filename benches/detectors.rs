@@ -11,7 +11,7 @@
 //! `cargo run -p echobench-benches --example detector_costs --release` turns
 //! the results into the README table.
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
-use echobench_core::detector::{check_scores, Params};
+use echobench_core::detector::{check_scores, Params, Samples};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -102,7 +102,7 @@ fn detectors(c: &mut Criterion) {
             let mut scores: Vec<FrameScore> = Vec::with_capacity(input.len());
             // One checked pass first: the timed work must produce valid scores.
             for block in input.chunks(BLOCK_LEN) {
-                if let Err(failure) = detector.process(block, &mut scores) {
+                if let Err(failure) = detector.process(Samples::Real(block), &mut scores) {
                     panic!("{}: {failure}", plugin.id());
                 }
             }
@@ -124,7 +124,7 @@ fn detectors(c: &mut Criterion) {
                     scores.clear();
                     for block in input.chunks(BLOCK_LEN) {
                         // Checked in the pass above: in-process detectors do not fail.
-                        let _ = detector.process(black_box(block), &mut scores);
+                        let _ = detector.process(Samples::Real(black_box(block)), &mut scores);
                     }
                     black_box(scores.len())
                 })

@@ -2,8 +2,8 @@
 //!
 //! A detector that keeps the contract of [`crate::detector`] can be scored by
 //! the harness on any stream, split into blocks however its owner likes. The
-//! rules are easy to state and easy to break by accident (a block that ends
-//! in the middle of an I/Q pair, a counter that `reset` forgets), so they are
+//! rules are easy to state and easy to break by accident (an I/Q block read
+//! two pairs at a time, a counter that `reset` forgets), so they are
 //! checked here once, the same way for every plugin, built-in or not:
 //!
 //! ```
@@ -27,7 +27,7 @@
 //! documented way and keep scoring (every built-in counts them as 0) or report
 //! a failure (`process` returns a `DetectorFailure`), which the harness records for that trial.
 
-use crate::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params};
+use crate::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params, Samples};
 use crate::seed::mix64;
 use crate::{Channels, StreamInfo};
 use std::fmt;
@@ -54,7 +54,8 @@ pub enum Rule {
     Runs,
     /// Blocks of 1, 7, mixed odd sizes and one big block give bit-identical scores.
     BlockSizeInvariance,
-    /// I/Q streams: blocks that end inside an I/Q pair give the same scores as whole pairs.
+    /// I/Q streams: blocks of odd numbers of pairs give the same scores as one block (a
+    /// typed block cannot split a pair, but a detector can still read pairs two at a time).
     OddIqBlocks,
     /// A detector reset after other input repeats a fresh detector's scores.
     Reset,
@@ -237,10 +238,10 @@ pub fn check_for(
             );
         }
         if info.channels == Channels::Iq {
-            // Blocks of odd value counts, so that every other block ends between I and Q.
-            for sizes in [&[1][..], &[3], &[7, 2, 5]] {
-                let split = Split::Cycle(sizes.to_vec());
-                let label = format!("blocks of {sizes:?} values (I/Q pairs split)");
+            // Blocks of odd numbers of pairs, mixed with even ones.
+            for sizes in [&[3][..], &[5, 2, 9], &[2, 2, 1]] {
+                let split = Split::Cycle(sizes.iter().map(|n| 2 * n).collect());
+                let label = format!("blocks of {sizes:?} I/Q pairs");
                 compare(
                     &fresh,
                     info,
@@ -415,7 +416,9 @@ fn feed(detector: &mut dyn Detector, samples: &[f32], split: Split, info: &Strea
         let end = (at + size.max(1)).min(samples.len());
         let before = out.len();
         match catch_unwind(AssertUnwindSafe(|| {
-            detector.process(&samples[at..end], &mut out)
+            let block = Samples::from_values(&samples[at..end], info.channels)
+                .expect("the kit cuts I/Q streams between pairs");
+            detector.process(block, &mut out)
         })) {
             Err(p) => {
                 return Fed::Panicked(format!(
@@ -500,8 +503,8 @@ pub mod tests_support {
     use crate::detector::{
         Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
     };
-    use crate::detector::{DetectorFailure, FrameScore};
-    use crate::{Channels, StreamInfo};
+    use crate::detector::{DetectorFailure, FrameScore, IqSample, Samples};
+    use crate::StreamInfo;
 
     static PARAMS: [ParamSpec; 1] = [ParamSpec {
         name: "frame_len",
@@ -519,8 +522,9 @@ pub mod tests_support {
     pub enum Flaw {
         /// None: keeps the contract.
         None,
-        /// Reads each block as whole I/Q pairs, dropping a trailing half pair.
-        SplitsIqPairs,
+        /// Reads I/Q blocks two pairs at a time (as a half-band decimator
+        /// would), dropping the odd pair at the end of a block.
+        DropsOddPair,
         /// `reset` does nothing.
         KeepsStateAcrossReset,
     }
@@ -572,11 +576,9 @@ pub mod tests_support {
             Ok(Box::new(MeanDetector {
                 flaw: self.0,
                 frame_len: params.integer("frame_len") as u64,
-                channels: info.channels,
                 sum: 0.0,
                 in_frame: 0,
                 consumed: 0,
-                half: None,
             }))
         }
         fn cost(&self, _params: &Params, _info: &StreamInfo) -> Result<Cost, ParamError> {
@@ -590,11 +592,9 @@ pub mod tests_support {
     struct MeanDetector {
         flaw: Flaw,
         frame_len: u64,
-        channels: Channels,
         sum: f64,
         in_frame: u64,
         consumed: u64,
-        half: Option<f32>,
     }
 
     impl MeanDetector {
@@ -616,25 +616,20 @@ pub mod tests_support {
     impl Detector for MeanDetector {
         fn process(
             &mut self,
-            block: &[f32],
+            block: Samples<'_>,
             out: &mut Vec<FrameScore>,
         ) -> Result<(), DetectorFailure> {
             let sq = |x: f32| f64::from(x) * f64::from(x);
-            match self.channels {
-                Channels::Real => block.iter().for_each(|&x| self.instant(sq(x), out)),
-                Channels::Iq if self.flaw == Flaw::SplitsIqPairs => {
-                    for pair in block.chunks_exact(2) {
-                        self.instant(sq(pair[0]) + sq(pair[1]), out);
+            let power = |[i, q]: IqSample| sq(i) + sq(q);
+            match block {
+                Samples::Real(x) => x.iter().for_each(|&x| self.instant(sq(x), out)),
+                Samples::Iq(pairs) if self.flaw == Flaw::DropsOddPair => {
+                    for two in pairs.chunks_exact(2) {
+                        self.instant(power(two[0]), out);
+                        self.instant(power(two[1]), out);
                     }
                 }
-                Channels::Iq => {
-                    for &x in block {
-                        match self.half.take() {
-                            None => self.half = Some(x),
-                            Some(i) => self.instant(sq(i) + sq(x), out),
-                        }
-                    }
-                }
+                Samples::Iq(pairs) => pairs.iter().for_each(|&p| self.instant(power(p), out)),
             }
             Ok(())
         }
@@ -644,7 +639,6 @@ pub mod tests_support {
                 self.sum = 0.0;
                 self.in_frame = 0;
                 self.consumed = 0;
-                self.half = None;
             }
         }
     }
@@ -680,22 +674,24 @@ mod tests {
     }
 
     #[test]
-    fn a_detector_that_splits_iq_pairs_fails_the_odd_block_rule() {
-        let plugin = FlawedPlugin(Flaw::SplitsIqPairs);
+    fn a_detector_that_drops_an_odd_iq_pair_fails_the_odd_block_rule() {
+        let plugin = FlawedPlugin(Flaw::DropsOddPair);
         let params = Params::defaults(plugin.params());
         let violations = check(&plugin, &params, &iq(1000.0)).unwrap_err();
-        assert_eq!(
-            violations.iter().map(|v| v.rule).collect::<Vec<_>>(),
-            vec![Rule::OddIqBlocks; 3]
-        );
+        let odd: Vec<&Violation> = violations
+            .iter()
+            .filter(|v| v.rule == Rule::OddIqBlocks)
+            .collect();
+        // [3] and [5, 2, 9] leave odd pairs; [2, 2, 1] too, every third block.
+        assert_eq!(odd.len(), 3, "{violations:?}");
         assert!(
-            violations[0]
+            odd[0]
                 .to_string()
-                .starts_with("rule `odd I/Q blocks`: blocks of [1] values"),
+                .starts_with("rule `odd I/Q blocks`: blocks of [3] I/Q pairs against one block"),
             "{}",
-            violations[0]
+            odd[0]
         );
-        // On a real stream there is no pair to split.
+        // On a real stream there are no pairs.
         assert_eq!(check(&plugin, &params, &test_stream(1000.0)), Ok(()));
     }
 

@@ -21,7 +21,7 @@
 
 use crate::doppler::Framing;
 use crate::suggest::nearest;
-use crate::{Score, StreamInfo};
+use crate::{Channels, Score, StreamInfo};
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
 
@@ -86,18 +86,97 @@ impl fmt::Display for DetectorFailure {
 
 impl std::error::Error for DetectorFailure {}
 
+/// One sample instant of a quadrature receiver: `[I, Q]`, volts at the ADC input.
+pub type IqSample = [f32; 2];
+
+/// A block of samples, typed by the stream's channels, so that a block holds
+/// whole sample instants: an I/Q pair is one value and can never be split
+/// between two blocks.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Samples<'a> {
+    /// A single-channel mixer's samples.
+    Real(&'a [f32]),
+    /// A quadrature receiver's samples.
+    Iq(&'a [IqSample]),
+}
+
+impl<'a> Samples<'a> {
+    /// Interleaved values (I, Q, I, Q, ... for I/Q streams) as a typed block.
+    /// `None` when an I/Q block holds an odd number of values (a split pair).
+    ///
+    /// ```
+    /// use echobench_core::detector::Samples;
+    /// use echobench_core::Channels;
+    /// let values = [0.1, 0.2, 0.3, 0.4];
+    /// let block = Samples::from_values(&values, Channels::Iq).unwrap();
+    /// assert_eq!(block, Samples::Iq(&[[0.1, 0.2], [0.3, 0.4]]));
+    /// assert_eq!(block.values(), &values);
+    /// assert!(Samples::from_values(&values[..3], Channels::Iq).is_none());
+    /// ```
+    pub fn from_values(values: &'a [f32], channels: Channels) -> Option<Samples<'a>> {
+        match channels {
+            Channels::Real => Some(Samples::Real(values)),
+            Channels::Iq if values.len().is_multiple_of(2) => {
+                // SAFETY: `[f32; 2]` has the size of two `f32` and the alignment
+                // of one, so `len / 2` of them cover exactly the `len` values
+                // (even, checked above) of the borrowed slice, for as long as
+                // it lives. (`slice::as_chunks` does this without `unsafe` from
+                // Rust 1.88, above this workspace's minimum.)
+                let pairs = unsafe {
+                    std::slice::from_raw_parts(values.as_ptr().cast::<IqSample>(), values.len() / 2)
+                };
+                Some(Samples::Iq(pairs))
+            }
+            Channels::Iq => None,
+        }
+    }
+
+    /// The values, interleaved I, Q for I/Q blocks.
+    pub fn values(self) -> &'a [f32] {
+        match self {
+            Samples::Real(x) => x,
+            Samples::Iq(pairs) => pairs.as_flattened(),
+        }
+    }
+
+    /// Number of sample instants (pairs for I/Q).
+    pub fn len(self) -> usize {
+        match self {
+            Samples::Real(x) => x.len(),
+            Samples::Iq(pairs) => pairs.len(),
+        }
+    }
+
+    /// True when the block holds no sample.
+    pub fn is_empty(self) -> bool {
+        self.len() == 0
+    }
+
+    /// Real or I/Q.
+    pub fn channels(self) -> Channels {
+        match self {
+            Samples::Real(_) => Channels::Real,
+            Samples::Iq(_) => Channels::Iq,
+        }
+    }
+}
+
 /// A running detector: state for one stream.
 pub trait Detector: Send {
-    /// Consumes `block` (any length, including 0 and 1; I/Q streams interleave
-    /// I, Q) and pushes one [`FrameScore`] per completed decision frame, in
-    /// time order, onto `out`. Scores must not depend on how the stream is
-    /// split into blocks.
+    /// Consumes `block` (any number of sample instants, including 0 and 1,
+    /// typed as the stream it was built for) and pushes one [`FrameScore`]
+    /// per completed decision frame, in time order, onto `out`. Scores must
+    /// not depend on how the stream is split into blocks.
     ///
     /// # Errors
     /// When the detector can produce no more scores for this stream. The
     /// runner then records the trial as failed for this detector and feeds it
     /// nothing more; scores pushed before the error are discarded with it.
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure>;
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure>;
 
     /// Forgets all state, as if freshly built.
     fn reset(&mut self);
@@ -571,7 +650,7 @@ pub fn check_scores(scores: &[FrameScore]) -> Result<(), (usize, String)> {
 pub fn test_stream(sample_rate_hz: f64) -> StreamInfo {
     StreamInfo {
         sample_rate_hz,
-        channels: crate::Channels::Real,
+        channels: Channels::Real,
         adc_bits: 12,
         carrier_hz: 24.125e9,
     }

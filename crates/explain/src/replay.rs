@@ -3,7 +3,9 @@
 
 use crate::key::TrialRef;
 use crate::ExplainError;
-use echobench_core::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params};
+use echobench_core::detector::{
+    check_scores, Detector, DetectorPlugin, FrameScore, Params, Samples,
+};
 use echobench_core::{Score, StreamInfo};
 use echobench_harness::runner::trial_key;
 use echobench_harness::signal::{SignalTruth, TrialSignal};
@@ -151,9 +153,12 @@ pub(crate) fn replay(
             break;
         }
         samples.extend_from_slice(&block);
+        // Whole sample instants, as the runner hands them.
+        let typed = Samples::from_values(&block, info.channels)
+            .ok_or_else(|| trial_error("the signal split an I/Q pair".to_string()))?;
         for (slot, out) in built.iter_mut().zip(scores.iter_mut()) {
             let Ok(detector) = slot else { continue };
-            match catch_unwind(AssertUnwindSafe(|| detector.process(&block, out))) {
+            match catch_unwind(AssertUnwindSafe(|| detector.process(typed, out))) {
                 Err(p) => *slot = Err(panic_message(p)),
                 Ok(Err(failure)) => *slot = Err(failure.message),
                 Ok(Ok(())) => {}

@@ -19,7 +19,9 @@
 use crate::events::{score_thresholds, AlarmLogic, MOfN, MatchWindow, TrialTruth};
 use crate::signal::TrialSignal;
 use crate::suite::{PresenceOutput, SceneLabel, Suite};
-use echobench_core::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params};
+use echobench_core::detector::{
+    check_scores, Detector, DetectorPlugin, FrameScore, Params, Samples,
+};
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, Score};
 use echobench_presence::{
@@ -558,12 +560,13 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
             break;
         }
         samples += added as u64;
+        // Whole sample instants: the signal hands out pairs on I/Q streams.
+        let block = Samples::from_values(&volts, info.channels)
+            .ok_or_else(|| trial_error("the signal split an I/Q pair".to_string()))?;
         for (i, slot) in built.iter_mut().enumerate() {
             let Ok(detector) = slot else { continue };
             let t1 = Instant::now();
-            let result = catch_unwind(AssertUnwindSafe(|| {
-                detector.process(&volts, &mut scores[i])
-            }));
+            let result = catch_unwind(AssertUnwindSafe(|| detector.process(block, &mut scores[i])));
             busy[i] += t1.elapsed().as_secs_f64();
             match result {
                 Err(p) => *slot = Err(panic_message(p)),

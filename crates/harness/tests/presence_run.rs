@@ -3,7 +3,7 @@
 //! sweep, and the summary's figures.
 
 use echobench_core::detector::{
-    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params,
+    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::presence_summary::presence_verdict;
@@ -33,7 +33,12 @@ struct Silent {
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Silent {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         self.samples += block.len() as u64;
         out.push(FrameScore {
             end_sample: self.samples,

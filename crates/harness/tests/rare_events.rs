@@ -69,7 +69,7 @@ impl Detector for Coin {
             }
             self.frame_max = self.frame_max.max(f64::from((x - self.first).abs()));
             self.seen += 1;
-            if self.seen % FRAME == 0 {
+            if self.seen.is_multiple_of(FRAME) {
                 out.push(FrameScore {
                     end_sample: self.seen,
                     value: if self.looks { self.frame_max } else { 0.0 },
@@ -198,12 +198,21 @@ fn a_door_that_fires_on_a_known_fraction_of_swings_gives_that_rate() {
     let tallies = run(&with_door);
     let summary = summarise(&tallies, &with_door);
     let point = &summary.detectors[0].operating_points[0];
-    let events = point.rare_events.as_ref().expect("the door is a rare event");
+    let events = point
+        .rare_events
+        .as_ref()
+        .expect("the door is a rare event");
     let door = &events.events[0];
-    assert_eq!((door.scene.as_str(), door.occurrences), ("storeroom-door", 400));
+    assert_eq!(
+        (door.scene.as_str(), door.occurrences),
+        ("storeroom-door", 400)
+    );
     // The probability's exact interval covers the coin's fraction (Clopper and Pearson 1934:
     // coverage at least 95 %; the seed is fixed, so this is one draw, not a flaky test).
-    let (low, high) = (door.probability.low.unwrap(), door.probability.high.unwrap());
+    let (low, high) = (
+        door.probability.low.unwrap(),
+        door.probability.high.unwrap(),
+    );
     assert!(
         low <= FIRING_FRACTION && FIRING_FRACTION <= high,
         "{} of {} swings alarmed: [{low}, {high}]",
@@ -215,10 +224,7 @@ fn a_door_that_fires_on_a_known_fraction_of_swings_gives_that_rate() {
     assert_eq!(door.per_day.value, Some(12.0 * fraction));
     assert_eq!(door.per_day.high, Some(12.0 * high));
     let steady = events.steady_per_day.value.unwrap();
-    assert_eq!(
-        events.total_per_day.value,
-        Some(steady + 12.0 * fraction)
-    );
+    assert_eq!(events.total_per_day.value, Some(steady + 12.0 * fraction));
     // The door is not a room: no calibration, no exposure, not among the product's rooms.
     let product = &summary.products[0];
     assert_eq!(product.nuisance_scenes, ["quiet-room"]);
@@ -228,7 +234,10 @@ fn a_door_that_fires_on_a_known_fraction_of_swings_gives_that_rate() {
         .iter()
         .find(|v| v.scene == "storeroom-door")
         .unwrap();
-    assert_eq!((door_tally.label.as_str(), door_tally.exposure_ns), ("event", 0));
+    assert_eq!(
+        (door_tally.label.as_str(), door_tally.exposure_ns),
+        ("event", 0)
+    );
     assert!(door_tally.false_alarms.iter().all(|&n| n == 0));
     // ...and it changes nothing of the rest: thresholds, steady rates and detection are those
     // of the same suite without the door.
@@ -250,8 +259,14 @@ fn a_rare_event_must_be_a_synthesized_nuisance_without_calibration() {
     plugins.push(&COIN);
     for (change, expected) in [
         ("occurrences_per_day: 12", "occurrences_per_day: -1"),
-        ("occurrences_per_day: 12", "occurrences_per_day: 12\n    calibration_trials: 3"),
-        ("label: nuisance\n    occurrences_per_day", "label: target\n    occurrences_per_day"),
+        (
+            "occurrences_per_day: 12",
+            "occurrences_per_day: 12\n    calibration_trials: 3",
+        ),
+        (
+            "label: nuisance\n    occurrences_per_day",
+            "label: target\n    occurrences_per_day",
+        ),
     ] {
         let door = DOOR.replace(change, expected);
         let text = SUITE.replace("{DOOR}", &door).replace("{SENSOR}", SENSOR);

@@ -3,7 +3,7 @@
 
 use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
-    ParamSpec, Params,
+    ParamSpec, Params, Samples,
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{merge_tallies, resolve_detectors, run_suite, Shard, Tallies};
@@ -89,7 +89,12 @@ struct Panicking {
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Panicking {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         if self.first && block.first().is_some_and(|&x| x > 0.0) {
             panic!("deliberate failure for the test");
         }
@@ -142,7 +147,12 @@ static NAN_PARAMS: [ParamSpec; 1] = [ParamSpec {
 }];
 
 impl Detector for NanDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         if !block.is_empty() {
             out.push(FrameScore {
                 end_sample: 1,
@@ -352,7 +362,9 @@ fn energy_detector_pd_on_a_sinusoid_matches_the_noncentral_chi_square() {
         })
         .collect();
     let mut scores = Vec::new();
-    detector.process(&samples, &mut scores).unwrap();
+    detector
+        .process(Samples::Real(&samples), &mut scores)
+        .unwrap();
     assert_eq!(scores.len(), frames);
     // Raw mode scores the mean of x², so N·score/σ² is the χ² statistic.
     let detected = scores

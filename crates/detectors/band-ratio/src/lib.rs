@@ -109,7 +109,7 @@
 
 use echobench_core::detector::{
     BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    NominalPoint, ParamError, ParamKind, ParamSpec, Params,
+    NominalPoint, ParamError, ParamKind, ParamSpec, Params, Samples,
 };
 use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, ResolvedBand, DEFAULT_RESOLUTION_MPS,
@@ -849,7 +849,12 @@ impl BandRatioDetector {
 }
 
 impl Detector for BandRatioDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         let mut clean = [0.0f32; CLEAN_CHUNK];
         let scorer = &mut self.scorer;
         let values_per_sample = self.values_per_sample;

@@ -2,7 +2,9 @@
 //! ratio in white noise (docs/reference/detectors.md#d3, check-values.md#cv15), block invariance
 //! and the edge cases every detector must survive.
 
-use echobench_core::detector::{check_scores, test_stream, DetectorPlugin, ParamValue, Params};
+use echobench_core::detector::{
+    check_scores, test_stream, DetectorPlugin, ParamValue, Params, Samples,
+};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_band_ratio::{BandRatioConfig, BandRatioPlugin};
 use rand::{Rng, SeedableRng};
@@ -41,7 +43,8 @@ fn run_defaults(info: &StreamInfo, data: &[f32]) -> Vec<FrameScore> {
     let params = Params::resolve("band-ratio", BandRatioPlugin.params(), &[]).unwrap();
     let mut detector = BandRatioPlugin.build(&params, info).expect("builds");
     let mut out = Vec::new();
-    detector.process(data, &mut out).unwrap();
+    let block = Samples::from_values(data, info.channels).expect("whole pairs");
+    detector.process(block, &mut out).unwrap();
     out
 }
 
@@ -53,7 +56,9 @@ fn run(
 ) -> Vec<FrameScore> {
     let mut detector = BandRatioPlugin.build(&params(given), info).expect("builds");
     let mut out = Vec::new();
-    for chunk in data.chunks(block.max(1)) {
+    // Blocks of `block` sample instants (whole pairs on I/Q streams).
+    for chunk in data.chunks(block.max(1) * info.channels.count()) {
+        let chunk = Samples::from_values(chunk, info.channels).expect("whole pairs");
         detector.process(chunk, &mut out).unwrap();
     }
     out
@@ -417,10 +422,10 @@ fn reset_forgets_the_stream() {
     let data = noise(4, 2000, 0.01);
     let mut detector = BandRatioPlugin.build(&params(&[]), &info).unwrap();
     let mut first = Vec::new();
-    detector.process(&data, &mut first).unwrap();
+    detector.process(Samples::Real(&data), &mut first).unwrap();
     detector.reset();
     let mut second = Vec::new();
-    detector.process(&data, &mut second).unwrap();
+    detector.process(Samples::Real(&data), &mut second).unwrap();
     assert_eq!(first, second);
 }
 

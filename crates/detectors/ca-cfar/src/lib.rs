@@ -87,7 +87,7 @@ pub use echobench_detector_dsp::cfar_cells::{training_offsets, DopplerAxis};
 use closed_form::ratio_to_mean;
 use echobench_core::detector::{
     BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params,
+    ParamError, ParamKind, ParamSpec, Params, Samples,
 };
 use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
@@ -523,7 +523,12 @@ fn frame_score(power: &[f64], plan: &CellPlan) -> f64 {
 }
 
 impl Detector for CaCfarDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         let CaCfarDetector {
             framer,
             transform,

@@ -5,7 +5,7 @@
 //! interval of docs/reference/statistics.md#s9 (false-failure chance 6.8e-6 per check if a
 //! seed ever changes).
 
-use echobench_core::detector::{test_stream, Detector};
+use echobench_core::detector::{test_stream, Detector, Samples};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_ca_cfar::{ca_multiplier, ca_pfa, ca_ratio, CaCfarConfig, CaCfarDetector};
 use echobench_detector_dsp::Window;
@@ -68,7 +68,12 @@ fn noise_scores(
             let g: f32 = rng.sample(StandardNormal);
             *v = sigma_v * g;
         }
-        detector.process(&chunk[..len], &mut scores).unwrap();
+        detector
+            .process(
+                Samples::from_values(&chunk[..len], info.channels).unwrap(),
+                &mut scores,
+            )
+            .unwrap();
         left -= len;
     }
     assert_eq!(scores.len(), frames);

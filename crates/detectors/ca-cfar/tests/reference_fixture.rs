@@ -3,7 +3,7 @@
 //! guard 2, train 8, reflected edges): its per-trial maximum, stored in
 //! `tests/fixtures/reference-pipeline/scores.csv`, to 1e-9 relative.
 
-use echobench_core::detector::{test_stream, DetectorPlugin, Params};
+use echobench_core::detector::{test_stream, DetectorPlugin, Params, Samples};
 use echobench_detector_ca_cfar::CaCfarPlugin;
 use std::path::PathBuf;
 
@@ -66,7 +66,9 @@ fn max_score(samples: &[f32]) -> (f64, usize) {
     let params = Params::resolve("ca-cfar", CaCfarPlugin.params(), &given).unwrap();
     let mut detector = CaCfarPlugin.build(&params, &test_stream(2000.0)).unwrap();
     let mut scores = Vec::new();
-    detector.process(samples, &mut scores).unwrap();
+    detector
+        .process(Samples::Real(samples), &mut scores)
+        .unwrap();
     let max = scores
         .iter()
         .map(|s| s.value)

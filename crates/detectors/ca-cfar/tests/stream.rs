@@ -2,7 +2,9 @@
 //! implementation, and what comes out for silence, NaN, clipping and trials
 //! shorter than a frame.
 
-use echobench_core::detector::{check_scores, test_stream, Detector, DetectorPlugin, Params};
+use echobench_core::detector::{
+    check_scores, test_stream, Detector, DetectorPlugin, Params, Samples,
+};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_ca_cfar::{CaCfarConfig, CaCfarDetector, CaCfarPlugin};
 use echobench_detector_dsp::Window;
@@ -35,9 +37,16 @@ fn random_input(values: usize, seed: u8) -> Vec<f32> {
         .collect()
 }
 
-fn run_in_blocks(detector: &mut dyn Detector, input: &[f32], block: usize) -> Vec<FrameScore> {
+/// Feeds `input` (interleaved on I/Q streams) in blocks of `block` sample instants.
+fn run_in_blocks(
+    detector: &mut dyn Detector,
+    input: &[f32],
+    block: usize,
+    channels: Channels,
+) -> Vec<FrameScore> {
     let mut out = Vec::new();
-    for chunk in input.chunks(block.max(1)) {
+    for chunk in input.chunks(block.max(1) * channels.count()) {
+        let chunk = Samples::from_values(chunk, channels).expect("whole pairs");
         detector.process(chunk, &mut out).unwrap();
     }
     out
@@ -74,12 +83,12 @@ fn block_size_does_not_change_the_scores() {
     // identical scores.
     for (info, seed) in [(test_stream(FS_HZ), 1), (iq_stream(), 2)] {
         let input = random_input(2 * 6000, seed);
-        let whole = run_in_blocks(built(&info).as_mut(), &input, input.len());
+        let whole = run_in_blocks(built(&info).as_mut(), &input, input.len(), info.channels);
         assert!(whole.len() > 40);
         check_scores(&whole).unwrap();
         for block in [1, 7, 256] {
             assert_eq!(
-                run_in_blocks(built(&info).as_mut(), &input, block),
+                run_in_blocks(built(&info).as_mut(), &input, block, info.channels),
                 whole,
                 "block {block}, {}",
                 info.channels
@@ -88,11 +97,23 @@ fn block_size_does_not_change_the_scores() {
         // Empty blocks are harmless, and reset starts over.
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&[], &mut out).unwrap();
-        detector.process(&input[..1000], &mut out).unwrap();
+        detector
+            .process(Samples::from_values(&[], info.channels).unwrap(), &mut out)
+            .unwrap();
+        detector
+            .process(
+                Samples::from_values(&input[..1000], info.channels).unwrap(),
+                &mut out,
+            )
+            .unwrap();
         detector.reset();
         out.clear();
-        detector.process(&input, &mut out).unwrap();
+        detector
+            .process(
+                Samples::from_values(&input, info.channels).unwrap(),
+                &mut out,
+            )
+            .unwrap();
         assert_eq!(out, whole);
     }
 }
@@ -231,12 +252,12 @@ fn fast_path_matches_a_direct_dft_with_reflected_edges() {
     let input = random_input(3000, 3);
     let mut detector = CaCfarDetector::new(&config, &test_stream(FS_HZ)).unwrap();
     assert_eq!(detector.cut_bins().len(), 33);
-    let fast = run_in_blocks(&mut detector, &input, 333);
+    let fast = run_in_blocks(&mut detector, &input, 333, Channels::Real);
     assert_close(&fast, &naive_real_scores(&input, &config, FS_HZ));
     // And the reference configuration (Hann, 256/128, 1–100 Hz).
     let config = CaCfarConfig::default();
     let mut detector = CaCfarDetector::new(&config, &test_stream(FS_HZ)).unwrap();
-    let fast = run_in_blocks(&mut detector, &input, 1000);
+    let fast = run_in_blocks(&mut detector, &input, 1000, Channels::Real);
     assert_close(&fast, &naive_real_scores(&input, &config, FS_HZ));
 }
 
@@ -256,7 +277,7 @@ fn iq_path_matches_a_direct_dft_with_a_wrapped_axis() {
     let mut detector = CaCfarDetector::new(&config, &iq_stream()).unwrap();
     // |f| ≤ 150 Hz at 44.44 Hz per bin: bins 0–3 and 42–44.
     assert_eq!(detector.cut_bins(), &[0, 1, 2, 3, 42, 43, 44]);
-    let fast = run_in_blocks(&mut detector, &input, 77);
+    let fast = run_in_blocks(&mut detector, &input, 77, Channels::Iq);
     assert_close(&fast, &naive_iq_scores(&input, &config, FS_HZ));
 }
 
@@ -266,7 +287,12 @@ fn silence_scores_zero() {
     for info in [test_stream(FS_HZ), iq_stream()] {
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&vec![0.0; 4000], &mut out).unwrap();
+        detector
+            .process(
+                Samples::from_values(&vec![0.0; 4000], info.channels).unwrap(),
+                &mut out,
+            )
+            .unwrap();
         assert!(!out.is_empty());
         assert!(out.iter().all(|s| s.value == 0.0), "{:?}", &out[..3]);
     }
@@ -285,7 +311,7 @@ fn a_lone_tone_over_empty_cells_stays_finite() {
         .collect();
     let mut detector = CaCfarDetector::new(&config, &test_stream(FS_HZ)).unwrap();
     let mut out = Vec::new();
-    detector.process(&tone, &mut out).unwrap();
+    detector.process(Samples::Real(&tone), &mut out).unwrap();
     check_scores(&out).unwrap();
     assert!(out.iter().all(|s| s.value > 1e6), "{:?}", &out[..2]);
 }
@@ -305,11 +331,16 @@ fn non_finite_samples_count_as_zero() {
             zeroed[i] = 0.0;
             broken[i] = bad;
         }
-        let expected = run_in_blocks(built(&info).as_mut(), &zeroed, 5000);
-        let got = run_in_blocks(built(&info).as_mut(), &broken, 123);
+        let expected = run_in_blocks(built(&info).as_mut(), &zeroed, 5000, info.channels);
+        let got = run_in_blocks(built(&info).as_mut(), &broken, 123, info.channels);
         check_scores(&got).unwrap();
         assert_eq!(got, expected);
-        let all_nan = run_in_blocks(built(&info).as_mut(), &[f32::NAN; 1000], 1000);
+        let all_nan = run_in_blocks(
+            built(&info).as_mut(),
+            &[f32::NAN; 1000],
+            1000,
+            info.channels,
+        );
         assert!(all_nan.iter().all(|s| s.value == 0.0));
     }
 }
@@ -327,7 +358,7 @@ fn clipped_and_extreme_inputs_give_finite_scores() {
         .collect();
     for info in [test_stream(FS_HZ), iq_stream()] {
         for input in [&clipped, &extreme] {
-            let out = run_in_blocks(built(&info).as_mut(), input, 500);
+            let out = run_in_blocks(built(&info).as_mut(), input, 500, info.channels);
             assert!(!out.is_empty());
             check_scores(&out).unwrap();
         }
@@ -340,24 +371,38 @@ fn short_trials_give_no_scores_and_frames_end_on_time() {
         let values = info.channels.count();
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&[0.5; 2][..values], &mut out).unwrap();
+        detector
+            .process(
+                Samples::from_values(&[0.5; 2][..values], info.channels).unwrap(),
+                &mut out,
+            )
+            .unwrap();
         assert!(out.is_empty(), "a single sample cannot complete a frame");
-        // One value short of a frame, then the last one: exactly one score,
+        // One sample instant short of a frame, then the last one: exactly one score,
         // stamped at the end of the frame (256 samples at 2 kHz).
         detector.reset();
         let frame = random_input(256 * values, 6);
         detector
-            .process(&frame[..frame.len() - 1], &mut out)
+            .process(
+                Samples::from_values(&frame[..frame.len() - values], info.channels).unwrap(),
+                &mut out,
+            )
             .unwrap();
         assert!(out.is_empty());
         detector
-            .process(&frame[frame.len() - 1..], &mut out)
+            .process(
+                Samples::from_values(&frame[frame.len() - values..], info.channels).unwrap(),
+                &mut out,
+            )
             .unwrap();
         assert_eq!(out.len(), 1);
         assert_eq!(out[0].end_sample, 256);
         // The next frames follow every hop (128 samples).
         detector
-            .process(&random_input(256 * values, 7), &mut out)
+            .process(
+                Samples::from_values(&random_input(256 * values, 7), info.channels).unwrap(),
+                &mut out,
+            )
             .unwrap();
         let ends: Vec<u64> = out.iter().map(|s| s.end_sample).collect();
         assert_eq!(ends, vec![256, 384, 512]);

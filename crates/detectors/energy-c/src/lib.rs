@@ -72,7 +72,7 @@
 
 use echobench_core::detector::{
     BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params,
+    ParamError, ParamKind, ParamSpec, Params, Samples,
 };
 use echobench_core::doppler::Framing;
 use echobench_core::{Channels, FrameScore, StreamInfo};
@@ -291,7 +291,12 @@ impl EnergyC {
 }
 
 impl Detector for EnergyC {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         let state = self.state.as_mut_ptr().cast::<c_void>();
         for &sample in block {
             let mut score = 0.0_f32;
@@ -335,7 +340,7 @@ mod tests {
     fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         let mut out = Vec::new();
         for chunk in samples.chunks(block.max(1)) {
-            detector.process(chunk, &mut out).unwrap();
+            detector.process(Samples::Real(chunk), &mut out).unwrap();
         }
         out
     }

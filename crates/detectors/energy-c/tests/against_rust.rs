@@ -2,7 +2,7 @@
 //! none`, no band limit): same frames, same time stamps, scores within the
 //! single-precision bound derived in the crate doc (Higham 2002, §4.2).
 
-use echobench_core::detector::{test_stream, DetectorPlugin, ParamValue, Params};
+use echobench_core::detector::{test_stream, DetectorPlugin, ParamValue, Params, Samples};
 use echobench_core::FrameScore;
 use echobench_detector_energy::EnergyPlugin;
 use echobench_detector_energy_c::EnergyCPlugin;
@@ -33,7 +33,7 @@ fn scores(
     let mut detector = plugin.build(&params, &test_stream(2000.0)).expect("valid");
     let mut out = Vec::new();
     for block in samples.chunks(1000) {
-        detector.process(block, &mut out).unwrap();
+        detector.process(Samples::Real(block), &mut out).unwrap();
     }
     out
 }

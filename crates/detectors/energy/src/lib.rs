@@ -70,7 +70,7 @@
 
 use echobench_core::detector::{
     BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params,
+    ParamError, ParamKind, ParamSpec, Params, Samples,
 };
 use echobench_core::doppler::{self, BandNames, FrameRules, FrameUnits, Framing};
 use echobench_core::{FrameScore, StreamInfo};
@@ -607,7 +607,12 @@ impl EnergyDetector {
 }
 
 impl Detector for EnergyDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         for &value in block {
             self.push_value(f64::from(value), out);
         }
@@ -652,9 +657,21 @@ mod tests {
         EnergyPlugin.build(&params(given)?, info)
     }
 
+    /// Feeds a real stream in blocks of `block` samples.
     fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
+        run_as(detector, samples, block, Channels::Real)
+    }
+
+    /// Feeds interleaved `samples` in blocks of `block` sample instants.
+    fn run_as(
+        detector: &mut dyn Detector,
+        samples: &[f32],
+        block: usize,
+        channels: Channels,
+    ) -> Vec<FrameScore> {
         let mut out = Vec::new();
-        for chunk in samples.chunks(block.max(1)) {
+        for chunk in samples.chunks(block.max(1) * channels.count()) {
+            let chunk = Samples::from_values(chunk, channels).expect("whole pairs");
             detector.process(chunk, &mut out).unwrap();
         }
         out
@@ -704,20 +721,24 @@ mod tests {
         ];
         for info in [test_stream(fs), iq_stream(fs)] {
             let mut detector = build(&given, &info).expect("valid parameters");
-            let whole = run(detector.as_mut(), &samples, samples.len());
+            let whole = run_as(detector.as_mut(), &samples, samples.len(), info.channels);
             assert!(check_scores(&whole).is_ok());
             let expected_frames = (samples.len() / info.channels.count() - 200) / 70 + 1;
             assert_eq!(whole.len(), expected_frames);
             for block in [1, 7, 256] {
                 let mut detector = build(&given, &info).expect("valid parameters");
                 assert_eq!(
-                    run(detector.as_mut(), &samples, block),
+                    run_as(detector.as_mut(), &samples, block, info.channels),
                     whole,
                     "block {block}"
                 );
             }
             detector.reset();
-            assert_eq!(run(detector.as_mut(), &samples, 333), whole, "after reset");
+            assert_eq!(
+                run_as(detector.as_mut(), &samples, 333, info.channels),
+                whole,
+                "after reset"
+            );
         }
     }
 
@@ -824,7 +845,7 @@ mod tests {
         // I/Q: an instant is one I, Q pair, so 1000 values are 500 instants.
         let mut detector =
             build(&[("frame_len", int(100)), ("hop", int(50))], &iq_stream(fs)).expect("valid");
-        let scores = run(detector.as_mut(), &noise(2, 1000, 0.01), 3);
+        let scores = run_as(detector.as_mut(), &noise(2, 1000, 0.01), 3, Channels::Iq);
         let ends: Vec<u64> = scores.iter().map(|s| s.end_sample).collect();
         assert_eq!(ends, (2..=10).map(|k| k * 50).collect::<Vec<u64>>());
     }

@@ -4,7 +4,7 @@
 //! Thresholds come from `statrs` quantiles; the measured per-frame Pfa must lie
 //! within |p̂ − p| ≤ 4.5·√(p(1 − p)/M) (docs/reference/statistics.md#s9).
 
-use echobench_core::detector::{test_stream, DetectorPlugin, ParamValue, Params};
+use echobench_core::detector::{test_stream, DetectorPlugin, ParamValue, Params, Samples};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_energy::EnergyPlugin;
 use rand::SeedableRng;
@@ -57,7 +57,12 @@ fn noise_scores(
         for x in &mut block[..len] {
             *x = normal.sample(&mut rng) as f32;
         }
-        detector.process(&block[..len], &mut out).unwrap();
+        detector
+            .process(
+                Samples::from_values(&block[..len], info.channels).unwrap(),
+                &mut out,
+            )
+            .unwrap();
         scores.extend(out.drain(..).map(|s| s.value));
         done += len;
     }

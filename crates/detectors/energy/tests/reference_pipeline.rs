@@ -3,7 +3,7 @@
 //! raw frame", frames of 256 samples every 128 starting at sample 0, trial score = max
 //! over frames (docs/reference/detectors.md#d9).
 
-use echobench_core::detector::{DetectorPlugin, ParamValue, Params};
+use echobench_core::detector::{DetectorPlugin, ParamValue, Params, Samples};
 use echobench_core::{detector::test_stream, FrameScore};
 use echobench_detector_energy::{EnergyDetector, EnergyPlugin};
 
@@ -97,7 +97,12 @@ fn raw_mode_reproduces_the_reference_energy_scores() {
             .build(&reference_params(), &info)
             .expect("valid");
         let mut scores = Vec::new();
-        detector.process(&samples, &mut scores).unwrap();
+        detector
+            .process(
+                Samples::from_values(&samples, info.channels).unwrap(),
+                &mut scores,
+            )
+            .unwrap();
         let got_f32 = max_score(&scores);
         let u = f64::from(f32::EPSILON) / 2.0;
         assert!(

@@ -215,7 +215,7 @@ mod session;
 
 use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
-    ParamSpec, Params,
+    ParamSpec, Params, Samples,
 };
 use echobench_core::{FrameScore, Score, StreamInfo};
 use protocol::{encode_hello, MAX_BLOCK_VALUES, TAG_BLOCK, VERSION};
@@ -771,9 +771,13 @@ impl ExternalDetector {
 impl Detector for ExternalDetector {
     /// Feeds `block` to the program; once it has failed, every call returns
     /// the same failure (the program is gone).
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
         if self.failure.is_none() {
-            self.feed(block, out);
+            self.feed(block.values(), out);
         }
         match &self.failure {
             Some(message) => Err(DetectorFailure::new(message.clone())),

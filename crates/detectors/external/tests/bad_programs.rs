@@ -9,7 +9,8 @@
 mod common;
 
 use common::{build, params, printf_bytes, ready, run_until_failure, score_record, shell_script};
-use echobench_core::detector::{test_stream, Detector, DetectorPlugin, ParamValue};
+use echobench_core::detector::{test_stream, Detector, DetectorPlugin, ParamValue, Samples};
+use echobench_core::Channels;
 use echobench_detector_external::{ExternalDetector, ExternalPlugin, ExternalProgram};
 use std::time::{Duration, Instant};
 
@@ -41,13 +42,13 @@ fn failure_after_a_block(command: &str) -> String {
     .unwrap_or_else(|e| panic!("handshake should pass: {e}"));
     let mut out = Vec::new();
     let message = detector
-        .process(&one_second(), &mut out)
-        .and_then(|()| detector.process(&one_second(), &mut out))
+        .process(Samples::Real(&one_second()), &mut out)
+        .and_then(|()| detector.process(Samples::Real(&one_second()), &mut out))
         .expect_err("the program broke the protocol")
         .message;
     // After a failure nothing more is pushed, and the message stays.
     let before = out.len();
-    let again = detector.process(&one_second(), &mut out);
+    let again = detector.process(Samples::Real(&one_second()), &mut out);
     assert_eq!(out.len(), before);
     assert_eq!(again.map_err(|f| f.message), Err(message.clone()));
     message
@@ -122,7 +123,7 @@ fn a_hanging_program_is_killed_at_its_time_limit() {
     )
     .expect("handshake passes");
     let mut out = Vec::new();
-    let result = detector.process(&one_second(), &mut out);
+    let result = detector.process(Samples::Real(&one_second()), &mut out);
     let elapsed_s = started.elapsed().as_secs_f64();
     let message = result.expect_err("timed out").message;
     assert!(message.contains("timeout_s = 1 s"), "{message}");
@@ -209,7 +210,7 @@ fn scores_out_of_order_nan_or_in_the_future_are_refused() {
         &test_stream(FS),
     )
     .expect("handshake passes");
-    let (out, failure) = run_until_failure(detector.as_mut(), &[0.0], 1);
+    let (out, failure) = run_until_failure(detector.as_mut(), &[0.0], 1, Channels::Real);
     assert!(out.is_empty());
     let message = failure.expect("refused").message;
     assert!(
@@ -402,10 +403,10 @@ fn empty_blocks_send_nothing() {
         build(&command, "", &[], &test_stream(FS)).expect("starts");
     let mut out = Vec::new();
     for _ in 0..5 {
-        assert_eq!(detector.process(&[], &mut out), Ok(()));
+        assert_eq!(detector.process(Samples::Real(&[]), &mut out), Ok(()));
     }
     assert!(detector
-        .process(&[0.0], &mut out)
+        .process(Samples::Real(&[0.0]), &mut out)
         .expect_err("died")
         .message
         .contains("exited with status 9 after 0 blocks"));

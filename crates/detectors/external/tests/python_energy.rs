@@ -23,7 +23,9 @@
 mod common;
 
 use common::{build, energy_example, python_with_numpy, run};
-use echobench_core::detector::{check_scores, test_stream, DetectorPlugin, ParamValue, Params};
+use echobench_core::detector::{
+    check_scores, test_stream, DetectorPlugin, ParamValue, Params, Samples,
+};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_energy::EnergyPlugin;
 use rand::SeedableRng;
@@ -64,7 +66,7 @@ fn built_in(
         .collect();
     let params = Params::resolve("energy", EnergyPlugin.params(), &given).expect("valid");
     let mut detector = EnergyPlugin.build(&params, info).expect("valid");
-    run(detector.as_mut(), samples, 1000)
+    run(detector.as_mut(), samples, 1000, info.channels)
 }
 
 /// The same settings as the example's name=value arguments.
@@ -82,7 +84,7 @@ fn python(
 ) -> Vec<FrameScore> {
     let mut detector =
         build("python3", &as_args(settings), &[], info).unwrap_or_else(|e| panic!("{e}"));
-    run(detector.as_mut(), samples, block)
+    run(detector.as_mut(), samples, block, info.channels)
 }
 
 fn assert_close(python: &[FrameScore], rust: &[FrameScore], what: &str) {
@@ -251,9 +253,9 @@ fn reset_starts_a_fresh_program() {
     let info = test_stream(2000.0);
     let samples = noise(9, 4000, 0.01);
     let mut detector = build("python3", &as_args(&[]), &[], &info).expect("starts");
-    let first = run(detector.as_mut(), &samples, 999);
+    let first = run(detector.as_mut(), &samples, 999, info.channels);
     detector.reset();
-    let second = run(detector.as_mut(), &samples, 999);
+    let second = run(detector.as_mut(), &samples, 999, info.channels);
     assert_eq!(first, second, "the floor and framing start afresh");
 }
 
@@ -303,9 +305,15 @@ fn time_between_blocks_is_not_charged_to_the_program() {
     .expect("starts within 1.5 s");
     let samples = noise(2, 1024, 0.01);
     let mut out = Vec::new();
-    assert_eq!(detector.process(&samples[..512], &mut out), Ok(()));
+    assert_eq!(
+        detector.process(Samples::Real(&samples[..512]), &mut out),
+        Ok(())
+    );
     std::thread::sleep(std::time::Duration::from_millis(1600));
-    assert_eq!(detector.process(&samples[512..], &mut out), Ok(()));
+    assert_eq!(
+        detector.process(Samples::Real(&samples[512..]), &mut out),
+        Ok(())
+    );
     assert_eq!(out.len(), (1024 - 256) / 128 + 1);
 }
 

@@ -73,7 +73,7 @@ pub use closed_form::{os_multiplier, os_pfa, os_ratio, NOISE_FLOOR};
 
 use echobench_core::detector::{
     BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params,
+    ParamError, ParamKind, ParamSpec, Params, Samples,
 };
 use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
@@ -452,7 +452,12 @@ impl OsCfarDetector {
 }
 
 impl Detector for OsCfarDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         let OsCfarDetector {
             framer,
             transform,

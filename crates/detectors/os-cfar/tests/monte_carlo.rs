@@ -3,7 +3,7 @@
 //!
 //! Seeded; each check asserts |p̂ − p| ≤ 4.5·√(p(1 − p)/M) (docs/reference/statistics.md#s9).
 
-use echobench_core::detector::{test_stream, Detector};
+use echobench_core::detector::{test_stream, Detector, Samples};
 use echobench_detector_dsp::Window;
 use echobench_detector_os_cfar::{os_multiplier, os_ratio, OsCfarConfig, OsCfarDetector};
 use rand::{Rng, SeedableRng};
@@ -73,7 +73,9 @@ fn rectangular_frames_without_overlap_follow_the_closed_form() {
             let g: f32 = rng.sample(StandardNormal);
             *v = 0.002 * g;
         }
-        detector.process(&chunk, &mut scores).unwrap();
+        detector
+            .process(Samples::Real(&chunk), &mut scores)
+            .unwrap();
     }
     assert_eq!(scores.len(), FRAMES);
     for pfa in [1e-2, 1e-3] {

@@ -1,7 +1,9 @@
 //! Streaming behaviour: block-size invariance, agreement with a slow direct
 //! implementation, silence, NaN, clipping and trials shorter than a frame.
 
-use echobench_core::detector::{check_scores, test_stream, Detector, DetectorPlugin, Params};
+use echobench_core::detector::{
+    check_scores, test_stream, Detector, DetectorPlugin, Params, Samples,
+};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::Window;
 use echobench_detector_os_cfar::{OsCfarConfig, OsCfarDetector, OsCfarPlugin};
@@ -35,9 +37,16 @@ fn random_input(values: usize, seed: u8) -> Vec<f32> {
         .collect()
 }
 
-fn run_in_blocks(detector: &mut dyn Detector, input: &[f32], block: usize) -> Vec<FrameScore> {
+/// Feeds `input` (interleaved on I/Q streams) in blocks of `block` sample instants.
+fn run_in_blocks(
+    detector: &mut dyn Detector,
+    input: &[f32],
+    block: usize,
+    channels: Channels,
+) -> Vec<FrameScore> {
     let mut out = Vec::new();
-    for chunk in input.chunks(block.max(1)) {
+    for chunk in input.chunks(block.max(1) * channels.count()) {
+        let chunk = Samples::from_values(chunk, channels).expect("whole pairs");
         detector.process(chunk, &mut out).unwrap();
     }
     out
@@ -74,18 +83,31 @@ fn block_size_does_not_change_the_scores() {
     // identical scores.
     for (info, seed) in [(test_stream(FS_HZ), 1), (iq_stream(), 2)] {
         let input = random_input(12_000, seed);
-        let whole = run_in_blocks(built(&info).as_mut(), &input, input.len());
+        let whole = run_in_blocks(built(&info).as_mut(), &input, input.len(), info.channels);
         assert!(whole.len() > 40);
         check_scores(&whole).unwrap();
         for block in [1, 7, 256] {
-            assert_eq!(run_in_blocks(built(&info).as_mut(), &input, block), whole);
+            assert_eq!(
+                run_in_blocks(built(&info).as_mut(), &input, block, info.channels),
+                whole
+            );
         }
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&input[..999], &mut out).unwrap();
+        detector
+            .process(
+                Samples::from_values(&input[..998], info.channels).unwrap(),
+                &mut out,
+            )
+            .unwrap();
         detector.reset();
         out.clear();
-        detector.process(&input, &mut out).unwrap();
+        detector
+            .process(
+                Samples::from_values(&input, info.channels).unwrap(),
+                &mut out,
+            )
+            .unwrap();
         assert_eq!(out, whole);
     }
 }
@@ -188,12 +210,12 @@ fn fast_path_matches_a_direct_dft_and_a_sort() {
     };
     let input = random_input(3000, 3);
     let mut detector = OsCfarDetector::new(&real, &test_stream(FS_HZ)).unwrap();
-    let fast = run_in_blocks(&mut detector, &input, 333);
+    let fast = run_in_blocks(&mut detector, &input, 333, Channels::Real);
     assert_close(&fast, &naive_scores(&input, &real, false));
     // Default geometry (Hann, 256/128, 1–100 Hz, rank 12 of 16).
     let default = OsCfarConfig::default();
     let mut detector = OsCfarDetector::new(&default, &test_stream(FS_HZ)).unwrap();
-    let fast = run_in_blocks(&mut detector, &input, 1000);
+    let fast = run_in_blocks(&mut detector, &input, 1000, Channels::Real);
     assert_close(&fast, &naive_scores(&input, &default, false));
     // I/Q, odd frame, CUTs around DC where the cells wrap.
     let iq = OsCfarConfig {
@@ -209,7 +231,7 @@ fn fast_path_matches_a_direct_dft_and_a_sort() {
     let input = random_input(1800, 4);
     let mut detector = OsCfarDetector::new(&iq, &iq_stream()).unwrap();
     assert_eq!(detector.cut_bins(), &[0, 1, 2, 3, 42, 43, 44]);
-    let fast = run_in_blocks(&mut detector, &input, 77);
+    let fast = run_in_blocks(&mut detector, &input, 77, Channels::Iq);
     assert_close(&fast, &naive_scores(&input, &iq, true));
 }
 
@@ -217,7 +239,7 @@ fn fast_path_matches_a_direct_dft_and_a_sort() {
 fn silence_scores_zero() {
     // The documented floor makes 0/0 = 0.
     for info in [test_stream(FS_HZ), iq_stream()] {
-        let out = run_in_blocks(built(&info).as_mut(), &[0.0; 4000], 4000);
+        let out = run_in_blocks(built(&info).as_mut(), &[0.0; 4000], 4000, info.channels);
         assert!(!out.is_empty());
         assert!(out.iter().all(|s| s.value == 0.0));
     }
@@ -238,8 +260,8 @@ fn non_finite_samples_count_as_zero() {
             zeroed[i] = 0.0;
             broken[i] = bad;
         }
-        let expected = run_in_blocks(built(&info).as_mut(), &zeroed, 5000);
-        let got = run_in_blocks(built(&info).as_mut(), &broken, 321);
+        let expected = run_in_blocks(built(&info).as_mut(), &zeroed, 5000, info.channels);
+        let got = run_in_blocks(built(&info).as_mut(), &broken, 321, info.channels);
         check_scores(&got).unwrap();
         assert_eq!(got, expected);
     }
@@ -257,7 +279,7 @@ fn clipped_and_extreme_inputs_give_finite_scores() {
         .collect();
     for info in [test_stream(FS_HZ), iq_stream()] {
         for input in [&clipped, &extreme] {
-            let out = run_in_blocks(built(&info).as_mut(), input, 500);
+            let out = run_in_blocks(built(&info).as_mut(), input, 500, info.channels);
             assert!(!out.is_empty());
             check_scores(&out).unwrap();
         }
@@ -270,16 +292,27 @@ fn short_trials_give_no_scores_and_frames_end_on_time() {
         let values = info.channels.count();
         let mut detector = built(&info);
         let mut out = Vec::new();
-        detector.process(&[0.5; 2][..values], &mut out).unwrap();
+        detector
+            .process(
+                Samples::from_values(&[0.5; 2][..values], info.channels).unwrap(),
+                &mut out,
+            )
+            .unwrap();
         assert!(out.is_empty(), "a single sample cannot complete a frame");
         detector.reset();
         let frame = random_input(256 * values, 6);
         detector
-            .process(&frame[..frame.len() - 1], &mut out)
+            .process(
+                Samples::from_values(&frame[..frame.len() - values], info.channels).unwrap(),
+                &mut out,
+            )
             .unwrap();
         assert!(out.is_empty());
         detector
-            .process(&frame[frame.len() - 1..], &mut out)
+            .process(
+                Samples::from_values(&frame[frame.len() - values..], info.channels).unwrap(),
+                &mut out,
+            )
             .unwrap();
         assert_eq!(out.len(), 1);
         assert_eq!(out[0].end_sample, 256);

@@ -135,7 +135,7 @@
 
 use echobench_core::detector::{
     BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params,
+    ParamError, ParamKind, ParamSpec, Params, Samples,
 };
 use echobench_core::doppler::{
     self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
@@ -976,7 +976,12 @@ impl PeriodicityDetector {
 }
 
 impl Detector for PeriodicityDetector {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         let mut clean = [0.0f32; CLEAN_CHUNK];
         let state = &mut self.state;
         for chunk in block.chunks(CLEAN_CHUNK) {

@@ -3,7 +3,7 @@
 //! flash train, a slow sway, a slow rotor and noise; the closed-form noise law
 //! that whitens the cadence spectrum; and the contract every detector meets.
 
-use echobench_core::detector::{check_scores, DetectorPlugin, ParamValue, Params};
+use echobench_core::detector::{check_scores, DetectorPlugin, ParamValue, Params, Samples};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_periodicity::{
     CadenceReading, PeriodicityConfig, PeriodicityDetector, PeriodicityPlugin,
@@ -68,7 +68,9 @@ fn run(
         .build(&params(given), info)
         .expect("builds");
     let mut out = Vec::new();
-    for chunk in data.chunks(block.max(1)) {
+    // Blocks of `block` sample instants (whole pairs on I/Q streams).
+    for chunk in data.chunks(block.max(1) * info.channels.count()) {
+        let chunk = Samples::from_values(chunk, info.channels).expect("whole pairs");
         detector.process(chunk, &mut out).unwrap();
     }
     out
@@ -80,7 +82,7 @@ fn run_with_readings(data: &[f32]) -> (Vec<FrameScore>, Vec<CadenceReading>) {
     for chunk in data.chunks(1000) {
         let before = scores.len();
         use echobench_core::detector::Detector;
-        detector.process(chunk, &mut scores).unwrap();
+        detector.process(Samples::Real(chunk), &mut scores).unwrap();
         if scores.len() > before {
             readings.push(detector.last_reading().expect("a reading per score"));
         }
@@ -369,7 +371,7 @@ fn the_cadence_spectrum_of_noise_averages_one_at_every_modulation_frequency() {
         let before = scores.len();
         for chunk in block.chunks(1024) {
             let had = scores.len();
-            detector.process(chunk, &mut scores).unwrap();
+            detector.process(Samples::Real(chunk), &mut scores).unwrap();
             if scores.len() > had {
                 decisions += 1;
                 if decisions % 8 == 0 {
@@ -475,11 +477,11 @@ fn reset_forgets_the_stream() {
     let mut detector = detector(&[], &stream_2g4());
     use echobench_core::detector::Detector;
     let mut first = Vec::new();
-    detector.process(&data, &mut first).unwrap();
+    detector.process(Samples::Real(&data), &mut first).unwrap();
     detector.reset();
     assert!(detector.last_reading().is_none());
     let mut second = Vec::new();
-    detector.process(&data, &mut second).unwrap();
+    detector.process(Samples::Real(&data), &mut second).unwrap();
     assert_eq!(first, second);
 }
 

@@ -58,7 +58,7 @@ pub fn find(id: &str) -> Option<&'static dyn DetectorPlugin> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use echobench_core::detector::{check_scores, test_stream, Params};
+    use echobench_core::detector::{check_scores, test_stream, Params, Samples};
 
     #[test]
     fn ids_are_unique_and_every_plugin_builds_with_its_defaults() {
@@ -81,9 +81,15 @@ mod tests {
             );
             // Silence, then full-scale clipping, then a single sample: finite scores in time order.
             let mut scores = Vec::new();
-            detector.process(&vec![0.0; 20_000], &mut scores).unwrap();
-            detector.process(&vec![1.65; 20_000], &mut scores).unwrap();
-            detector.process(&[0.1], &mut scores).unwrap();
+            detector
+                .process(Samples::Real(&[0.0; 20_000]), &mut scores)
+                .unwrap();
+            detector
+                .process(Samples::Real(&[1.65; 20_000]), &mut scores)
+                .unwrap();
+            detector
+                .process(Samples::Real(&[0.1]), &mut scores)
+                .unwrap();
             assert!(
                 check_scores(&scores).is_ok(),
                 "{}: {:?}",

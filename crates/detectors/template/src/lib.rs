@@ -29,7 +29,7 @@
 // The plugin interface and the parameter machinery, from the core crate.
 use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
-    ParamSpec, Params,
+    ParamSpec, Params, Samples,
 };
 // The stream description, the score type and the channel kinds.
 use echobench_core::{Channels, FrameScore, StreamInfo};
@@ -224,7 +224,14 @@ impl TemplateDetector {
 impl Detector for TemplateDetector {
     // Any block length works, and the scores do not depend on it, because all
     // state lives in `self` and is updated one sample at a time.
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        // The block's samples: `build` refused I/Q streams, so these are real
+        // (`values()` would interleave I, Q; `match block` tells them apart).
+        let block = block.values();
         // One sample at a time.
         for &sample in block {
             // The documented NaN rule: a non-finite sample counts as 0.
@@ -301,8 +308,11 @@ mod tests {
         let mut out = Vec::new();
         // Split the stream into blocks.
         for chunk in samples.chunks(block) {
-            // Push each block; an in-process detector never returns a failure.
-            detector.process(chunk, &mut out).expect("no failure");
+            // Push each block, typed as real samples; an in-process detector
+            // never returns a failure.
+            detector
+                .process(Samples::Real(chunk), &mut out)
+                .expect("no failure");
         }
         // All scores, in time order.
         out

@@ -64,7 +64,7 @@
 
 use echobench_core::detector::{
     BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params,
+    ParamError, ParamKind, ParamSpec, Params, Samples,
 };
 use echobench_core::doppler::{self, BandNames};
 use echobench_core::{Channels, FrameScore, StreamInfo};
@@ -444,7 +444,12 @@ impl WindowComparator {
 }
 
 impl Detector for WindowComparator {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         for &sample in block {
             let mut y = if sample.is_finite() {
                 f64::from(sample)
@@ -510,7 +515,7 @@ mod tests {
     fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
         let mut out = Vec::new();
         for chunk in samples.chunks(block.max(1)) {
-            detector.process(chunk, &mut out).unwrap();
+            detector.process(Samples::Real(chunk), &mut out).unwrap();
         }
         out
     }
@@ -811,7 +816,7 @@ mod tests {
             for x in &mut block {
                 *x = normal.sample(&mut rng) as f32;
             }
-            detector.process(&block, &mut out).unwrap();
+            detector.process(Samples::Real(&block), &mut out).unwrap();
             seen += out.len();
             alarms += out.iter().filter(|s| s.value >= theta).count();
             out.clear();

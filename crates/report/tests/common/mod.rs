@@ -4,7 +4,7 @@
 #![allow(dead_code)]
 
 use echobench_core::detector::{
-    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params,
+    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{resolve_detectors, run_suite};
@@ -316,7 +316,12 @@ struct Flaky {
 static NO_PARAMS: [ParamSpec; 0] = [];
 
 impl Detector for Flaky {
-    fn process(&mut self, block: &[f32], out: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+    fn process(
+        &mut self,
+        block: Samples<'_>,
+        out: &mut Vec<FrameScore>,
+    ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         if block.is_empty() {
             return Ok(());
         }

@@ -17,7 +17,7 @@
 
 use echobench_core::detector::{
     Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, FrameScore, ParamError,
-    ParamKind, ParamSpec, Params,
+    ParamKind, ParamSpec, Params, Samples,
 };
 use echobench_core::{Channels, StreamInfo};
 
@@ -159,9 +159,10 @@ impl GatedEnergy {
 impl Detector for GatedEnergy {
     fn process(
         &mut self,
-        block: &[f32],
+        block: Samples<'_>,
         out: &mut Vec<FrameScore>,
     ) -> Result<(), DetectorFailure> {
+        let block = block.values();
         for &sample in block {
             let x = if sample.is_finite() {
                 f64::from(sample)
@@ -208,7 +209,7 @@ mod tests {
         let mut detector = GatedEnergyPlugin.build(&params, &info).expect("defaults fit");
         let mut out = Vec::new();
         for chunk in samples.chunks(block) {
-            detector.process(chunk, &mut out).expect("no failure");
+            detector.process(Samples::Real(chunk), &mut out).expect("no failure");
         }
         out
     }

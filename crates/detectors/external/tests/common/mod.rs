@@ -2,9 +2,9 @@
 #![allow(dead_code)]
 
 use echobench_core::detector::{
-    Detector, DetectorFailure, DetectorPlugin, ParamError, ParamValue, Params,
+    Detector, DetectorFailure, DetectorPlugin, ParamError, ParamValue, Params, Samples,
 };
-use echobench_core::FrameScore;
+use echobench_core::{Channels, FrameScore};
 use echobench_detector_external::ExternalPlugin;
 use std::path::PathBuf;
 use std::process::Command;
@@ -70,27 +70,35 @@ pub fn score_record(t_s: f64, value: f64) -> Vec<u8> {
     bytes
 }
 
-/// Feeds `samples` in blocks of `block` values; returns every score.
+/// Feeds `samples` (interleaved on I/Q streams) in blocks of `block` sample instants;
+/// returns every score.
 ///
 /// # Panics
 /// When the detector fails (see [`run_until_failure`] for tests that expect it to).
-pub fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {
-    let (out, failure) = run_until_failure(detector, samples, block);
+pub fn run(
+    detector: &mut dyn Detector,
+    samples: &[f32],
+    block: usize,
+    channels: Channels,
+) -> Vec<FrameScore> {
+    let (out, failure) = run_until_failure(detector, samples, block, channels);
     if let Some(failure) = failure {
         panic!("the detector failed: {failure}");
     }
     out
 }
 
-/// Feeds `samples` in blocks of `block` values until the detector fails; returns the
-/// scores pushed until then and the failure, if any.
+/// Feeds `samples` in blocks of `block` sample instants until the detector fails;
+/// returns the scores pushed until then and the failure, if any.
 pub fn run_until_failure(
     detector: &mut dyn Detector,
     samples: &[f32],
     block: usize,
+    channels: Channels,
 ) -> (Vec<FrameScore>, Option<DetectorFailure>) {
     let mut out = Vec::new();
-    for chunk in samples.chunks(block.max(1)) {
+    for chunk in samples.chunks(block.max(1) * channels.count()) {
+        let chunk = Samples::from_values(chunk, channels).expect("whole pairs");
         if let Err(failure) = detector.process(chunk, &mut out) {
             return (out, Some(failure));
         }
