@@ -3,7 +3,7 @@
 use crate::data::{self, GridRocPoint, Sweep};
 use crate::markup::Html;
 use crate::plot::{
-    escape, format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
+    format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
     MarkedPoint, Marker, ReferenceLine, Series, Style,
 };
 use crate::{presence_part, product_part, rare_part};
@@ -374,15 +374,15 @@ struct Page {
 }
 
 impl Page {
-    /// A numbered figure: a plot drawn by `echobench_svg` and a caption given as HTML.
-    fn figure(&mut self, svg: &str, caption_html: &str) -> String {
+    /// A numbered figure: a plot drawn by `echobench_svg` and its caption.
+    fn figure(&mut self, svg: &str, caption: &Html) -> String {
         self.figures += 1;
         let mut h = Html::new();
         h.open("figure", &[("id", &format!("figure-{}", self.figures))])
             .push(&Html::raw_html(svg.to_string()))
             .open("figcaption", &[])
             .text(&format!("Figure {}. ", self.figures))
-            .push(&Html::raw_html(caption_html.to_string()))
+            .push(caption)
             .close("figcaption")
             .close("figure");
         h.into_string()
@@ -909,24 +909,26 @@ fn grid_series(points: &[GridRocPoint], style: Style, name: String) -> Series {
 }
 
 /// The caption's sentence on the fold-back rule, naming each cut curve and where it is cut.
-fn fold_back_words<'a>(curves: impl Iterator<Item = (&'a str, &'a [GridRocPoint])>) -> String {
-    let cuts: Vec<String> = curves
-        .filter_map(|(label, points)| {
-            data::fold_back_cut(points).map(|t| {
-                format!(
-                    "<strong>{}</strong> below threshold {}",
-                    escape(label),
-                    format_number(t, 4)
-                )
-            })
-        })
+fn fold_back_words<'a>(curves: impl Iterator<Item = (&'a str, &'a [GridRocPoint])>) -> Html {
+    let cuts: Vec<(&str, f64)> = curves
+        .filter_map(|(label, points)| data::fold_back_cut(points).map(|t| (label, t)))
         .collect();
-    let rule = "Curves are drawn only from the highest threshold down to where the detected events or the false alarms first fall as the threshold is lowered: below that the alarm tends to stay on, fewer onsets count, both Pd and the rate drop, and the curve would fold back towards the origin, where up and to the left no longer means better. <code>roc.csv</code> keeps every threshold.";
+    let mut h = Html::new();
+    h.raw("Curves are drawn only from the highest threshold down to where the detected events or the false alarms first fall as the threshold is lowered: below that the alarm tends to stay on, fewer onsets count, both Pd and the rate drop, and the curve would fold back towards the origin, where up and to the left no longer means better. <code>roc.csv</code> keeps every threshold.");
     if cuts.is_empty() {
-        format!("{rule} No curve folds back in this run.")
+        h.raw(" No curve folds back in this run.");
     } else {
-        format!("{rule} Cut here: {}.", cuts.join(", "))
+        h.raw(" Cut here: ");
+        for (k, (label, t)) in cuts.iter().enumerate() {
+            if k > 0 {
+                h.raw(", ");
+            }
+            h.element("strong", &[], label)
+                .text(&format!(" below threshold {}", format_number(*t, 4)));
+        }
+        h.raw(".");
     }
+    h
 }
 
 fn operating_marker(d: &DetectorSummary, op: &OperatingSummary) -> Option<MarkedPoint> {
@@ -994,16 +996,18 @@ fn event_roc(page: &mut Page, part: &Part) -> String {
             label: format!("target {}", fmt_target(t)),
         })
         .collect();
-    let caption = format!(
-        "Each curve sweeps one detector's threshold grid; every scene is pooled, as in <code>roc.csv</code>: Pd is detected target events over all target events, the rate is false alarms over all noise-only test time. {} Markers are the operating points (the thresholds calibrated for each target), with {} intervals on both axes. Dashed vertical lines are the target rates. {}",
-        fold_back_words(
+    let mut caption = Html::new();
+    caption
+        .raw("Each curve sweeps one detector's threshold grid; every scene is pooled, as in <code>roc.csv</code>: Pd is detected target events over all target events, the rate is false alarms over all noise-only test time. ")
+        .push(&fold_back_words(
             part.summaries()
                 .map(|d| d.label.as_str())
-                .zip(curves.iter().map(Vec::as_slice))
-        ),
-        data::confidence_percent(),
-        escape(ZERO_NOTE)
-    );
+                .zip(curves.iter().map(Vec::as_slice)),
+        ))
+        .push(&Html::filled(
+            " Markers are the operating points (the thresholds calibrated for each target), with {} intervals on both axes. Dashed vertical lines are the target rates. {}",
+            &[&data::confidence_percent(), ZERO_NOTE],
+        ));
     let figure = page.figure(&render_chart(&chart), &caption);
     format!("<p>Detection against false alarms, at every threshold the run tried. Up and to the left is better.</p>{figure}")
 }
@@ -1057,7 +1061,7 @@ fn trial_roc(page: &mut Page, part: &Part) -> String {
         ));
     }
     let caption = "One point per trial: a target-scene trial counts as detected, a nuisance-scene trial as a false alarm, when its maximum score reaches the threshold. AUC is the Mann–Whitney area (the chance that a target trial outscores a nuisance trial), ± its Hanley–McNeil standard error. The dotted diagonal is chance. This view ignores timing; the event-level ROC above is the one that counts alarms.";
-    let mut out = page.figure(&render_chart(&chart), &escape(caption));
+    let mut out = page.figure(&render_chart(&chart), &Html::from_text(caption));
     out.push_str(&table(
         &["detector", "AUC", "SE", "target trials", "nuisance trials"],
         &[1, 2, 3, 4],
@@ -1195,19 +1199,19 @@ fn sweep_figure(page: &mut Page, part: &Part, sweep: &Sweep, op_label: &str) -> 
         chart.series.push(series);
     }
     let caption = if target_scene {
-        format!(
+        Html::filled(
             "Scene <code>{}</code>, at the operating point for {}: Pd per sweep value with its {} Wilson interval. Points are spread slightly sideways so the intervals stay apart.",
-            escape(&sweep.scene),
-            escape(op_label),
-            data::confidence_percent()
+            &[&sweep.scene, op_label, &data::confidence_percent()],
         )
     } else {
-        format!(
+        Html::filled(
             "Nuisance scene <code>{}</code>, at the operating point for {}: false alarms per hour per sweep value with the {} exact Poisson interval. {}",
-            escape(&sweep.scene),
-            escape(op_label),
-            data::confidence_percent(),
-            escape(ZERO_NOTE.replace("left edge", "bottom edge").as_str())
+            &[
+                &sweep.scene,
+                op_label,
+                &data::confidence_percent(),
+                &ZERO_NOTE.replace("left edge", "bottom edge"),
+            ],
         )
     };
     page.figure(&render_chart(&chart), &caption)
@@ -1302,16 +1306,16 @@ fn latency(page: &mut Page, part: &Part) -> String {
     let op_label = targets(part)
         .first()
         .map_or_else(String::new, |t| format!(" for {}", fmt_target(*t)));
-    let caption = format!(
-        "Empirical distribution of the latency of detected events (first counted alarm minus the event's start; negative when the alarm came within the early tolerance), at the operating point{}. Markers are the medians with their {} distribution-free interval.{}",
-        escape(&op_label),
-        data::confidence_percent(),
-        if undetected.is_empty() {
-            String::new()
-        } else {
-            format!(" No event detected, so no curve: {}.", escape(&undetected.join(", ")))
-        }
+    let mut caption = Html::filled(
+        "Empirical distribution of the latency of detected events (first counted alarm minus the event's start; negative when the alarm came within the early tolerance), at the operating point{}. Markers are the medians with their {} distribution-free interval.",
+        &[&op_label, &data::confidence_percent()],
     );
+    if !undetected.is_empty() {
+        caption.push(&Html::filled(
+            " No event detected, so no curve: {}.",
+            &[&undetected.join(", ")],
+        ));
+    }
     let mut out = page.figure(&render_chart(&chart), &caption);
     out.push_str(&table(
         &[
@@ -1379,10 +1383,9 @@ fn false_alarms_by_nuisance(page: &mut Page, part: &Part) -> String {
     let op_label = targets(part)
         .first()
         .map_or_else(String::new, |t| format!(" for {}", fmt_target(*t)));
-    let caption = format!(
+    let caption = Html::filled(
         "At the operating point{}: each false alarm is counted against every nuisance source active at its time (so a scene with two swaying objects counts it twice), per hour of all noise-only test time, with the {} exact Poisson interval; the count is in brackets.",
-        escape(&op_label),
-        data::confidence_percent()
+        &[&op_label, &data::confidence_percent()],
     );
     let mut out = page.figure(&render_bar_chart(&chart), &caption);
     let _ = write!(
@@ -1408,10 +1411,9 @@ fn hold_tradeoff(page: &mut Page, part: &Part) -> String {
                 .join(", ")
         })
         .unwrap_or_default();
-    let caption = format!(
+    let caption = Html::filled(
         "Each line is one detector at its operating threshold for the first budget, re-scored on the same test trials at every hold of the sweep ({}), shortest hold at the left. False-on time counts all empty test time: the rooms, and the time before a visitor comes and after they leave, where a long hold keeps the light on for nobody. A longer hold never gives more drop-outs nor less false-on time (without a lock-out), so each line runs up-left to down-right: pick the hold whose drop-outs a still reader tolerates and whose false-on time the empty room can afford. The bars at the product's own hold are {} intervals.",
-        escape(&holds),
-        data::confidence_percent()
+        &[&holds, &data::confidence_percent()],
     );
     page.figure(&render_chart(&chart), &caption)
 }
@@ -1660,16 +1662,19 @@ fn suite_text(run: &RunFolder) -> String {
 
 fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> String {
     let run = part.run;
-    let mut out = format!(
+    let mut out = Html::filled(
         "<p>Baseline: suite <code>{}</code>, seed {}, {} test trials. This run: suite <code>{}</code>, seed {}, {} test trials. Detectors are matched by product and label; intervals are {}.</p>",
-        escape(&baseline.summary.suite),
-        baseline.summary.seed,
-        baseline.summary.test_trials,
-        escape(&run.summary.suite),
-        run.summary.seed,
-        run.summary.test_trials,
-        data::confidence_percent()
-    );
+        &[
+            &baseline.summary.suite,
+            &baseline.summary.seed.to_string(),
+            &baseline.summary.test_trials.to_string(),
+            &run.summary.suite,
+            &run.summary.seed.to_string(),
+            &run.summary.test_trials.to_string(),
+            &data::confidence_percent(),
+        ],
+    )
+    .into_string();
     // The baseline's detector of the same product and label, by its index in the baseline.
     let pairs: Vec<(usize, &DetectorSummary, &DetectorSummary, usize)> = part
         .summaries()
@@ -1795,10 +1800,12 @@ fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> St
         );
         out.push_str(&note.into_string());
     }
-    let _ = write!(
-        out,
-        "<h4>Event-level ROC, this run (solid) against the baseline (dashed)</h4><p class=\"note\">Dashed vertical lines are the target rates. Each curve is drawn down to the threshold where its detected events or false alarms first fall (below it the curve folds back; see the event-level ROC above). {}</p><div class=\"grid2\">",
-        escape(ZERO_NOTE)
+    out.push_str(
+        &Html::filled(
+            "<h4>Event-level ROC, this run (solid) against the baseline (dashed)</h4><p class=\"note\">Dashed vertical lines are the target rates. Each curve is drawn down to the threshold where its detected events or false alarms first fall (below it the curve folds back; see the event-level ROC above). {}</p><div class=\"grid2\">",
+            &[ZERO_NOTE],
+        )
+        .into_string(),
     );
     for (i, d, _, j) in &pairs {
         let ours = data::grid_roc(part.detectors[*i].1);
@@ -1844,15 +1851,13 @@ fn baseline_comparison(page: &mut Page, part: &Part, baseline: &RunFolder) -> St
                     .map(|t| format!("{which} cut below threshold {}", format_number(t, 4)))
             })
             .collect();
-        let caption = format!(
-            "<strong>{}</strong>: markers are this run's operating points.{}",
-            escape(&d.label),
-            if cuts.is_empty() {
-                String::new()
-            } else {
-                format!(" Folds back, not drawn: {}.", cuts.join("; "))
-            }
+        let mut caption = Html::filled(
+            "<strong>{}</strong>: markers are this run's operating points.",
+            &[&d.label],
         );
+        if !cuts.is_empty() {
+            caption.text(&format!(" Folds back, not drawn: {}.", cuts.join("; ")));
+        }
         out.push_str(&page.figure(&render_chart(&chart), &caption));
     }
     out.push_str("</div>");
@@ -1909,12 +1914,9 @@ fn product_entries(
     if let Some(table) = rare_part::rare_table(part) {
         let mut html = table.into_string();
         for (label, room, chart) in rare_part::rate_charts(part, &|i| style_for(i, false)) {
-            let caption = format!(
+            let caption = Html::filled(
                 "{}: false alarms per hour against threshold in {}, the room that sets its one-per-day threshold. Dots: counted on the room's calibration trials at each grid threshold above the fit threshold, with {} exact Poisson intervals (a count of 0 sits on the axis's zero edge). Solid line: the fitted generalized Pareto tail; dashed: its {} profile-likelihood band. Where the dots still reach, the curve must pass through them; below the lowest dot only the fit speaks. Horizontal lines: one false alarm per hour, day, week and month.",
-                escape(&label),
-                escape(&room),
-                data::confidence_percent(),
-                data::confidence_percent()
+                &[&label, &room, &data::confidence_percent(), &data::confidence_percent()],
             );
             html.push_str(&page.figure(&render_chart(&chart), &caption));
         }

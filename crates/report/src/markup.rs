@@ -28,6 +28,28 @@ impl Html {
         h
     }
 
+    /// Markup written in this crate with `{}` holes, each filled with the next of `texts`,
+    /// escaped (a caption: its wording and tags are the code's, the names in it a file's).
+    ///
+    /// # Panics
+    /// When the number of holes and of texts differ (a mistake in the code).
+    pub(crate) fn filled(template: &'static str, texts: &[&str]) -> Html {
+        let pieces: Vec<&'static str> = template.split("{}").collect();
+        assert_eq!(
+            pieces.len(),
+            texts.len() + 1,
+            "holes and texts of {template:?}"
+        );
+        let mut h = Html::new();
+        for (k, piece) in pieces.iter().enumerate() {
+            h.raw(piece);
+            if let Some(text) = texts.get(k) {
+                h.text(text);
+            }
+        }
+        h
+    }
+
     /// Markup taken as it is, unescaped: only for HTML built by code (a plot drawn by
     /// `echobench_svg`, whose text is escaped there; a section body a caller hands in as
     /// HTML), never for text read from a file.
@@ -121,5 +143,10 @@ mod tests {
         let mut e = Html::new();
         e.element("code", &[], "x<y");
         assert_eq!(e.into_string(), "<code>x&lt;y</code>");
+        let filled = Html::filled("Scene <code>{}</code> at {}.", &["a<b", "1 & 2"]);
+        assert_eq!(
+            filled.into_string(),
+            "Scene <code>a&lt;b</code> at 1 &amp; 2."
+        );
     }
 }
