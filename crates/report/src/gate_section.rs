@@ -1,47 +1,54 @@
 //! The gate's verdict as a report section.
 
 use crate::html::Section;
-use crate::plot::escape;
+use crate::markup::Html;
 use echobench_harness::gate::{ComparisonKey, GateReport, Verdict};
-use std::fmt::Write as _;
 
 /// A section with the gate's verdict: one line per detector, then every failing check with its
 /// counts, ratio, bound and p-value, then the notes.
 pub fn gate_section(report: &GateReport) -> Section {
-    let mut html = String::new();
+    let mut html = Html::new();
     let inconclusive = report.inconclusive().count();
-    let verdict = if report.regressions().next().is_some() {
-        format!(
-            "<p class=\"bad\">Gate: REGRESSION — {} failing check(s).</p>",
-            report.regressions().count()
-        )
+    if report.regressions().next().is_some() {
+        html.element(
+            "p",
+            &[("class", "bad")],
+            &format!(
+                "Gate: REGRESSION — {} failing check(s).",
+                report.regressions().count()
+            ),
+        );
     } else if inconclusive == 0 {
-        "<p class=\"good\">Gate: pass — no regression against the baseline.</p>".to_string()
+        html.raw("<p class=\"good\">Gate: pass — no regression against the baseline.</p>");
     } else {
-        format!(
-            "<p class=\"{}\">Gate: {} — no regression; {inconclusive} budget check(s) cannot tell yet (too little noise-only time).</p>",
-            if report.passed() { "good" } else { "bad" },
-            escape(&report.verdict_words())
-        )
-    };
-    html.push_str(&verdict);
-    let _ = write!(
-        html,
+        html.element(
+            "p",
+            &[("class", if report.passed() { "good" } else { "bad" })],
+            &format!(
+                "Gate: {} — no regression; {inconclusive} budget check(s) cannot tell yet (too little noise-only time).",
+                report.verdict_words()
+            ),
+        );
+    }
+    html.push(&Html::filled(
         "<p class=\"note\">Rate margin ρ₀ = {}, α = {} after Holm within each detector and check{}. \
          Paired rows count the trials where only that run alarmed falsely (or missed an event).</p>",
-        report.settings.ratio_margin,
-        report.settings.alpha,
-        if report.paired {
-            "; paired on the same seeds"
-        } else {
-            "; not paired (different seeds)"
-        }
-    );
+        &[
+            &report.settings.ratio_margin.to_string(),
+            &report.settings.alpha.to_string(),
+            if report.paired {
+                "; paired on the same seeds"
+            } else {
+                "; not paired (different seeds)"
+            },
+        ],
+    ));
     // One line per detector; the failing checks in full below it.
-    html.push_str(
+    html.raw(
         "<table><thead><tr><th>detector</th><th class=\"num\">checks tested</th>\
          <th class=\"num\">regressions</th><th class=\"num\">smallest p (Holm)</th><th>verdict</th></tr></thead><tbody>",
     );
+    let num: &[(&'static str, &str)] = &[("class", "num")];
     let mut detectors: Vec<&ComparisonKey> = Vec::new();
     for c in &report.checks {
         if !detectors.contains(&&c.key) {
@@ -73,17 +80,19 @@ pub fn gate_section(report: &GateReport) -> Section {
         } else {
             "<span class=\"good\">pass</span>"
         };
-        let _ = write!(
-            html,
-            "<tr><td>{}</td><td class=\"num\">{tested}</td><td class=\"num\">{failed}</td><td class=\"num\">{}</td><td>{verdict}</td></tr>",
-            escape(&d.label()),
-            p_text(smallest)
-        );
+        html.raw("<tr>")
+            .element("td", &[], &d.label())
+            .element("td", num, &tested.to_string())
+            .element("td", num, &failed.to_string())
+            .element("td", num, &p_text(smallest))
+            .raw("<td>")
+            .raw(verdict)
+            .raw("</td></tr>");
     }
-    html.push_str("</tbody></table>");
+    html.raw("</tbody></table>");
     let failing: Vec<_> = report.regressions().collect();
     if !failing.is_empty() {
-        html.push_str(
+        html.raw(
             "<h3>Failing checks</h3><table><thead><tr><th>detector</th><th>check</th><th class=\"num\">at /h</th><th>group</th>\
              <th>baseline</th><th>candidate</th><th class=\"num\">ratio</th><th class=\"num\">bound</th>\
              <th class=\"num\">p (Holm)</th><th>test</th></tr></thead><tbody>",
@@ -92,43 +101,41 @@ pub fn gate_section(report: &GateReport) -> Section {
             x.map_or_else(|| "—".into(), |v| format!("{v:.digits$}"))
         };
         for c in failing {
-            let _ = write!(
-                html,
-                "<tr><td>{}</td><td>{}</td><td class=\"num\">{}</td><td>{}</td><td>{}</td><td>{}</td>\
-                 <td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
-                escape(&c.key.label()),
-                escape(c.metric.name()),
-                c.target_per_hour,
-                escape(&c.group),
-                escape(&c.baseline),
-                escape(&c.candidate),
-                number(c.ratio, 2),
-                number(c.bound, 3),
-                p_text(c.adjusted_p),
-                escape(&c.note)
-            );
+            html.raw("<tr>")
+                .element("td", &[], &c.key.label())
+                .element("td", &[], c.metric.name())
+                .element("td", num, &c.target_per_hour.to_string())
+                .element("td", &[], &c.group)
+                .element("td", &[], &c.baseline)
+                .element("td", &[], &c.candidate)
+                .element("td", num, &number(c.ratio, 2))
+                .element("td", num, &number(c.bound, 3))
+                .element("td", num, &p_text(c.adjusted_p))
+                .element("td", &[], &c.note)
+                .raw("</tr>");
         }
-        html.push_str("</tbody></table>");
+        html.raw("</tbody></table>");
     }
     for c in report.inconclusive() {
-        let _ = write!(
-            html,
+        html.push(&Html::filled(
             "<p class=\"note\">Inconclusive — {}, {} at {}/h: {}</p>",
-            escape(&c.key.label()),
-            escape(c.metric.name()),
-            c.target_per_hour,
-            escape(&c.note)
-        );
+            &[
+                &c.key.label(),
+                c.metric.name(),
+                &c.target_per_hour.to_string(),
+                &c.note,
+            ],
+        ));
     }
-    html.push_str(
+    html.raw(
         "<p class=\"note\">Every check with its counts is in the run's <code>gate.md</code>, \
          <code>gate-junit.xml</code> and <code>gate.json</code> (<code>echobench gate</code>).</p>",
     );
     for note in &report.notes {
-        let _ = write!(html, "<p class=\"note\">{}</p>", escape(note));
+        html.element("p", &[("class", "note")], note);
     }
     // The gate checks every product; its section is about the whole run.
-    Section::new("Regression gate against the baseline", html)
+    Section::new("Regression gate against the baseline", html.into_string())
 }
 
 fn p_text(p: Option<f64>) -> String {
