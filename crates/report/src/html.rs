@@ -12,7 +12,6 @@ use echobench_harness::summary::{
     rate_label, DetectorSummary, Estimate, OperatingSummary, ProductSummary,
 };
 use echobench_run_files::RunFolder;
-use std::fmt::Write as _;
 
 /// A section added by the caller (the gate's verdict, a gallery of explained trials): a
 /// title, escaped when rendered, and a body of HTML inserted as given, so it must come from
@@ -1388,10 +1387,12 @@ fn false_alarms_by_nuisance(page: &mut Page, part: &Part) -> String {
         &[&op_label, &data::confidence_percent()],
     );
     let mut out = page.figure(&render_bar_chart(&chart), &caption);
-    let _ = write!(
-        out,
-        "<p class=\"note\">False alarms per room, with each room's calibration rate and the room that set each threshold, are in the <a href=\"#{}\">false-alarm table</a>.</p>",
-        part.id("false-alarm-table")
+    out.push_str(
+        &Html::filled(
+            "<p class=\"note\">False alarms per room, with each room's calibration rate and the room that set each threshold, are in the <a href=\"#{}\">false-alarm table</a>.</p>",
+            &[&part.id("false-alarm-table")],
+        )
+        .into_string(),
     );
     out
 }
@@ -1464,13 +1465,14 @@ fn cost(part: &Part) -> String {
     );
     match &run.timing {
         Some(t) => {
-            let _ = write!(
-                out,
+            out.push_str(&Html::filled(
                 "<p class=\"note\">Measured in this run: each detector's processing time summed over threads, divided by the {} samples of this product's test trials every detector was fed ({} s of wall time for the whole run, {} s of it synthesis summed over threads). It is a wall-clock figure of the machine that ran the suite, useful to compare detectors with each other; for a microcontroller, the declared state memory and arithmetic per sample (as each plugin states them for this suite's stream) are the better guide.</p>",
-                fmt_count(t.samples_by_product.get(part.name).copied().unwrap_or(0)),
-                format_number(t.wall_s, 3),
-                format_number(t.synthesis_s, 3)
-            );
+                &[
+                    &fmt_count(t.samples_by_product.get(part.name).copied().unwrap_or(0)),
+                    &format_number(t.wall_s, 3),
+                    &format_number(t.synthesis_s, 3),
+                ],
+            ).into_string());
         }
         None => out.push_str("<p class=\"note\">Time per sample: not measured. This folder has no <code>timing.json</code> (a merged run keeps no wall-clock figures). The declared state memory and arithmetic per sample are what each plugin states for this suite's stream.</p>"),
     }
