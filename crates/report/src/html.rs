@@ -1008,7 +1008,10 @@ fn event_roc(page: &mut Page, part: &Part) -> String {
             &[&data::confidence_percent(), ZERO_NOTE],
         ));
     let figure = page.figure(&render_chart(&chart), &caption);
-    format!("<p>Detection against false alarms, at every threshold the run tried. Up and to the left is better.</p>{figure}")
+    let mut out = Html::new();
+    out.raw("<p>Detection against false alarms, at every threshold the run tried. Up and to the left is better.</p>")
+        .push(&Html::raw_html(figure));
+    out.into_string()
 }
 
 fn trial_roc(page: &mut Page, part: &Part) -> String {
