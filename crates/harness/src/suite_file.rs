@@ -160,7 +160,7 @@ pub const DEFAULT_SUITE_YAML: &str = include_str!("../../../scenarios/default-su
 ///
 /// One explicit table, so that the binary carries exactly these files; a test
 /// checks it against the folder `scenarios/suite-scenes/` and the suite.
-pub static DEFAULT_SUITE_SCENES: [(&str, &str); 21] = [
+pub static DEFAULT_SUITE_SCENES: [(&str, &str); 22] = [
     (
         "suite-scenes/bedroom-curtain-draught.yaml",
         include_str!("../../../scenarios/suite-scenes/bedroom-curtain-draught.yaml"),
@@ -176,6 +176,10 @@ pub static DEFAULT_SUITE_SCENES: [(&str, &str); 21] = [
     (
         "suite-scenes/empty-corridor-night.yaml",
         include_str!("../../../scenarios/suite-scenes/empty-corridor-night.yaml"),
+    ),
+    (
+        "suite-scenes/corridor-fire-door-draught.yaml",
+        include_str!("../../../scenarios/suite-scenes/corridor-fire-door-draught.yaml"),
     ),
     (
         "suite-scenes/empty-lab-bench.yaml",
