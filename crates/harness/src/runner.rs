@@ -467,7 +467,12 @@ fn jobs(suite: &Suite, calibration: bool, shard: Option<Shard>) -> Vec<Job> {
     let mut out = Vec::new();
     for (si, scene) in suite.scenes.iter().enumerate() {
         let count = if calibration {
-            scene.calibration_trials
+            // A rare event is never calibrated on, whatever a suite built in code says.
+            if scene.occurrences_per_day.is_some() {
+                0
+            } else {
+                scene.calibration_trials
+            }
         } else {
             scene.trials
         };
@@ -1514,7 +1519,10 @@ struct RoomCounts {
 fn rooms_of(suite: &Suite, grid_len: usize) -> Vec<RoomCounts> {
     let mut out = Vec::new();
     for (si, scene) in suite.scenes.iter().enumerate() {
-        if scene.label != SceneLabel::Nuisance || scene.calibration_trials == 0 {
+        if scene.label != SceneLabel::Nuisance
+            || scene.calibration_trials == 0
+            || scene.occurrences_per_day.is_some()
+        {
             continue;
         }
         for vi in 0..scene.variants.len() {

@@ -153,7 +153,7 @@ fn out_of_band_goes_away_with_the_band_in_metres_per_second() {
     // nuisance band, which the loader's coverage check finds.
     let plugins = echobench_detectors::builtin();
     let text = echobench_harness::suite_file::DEFAULT_SUITE_YAML.replace(
-        "  - plugin: band-ratio\n",
+        "  - registered: all\n",
         "  - plugin: band-ratio\n    params: {band_units: hz, motion_low_hz: 10, motion_high_hz: 80, reference_low_hz: 100, reference_high_hz: 400}\n",
     );
     let (in_hz, _) = echobench_harness::suite_file::load_suite_text(

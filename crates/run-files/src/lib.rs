@@ -123,11 +123,20 @@ fn read_versioned<T: serde::de::DeserializeOwned>(
     path: &Path,
     text: &str,
 ) -> Result<T, RunFileError> {
-    let value: serde_json::Value = serde_json::from_str(text).map_err(|e| RunFileError::Parse {
+    /// Only the version, read first. The whole file is then parsed from the text, not from a
+    /// `serde_json::Value`, which would turn integers above u64 (the u128 sums of squares in
+    /// the tallies) into floats and refuse them.
+    #[derive(serde::Deserialize)]
+    struct Version {
+        schema: Option<u64>,
+    }
+    let parse_error = |e: serde_json::Error| RunFileError::Parse {
         path: path.to_path_buf(),
         message: e.to_string(),
-    })?;
-    let found = value.get("schema").and_then(serde_json::Value::as_u64);
+    };
+    let found = serde_json::from_str::<Version>(text)
+        .map_err(parse_error)?
+        .schema;
     if found != Some(u64::from(SCHEMA_VERSION)) {
         return Err(RunFileError::Schema {
             path: path.to_path_buf(),
@@ -135,10 +144,7 @@ fn read_versioned<T: serde::de::DeserializeOwned>(
             expected: SCHEMA_VERSION,
         });
     }
-    serde_json::from_value(value).map_err(|e| RunFileError::Parse {
-        path: path.to_path_buf(),
-        message: e.to_string(),
-    })
+    serde_json::from_str(text).map_err(parse_error)
 }
 
 impl RunFolder {
