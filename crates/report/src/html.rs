@@ -6,7 +6,7 @@ use crate::plot::{
     format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
     MarkedPoint, Marker, ReferenceLine, Series, Style,
 };
-use crate::{presence_part, product_part, rare_part};
+use crate::{events_part, presence_part, product_part, rare_part};
 use echobench_harness::runner::DetectorTally;
 use echobench_harness::summary::{
     rate_label, DetectorSummary, Estimate, OperatingSummary, ProductSummary,
@@ -1916,6 +1916,13 @@ fn product_entries(
         "False alarms by room",
         product_part::false_alarm_tables(part).into_string(),
     );
+    if let Some(table) = events_part::events_table(part) {
+        add(
+            "rare-events",
+            "Rare events: false alarms per occurrence",
+            table.into_string(),
+        );
+    }
     if let Some(table) = rare_part::rare_table(part) {
         let mut html = table.into_string();
         for (label, room, chart) in rare_part::rate_charts(part, &|i| style_for(i, false)) {

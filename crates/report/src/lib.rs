@@ -35,6 +35,7 @@
 #![deny(missing_docs)]
 
 mod data;
+mod events_part;
 mod gate_section;
 mod html;
 mod markup;

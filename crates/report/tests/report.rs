@@ -460,3 +460,54 @@ fn hostile_detector_labels_and_scene_names_are_escaped_everywhere() {
         .sum();
     assert!(in_plots >= 3, "{in_plots} in plots");
 }
+
+#[test]
+fn a_rare_event_gets_its_own_table_and_is_not_a_room() {
+    let door = r#"  - id: fire-door
+    label: nuisance
+    occurrences_per_day: 6
+    trials: 12
+    scene:
+      duration_s: 6
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 2000
+        output: real
+        position_m: [0, 0, 2.5]
+        azimuth_deg: 0
+        elevation_deg: -10
+        beam_azimuth_3db_deg: 80
+        beam_elevation_3db_deg: 40
+        front_end:
+          high_pass_hz: [0.5]
+          low_pass_hz: [100, 100]
+          gain_db: 60
+          rails_v: [0, 3.3]
+        adc: {bits: 12, full_scale_v: 3.3}
+      coverage: {range_m: 16, azimuth_half_deg: 40}
+      environment:
+        white_noise_v_per_rthz: 30e-9
+        flicker_corner_hz: 500
+      actors:
+        - {kind: door, id: door, hinge_m: [2, 0.8], closed_deg: 180, open_deg: 120, open_at_s: 1, swing_s: 1, close_at_s: 3}
+"#;
+    let text = common::SUITE.replace(
+        "  - id: desk-fan-room\n",
+        &format!("{door}  - id: desk-fan-room\n"),
+    );
+    let run = common::run_text(&text);
+    let html = render_html(&run, None, &[]);
+    let section = &html[html.find("id=\"p1-rare-events\"").expect("the section")..];
+    let table = &section[..section.find("</table>").expect("a table")];
+    assert!(table.contains("fire-door (6 per day)"), "{table}");
+    assert!(table.contains("of 12 occurrences"), "{table}");
+    assert!(table.contains(">total<"), "{table}");
+    // Not a room: the false-alarm table by room lists the fan room only.
+    let rooms = &html[html
+        .find("id=\"p1-false-alarm-rooms\"")
+        .expect("the rooms section")..];
+    let rooms = &rooms[..rooms.find("</table>").expect("a table")];
+    assert!(!rooms.contains("fire-door"), "{rooms}");
+    // A run without rare events has no such section.
+    assert!(!render_html(common::small_run(), None, &[]).contains("Rare events: false alarms"));
+}
