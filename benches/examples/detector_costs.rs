@@ -54,12 +54,13 @@ fn main() {
                 adc_bits: 12,
                 carrier_hz,
             };
-            let (state, ops) = match plugin.cost(&params, &info) {
-                Ok(cost) => (
+            let (state, ops) = match (plugin.cost(&params, &info), plugin.check(&params, &info)) {
+                (Some(cost), _) => (
                     format!("{} B", cost.state_bytes),
                     format!("{:.1}", cost.ops_per_sample),
                 ),
-                Err(e) => (format!("error: {e}"), String::new()),
+                (None, Err(e)) => (format!("error: {e}"), String::new()),
+                (None, Ok(())) => ("not declared".to_string(), String::new()),
             };
             let (rate, real_time) = match measured {
                 Some(rate) => (

@@ -866,12 +866,13 @@ fn run_detectors(plugins: &Plugins, sample_rate_hz: f64, carrier_hz: f64) -> Res
     for plugin in plugins.with_external(false) {
         let defaults = Params::defaults(plugin.params());
         println!("{}: {}", plugin.id(), plugin.about());
-        match plugin.cost(&defaults, &info) {
-            Ok(cost) => println!(
+        match (plugin.cost(&defaults, &info), plugin.check(&defaults, &info)) {
+            (Some(cost), _) => println!(
                 "  cost at defaults, {} Hz real input: state {} bytes, ~{:.0} operations per sample",
                 sample_rate_hz, cost.state_bytes, cost.ops_per_sample
             ),
-            Err(e) => println!("  cost at defaults: not available at this stream ({e})"),
+            (None, Err(e)) => println!("  cost at defaults: not available at this stream ({e})"),
+            (None, Ok(())) => println!("  cost at defaults: not declared"),
         }
         let bands = plugin.doppler_bands(&defaults, &info);
         if bands.is_empty() {

@@ -552,7 +552,11 @@ pub mod tests_support {
         ) -> Result<Box<dyn Detector>, ParamError> {
             FlawedPlugin(Flaw::None).build(params, info)
         }
-        fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
+        fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+            FlawedPlugin(Flaw::None).check(params, info)
+        }
+
+        fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
             FlawedPlugin(Flaw::None).cost(params, info)
         }
     }
@@ -581,8 +585,12 @@ pub mod tests_support {
                 consumed: 0,
             }))
         }
-        fn cost(&self, _params: &Params, _info: &StreamInfo) -> Result<Cost, ParamError> {
-            Ok(Cost {
+        fn check(&self, _: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+            crate::detector::check_sample_rate(self.id(), info).map(|_| ())
+        }
+
+        fn cost(&self, _: &Params, _: &StreamInfo) -> Option<Cost> {
+            Some(Cost {
                 state_bytes: 32,
                 ops_per_sample: 3.0,
             })

@@ -16,8 +16,9 @@
 //! A plugin declares its parameters ([`ParamSpec`]: name, unit, default,
 //! allowed range), so that `echobench detectors` can list them and a bad value
 //! is refused with a message naming the parameter, the value and the range,
-//! before any trial runs. It also declares its cost ([`Cost`]): state memory
-//! and arithmetic per sample, for a team that must fit it in a small MCU.
+//! before any trial runs ([`DetectorPlugin::check`]). It may also declare its
+//! cost ([`Cost`]): state memory and arithmetic per sample, for a team that
+//! must fit it in a small MCU.
 
 use crate::doppler::Framing;
 use crate::suggest::nearest;
@@ -200,11 +201,21 @@ pub trait DetectorPlugin: Send + Sync {
     /// (a band above Nyquist, guard cells ≥ training cells, ...).
     fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError>;
 
-    /// What it costs on a small processor with these parameters.
+    /// Checks the parameters against the stream without building anything:
+    /// the refusals [`DetectorPlugin::build`] would give. The suite loader
+    /// calls it for every stream of a suite before any trial runs.
     ///
     /// # Errors
     /// As [`DetectorPlugin::build`].
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError>;
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError>;
+
+    /// What it costs on a small processor with these parameters on this
+    /// stream. `None` (the default) when the plugin declares no cost (an
+    /// external program, unless its suite entry declares one) or when the
+    /// parameters do not fit the stream ([`DetectorPlugin::check`] says why).
+    fn cost(&self, _params: &Params, _info: &StreamInfo) -> Option<Cost> {
+        None
+    }
 
     /// For detectors with a closed-form false-alarm law (CFAR): the score
     /// threshold their theory sets and the per-frame false-alarm probability it

@@ -800,9 +800,6 @@ fn run_product(
         let cost = detector
             .plugin
             .cost(&detector.params, &suite_stream_info(suite))
-            .ok()
-            // All zero is a plugin that cannot know (an external program): "not declared".
-            .filter(|c| c.state_bytes > 0 || c.ops_per_sample > 0.0)
             .map(|c| DeclaredCost {
                 state_bytes: c.state_bytes as u64,
                 ops_per_sample: c.ops_per_sample,

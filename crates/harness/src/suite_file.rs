@@ -2346,9 +2346,9 @@ fn check_streams(
         let plugin = plugins[detector.plugin_index];
         let mut refusals: Vec<String> = Vec::new();
         for (info, scene_id) in &streams {
-            let outcome = catch_unwind(AssertUnwindSafe(|| plugin.cost(&detector.params, info)));
+            let outcome = catch_unwind(AssertUnwindSafe(|| plugin.check(&detector.params, info)));
             let (refusal, param) = match outcome {
-                Ok(Ok(_)) => (None, None),
+                Ok(Ok(())) => (None, None),
                 Ok(Err(e)) => (
                     Some(format!(
                         "parameter `{}` = {}: {}",

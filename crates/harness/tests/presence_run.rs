@@ -64,8 +64,12 @@ impl DetectorPlugin for SilentPlugin {
     fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
         Ok(Box::new(Silent { samples: 0 }))
     }
-    fn cost(&self, _: &Params, _: &StreamInfo) -> Result<Cost, ParamError> {
-        Ok(Cost {
+    fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
+        Ok(())
+    }
+
+    fn cost(&self, _: &Params, _: &StreamInfo) -> Option<Cost> {
+        Some(Cost {
             state_bytes: 8,
             ops_per_sample: 1.0,
         })

@@ -110,8 +110,12 @@ impl DetectorPlugin for CoinPlugin {
     fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
         Ok(Box::new(fresh()))
     }
-    fn cost(&self, _: &Params, _: &StreamInfo) -> Result<Cost, ParamError> {
-        Ok(Cost {
+    fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
+        Ok(())
+    }
+
+    fn cost(&self, _: &Params, _: &StreamInfo) -> Option<Cost> {
+        Some(Cost {
             state_bytes: 32,
             ops_per_sample: 3.0,
         })

@@ -123,8 +123,12 @@ impl DetectorPlugin for PanickingPlugin {
     fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
         Ok(Box::new(Panicking { first: true }))
     }
-    fn cost(&self, _: &Params, _: &StreamInfo) -> Result<Cost, ParamError> {
-        Ok(Cost {
+    fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
+        Ok(())
+    }
+
+    fn cost(&self, _: &Params, _: &StreamInfo) -> Option<Cost> {
+        Some(Cost {
             state_bytes: 1,
             ops_per_sample: 1.0,
         })
@@ -177,8 +181,12 @@ impl DetectorPlugin for NanPlugin {
     fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
         Ok(Box::new(NanDetector))
     }
-    fn cost(&self, _: &Params, _: &StreamInfo) -> Result<Cost, ParamError> {
-        Ok(Cost {
+    fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
+        Ok(())
+    }
+
+    fn cost(&self, _: &Params, _: &StreamInfo) -> Option<Cost> {
+        Some(Cost {
             state_bytes: 1,
             ops_per_sample: 1.0,
         })

@@ -729,9 +729,13 @@ impl DetectorPlugin for BandRatioPlugin {
         Ok(Box::new(BandRatioDetector::new(config)))
     }
 
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        let config = BandRatioConfig::from_params(params, info)?;
-        Ok(Cost {
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+        BandRatioConfig::from_params(params, info).map(|_| ())
+    }
+
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        let config = BandRatioConfig::from_params(params, info).ok()?;
+        Some(Cost {
             state_bytes: config.state_bytes(),
             ops_per_sample: config.ops_per_sample(),
         })

@@ -182,7 +182,7 @@ fn mean_ratio_of_white_noise_follows_the_f_law() {
     let threshold = f_law.inverse_cdf(1.0 - 1e-3);
     assert!(
         (threshold / 2.978561 - 1.0).abs() <= 1e-6,
-        "statrs F⁻¹ = {threshold}, detection.md CV15 2.978561"
+        "statrs F⁻¹ = {threshold}, docs/reference/check-values.md#cv15 2.978561"
     );
 
     // The plugin reports the same threshold as its nominal operating point,
@@ -230,7 +230,7 @@ fn detection_of_a_gaussian_motion_signal_follows_the_scaled_f_law() {
     let expected_pd = f_law.sf(threshold / (1.0 + snr));
     assert!(
         (expected_pd - 0.131750).abs() <= 1e-6,
-        "statrs F.sf = {expected_pd}, detection.md CV15 0.131750"
+        "statrs F.sf = {expected_pd}, docs/reference/check-values.md#cv15 0.131750"
     );
 
     // Per frame: white noise (σ²) plus Σ_k a_k cos(2πkn/N) + b_k sin(2πkn/N) over
@@ -537,7 +537,7 @@ fn refuses_bad_parameters_naming_them() {
         ..info
     };
     refused(&[], &bad_rate, "sample_rate_hz");
-    assert!(BandRatioPlugin.cost(&params(&[]), &bad_rate).is_err());
+    assert!(BandRatioPlugin.check(&params(&[]), &bad_rate).is_err());
 }
 
 #[test]

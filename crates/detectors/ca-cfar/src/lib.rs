@@ -575,10 +575,15 @@ impl DetectorPlugin for CaCfarPlugin {
         Ok(Box::new(CaCfarDetector::new(&config, info)?))
     }
 
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
         let config = CaCfarConfig::from_params(params, info)?;
-        let layout = validate(&config, info)?;
-        Ok(cost_of(&config, &layout))
+        validate(&config, info).map(|_| ())
+    }
+
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        let config = CaCfarConfig::from_params(params, info).ok()?;
+        let layout = validate(&config, info).ok()?;
+        Some(cost_of(&config, &layout))
     }
 
     /// The cells under test, `[low, high]` in Hz as used.

@@ -143,12 +143,16 @@ impl DetectorPlugin for EnergyCPlugin {
         Ok(Box::new(EnergyC::new(config)?))
     }
 
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        let config = Config::from_params(params, info)?;
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+        Config::from_params(params, info).map(|_| ())
+    }
+
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        let config = Config::from_params(params, info).ok()?;
         // Per sample: the NaN test, one square, the ring and countdown updates
         // (~4 operations); per frame end: frame_len adds and one divide.
         let ops_per_sample = 4.0 + (config.frame_len as f64 + 1.0) / config.hop as f64;
-        Ok(Cost {
+        Some(Cost {
             state_bytes: firmware_facts().state_bytes,
             ops_per_sample,
         })

@@ -206,8 +206,12 @@ impl DetectorPlugin for EnergyPlugin {
         Ok(Box::new(EnergyDetector::new(params, info)?))
     }
 
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        let config = Config::from_params(params, info)?;
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+        Config::from_params(params, info).map(|_| ())
+    }
+
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        let config = Config::from_params(params, info).ok()?;
         let channels = config.channels;
         let sections = usize::from(config.low_hz > 0.0) + usize::from(config.high_hz > 0.0);
         // State as implemented (f64 everywhere): the ring of frame_len squared
@@ -225,7 +229,7 @@ impl DetectorPlugin for EnergyPlugin {
             + (2 * channels - 1) as f64
             + config.frame_len as f64 / config.hop as f64
             + 6.0 / config.hop as f64;
-        Ok(Cost {
+        Some(Cost {
             state_bytes,
             ops_per_sample,
         })
@@ -766,7 +770,7 @@ mod tests {
             .expect("zero sample rate refused");
         assert_eq!(no_rate.param, "sample_rate_hz");
         assert!(EnergyPlugin
-            .cost(&Params::defaults(&PARAMS), &test_stream(f64::NAN))
+            .check(&Params::defaults(&PARAMS), &test_stream(f64::NAN))
             .is_err());
     }
 

@@ -24,9 +24,9 @@
 //!
 //! [`ExternalPlugin::new`]`(allow_exec)` takes the user's consent: the
 //! command line passes `true` only with `--allow-exec`. Without it, `build`
-//! and `cost` refuse with a [`ParamError`] on `command` that says so, so a
+//! and `check` refuse with a [`ParamError`] on `command` that says so, so a
 //! suite file from an untrusted branch cannot start programs on a CI machine
-//! by itself (and the suite loader, which calls `cost`, reports it before any
+//! by itself (and the suite loader, which calls `check`, reports it before any
 //! trial runs). `new` is a `const fn`, so a registry can keep both variants in
 //! `static`s, as the plugin traits' `&'static` ids and tables expect.
 //!
@@ -180,11 +180,9 @@
 //!
 //! What a program costs cannot be known from outside, so [`Cost`] is
 //! "declared by nobody" unless the suite declares it: `cost()` returns the
-//! `state_bytes` and `ops_per_sample` parameters as given, 0 when not set.
-//! The runner records those numbers as the detector's declared cost, so a
-//! report shows 0 for an undeclared external detector: read 0 here as "not
-//! declared", not as free. (A port's own figures belong in the suite next to
-//! the command, where a reviewer sees them.)
+//! `state_bytes` and `ops_per_sample` parameters as given, and `None` (not
+//! declared) when both are 0, their default. (A port's own figures belong in
+//! the suite next to the command, where a reviewer sees them.)
 //!
 //! # A Python detector
 //!
@@ -370,10 +368,16 @@ impl DetectorPlugin for ExternalPlugin {
         Ok(Box::new(ExternalDetector::spawn(program, info)?))
     }
 
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
         check_stream(info)?;
+        self.configure(params).map(|_| ())
+    }
+
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        check_stream(info).ok()?;
         // Declared by nobody unless the suite declares it (crate doc, "Cost").
-        Ok(self.configure(params)?.1)
+        let declared = self.configure(params).ok()?.1;
+        (declared.state_bytes > 0 || declared.ops_per_sample > 0.0).then_some(declared)
     }
 }
 

@@ -266,7 +266,7 @@ fn a_wrong_version_or_a_missing_program_fails_the_build_naming_it() {
     // The suite loader's check (`cost`) sees a missing program too, before any trial.
     let plugin = ExternalPlugin::new(true);
     let params = params("/no/such/folder/detector.py", "", &[]).expect("resolves");
-    assert!(plugin.cost(&params, &test_stream(FS)).is_err());
+    assert!(plugin.check(&params, &test_stream(FS)).is_err());
 }
 
 #[test]
@@ -281,7 +281,9 @@ fn without_allow_exec_nothing_runs() {
             .build(&params, &test_stream(FS))
             .err()
             .expect("refused"),
-        plugin.cost(&params, &test_stream(FS)).expect_err("refused"),
+        plugin
+            .check(&params, &test_stream(FS))
+            .expect_err("refused"),
     ] {
         assert_eq!(error.param, "command");
         assert!(error.message.contains("--allow-exec"), "{error}");
@@ -323,16 +325,12 @@ fn bad_parameters_are_refused_by_name() {
 }
 
 #[test]
-fn declared_cost_is_passed_through_and_zero_when_undeclared() {
+fn declared_cost_is_passed_through_and_none_when_undeclared() {
     let plugin = ExternalPlugin::new(true);
     let info = test_stream(FS);
-    let undeclared = plugin
-        .cost(&params("/bin/sh", "", &[]).expect("resolves"), &info)
-        .expect("ok");
-    assert_eq!(
-        (undeclared.state_bytes, undeclared.ops_per_sample),
-        (0, 0.0)
-    );
+    let undeclared = params("/bin/sh", "", &[]).expect("resolves");
+    assert_eq!(plugin.check(&undeclared, &info), Ok(()));
+    assert_eq!(plugin.cost(&undeclared, &info), None);
     let declared = plugin
         .cost(
             &params(

@@ -726,9 +726,13 @@ impl DetectorPlugin for PeriodicityPlugin {
         Ok(Box::new(PeriodicityDetector::new(config)))
     }
 
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        let config = PeriodicityConfig::from_params(params, info)?;
-        Ok(Cost {
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+        PeriodicityConfig::from_params(params, info).map(|_| ())
+    }
+
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        let config = PeriodicityConfig::from_params(params, info).ok()?;
+        Some(Cost {
             state_bytes: config.state_bytes(),
             ops_per_sample: config.ops_per_sample(),
         })

@@ -494,7 +494,7 @@ fn refuses_bad_parameters_naming_them() {
             Err(e) => e,
             Ok(p) => match PeriodicityPlugin.build(&p, info) {
                 Err(e) => {
-                    assert!(PeriodicityPlugin.cost(&p, info).is_err());
+                    assert!(PeriodicityPlugin.check(&p, info).is_err());
                     e
                 }
                 Ok(_) => panic!("{given:?} was accepted"),

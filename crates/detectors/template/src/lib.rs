@@ -85,18 +85,25 @@ impl DetectorPlugin for TemplatePlugin {
 
     // Checks the parameters against the stream and makes a running detector.
     fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        // All checks live in one place, shared with `cost`.
+        // All checks live in one place, shared with `check` and `cost`.
         let config = Config::from_params(params, info)?;
         // A fresh detector, boxed behind the trait.
         Ok(Box::new(TemplateDetector::new(config)))
     }
 
-    // What a port to a small MCU would cost.
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        // The same checks as `build`: a bad combination is refused here too.
-        let config = Config::from_params(params, info)?;
-        // Ok with the declared cost.
-        Ok(Cost {
+    // The refusals `build` would give, without building: the suite loader
+    // calls this for every stream of a suite before any trial runs.
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+        // The same checks as `build`, in the one place they live.
+        Config::from_params(params, info).map(|_| ())
+    }
+
+    // What a port to a small MCU would cost; `None` would mean "not declared".
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        // Parameters that do not fit the stream have no cost (`check` says why).
+        let config = Config::from_params(params, info).ok()?;
+        // The declared cost.
+        Some(Cost {
             // State: sum, minimum, maximum (f64) and two counters (u64) = 5 × 8 bytes.
             state_bytes: 5 * 8,
             // Per sample: 1 add and 2 compares; per frame: 1 divide, 2
@@ -106,7 +113,7 @@ impl DetectorPlugin for TemplatePlugin {
     }
 }
 
-/// Checked parameters: what `build` and `cost` agree on.
+/// Checked parameters: what `build`, `check` and `cost` agree on.
 #[derive(Debug, Clone, Copy)]
 struct Config {
     // Frame length converted to whole samples (at least 1). No sample rate:

@@ -167,8 +167,12 @@ impl DetectorPlugin for WindowComparatorPlugin {
         Ok(Box::new(WindowComparator::new(&config)))
     }
 
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        let config = Config::from_params(params, info)?;
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+        Config::from_params(params, info).map(|_| ())
+    }
+
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        let config = Config::from_params(params, info).ok()?;
         let window = config.frame_samples + config.retrigger_samples;
         let sections =
             usize::from(config.dc_block_hz > 0.0) + usize::from(config.low_pass_hz > 0.0);
@@ -181,7 +185,7 @@ impl DetectorPlugin for WindowComparatorPlugin {
         // 1; the deque costs 1 compare to expire the oldest entry and, amortised,
         // at most 2 more (every entry is pushed once and popped at most once).
         let ops_per_sample = (sections * 4) as f64 + 1.0 + 3.0;
-        Ok(Cost {
+        Some(Cost {
             state_bytes,
             ops_per_sample,
         })
@@ -729,7 +733,7 @@ mod tests {
         };
         assert_eq!(refused(&[], iq), "channels");
         assert_eq!(refused(&[], test_stream(0.0)), "sample_rate_hz");
-        assert!(WindowComparatorPlugin.cost(&params(&[]), &iq).is_err());
+        assert!(WindowComparatorPlugin.check(&params(&[]), &iq).is_err());
         // Out-of-range values never reach build: the table's ranges refuse them.
         let negative = Params::resolve(
             ID,

@@ -352,8 +352,12 @@ impl DetectorPlugin for FlakyPlugin {
     fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
         Ok(Box::new(Flaky { samples: 0 }))
     }
-    fn cost(&self, _: &Params, _: &StreamInfo) -> Result<Cost, ParamError> {
-        Ok(Cost {
+    fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
+        Ok(())
+    }
+
+    fn cost(&self, _: &Params, _: &StreamInfo) -> Option<Cost> {
+        Some(Cost {
             state_bytes: 16,
             ops_per_sample: 2.0,
         })

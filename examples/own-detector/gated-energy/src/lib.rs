@@ -69,9 +69,13 @@ impl DetectorPlugin for GatedEnergyPlugin {
         Ok(Box::new(GatedEnergy::new(Config::from_params(params, info)?)))
     }
 
-    fn cost(&self, params: &Params, info: &StreamInfo) -> Result<Cost, ParamError> {
-        let config = Config::from_params(params, info)?;
-        Ok(Cost {
+    fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
+        Config::from_params(params, info).map(|_| ())
+    }
+
+    fn cost(&self, params: &Params, info: &StreamInfo) -> Option<Cost> {
+        let config = Config::from_params(params, info).ok()?;
+        Some(Cost {
             // Previous input, previous output, running sum (f32 on an MCU) and a counter.
             state_bytes: 4 * 4,
             // Per sample: 2 adds and 1 multiply for the section, 1 multiply-add for the
