@@ -500,6 +500,44 @@ impl ParamError {
     }
 }
 
+/// Every problem [`Params::resolve`] found (at least one), in the order the
+/// parameters were given, so a suite author fixes them in one pass.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ParamProblems(Vec<ParamError>);
+
+impl std::ops::Deref for ParamProblems {
+    type Target = [ParamError];
+    fn deref(&self) -> &[ParamError] {
+        &self.0
+    }
+}
+
+impl fmt::Display for ParamProblems {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        for (i, problem) in self.0.iter().enumerate() {
+            if i > 0 {
+                f.write_str("; ")?;
+            }
+            write!(f, "{problem}")?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for ParamProblems {}
+
+/// The first problem, for code that stops at one (a plugin's own tests, a
+/// builder that reports one refusal); the suite loader reports them all.
+impl From<ParamProblems> for ParamError {
+    fn from(problems: ParamProblems) -> ParamError {
+        problems
+            .0
+            .into_iter()
+            .next()
+            .expect("ParamProblems holds at least one problem")
+    }
+}
+
 /// Resolved parameters: every declared parameter has a checked value.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Params {
@@ -514,7 +552,8 @@ impl Params {
     /// checking names and ranges.
     ///
     /// # Errors
-    /// An unknown name (with the nearest known name suggested) or a value outside its range.
+    /// Every unknown name (with the nearest known name suggested) and every
+    /// value outside its range, all at once, in the order given.
     ///
     /// ```
     /// use echobench_core::detector::{DefaultValue, ParamKind, ParamSpec, ParamValue, Params};
@@ -524,17 +563,24 @@ impl Params {
     /// }];
     /// let p = Params::resolve("demo", &SPECS, &[]).unwrap();
     /// assert_eq!(p.integer("frame_len"), 256);
-    /// let bad = Params::resolve("demo", &SPECS, &[("frame_len".into(), ParamValue::Integer(-4))]);
-    /// assert!(bad.unwrap_err().to_string().contains("whole number in [8, 4096]"));
+    /// let bad = Params::resolve("demo", &SPECS, &[
+    ///     ("frame_len".into(), ParamValue::Integer(-4)),
+    ///     ("frame_ln".into(), ParamValue::Integer(64)),
+    /// ]);
+    /// let problems = bad.unwrap_err();
+    /// assert_eq!(problems.len(), 2);
+    /// assert!(problems[0].to_string().contains("whole number in [8, 4096]"));
+    /// assert!(problems[1].to_string().contains("did you mean `frame_len`?"));
     /// ```
     pub fn resolve(
         detector: &str,
         specs: &'static [ParamSpec],
         given: &[(String, ParamValue)],
-    ) -> Result<Params, ParamError> {
+    ) -> Result<Params, ParamProblems> {
         let mut values: BTreeMap<&'static str, ParamValue> =
             specs.iter().map(|s| (s.name, s.default_value())).collect();
         let mut set = BTreeSet::new();
+        let mut problems = Vec::new();
         for (name, value) in given {
             let Some(spec) = specs.iter().find(|s| s.name == name) else {
                 let names: Vec<&str> = specs.iter().map(|s| s.name).collect();
@@ -542,20 +588,27 @@ impl Params {
                     || format!("known parameters: {}", names.join(", ")),
                     |n| format!("did you mean `{n}`?"),
                 );
-                return Err(ParamError::new(
+                problems.push(ParamError::new(
                     detector,
                     name,
                     value,
                     format!("unknown parameter ({hint})"),
                 ));
+                continue;
             };
-            let checked = spec
-                .check(value)
-                .map_err(|m| ParamError::new(detector, name, value, m))?;
-            values.insert(spec.name, checked);
-            set.insert(spec.name);
+            match spec.check(value) {
+                Ok(checked) => {
+                    values.insert(spec.name, checked);
+                    set.insert(spec.name);
+                }
+                Err(m) => problems.push(ParamError::new(detector, name, value, m)),
+            }
         }
-        Ok(Params { values, given: set })
+        if problems.is_empty() {
+            Ok(Params { values, given: set })
+        } else {
+            Err(ParamProblems(problems))
+        }
     }
 
     /// The defaults of `specs`.
@@ -730,6 +783,22 @@ mod tests {
         )
         .unwrap_err();
         assert!(e.to_string().contains("number in [0, 10000]"), "{e}");
+    }
+
+    #[test]
+    fn every_problem_is_reported_at_once_in_the_order_given() {
+        let given = [
+            ("low_hz".to_string(), ParamValue::Real(-1.0)),
+            ("smooth".to_string(), ParamValue::Flag(true)),
+            ("windw".to_string(), ParamValue::Text("hann".into())),
+            ("window".to_string(), ParamValue::Text("kaiser".into())),
+        ];
+        let problems = Params::resolve("t", &SPECS, &given).unwrap_err();
+        let named: Vec<&str> = problems.iter().map(|p| p.param.as_str()).collect();
+        assert_eq!(named, ["low_hz", "windw", "window"]);
+        assert!(problems[1].message.contains("did you mean `window`?"));
+        assert_eq!(ParamError::from(problems.clone()).param, "low_hz");
+        assert_eq!(problems.to_string().matches("detector `t`").count(), 3);
     }
 
     #[test]

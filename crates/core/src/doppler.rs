@@ -703,7 +703,7 @@ mod tests {
             .iter()
             .map(|(n, v)| (n.to_string(), v.clone()))
             .collect();
-        Params::resolve("t", &SPECS, &given)
+        Params::resolve("t", &SPECS, &given).map_err(ParamError::from)
     }
 
     fn stream(fs: f64, carrier_hz: f64) -> StreamInfo {

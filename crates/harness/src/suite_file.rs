@@ -50,8 +50,8 @@ use echobench_core::detector::{DetectorPlugin, ParamValue, Params};
 use echobench_core::{Channels, StreamInfo};
 use echobench_scene::{load_scene_node, scene_sanity, SceneSpec};
 use echobench_yaml_reader::{
-    parse, suggest, FieldPath, FromNode, Limits, Location, Node, Problem, Reader, Report,
-    Severity, Value,
+    parse, suggest, FieldPath, FromNode, Limits, Location, Node, Problem, Reader, Report, Severity,
+    Value,
 };
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
@@ -418,7 +418,9 @@ fn read_suite(
         _ => {}
     }
     // No `detectors:` list means every registered plugin at its defaults (`registered: all`).
-    let top_location = f.raw("seed").map_or(Location { line: 1, column: 1 }, |n| n.location);
+    let top_location = f
+        .raw("seed")
+        .map_or(Location { line: 1, column: 1 }, |n| n.location);
     f.finish();
     report.extend(reader.finish());
 
@@ -2173,42 +2175,40 @@ fn read_detectors(
             ok = false;
             continue;
         };
-        // Each entry on its own, so that every refused parameter is reported, not the first.
+        // One resolve reports every refused parameter at once, each at its own line.
         let plugin = plugins[plugin_index];
-        let mut params_ok = true;
-        for (name, value, key_location, value_location) in &given {
-            let one = [(name.clone(), value.clone())];
-            if let Err(e) = Params::resolve(plugin.id(), plugin.params(), &one) {
-                let known = plugin.params().iter().any(|s| s.name == name);
-                let location = if known {
-                    *value_location
-                } else {
-                    *key_location
-                };
-                reader.error(
-                    location,
-                    &format!("{params_path}.{name}"),
-                    format!("{} = {}: {}", name, value, e.message),
-                );
-                params_ok = false;
-            }
-        }
         let param_locations: Vec<(String, Location)> = given
             .iter()
             .map(|(name, _, _, value_location)| (name.clone(), *value_location))
             .collect();
-        let given: Vec<(String, ParamValue)> =
-            given.into_iter().map(|(n, v, _, _)| (n, v)).collect();
-        let params = if params_ok {
-            match Params::resolve(plugin.id(), plugin.params(), &given) {
-                Ok(params) => Some(params),
-                Err(e) => {
-                    reader.error(item.location, &params_path, e.to_string());
-                    None
+        let pairs: Vec<(String, ParamValue)> = given
+            .iter()
+            .map(|(n, v, _, _)| (n.clone(), v.clone()))
+            .collect();
+        let params = match Params::resolve(plugin.id(), plugin.params(), &pairs) {
+            Ok(params) => Some(params),
+            Err(problems) => {
+                for problem in problems.iter() {
+                    let Some((name, value, key_location, value_location)) =
+                        given.iter().find(|(name, ..)| *name == problem.param)
+                    else {
+                        reader.error(item.location, &params_path, problem.to_string());
+                        continue;
+                    };
+                    let known = plugin.params().iter().any(|s| s.name == name);
+                    let location = if known {
+                        *value_location
+                    } else {
+                        *key_location
+                    };
+                    reader.error(
+                        location,
+                        &format!("{params_path}.{name}"),
+                        format!("{} = {}: {}", name, value, problem.message),
+                    );
                 }
+                None
             }
-        } else {
-            None
         };
         let label = label.unwrap_or_else(|| plugin_id.clone());
         if let Some(first) = out.iter().find(|d| d.entry.label == label) {
@@ -2231,7 +2231,7 @@ fn read_detectors(
             entry: DetectorEntry {
                 label,
                 plugin: plugin_id,
-                params: given,
+                params: pairs,
             },
             plugin_index,
             params,

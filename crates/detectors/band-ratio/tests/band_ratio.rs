@@ -3,7 +3,7 @@
 //! and the edge cases every detector must survive.
 
 use echobench_core::detector::{
-    check_scores, test_stream, DetectorPlugin, ParamValue, Params, Samples,
+    check_scores, test_stream, DetectorPlugin, ParamError, ParamValue, Params, Samples,
 };
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_band_ratio::{BandRatioConfig, BandRatioPlugin};
@@ -444,7 +444,7 @@ fn refuses_bad_parameters_naming_them() {
                 .collect::<Vec<_>>(),
         );
         let error = match Params::resolve("band-ratio", BandRatioPlugin.params(), &given) {
-            Err(e) => e,
+            Err(e) => ParamError::from(e),
             Ok(p) => match BandRatioPlugin.build(&p, info) {
                 Err(e) => e,
                 Ok(_) => panic!("{given:?} was accepted"),

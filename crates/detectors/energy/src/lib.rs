@@ -651,7 +651,7 @@ mod tests {
             .iter()
             .map(|(name, value)| (name.to_string(), value.clone()))
             .collect();
-        Params::resolve(ID, &PARAMS, &given)
+        Params::resolve(ID, &PARAMS, &given).map_err(ParamError::from)
     }
 
     fn build(

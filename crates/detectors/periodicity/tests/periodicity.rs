@@ -3,7 +3,9 @@
 //! flash train, a slow sway, a slow rotor and noise; the closed-form noise law
 //! that whitens the cadence spectrum; and the contract every detector meets.
 
-use echobench_core::detector::{check_scores, DetectorPlugin, ParamValue, Params, Samples};
+use echobench_core::detector::{
+    check_scores, DetectorPlugin, ParamError, ParamValue, Params, Samples,
+};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_periodicity::{
     CadenceReading, PeriodicityConfig, PeriodicityDetector, PeriodicityPlugin,
@@ -491,7 +493,7 @@ fn refuses_bad_parameters_naming_them() {
     let refused = |given: &[(&str, ParamValue)], info: &StreamInfo, name: &str| {
         let given = pinned(given);
         let error = match Params::resolve("periodicity", PeriodicityPlugin.params(), &given) {
-            Err(e) => e,
+            Err(e) => ParamError::from(e),
             Ok(p) => match PeriodicityPlugin.build(&p, info) {
                 Err(e) => {
                     assert!(PeriodicityPlugin.check(&p, info).is_err());

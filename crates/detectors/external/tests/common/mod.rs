@@ -23,7 +23,7 @@ pub fn params(
         ("args".to_string(), ParamValue::Text(args.to_string())),
     ];
     given.extend(more.iter().map(|(n, v)| (n.to_string(), v.clone())));
-    Params::resolve("external", plugin.params(), &given)
+    Params::resolve("external", plugin.params(), &given).map_err(ParamError::from)
 }
 
 /// A fresh path under cargo's per-target temporary folder.
