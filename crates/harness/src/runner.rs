@@ -375,6 +375,19 @@ pub struct Timing {
     /// Seconds of signal synthesized for calibration (re-runs of the tail included).
     #[serde(default)]
     pub calibration_signal_s: f64,
+    /// Peak resident memory of the process when the run ended, bytes (`VmHWM` of
+    /// `/proc/self/status`; `None` where the system does not tell). Memory must stay bounded
+    /// by threads, not by trials: a soak's figure should match a short run's.
+    #[serde(default)]
+    pub peak_rss_bytes: Option<u64>,
+}
+
+/// The process's peak resident memory so far, bytes, from `/proc/self/status` (Linux).
+pub fn peak_rss_bytes() -> Option<u64> {
+    let status = std::fs::read_to_string("/proc/self/status").ok()?;
+    let line = status.lines().find(|l| l.starts_with("VmHWM:"))?;
+    let kib: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    Some(kib * 1024)
 }
 
 /// Progress of a run, for a progress display.
@@ -460,6 +473,70 @@ pub fn trial_key(
         scene_id,
         sweep_point: s.variants[variant].sweep_point,
         trial,
+    }
+}
+
+/// Chunks of streamed calibration trials per worker thread: enough for the threads to
+/// balance uneven trials, few enough that the chunks' counts (each with its tail
+/// accumulators) stay a small, fixed number (a choice of ours).
+const CHUNKS_PER_THREAD: usize = 4;
+
+/// A suite's calibration trials, each made from its index when needed, in the order of
+/// `jobs(suite, true, None)`: a soak has tens of thousands of them, and a list of their keys
+/// would grow memory with the calibration time.
+struct CalibrationJobs<'s> {
+    suite: &'s Suite,
+    /// (scene, variant, trials, index of its first trial), in job order.
+    blocks: Vec<(usize, usize, u64, usize)>,
+    total: usize,
+}
+
+impl<'s> CalibrationJobs<'s> {
+    fn new(suite: &'s Suite) -> Self {
+        let mut blocks = Vec::new();
+        let mut total = 0usize;
+        for (si, scene) in suite.scenes.iter().enumerate() {
+            // A rare event is never calibrated on, whatever a suite built in code says.
+            let count = if scene.occurrences_per_day.is_some() {
+                0
+            } else {
+                scene.calibration_trials
+            };
+            for vi in 0..scene.variants.len() {
+                blocks.push((si, vi, count, total));
+                total += count as usize;
+            }
+        }
+        CalibrationJobs {
+            suite,
+            blocks,
+            total,
+        }
+    }
+
+    fn len(&self) -> usize {
+        self.total
+    }
+
+    /// The scene, variant and trial of job `i`.
+    fn place(&self, i: usize) -> (usize, usize, u64) {
+        let b = self.blocks.partition_point(|b| b.3 + b.2 as usize <= i);
+        let (scene, variant, _, first) = self.blocks[b];
+        (scene, variant, (i - first) as u64)
+    }
+
+    fn trial(&self, i: usize) -> u64 {
+        self.place(i).2
+    }
+
+    fn get(&self, i: usize) -> Job {
+        let (scene, variant, trial) = self.place(i);
+        Job {
+            scene,
+            variant,
+            key: trial_key(self.suite, scene, variant, trial, true),
+            calibration: true,
+        }
     }
 }
 
@@ -705,6 +782,7 @@ pub fn run_suite(
         }
     }
     timing.wall_s = started.elapsed().as_secs_f64();
+    timing.peak_rss_bytes = peak_rss_bytes();
     Ok((
         Tallies {
             schema: SCHEMA_VERSION,
@@ -1251,7 +1329,7 @@ fn calibrate(
         Counting::SwitchOns { timer, rule } => (rule.m(), rule.n(), timer.hold_s()),
     };
     let tail_template = crate::rare_rates::accumulator(m, n, hold_s).map_err(RunError)?;
-    let all_jobs = jobs(suite, true, None);
+    let all_jobs = CalibrationJobs::new(suite);
     let total = all_jobs.len() as u64;
     let done = std::sync::atomic::AtomicU64::new(0);
     let tick = || {
@@ -1263,15 +1341,23 @@ fn calibrate(
         });
     };
     let pilot: Vec<usize> = (0..all_jobs.len())
-        .filter(|&i| all_jobs[i].key.trial < PILOT_TRIALS)
+        .filter(|&i| all_jobs.trial(i) < PILOT_TRIALS)
         .collect();
-    let streamed: Vec<usize> = (0..all_jobs.len())
-        .filter(|&i| all_jobs[i].key.trial >= PILOT_TRIALS)
-        .collect();
+    // The streamed trials go in a fixed number of contiguous chunks, each folded into one
+    // set of counts: rayon's own splitting would make one accumulator per leaf, alive down a
+    // join tree whose depth grows with the trial count, so a soak's memory would grow with
+    // its calibration time (by a tail accumulator per level). The counts merge exactly, so
+    // the chunking changes no result.
+    let chunk_count = (rayon::current_num_threads() * CHUNKS_PER_THREAD).max(1);
+    let chunk_len = all_jobs.len().div_ceil(chunk_count).max(1);
+    let streamed = (0..chunk_count).into_par_iter().map(|c| {
+        (c * chunk_len..((c + 1) * chunk_len).min(all_jobs.len()))
+            .filter(|&i| all_jobs.trial(i) >= PILOT_TRIALS)
+    });
     let pilot_outputs: Vec<TrialOutput> = pilot
         .par_iter()
         .map(|&i| {
-            let out = run_trial(suite, detectors, &all_jobs[i]);
+            let out = run_trial(suite, detectors, &all_jobs.get(i));
             tick();
             out
         })
@@ -1305,7 +1391,7 @@ fn calibrate(
     for (&i, trial) in pilot.iter().zip(&pilot_outputs) {
         count_calibration_trial(
             suite,
-            &all_jobs[i],
+            &all_jobs.get(i),
             i,
             trial,
             &grids,
@@ -1317,21 +1403,24 @@ fn calibrate(
     }
     drop(pilot_outputs);
     let streamed_counts = streamed
-        .par_iter()
-        .try_fold(empty, |mut acc, &i| -> Result<_, RunError> {
-            let trial = run_trial(suite, detectors, &all_jobs[i])?;
-            count_calibration_trial(
-                suite,
-                &all_jobs[i],
-                i,
-                &trial,
-                &grids,
-                &room_of,
-                counting,
-                &mut acc,
-                true,
-            )?;
-            tick();
+        .map(|chunk| -> Result<_, RunError> {
+            let mut acc = empty();
+            for i in chunk {
+                let job = all_jobs.get(i);
+                let trial = run_trial(suite, detectors, &job)?;
+                count_calibration_trial(
+                    suite,
+                    &job,
+                    i,
+                    &trial,
+                    &grids,
+                    &room_of,
+                    counting,
+                    &mut acc,
+                    true,
+                )?;
+                tick();
+            }
             Ok(acc)
         })
         .try_reduce(empty, |a, b| {
@@ -1367,10 +1456,11 @@ fn calibrate(
     let tail_counts = again
         .par_iter()
         .try_fold(tail_empty, |mut acc, &i| -> Result<_, RunError> {
-            let trial = run_trial(suite, detectors, &all_jobs[i])?;
+            let job = all_jobs.get(i);
+            let trial = run_trial(suite, detectors, &job)?;
             count_calibration_trial(
                 suite,
-                &all_jobs[i],
+                &job,
                 i,
                 &trial,
                 &tails,
@@ -1386,10 +1476,8 @@ fn calibrate(
         })?;
 
     let duration = |i: &usize| {
-        let job = &all_jobs[*i];
-        suite.scenes[job.scene].variants[job.variant]
-            .scene
-            .duration_s
+        let (scene, variant, _) = all_jobs.place(*i);
+        suite.scenes[scene].variants[variant].scene.duration_s
     };
     let signal_s: f64 = (0..all_jobs.len()).map(|i| duration(&i)).sum::<f64>()
         + again.iter().map(duration).sum::<f64>();
@@ -1931,6 +2019,25 @@ mod tests {
         for trial in 0..100 {
             let key = StreamKey::new(5, "scene", trial);
             assert_eq!(shards.iter().filter(|s| s.owns(&key)).count(), 1);
+        }
+    }
+
+    /// The calibration jobs made one at a time from their index are the listed ones, in
+    /// the same order (the default suite: many scenes, sweeps, a rare event without any).
+    #[test]
+    fn calibration_jobs_by_index_are_the_listed_jobs() {
+        let plugins = echobench_detectors::builtin();
+        let suite = crate::suite_file::default_suite(&plugins).unwrap();
+        let listed = jobs(&suite, true, None);
+        let by_index = CalibrationJobs::new(&suite);
+        assert_eq!(by_index.len(), listed.len());
+        for (i, job) in listed.iter().enumerate() {
+            let made = by_index.get(i);
+            assert_eq!(
+                (made.scene, made.variant, &made.key, made.calibration),
+                (job.scene, job.variant, &job.key, job.calibration),
+                "job {i}"
+            );
         }
     }
 

@@ -987,6 +987,12 @@ pub fn console_table(summary: &Summary, timing: Option<&Timing>) -> String {
             t.synthesis_s,
             t.detector_s.values().sum::<f64>()
         ));
+        if let Some(bytes) = t.peak_rss_bytes {
+            out.push_str(&format!(
+                "peak resident memory {:.0} MB (bounded by threads, not by trials)\n",
+                bytes as f64 / 1e6
+            ));
+        }
     }
     out.push_str(&format!("\n{CAUTIONS}\n"));
     out
