@@ -322,10 +322,11 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
     let mut positives = Vec::new();
     let mut negatives = Vec::new();
     for v in &d.variants {
-        let list = if v.label == "target" {
-            &mut positives
-        } else {
-            &mut negatives
+        // A rare event's occurrences are judged apart (`rare_events`), not as room time.
+        let list = match v.label.as_str() {
+            "target" => &mut positives,
+            "nuisance" => &mut negatives,
+            _ => continue,
         };
         list.extend(v.max_scores.iter().map(|(_, s)| *s));
     }

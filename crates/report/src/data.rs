@@ -75,10 +75,11 @@ pub fn trial_max_scores(detector: &DetectorTally) -> (Vec<f64>, Vec<f64>) {
     let mut positives = Vec::new();
     let mut negatives = Vec::new();
     for v in &detector.variants {
-        let list = if v.label == "target" {
-            &mut positives
-        } else {
-            &mut negatives
+        // A rare event's occurrences are judged apart (`rare_events`), not as room time.
+        let list = match v.label.as_str() {
+            "target" => &mut positives,
+            "nuisance" => &mut negatives,
+            _ => continue,
         };
         list.extend(v.max_scores.iter().map(|(_, s)| *s));
     }
