@@ -460,8 +460,6 @@ pub struct ExternalDetector {
     name: String,
     session: Option<Session>,
     failure: Option<String>,
-    /// The I value of a pair whose Q has not arrived yet (I/Q streams).
-    pending_in_phase: Option<f32>,
     /// Sample instants sent so far (pairs, for I/Q).
     sent_instants: u64,
     answered_blocks: u64,
@@ -507,7 +505,6 @@ impl ExternalDetector {
             name: String::new(),
             session: None,
             failure: None,
-            pending_in_phase: None,
             sent_instants: 0,
             answered_blocks: 0,
             last_t_s: 0.0,
@@ -561,7 +558,6 @@ impl ExternalDetector {
             Ok(name) => {
                 self.name = name;
                 self.session = Some(session);
-                self.pending_in_phase = None;
                 self.sent_instants = 0;
                 self.answered_blocks = 0;
                 self.last_t_s = 0.0;
@@ -721,52 +717,28 @@ impl ExternalDetector {
 }
 
 impl ExternalDetector {
-    /// Sends `block` in BLCK messages of at most 4096 values (whole I/Q
-    /// pairs; a dangling I waits for its Q) and pushes every answer, until
+    /// Sends `values` (whole sample instants: a typed block never splits an
+    /// I/Q pair) in BLCK messages of at most 4096 values, which is even, so
+    /// every message holds whole pairs too, and pushes every answer, until
     /// the program fails (then `self.failure` says why).
-    fn feed(&mut self, block: &[f32], out: &mut Vec<FrameScore>) {
-        let iq = self.info.channels.count() == 2;
-        let mut values = block
-            .iter()
-            .map(|&x| if x.is_finite() { x } else { 0.0 })
-            .peekable();
-        while self.failure.is_none() && (values.peek().is_some() || self.pending_in_phase.is_some())
-        {
+    fn feed(&mut self, values: &[f32], out: &mut Vec<FrameScore>) {
+        for chunk in values.chunks(MAX_BLOCK_VALUES) {
+            if self.failure.is_some() {
+                return;
+            }
             let Some(session) = &mut self.session else {
                 return;
             };
             let mut message = session.message_buffer();
             message.extend_from_slice(&TAG_BLOCK);
-            message.extend_from_slice(&[0; 4]);
-            let mut count = 0usize;
-            if let Some(in_phase) = self.pending_in_phase.take() {
-                message.extend_from_slice(&in_phase.to_le_bytes());
-                count += 1;
-            }
-            while count < MAX_BLOCK_VALUES {
-                let Some(value) = values.next() else { break };
+            // chunk.len() ≤ MAX_BLOCK_VALUES = 4096, so the cast cannot truncate.
+            message.extend_from_slice(&(chunk.len() as u32).to_le_bytes());
+            for &x in chunk {
+                // The protocol sends non-finite samples as 0.
+                let value = if x.is_finite() { x } else { 0.0 };
                 message.extend_from_slice(&value.to_le_bytes());
-                count += 1;
             }
-            if iq && count % 2 == 1 {
-                // Hold the unpaired I back for the next call.
-                let start = message.len() - 4;
-                let mut bytes = [0u8; 4];
-                bytes.copy_from_slice(&message[start..]);
-                self.pending_in_phase = Some(f32::from_le_bytes(bytes));
-                message.truncate(start);
-                count -= 1;
-            }
-            if count == 0 {
-                // Only a lone I arrived: nothing to send yet.
-                if let Some(session) = &mut self.session {
-                    session.give_back(message);
-                }
-                return;
-            }
-            // count ≤ MAX_BLOCK_VALUES = 4096, so the cast cannot truncate.
-            message[4..8].copy_from_slice(&(count as u32).to_le_bytes());
-            let instants = (count / self.info.channels.count()) as u64;
+            let instants = (chunk.len() / self.info.channels.count()) as u64;
             self.exchange(message, instants, out);
         }
     }

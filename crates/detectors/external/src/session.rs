@@ -121,7 +121,6 @@ pub(crate) struct Session {
     reaped: bool,
     to_writer: Option<SyncSender<Vec<u8>>>,
     spare_messages: Receiver<Vec<u8>>,
-    unused_message: Option<Vec<u8>>,
     from_reader: Receiver<FromProgram>,
     spare_answers: SyncSender<Vec<Score>>,
     stderr: Arc<StderrTail>,
@@ -193,17 +192,11 @@ impl Session {
     /// come back from the writer (so steady streaming does not allocate).
     pub(crate) fn message_buffer(&mut self) -> Vec<u8> {
         let mut buffer = self
-            .unused_message
-            .take()
-            .or_else(|| self.spare_messages.try_recv().ok())
-            .unwrap_or_else(|| Vec::with_capacity(8 + 4 * MAX_BLOCK_VALUES));
+            .spare_messages
+            .try_recv()
+            .unwrap_or_else(|_| Vec::with_capacity(8 + 4 * MAX_BLOCK_VALUES));
         buffer.clear();
         buffer
-    }
-
-    /// Keeps a buffer that was not sent, for the next message.
-    pub(crate) fn give_back(&mut self, buffer: Vec<u8>) {
-        self.unused_message = Some(buffer);
     }
 
     /// Hands a message to the writer thread without blocking.
@@ -331,7 +324,6 @@ impl Parts {
             reaped: false,
             to_writer: Some(self.to_writer),
             spare_messages: self.spare_messages,
-            unused_message: None,
             from_reader: self.from_reader,
             spare_answers: self.spare_answers,
             stderr: self.stderr,

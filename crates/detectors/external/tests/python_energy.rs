@@ -157,10 +157,9 @@ fn reproduces_the_built_in_energy_detector() {
     }
 }
 
-/// Blocks of 1, 7, 256 values and the whole trial (which the host splits
-/// into BLCKs of 4096) give bit-identical scores: framing, filters and floor
-/// carry their state across blocks (detectors brief, block-size invariance).
-/// Block 7 on I/Q also splits pairs, which the host holds back.
+/// Blocks of 1, 7, 256 sample instants and the whole trial (which the host
+/// splits into BLCKs of 4096 values) give bit-identical scores: framing,
+/// filters and floor carry their state across blocks (block-size invariance).
 #[test]
 fn python_scores_do_not_depend_on_block_size() {
     if !python_with_numpy() {
