@@ -72,10 +72,7 @@ fn main() -> ExitCode {
                 number(r.extrapolated.low),
                 r.extrapolated.high.map_or("∞".into(), |h| number(Some(h)))
             ),
-            None => format!(
-                "— ({})",
-                r.extrapolated.note.as_deref().unwrap_or("no fit")
-            ),
+            None => format!("— ({})", r.extrapolated.note.as_deref().unwrap_or("no fit")),
         };
         let verdict = match (
             week.counted_threshold,

@@ -10,7 +10,6 @@ use echobench_capture::{
     Label, TrialCut,
 };
 use echobench_core::detector::Params;
-use echobench_core::Score;
 use echobench_scene::{export, load_scene_file, synthesize, SceneSpec, StreamKey, Trial};
 use std::io::Write;
 use std::path::PathBuf;
@@ -46,12 +45,19 @@ fn scores_of(
     info: &echobench_core::StreamInfo,
     samples: &[f32],
     block_values: usize,
-) -> Result<Vec<Score>, String> {
+) -> Result<Vec<echobench_core::FrameScore>, String> {
     let params = Params::defaults(plugin.params());
     let mut detector = plugin.build(&params, info).map_err(|e| e.to_string())?;
     let mut scores = Vec::new();
+    // Whole sample instants per block (pairs on I/Q streams).
+    let per_instant = info.channels.count();
+    let block_values = block_values.div_ceil(per_instant) * per_instant;
     for block in samples.chunks(block_values) {
-        detector.process(block, &mut scores);
+        let block = echobench_core::detector::Samples::from_values(block, info.channels)
+            .ok_or("the samples split an I/Q pair")?;
+        detector
+            .process(block, &mut scores)
+            .map_err(|e| e.to_string())?;
     }
     Ok(scores)
 }

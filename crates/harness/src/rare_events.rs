@@ -89,8 +89,7 @@ pub fn at_operating_point(
             let occurrences = trials.len() as u64;
             let alarmed = trials.iter().filter(|t| t.false_alarms > 0).count() as u64;
             let probability =
-                match echobench_stats::clopper_pearson_interval(alarmed, occurrences, CONFIDENCE)
-                {
+                match echobench_stats::clopper_pearson_interval(alarmed, occurrences, CONFIDENCE) {
                     Ok(interval) => Estimate {
                         value: Some(alarmed as f64 / occurrences as f64),
                         low: Some(interval.low),

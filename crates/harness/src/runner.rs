@@ -1409,15 +1409,7 @@ fn calibrate(
                 let job = all_jobs.get(i);
                 let trial = run_trial(suite, detectors, &job)?;
                 count_calibration_trial(
-                    suite,
-                    &job,
-                    i,
-                    &trial,
-                    &grids,
-                    &room_of,
-                    counting,
-                    &mut acc,
-                    true,
+                    suite, &job, i, &trial, &grids, &room_of, counting, &mut acc, true,
                 )?;
                 tick();
             }
@@ -1459,15 +1451,7 @@ fn calibrate(
             let job = all_jobs.get(i);
             let trial = run_trial(suite, detectors, &job)?;
             count_calibration_trial(
-                suite,
-                &job,
-                i,
-                &trial,
-                &tails,
-                &room_of,
-                counting,
-                &mut acc,
-                false,
+                suite, &job, i, &trial, &tails, &room_of, counting, &mut acc, false,
             )?;
             Ok(acc)
         })

@@ -238,17 +238,16 @@ impl RunFolder {
         let (tallies_path, tallies_text) = required("tallies.json")?;
         let tallies: Tallies = read_versioned(&tallies_path, &tallies_text)?;
         let timing_path = dir.join("timing.json");
-        let timing = match read_text(&timing_path)? {
-            Some(text) => {
-                Some(
-                    serde_json::from_str::<Timing>(&text).map_err(|e| RunFileError::Parse {
+        let timing =
+            match read_text(&timing_path)? {
+                Some(text) => Some(serde_json::from_str::<Timing>(&text).map_err(|e| {
+                    RunFileError::Parse {
                         path: timing_path.clone(),
                         message: e.to_string(),
-                    })?,
-                )
-            }
-            None => None,
-        };
+                    }
+                })?),
+                None => None,
+            };
         let suite_text = read_text(&dir.join("suite.yaml"))?;
         let run = RunFolder {
             summary,

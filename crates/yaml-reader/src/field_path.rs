@@ -270,7 +270,10 @@ mod tests {
         assert!(typo.field_missing);
         assert_eq!(typo.hint.as_deref(), Some("did you mean `actors[0].path`?"));
         let far = at("actors[3]").unwrap_err();
-        assert!(!far.field_missing && far.message.contains("has 1 entry"), "{far:?}");
+        assert!(
+            !far.field_missing && far.message.contains("has 1 entry"),
+            "{far:?}"
+        );
         assert!(at("actors[0].path.start_m.x").is_err());
         assert_eq!(tree.deepest_location("actors[0].nothing").line, 2);
     }

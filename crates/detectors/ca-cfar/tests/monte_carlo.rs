@@ -162,6 +162,6 @@ fn hann_cells_are_correlated_and_break_the_nominal_rate() {
     );
     assert!(
         (measured / 2.22e-3 - 1.0).abs() < 0.3,
-        "Hann measured {measured:.3e} vs §2.4's 2.22e-3"
+        "Hann measured {measured:.3e} vs docs/reference/detectors.md#d7's 2.22e-3"
     );
 }
