@@ -155,6 +155,23 @@ pub fn assert_conforms(plugin: &dyn DetectorPlugin, params: &Params, info: &Stre
     }
 }
 
+/// [`assert_conforms`] with the plugin's default parameters on 2 kHz test streams of each
+/// of `channels` (real, and I/Q for a detector that takes it): a built-in's whole
+/// conformance test in one line.
+///
+/// # Panics
+/// When any stream breaks a rule.
+pub fn assert_defaults_conform(plugin: &dyn DetectorPlugin, channels: &[crate::Channels]) {
+    let params = Params::defaults(plugin.params());
+    for &channels in channels {
+        let info = StreamInfo {
+            channels,
+            ..crate::detector::test_stream(2000.0)
+        };
+        assert_conforms(plugin, &params, &info);
+    }
+}
+
 /// As [`check`], over `duration_s` of signal (for a detector whose first
 /// decision comes later than [`DEFAULT_DURATION_S`]).
 ///

@@ -74,6 +74,22 @@ pub trait SceneSource {
     }
 }
 
+/// No scene files at all: for a suite whose scenes are all written inline (a suite built in
+/// code or in a test). Naming a file is refused with the file's name.
+pub struct InlineOnly;
+
+impl SceneSource for InlineOnly {
+    fn read(&self, relative: &str) -> Result<String, String> {
+        Err(format!(
+            "no scene file `{relative}`: this suite's scenes must be written inline"
+        ))
+    }
+
+    fn display_name(&self, relative: &str) -> String {
+        relative.to_string()
+    }
+}
+
 /// Scene files on disk, relative to the suite file's folder.
 #[derive(Debug, Clone)]
 pub struct FolderSource {

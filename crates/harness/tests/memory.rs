@@ -9,7 +9,7 @@
 //! but not what the test holds to.
 
 use echobench_harness::runner::{resolve_detectors, run_suite};
-use echobench_harness::suite_file::{load_suite_text, SceneSource};
+use echobench_harness::suite_file::{load_suite_text, InlineOnly};
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::process::Command;
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -39,19 +39,6 @@ unsafe impl GlobalAlloc for Counting {
 
 #[global_allocator]
 static COUNTING: Counting = Counting;
-
-struct NoFiles;
-
-impl SceneSource for NoFiles {
-    fn read(&self, relative: &str) -> Result<String, String> {
-        Err(format!("no file `{relative}` in this test"))
-    }
-
-    fn display_name(&self, relative: &str) -> String {
-        relative.to_string()
-    }
-}
-
 const HOURS_VARIABLE: &str = "ECHOBENCH_MEMORY_TEST_HOURS";
 
 const SUITE: &str = "\
@@ -93,7 +80,7 @@ fn one_run_for_the_parent() {
     let hours = std::env::var(HOURS_VARIABLE).expect("the parent sets the hours");
     let plugins = echobench_detectors::builtin();
     let text = SUITE.replace("{HOURS}", &hours);
-    let (suite, _) = load_suite_text("memory.yaml", &text, &NoFiles, &plugins)
+    let (suite, _) = load_suite_text("memory.yaml", &text, &InlineOnly, &plugins)
         .unwrap_or_else(|report| panic!("{report}"));
     let detectors = resolve_detectors(&suite, &plugins).unwrap();
     let (_, timing) = run_suite(&suite, &detectors, None, &|_| {}).unwrap();

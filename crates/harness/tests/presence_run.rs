@@ -9,20 +9,7 @@ use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::presence_summary::presence_verdict;
 use echobench_harness::runner::{resolve_detectors, run_suite, DetectorTally, Tallies};
 use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{load_suite_text, SceneSource};
-
-struct NoFiles;
-
-impl SceneSource for NoFiles {
-    fn read(&self, relative: &str) -> Result<String, String> {
-        Err(format!("no file `{relative}` in this test"))
-    }
-
-    fn display_name(&self, relative: &str) -> String {
-        relative.to_string()
-    }
-}
-
+use echobench_harness::suite_file::{load_suite_text, InlineOnly};
 /// A detector that never reaches any threshold a calibration can choose: one score of 0
 /// per block, so the grid's top (just above 0) is never reached.
 struct SilentPlugin;
@@ -158,7 +145,7 @@ fn load() -> Suite {
     let mut plugins = echobench_detectors::builtin();
     plugins.push(&SILENT);
     let text = SUITE.replace("{SENSOR}", SENSOR);
-    let (suite, report) = load_suite_text("presence-run.yaml", &text, &NoFiles, &plugins)
+    let (suite, report) = load_suite_text("presence-run.yaml", &text, &InlineOnly, &plugins)
         .unwrap_or_else(|report| panic!("does not load:\n{report}"));
     assert!(!report.has_errors(), "{report}");
     suite

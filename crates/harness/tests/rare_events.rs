@@ -8,21 +8,8 @@ use echobench_core::detector::{
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies};
 use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{load_suite_text, SceneSource};
+use echobench_harness::suite_file::{load_suite_text, InlineOnly};
 use echobench_harness::summary::summarise;
-
-struct NoFiles;
-
-impl SceneSource for NoFiles {
-    fn read(&self, relative: &str) -> Result<String, String> {
-        Err(format!("no file `{relative}` in this test"))
-    }
-
-    fn display_name(&self, relative: &str) -> String {
-        relative.to_string()
-    }
-}
-
 /// The fraction of trials on which [`CoinPlugin`] looks at all.
 const FIRING_FRACTION: f64 = 0.3;
 
@@ -183,7 +170,7 @@ fn load(with_door: bool) -> Suite {
     let text = SUITE
         .replace("{DOOR}", if with_door { DOOR } else { "" })
         .replace("{SENSOR}", SENSOR);
-    let (suite, report) = load_suite_text("rare-events.yaml", &text, &NoFiles, &plugins)
+    let (suite, report) = load_suite_text("rare-events.yaml", &text, &InlineOnly, &plugins)
         .unwrap_or_else(|report| panic!("does not load:\n{report}"));
     assert!(!report.has_errors(), "{report}");
     suite
@@ -274,7 +261,7 @@ fn a_rare_event_must_be_a_synthesized_nuisance_without_calibration() {
     ] {
         let door = DOOR.replace(change, expected);
         let text = SUITE.replace("{DOOR}", &door).replace("{SENSOR}", SENSOR);
-        let report = load_suite_text("bad.yaml", &text, &NoFiles, &plugins)
+        let report = load_suite_text("bad.yaml", &text, &InlineOnly, &plugins)
             .err()
             .unwrap_or_else(|| panic!("accepted: {expected}"));
         assert!(

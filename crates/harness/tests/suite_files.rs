@@ -16,7 +16,7 @@ use echobench_core::detector::{Cost, DetectorPlugin, ParamError, Params};
 use echobench_core::{Channels, StreamInfo};
 use echobench_harness::suite::{SceneLabel, Suite};
 use echobench_harness::suite_file::{
-    default_suite, load_suite_file, load_suite_text, EmbeddedSource, SceneSource,
+    default_suite, load_suite_file, load_suite_text, EmbeddedSource, InlineOnly,
     DEFAULT_SUITE_FILE_NAME, DEFAULT_SUITE_SCENES, DEFAULT_SUITE_SOURCE, DEFAULT_SUITE_YAML,
 };
 use echobench_scene::actors::{ActorKind, Route};
@@ -563,19 +563,6 @@ fn a_sweep_expands_into_variants_with_the_values_applied() {
             && text.contains("start_m: [6, {uniform: [-0.5, 0.5]}]")));
 }
 
-/// A source of no files, for suites whose scenes are all inline.
-struct NoFiles;
-
-impl SceneSource for NoFiles {
-    fn read(&self, relative: &str) -> Result<String, String> {
-        Err(format!("no file `{relative}` in this test"))
-    }
-
-    fn display_name(&self, relative: &str) -> String {
-        relative.to_string()
-    }
-}
-
 const INLINE_SWEEP_SUITE: &str = "\
 seed: 7
 trials: 3
@@ -602,8 +589,9 @@ detectors:
 
 #[test]
 fn an_inline_sweep_writes_numbers_and_distributions() {
-    let (suite, report) = load_suite_text("inline.yaml", INLINE_SWEEP_SUITE, &NoFiles, &plugins())
-        .unwrap_or_else(|report| panic!("does not load:\n{report}"));
+    let (suite, report) =
+        load_suite_text("inline.yaml", INLINE_SWEEP_SUITE, &InlineOnly, &plugins())
+            .unwrap_or_else(|report| panic!("does not load:\n{report}"));
     assert!(report.problems.is_empty(), "{report}");
     let entry = &suite.scenes[0];
     assert_eq!(entry.id, "wifi-corner");
@@ -699,7 +687,7 @@ detectors:
 
     // A low-pass corner above Nyquist is in every variant: one warning, no prefix.
     let inline = INLINE_SWEEP_SUITE.replace("low_pass_hz: [100]", "low_pass_hz: [1500]");
-    let (_, report) = load_suite_text("nyquist.yaml", &inline, &NoFiles, &plugins())
+    let (_, report) = load_suite_text("nyquist.yaml", &inline, &InlineOnly, &plugins())
         .unwrap_or_else(|report| panic!("warnings only:\n{report}"));
     assert_eq!(report.problems.len(), 1, "{report}");
     let text = report.to_string();
@@ -726,7 +714,7 @@ fn a_label_that_contradicts_the_actors_is_a_warning() {
     let text = format!(
         "seed: 1\ntrials: 2\ncalibration_trials: 1\nscenes:\n  - id: walker-as-nuisance\n    label: nuisance\n    scene:\n{walker_scene}  - id: nothing-as-target\n    label: target\n    scene:\n{empty_scene}detectors:\n  - plugin: ca-cfar\n"
     );
-    let (suite, report) = load_suite_text("labels.yaml", &text, &NoFiles, &plugins())
+    let (suite, report) = load_suite_text("labels.yaml", &text, &InlineOnly, &plugins())
         .unwrap_or_else(|report| panic!("warnings only:\n{report}"));
     assert_eq!(suite.scenes.len(), 2);
     let warnings: Vec<String> = report.warnings().map(|w| w.to_string()).collect();
@@ -901,7 +889,7 @@ fn the_directives_are_read_as_written_and_can_fail() {
     assert_eq!(expected.first_error_line, Some(3));
     assert_eq!(expected.error_count, Some(2));
     // A report that misses the text, the line and the count is caught three times.
-    let report = load_suite_text("probe.yaml", "seed: 1\n", &NoFiles, &plugins())
+    let report = load_suite_text("probe.yaml", "seed: 1\n", &InlineOnly, &plugins())
         .expect_err("no trials or scenes");
     let wrong = shortcomings(
         "probe.yaml",
@@ -1086,7 +1074,7 @@ fn presence_suite(kind: &str, timer: &str) -> Result<(Suite, Report), Report> {
     let text = PRESENCE_SUITE
         .replace("{KIND}", kind)
         .replace("{TIMER}", timer);
-    load_suite_text("presence.yaml", &text, &NoFiles, &plugins())
+    load_suite_text("presence.yaml", &text, &InlineOnly, &plugins())
 }
 
 #[test]
@@ -1189,7 +1177,7 @@ detectors:
   - plugin: os-cfar
 "
     );
-    load_suite_text("soak.yaml", &text, &NoFiles, &plugins())
+    load_suite_text("soak.yaml", &text, &InlineOnly, &plugins())
 }
 
 #[test]
