@@ -216,6 +216,11 @@ enum Command {
 /// error, 3 a detector that failed on every test trial).
 pub fn main_with(plugins: Vec<&'static dyn DetectorPlugin>) -> ExitCode {
     let plugins = Plugins { own: plugins };
+    if let Some(id) = plugins.repeated_id() {
+        // A suite names a detector by its id: two plugins with one id would be a coin toss.
+        eprintln!("error: two plugins have the id `{id}` (every plugin id must be unique, `external` included)");
+        return ExitCode::from(2);
+    }
     let cli = Cli::parse();
     let result = match cli.command {
         Command::Synth {
@@ -327,6 +332,16 @@ struct Plugins {
 }
 
 impl Plugins {
+    /// An id that two of the plugins (with `external`) share, if any.
+    fn repeated_id(&self) -> Option<String> {
+        let all = self.with_external(false);
+        let mut seen = std::collections::BTreeSet::new();
+        all.iter()
+            .map(|p| p.id())
+            .find(|id| !seen.insert(*id))
+            .map(str::to_string)
+    }
+
     /// The caller's plugins and `external`, which may run programs only when `allow_exec`.
     fn with_external(&self, allow_exec: bool) -> Vec<&'static dyn DetectorPlugin> {
         echobench_detectors::add_external(self.own.clone(), allow_exec)
@@ -1111,4 +1126,21 @@ fn run_synth(scene_path: &Path, trial: u64, seed: u64, out: &Path) -> Result<Exi
         println!("  {}", path.display());
     }
     Ok(ExitCode::SUCCESS)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_plugin_id_given_twice_is_found() {
+        let built_in = Plugins {
+            own: echobench_detectors::builtin(),
+        };
+        assert_eq!(built_in.repeated_id(), None);
+        let mut twice = echobench_detectors::builtin();
+        twice.push(twice[0]);
+        let twice = Plugins { own: twice };
+        assert_eq!(twice.repeated_id().as_deref(), Some("energy"));
+    }
 }
