@@ -195,7 +195,7 @@ pub fn check_for(
         match catch_unwind(AssertUnwindSafe(|| plugin.build(params, info))) {
             Ok(Ok(detector)) => Ok(detector),
             Ok(Err(e)) => Err(e.to_string()),
-            Err(p) => Err(panic_text(p)),
+            Err(p) => Err(crate::detector::panic_message(p)),
         }
     };
     let mut detector = match fresh() {
@@ -280,7 +280,7 @@ pub fn check_for(
                 let outcome = match feed(d.as_mut(), &loud, Split::Cycle(vec![64 * channels])) {
                     Fed::Panicked(m) => Err(format!("{m} before the reset")),
                     _ => match catch_unwind(AssertUnwindSafe(|| d.reset())) {
-                        Err(p) => Err(format!("{} in `reset`", panic_text(p))),
+                        Err(p) => Err(format!("{} in `reset`", crate::detector::panic_message(p))),
                         Ok(()) => Ok(feed(d.as_mut(), &stream, Split::Whole)),
                     },
                 };
@@ -440,7 +440,7 @@ fn feed(detector: &mut dyn Detector, samples: &[f32], split: Split, info: &Strea
             Err(p) => {
                 return Fed::Panicked(format!(
                     "{} in `process` (values {at}..{end})",
-                    panic_text(p)
+                    crate::detector::panic_message(p)
                 ))
             }
             Ok(Err(failure)) => return Fed::Failed(failure.message),
@@ -500,16 +500,6 @@ fn test_signal(instants: usize, channels: Channels, seed: u64) -> Vec<f32> {
         }
     }
     out
-}
-
-fn panic_text(payload: Box<dyn std::any::Any + Send>) -> String {
-    if let Some(s) = payload.downcast_ref::<&str>() {
-        format!("panicked: {s}")
-    } else if let Some(s) = payload.downcast_ref::<String>() {
-        format!("panicked: {s}")
-    } else {
-        "panicked".to_string()
-    }
 }
 
 /// Small detectors for the kit's own examples and tests: one that keeps the

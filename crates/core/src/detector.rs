@@ -710,6 +710,18 @@ pub fn check_scores(scores: &[FrameScore]) -> Result<(), (usize, String)> {
     Ok(())
 }
 
+/// The message of a caught panic (`catch_unwind`'s payload), for reporting a plugin that
+/// panicked as a failure of that plugin rather than of the whole run.
+pub fn panic_message(payload: Box<dyn std::any::Any + Send>) -> String {
+    if let Some(s) = payload.downcast_ref::<&str>() {
+        format!("panicked: {s}")
+    } else if let Some(s) = payload.downcast_ref::<String>() {
+        format!("panicked: {s}")
+    } else {
+        "panicked".to_string()
+    }
+}
+
 /// The stream an MCU-style test would feed: handy for plugin unit tests.
 pub fn test_stream(sample_rate_hz: f64) -> StreamInfo {
     StreamInfo {

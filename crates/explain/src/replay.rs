@@ -81,16 +81,6 @@ pub(crate) struct Replayed {
     pub traces: Vec<Result<Vec<Score>, String>>,
 }
 
-fn panic_message(payload: Box<dyn std::any::Any + Send>) -> String {
-    if let Some(s) = payload.downcast_ref::<&str>() {
-        format!("panicked: {s}")
-    } else if let Some(s) = payload.downcast_ref::<String>() {
-        format!("panicked: {s}")
-    } else {
-        "panicked".to_string()
-    }
-}
-
 /// Synthesizes (or reads) trial `at` of `suite` and feeds every detector of `detectors`.
 pub(crate) fn replay(
     suite: &Suite,
@@ -135,7 +125,7 @@ pub(crate) fn replay(
             |d| match catch_unwind(AssertUnwindSafe(|| d.plugin.build(&d.params, &info))) {
                 Ok(Ok(detector)) => Ok(detector),
                 Ok(Err(e)) => Err(e.to_string()),
-                Err(p) => Err(panic_message(p)),
+                Err(p) => Err(echobench_core::detector::panic_message(p)),
             },
         )
         .collect();
@@ -159,7 +149,7 @@ pub(crate) fn replay(
         for (slot, out) in built.iter_mut().zip(scores.iter_mut()) {
             let Ok(detector) = slot else { continue };
             match catch_unwind(AssertUnwindSafe(|| detector.process(typed, out))) {
-                Err(p) => *slot = Err(panic_message(p)),
+                Err(p) => *slot = Err(echobench_core::detector::panic_message(p)),
                 Ok(Err(failure)) => *slot = Err(failure.message),
                 Ok(Ok(())) => {}
             }

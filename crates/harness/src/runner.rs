@@ -587,16 +587,6 @@ struct TrialOutput {
     samples: u64,
 }
 
-fn panic_message(payload: Box<dyn std::any::Any + Send>) -> String {
-    if let Some(s) = payload.downcast_ref::<&str>() {
-        format!("panicked: {s}")
-    } else if let Some(s) = payload.downcast_ref::<String>() {
-        format!("panicked: {s}")
-    } else {
-        "panicked".to_string()
-    }
-}
-
 /// Synthesizes a trial and feeds every detector, catching panics and bad scores per detector.
 fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<TrialOutput, RunError> {
     let entry = &suite.scenes[job.scene];
@@ -620,7 +610,7 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
             |d| match catch_unwind(AssertUnwindSafe(|| d.plugin.build(&d.params, &info))) {
                 Ok(Ok(det)) => Ok(det),
                 Ok(Err(e)) => Err(e.to_string()),
-                Err(p) => Err(panic_message(p)),
+                Err(p) => Err(echobench_core::detector::panic_message(p)),
             },
         )
         .collect();
@@ -651,7 +641,7 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
             let result = catch_unwind(AssertUnwindSafe(|| detector.process(block, &mut scores[i])));
             busy[i] += t1.elapsed().as_secs_f64();
             match result {
-                Err(p) => *slot = Err(panic_message(p)),
+                Err(p) => *slot = Err(echobench_core::detector::panic_message(p)),
                 Ok(Err(failure)) => *slot = Err(failure.message),
                 Ok(Ok(())) => {}
             }
