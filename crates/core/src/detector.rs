@@ -21,6 +21,7 @@
 //! must fit it in a small MCU.
 
 use crate::doppler::Framing;
+pub use crate::param_error::{ParamError, ParamOwner};
 use crate::suggest::nearest;
 use crate::{Channels, Score, StreamInfo};
 use std::collections::{BTreeMap, BTreeSet};
@@ -455,48 +456,6 @@ pub fn check_sample_rate(detector: &str, info: &StreamInfo) -> Result<f64, Param
             fs,
             "the stream's sample rate must be a positive number",
         ))
-    }
-}
-
-/// Why a detector could not be configured.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ParamError {
-    /// The detector's id.
-    pub detector: String,
-    /// The parameter (or parameters, for a relation between them).
-    pub param: String,
-    /// The value given, as written.
-    pub value: String,
-    /// What would have been accepted.
-    pub message: String,
-}
-
-impl fmt::Display for ParamError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "detector `{}`: parameter `{}` = {}: {}",
-            self.detector, self.param, self.value, self.message
-        )
-    }
-}
-
-impl std::error::Error for ParamError {}
-
-impl ParamError {
-    /// An error about `param` of `detector`.
-    pub fn new(
-        detector: &str,
-        param: &str,
-        value: impl fmt::Display,
-        message: impl Into<String>,
-    ) -> Self {
-        ParamError {
-            detector: detector.to_string(),
-            param: param.to_string(),
-            value: value.to_string(),
-            message: message.into(),
-        }
     }
 }
 

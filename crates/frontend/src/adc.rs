@@ -9,7 +9,7 @@
 //! numbered −2^(N−1) … 2^(N−1) − 1 (a ±V converter); the mid-span level is code
 //! 2^(N−1) offset-binary or 0 two's complement.
 
-use crate::error::{finite, positive, ParamError};
+use crate::error::{finite, positive, refuse, ParamError};
 
 /// Most bits accepted (codes must fit i32 with room; 24 bit is the usual top).
 pub const MAX_ADC_BITS: u8 = 24;
@@ -75,7 +75,7 @@ impl Adc {
         coding: AdcCoding,
     ) -> Result<Self, ParamError> {
         if bits == 0 || bits > MAX_ADC_BITS {
-            return Err(ParamError::new(
+            return Err(refuse(
                 "bits",
                 f64::from(bits),
                 format!("must be in 1 ..= {MAX_ADC_BITS}"),
@@ -84,7 +84,7 @@ impl Adc {
         let low_v = finite("low_v", low_v)?;
         let high_v = finite("high_v", high_v)?;
         if low_v >= high_v {
-            return Err(ParamError::new(
+            return Err(refuse(
                 "high_v",
                 high_v,
                 format!("must be above low_v = {low_v}"),

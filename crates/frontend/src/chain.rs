@@ -2,7 +2,7 @@
 //! oversampled front end that ties them to the ADC.
 
 use crate::adc::Adc;
-use crate::error::{finite, positive, ParamError};
+use crate::error::{finite, positive, refuse, ParamError};
 use crate::section::{FirstOrderSection, SectionKind};
 use std::f64::consts::TAU;
 
@@ -33,7 +33,7 @@ impl OutputSwing {
         let low = finite("swing.rail_low_v", self.rail_low_v)?;
         let high = finite("swing.rail_high_v", self.rail_high_v)?;
         if low >= high {
-            return Err(ParamError::new(
+            return Err(refuse(
                 "swing.rail_high_v",
                 high,
                 format!("must be above rail_low_v = {low}"),
@@ -41,7 +41,7 @@ impl OutputSwing {
         }
         let knee = self.knee_v;
         if !(knee.is_finite() && knee >= 0.0 && 2.0 * knee < high - low) {
-            return Err(ParamError::new(
+            return Err(refuse(
                 "swing.knee_v",
                 knee,
                 format!(
@@ -136,8 +136,8 @@ impl AnalogChain {
                 .enumerate()
                 .map(|(i, &corner)| {
                     FirstOrderSection::new(kind, corner, fs).map_err(|mut e| {
-                        if e.field == "corner_hz" {
-                            e.field = format!("{name}[{i}]");
+                        if e.param == "corner_hz" {
+                            e.param = format!("{name}[{i}]");
                         }
                         e
                     })
@@ -158,7 +158,7 @@ impl AnalogChain {
         params.swing.validate()?;
         let bias = finite("output_bias_v", params.output_bias_v)?;
         if !(bias > params.swing.rail_low_v && bias < params.swing.rail_high_v) {
-            return Err(ParamError::new(
+            return Err(refuse(
                 "output_bias_v",
                 bias,
                 "must lie strictly between the rails",
@@ -303,7 +303,7 @@ impl Decimator {
     /// ```
     pub fn new(factor: usize) -> Result<Self, ParamError> {
         if factor == 0 {
-            return Err(ParamError::new("factor", 0.0, "must be at least 1"));
+            return Err(refuse("factor", 0.0, "must be at least 1"));
         }
         Ok(Decimator { factor, skip: 0 })
     }
@@ -359,7 +359,7 @@ impl OversampledFrontEnd {
     ) -> Result<Self, ParamError> {
         let output_rate_hz = positive("output_rate_hz", output_rate_hz)?;
         let decimator = Decimator::new(oversampling).map_err(|mut e| {
-            e.field = "oversampling".into();
+            e.param = "oversampling".into();
             e
         })?;
         let chain = AnalogChain::new(chain, output_rate_hz * oversampling as f64)?;

@@ -1,58 +1,22 @@
-//! Parameter validation of the front end.
+//! Parameter validation of the front end, through the one parameter-error type of
+//! `echobench-core` (owner: the front end), so its messages read like every other layer's.
 
-use std::fmt;
+pub use echobench_core::param_error::ParamError;
+use echobench_core::param_error::ParamOwner;
 
-/// A rejected front-end parameter: which field, its value, and what is allowed.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ParamError {
-    /// The parameter's name (list entries with their index, e.g. `low_pass_corners_hz[1]`).
-    pub field: String,
-    /// The rejected value.
-    pub value: f64,
-    /// What the field must satisfy.
-    pub requirement: String,
-}
+const OWNER: ParamOwner = ParamOwner::FrontEnd;
 
-impl fmt::Display for ParamError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "front-end parameter `{}` = {} is not valid: {}",
-            self.field, self.value, self.requirement
-        )
-    }
-}
-
-impl std::error::Error for ParamError {}
-
-impl ParamError {
-    pub(crate) fn new(
-        field: impl Into<String>,
-        value: f64,
-        requirement: impl Into<String>,
-    ) -> Self {
-        ParamError {
-            field: field.into(),
-            value,
-            requirement: requirement.into(),
-        }
-    }
+/// An error on front-end parameter `field`.
+pub(crate) fn refuse(field: &str, value: f64, requirement: impl Into<String>) -> ParamError {
+    OWNER.error(field, value, requirement)
 }
 
 /// Finite and strictly positive.
 pub(crate) fn positive(field: &str, value: f64) -> Result<f64, ParamError> {
-    if value.is_finite() && value > 0.0 {
-        Ok(value)
-    } else {
-        Err(ParamError::new(field, value, "must be finite and > 0"))
-    }
+    OWNER.positive(field, value)
 }
 
 /// Finite, any sign.
 pub(crate) fn finite(field: &str, value: f64) -> Result<f64, ParamError> {
-    if value.is_finite() {
-        Ok(value)
-    } else {
-        Err(ParamError::new(field, value, "must be finite"))
-    }
+    OWNER.finite(field, value)
 }

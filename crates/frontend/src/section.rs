@@ -2,7 +2,7 @@
 
 use std::f64::consts::{PI, TAU};
 
-use crate::error::{positive, ParamError};
+use crate::error::{positive, refuse, ParamError};
 
 /// Low-pass or high-pass.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -49,7 +49,7 @@ impl FirstOrderSection {
         let fs = positive("sample_rate_hz", sample_rate_hz)?;
         let corner_hz = positive("corner_hz", corner_hz)?;
         if corner_hz >= fs / 2.0 {
-            return Err(ParamError::new(
+            return Err(refuse(
                 "corner_hz",
                 corner_hz,
                 format!("must be below sample_rate_hz/2 = {} Hz", fs / 2.0),

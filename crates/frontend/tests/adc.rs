@@ -110,15 +110,15 @@ fn bipolar_twos_complement() {
 
 #[test]
 fn adc_parameters_are_validated() {
-    assert_eq!(Adc::new(0, 3.3).unwrap_err().field, "bits");
-    assert_eq!(Adc::new(25, 3.3).unwrap_err().field, "bits");
-    assert_eq!(Adc::new(12, 0.0).unwrap_err().field, "full_scale_v");
-    assert_eq!(Adc::new(12, f64::NAN).unwrap_err().field, "full_scale_v");
-    assert_eq!(Adc::bipolar(12, -1.0).unwrap_err().field, "half_span_v");
+    assert_eq!(Adc::new(0, 3.3).unwrap_err().param, "bits");
+    assert_eq!(Adc::new(25, 3.3).unwrap_err().param, "bits");
+    assert_eq!(Adc::new(12, 0.0).unwrap_err().param, "full_scale_v");
+    assert_eq!(Adc::new(12, f64::NAN).unwrap_err().param, "full_scale_v");
+    assert_eq!(Adc::bipolar(12, -1.0).unwrap_err().param, "half_span_v");
     assert_eq!(
         Adc::with_span(12, 1.0, 1.0, AdcCoding::OffsetBinary)
             .unwrap_err()
-            .field,
+            .param,
         "high_v"
     );
     assert_eq!(Adc::new(24, 3.3).unwrap().max_code(), (1 << 24) - 1);

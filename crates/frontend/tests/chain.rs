@@ -397,20 +397,20 @@ fn chain_parameters_are_validated() {
     ];
     for (params, field) in cases {
         let error = AnalogChain::new(&params, 8000.0).unwrap_err();
-        assert_eq!(error.field, field);
+        assert_eq!(error.param, field);
         assert!(error.to_string().contains(field));
     }
     let adc = Adc::new(12, 3.3).unwrap();
     assert_eq!(
         OversampledFrontEnd::new(&good, adc.clone(), 1000.0, 0)
             .unwrap_err()
-            .field,
+            .param,
         "oversampling"
     );
     assert_eq!(
         OversampledFrontEnd::new(&good, adc, f64::NAN, 8)
             .unwrap_err()
-            .field,
+            .param,
         "output_rate_hz"
     );
 }

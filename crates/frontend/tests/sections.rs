@@ -102,7 +102,7 @@ fn rc_corners() {
     for (r, c) in [(0.0, 1e-6), (-1e3, 1e-6), (f64::NAN, 1e-6)] {
         let corner = corner_from_rc_hz(r, c);
         let error = FirstOrderSection::high_pass(corner, 1000.0).unwrap_err();
-        assert_eq!(error.field, "corner_hz");
+        assert_eq!(error.param, "corner_hz");
     }
 }
 
@@ -141,13 +141,13 @@ fn bad_corners_are_rejected() {
         assert_eq!(
             FirstOrderSection::low_pass(corner, 1000.0)
                 .unwrap_err()
-                .field,
+                .param,
             "corner_hz"
         );
     }
     for fs in [0.0, f64::NAN] {
         assert_eq!(
-            FirstOrderSection::low_pass(10.0, fs).unwrap_err().field,
+            FirstOrderSection::low_pass(10.0, fs).unwrap_err().param,
             "sample_rate_hz"
         );
     }

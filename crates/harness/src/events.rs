@@ -90,44 +90,17 @@
 
 use echobench_core::alarm_statistic::MOfNStatistic;
 use echobench_core::{merge_intervals, Interval, Score};
-use std::fmt;
 
 /// Rounding allowance of the hold comparison, seconds (see the module doc).
 pub const HOLD_TOLERANCE_S: f64 = 1e-9;
 
-/// A parameter of the event scoring was refused.
-#[derive(Debug, Clone, PartialEq)]
-pub struct EventParamError {
-    /// Which parameter.
-    pub parameter: &'static str,
-    /// The refused value.
-    pub value: f64,
-    /// What would have been accepted.
-    pub allowed: String,
-}
+/// A parameter of the event scoring was refused (the one parameter-error type, owned by
+/// `ParamOwner::EventScoring`).
+pub use echobench_core::param_error::ParamError;
+use echobench_core::param_error::ParamOwner;
 
-impl fmt::Display for EventParamError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "{} = {} is not valid: must be {}",
-            self.parameter, self.value, self.allowed
-        )
-    }
-}
-
-impl std::error::Error for EventParamError {}
-
-fn check_non_negative(parameter: &'static str, value: f64) -> Result<f64, EventParamError> {
-    if value.is_finite() && value >= 0.0 {
-        Ok(value)
-    } else {
-        Err(EventParamError {
-            parameter,
-            value,
-            allowed: "finite and >= 0".to_string(),
-        })
-    }
+fn check_non_negative(parameter: &str, value: f64) -> Result<f64, ParamError> {
+    ParamOwner::EventScoring.non_negative(parameter, value)
 }
 
 /// The M-of-N rule (`1 <= m <= n`), the one validated type the scorers and the tail fits share.
@@ -147,7 +120,7 @@ impl AlarmLogic {
     ///
     /// # Errors
     /// When `hold_s` is negative or not finite.
-    pub fn new(hold_s: f64, m_of_n: MOfN) -> Result<Self, EventParamError> {
+    pub fn new(hold_s: f64, m_of_n: MOfN) -> Result<Self, ParamError> {
         Ok(AlarmLogic {
             hold_s: check_non_negative("hold_s", hold_s)?,
             m_of_n,
@@ -192,7 +165,7 @@ impl MatchWindow {
     ///
     /// # Errors
     /// When either margin is negative or not finite.
-    pub fn new(pre_s: f64, post_s: f64) -> Result<Self, EventParamError> {
+    pub fn new(pre_s: f64, post_s: f64) -> Result<Self, ParamError> {
         Ok(MatchWindow {
             pre_s: check_non_negative("pre_s", pre_s)?,
             post_s: check_non_negative("post_s", post_s)?,
@@ -244,7 +217,7 @@ impl TrialTruth {
         truth: &[Interval],
         duration_s: f64,
         window: MatchWindow,
-    ) -> Result<Self, EventParamError> {
+    ) -> Result<Self, ParamError> {
         let duration_s = check_non_negative("duration_s", duration_s)?;
         let mut raw_windows = Vec::with_capacity(truth.len());
         for event in truth {
@@ -252,10 +225,12 @@ impl TrialTruth {
                 event.start_s() - window.pre_s,
                 event.end_s() + window.post_s,
             )
-            .map_err(|_| EventParamError {
-                parameter: "truth event",
-                value: event.start_s(),
-                allowed: "an event whose window ends stay finite".to_string(),
+            .map_err(|_| {
+                ParamOwner::EventScoring.error(
+                    "truth event",
+                    event.start_s(),
+                    "must be an event whose window ends stay finite",
+                )
             })?;
             raw_windows.push(opened);
         }
@@ -1486,7 +1461,7 @@ mod tests {
         let huge = [interval(0.0, f64::MAX)];
         let wide = MatchWindow::new(0.5, f64::MAX).unwrap();
         let error = TrialTruth::new(&huge, 10.0, wide).unwrap_err();
-        assert_eq!(error.parameter, "truth event");
+        assert_eq!(error.param, "truth event");
         let message = MOfN::new(5, 3).unwrap_err().to_string();
         assert!(message.contains("m_of_n.m = 5"), "{message}");
     }

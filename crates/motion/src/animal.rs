@@ -402,7 +402,7 @@ mod tests {
 
     #[test]
     fn bad_parameters_are_named() {
-        let bad = |p: AnimalParams| Animal::new(p).unwrap_err().field;
+        let bad = |p: AnimalParams| Animal::new(p).unwrap_err().param;
         assert_eq!(
             bad(AnimalParams {
                 mass_kg: 0.0,

@@ -849,7 +849,7 @@ mod tests {
 
     #[test]
     fn bad_parameters_are_named() {
-        let bad = |p: BreathingParams| Breathing::new(p, [0; 32]).unwrap_err().field;
+        let bad = |p: BreathingParams| Breathing::new(p, [0; 32]).unwrap_err().param;
         assert_eq!(
             bad(BreathingParams {
                 rate_per_min: 0.0,

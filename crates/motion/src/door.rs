@@ -458,7 +458,7 @@ mod tests {
 
     #[test]
     fn bad_parameters_are_named() {
-        let bad = |p: DoorParams| Door::new(p, 0.05).unwrap_err().field;
+        let bad = |p: DoorParams| Door::new(p, 0.05).unwrap_err().param;
         assert_eq!(
             bad(DoorParams {
                 width_m: 0.0,
@@ -480,7 +480,7 @@ mod tests {
             }),
             "open_duration_s"
         );
-        assert_eq!(Door::new(door(), -1.0).unwrap_err().field, "wavelength_m");
+        assert_eq!(Door::new(door(), -1.0).unwrap_err().param, "wavelength_m");
         let open_forever = Door::new(
             DoorParams {
                 close_start_s: f64::INFINITY,

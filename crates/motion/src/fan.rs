@@ -940,7 +940,7 @@ mod tests {
     #[test]
     fn bad_parameters_are_named() {
         let lambda = C / 5.8e9;
-        let bad = |p: FanParams| Fan::new(p, lambda).unwrap_err().field;
+        let bad = |p: FanParams| Fan::new(p, lambda).unwrap_err().param;
         assert_eq!(
             bad(FanParams {
                 blade_count: 0,
@@ -970,7 +970,7 @@ mod tests {
             "revolutions_per_s"
         );
         assert_eq!(
-            Fan::new(desk_fan(3), 0.0).unwrap_err().field,
+            Fan::new(desk_fan(3), 0.0).unwrap_err().param,
             "wavelength_m"
         );
     }
@@ -1029,6 +1029,6 @@ mod tests {
             switch_off_s: 3.0,
             ..params
         };
-        assert_eq!(Fan::new(bad, 0.05).unwrap_err().field, "switch_off_s");
+        assert_eq!(Fan::new(bad, 0.05).unwrap_err().param, "switch_off_s");
     }
 }

@@ -30,35 +30,13 @@
 
 use crate::{MotionModel, Vec3};
 use std::f64::consts::PI;
-use std::fmt;
 
-/// A rejected model parameter: which model, which field, its value and what was expected.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ParamError {
-    /// The model whose parameters were rejected, e.g. `"door"`.
-    pub model: &'static str,
-    /// The offending field, e.g. `"width_m"`.
-    pub field: &'static str,
-    /// The rejected value (for a vector field, its Euclidean norm).
-    pub value: f64,
-    /// What the field must be, e.g. `"a finite number > 0"`.
-    pub expected: String,
-}
-
-impl fmt::Display for ParamError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "{} parameter {} = {} is invalid: expected {}",
-            self.model, self.field, self.value, self.expected
-        )
-    }
-}
-
-impl std::error::Error for ParamError {}
+pub use echobench_core::param_error::ParamError;
+use echobench_core::param_error::ParamOwner;
 
 /// Parameter checks shared by the models of this crate; each returns the
-/// (possibly normalised) value or a [`ParamError`] naming the field.
+/// (possibly normalised) value or a [`ParamError`] owned by the model
+/// (`ParamOwner::Motion`) and naming the field.
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct Check {
     pub(crate) model: &'static str,
@@ -66,12 +44,7 @@ pub(crate) struct Check {
 
 impl Check {
     pub(crate) fn error(&self, field: &'static str, value: f64, expected: &str) -> ParamError {
-        ParamError {
-            model: self.model,
-            field,
-            value,
-            expected: expected.to_string(),
-        }
+        ParamOwner::Motion(self.model).error(field, value, format!("must be {expected}"))
     }
 
     pub(crate) fn finite(&self, field: &'static str, value: f64) -> Result<f64, ParamError> {
@@ -289,7 +262,7 @@ impl Reflector {
     /// assert_eq!(echoes[0].position_m, [3.0, 0.0, 1.0]);
     /// assert_eq!(echoes[0].amplitude_m, 1.0);
     /// let bad = Reflector::new(ReflectorParams { rcs_m2: -1.0, ..params });
-    /// assert_eq!(bad.unwrap_err().field, "rcs_m2");
+    /// assert_eq!(bad.unwrap_err().param, "rcs_m2");
     /// # Ok::<(), echobench_motion::reflector::ParamError>(())
     /// ```
     pub fn new(params: ReflectorParams) -> Result<Reflector, ParamError> {
@@ -707,26 +680,26 @@ mod tests {
             ..both()
         })
         .unwrap_err();
-        assert_eq!(err.field, "rcs_m2");
+        assert_eq!(err.param, "rcs_m2");
         let err = Reflector::new(ReflectorParams {
             travel_direction: [0.0; 3],
             ..both()
         })
         .unwrap_err();
-        assert_eq!(err.field, "travel_direction");
+        assert_eq!(err.param, "travel_direction");
         let err = Reflector::new(ReflectorParams {
             move_stop_s: 0.5,
             ..both()
         })
         .unwrap_err();
-        assert_eq!(err.field, "move_stop_s");
+        assert_eq!(err.param, "move_stop_s");
         assert!(err.to_string().contains("move_stop_s"));
         let err = Reflector::new(ReflectorParams {
             shaker_direction: [f64::INFINITY, 0.0, 0.0],
             ..both()
         })
         .unwrap_err();
-        assert_eq!(err.field, "shaker_direction");
+        assert_eq!(err.param, "shaker_direction");
     }
 
     #[test]

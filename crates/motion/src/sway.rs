@@ -574,7 +574,7 @@ mod tests {
         assert!((f(1.0) - 0.498).abs() < 1e-3);
         assert!((f(2.0) - 0.352).abs() < 1e-3);
         assert_eq!(
-            pendulum_natural_frequency_hz(0.0).unwrap_err().field,
+            pendulum_natural_frequency_hz(0.0).unwrap_err().param,
             "length_m"
         );
     }
@@ -769,7 +769,7 @@ mod tests {
 
     #[test]
     fn bad_parameters_are_named() {
-        let bad = |p: SwayParams| Sway::new(p, [0; 32]).unwrap_err().field;
+        let bad = |p: SwayParams| Sway::new(p, [0; 32]).unwrap_err().param;
         assert_eq!(
             bad(SwayParams {
                 sway_direction: [0.0, 0.0, -2.0],

@@ -45,7 +45,9 @@
 
 use crate::path::Path;
 use crate::rcs::segment_root_rcs_m;
-use crate::reflector::ParamError;
+use crate::reflector::{Check, ParamError};
+
+const WALKER: Check = Check { model: "walker" };
 use crate::standing::{StandingMotion, COM_HEIGHT_FRACTION};
 use crate::{Echo, MotionModel, Vec3};
 use echobench_gait::{CycleTable, Gait, Pose, SegmentKind, SEGMENT_COUNT};
@@ -139,20 +141,14 @@ impl Walker {
     /// speed differs from the path's (the limbs would not match the progress).
     pub fn new(gait: Gait, path: Path, rcs_scale: f64) -> Result<Walker, ParamError> {
         if !(rcs_scale.is_finite() && rcs_scale >= 0.0) {
-            return Err(ParamError {
-                model: "walker",
-                field: "rcs_scale",
-                value: rcs_scale,
-                expected: "a finite number >= 0".to_string(),
-            });
+            return Err(WALKER.error("rcs_scale", rcs_scale, "a finite number >= 0"));
         }
         if (gait.speed_mps() - path.speed_mps()).abs() > 1e-9 * path.speed_mps() {
-            return Err(ParamError {
-                model: "walker",
-                field: "speed_mps",
-                value: gait.speed_mps(),
-                expected: format!("the path's speed, {} m/s", path.speed_mps()),
-            });
+            return Err(WALKER.error(
+                "speed_mps",
+                gait.speed_mps(),
+                &format!("the path's speed, {} m/s", path.speed_mps()),
+            ));
         }
         // Stopping or starting takes about one step (common practice in
         // animation: a walk ends with the trailing foot brought alongside).
@@ -954,11 +950,11 @@ mod tests {
         let gait = Gait::new(1.8, 1.4).expect("valid gait");
         for bad in [f64::NAN, -1.0, f64::INFINITY] {
             let err = Walker::new(gait.clone(), line.clone(), bad).unwrap_err();
-            assert_eq!(err.field, "rcs_scale");
+            assert_eq!(err.param, "rcs_scale");
         }
         let slower = Path::straight([0.0, 0.0], 0.0, 1.0, 0.0, 5.0, vec![]);
         assert_eq!(
-            Walker::new(gait, slower, 1.0).unwrap_err().field,
+            Walker::new(gait, slower, 1.0).unwrap_err().param,
             "speed_mps"
         );
     }

@@ -51,7 +51,7 @@ use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, StandardNormal};
 use std::f64::consts::TAU;
 
-use crate::error::{non_negative, sample_rate, ParamError};
+use crate::error::{non_negative, refuse, sample_rate, ParamError};
 use crate::{rng_from_seed, AdditiveNoise};
 
 /// Default lowest frequency of the 1/f region, Hz: below it the PSD flattens.
@@ -209,7 +209,7 @@ impl FlickerNoise {
         let corner_hz = non_negative("corner_hz", params.corner_hz)?;
         let lowest_hz = params.lowest_hz;
         if !(lowest_hz.is_finite() && lowest_hz > 0.0 && lowest_hz <= fs * MAX_LOWEST_FRACTION) {
-            return Err(ParamError::new(
+            return Err(refuse(
                 "lowest_hz",
                 lowest_hz,
                 format!(
@@ -651,7 +651,7 @@ fn solve_positive_definite(matrix: &[f64], rhs: &[f64]) -> Option<Vec<f64>> {
 /// ```
 pub fn kasdin_taps(alpha: f64, count: usize) -> Result<Vec<f64>, ParamError> {
     if !(alpha.is_finite() && (0.0..=2.0).contains(&alpha)) {
-        return Err(ParamError::new("alpha", alpha, "must be in [0, 2]"));
+        return Err(refuse("alpha", alpha, "must be in [0, 2]"));
     }
     let mut taps = Vec::with_capacity(count);
     let mut tap = 1.0;

@@ -12,7 +12,7 @@
 use rand::Rng;
 use std::f64::consts::TAU;
 
-use crate::error::{finite, sample_rate, ParamError};
+use crate::error::{finite, refuse, sample_rate, ParamError};
 use crate::{cycles_at, rng_from_seed, AdditiveNoise};
 
 /// Largest accepted |frequency_offset_hz| as a fraction of the nominal mains
@@ -87,11 +87,11 @@ impl HarmonicSeries {
     ) -> Result<Self, ParamError> {
         let fs = sample_rate(sample_rate_hz)?;
         if mains_hz != 50.0 && mains_hz != 60.0 {
-            return Err(ParamError::new("mains_hz", mains_hz, "must be 50 or 60"));
+            return Err(refuse("mains_hz", mains_hz, "must be 50 or 60"));
         }
         let offset = finite("frequency_offset_hz", frequency_offset_hz)?;
         if offset.abs() > MAX_OFFSET_FRACTION * mains_hz {
-            return Err(ParamError::new(
+            return Err(refuse(
                 "frequency_offset_hz",
                 offset,
                 format!(
@@ -203,7 +203,7 @@ impl MainsHum {
     /// };
     /// assert!(MainsHum::new(&params, 1000.0, [3; 32]).is_ok());
     /// let wrong = MainsHumParams { mains_hz: 55.0, ..params };
-    /// assert_eq!(MainsHum::new(&wrong, 1000.0, [3; 32]).unwrap_err().field, "mains_hz");
+    /// assert_eq!(MainsHum::new(&wrong, 1000.0, [3; 32]).unwrap_err().param, "mains_hz");
     /// ```
     pub fn new(
         params: &MainsHumParams,

@@ -149,7 +149,7 @@ fn drift_parameters_are_validated() {
         },
     };
     assert_eq!(
-        BeatTone::new(&bad_tau, 1000.0, [0; 32]).unwrap_err().field,
+        BeatTone::new(&bad_tau, 1000.0, [0; 32]).unwrap_err().param,
         "drift.time_constant_s"
     );
     let bad_period = BeatToneParams {
@@ -162,7 +162,7 @@ fn drift_parameters_are_validated() {
     assert_eq!(
         BeatTone::new(&bad_period, 1000.0, [0; 32])
             .unwrap_err()
-            .field,
+            .param,
         "drift.period_s"
     );
     let bad_mean = BeatToneParams {
@@ -170,7 +170,7 @@ fn drift_parameters_are_validated() {
         ..bad_tau
     };
     assert_eq!(
-        BeatTone::new(&bad_mean, 1000.0, [0; 32]).unwrap_err().field,
+        BeatTone::new(&bad_mean, 1000.0, [0; 32]).unwrap_err().param,
         "mean_offset_hz"
     );
     let bad_rms = DcDriftParams {
@@ -178,7 +178,7 @@ fn drift_parameters_are_validated() {
         time_constant_s: 1.0,
     };
     assert_eq!(
-        DcDrift::new(&bad_rms, 1000.0, [0; 32]).unwrap_err().field,
+        DcDrift::new(&bad_rms, 1000.0, [0; 32]).unwrap_err().param,
         "rms_v"
     );
 }

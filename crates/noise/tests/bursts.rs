@@ -195,7 +195,7 @@ fn burst_parameters_are_validated() {
         assert_eq!(
             RadioBursts::new(&params, 8000.0, [0; 32])
                 .unwrap_err()
-                .field,
+                .param,
             field
         );
     }

@@ -173,7 +173,7 @@ fn generators_add_to_existing_samples() {
 fn bad_sample_rates_are_rejected_everywhere() {
     for fs in [0.0, -1.0, f64::NAN, f64::INFINITY] {
         assert_eq!(
-            WhiteNoise::new(1e-6, fs, [0; 32]).unwrap_err().field,
+            WhiteNoise::new(1e-6, fs, [0; 32]).unwrap_err().param,
             "sample_rate_hz"
         );
         let drift = DcDriftParams {
@@ -181,12 +181,12 @@ fn bad_sample_rates_are_rejected_everywhere() {
             time_constant_s: 2.0,
         };
         assert_eq!(
-            DcDrift::new(&drift, fs, [0; 32]).unwrap_err().field,
+            DcDrift::new(&drift, fs, [0; 32]).unwrap_err().param,
             "sample_rate_hz"
         );
     }
     assert_eq!(
-        WhiteNoise::new(f64::NAN, FS, [0; 32]).unwrap_err().field,
+        WhiteNoise::new(f64::NAN, FS, [0; 32]).unwrap_err().param,
         "density_v_per_rt_hz"
     );
     let flicker = FlickerParams {
@@ -195,7 +195,7 @@ fn bad_sample_rates_are_rejected_everywhere() {
         lowest_hz: 500.0,
     };
     assert_eq!(
-        FlickerNoise::new(&flicker, FS, [0; 32]).unwrap_err().field,
+        FlickerNoise::new(&flicker, FS, [0; 32]).unwrap_err().param,
         "lowest_hz"
     );
     let flicker = FlickerParams {
@@ -204,7 +204,7 @@ fn bad_sample_rates_are_rejected_everywhere() {
         ..flicker
     };
     assert_eq!(
-        FlickerNoise::new(&flicker, FS, [0; 32]).unwrap_err().field,
+        FlickerNoise::new(&flicker, FS, [0; 32]).unwrap_err().param,
         "corner_hz"
     );
 }

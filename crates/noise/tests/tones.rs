@@ -146,11 +146,11 @@ fn mains_parameters_are_validated() {
     ];
     for (params, field) in cases {
         let error = MainsHum::new(&params, 1000.0, [0; 32]).unwrap_err();
-        assert_eq!(error.field, field);
+        assert_eq!(error.param, field);
         assert!(error.to_string().contains(field));
     }
     assert_eq!(
-        MainsHum::new(&good, 0.0, [0; 32]).unwrap_err().field,
+        MainsHum::new(&good, 0.0, [0; 32]).unwrap_err().param,
         "sample_rate_hz"
     );
     let lamp = LampFlickerParams {
@@ -159,7 +159,7 @@ fn mains_parameters_are_validated() {
         frequency_offset_hz: 0.0,
     };
     assert_eq!(
-        LampFlicker::new(&lamp, 1000.0, [0; 32]).unwrap_err().field,
+        LampFlicker::new(&lamp, 1000.0, [0; 32]).unwrap_err().param,
         "mains_hz"
     );
 }
