@@ -217,5 +217,9 @@ window = 0.5 - 0.5 * np.cos(2 * pi * np.arange(256) / 256)
 rho = np.sum(window ** 2 * np.exp(-2j * pi * np.arange(256) / 256)) / np.sum(window ** 2)
 check("x-hann", abs(rho) ** 2, 4 / 9, 1e-12)
 
+lo, hi = stats.gamma.ppf([0.025, 0.975], 2)
+check("x-gamma2", lo, 0.242209, 5e-7)
+check("x-gamma2", hi, 5.571643, 5e-7)
+
 print(f"{len(FAILED)} mismatch(es)" + (": " + ", ".join(FAILED) if FAILED else ""))
 sys.exit(1 if FAILED else 0)

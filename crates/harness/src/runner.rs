@@ -1097,6 +1097,14 @@ pub const PILOT_TRIALS: u64 = 24;
 /// rates' tail is resolved as finely as the grid's own upper tail (a choice of ours).
 const TAIL_THRESHOLDS: usize = 64;
 
+/// Of those, the largest trial maxima kept one by one: a counted threshold for a rare
+/// target allows at most `target × calibration hours` alarms, a handful in a soak (one in a
+/// week at one per week), so the thresholds that decide it are the few largest maxima.
+/// Spaced evenly in rank over a week's hundreds of maxima, the grid skipped them and the
+/// counted one-per-week threshold landed on the week's largest maximum instead of its
+/// second largest (a choice of ours: 32 covers targets up to 32 alarms per calibration).
+const TAIL_EXACT_TOP: usize = 32;
+
 /// One detector's calibration: the grid and the false alarms at each of its thresholds.
 struct Calibrated {
     thresholds: Vec<f64>,
@@ -1277,9 +1285,14 @@ fn tail_thresholds(top: f64, beyond: &[(usize, f64)]) -> Vec<f64> {
     let mut out: Vec<f64> = if n <= TAIL_THRESHOLDS {
         maxima.clone()
     } else {
-        (0..TAIL_THRESHOLDS)
-            .map(|i| maxima[i * (n - 1) / (TAIL_THRESHOLDS - 1)])
-            .collect()
+        // Evenly spaced in rank below the top, every one of the top maxima.
+        let exact_from = n - TAIL_EXACT_TOP;
+        let spaced = TAIL_THRESHOLDS - TAIL_EXACT_TOP;
+        let mut out: Vec<f64> = (0..spaced)
+            .map(|i| maxima[i * (exact_from - 1) / (spaced - 1)])
+            .collect();
+        out.extend_from_slice(&maxima[exact_from..]);
+        out
     };
     let largest = maxima[n - 1];
     out.push(if largest > 0.0 {
@@ -1994,6 +2007,26 @@ mod tests {
             let key = StreamKey::new(5, "scene", trial);
             assert_eq!(shards.iter().filter(|s| s.owns(&key)).count(), 1);
         }
+    }
+
+    /// Above the pilot grid the largest trial maxima are thresholds one by one, so the
+    /// counted threshold of a rare target (at most a few alarms) is exact; below them the
+    /// thresholds are spaced in rank, and one is added above the largest.
+    #[test]
+    fn tail_thresholds_keep_every_top_maximum() {
+        let beyond: Vec<(usize, f64)> = (0..1000).map(|i| (i, 10.0 + i as f64)).collect();
+        let t = tail_thresholds(10.5, &beyond);
+        assert_eq!(t.len(), TAIL_THRESHOLDS + 1);
+        // The 999 maxima above the top are 11..=1009; the largest 32 are all there.
+        for k in 0..TAIL_EXACT_TOP {
+            assert!(t.contains(&(1009.0 - k as f64)), "maximum {} missing", 1009 - k);
+        }
+        assert_eq!(t[0], 11.0);
+        assert!(t.windows(2).all(|w| w[0] < w[1]));
+        assert!(*t.last().unwrap() > 1009.0);
+        // Few maxima: every one.
+        let few: Vec<(usize, f64)> = (0..5).map(|i| (i, i as f64)).collect();
+        assert_eq!(tail_thresholds(0.5, &few)[..4], [1.0, 2.0, 3.0, 4.0]);
     }
 
     /// The calibration jobs made one at a time from their index are the listed ones, in
