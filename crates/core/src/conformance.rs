@@ -507,22 +507,20 @@ fn test_signal(instants: usize, channels: Channels, seed: u64) -> Vec<f32> {
 /// example above can run; not part of the API a plugin uses.
 #[doc(hidden)]
 pub mod tests_support {
-    use crate::detector::{
-        Cost, DefaultValue, Detector, DetectorPlugin, ParamError, ParamKind, ParamSpec, Params,
-    };
+    use crate::detector::{Cost, Detector, DetectorPlugin, ParamError, ParamSpec, Params};
     use crate::detector::{DetectorFailure, FrameScore, IqSample, Samples};
+    use crate::param_decl::IntegerParam;
     use crate::StreamInfo;
 
-    static PARAMS: [ParamSpec; 1] = [ParamSpec {
+    const FRAME_LEN: IntegerParam = IntegerParam {
         name: "frame_len",
         unit: "samples",
         about: "samples per frame",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: 1 << 20,
-        },
-        default: DefaultValue::Integer(50),
-    }];
+        min: 1,
+        max: 1 << 20,
+        default: 50,
+    };
+    static PARAMS: [ParamSpec; 1] = [FRAME_LEN.spec()];
 
     /// How a test detector misbehaves.
     #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -586,7 +584,7 @@ pub mod tests_support {
             crate::detector::check_sample_rate(self.id(), info)?;
             Ok(Box::new(MeanDetector {
                 flaw: self.0,
-                frame_len: params.integer("frame_len") as u64,
+                frame_len: FRAME_LEN.get(params)? as u64,
                 sum: 0.0,
                 in_frame: 0,
                 consumed: 0,

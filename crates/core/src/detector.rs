@@ -498,8 +498,14 @@ impl From<ParamProblems> for ParamError {
 }
 
 /// Resolved parameters: every declared parameter has a checked value.
+///
+/// A plugin reads them through its typed declarations
+/// ([`crate::param_decl`]: `FRAME_LEN.get(&params)`), which never panic.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Params {
+    /// The detector they were resolved for (empty for [`Params::defaults`]),
+    /// for the messages of a read that finds no value.
+    detector: String,
     values: BTreeMap<&'static str, ParamValue>,
     /// The names the suite set (the rest hold defaults): lets a plugin take
     /// a band's unit from the parameters actually written (see `doppler`).
@@ -521,7 +527,7 @@ impl Params {
     ///     kind: ParamKind::Integer { min: 8, max: 4096 }, default: DefaultValue::Integer(256),
     /// }];
     /// let p = Params::resolve("demo", &SPECS, &[]).unwrap();
-    /// assert_eq!(p.integer("frame_len"), 256);
+    /// assert_eq!(p.value("frame_len"), Some(&ParamValue::Integer(256)));
     /// let bad = Params::resolve("demo", &SPECS, &[
     ///     ("frame_len".into(), ParamValue::Integer(-4)),
     ///     ("frame_ln".into(), ParamValue::Integer(64)),
@@ -564,7 +570,11 @@ impl Params {
             }
         }
         if problems.is_empty() {
-            Ok(Params { values, given: set })
+            Ok(Params {
+                detector: detector.to_string(),
+                values,
+                given: set,
+            })
         } else {
             Err(ParamProblems(problems))
         }
@@ -573,6 +583,7 @@ impl Params {
     /// The defaults of `specs`.
     pub fn defaults(specs: &'static [ParamSpec]) -> Params {
         Params {
+            detector: String::new(),
             values: specs.iter().map(|s| (s.name, s.default_value())).collect(),
             given: BTreeSet::new(),
         }
@@ -583,51 +594,16 @@ impl Params {
         self.given.contains(name)
     }
 
-    /// A real parameter.
-    ///
-    /// # Panics
-    /// When `name` is not a declared real parameter: a bug in the plugin, not in the input.
-    pub fn real(&self, name: &str) -> f64 {
-        match self.values.get(name) {
-            Some(ParamValue::Real(x)) => *x,
-            Some(ParamValue::Integer(i)) => *i as f64,
-            other => panic!("plugin bug: parameter `{name}` is not a declared number ({other:?})"),
-        }
+    /// The detector these parameters were resolved for (empty for [`Params::defaults`]).
+    pub fn detector(&self) -> &str {
+        &self.detector
     }
 
-    /// An integer parameter.
-    ///
-    /// # Panics
-    /// When `name` is not a declared integer parameter.
-    pub fn integer(&self, name: &str) -> i64 {
-        match self.values.get(name) {
-            Some(ParamValue::Integer(i)) => *i,
-            other => {
-                panic!("plugin bug: parameter `{name}` is not a declared whole number ({other:?})")
-            }
-        }
-    }
-
-    /// A choice parameter.
-    ///
-    /// # Panics
-    /// When `name` is not a declared choice parameter.
-    pub fn text(&self, name: &str) -> &str {
-        match self.values.get(name) {
-            Some(ParamValue::Text(s)) => s,
-            other => panic!("plugin bug: parameter `{name}` is not a declared choice ({other:?})"),
-        }
-    }
-
-    /// A flag parameter.
-    ///
-    /// # Panics
-    /// When `name` is not a declared flag.
-    pub fn flag(&self, name: &str) -> bool {
-        match self.values.get(name) {
-            Some(ParamValue::Flag(b)) => *b,
-            other => panic!("plugin bug: parameter `{name}` is not a declared flag ({other:?})"),
-        }
+    /// The value of `name`, `None` when it is not declared. Plugins read their
+    /// parameters through typed declarations ([`crate::param_decl`]); this is
+    /// for code that lists or forwards values whatever their kind.
+    pub fn value(&self, name: &str) -> Option<&ParamValue> {
+        self.values.get(name)
     }
 
     /// All values, by name (for summaries).
@@ -730,9 +706,10 @@ mod tests {
             ],
         )
         .unwrap();
-        assert_eq!(p.real("low_hz"), 20.0);
-        assert_eq!(p.text("window"), "rect");
-        assert!(!p.flag("smooth"));
+        assert_eq!(p.value("low_hz"), Some(&ParamValue::Real(20.0)));
+        assert_eq!(p.value("window"), Some(&ParamValue::Text("rect".into())));
+        assert_eq!(p.value("smooth"), Some(&ParamValue::Flag(false)));
+        assert!(p.is_given("window") && !p.is_given("smooth"));
     }
 
     #[test]

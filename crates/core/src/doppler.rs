@@ -35,7 +35,8 @@
 //!   rule), or up to ×2 with `frame_pow2`. The hop is then
 //!   `hop_fraction`·N samples (at least 1).
 
-use crate::detector::{DefaultValue, ParamError, ParamKind, ParamSpec, Params};
+use crate::detector::{ParamError, ParamSpec, Params};
+use crate::param_decl::{ChoiceParam, FlagParam, IntegerParam, RealParam};
 use crate::StreamInfo;
 
 /// Speed of light in vacuum, m/s (exact, SI definition of the metre).
@@ -103,59 +104,74 @@ pub enum BandUnits {
     Mps,
 }
 
-/// The names of one band's edge parameters in both units.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct BandNames {
+/// One band's edge parameters in both units, each declared once (name, range,
+/// default, description): the detector's table lists their `spec()`s and
+/// [`resolve_band`] reads them back.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BandParams {
     /// Lower edge in Hz.
-    pub low_hz: &'static str,
+    pub low_hz: RealParam,
     /// Upper edge in Hz.
-    pub high_hz: &'static str,
+    pub high_hz: RealParam,
     /// Lower edge in m/s.
-    pub low_mps: &'static str,
+    pub low_mps: RealParam,
     /// Upper edge in m/s.
-    pub high_mps: &'static str,
+    pub high_mps: RealParam,
 }
 
-/// Decides the band unit from the choice parameter `choice` (`auto` | `hz` |
-/// `mps`) and which of `bands`' edges the suite set (module doc).
+/// The `band_units` choice (`auto` | `hz` | `mps`, default `auto`); `None` is `auto`.
+pub const BAND_UNITS: ChoiceParam<Option<BandUnits>> = ChoiceParam {
+    name: "band_units",
+    about: "bands given as auto (by the parameters set; default m/s), hz, or mps (speeds through \
+            2v/λ)",
+    options: &["auto", "hz", "mps"],
+    values: &[None, Some(BandUnits::Hz), Some(BandUnits::Mps)],
+    default: "auto",
+};
+
+/// Decides the band unit from the choice `choice` (usually [`BAND_UNITS`]) and
+/// which of `bands`' edges the suite set (module doc).
 ///
 /// # Errors
 /// Hz and m/s edges both set, or an explicit unit with an edge of the other unit set.
 pub fn band_units(
     detector: &str,
     params: &Params,
-    choice: &str,
-    bands: &[BandNames],
+    choice: &ChoiceParam<Option<BandUnits>>,
+    bands: &[&BandParams],
 ) -> Result<BandUnits, ParamError> {
     let hz_given = bands
         .iter()
         .flat_map(|b| [b.low_hz, b.high_hz])
-        .find(|n| params.is_given(n));
+        .find(|p| p.is_given(params))
+        .map(|p| p.name);
     let mps_given = bands
         .iter()
         .flat_map(|b| [b.low_mps, b.high_mps])
-        .find(|n| params.is_given(n));
+        .find(|p| p.is_given(params))
+        .map(|p| p.name);
+    let choice_name = choice.name;
     let mixed = |unit: &str, other: &str| {
         ParamError::new(
             detector,
             other,
             "set",
             format!(
-                "{choice} = {unit} but `{other}` is in the other unit; give the bands in one \
-                 unit (set {choice} to match, or remove `{other}`)"
+                "{choice_name} = {unit} but `{other}` is in the other unit; give the bands in one \
+                 unit (set {choice_name} to match, or remove `{other}`)"
             ),
         )
     };
-    match params.text(choice) {
-        "hz" => match mps_given {
+    match choice.get(params)? {
+        Some(BandUnits::Hz) => match mps_given {
             Some(name) => Err(mixed("hz", name)),
             None => Ok(BandUnits::Hz),
         },
-        "mps" => match hz_given {
+        Some(BandUnits::Mps) => match hz_given {
             Some(name) => Err(mixed("mps", name)),
             None => Ok(BandUnits::Mps),
         },
-        "auto" => match (hz_given, mps_given) {
+        None => match (hz_given, mps_given) {
             (Some(hz), Some(mps)) => Err(ParamError::new(
                 detector,
                 &format!("{hz}, {mps}"),
@@ -165,12 +181,6 @@ pub fn band_units(
             (Some(_), None) => Ok(BandUnits::Hz),
             _ => Ok(BandUnits::Mps),
         },
-        other => Err(ParamError::new(
-            detector,
-            choice,
-            other,
-            "expected auto, hz or mps",
-        )),
     }
 }
 
@@ -206,14 +216,14 @@ pub fn resolve_band(
     params: &Params,
     info: &StreamInfo,
     units: BandUnits,
-    names: BandNames,
+    band: &BandParams,
 ) -> Result<ResolvedBand, ParamError> {
     match units {
         BandUnits::Hz => Ok(ResolvedBand {
-            low_hz: params.real(names.low_hz),
-            high_hz: params.real(names.high_hz),
-            low_name: names.low_hz,
-            high_name: names.high_hz,
+            low_hz: band.low_hz.get(params)?,
+            high_hz: band.high_hz.get(params)?,
+            low_name: band.low_hz.name,
+            high_name: band.high_hz.name,
             clipped: false,
         }),
         BandUnits::Mps => {
@@ -230,12 +240,13 @@ pub fn resolve_band(
                 ));
             }
             let nyquist_hz = info.sample_rate_hz / 2.0;
-            let (low_mps, high_mps) = (params.real(names.low_mps), params.real(names.high_mps));
+            let (low_mps, high_mps) = (band.low_mps.get(params)?, band.high_mps.get(params)?);
+            let names = band;
             let mut band = ResolvedBand {
                 low_hz: doppler_hz(low_mps, carrier_hz),
                 high_hz: doppler_hz(high_mps, carrier_hz),
-                low_name: names.low_mps,
-                high_name: names.high_mps,
+                low_name: names.low_mps.name,
+                high_name: names.high_mps.name,
                 clipped: false,
             };
             let above = |name: &str, mps: f64, hz: f64, rule: &str| {
@@ -251,9 +262,9 @@ pub fn resolve_band(
                 )
             };
             if band.high_hz > nyquist_hz {
-                if params.is_given(names.high_mps) {
+                if names.high_mps.is_given(params) {
                     return Err(above(
-                        names.high_mps,
+                        names.high_mps.name,
                         high_mps,
                         band.high_hz,
                         "an edge you set is never moved; lower it or sample faster",
@@ -264,7 +275,7 @@ pub fn resolve_band(
             }
             if band.low_hz >= nyquist_hz {
                 return Err(above(
-                    names.low_mps,
+                    names.low_mps.name,
                     low_mps,
                     band.low_hz,
                     "nothing of the band is left; give the band explicitly or sample faster",
@@ -307,21 +318,141 @@ impl Framing {
     }
 }
 
-/// The parameter names of the frame family, and the detector's default unit
-/// when the suite sets none of them.
+/// How a detector's frame family is resolved: the default unit when the suite
+/// sets none of the frame parameters, and the frame lengths it accepts.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct FrameRules {
     /// Unit used under `frame_units: auto` when no frame parameter is set.
     pub default_units: FrameUnits,
     /// Smallest frame, samples.
     pub min_len: usize,
-    /// Largest frame, samples.
+    /// Largest frame, samples (also the upper bound of `frame_len` and `hop`).
     pub max_len: usize,
 }
 
-/// Resolves the frame family (`frame_units`, `frame_len`, `hop`, `frame_s`,
-/// `resolution_mps`, `hop_fraction`, `frame_pow2`; see [`frame_param_specs`])
-/// to samples, by the rules of the module doc.
+/// A detector's defaults for the frame family.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FrameDefaults {
+    /// `frame_len`, samples.
+    pub frame_len: i64,
+    /// `hop`, samples.
+    pub hop: i64,
+    /// `frame_s`, s.
+    pub frame_s: f64,
+    /// `resolution_mps`, m/s.
+    pub resolution_mps: f64,
+    /// `hop_fraction`.
+    pub hop_fraction: f64,
+}
+
+/// The frame family, each parameter declared once: `frame_units` (auto),
+/// `frame_len`/`hop` (samples), `frame_s`, `resolution_mps`, `hop_fraction`,
+/// `frame_pow2`, with the detector's defaults and [`FrameRules`]. The
+/// detector's table lists [`FrameParams::specs`]; [`resolve_frame`] reads them.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FrameParams {
+    /// `frame_units`: `auto` (`None`), `samples`, `s` or `mps`.
+    pub units: ChoiceParam<Option<FrameUnits>>,
+    /// `frame_len`, samples.
+    pub frame_len: IntegerParam,
+    /// `hop`, samples.
+    pub hop: IntegerParam,
+    /// `frame_s`, s.
+    pub frame_s: RealParam,
+    /// `resolution_mps`, m/s.
+    pub resolution_mps: RealParam,
+    /// `hop_fraction` of the frame.
+    pub hop_fraction: RealParam,
+    /// `frame_pow2`.
+    pub pow2: FlagParam,
+    /// Default unit and accepted lengths.
+    pub rules: FrameRules,
+}
+
+impl FrameParams {
+    /// The family with these defaults and rules.
+    pub const fn new(defaults: FrameDefaults, rules: FrameRules) -> FrameParams {
+        let max_len = rules.max_len as i64;
+        FrameParams {
+            units: ChoiceParam {
+                name: "frame_units",
+                about: "frame given as auto (by the parameters set; default: the velocity \
+                        resolution), samples, s or mps",
+                options: &["auto", "samples", "s", "mps"],
+                values: &[
+                    None,
+                    Some(FrameUnits::Samples),
+                    Some(FrameUnits::Seconds),
+                    Some(FrameUnits::Mps),
+                ],
+                default: "auto",
+            },
+            frame_len: IntegerParam {
+                name: "frame_len",
+                unit: "samples",
+                about: "frame length (frame_units = samples)",
+                min: 1,
+                max: max_len,
+                default: defaults.frame_len,
+            },
+            hop: IntegerParam {
+                name: "hop",
+                unit: "samples",
+                about: "samples between frame starts (frame_units = samples)",
+                min: 1,
+                max: max_len,
+                default: defaults.hop,
+            },
+            frame_s: RealParam {
+                name: "frame_s",
+                unit: "s",
+                about: "frame duration (frame_units = s)",
+                min: 1e-4,
+                max: 60.0,
+                default: defaults.frame_s,
+            },
+            resolution_mps: RealParam {
+                name: "resolution_mps",
+                unit: "m/s",
+                about: "velocity resolution λ/(2T) that sets the frame (frame_units = mps)",
+                min: 1e-3,
+                max: 100.0,
+                default: defaults.resolution_mps,
+            },
+            hop_fraction: RealParam {
+                name: "hop_fraction",
+                unit: "",
+                about: "hop as a fraction of the frame (frame_units = s or mps)",
+                min: 0.01,
+                max: 4.0,
+                default: defaults.hop_fraction,
+            },
+            pow2: FlagParam {
+                name: "frame_pow2",
+                about: "round a frame given in s or m/s up to a power of two (finer Δv, longer \
+                        latency)",
+                default: false,
+            },
+            rules,
+        }
+    }
+
+    /// The seven entries for the detector's parameter table, in the order of the fields.
+    pub const fn specs(&self) -> [ParamSpec; 7] {
+        [
+            self.units.spec(),
+            self.frame_len.spec(),
+            self.hop.spec(),
+            self.frame_s.spec(),
+            self.resolution_mps.spec(),
+            self.hop_fraction.spec(),
+            self.pow2.spec(),
+        ]
+    }
+}
+
+/// Resolves the frame family ([`FrameParams`]) to samples, by the rules of the
+/// module doc.
 ///
 /// # Errors
 /// Parameters of two units set; a frame outside `[min_len, max_len]` samples;
@@ -330,23 +461,24 @@ pub fn resolve_frame(
     detector: &str,
     params: &Params,
     info: &StreamInfo,
-    rules: FrameRules,
+    frame: &FrameParams,
 ) -> Result<Framing, ParamError> {
     let fs = crate::detector::check_sample_rate(detector, info)?;
-    let samples_given = ["frame_len", "hop"]
+    let rules = frame.rules;
+    let given = |p: RealParam| p.is_given(params).then_some(p.name);
+    let samples_given = [frame.frame_len, frame.hop]
         .into_iter()
-        .find(|n| params.is_given(n));
-    let seconds_given = params.is_given("frame_s").then_some("frame_s");
-    let mps_given = params
-        .is_given("resolution_mps")
-        .then_some("resolution_mps");
-    let fraction_given = params.is_given("hop_fraction").then_some("hop_fraction");
+        .find(|p| p.is_given(params))
+        .map(|p| p.name);
+    let seconds_given = given(frame.frame_s);
+    let mps_given = given(frame.resolution_mps);
+    let fraction_given = given(frame.hop_fraction);
     let set: Vec<&str> = [samples_given, seconds_given, mps_given]
         .into_iter()
         .flatten()
         .collect();
-    let units = match params.text("frame_units") {
-        "auto" => {
+    let units = match frame.units.get(params)? {
+        None => {
             if set.len() > 1 {
                 return Err(ParamError::new(
                     detector,
@@ -356,29 +488,22 @@ pub fn resolve_frame(
                      resolution_mps (velocity resolution)",
                 ));
             }
-            match set.first() {
-                Some(&"frame_s") => FrameUnits::Seconds,
-                Some(&"resolution_mps") => FrameUnits::Mps,
-                Some(_) => FrameUnits::Samples,
-                None => rules.default_units,
+            if set.is_empty() {
+                rules.default_units
+            } else if seconds_given.is_some() {
+                FrameUnits::Seconds
+            } else if mps_given.is_some() {
+                FrameUnits::Mps
+            } else {
+                FrameUnits::Samples
             }
         }
-        "samples" => FrameUnits::Samples,
-        "s" => FrameUnits::Seconds,
-        "mps" => FrameUnits::Mps,
-        other => {
-            return Err(ParamError::new(
-                detector,
-                "frame_units",
-                other,
-                "expected auto, samples, s or mps",
-            ))
-        }
+        Some(units) => units,
     };
     // Rounding applies to a frame computed from s or m/s; asked for on a frame given in
     // samples it would be ignored, so it is refused like the other foreign parameters.
-    let pow2_given =
-        (params.is_given("frame_pow2") && params.flag("frame_pow2")).then_some("frame_pow2");
+    let pow2 = frame.pow2.get(params)?;
+    let pow2_given = (frame.pow2.is_given(params) && pow2).then_some(frame.pow2.name);
     let foreign: &[Option<&str>] = match units {
         FrameUnits::Samples => &[seconds_given, mps_given, fraction_given, pow2_given],
         FrameUnits::Seconds => &[samples_given, mps_given],
@@ -417,33 +542,34 @@ pub fn resolve_frame(
     };
     let (frame_len, hop) = match units {
         FrameUnits::Samples => {
-            let count = |name: &str| {
-                let value = params.integer(name);
+            let count = |p: IntegerParam| -> Result<usize, ParamError> {
+                let value = p.get(params)?;
                 usize::try_from(value)
                     .ok()
                     .filter(|&v| v > 0)
                     .ok_or_else(|| {
-                        ParamError::new(detector, name, value, "must be a positive whole number")
+                        ParamError::new(detector, p.name, value, "must be a positive whole number")
                     })
             };
-            (count("frame_len")?, count("hop")?)
+            (count(frame.frame_len)?, count(frame.hop)?)
         }
         FrameUnits::Seconds | FrameUnits::Mps => {
             let (name, value, frame_s) = if units == FrameUnits::Seconds {
-                let frame_s = params.real("frame_s");
-                ("frame_s", format!("{frame_s} s"), frame_s)
+                let frame_s = frame.frame_s.get(params)?;
+                (frame.frame_s.name, format!("{frame_s} s"), frame_s)
             } else {
-                let carrier_hz = check_carrier(detector, "resolution_mps", info)?;
-                let dv = params.real("resolution_mps");
+                let carrier_hz = check_carrier(detector, frame.resolution_mps.name, info)?;
+                let dv = frame.resolution_mps.get(params)?;
                 (
-                    "resolution_mps",
+                    frame.resolution_mps.name,
                     format!("{dv} m/s"),
                     frame_s_for_resolution(dv, carrier_hz),
                 )
             };
-            let frame_len = frame_samples(frame_s, fs, params.flag("frame_pow2"));
+            let frame_len = frame_samples(frame_s, fs, pow2);
             let frame_len = in_range(name, value, frame_len)?;
-            let hop = ((params.real("hop_fraction") * frame_len as f64).round() as usize).max(1);
+            let hop =
+                ((frame.hop_fraction.get(params)? * frame_len as f64).round() as usize).max(1);
             (frame_len, hop)
         }
     };
@@ -472,97 +598,6 @@ pub fn frame_samples(frame_s: f64, sample_rate_hz: f64, pow2: bool) -> usize {
         even
     }
 }
-
-/// The frame family's parameter specs, with this detector's defaults:
-/// `frame_units` (auto), `frame_len`/`hop` (samples), `frame_s`,
-/// `resolution_mps`, `hop_fraction`, `frame_pow2`, in that order.
-pub const fn frame_param_specs(
-    frame_len: i64,
-    hop: i64,
-    max_len: i64,
-    frame_s: f64,
-    resolution_mps: f64,
-    hop_fraction: f64,
-) -> [ParamSpec; 7] {
-    [
-        ParamSpec {
-            name: "frame_units",
-            unit: "",
-            about: "frame given as auto (by the parameters set; default: the velocity \
-                    resolution), samples, s or mps",
-            kind: ParamKind::Choice(&["auto", "samples", "s", "mps"]),
-            default: DefaultValue::Text("auto"),
-        },
-        ParamSpec {
-            name: "frame_len",
-            unit: "samples",
-            about: "frame length (frame_units = samples)",
-            kind: ParamKind::Integer {
-                min: 1,
-                max: max_len,
-            },
-            default: DefaultValue::Integer(frame_len),
-        },
-        ParamSpec {
-            name: "hop",
-            unit: "samples",
-            about: "samples between frame starts (frame_units = samples)",
-            kind: ParamKind::Integer {
-                min: 1,
-                max: max_len,
-            },
-            default: DefaultValue::Integer(hop),
-        },
-        ParamSpec {
-            name: "frame_s",
-            unit: "s",
-            about: "frame duration (frame_units = s)",
-            kind: ParamKind::Real {
-                min: 1e-4,
-                max: 60.0,
-            },
-            default: DefaultValue::Real(frame_s),
-        },
-        ParamSpec {
-            name: "resolution_mps",
-            unit: "m/s",
-            about: "velocity resolution λ/(2T) that sets the frame (frame_units = mps)",
-            kind: ParamKind::Real {
-                min: 1e-3,
-                max: 100.0,
-            },
-            default: DefaultValue::Real(resolution_mps),
-        },
-        ParamSpec {
-            name: "hop_fraction",
-            unit: "",
-            about: "hop as a fraction of the frame (frame_units = s or mps)",
-            kind: ParamKind::Real {
-                min: 0.01,
-                max: 4.0,
-            },
-            default: DefaultValue::Real(hop_fraction),
-        },
-        ParamSpec {
-            name: "frame_pow2",
-            unit: "",
-            about:
-                "round a frame given in s or m/s up to a power of two (finer Δv, longer latency)",
-            kind: ParamKind::Flag,
-            default: DefaultValue::Flag(false),
-        },
-    ]
-}
-
-/// The `band_units` choice parameter (`auto` | `hz` | `mps`, default `auto`).
-pub const BAND_UNITS_SPEC: ParamSpec = ParamSpec {
-    name: "band_units",
-    unit: "",
-    about: "bands given as auto (by the parameters set; default m/s), hz, or mps (speeds through \
-            2v/λ)",
-    kind: ParamKind::Choice(&["auto", "hz", "mps"]),
-    default: DefaultValue::Text("auto"),
-};
 
 /// Velocity resolution of the spectral detectors' default frame, m/s.
 ///
@@ -639,44 +674,62 @@ mod tests {
         assert_eq!(frame_samples(0.0105, 1000.0, false), 12);
     }
 
+    const BAND: BandParams = BandParams {
+        low_hz: RealParam {
+            name: "low_hz",
+            unit: "Hz",
+            about: "",
+            min: 0.0,
+            max: 1e6,
+            default: 1.0,
+        },
+        high_hz: RealParam {
+            name: "high_hz",
+            unit: "Hz",
+            about: "",
+            min: 0.0,
+            max: 1e6,
+            default: 100.0,
+        },
+        low_mps: RealParam {
+            name: "low_mps",
+            unit: "m/s",
+            about: "",
+            min: 0.0,
+            max: 100.0,
+            default: MOTION_MIN_MPS,
+        },
+        high_mps: RealParam {
+            name: "high_mps",
+            unit: "m/s",
+            about: "",
+            min: 0.0,
+            max: 100.0,
+            default: MOTION_MAX_MPS,
+        },
+    };
+    const FRAME: FrameParams = FrameParams::new(
+        FrameDefaults {
+            frame_len: 256,
+            hop: 128,
+            frame_s: 0.128,
+            resolution_mps: DEFAULT_RESOLUTION_MPS,
+            hop_fraction: 0.5,
+        },
+        FrameRules {
+            default_units: FrameUnits::Mps,
+            min_len: 8,
+            max_len: 65536,
+        },
+    );
     static SPECS: [ParamSpec; 12] = {
-        let f = frame_param_specs(256, 128, 65536, 0.128, DEFAULT_RESOLUTION_MPS, 0.5);
+        let f = FRAME.specs();
         [
-            BAND_UNITS_SPEC,
-            ParamSpec {
-                name: "low_hz",
-                unit: "Hz",
-                about: "",
-                kind: ParamKind::Real { min: 0.0, max: 1e6 },
-                default: DefaultValue::Real(1.0),
-            },
-            ParamSpec {
-                name: "high_hz",
-                unit: "Hz",
-                about: "",
-                kind: ParamKind::Real { min: 0.0, max: 1e6 },
-                default: DefaultValue::Real(100.0),
-            },
-            ParamSpec {
-                name: "low_mps",
-                unit: "m/s",
-                about: "",
-                kind: ParamKind::Real {
-                    min: 0.0,
-                    max: 100.0,
-                },
-                default: DefaultValue::Real(MOTION_MIN_MPS),
-            },
-            ParamSpec {
-                name: "high_mps",
-                unit: "m/s",
-                about: "",
-                kind: ParamKind::Real {
-                    min: 0.0,
-                    max: 100.0,
-                },
-                default: DefaultValue::Real(MOTION_MAX_MPS),
-            },
+            BAND_UNITS.spec(),
+            BAND.low_hz.spec(),
+            BAND.high_hz.spec(),
+            BAND.low_mps.spec(),
+            BAND.high_mps.spec(),
             f[0],
             f[1],
             f[2],
@@ -685,17 +738,6 @@ mod tests {
             f[5],
             f[6],
         ]
-    };
-    const NAMES: BandNames = BandNames {
-        low_hz: "low_hz",
-        high_hz: "high_hz",
-        low_mps: "low_mps",
-        high_mps: "high_mps",
-    };
-    const RULES: FrameRules = FrameRules {
-        default_units: FrameUnits::Mps,
-        min_len: 8,
-        max_len: 65536,
     };
 
     fn resolve(given: &[(&str, ParamValue)]) -> Result<Params, ParamError> {
@@ -715,8 +757,8 @@ mod tests {
 
     fn band(given: &[(&str, ParamValue)], info: &StreamInfo) -> Result<ResolvedBand, ParamError> {
         let p = resolve(given)?;
-        let units = band_units("t", &p, "band_units", &[NAMES])?;
-        resolve_band("t", &p, info, units, NAMES)
+        let units = band_units("t", &p, &BAND_UNITS, &[&BAND])?;
+        resolve_band("t", &p, info, units, &BAND)
     }
 
     #[test]
@@ -778,7 +820,7 @@ mod tests {
     fn frames_follow_the_unit_that_was_set() {
         let info = stream(2000.0, 2.45e9);
         let frame = |given: &[(&str, ParamValue)]| {
-            resolve_frame("t", &resolve(given).unwrap(), &info, RULES)
+            resolve_frame("t", &resolve(given).unwrap(), &info, &FRAME)
         };
         // Default: Δv = 0.25 m/s → 490 samples at 2.45 GHz, hop 245.
         assert_eq!(

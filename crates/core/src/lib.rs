@@ -15,6 +15,7 @@ pub mod conformance;
 pub mod detector;
 pub mod doppler;
 pub mod fastmath;
+pub mod param_decl;
 pub mod param_error;
 pub mod seed;
 pub mod suggest;

@@ -108,13 +108,14 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    NominalPoint, ParamError, ParamKind, ParamSpec, Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, NominalPoint,
+    ParamError, ParamSpec, Params, Samples,
 };
 use echobench_core::doppler::{
-    self, BandNames, FrameRules, FrameUnits, Framing, ResolvedBand, DEFAULT_RESOLUTION_MPS,
-    MOTION_MAX_MPS, MOTION_MIN_MPS,
+    self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing, ResolvedBand,
+    DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS, MOTION_MIN_MPS,
 };
+use echobench_core::param_decl::{ChoiceParam, FlagParam, IntegerParam, RealParam};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
@@ -134,12 +135,6 @@ const CLEAN_CHUNK: usize = 64;
 pub use echobench_core::doppler::doppler_hz;
 
 /// Frames of 8 to 65 536 samples, given by default as a velocity resolution.
-const FRAME_RULES: FrameRules = FrameRules {
-    default_units: FrameUnits::Mps,
-    min_len: 8,
-    max_len: 65536,
-};
-
 /// The bands resolved to Hz (before bins are chosen).
 struct ResolvedBands {
     motion: ResolvedBand,
@@ -151,13 +146,13 @@ fn resolve_bands(params: &Params, info: &StreamInfo) -> Result<ResolvedBands, Pa
     let units = doppler::band_units(
         ID,
         params,
-        "band_units",
-        &[MOTION_NAMES, REFERENCE_NAMES, SWAY_NAMES],
+        &doppler::BAND_UNITS,
+        &[&MOTION, &REFERENCE, &SWAY],
     )?;
-    let motion = doppler::resolve_band(ID, params, info, units, MOTION_NAMES)?;
-    let reference = doppler::resolve_band(ID, params, info, units, REFERENCE_NAMES)?;
-    let sway = if params.flag("sway_in_reference") {
-        Some(doppler::resolve_band(ID, params, info, units, SWAY_NAMES)?)
+    let motion = doppler::resolve_band(ID, params, info, units, &MOTION)?;
+    let reference = doppler::resolve_band(ID, params, info, units, &REFERENCE)?;
+    let sway = if SWAY_IN_REFERENCE.get(params)? {
+        Some(doppler::resolve_band(ID, params, info, units, &SWAY)?)
     } else {
         None
     };
@@ -174,185 +169,200 @@ pub struct BandRatioPlugin;
 /// The frame family: a velocity resolution of [`DEFAULT_RESOLUTION_MPS`] by
 /// default (0.245 s at 2.45 GHz, 0.0249 s at 24.125 GHz), hop half a frame;
 /// 256/128 samples when the frame is given in samples.
-const FRAME: [ParamSpec; 7] =
-    doppler::frame_param_specs(256, 128, 65536, 0.128, DEFAULT_RESOLUTION_MPS, 0.5);
+pub const FRAME: FrameParams = FrameParams::new(
+    FrameDefaults {
+        frame_len: 256,
+        hop: 128,
+        frame_s: 0.128,
+        resolution_mps: DEFAULT_RESOLUTION_MPS,
+        hop_fraction: 0.5,
+    },
+    FrameRules {
+        default_units: FrameUnits::Mps,
+        min_len: 8,
+        max_len: 65536,
+    },
+);
 
-/// The motion band's edge parameters.
-pub const MOTION_NAMES: BandNames = BandNames {
-    low_hz: "motion_low_hz",
-    high_hz: "motion_high_hz",
-    low_mps: "motion_min_mps",
-    high_mps: "motion_max_mps",
-};
-
-/// The reference (nuisance) band's edge parameters.
-pub const REFERENCE_NAMES: BandNames = BandNames {
-    low_hz: "reference_low_hz",
-    high_hz: "reference_high_hz",
-    low_mps: "reference_min_mps",
-    high_mps: "reference_max_mps",
-};
-
-/// The slow-sway band's edge parameters.
-pub const SWAY_NAMES: BandNames = BandNames {
-    low_hz: "sway_low_hz",
-    high_hz: "sway_high_hz",
-    low_mps: "sway_min_mps",
-    high_mps: "sway_max_mps",
-};
-
-const fn hz(name: &'static str, about: &'static str, default: f64) -> ParamSpec {
-    ParamSpec {
+/// A band edge in Hz: 0 to 1 MHz.
+const fn hz(name: &'static str, about: &'static str, default: f64) -> RealParam {
+    RealParam {
         name,
         unit: "Hz",
         about,
-        kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(default),
+        min: 0.0,
+        max: 1e6,
+        default,
     }
 }
 
-const fn mps(name: &'static str, about: &'static str, default: f64) -> ParamSpec {
-    ParamSpec {
+/// A band edge as a radial speed: 0 to 100 m/s.
+const fn mps(name: &'static str, about: &'static str, default: f64) -> RealParam {
+    RealParam {
         name,
         unit: "m/s",
         about,
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(default),
+        min: 0.0,
+        max: 100.0,
+        default,
     }
 }
 
-static PARAMS: [ParamSpec; 26] = [
-    doppler::BAND_UNITS_SPEC,
-    // Walker torso to limbs, 0.3–4 m/s (see `echobench_core::doppler::MOTION_MIN_MPS`).
-    mps(
+// The Hz edges of every band are the historic Hz bands (right at 2.45 GHz only), used
+// when band_units = hz or when a suite sets any of them.
+
+/// The motion band's edge parameters: walker torso to limbs, 0.3–4 m/s (see
+/// `echobench_core::doppler::MOTION_MIN_MPS`).
+pub const MOTION: BandParams = BandParams {
+    low_mps: mps(
         "motion_min_mps",
         "slowest radial speed of the motion band",
         MOTION_MIN_MPS,
     ),
-    mps(
+    high_mps: mps(
         "motion_max_mps",
         "fastest radial speed of the motion band",
         MOTION_MAX_MPS,
     ),
-    // Above the motion band by two resolution cells (a Hann main lobe is ±2 bins wide),
-    // up past the fastest fan blade tips (desk fan 18.85 m/s,
-    // docs/reference/nuisances.md#n2).
-    mps(
-        "reference_min_mps",
-        "slowest radial speed of the nuisance (reference) band",
-        4.5,
-    ),
-    mps(
-        "reference_max_mps",
-        "fastest radial speed of the nuisance (reference) band (default: clipped to Nyquist)",
-        25.0,
-    ),
-    // A swaying object's speed: a 0.5 m pendulum at 5° peaks at 0.19 m/s
-    // (docs/reference/nuisances.md#n1);
-    // from 0.05 m/s so the DC bin (static clutter) stays out.
-    mps(
-        "sway_min_mps",
-        "slowest radial speed of the slow-sway band (sway_in_reference)",
-        0.05,
-    ),
-    mps(
-        "sway_max_mps",
-        "fastest radial speed of the slow-sway band (sway_in_reference)",
-        0.25,
-    ),
-    // The historic Hz bands (right at 2.45 GHz only), used when band_units = hz or
-    // when a suite sets any of them.
-    hz(
+    low_hz: hz(
         "motion_low_hz",
         "lower edge of the motion band (Hz units)",
         10.0,
     ),
-    hz(
+    high_hz: hz(
         "motion_high_hz",
         "upper edge of the motion band (Hz units)",
         80.0,
     ),
-    hz(
+};
+
+/// The reference (nuisance) band's edge parameters: above the motion band by
+/// two resolution cells (a Hann main lobe is ±2 bins wide), up past the
+/// fastest fan blade tips (desk fan 18.85 m/s, docs/reference/nuisances.md#n2).
+pub const REFERENCE: BandParams = BandParams {
+    low_mps: mps(
+        "reference_min_mps",
+        "slowest radial speed of the nuisance (reference) band",
+        4.5,
+    ),
+    high_mps: mps(
+        "reference_max_mps",
+        "fastest radial speed of the nuisance (reference) band (default: clipped to Nyquist)",
+        25.0,
+    ),
+    low_hz: hz(
         "reference_low_hz",
         "lower edge of the nuisance (reference) band (Hz units)",
         100.0,
     ),
-    hz(
+    high_hz: hz(
         "reference_high_hz",
         "upper edge of the nuisance (reference) band (Hz units)",
         400.0,
     ),
-    ParamSpec {
-        name: "sway_in_reference",
-        unit: "",
-        about: "also count the slow-sway band in the reference",
-        kind: ParamKind::Flag,
-        default: DefaultValue::Flag(false),
-    },
-    hz(
+};
+
+/// The slow-sway band's edge parameters: a swaying object's speed (a 0.5 m
+/// pendulum at 5° peaks at 0.19 m/s, docs/reference/nuisances.md#n1), from
+/// 0.05 m/s so the DC bin (static clutter) stays out.
+pub const SWAY: BandParams = BandParams {
+    low_mps: mps(
+        "sway_min_mps",
+        "slowest radial speed of the slow-sway band (sway_in_reference)",
+        0.05,
+    ),
+    high_mps: mps(
+        "sway_max_mps",
+        "fastest radial speed of the slow-sway band (sway_in_reference)",
+        0.25,
+    ),
+    low_hz: hz(
         "sway_low_hz",
         "lower edge of the slow-sway band (Hz units, sway_in_reference)",
         0.5,
     ),
-    hz(
+    high_hz: hz(
         "sway_high_hz",
         "upper edge of the slow-sway band (Hz units, sway_in_reference)",
         8.0,
     ),
-    ParamSpec {
-        name: "mains_hz",
-        unit: "Hz",
-        about: "mains frequency whose lines k·mains are removed from both bands: 0 (off), 50 or \
+};
+
+const SWAY_IN_REFERENCE: FlagParam = FlagParam {
+    name: "sway_in_reference",
+    about: "also count the slow-sway band in the reference",
+    default: false,
+};
+
+const MAINS_HZ: IntegerParam = IntegerParam {
+    name: "mains_hz",
+    unit: "Hz",
+    about: "mains frequency whose lines k·mains are removed from both bands: 0 (off), 50 or \
                 60 (electrical, always in Hz)",
-        kind: ParamKind::Integer { min: 0, max: 60 },
-        default: DefaultValue::Integer(0),
-    },
-    ParamSpec {
-        name: "notch_width_hz",
-        unit: "Hz",
-        about: "full width of each mains notch; bins whose span overlaps it are removed",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(10.0),
-    },
-    ParamSpec {
-        name: "statistic",
-        unit: "",
-        about: "sum (Σ/Σ) or mean (mean/mean, F-distributed for rect windows) over the bins",
-        kind: ParamKind::Choice(&["sum", "mean"]),
-        default: DefaultValue::Text("sum"),
-    },
-    ParamSpec {
-        name: "window",
-        unit: "",
-        about: "frame window",
-        kind: ParamKind::Choice(&["hann", "rect"]),
-        default: DefaultValue::Text("hann"),
-    },
-    FRAME[0],
-    FRAME[1],
-    FRAME[2],
-    FRAME[3],
-    FRAME[4],
-    FRAME[5],
-    FRAME[6],
-    ParamSpec {
-        name: "pfa",
-        unit: "",
-        about:
-            "per-frame false-alarm probability of the nominal F threshold (reported, not applied)",
-        kind: ParamKind::Real {
-            min: 1e-12,
-            max: 0.5,
-        },
-        default: DefaultValue::Real(1e-3),
-    },
-];
+    min: 0,
+    max: 60,
+    default: 0,
+};
+
+const NOTCH_WIDTH_HZ: RealParam = RealParam {
+    name: "notch_width_hz",
+    unit: "Hz",
+    about: "full width of each mains notch; bins whose span overlaps it are removed",
+    min: 0.0,
+    max: 100.0,
+    default: 10.0,
+};
+
+const STATISTIC: ChoiceParam<Statistic> = ChoiceParam {
+    name: "statistic",
+    about: "sum (Σ/Σ) or mean (mean/mean, F-distributed for rect windows) over the bins",
+    options: &["sum", "mean"],
+    values: &[Statistic::Sum, Statistic::Mean],
+    default: "sum",
+};
+
+const WINDOW: ChoiceParam<Window> = Window::param("frame window");
+
+const PFA: RealParam = RealParam {
+    name: "pfa",
+    unit: "",
+    about: "per-frame false-alarm probability of the nominal F threshold (reported, not applied)",
+    min: 1e-12,
+    max: 0.5,
+    default: 1e-3,
+};
+
+static PARAMS: [ParamSpec; 26] = {
+    let [f0, f1, f2, f3, f4, f5, f6] = FRAME.specs();
+    [
+        doppler::BAND_UNITS.spec(),
+        MOTION.low_mps.spec(),
+        MOTION.high_mps.spec(),
+        REFERENCE.low_mps.spec(),
+        REFERENCE.high_mps.spec(),
+        SWAY.low_mps.spec(),
+        SWAY.high_mps.spec(),
+        MOTION.low_hz.spec(),
+        MOTION.high_hz.spec(),
+        REFERENCE.low_hz.spec(),
+        REFERENCE.high_hz.spec(),
+        SWAY_IN_REFERENCE.spec(),
+        SWAY.low_hz.spec(),
+        SWAY.high_hz.spec(),
+        MAINS_HZ.spec(),
+        NOTCH_WIDTH_HZ.spec(),
+        STATISTIC.spec(),
+        WINDOW.spec(),
+        f0,
+        f1,
+        f2,
+        f3,
+        f4,
+        f5,
+        f6,
+        PFA.spec(),
+    ]
+};
 
 /// How the bins of a band are combined.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -405,22 +415,9 @@ impl BandRatioConfig {
     /// without a carrier, or a stream with a bad sample rate.
     pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
-        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
-        let window = Window::from_name(params.text("window")).ok_or_else(|| {
-            ParamError::new(ID, "window", params.text("window"), "expected hann or rect")
-        })?;
-        let statistic = match params.text("statistic") {
-            "sum" => Statistic::Sum,
-            "mean" => Statistic::Mean,
-            other => {
-                return Err(ParamError::new(
-                    ID,
-                    "statistic",
-                    other,
-                    "expected sum or mean",
-                ))
-            }
-        };
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, &FRAME)?;
+        let window = WINDOW.get(params)?;
+        let statistic = STATISTIC.get(params)?;
         let nyquist_hz = fs / 2.0;
         let spectrum = BinLayout {
             channels: info.channels,
@@ -494,7 +491,7 @@ impl BandRatioConfig {
             reference_bins.dedup();
         }
 
-        let mains_hz = params.integer("mains_hz");
+        let mains_hz = MAINS_HZ.get(params)?;
         if ![0, 50, 60].contains(&mains_hz) {
             return Err(ParamError::new(
                 ID,
@@ -504,7 +501,7 @@ impl BandRatioConfig {
             ));
         }
         if mains_hz > 0 {
-            let notch_width_hz = params.real("notch_width_hz");
+            let notch_width_hz = NOTCH_WIDTH_HZ.get(params)?;
             let keep = |k: &usize| !spectrum.in_mains_notch(*k, mains_hz as f64, notch_width_hz);
             motion_bins.retain(keep);
             reference_bins.retain(keep);
@@ -532,7 +529,7 @@ impl BandRatioConfig {
             sway_band_hz: bands.sway.map(|b| (b.low_hz, b.high_hz)),
             motion_bins,
             reference_bins,
-            pfa: params.real("pfa"),
+            pfa: PFA.get(params)?,
         })
     }
 

@@ -12,6 +12,7 @@
 
 pub mod cfar_cells;
 
+use echobench_core::param_decl::ChoiceParam;
 use realfft::{RealFftPlanner, RealToComplex};
 use rustfft::num_complex::Complex;
 use rustfft::{Fft, FftPlanner};
@@ -117,12 +118,15 @@ impl Window {
         }
     }
 
-    /// Parses "rect" / "rectangular" / "hann".
-    pub fn from_name(name: &str) -> Option<Window> {
-        match name {
-            "rect" | "rectangular" => Some(Window::Rectangular),
-            "hann" => Some(Window::Hann),
-            _ => None,
+    /// The `window` choice parameter (`hann` | `rect`, default `hann`), declared
+    /// once for every spectral detector; `about` is the detector's own line.
+    pub const fn param(about: &'static str) -> ChoiceParam<Window> {
+        ChoiceParam {
+            name: "window",
+            about,
+            options: &["hann", "rect"],
+            values: &[Window::Hann, Window::Rectangular],
+            default: "hann",
         }
     }
 }

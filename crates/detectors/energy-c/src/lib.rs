@@ -71,10 +71,11 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
+    Params, Samples,
 };
 use echobench_core::doppler::Framing;
+use echobench_core::param_decl::IntegerParam;
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use std::ffi::{c_int, c_void};
 
@@ -99,28 +100,25 @@ mod ffi {
     }
 }
 
-static PARAMS: [ParamSpec; 2] = [
-    ParamSpec {
-        name: "frame_len",
-        unit: "samples",
-        about: "samples per frame (at most ENERGY_MAX_FRAME of the C build)",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: MAX_FRAME,
-        },
-        default: DefaultValue::Integer(256),
-    },
-    ParamSpec {
-        name: "hop",
-        unit: "samples",
-        about: "samples between the starts of consecutive frames",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: 1 << 20,
-        },
-        default: DefaultValue::Integer(128),
-    },
-];
+const FRAME_LEN: IntegerParam = IntegerParam {
+    name: "frame_len",
+    unit: "samples",
+    about: "samples per frame (at most ENERGY_MAX_FRAME of the C build)",
+    min: 1,
+    max: MAX_FRAME,
+    default: 256,
+};
+
+const HOP: IntegerParam = IntegerParam {
+    name: "hop",
+    unit: "samples",
+    about: "samples between the starts of consecutive frames",
+    min: 1,
+    max: 1 << 20,
+    default: 128,
+};
+
+static PARAMS: [ParamSpec; 2] = [FRAME_LEN.spec(), HOP.spec()];
 
 /// The C energy detector plugin (id `energy-c`).
 pub struct EnergyCPlugin;
@@ -227,7 +225,7 @@ impl Config {
         }
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
         let max_frame = firmware_facts().max_frame;
-        let frame = params.integer("frame_len");
+        let frame = FRAME_LEN.get(params)?;
         let frame_len = u32::try_from(frame)
             .ok()
             .filter(|&n| n >= 1 && n <= max_frame)
@@ -239,7 +237,7 @@ impl Config {
                     format!("expected 1 to {max_frame} samples (ENERGY_MAX_FRAME of the C build)"),
                 )
             })?;
-        let hop_given = params.integer("hop");
+        let hop_given = HOP.get(params)?;
         let hop = u32::try_from(hop_given)
             .ok()
             .filter(|&n| n >= 1)

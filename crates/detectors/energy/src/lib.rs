@@ -69,10 +69,13 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
+    Params, Samples,
 };
-use echobench_core::doppler::{self, BandNames, FrameRules, FrameUnits, Framing};
+use echobench_core::doppler::{
+    self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
+};
+use echobench_core::param_decl::{ChoiceParam, RealParam};
 use echobench_core::{FrameScore, StreamInfo};
 
 /// The plugin's id in suite files.
@@ -89,102 +92,108 @@ const MAX_FRAME: i64 = 1 << 20;
 /// The frame family: 0.128 s (256 samples at 2 kHz), hop half a frame, by
 /// default in seconds: a time-domain energy has no frequency bins, so a
 /// velocity resolution would only be a roundabout way to say a duration.
-const FRAME: [ParamSpec; 7] = doppler::frame_param_specs(
-    256,
-    128,
-    MAX_FRAME,
-    0.128,
-    doppler::DEFAULT_RESOLUTION_MPS,
-    0.5,
+pub const FRAME: FrameParams = FrameParams::new(
+    FrameDefaults {
+        frame_len: 256,
+        hop: 128,
+        frame_s: 0.128,
+        resolution_mps: doppler::DEFAULT_RESOLUTION_MPS,
+        hop_fraction: 0.5,
+    },
+    FrameRules {
+        default_units: FrameUnits::Seconds,
+        min_len: 1,
+        max_len: MAX_FRAME as usize,
+    },
 );
 
-/// The band-limit corners' parameters.
-pub const BAND_NAMES: BandNames = BandNames {
-    low_hz: "low_hz",
-    high_hz: "high_hz",
-    low_mps: "low_mps",
-    high_mps: "high_mps",
-};
-
-const FRAME_RULES: FrameRules = FrameRules {
-    default_units: FrameUnits::Seconds,
-    min_len: 1,
-    max_len: MAX_FRAME as usize,
-};
-
-static PARAMS: [ParamSpec; 15] = [
-    FRAME[0],
-    FRAME[1],
-    FRAME[2],
-    FRAME[3],
-    FRAME[4],
-    FRAME[5],
-    FRAME[6],
-    doppler::BAND_UNITS_SPEC,
-    // Off by default: the energy detector's point is all the power (the reference
-    // pipeline's energy has no band limit); set the corners as speeds to band-limit it.
-    ParamSpec {
+/// The band-limit corners. Off by default: the energy detector's point is all
+/// the power (the reference pipeline's energy has no band limit); set the
+/// corners as speeds to band-limit it.
+pub const BAND: BandParams = BandParams {
+    low_mps: RealParam {
         name: "low_mps",
         unit: "m/s",
         about: "high-pass corner as a radial speed (0 = off)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(0.0),
+        min: 0.0,
+        max: 100.0,
+        default: 0.0,
     },
-    ParamSpec {
+    high_mps: RealParam {
         name: "high_mps",
         unit: "m/s",
         about: "low-pass corner as a radial speed (0 = off)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(0.0),
+        min: 0.0,
+        max: 100.0,
+        default: 0.0,
     },
-    ParamSpec {
+    low_hz: RealParam {
         name: "low_hz",
         unit: "Hz",
         about: "corner of the 2nd-order Butterworth high-pass (0 = off; Hz units)",
-        kind: ParamKind::Real { min: 0.0, max: 1e9 },
-        default: DefaultValue::Real(0.0),
+        min: 0.0,
+        max: 1e9,
+        default: 0.0,
     },
-    ParamSpec {
+    high_hz: RealParam {
         name: "high_hz",
         unit: "Hz",
         about: "corner of the 2nd-order Butterworth low-pass (0 = off; Hz units)",
-        kind: ParamKind::Real { min: 0.0, max: 1e9 },
-        default: DefaultValue::Real(0.0),
+        min: 0.0,
+        max: 1e9,
+        default: 0.0,
     },
-    ParamSpec {
-        name: "normalise",
-        unit: "",
-        about: "floor: energy / tracked noise floor; none: raw mean of x^2 (V^2)",
-        kind: ParamKind::Choice(&["floor", "none"]),
-        default: DefaultValue::Text("floor"),
-    },
-    ParamSpec {
-        name: "floor_s",
-        unit: "s",
-        about: "time constant of the noise-floor average",
-        kind: ParamKind::Real {
-            min: 1e-3,
-            max: 1e7,
-        },
-        default: DefaultValue::Real(10.0),
-    },
-    ParamSpec {
-        name: "floor_gate",
-        unit: "",
-        about: "frames above gate x floor do not update the floor",
-        kind: ParamKind::Real {
-            min: 1.0,
-            max: 1e12,
-        },
-        default: DefaultValue::Real(4.0),
-    },
-];
+};
+
+/// `normalise`: how frame energy becomes a score.
+const NORMALISE: ChoiceParam<Normalise> = ChoiceParam {
+    name: "normalise",
+    about: "floor: energy / tracked noise floor; none: raw mean of x^2 (V^2)",
+    options: &["floor", "none"],
+    values: &[Normalise::Floor, Normalise::None],
+    default: "floor",
+};
+
+/// `floor_s`: the floor's time constant.
+const FLOOR_S: RealParam = RealParam {
+    name: "floor_s",
+    unit: "s",
+    about: "time constant of the noise-floor average",
+    min: 1e-3,
+    max: 1e7,
+    default: 10.0,
+};
+
+/// `floor_gate`: frames above it times the floor leave the floor alone.
+const FLOOR_GATE: RealParam = RealParam {
+    name: "floor_gate",
+    unit: "",
+    about: "frames above gate x floor do not update the floor",
+    min: 1.0,
+    max: 1e12,
+    default: 4.0,
+};
+
+static PARAMS: [ParamSpec; 15] = {
+    let [f0, f1, f2, f3, f4, f5, f6] = FRAME.specs();
+    [
+        f0,
+        f1,
+        f2,
+        f3,
+        f4,
+        f5,
+        f6,
+        doppler::BAND_UNITS.spec(),
+        BAND.low_mps.spec(),
+        BAND.high_mps.spec(),
+        BAND.low_hz.spec(),
+        BAND.high_hz.spec(),
+        NORMALISE.spec(),
+        FLOOR_S.spec(),
+        FLOOR_GATE.spec(),
+    ]
+};
 
 /// The energy detector plugin (id `energy`).
 pub struct EnergyPlugin;
@@ -290,9 +299,9 @@ struct Config {
 impl Config {
     fn from_params(params: &Params, info: &StreamInfo) -> Result<Config, ParamError> {
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
-        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
-        let units = doppler::band_units(ID, params, "band_units", &[BAND_NAMES])?;
-        let band = doppler::resolve_band(ID, params, info, units, BAND_NAMES)?;
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, &FRAME)?;
+        let units = doppler::band_units(ID, params, &doppler::BAND_UNITS, &[&BAND])?;
+        let band = doppler::resolve_band(ID, params, info, units, &BAND)?;
         let nyquist_hz = fs / 2.0;
         let corner = |name: &str, hz: f64| -> Result<f64, ParamError> {
             if !(hz.is_finite() && hz >= 0.0) {
@@ -325,36 +334,10 @@ impl Config {
                 "the band's low edge must be below its high edge",
             ));
         }
-        let normalise = match params.text("normalise") {
-            "floor" => Normalise::Floor,
-            "none" => Normalise::None,
-            other => {
-                return Err(ParamError::new(
-                    ID,
-                    "normalise",
-                    other,
-                    "expected one of floor, none",
-                ))
-            }
-        };
-        let floor_s = params.real("floor_s");
-        if !(floor_s.is_finite() && floor_s > 0.0) {
-            return Err(ParamError::new(
-                ID,
-                "floor_s",
-                floor_s,
-                "expected a positive time",
-            ));
-        }
-        let floor_gate = params.real("floor_gate");
-        if !(floor_gate.is_finite() && floor_gate >= 1.0) {
-            return Err(ParamError::new(
-                ID,
-                "floor_gate",
-                floor_gate,
-                "expected a ratio of at least 1",
-            ));
-        }
+        // Ranges were checked by `Params::resolve` against the declarations.
+        let normalise = NORMALISE.get(params)?;
+        let floor_s = FLOOR_S.get(params)?;
+        let floor_gate = FLOOR_GATE.get(params)?;
         Ok(Config {
             frame_len,
             hop,

@@ -212,9 +212,9 @@ pub mod protocol;
 mod session;
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
-    ParamSpec, Params, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
 };
+use echobench_core::param_decl::{IntegerParam, RealParam, TextParam};
 use echobench_core::{FrameScore, Score, StreamInfo};
 use protocol::{encode_hello, MAX_BLOCK_VALUES, TAG_BLOCK, VERSION};
 use session::{FromProgram, Session, Wait};
@@ -237,55 +237,56 @@ const EXIT_REPORT_WAIT: Duration = Duration::from_secs(1);
 /// host maps each t_s to that instant, the frame end the harness works with.
 const INSTANT_TOLERANCE: f64 = 1e-6;
 
-/// The kind given to `command` and `args`: free text.
-pub const TEXT_KIND: ParamKind = ParamKind::Text;
+/// `command`: the program to run.
+const COMMAND: TextParam = TextParam {
+    name: "command",
+    about: "program to run: a path, or a name on PATH (needs --allow-exec)",
+    default: "",
+};
+
+/// `args`: its arguments.
+const ARGS: TextParam = TextParam {
+    name: "args",
+    about: "the program's arguments, split on whitespace (no quoting)",
+    default: "",
+};
+
+/// `timeout_s`: the trial's time budget.
+const TIMEOUT_S: RealParam = RealParam {
+    name: "timeout_s",
+    unit: "s",
+    about: "time the program may make echobench wait per trial, start-up included",
+    min: 0.01,
+    max: MAX_TIMEOUT_S,
+    default: 60.0,
+};
+
+/// `state_bytes`: declared state memory.
+const STATE_BYTES: IntegerParam = IntegerParam {
+    name: "state_bytes",
+    unit: "bytes",
+    about: "the program's state memory as declared by the user (0 = not declared)",
+    min: 0,
+    max: 1 << 40,
+    default: 0,
+};
+
+/// `ops_per_sample`: declared arithmetic.
+const OPS_PER_SAMPLE: RealParam = RealParam {
+    name: "ops_per_sample",
+    unit: "",
+    about: "the program's operations per input sample as declared by the user (0 = not declared)",
+    min: 0.0,
+    max: 1e12,
+    default: 0.0,
+};
 
 static PARAMS: [ParamSpec; 5] = [
-    ParamSpec {
-        name: "command",
-        unit: "",
-        about: "program to run: a path, or a name on PATH (needs --allow-exec)",
-        kind: TEXT_KIND,
-        default: DefaultValue::Text(""),
-    },
-    ParamSpec {
-        name: "args",
-        unit: "",
-        about: "the program's arguments, split on whitespace (no quoting)",
-        kind: TEXT_KIND,
-        default: DefaultValue::Text(""),
-    },
-    ParamSpec {
-        name: "timeout_s",
-        unit: "s",
-        about: "time the program may make echobench wait per trial, start-up included",
-        kind: ParamKind::Real {
-            min: 0.01,
-            max: MAX_TIMEOUT_S,
-        },
-        default: DefaultValue::Real(60.0),
-    },
-    ParamSpec {
-        name: "state_bytes",
-        unit: "bytes",
-        about: "the program's state memory as declared by the user (0 = not declared)",
-        kind: ParamKind::Integer {
-            min: 0,
-            max: 1 << 40,
-        },
-        default: DefaultValue::Integer(0),
-    },
-    ParamSpec {
-        name: "ops_per_sample",
-        unit: "",
-        about:
-            "the program's operations per input sample as declared by the user (0 = not declared)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 1e12,
-        },
-        default: DefaultValue::Real(0.0),
-    },
+    COMMAND.spec(),
+    ARGS.spec(),
+    TIMEOUT_S.spec(),
+    STATE_BYTES.spec(),
+    OPS_PER_SAMPLE.spec(),
 ];
 
 /// The external-program plugin (id `external`).
@@ -322,24 +323,17 @@ impl ExternalPlugin {
         }
         find_program(&program.command)
             .map_err(|message| ParamError::new(ID, "command", &program.command, message))?;
-        let declared_bytes = params.integer("state_bytes");
+        // Ranges (0 or more, finite) were checked by `Params::resolve` against the declarations.
+        let declared_bytes = STATE_BYTES.get(params)?;
         let state_bytes = usize::try_from(declared_bytes).map_err(|_| {
             ParamError::new(
                 ID,
-                "state_bytes",
+                STATE_BYTES.name,
                 declared_bytes,
-                "expected a byte count of 0 or more",
+                "does not fit this machine's memory size",
             )
         })?;
-        let ops_per_sample = params.real("ops_per_sample");
-        if !(ops_per_sample.is_finite() && ops_per_sample >= 0.0) {
-            return Err(ParamError::new(
-                ID,
-                "ops_per_sample",
-                ops_per_sample,
-                "expected 0 or more operations",
-            ));
-        }
+        let ops_per_sample = OPS_PER_SAMPLE.get(params)?;
         Ok((
             program,
             Cost {
@@ -399,16 +393,16 @@ impl ExternalProgram {
     /// # Errors
     /// An empty `command`, or a time limit outside (0, 86 400] s.
     pub fn from_params(params: &Params) -> Result<ExternalProgram, ParamError> {
-        let command = params.text("command").trim().to_string();
-        let args = params
-            .text("args")
+        let command = COMMAND.get(params)?.trim().to_string();
+        let args = ARGS
+            .get(params)?
             .split_whitespace()
             .map(str::to_string)
             .collect();
         let program = ExternalProgram {
             command,
             args,
-            timeout_s: params.real("timeout_s"),
+            timeout_s: TIMEOUT_S.get(params)?,
         };
         program.check()?;
         Ok(program)

@@ -72,13 +72,14 @@ mod closed_form;
 pub use closed_form::{os_multiplier, os_pfa, os_ratio, NOISE_FLOOR};
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
+    Params, Samples,
 };
 use echobench_core::doppler::{
-    self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
-    MOTION_MIN_MPS,
+    self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
+    DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS, MOTION_MIN_MPS,
 };
+use echobench_core::param_decl::{ChoiceParam, IntegerParam, RealParam};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::cfar_cells::{CellPlan, DopplerAxis};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
@@ -93,117 +94,121 @@ const MAX_CELLS: usize = 4_096;
 /// The frame family: a velocity resolution of [`DEFAULT_RESOLUTION_MPS`] by
 /// default (0.245 s at 2.45 GHz, 0.0249 s at 24.125 GHz), hop half a frame;
 /// 256/128 samples when the frame is given in samples.
-const FRAME: [ParamSpec; 7] =
-    doppler::frame_param_specs(256, 128, 65_536, 0.128, DEFAULT_RESOLUTION_MPS, 0.5);
+pub const FRAME: FrameParams = FrameParams::new(
+    FrameDefaults {
+        frame_len: 256,
+        hop: 128,
+        frame_s: 0.128,
+        resolution_mps: DEFAULT_RESOLUTION_MPS,
+        hop_fraction: 0.5,
+    },
+    FrameRules {
+        default_units: FrameUnits::Mps,
+        min_len: 8,
+        max_len: 65_536,
+    },
+);
 
 /// The cells-under-test band's edge parameters.
-pub const BAND_NAMES: BandNames = BandNames {
-    low_hz: "low_hz",
-    high_hz: "high_hz",
-    low_mps: "low_mps",
-    high_mps: "high_mps",
-};
-
-const FRAME_RULES: FrameRules = FrameRules {
-    default_units: FrameUnits::Mps,
-    min_len: 8,
-    max_len: 65_536,
-};
-
-static PARAMS: [ParamSpec; 17] = [
-    ParamSpec {
-        name: "window",
-        unit: "",
-        about:
-            "taper applied to each frame before the FFT (rect keeps white-noise bins independent)",
-        kind: ParamKind::Choice(&["hann", "rect"]),
-        default: DefaultValue::Text("hann"),
-    },
-    FRAME[0],
-    FRAME[1],
-    FRAME[2],
-    FRAME[3],
-    FRAME[4],
-    FRAME[5],
-    FRAME[6],
-    ParamSpec {
-        name: "guard",
-        unit: "bins",
-        about: "cells left out on each side of the cell under test",
-        kind: ParamKind::Integer {
-            min: 0,
-            max: MAX_CELLS as i64,
-        },
-        default: DefaultValue::Integer(2),
-    },
-    ParamSpec {
-        name: "train",
-        unit: "bins",
-        about: "training cells on each side (N = 2·train)",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: MAX_CELLS as i64,
-        },
-        default: DefaultValue::Integer(8),
-    },
-    ParamSpec {
-        name: "rank",
-        unit: "",
-        about: "which smallest training cell is the noise estimate (1..=2·train, ≈ 0.75·N)",
-        kind: ParamKind::Integer {
-            min: 1,
-            max: 2 * MAX_CELLS as i64,
-        },
-        default: DefaultValue::Integer(12),
-    },
-    doppler::BAND_UNITS_SPEC,
-    // Cells under test over a walker's torso to limbs, 0.3–4 m/s (echobench_core::doppler).
-    ParamSpec {
-        name: "low_mps",
-        unit: "m/s",
-        about: "lowest radial speed of the cells under test",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(MOTION_MIN_MPS),
-    },
-    ParamSpec {
-        name: "high_mps",
-        unit: "m/s",
-        about: "highest radial speed of the cells under test (default: clipped to Nyquist)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(MOTION_MAX_MPS),
-    },
+pub const BAND: BandParams = BandParams {
     // The historic Hz band (right at 2.45 GHz only): band_units = hz, or set in the suite.
-    ParamSpec {
+    low_hz: RealParam {
         name: "low_hz",
         unit: "Hz",
         about: "lowest |Doppler| of the cells under test (Hz units)",
-        kind: ParamKind::Real { min: 0.0, max: 1e7 },
-        default: DefaultValue::Real(1.0),
+        min: 0.0,
+        max: 1e7,
+        default: 1.0,
     },
-    ParamSpec {
+    high_hz: RealParam {
         name: "high_hz",
         unit: "Hz",
         about: "highest |Doppler| of the cells under test (Hz units, at most fs/2)",
-        kind: ParamKind::Real { min: 0.0, max: 1e7 },
-        default: DefaultValue::Real(100.0),
+        min: 0.0,
+        max: 1e7,
+        default: 100.0,
     },
-    ParamSpec {
-        name: "pfa",
-        unit: "",
-        about: "design false-alarm probability, only to report the nominal multiplier",
-        kind: ParamKind::Real {
-            min: 1e-15,
-            max: 1.0,
-        },
-        default: DefaultValue::Real(1e-3),
+    // Cells under test over a walker's torso to limbs, 0.3–4 m/s (echobench_core::doppler).
+    low_mps: RealParam {
+        name: "low_mps",
+        unit: "m/s",
+        about: "lowest radial speed of the cells under test",
+        min: 0.0,
+        max: 100.0,
+        default: MOTION_MIN_MPS,
     },
-];
+    high_mps: RealParam {
+        name: "high_mps",
+        unit: "m/s",
+        about: "highest radial speed of the cells under test (default: clipped to Nyquist)",
+        min: 0.0,
+        max: 100.0,
+        default: MOTION_MAX_MPS,
+    },
+};
+
+const WINDOW: ChoiceParam<Window> = Window::param(
+    "taper applied to each frame before the FFT (rect keeps white-noise bins independent)",
+);
+
+const GUARD: IntegerParam = IntegerParam {
+    name: "guard",
+    unit: "bins",
+    about: "cells left out on each side of the cell under test",
+    min: 0,
+    max: MAX_CELLS as i64,
+    default: 2,
+};
+
+const TRAIN: IntegerParam = IntegerParam {
+    name: "train",
+    unit: "bins",
+    about: "training cells on each side (N = 2·train)",
+    min: 1,
+    max: MAX_CELLS as i64,
+    default: 8,
+};
+
+const RANK: IntegerParam = IntegerParam {
+    name: "rank",
+    unit: "",
+    about: "which smallest training cell is the noise estimate (1..=2·train, ≈ 0.75·N)",
+    min: 1,
+    max: 2 * MAX_CELLS as i64,
+    default: 12,
+};
+
+const PFA: RealParam = RealParam {
+    name: "pfa",
+    unit: "",
+    about: "design false-alarm probability, only to report the nominal multiplier",
+    min: 1e-15,
+    max: 1.0,
+    default: 1e-3,
+};
+
+static PARAMS: [ParamSpec; 17] = {
+    let [f0, f1, f2, f3, f4, f5, f6] = FRAME.specs();
+    [
+        WINDOW.spec(),
+        f0,
+        f1,
+        f2,
+        f3,
+        f4,
+        f5,
+        f6,
+        GUARD.spec(),
+        TRAIN.spec(),
+        RANK.spec(),
+        doppler::BAND_UNITS.spec(),
+        BAND.low_mps.spec(),
+        BAND.high_mps.spec(),
+        BAND.low_hz.spec(),
+        BAND.high_hz.spec(),
+        PFA.spec(),
+    ]
+};
 
 /// Typed settings of an OS-CFAR detector.
 ///
@@ -258,28 +263,27 @@ impl OsCfarConfig {
     /// # Errors
     /// A window name or whole number that does not fit.
     pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
-        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
-        let units = doppler::band_units(ID, params, "band_units", &[BAND_NAMES])?;
-        let band = doppler::resolve_band(ID, params, info, units, BAND_NAMES)?;
-        let window_name = params.text("window");
-        let window = Window::from_name(window_name)
-            .ok_or_else(|| ParamError::new(ID, "window", window_name, "expected hann or rect"))?;
-        let count = |name: &str| {
-            let value = params.integer(name);
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, &FRAME)?;
+        let units = doppler::band_units(ID, params, &doppler::BAND_UNITS, &[&BAND])?;
+        let band = doppler::resolve_band(ID, params, info, units, &BAND)?;
+        let window = WINDOW.get(params)?;
+        // Ranges (none negative) were checked by `Params::resolve` against the declarations.
+        let count = |p: IntegerParam| -> Result<usize, ParamError> {
+            let value = p.get(params)?;
             usize::try_from(value)
-                .map_err(|_| ParamError::new(ID, name, value, "must not be negative"))
+                .map_err(|_| ParamError::new(ID, p.name, value, "must not be negative"))
         };
         Ok(OsCfarConfig {
             window,
             frame_len,
             hop,
-            guard: count("guard")?,
-            train: count("train")?,
-            rank: count("rank")?,
+            guard: count(GUARD)?,
+            train: count(TRAIN)?,
+            rank: count(RANK)?,
             low_hz: band.low_hz,
             high_hz: band.high_hz,
             band_params: (band.low_name, band.high_name),
-            pfa: params.real("pfa"),
+            pfa: PFA.get(params)?,
         })
     }
 

@@ -134,13 +134,14 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
+    Params, Samples,
 };
 use echobench_core::doppler::{
-    self, BandNames, FrameRules, FrameUnits, Framing, DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS,
-    MOTION_MIN_MPS,
+    self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
+    DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS, MOTION_MIN_MPS,
 };
+use echobench_core::param_decl::{ChoiceParam, RealParam};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 use realfft::num_complex::Complex;
@@ -228,125 +229,130 @@ pub struct PeriodicityPlugin;
 /// The frame family: a velocity resolution of [`DEFAULT_RESOLUTION_MPS`] by
 /// default, hop a quarter frame (the envelope's anti-alias rule below);
 /// 256/64 samples when the frame is given in samples.
-const FRAME: [ParamSpec; 7] =
-    doppler::frame_param_specs(256, 64, 65_536, 0.128, DEFAULT_RESOLUTION_MPS, 0.25);
+pub const FRAME: FrameParams = FrameParams::new(
+    FrameDefaults {
+        frame_len: 256,
+        hop: 64,
+        frame_s: 0.128,
+        resolution_mps: DEFAULT_RESOLUTION_MPS,
+        hop_fraction: 0.25,
+    },
+    FrameRules {
+        default_units: FrameUnits::Mps,
+        min_len: 8,
+        max_len: 65_536,
+    },
+);
 
 /// The motion band's edge parameters.
-pub const MOTION_NAMES: BandNames = BandNames {
-    low_hz: "motion_low_hz",
-    high_hz: "motion_high_hz",
-    low_mps: "motion_min_mps",
-    high_mps: "motion_max_mps",
-};
-
-const FRAME_RULES: FrameRules = FrameRules {
-    default_units: FrameUnits::Mps,
-    min_len: 8,
-    max_len: 65_536,
-};
-
-static PARAMS: [ParamSpec; 18] = [
-    doppler::BAND_UNITS_SPEC,
-    ParamSpec {
-        name: "motion_min_mps",
-        unit: "m/s",
-        about: "slowest radial speed of the motion band",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        // A walker's torso to its limbs (echobench_core::doppler::MOTION_MIN_MPS).
-        default: DefaultValue::Real(MOTION_MIN_MPS),
-    },
-    ParamSpec {
-        name: "motion_max_mps",
-        unit: "m/s",
-        about: "fastest radial speed of the motion band (default: clipped to Nyquist)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(MOTION_MAX_MPS),
-    },
-    ParamSpec {
+pub const MOTION: BandParams = BandParams {
+    low_hz: RealParam {
         name: "motion_low_hz",
         unit: "Hz",
         about: "lower edge of the motion band (Hz units)",
-        kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(10.0),
+        min: 0.0,
+        max: 1e6,
+        default: 10.0,
     },
-    ParamSpec {
+    high_hz: RealParam {
         name: "motion_high_hz",
         unit: "Hz",
         about: "upper edge of the motion band (Hz units)",
-        kind: ParamKind::Real { min: 0.0, max: 1e6 },
-        default: DefaultValue::Real(80.0),
+        min: 0.0,
+        max: 1e6,
+        default: 80.0,
     },
-    FRAME[0],
-    FRAME[1],
-    FRAME[2],
-    FRAME[3],
-    FRAME[4],
-    FRAME[5],
-    FRAME[6],
-    ParamSpec {
-        name: "window",
-        unit: "",
-        about: "frame window",
-        kind: ParamKind::Choice(&["hann", "rect"]),
-        default: DefaultValue::Text("hann"),
+    low_mps: RealParam {
+        name: "motion_min_mps",
+        unit: "m/s",
+        about: "slowest radial speed of the motion band",
+        min: 0.0,
+        max: 100.0,
+        // A walker's torso to its limbs (echobench_core::doppler::MOTION_MIN_MPS).
+        default: MOTION_MIN_MPS,
     },
-    ParamSpec {
-        name: "analysis_s",
-        unit: "s",
-        about: "length of envelope analysed for cadence",
-        kind: ParamKind::Real {
-            min: 0.5,
-            max: 60.0,
-        },
-        default: DefaultValue::Real(4.0),
+    high_mps: RealParam {
+        name: "motion_max_mps",
+        unit: "m/s",
+        about: "fastest radial speed of the motion band (default: clipped to Nyquist)",
+        min: 0.0,
+        max: 100.0,
+        default: MOTION_MAX_MPS,
     },
-    ParamSpec {
-        name: "decision_hop_s",
-        unit: "s",
-        about: "time between scores",
-        kind: ParamKind::Real {
-            min: 1e-3,
-            max: 60.0,
-        },
-        default: DefaultValue::Real(0.5),
-    },
-    ParamSpec {
-        name: "step_low_hz",
-        unit: "Hz",
-        about: "lowest step rate (cadence/60) searched",
-        kind: ParamKind::Real {
-            min: 0.1,
-            max: 50.0,
-        },
-        // 81 steps/min = 1.35 Hz (Tudor-Locke & Rowe 2012), with a small margin.
-        default: DefaultValue::Real(1.3),
-    },
-    ParamSpec {
-        name: "step_high_hz",
-        unit: "Hz",
-        about: "highest step rate (cadence/60) searched",
-        kind: ParamKind::Real {
-            min: 0.1,
-            max: 50.0,
-        },
-        // 138 steps/min = 2.3 Hz (Tudor-Locke & Rowe 2012), with a small margin.
-        default: DefaultValue::Real(2.4),
-    },
-    ParamSpec {
-        name: "flash_min_hz",
-        unit: "Hz",
-        about:
-            "modulation frequency above which the strongest line counts against the score (rotors)",
-        kind: ParamKind::Real { min: 0.2, max: 1e5 },
-        default: DefaultValue::Real(5.0),
-    },
-];
+};
+
+const WINDOW: ChoiceParam<Window> = Window::param("frame window");
+
+const ANALYSIS_S: RealParam = RealParam {
+    name: "analysis_s",
+    unit: "s",
+    about: "length of envelope analysed for cadence",
+    min: 0.5,
+    max: 60.0,
+    default: 4.0,
+};
+
+const DECISION_HOP_S: RealParam = RealParam {
+    name: "decision_hop_s",
+    unit: "s",
+    about: "time between scores",
+    min: 1e-3,
+    max: 60.0,
+    default: 0.5,
+};
+
+const STEP_LOW_HZ: RealParam = RealParam {
+    name: "step_low_hz",
+    unit: "Hz",
+    about: "lowest step rate (cadence/60) searched",
+    min: 0.1,
+    max: 50.0,
+    // 81 steps/min = 1.35 Hz (Tudor-Locke & Rowe 2012), with a small margin.
+    default: 1.3,
+};
+
+const STEP_HIGH_HZ: RealParam = RealParam {
+    name: "step_high_hz",
+    unit: "Hz",
+    about: "highest step rate (cadence/60) searched",
+    min: 0.1,
+    max: 50.0,
+    // 138 steps/min = 2.3 Hz (Tudor-Locke & Rowe 2012), with a small margin.
+    default: 2.4,
+};
+
+const FLASH_MIN_HZ: RealParam = RealParam {
+    name: "flash_min_hz",
+    unit: "Hz",
+    about: "modulation frequency above which the strongest line counts against the score (rotors)",
+    min: 0.2,
+    max: 1e5,
+    default: 5.0,
+};
+
+static PARAMS: [ParamSpec; 18] = {
+    let [f0, f1, f2, f3, f4, f5, f6] = FRAME.specs();
+    [
+        doppler::BAND_UNITS.spec(),
+        MOTION.low_mps.spec(),
+        MOTION.high_mps.spec(),
+        MOTION.low_hz.spec(),
+        MOTION.high_hz.spec(),
+        f0,
+        f1,
+        f2,
+        f3,
+        f4,
+        f5,
+        f6,
+        WINDOW.spec(),
+        ANALYSIS_S.spec(),
+        DECISION_HOP_S.spec(),
+        STEP_LOW_HZ.spec(),
+        STEP_HIGH_HZ.spec(),
+        FLASH_MIN_HZ.spec(),
+    ]
+};
 
 /// A validated configuration: the bins, the envelope sampling and the analysis layout.
 ///
@@ -394,10 +400,8 @@ impl PeriodicityConfig {
     /// `step_low_hz` or too large to store; a bad stream sample rate.
     pub fn from_params(params: &Params, info: &StreamInfo) -> Result<Self, ParamError> {
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
-        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, FRAME_RULES)?;
-        let window = Window::from_name(params.text("window")).ok_or_else(|| {
-            ParamError::new(ID, "window", params.text("window"), "expected hann or rect")
-        })?;
+        let Framing { frame_len, hop } = doppler::resolve_frame(ID, params, info, &FRAME)?;
+        let window = WINDOW.get(params)?;
         let layout = BinLayout {
             channels: info.channels,
             frame_len,
@@ -405,8 +409,8 @@ impl PeriodicityConfig {
         };
         let nyquist_hz = fs / 2.0;
 
-        let units = doppler::band_units(ID, params, "band_units", &[MOTION_NAMES])?;
-        let band = doppler::resolve_band(ID, params, info, units, MOTION_NAMES)?;
+        let units = doppler::band_units(ID, params, &doppler::BAND_UNITS, &[&MOTION])?;
+        let band = doppler::resolve_band(ID, params, info, units, &MOTION)?;
         let (motion_band_hz, low_name, high_name) =
             ((band.low_hz, band.high_hz), band.low_name, band.high_name);
         if motion_band_hz.0 >= motion_band_hz.1 {
@@ -440,8 +444,8 @@ impl PeriodicityConfig {
 
         let envelope_rate_hz = fs / hop as f64;
         let envelope_nyquist_hz = envelope_rate_hz / 2.0;
-        let (step_low_hz, step_high_hz) = (params.real("step_low_hz"), params.real("step_high_hz"));
-        let flash_min_hz = params.real("flash_min_hz");
+        let (step_low_hz, step_high_hz) = (STEP_LOW_HZ.get(params)?, STEP_HIGH_HZ.get(params)?);
+        let flash_min_hz = FLASH_MIN_HZ.get(params)?;
         if step_low_hz >= step_high_hz {
             return Err(ParamError::new(
                 ID,
@@ -469,7 +473,7 @@ impl PeriodicityConfig {
                 ),
             ));
         }
-        let analysis_s = params.real("analysis_s");
+        let analysis_s = ANALYSIS_S.get(params)?;
         if analysis_s * step_low_hz < 2.0 {
             return Err(ParamError::new(
                 ID,
@@ -494,7 +498,7 @@ impl PeriodicityConfig {
                 ),
             ));
         }
-        let decision_hop_s = params.real("decision_hop_s");
+        let decision_hop_s = DECISION_HOP_S.get(params)?;
         let decision_frames = (decision_hop_s * envelope_rate_hz).round() as usize;
         if decision_frames == 0 {
             return Err(ParamError::new(

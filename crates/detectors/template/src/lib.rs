@@ -28,37 +28,39 @@
 
 // The plugin interface and the parameter machinery, from the core crate.
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
-    ParamSpec, Params, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
 };
+// The typed parameter declarations: one `const` per parameter.
+use echobench_core::param_decl::RealParam;
 // The stream description, the score type and the channel kinds.
 use echobench_core::{Channels, FrameScore, StreamInfo};
 
 /// The id that suite files use to pick this detector (kebab-case).
 const ID: &str = "template";
 
+// Each parameter is declared once, as a `const`: its name, unit, range and
+// default live here and nowhere else. `FRAME_S.spec()` is its entry in the
+// table below, and `FRAME_S.get(params)` reads the checked value back as an f64.
+/// `frame_s`: how long a frame is.
+const FRAME_S: RealParam = RealParam {
+    // The name carries its unit as a suffix (`_s` = seconds).
+    name: "frame_s",
+    // The unit again, for listings.
+    unit: "s",
+    // One line saying what it does.
+    about: "length of a frame (one score per frame)",
+    // 0.1 ms: shorter frames make no sense at any IF sample rate.
+    // `Params::resolve` refuses values outside [min, max].
+    min: 1e-4,
+    // One minute: longer would be a trial, not a frame.
+    max: 60.0,
+    // 0.1 s: ten decisions a second, the pace of a motion sensor.
+    default: 0.1,
+};
+
 // The parameter table: `static` so that `echobench detectors` can list it
-// without building anything. One entry per parameter.
-static PARAMS: [ParamSpec; 1] = [
-    // The only parameter: how long a frame is.
-    ParamSpec {
-        // The name carries its unit as a suffix (`_s` = seconds).
-        name: "frame_s",
-        // The unit again, for listings.
-        unit: "s",
-        // One line saying what it does.
-        about: "length of a frame (one score per frame)",
-        // A real number; `Params::resolve` refuses values outside [min, max].
-        kind: ParamKind::Real {
-            // 0.1 ms: shorter frames make no sense at any IF sample rate.
-            min: 1e-4,
-            // One minute: longer would be a trial, not a frame.
-            max: 60.0,
-        },
-        // 0.1 s: ten decisions a second, the pace of a motion sensor.
-        default: DefaultValue::Real(0.1),
-    },
-];
+// without building anything. One `spec()` per declared parameter.
+static PARAMS: [ParamSpec; 1] = [FRAME_S.spec()];
 
 /// The template detector's plugin (id `template`): what the registry lists.
 pub struct TemplatePlugin;
@@ -151,8 +153,9 @@ impl Config {
                 "the stream's sample rate must be a positive number",
             ));
         }
-        // The range check was done by `Params::resolve`; read the value.
-        let frame_s = params.real("frame_s");
+        // The range check was done by `Params::resolve`; read the value through
+        // its declaration (an error, never a panic, if it were missing from the table).
+        let frame_s = FRAME_S.get(params)?;
         // Seconds to whole samples, rounded to the nearest.
         let frame_samples = (frame_s * sample_rate_hz).round();
         // A relation between a parameter and the stream: at least one sample.
@@ -160,7 +163,7 @@ impl Config {
             // Tell the user the shortest frame that would work.
             return Err(ParamError::new(
                 ID,
-                "frame_s",
+                FRAME_S.name,
                 frame_s,
                 format!(
                     "a frame must hold at least one sample: 1/fs = {} s",

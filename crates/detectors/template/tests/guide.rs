@@ -142,6 +142,8 @@ fn guide_names_files_names_and_commands_that_exist() {
     // The items the guide tells you to edit exist in the template and in core.
     for item in [
         "static PARAMS",
+        "const FRAME_S: RealParam",
+        "FRAME_S.get(params)?",
         "fn from_params",
         "fn process",
         "fn reset",
@@ -149,14 +151,17 @@ fn guide_names_files_names_and_commands_that_exist() {
     ] {
         assert!(lib.contains(item), "the template has no `{item}`");
     }
-    let core = read(&root.join("crates/core/src/detector.rs"));
-    for item in [
-        "pub fn resolve",
-        "pub struct ParamError",
-        "pub struct ParamSpec",
-        "pub enum ParamKind",
+    for (file, item) in [
+        ("detector.rs", "pub fn resolve"),
+        ("param_error.rs", "pub struct ParamError"),
+        ("detector.rs", "pub struct ParamSpec"),
+        ("param_decl.rs", "pub struct RealParam"),
+        ("param_decl.rs", "pub struct IntegerParam"),
+        ("param_decl.rs", "pub struct ChoiceParam"),
+        ("param_decl.rs", "pub struct FlagParam"),
     ] {
-        assert!(core.contains(item), "core has no `{item}`");
+        let core = read(&root.join("crates/core/src").join(file));
+        assert!(core.contains(item), "core's {file} has no `{item}`");
     }
     assert!(read(&root.join("crates/detectors/dsp/src/lib.rs")).contains("pub struct Framer"));
 

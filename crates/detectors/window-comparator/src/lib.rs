@@ -63,10 +63,11 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, DopplerBand,
-    ParamError, ParamKind, ParamSpec, Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
+    Params, Samples,
 };
-use echobench_core::doppler::{self, BandNames};
+use echobench_core::doppler::{self, BandParams};
+use echobench_core::param_decl::RealParam;
 use echobench_core::{Channels, FrameScore, StreamInfo};
 
 /// The plugin's id in suite files.
@@ -77,73 +78,71 @@ const ID: &str = "window-comparator";
 const MAX_WINDOW_SAMPLES: usize = 1 << 24;
 
 /// The filter corners' parameters (the chain's pass band).
-pub const BAND_NAMES: BandNames = BandNames {
-    low_hz: "dc_block_hz",
-    high_hz: "low_pass_hz",
-    low_mps: "dc_block_mps",
-    high_mps: "low_pass_mps",
-};
-
-static PARAMS: [ParamSpec; 7] = [
-    doppler::BAND_UNITS_SPEC,
+pub const BAND: BandParams = BandParams {
+    low_hz: RealParam {
+        name: "dc_block_hz",
+        unit: "Hz",
+        about: "corner of the first-order DC-blocking high-pass (0 = off; Hz units)",
+        min: 0.0,
+        max: 1e9,
+        default: 1.0,
+    },
+    high_hz: RealParam {
+        name: "low_pass_hz",
+        unit: "Hz",
+        about: "corner of the optional first-order low-pass (0 = off; Hz units)",
+        min: 0.0,
+        max: 1e9,
+        default: 0.0,
+    },
     // 0.06 m/s = a fifth of the slowest walker torso (0.3 m/s), so a first-order
     // high-pass passes a walker with ≤ 2 % loss (1/√(1 + (1/5)²) = 0.981) while blocking
     // DC; it is 0.98 Hz at 2.45 GHz (the 1 Hz coupling corner this chain had before)
     // and 9.7 Hz at 24.125 GHz.
-    ParamSpec {
+    low_mps: RealParam {
         name: "dc_block_mps",
         unit: "m/s",
         about: "corner of the first-order DC-blocking high-pass as a radial speed (0 = off)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(0.06),
+        min: 0.0,
+        max: 100.0,
+        default: 0.06,
     },
-    ParamSpec {
+    high_mps: RealParam {
         name: "low_pass_mps",
         unit: "m/s",
         about: "corner of the optional first-order low-pass as a radial speed (0 = off)",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 100.0,
-        },
-        default: DefaultValue::Real(0.0),
+        min: 0.0,
+        max: 100.0,
+        default: 0.0,
     },
-    ParamSpec {
-        name: "dc_block_hz",
-        unit: "Hz",
-        about: "corner of the first-order DC-blocking high-pass (0 = off; Hz units)",
-        kind: ParamKind::Real { min: 0.0, max: 1e9 },
-        default: DefaultValue::Real(1.0),
-    },
-    ParamSpec {
-        name: "low_pass_hz",
-        unit: "Hz",
-        about: "corner of the optional first-order low-pass (0 = off; Hz units)",
-        kind: ParamKind::Real { min: 0.0, max: 1e9 },
-        default: DefaultValue::Real(0.0),
-    },
-    ParamSpec {
-        name: "decision_s",
-        unit: "s",
-        about: "length of a decision frame (one score per frame)",
-        kind: ParamKind::Real {
-            min: 1e-6,
-            max: 3600.0,
-        },
-        default: DefaultValue::Real(0.05),
-    },
-    ParamSpec {
-        name: "retrigger_s",
-        unit: "s",
-        about: "hold of the retriggerable one-shot after the last trip",
-        kind: ParamKind::Real {
-            min: 0.0,
-            max: 3600.0,
-        },
-        default: DefaultValue::Real(1.0),
-    },
+};
+
+const DECISION_S: RealParam = RealParam {
+    name: "decision_s",
+    unit: "s",
+    about: "length of a decision frame (one score per frame)",
+    min: 1e-6,
+    max: 3600.0,
+    default: 0.05,
+};
+
+const RETRIGGER_S: RealParam = RealParam {
+    name: "retrigger_s",
+    unit: "s",
+    about: "hold of the retriggerable one-shot after the last trip",
+    min: 0.0,
+    max: 3600.0,
+    default: 1.0,
+};
+
+static PARAMS: [ParamSpec; 7] = [
+    doppler::BAND_UNITS.spec(),
+    BAND.low_mps.spec(),
+    BAND.high_mps.spec(),
+    BAND.low_hz.spec(),
+    BAND.high_hz.spec(),
+    DECISION_S.spec(),
+    RETRIGGER_S.spec(),
 ];
 
 /// The window-comparator plugin (id `window-comparator`).
@@ -234,8 +233,8 @@ impl Config {
         }
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
         let nyquist_hz = fs / 2.0;
-        let units = doppler::band_units(ID, params, "band_units", &[BAND_NAMES])?;
-        let band = doppler::resolve_band(ID, params, info, units, BAND_NAMES)?;
+        let units = doppler::band_units(ID, params, &doppler::BAND_UNITS, &[&BAND])?;
+        let band = doppler::resolve_band(ID, params, info, units, &BAND)?;
         let corner = |name: &str, hz: f64| -> Result<f64, ParamError> {
             if !(hz.is_finite() && hz >= 0.0) {
                 return Err(ParamError::new(
@@ -265,7 +264,7 @@ impl Config {
                 "the DC block's corner must be below the low-pass corner",
             ));
         }
-        let decision_s = params.real("decision_s");
+        let decision_s = DECISION_S.get(params)?;
         let frame = (decision_s * fs).round();
         if !(frame.is_finite() && frame >= 1.0) {
             return Err(ParamError::new(
@@ -278,7 +277,7 @@ impl Config {
                 ),
             ));
         }
-        let retrigger_s = params.real("retrigger_s");
+        let retrigger_s = RETRIGGER_S.get(params)?;
         let retrigger = (retrigger_s * fs).round();
         if !(retrigger.is_finite() && retrigger >= 0.0) {
             return Err(ParamError::new(

@@ -16,9 +16,10 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, FrameScore, ParamError,
-    ParamKind, ParamSpec, Params, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlugin, FrameScore, ParamError, ParamSpec, Params,
+    Samples,
 };
+use echobench_core::param_decl::RealParam;
 use echobench_core::{Channels, StreamInfo};
 
 const ID: &str = "gated-energy";
@@ -26,28 +27,25 @@ const ID: &str = "gated-energy";
 /// Speed of light in vacuum, m/s (SI definition).
 const SPEED_OF_LIGHT_MPS: f64 = 299_792_458.0;
 
-static PARAMS: [ParamSpec; 2] = [
-    ParamSpec {
-        name: "min_speed_mps",
-        unit: "m/s",
-        about: "radial speed whose Doppler sets the high-pass corner",
-        kind: ParamKind::Real {
-            min: 0.02,
-            max: 5.0,
-        },
-        default: DefaultValue::Real(0.3),
-    },
-    ParamSpec {
-        name: "frame_s",
-        unit: "s",
-        about: "length of a frame (one score per frame)",
-        kind: ParamKind::Real {
-            min: 0.01,
-            max: 10.0,
-        },
-        default: DefaultValue::Real(0.25),
-    },
-];
+const MIN_SPEED_MPS: RealParam = RealParam {
+    name: "min_speed_mps",
+    unit: "m/s",
+    about: "radial speed whose Doppler sets the high-pass corner",
+    min: 0.02,
+    max: 5.0,
+    default: 0.3,
+};
+
+const FRAME_S: RealParam = RealParam {
+    name: "frame_s",
+    unit: "s",
+    about: "length of a frame (one score per frame)",
+    min: 0.01,
+    max: 10.0,
+    default: 0.25,
+};
+
+static PARAMS: [ParamSpec; 2] = [MIN_SPEED_MPS.spec(), FRAME_S.spec()];
 
 /// The plugin a team adds to echobench's list (id `gated-energy`).
 pub struct GatedEnergyPlugin;
@@ -66,7 +64,9 @@ impl DetectorPlugin for GatedEnergyPlugin {
     }
 
     fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(GatedEnergy::new(Config::from_params(params, info)?)))
+        Ok(Box::new(GatedEnergy::new(Config::from_params(
+            params, info,
+        )?)))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
@@ -105,12 +105,12 @@ impl Config {
             ));
         }
         let fs = echobench_core::detector::check_sample_rate(ID, info)?;
-        let min_speed_mps = params.real("min_speed_mps");
+        let min_speed_mps = MIN_SPEED_MPS.get(params)?;
         let corner_hz = 2.0 * min_speed_mps * info.carrier_hz / SPEED_OF_LIGHT_MPS;
         if !(corner_hz.is_finite() && corner_hz > 0.0 && corner_hz < fs / 2.0) {
             return Err(ParamError::new(
                 ID,
-                "min_speed_mps",
+                MIN_SPEED_MPS.name,
                 min_speed_mps,
                 format!(
                     "its Doppler ({corner_hz:.1} Hz at this carrier) must lie below Nyquist ({} Hz)",
@@ -118,12 +118,12 @@ impl Config {
                 ),
             ));
         }
-        let frame_s = params.real("frame_s");
+        let frame_s = FRAME_S.get(params)?;
         let frame_samples = (frame_s * fs).round();
         if frame_samples < 1.0 {
             return Err(ParamError::new(
                 ID,
-                "frame_s",
+                FRAME_S.name,
                 frame_s,
                 "a frame must hold at least one sample",
             ));
@@ -210,10 +210,14 @@ mod tests {
     fn scores(samples: &[f32], block: usize) -> Vec<FrameScore> {
         let info = test_stream(2000.0);
         let params = Params::defaults(&PARAMS);
-        let mut detector = GatedEnergyPlugin.build(&params, &info).expect("defaults fit");
+        let mut detector = GatedEnergyPlugin
+            .build(&params, &info)
+            .expect("defaults fit");
         let mut out = Vec::new();
         for chunk in samples.chunks(block) {
-            detector.process(Samples::Real(chunk), &mut out).expect("no failure");
+            detector
+                .process(Samples::Real(chunk), &mut out)
+                .expect("no failure");
         }
         out
     }
@@ -231,11 +235,12 @@ mod tests {
         let w = 2.0 * std::f64::consts::PI * 400.0 / fs;
         let gain = a * 2.0 * (w / 2.0).sin() / (1.0 - 2.0 * a * w.cos() + a * a).sqrt();
         let expected_db = 10.0 * (gain * gain / 2.0).log10();
-        let tone: Vec<f32> = (0..4000)
-            .map(|n| (w * n as f64).sin() as f32)
-            .collect();
+        let tone: Vec<f32> = (0..4000).map(|n| (w * n as f64).sin() as f32).collect();
         let last = scores(&tone, 97).last().copied().expect("frames");
-        assert!((last.value - expected_db).abs() < 0.02, "{last:?} vs {expected_db}");
+        assert!(
+            (last.value - expected_db).abs() < 0.02,
+            "{last:?} vs {expected_db}"
+        );
         let offset = scores(&[1.2; 4000], 4000);
         assert!(offset.iter().all(|s| s.value < -250.0), "{offset:?}");
     }
