@@ -220,6 +220,34 @@ impl Walk {
     }
 }
 
+impl Walk {
+    /// The scene of this walk's trial: `template` (room, module and noise of a product) with
+    /// its target actors replaced by `actor` ([`Walk::walker_actor`] or
+    /// [`Walk::reflector_actor`]); its nuisances stay. The trial lasts until `tail_s` after
+    /// the walk ends, and the coverage zone reaches past the walk all around the sensor, so
+    /// the walker is a target wherever it walks.
+    pub fn trial_scene(&self, template: &SceneSpec, actor: ActorSpec, tail_s: f64) -> SceneSpec {
+        let mut scene = template.clone();
+        scene.actors.retain(|a| !a.target);
+        let mut actor = actor;
+        while scene.actors.iter().any(|a| a.id == actor.id) {
+            actor.id.push('_');
+        }
+        scene.actors.push(actor);
+        scene.duration_s = self.end_s() + tail_s;
+        let sensor = [template.sensor.position_m[0], template.sensor.position_m[1]];
+        let farthest = [self.start_m, self.end_m]
+            .iter()
+            .map(|p| (p[0] - sensor[0]).hypot(p[1] - sensor[1]))
+            .fold(0.0, f64::max);
+        scene.coverage = CoverageSpec {
+            range_m: farthest + 1.0,
+            azimuth_half_deg: 180.0,
+        };
+        scene
+    }
+}
+
 /// A deterministic list of walks over a zone, for one sensor placement.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ZonePlan {
@@ -400,36 +428,9 @@ impl ZonePlan {
         StreamKey::new(self.seed, format!("zone/{scene_id}"), u64::from(walk.index))
     }
 
-    /// The scene of `walk`'s trial: `template` (room, module and noise of a product) with
-    /// its target actors replaced by `actor` ([`Walk::walker_actor`] or
-    /// [`Walk::reflector_actor`]); its nuisances stay. The trial lasts until `tail_s` after
-    /// the walk ends, and the coverage zone is the whole room, so the walker is a target
-    /// wherever it walks.
+    /// The scene of `walk`'s trial, with this plan's tail: [`Walk::trial_scene`].
     pub fn trial_scene(&self, template: &SceneSpec, walk: &Walk, actor: ActorSpec) -> SceneSpec {
-        let mut scene = template.clone();
-        scene.actors.retain(|a| !a.target);
-        let mut actor = actor;
-        while scene.actors.iter().any(|a| a.id == actor.id) {
-            actor.id.push('_');
-        }
-        scene.actors.push(actor);
-        scene.duration_s = walk.end_s() + self.spec.tail_s;
-        let f = &self.grid.floor;
-        let sensor = self.sensor_floor_m();
-        let farthest = [
-            [f.x_min_m, f.y_min_m],
-            [f.x_max_m, f.y_min_m],
-            [f.x_min_m, f.y_max_m],
-            [f.x_max_m, f.y_max_m],
-        ]
-        .iter()
-        .map(|c| (c[0] - sensor[0]).hypot(c[1] - sensor[1]))
-        .fold(0.0, f64::max);
-        scene.coverage = CoverageSpec {
-            range_m: farthest + 1.0,
-            azimuth_half_deg: 180.0,
-        };
-        scene
+        walk.trial_scene(template, actor, self.spec.tail_s)
     }
 }
 

@@ -122,7 +122,7 @@ impl ZoneTally {
             Err(slot) => slot,
         };
         let at_ns = match first_detection_s {
-            Some(t) if !(t >= walk.enter_s) => {
+            Some(t) if t.is_nan() || t < walk.enter_s => {
                 return Err(ZoneError::DetectionBeforeEntry {
                     walk: walk.index,
                     at_s: t,
