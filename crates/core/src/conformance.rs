@@ -3,8 +3,10 @@
 //! A detector that keeps the contract of [`crate::detector`] can be scored by
 //! the harness on any stream, split into blocks however its owner likes. The
 //! rules are easy to state and easy to break by accident (an I/Q block read
-//! two pairs at a time, a counter that `reset` forgets), so they are
-//! checked here once, the same way for every plugin, built-in or not:
+//! two pairs at a time, a counter that `reset` forgets, a buffer the plan
+//! hands to every state), so they are checked here once, the same way for
+//! every plugin, built-in or not. The kit plans once, as the runner does, and
+//! starts every state it feeds from that one plan:
 //!
 //! ```
 //! use echobench_core::conformance;
@@ -27,7 +29,9 @@
 //! documented way and keep scoring (every built-in counts them as 0) or report
 //! a failure (`process` returns a `DetectorFailure`), which the harness records for that trial.
 
-use crate::detector::{check_scores, Detector, DetectorPlugin, FrameScore, Params, Samples};
+use crate::detector::{
+    check_scores, Detector, DetectorPlan, DetectorPlugin, FrameScore, Params, Samples,
+};
 use crate::seed::mix64;
 use crate::{Channels, StreamInfo};
 use std::fmt;
@@ -48,7 +52,7 @@ pub const RAIL_HIGH_V: f32 = 3.3;
 /// One rule of the detector contract.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Rule {
-    /// The plugin builds a detector with the given parameters for the stream.
+    /// The plugin plans a detector with the given parameters for the stream.
     Builds,
     /// The kit's test stream runs without a panic or a failure and yields at least one score.
     Runs,
@@ -57,8 +61,10 @@ pub enum Rule {
     /// I/Q streams: blocks of odd numbers of pairs give the same scores as one block (a
     /// typed block cannot split a pair, but a detector can still read pairs two at a time).
     OddIqBlocks,
-    /// A detector reset after other input repeats a fresh detector's scores.
+    /// A state reset after other input repeats the scores of a fresh state from the same plan.
     Reset,
+    /// Two states started from one plan and fed in turns give the scores each gives alone.
+    Independent,
     /// Silence (all zeros) gives finite scores.
     Silence,
     /// A full-scale square wave between the ADC rails gives finite scores.
@@ -73,12 +79,13 @@ pub enum Rule {
 
 impl Rule {
     /// Every rule, in the order the kit checks them.
-    pub const ALL: [Rule; 10] = [
+    pub const ALL: [Rule; 11] = [
         Rule::Builds,
         Rule::Runs,
         Rule::BlockSizeInvariance,
         Rule::OddIqBlocks,
         Rule::Reset,
+        Rule::Independent,
         Rule::Silence,
         Rule::Clipping,
         Rule::NonFiniteInput,
@@ -94,6 +101,7 @@ impl Rule {
             Rule::BlockSizeInvariance => "block-size invariance",
             Rule::OddIqBlocks => "odd I/Q blocks",
             Rule::Reset => "reset",
+            Rule::Independent => "independent states",
             Rule::Silence => "silence",
             Rule::Clipping => "full-scale clipping",
             Rule::NonFiniteInput => "NaN input",
@@ -191,12 +199,22 @@ pub fn check_for(
         1
     };
     let channels = info.channels.count();
+    // One plan, as the runner makes one per stream shape; every state below starts from it.
+    let plan: std::sync::Arc<dyn DetectorPlan> =
+        match catch_unwind(AssertUnwindSafe(|| plugin.plan(params, info))) {
+            Ok(Ok(plan)) => plan,
+            Ok(Err(e)) => {
+                violate(Rule::Builds, e.to_string());
+                return Err(found);
+            }
+            Err(p) => {
+                violate(Rule::Builds, crate::detector::panic_message(p));
+                return Err(found);
+            }
+        };
     let fresh = || -> Result<Box<dyn Detector>, String> {
-        match catch_unwind(AssertUnwindSafe(|| plugin.build(params, info))) {
-            Ok(Ok(detector)) => Ok(detector),
-            Ok(Err(e)) => Err(e.to_string()),
-            Err(p) => Err(crate::detector::panic_message(p)),
-        }
+        catch_unwind(AssertUnwindSafe(|| plan.start()))
+            .map_err(|p| format!("{} in `start`", crate::detector::panic_message(p)))
     };
     let mut detector = match fresh() {
         Ok(d) => d,
@@ -273,7 +291,7 @@ pub fn check_for(
         }
         // Reset: other input (louder, ending mid-frame), a reset, then the test stream.
         match fresh() {
-            Err(m) => violate(Rule::Reset, format!("a second build failed: {m}")),
+            Err(m) => violate(Rule::Reset, format!("a second start failed: {m}")),
             Ok(mut d) => {
                 let before = test_signal(instants * 3 / 5 + 3, info.channels, 0x7072_6566);
                 let loud: Vec<f32> = before.iter().map(|x| 4.0 * x - 4.95).collect();
@@ -299,6 +317,31 @@ pub fn check_for(
         }
     }
 
+    // Independence: two states from the one plan, fed in turns (the other one a louder,
+    // different signal), must each give what they give alone.
+    if let Some(reference) = &reference {
+        match (fresh(), fresh()) {
+            (Ok(mut a), Ok(mut b)) => {
+                let other: Vec<f32> = test_signal(instants, info.channels, 0x6f74_6872)
+                    .iter()
+                    .map(|x| 3.0 * x - 3.3)
+                    .collect();
+                match interleave(a.as_mut(), b.as_mut(), &stream, &other, 97 * channels, info) {
+                    Err(m) => violate(Rule::Independent, m),
+                    Ok(s) => {
+                        if let Some(m) = first_difference(&s, reference) {
+                            violate(
+                                Rule::Independent,
+                                format!("fed in turns with a second state of the same plan, {m}"),
+                            );
+                        }
+                    }
+                }
+            }
+            (Err(m), _) | (_, Err(m)) => violate(Rule::Independent, m),
+        }
+    }
+
     // Silence, clipping and a single sample: finite scores in order, no failure.
     let silence = vec![0.0f32; instants * channels];
     let clipped: Vec<f32> = (0..instants * channels)
@@ -317,7 +360,7 @@ pub fn check_for(
         (Rule::SingleSample, single),
     ] {
         match fresh() {
-            Err(m) => violate(rule, format!("a second build failed: {m}")),
+            Err(m) => violate(rule, format!("a second start failed: {m}")),
             Ok(mut d) => match feed(d.as_mut(), samples, Split::Cycle(vec![256 * channels])) {
                 Fed::Scores(s) => {
                     if let Err((i, m)) = check_scores(&s) {
@@ -339,7 +382,7 @@ pub fn check_for(
         poisoned[(len * (2 * k + 1) / 8).min(len - 1)] = bad;
     }
     match fresh() {
-        Err(m) => violate(Rule::NonFiniteInput, format!("a second build failed: {m}")),
+        Err(m) => violate(Rule::NonFiniteInput, format!("a second start failed: {m}")),
         Ok(mut d) => match feed(d.as_mut(), &poisoned, Split::Cycle(vec![256 * channels])) {
             Fed::Scores(s) => {
                 if let Err((i, m)) = check_scores(&s) {
@@ -373,7 +416,7 @@ fn compare(
     violate: &mut dyn FnMut(Rule, String),
 ) {
     match fresh() {
-        Err(m) => violate(rule, format!("a second build failed: {m}")),
+        Err(m) => violate(rule, format!("a second start failed: {m}")),
         Ok(mut d) => match feed(d.as_mut(), stream, split, info) {
             Fed::Scores(s) => {
                 if let Some(m) = first_difference(&s, reference) {
@@ -459,6 +502,49 @@ fn feed(detector: &mut dyn Detector, samples: &[f32], split: Split, info: &Strea
     Fed::Scores(out)
 }
 
+/// Feeds `mine` to `a` and `other` to `b` in turns, `block` values at a time,
+/// and returns `a`'s scores (what `b` gives is not judged here).
+fn interleave(
+    a: &mut dyn Detector,
+    b: &mut dyn Detector,
+    mine: &[f32],
+    other: &[f32],
+    block: usize,
+    info: &StreamInfo,
+) -> Result<Vec<FrameScore>, String> {
+    fn one(
+        detector: &mut dyn Detector,
+        values: &[f32],
+        info: &StreamInfo,
+        into: &mut Vec<FrameScore>,
+    ) -> Result<(), String> {
+        let block = Samples::from_values(values, info.channels)
+            .expect("the kit cuts I/Q streams between pairs");
+        match catch_unwind(AssertUnwindSafe(|| detector.process(block, into))) {
+            Err(p) => Err(format!(
+                "{} in `process`, fed in turns",
+                crate::detector::panic_message(p)
+            )),
+            Ok(Err(failure)) => Err(format!("reported a failure: {}", failure.message)),
+            Ok(Ok(())) => Ok(()),
+        }
+    }
+    let (mut out, mut sink) = (Vec::new(), Vec::new());
+    let mut at = 0;
+    while at < mine.len() {
+        let end = (at + block).min(mine.len());
+        one(a, &mine[at..end], info, &mut out)?;
+        one(
+            b,
+            &other[at.min(other.len())..end.min(other.len())],
+            info,
+            &mut sink,
+        )?;
+        at = end;
+    }
+    Ok(out)
+}
+
 /// Where two score traces first differ (bit for bit), in words.
 fn first_difference(got: &[FrameScore], want: &[FrameScore]) -> Option<String> {
     let same = |a: &FrameScore, b: &FrameScore| {
@@ -507,10 +593,12 @@ fn test_signal(instants: usize, channels: Channels, seed: u64) -> Vec<f32> {
 /// example above can run; not part of the API a plugin uses.
 #[doc(hidden)]
 pub mod tests_support {
+    use crate::detector::Samples;
     use crate::detector::{Cost, Detector, DetectorPlugin, ParamError, ParamSpec, Params};
-    use crate::detector::{DetectorFailure, FrameScore, IqSample, Samples};
+    use crate::detector::{DetectorFailure, DetectorPlan, FrameScore, IqSample, PrototypePlan};
     use crate::param_decl::IntegerParam;
     use crate::StreamInfo;
+    use std::sync::{Arc, Mutex};
 
     const FRAME_LEN: IntegerParam = IntegerParam {
         name: "frame_len",
@@ -532,6 +620,8 @@ pub mod tests_support {
         DropsOddPair,
         /// `reset` does nothing.
         KeepsStateAcrossReset,
+        /// Every state of one plan adds into one frame sum, kept in the plan.
+        SharesStateAcrossStarts,
     }
 
     /// The mean power of each frame (|x|² summed over channels): small and correct.
@@ -550,12 +640,12 @@ pub mod tests_support {
         fn params(&self) -> &'static [ParamSpec] {
             &PARAMS
         }
-        fn build(
+        fn plan(
             &self,
             params: &Params,
             info: &StreamInfo,
-        ) -> Result<Box<dyn Detector>, ParamError> {
-            FlawedPlugin(Flaw::None).build(params, info)
+        ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+            FlawedPlugin(Flaw::None).plan(params, info)
         }
         fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
             FlawedPlugin(Flaw::None).check(params, info)
@@ -576,16 +666,17 @@ pub mod tests_support {
         fn params(&self) -> &'static [ParamSpec] {
             &PARAMS
         }
-        fn build(
+        fn plan(
             &self,
             params: &Params,
             info: &StreamInfo,
-        ) -> Result<Box<dyn Detector>, ParamError> {
+        ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
             crate::detector::check_sample_rate(self.id(), info)?;
-            Ok(Box::new(MeanDetector {
+            Ok(PrototypePlan::shared(MeanDetector {
                 flaw: self.0,
                 frame_len: FRAME_LEN.get(params)? as u64,
                 sum: 0.0,
+                plan_sum: Arc::new(Mutex::new(0.0)),
                 in_frame: 0,
                 consumed: 0,
             }))
@@ -602,25 +693,36 @@ pub mod tests_support {
         }
     }
 
+    #[derive(Clone)]
     struct MeanDetector {
         flaw: Flaw,
         frame_len: u64,
         sum: f64,
+        /// The sum [`Flaw::SharesStateAcrossStarts`] uses: one cell behind an
+        /// `Arc`, so every clone the plan starts writes the same one.
+        plan_sum: Arc<Mutex<f64>>,
         in_frame: u64,
         consumed: u64,
     }
 
     impl MeanDetector {
         fn instant(&mut self, power: f64, out: &mut Vec<FrameScore>) {
-            self.sum += if power.is_finite() { power } else { 0.0 };
+            let power = if power.is_finite() { power } else { 0.0 };
+            let mut shared = self.plan_sum.lock().unwrap_or_else(|e| e.into_inner());
+            let sum = if self.flaw == Flaw::SharesStateAcrossStarts {
+                &mut *shared
+            } else {
+                &mut self.sum
+            };
+            *sum += power;
             self.in_frame += 1;
             self.consumed += 1;
             if self.in_frame == self.frame_len {
                 out.push(FrameScore {
                     end_sample: self.consumed,
-                    value: self.sum / self.frame_len as f64,
+                    value: *sum / self.frame_len as f64,
                 });
-                self.sum = 0.0;
+                *sum = 0.0;
                 self.in_frame = 0;
             }
         }
@@ -650,6 +752,7 @@ pub mod tests_support {
         fn reset(&mut self) {
             if self.flaw != Flaw::KeepsStateAcrossReset {
                 self.sum = 0.0;
+                *self.plan_sum.lock().unwrap_or_else(|e| e.into_inner()) = 0.0;
                 self.in_frame = 0;
                 self.consumed = 0;
             }
@@ -726,6 +829,22 @@ mod tests {
         assert!(
             text.contains("detector `kit-flawed`") && text.contains("rule `reset`"),
             "{text}"
+        );
+    }
+
+    #[test]
+    fn states_that_share_what_they_write_fail_the_independence_rule() {
+        let plan_keeper = FlawedPlugin(Flaw::SharesStateAcrossStarts);
+        let params = Params::defaults(plan_keeper.params());
+        // Alone, each state is a correct detector: only feeding two in turns shows it.
+        let violations = check(&plan_keeper, &params, &test_stream(2000.0)).unwrap_err();
+        assert_eq!(rules(Err(violations.clone())), vec![Rule::Independent]);
+        assert!(
+            violations[0]
+                .to_string()
+                .starts_with("rule `independent states`: fed in turns with a second state"),
+            "{}",
+            violations[0]
         );
     }
 

@@ -26,6 +26,7 @@ use crate::suggest::nearest;
 use crate::{Channels, Score, StreamInfo};
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
+use std::sync::Arc;
 
 /// One detector output: the score of the decision frame that ends just
 /// before sample instant `end_sample`.
@@ -163,7 +164,13 @@ impl<'a> Samples<'a> {
     }
 }
 
-/// A running detector: state for one stream.
+/// A running detector: the state for one stream, made by
+/// [`DetectorPlan::start`].
+///
+/// The runner gives each worker thread one state per detector and resets it
+/// between trials, so [`Detector::reset`] must return it exactly to what
+/// `start` gives: the conformance kit checks that a reset state repeats a
+/// fresh state's scores bit for bit.
 pub trait Detector: Send {
     /// Consumes `block` (any number of sample instants, including 0 and 1,
     /// typed as the stream it was built for) and pushes one [`FrameScore`]
@@ -180,11 +187,63 @@ pub trait Detector: Send {
         out: &mut Vec<FrameScore>,
     ) -> Result<(), DetectorFailure>;
 
-    /// Forgets all state, as if freshly built.
+    /// Forgets all state: back to what [`DetectorPlan::start`] gives.
     fn reset(&mut self);
 }
 
-/// A kind of detector that can be built from parameters.
+/// A detector configured for one stream shape: everything its states read
+/// and never write (checked parameters, FFT plans, windows, filter
+/// coefficients, bin tables), made once by [`DetectorPlugin::plan`] and
+/// shared by every worker thread of a run.
+///
+/// **The design decision: plan once, start many, reset between trials.**
+/// Planning an FFT or tabulating a window costs more than scoring a short
+/// trial, and it depends only on the parameters and the stream shape, never
+/// on the samples. So the runner plans once per (detector, stream shape),
+/// each worker thread starts one state from the plan, and that state is
+/// reset between the trials the worker runs. States started from one plan
+/// must be independent: nothing a state writes may be shared.
+pub trait DetectorPlan: Send + Sync {
+    /// A fresh state at the start of a stream.
+    fn start(&self) -> Box<dyn Detector>;
+}
+
+/// The plan of a detector whose fresh state is a plain value: `start` clones
+/// a state made fresh once. Whatever is costly to make and never written
+/// (FFT plans, windows, tables) sits behind an `Arc` inside the state, so a
+/// clone shares it and copies only the buffers a state writes.
+///
+/// ```
+/// use echobench_core::detector::{DetectorPlan, PrototypePlan};
+/// # use echobench_core::detector::{Detector, DetectorFailure, FrameScore, Samples};
+/// # #[derive(Clone)] struct Count(u64);
+/// # impl Detector for Count {
+/// #     fn process(&mut self, b: Samples<'_>, _: &mut Vec<FrameScore>) -> Result<(), DetectorFailure> {
+/// #         self.0 += b.len() as u64; Ok(())
+/// #     }
+/// #     fn reset(&mut self) { self.0 = 0 }
+/// # }
+/// let plan = PrototypePlan::shared(Count(0));
+/// let (a, b) = (plan.start(), plan.start()); // two independent states
+/// # drop((a, b));
+/// ```
+#[derive(Debug, Clone)]
+pub struct PrototypePlan<D>(D);
+
+impl<D: Detector + Clone + Sync + 'static> PrototypePlan<D> {
+    /// The plan that starts clones of `fresh`, shareable across threads.
+    pub fn shared(fresh: D) -> Arc<dyn DetectorPlan> {
+        Arc::new(PrototypePlan(fresh))
+    }
+}
+
+impl<D: Detector + Clone + Sync + 'static> DetectorPlan for PrototypePlan<D> {
+    fn start(&self) -> Box<dyn Detector> {
+        Box::new(self.0.clone())
+    }
+}
+
+/// A kind of detector that can be planned from parameters.
 pub trait DetectorPlugin: Send + Sync {
     /// Stable identifier used in suite files, e.g. `"ca-cfar"`.
     fn id(&self) -> &'static str;
@@ -195,19 +254,30 @@ pub trait DetectorPlugin: Send + Sync {
     /// The parameters it takes, with defaults and ranges.
     fn params(&self) -> &'static [ParamSpec];
 
-    /// Builds a detector for a stream.
+    /// Plans a detector for a stream shape: checks the parameters against
+    /// the stream and makes everything the states share ([`DetectorPlan`]).
     ///
     /// # Errors
     /// When the parameters do not fit together or do not fit the stream
     /// (a band above Nyquist, guard cells ≥ training cells, ...).
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError>;
+    fn plan(&self, params: &Params, info: &StreamInfo)
+        -> Result<Arc<dyn DetectorPlan>, ParamError>;
 
-    /// Checks the parameters against the stream without building anything:
-    /// the refusals [`DetectorPlugin::build`] would give. The suite loader
+    /// A plan and one state started from it, for a caller that runs one
+    /// stream (a replay, a test).
+    ///
+    /// # Errors
+    /// As [`DetectorPlugin::plan`].
+    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+        Ok(self.plan(params, info)?.start())
+    }
+
+    /// Checks the parameters against the stream without planning anything:
+    /// the refusals [`DetectorPlugin::plan`] would give. The suite loader
     /// calls it for every stream of a suite before any trial runs.
     ///
     /// # Errors
-    /// As [`DetectorPlugin::build`].
+    /// As [`DetectorPlugin::plan`].
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError>;
 
     /// What it costs on a small processor with these parameters on this
@@ -235,7 +305,7 @@ pub trait DetectorPlugin: Send + Sync {
     /// stream, in Hz (resolved from m/s through the carrier where they were
     /// given as speeds), so the harness can check that a target's Doppler
     /// falls where the detector looks. Empty (the default) when the plugin
-    /// declares none, or when the parameters do not fit the stream (`build`
+    /// declares none, or when the parameters do not fit the stream (`plan`
     /// says why).
     fn doppler_bands(&self, _params: &Params, _info: &StreamInfo) -> Vec<DopplerBand> {
         Vec::new()
@@ -441,7 +511,7 @@ impl ParamSpec {
 }
 
 /// The stream's sample rate, refused unless it is a positive finite number: the first check
-/// of every plugin's `build` and `cost`.
+/// of every plugin's `plan` and `cost`.
 ///
 /// # Errors
 /// A `ParamError` of `detector` on `sample_rate_hz`.

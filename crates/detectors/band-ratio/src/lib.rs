@@ -108,8 +108,8 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, NominalPoint,
-    ParamError, ParamSpec, Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, DopplerBand,
+    NominalPoint, ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::{
     self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing, ResolvedBand,
@@ -119,6 +119,7 @@ use echobench_core::param_decl::{ChoiceParam, FlagParam, IntegerParam, RealParam
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
+use std::sync::Arc;
 
 /// The plugin's identifier in suite files.
 pub const ID: &str = "band-ratio";
@@ -375,7 +376,7 @@ pub enum Statistic {
 
 /// A validated configuration: the selected bins and the framing.
 ///
-/// [`BandRatioPlugin::build`] and [`BandRatioPlugin::cost`] both start from it,
+/// [`BandRatioPlugin::plan`] and [`BandRatioPlugin::cost`] both start from it,
 /// and it is public so a user can see which bins a parameter set selects.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BandRatioConfig {
@@ -721,9 +722,13 @@ impl DetectorPlugin for BandRatioPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
         let config = BandRatioConfig::from_params(params, info)?;
-        Ok(Box::new(BandRatioDetector::new(config)))
+        Ok(PrototypePlan::shared(BandRatioDetector::new(config)))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
@@ -781,6 +786,7 @@ impl DetectorPlugin for BandRatioPlugin {
     }
 }
 
+#[derive(Clone)]
 enum Spectrum {
     Real(PowerSpectrum),
     Iq(ComplexPowerSpectrum),
@@ -788,11 +794,13 @@ enum Spectrum {
 
 /// What turns a frame into a score; separate from the framer so the framer's
 /// callback can borrow it while the framer itself is borrowed.
+#[derive(Clone)]
 struct FrameScorer {
     spectrum: Spectrum,
     power: Vec<f64>,
-    motion_bins: Vec<usize>,
-    reference_bins: Vec<usize>,
+    /// Bin tables, shared by every state of a plan.
+    motion_bins: Arc<[usize]>,
+    reference_bins: Arc<[usize]>,
     statistic: Statistic,
 }
 
@@ -815,7 +823,10 @@ impl FrameScorer {
     }
 }
 
-/// A running band-ratio detector for one stream.
+/// A running band-ratio detector for one stream. [`BandRatioPlugin::plan`]
+/// makes one fresh and every state is a clone of it (FFT plan, window and bin
+/// tables shared, buffers its own).
+#[derive(Clone)]
 pub struct BandRatioDetector {
     framer: Framer,
     scorer: FrameScorer,
@@ -840,8 +851,8 @@ impl BandRatioDetector {
             scorer: FrameScorer {
                 spectrum,
                 power: vec![0.0; config.bin_count()],
-                motion_bins: config.motion_bins,
-                reference_bins: config.reference_bins,
+                motion_bins: config.motion_bins.into(),
+                reference_bins: config.reference_bins.into(),
                 statistic: config.statistic,
             },
             values_per_sample: values_per_sample as u64,

@@ -86,8 +86,8 @@ pub use echobench_detector_dsp::cfar_cells::{training_offsets, DopplerAxis};
 
 use closed_form::ratio_to_mean;
 use echobench_core::detector::{
-    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
-    Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, DopplerBand,
+    ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::{
     self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
@@ -97,6 +97,7 @@ use echobench_core::param_decl::{ChoiceParam, IntegerParam, RealParam};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::cfar_cells::CellPlan;
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
+use std::sync::Arc;
 
 /// The plugin id used in suite files.
 pub const ID: &str = "ca-cfar";
@@ -305,7 +306,7 @@ impl CaCfarConfig {
 struct Layout {
     channels: Channels,
     axis: DopplerAxis,
-    plan: CellPlan,
+    plan: Arc<CellPlan>,
 }
 
 fn validate(config: &CaCfarConfig, info: &StreamInfo) -> Result<Layout, ParamError> {
@@ -432,11 +433,12 @@ fn validate(config: &CaCfarConfig, info: &StreamInfo) -> Result<Layout, ParamErr
     Ok(Layout {
         channels: info.channels,
         axis,
-        plan,
+        plan: plan.into(),
     })
 }
 
 /// Real or I/Q transform, planned once.
+#[derive(Clone)]
 enum Transform {
     Real(PowerSpectrum),
     Iq(ComplexPowerSpectrum),
@@ -451,14 +453,17 @@ impl Transform {
     }
 }
 
-/// A running CA-CFAR detector (what [`CaCfarPlugin::build`] returns, boxed).
+/// A running CA-CFAR detector. [`CaCfarPlugin::plan`] makes one fresh
+/// (FFT planned, cell table made) and every state is a clone of it: the FFT
+/// plan, the window and the cell table are shared, the buffers are its own.
+#[derive(Clone)]
 pub struct CaCfarDetector {
     framer: Framer,
     transform: Transform,
     /// Copy of a frame with non-finite values set to 0 (used only when needed).
     clean_frame: Vec<f64>,
     power: Vec<f64>,
-    plan: CellPlan,
+    plan: Arc<CellPlan>,
     values_per_sample: u64,
     nominal_multiplier: f64,
 }
@@ -574,9 +579,13 @@ impl DetectorPlugin for CaCfarPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
         let config = CaCfarConfig::from_params(params, info)?;
-        Ok(Box::new(CaCfarDetector::new(&config, info)?))
+        Ok(PrototypePlan::shared(CaCfarDetector::new(&config, info)?))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {

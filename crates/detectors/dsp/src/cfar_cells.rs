@@ -3,7 +3,7 @@
 //! Shared by the cell-averaging and ordered-statistic CFAR detectors. The
 //! edge rule is the reference pipeline's (`cfar_weights`): reflect about DC and
 //! the Nyquist bin for the one-sided spectrum of a real signal, wrap for the
-//! two-sided I/Q spectrum. The plan is made once in `build`: for every cell under test (CUT) the
+//! two-sided I/Q spectrum. The plan is made once per detector plan: for every cell under test (CUT) the
 //! indices of its `2·train` training cells, edges already resolved, so the
 //! per-frame loop is a gather and a sum.
 

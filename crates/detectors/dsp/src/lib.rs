@@ -7,7 +7,8 @@
 //! out each completed frame exactly once, so a detector built on it is
 //! block-size invariant by construction. [`PowerSpectrum`] turns a frame into
 //! |X_k|² with an FFT plan and scratch made once, so the per-frame path does
-//! not allocate.
+//! not allocate; its clones share the FFT plan and the window, which is how a
+//! detector's plan hands them to every state it starts.
 #![deny(missing_docs)]
 
 pub mod cfar_cells;
@@ -132,8 +133,13 @@ impl Window {
 }
 
 /// |X_k|² of windowed frames: one-sided (N/2 + 1 bins) for real frames.
+///
+/// The FFT plan and the window are made once, in [`PowerSpectrum::new`], and
+/// shared (`Arc`) by every clone: a detector's plan holds one spectrum and each
+/// state it starts clones it, getting its own buffers and scratch only.
+#[derive(Clone)]
 pub struct PowerSpectrum {
-    window: Vec<f64>,
+    window: Arc<[f64]>,
     fft: Arc<dyn RealToComplex<f64>>,
     input: Vec<f64>,
     output: Vec<Complex<f64>>,
@@ -145,7 +151,7 @@ impl PowerSpectrum {
     pub fn new(frame_len: usize, window: Window) -> Self {
         let fft = RealFftPlanner::<f64>::new().plan_fft_forward(frame_len);
         PowerSpectrum {
-            window: window.values(frame_len),
+            window: window.values(frame_len).into(),
             input: fft.make_input_vec(),
             output: fft.make_output_vec(),
             scratch: fft.make_scratch_vec(),
@@ -160,7 +166,7 @@ impl PowerSpectrum {
 
     /// Writes |X_k|² of the windowed `frame` into `power` (length [`PowerSpectrum::bins`]).
     pub fn compute(&mut self, frame: &[f64], power: &mut [f64]) {
-        for ((x, &f), &w) in self.input.iter_mut().zip(frame).zip(&self.window) {
+        for ((x, &f), &w) in self.input.iter_mut().zip(frame).zip(self.window.iter()) {
             *x = f * w;
         }
         self.fft
@@ -173,8 +179,11 @@ impl PowerSpectrum {
 }
 
 /// |X_k|² of windowed complex (I/Q) frames, N bins in FFT order (bin k ↔ k·fs/N, negative above N/2).
+///
+/// Plan and window shared by clones, as for [`PowerSpectrum`].
+#[derive(Clone)]
 pub struct ComplexPowerSpectrum {
-    window: Vec<f64>,
+    window: Arc<[f64]>,
     fft: Arc<dyn Fft<f64>>,
     buffer: Vec<Complex<f64>>,
     scratch: Vec<Complex<f64>>,
@@ -185,7 +194,7 @@ impl ComplexPowerSpectrum {
     pub fn new(frame_len: usize, window: Window) -> Self {
         let fft = FftPlanner::<f64>::new().plan_fft_forward(frame_len);
         ComplexPowerSpectrum {
-            window: window.values(frame_len),
+            window: window.values(frame_len).into(),
             buffer: vec![Complex::new(0.0, 0.0); frame_len],
             scratch: vec![Complex::new(0.0, 0.0); fft.get_inplace_scratch_len()],
             fft,
@@ -198,7 +207,7 @@ impl ComplexPowerSpectrum {
             .buffer
             .iter_mut()
             .zip(interleaved.chunks_exact(2))
-            .zip(&self.window)
+            .zip(self.window.iter())
         {
             *z = Complex::new(iq[0] * w, iq[1] * w);
         }

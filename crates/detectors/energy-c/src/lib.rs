@@ -12,7 +12,7 @@
 //!
 //! **The one design decision: the host owns an opaque state.** Rust never
 //! mirrors the C struct. It asks the C code for `energy_state_size()` and
-//! `energy_state_align()` and allocates that many bytes once in `build`,
+//! `energy_state_align()` and allocates that many bytes once per state (the plan's fresh state, copied),
 //! exactly as firmware would reserve a `static energy_state`, then passes
 //! the pointer to `energy_init`, `energy_push` (one call per sample) and
 //! `energy_reset`. A team can therefore change the struct, or the whole C
@@ -71,13 +71,14 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
-    Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, DopplerBand,
+    ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::Framing;
 use echobench_core::param_decl::IntegerParam;
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use std::ffi::{c_int, c_void};
+use std::sync::Arc;
 
 /// The plugin's id in suite files.
 const ID: &str = "energy-c";
@@ -136,9 +137,15 @@ impl DetectorPlugin for EnergyCPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+    /// One C state initialised by `energy_init` (which may refuse the
+    /// parameters); every state is a copy of it.
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
         let config = Config::from_params(params, info)?;
-        Ok(Box::new(EnergyC::new(config)?))
+        Ok(PrototypePlan::shared(EnergyC::new(config)?))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
@@ -251,6 +258,11 @@ impl Config {
 }
 
 /// A running C energy detector: the C state in a host-owned buffer.
+///
+/// Cloning copies the buffer, which copies the state: `energy_state` is plain
+/// data (a float array and counters, no pointers; `c/energy.h`), as firmware
+/// that keeps it in a `static` relies on too.
+#[derive(Clone)]
 struct EnergyC {
     /// `energy_state_size()` bytes, 8-byte aligned (u64 words); only C reads it.
     state: Box<[u64]>,

@@ -69,14 +69,15 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
-    Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, DopplerBand,
+    ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::{
     self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
 };
 use echobench_core::param_decl::{ChoiceParam, RealParam};
 use echobench_core::{FrameScore, StreamInfo};
+use std::sync::Arc;
 
 /// The plugin's id in suite files.
 const ID: &str = "energy";
@@ -211,8 +212,12 @@ impl DetectorPlugin for EnergyPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(EnergyDetector::new(params, info)?))
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+        Ok(PrototypePlan::shared(EnergyDetector::new(params, info)?))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {

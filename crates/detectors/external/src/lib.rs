@@ -23,7 +23,7 @@
 //! # Running programs must be allowed
 //!
 //! [`ExternalPlugin::new`]`(allow_exec)` takes the user's consent: the
-//! command line passes `true` only with `--allow-exec`. Without it, `build`
+//! command line passes `true` only with `--allow-exec`. Without it, `plan`
 //! and `check` refuse with a [`ParamError`] on `command` that says so, so a
 //! suite file from an untrusted branch cannot start programs on a CI machine
 //! by itself (and the suite loader, which calls `check`, reports it before any
@@ -56,18 +56,21 @@
 //!
 //! # Life cycle and start-up cost
 //!
-//! `build` starts **one program per built detector**, and the harness builds
-//! one detector per trial, so every trial pays the program's start-up: a
-//! few milliseconds for a compiled program, about 0.3 s for Python with
+//! A state is **one running program**. `plan` starts the program once and
+//! sends HELLO, waiting for READY (within the trial's budget): a program that
+//! does not start, answers with the wrong magic, speaks another version or
+//! exits is a plan error naming `command`, with the end of its stderr. That
+//! program is the plan's first state ([`ExternalPlan`]); every further state
+//! starts its own. The runner resets a state between trials, and `reset`
+//! starts a new program (below), so every trial pays the program's start-up:
+//! a few milliseconds for a compiled program, about 0.3 s for Python with
 //! numpy (interpreter plus `import numpy`, measured on the development
 //! machine; faster machines take 0.1 s), which for a suite of 1 000 trials
 //! adds about five minutes of process time per Python detector (divided
 //! among the harness's threads). In exchange each trial starts from a fresh
 //! process: no state leaks from one trial to the next, and a crash costs one
-//! trial. `build` sends HELLO and waits for READY (within the trial's
-//! budget); a program that does not start, answers with the wrong magic,
-//! speaks another version or exits is a build error naming `command`, with
-//! the end of its stderr.
+//! trial. A program that fails to start after the plan's check is a failure
+//! of that state's trials, which `process` reports.
 //!
 //! `reset()` ends the program (as on drop) and starts a new one with a fresh
 //! budget: a new process is the only reset that is certain to forget
@@ -212,13 +215,15 @@ pub mod protocol;
 mod session;
 
 use echobench_core::detector::{
-    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, ParamError, ParamSpec, Params,
+    Samples,
 };
 use echobench_core::param_decl::{IntegerParam, RealParam, TextParam};
 use echobench_core::{FrameScore, Score, StreamInfo};
 use protocol::{encode_hello, MAX_BLOCK_VALUES, TAG_BLOCK, VERSION};
 use session::{FromProgram, Session, Wait};
 use std::path::{Path, PathBuf};
+use std::sync::{Arc, Mutex};
 use std::time::Duration;
 
 /// The plugin's id in suite files.
@@ -357,9 +362,23 @@ impl DetectorPlugin for ExternalPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+    /// Starts the program once and does the handshake, so that a program
+    /// that is missing, will not start or refuses its settings is refused
+    /// here, naming `command`, before any trial; that started program is the
+    /// plan's first state ([`ExternalPlan`]).
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
         let (program, _) = self.configure(params)?;
-        Ok(Box::new(ExternalDetector::spawn(program, info)?))
+        let first = ExternalDetector::spawn(program, info)?;
+        Ok(Arc::new(ExternalPlan {
+            program: first.program.clone(),
+            path: first.path.clone(),
+            info: *info,
+            unused_first: Mutex::new(Some(first)),
+        }))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
@@ -445,6 +464,41 @@ impl ExternalProgram {
     }
 }
 
+/// The plan of an external detector: the program, found and checked once.
+///
+/// A state is a running program; there is nothing to share between two
+/// (each has its own process), so `start` starts another program, except
+/// the first time: the plan keeps the program it started to check the
+/// handshake and hands that one out first, so planning costs no extra start.
+/// A program that fails to start later is a failure of the trials that
+/// state runs (`process` returns it), not a panic.
+pub struct ExternalPlan {
+    /// The program started by [`DetectorPlugin::plan`], until a state takes it.
+    unused_first: Mutex<Option<ExternalDetector>>,
+    /// What every other state starts: a copy of the first before it ran.
+    program: ExternalProgram,
+    path: PathBuf,
+    info: StreamInfo,
+}
+
+impl DetectorPlan for ExternalPlan {
+    fn start(&self) -> Box<dyn Detector> {
+        let first = self
+            .unused_first
+            .lock()
+            .unwrap_or_else(|e| e.into_inner())
+            .take();
+        Box::new(first.unwrap_or_else(|| {
+            let mut detector =
+                ExternalDetector::unstarted(self.program.clone(), self.path.clone(), &self.info);
+            if let Err(message) = detector.start() {
+                detector.failure = Some(message);
+            }
+            detector
+        }))
+    }
+}
+
 /// A running external detector: one program speaking the protocol.
 pub struct ExternalDetector {
     program: ExternalProgram,
@@ -490,8 +544,17 @@ impl ExternalDetector {
         check_stream(info)?;
         let path = find_program(&program.command)
             .map_err(|message| ParamError::new(ID, "command", &program.command, message))?;
+        let mut detector = ExternalDetector::unstarted(program, path, info);
+        detector.start().map_err(|message| {
+            ParamError::new(ID, "command", &detector.program.command, message)
+        })?;
+        Ok(detector)
+    }
+
+    /// A detector for `program` (found at `path`) that has not started it yet.
+    fn unstarted(program: ExternalProgram, path: PathBuf, info: &StreamInfo) -> ExternalDetector {
         let label = program.label();
-        let mut detector = ExternalDetector {
+        ExternalDetector {
             program,
             path,
             info: *info,
@@ -502,11 +565,7 @@ impl ExternalDetector {
             sent_instants: 0,
             answered_blocks: 0,
             last_t_s: 0.0,
-        };
-        detector.start().map_err(|message| {
-            ParamError::new(ID, "command", &detector.program.command, message)
-        })?;
-        Ok(detector)
+        }
     }
 
     /// The name the program gave in READY (empty when it gave none).

@@ -23,7 +23,7 @@
 //! hit. Richards recommends rank ≈ 0.75·N (the default, 12 of 16) for an
 //! extra loss of a few tenths of a dB over cell averaging in uniform noise.
 //! The order statistic is found by selection (`select_nth_unstable_by`) in a
-//! scratch row made in `build`: linear on average, no sort, no allocation.
+//! scratch row made with each state: linear on average, no sort, no allocation.
 //!
 //! **Edges and streams.** As the `ca-cfar` detector and the reference
 //! pipeline: every CUT has exactly N cells. For real streams (one-sided
@@ -72,8 +72,8 @@ mod closed_form;
 pub use closed_form::{os_multiplier, os_pfa, os_ratio, NOISE_FLOOR};
 
 use echobench_core::detector::{
-    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
-    Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, DopplerBand,
+    ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::{
     self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
@@ -83,6 +83,7 @@ use echobench_core::param_decl::{ChoiceParam, IntegerParam, RealParam};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::cfar_cells::{CellPlan, DopplerAxis};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
+use std::sync::Arc;
 
 /// The plugin id used in suite files.
 pub const ID: &str = "os-cfar";
@@ -298,7 +299,7 @@ impl OsCfarConfig {
 struct Layout {
     channels: Channels,
     axis: DopplerAxis,
-    plan: CellPlan,
+    plan: Arc<CellPlan>,
 }
 
 fn refuse(param: &str, value: impl std::fmt::Display, message: impl Into<String>) -> ParamError {
@@ -390,16 +391,20 @@ fn validate(c: &OsCfarConfig, info: &StreamInfo) -> Result<Layout, ParamError> {
     Ok(Layout {
         channels: info.channels,
         axis,
-        plan,
+        plan: plan.into(),
     })
 }
 
+#[derive(Clone)]
 enum Transform {
     Real(PowerSpectrum),
     Iq(ComplexPowerSpectrum),
 }
 
-/// A running OS-CFAR detector (what [`OsCfarPlugin::build`] returns, boxed).
+/// A running OS-CFAR detector. [`OsCfarPlugin::plan`] makes one fresh
+/// (FFT planned, cell table made) and every state is a clone of it: the FFT
+/// plan, the window and the cell table are shared, the buffers are its own.
+#[derive(Clone)]
 pub struct OsCfarDetector {
     framer: Framer,
     transform: Transform,
@@ -408,7 +413,7 @@ pub struct OsCfarDetector {
     power: Vec<f64>,
     /// The training cells of one CUT, reordered by the selection.
     cells: Vec<f64>,
-    plan: CellPlan,
+    plan: Arc<CellPlan>,
     rank: usize,
     values_per_sample: u64,
     nominal_multiplier: f64,
@@ -526,9 +531,13 @@ impl DetectorPlugin for OsCfarPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
         let config = OsCfarConfig::from_params(params, info)?;
-        Ok(Box::new(OsCfarDetector::new(&config, info)?))
+        Ok(PrototypePlan::shared(OsCfarDetector::new(&config, info)?))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {

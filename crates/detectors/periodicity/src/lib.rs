@@ -134,8 +134,8 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
-    Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, DopplerBand,
+    ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::{
     self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
@@ -356,7 +356,7 @@ static PARAMS: [ParamSpec; 18] = {
 
 /// A validated configuration: the bins, the envelope sampling and the analysis layout.
 ///
-/// [`PeriodicityPlugin::build`] and [`PeriodicityPlugin::cost`] both start
+/// [`PeriodicityPlugin::plan`] and [`PeriodicityPlugin::cost`] both start
 /// from it; it is public so a user can see what a parameter set selects.
 #[derive(Debug, Clone, PartialEq)]
 pub struct PeriodicityConfig {
@@ -725,9 +725,13 @@ impl DetectorPlugin for PeriodicityPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
         let config = PeriodicityConfig::from_params(params, info)?;
-        Ok(Box::new(PeriodicityDetector::new(config)))
+        Ok(PrototypePlan::shared(PeriodicityDetector::new(config)))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
@@ -782,16 +786,19 @@ pub struct CadenceReading {
     pub score: f64,
 }
 
+#[derive(Clone)]
 enum Spectrum {
     Real(PowerSpectrum),
     Iq(ComplexPowerSpectrum),
 }
 
-/// Everything but the framer, so the framer's callback can borrow it.
+/// Everything but the framer, so the framer's callback can borrow it. The
+/// tables (`Arc`) are shared by every state of a plan; the rest is its own.
+#[derive(Clone)]
 struct State {
     spectrum: Spectrum,
     power: Vec<f64>,
-    motion_bins: Vec<usize>,
+    motion_bins: Arc<[usize]>,
     /// Log-power envelopes: row = frame index mod W, column = motion bin.
     envelopes: Vec<f64>,
     frames_seen: u64,
@@ -800,9 +807,9 @@ struct State {
     values_per_sample: u64,
     sample_rate_hz: f64,
     /// Periodic Hann window over the analysis frames.
-    analysis_window: Vec<f64>,
+    analysis_window: Arc<[f64]>,
     /// n − (W−1)/2, for the least-squares slope.
-    centred_ramp: Vec<f64>,
+    centred_ramp: Arc<[f64]>,
     ramp_energy: f64,
     analysis_window_energy: f64,
     modulation_fft: Arc<dyn RealToComplex<f64>>,
@@ -811,7 +818,7 @@ struct State {
     modulation_scratch: Vec<Complex<f64>>,
     /// Σ_k |E_k(f)|², then C(f) after the decision.
     cadence_spectrum: Vec<f64>,
-    noise_spectrum: Vec<f64>,
+    noise_spectrum: Arc<[f64]>,
     step_range: (usize, usize),
     line_range: (usize, usize),
     modulation_resolution_hz: f64,
@@ -828,7 +835,7 @@ impl State {
         let row = (self.frames_seen % self.analysis_frames as u64) as usize * m;
         for (e, &k) in self.envelopes[row..row + m]
             .iter_mut()
-            .zip(&self.motion_bins)
+            .zip(self.motion_bins.iter())
         {
             *e = (self.power[k] + LOG_FLOOR_V2).ln();
         }
@@ -885,7 +892,11 @@ impl State {
             }
         }
         let normalisation = 1.0 / (m as f64 * self.analysis_window_energy);
-        for (c, s) in self.cadence_spectrum.iter_mut().zip(&self.noise_spectrum) {
+        for (c, s) in self
+            .cadence_spectrum
+            .iter_mut()
+            .zip(self.noise_spectrum.iter())
+        {
             *c *= normalisation / s;
         }
         let peak = |(first, last): (usize, usize), spectrum: &[f64]| {
@@ -915,7 +926,10 @@ impl State {
     }
 }
 
-/// A running periodicity detector for one stream.
+/// A running periodicity detector for one stream. [`PeriodicityPlugin::plan`]
+/// makes one fresh and every state is a clone of it (both FFT plans, the
+/// windows, the bin table and the noise spectrum shared, buffers its own).
+#[derive(Clone)]
 pub struct PeriodicityDetector {
     framer: Framer,
     state: State,
@@ -946,7 +960,7 @@ impl PeriodicityDetector {
                 spectrum,
                 power: vec![0.0; config.layout().bin_count()],
                 envelopes: vec![0.0; w * config.motion_bins.len()],
-                motion_bins: config.motion_bins.clone(),
+                motion_bins: config.motion_bins.clone().into(),
                 frames_seen: 0,
                 analysis_frames: w,
                 decision_frames: config.decision_frames,
@@ -954,14 +968,14 @@ impl PeriodicityDetector {
                 sample_rate_hz: config.sample_rate_hz,
                 ramp_energy: centred_ramp.iter().map(|r| r * r).sum::<f64>().max(1e-300),
                 analysis_window_energy: analysis_window.iter().map(|a| a * a).sum(),
-                analysis_window,
-                centred_ramp,
+                analysis_window: analysis_window.into(),
+                centred_ramp: centred_ramp.into(),
                 modulation_input: modulation_fft.make_input_vec(),
                 modulation_output: modulation_fft.make_output_vec(),
                 modulation_scratch: modulation_fft.make_scratch_vec(),
                 modulation_fft,
                 cadence_spectrum: vec![0.0; config.modulation_fft_len / 2 + 1],
-                noise_spectrum,
+                noise_spectrum: noise_spectrum.into(),
                 step_range: config.step_range,
                 line_range: config.line_range,
                 modulation_resolution_hz: config.envelope_rate_hz

@@ -28,8 +28,10 @@
 
 // The plugin interface and the parameter machinery, from the core crate.
 use echobench_core::detector::{
-    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, ParamError, ParamSpec, Params,
+    PrototypePlan, Samples,
 };
+use std::sync::Arc;
 // The typed parameter declarations: one `const` per parameter.
 use echobench_core::param_decl::RealParam;
 // The stream description, the score type and the channel kinds.
@@ -65,7 +67,7 @@ static PARAMS: [ParamSpec; 1] = [FRAME_S.spec()];
 /// The template detector's plugin (id `template`): what the registry lists.
 pub struct TemplatePlugin;
 
-// The plugin trait: identity, parameters, and how to build and cost a detector.
+// The plugin trait: identity, parameters, and how to plan and cost a detector.
 impl DetectorPlugin for TemplatePlugin {
     // The id used in suite files.
     fn id(&self) -> &'static str {
@@ -85,18 +87,27 @@ impl DetectorPlugin for TemplatePlugin {
         &PARAMS
     }
 
-    // Checks the parameters against the stream and makes a running detector.
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+    // Checks the parameters against the stream and plans the detector: made
+    // once per stream shape and shared by every worker thread, which starts
+    // its own state from it and resets that state between trials.
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
         // All checks live in one place, shared with `check` and `cost`.
         let config = Config::from_params(params, info)?;
-        // A fresh detector, boxed behind the trait.
-        Ok(Box::new(TemplateDetector::new(config)))
+        // The plan keeps one fresh detector and starts clones of it. A
+        // detector with costly parts that never change (an FFT plan, a
+        // window, a table) makes them here, in `new`, behind an `Arc`, so
+        // the clones share them (see `echobench-detector-dsp`'s spectra).
+        Ok(PrototypePlan::shared(TemplateDetector::new(config)))
     }
 
-    // The refusals `build` would give, without building: the suite loader
+    // The refusals `plan` would give, without planning: the suite loader
     // calls this for every stream of a suite before any trial runs.
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
-        // The same checks as `build`, in the one place they live.
+        // The same checks as `plan`, in the one place they live.
         Config::from_params(params, info).map(|_| ())
     }
 
@@ -115,7 +126,7 @@ impl DetectorPlugin for TemplatePlugin {
     }
 }
 
-/// Checked parameters: what `build`, `check` and `cost` agree on.
+/// Checked parameters: what `plan`, `check` and `cost` agree on.
 #[derive(Debug, Clone, Copy)]
 struct Config {
     // Frame length converted to whole samples (at least 1). No sample rate:
@@ -179,7 +190,8 @@ impl Config {
     }
 }
 
-/// A running template detector: the state for one stream.
+/// A running template detector: the state for one stream. `Clone`, because
+/// the plan starts each state as a clone of a fresh one.
 #[derive(Debug, Clone)]
 struct TemplateDetector {
     // The checked parameters.
@@ -239,7 +251,7 @@ impl Detector for TemplateDetector {
         block: Samples<'_>,
         out: &mut Vec<FrameScore>,
     ) -> Result<(), DetectorFailure> {
-        // The block's samples: `build` refused I/Q streams, so these are real
+        // The block's samples: `plan` refused I/Q streams, so these are real
         // (`values()` would interleave I, Q; `match block` tells them apart).
         let block = block.values();
         // One sample at a time.
@@ -285,7 +297,7 @@ impl Detector for TemplateDetector {
         Ok(())
     }
 
-    // Back to the state of a freshly built detector.
+    // Back to the state the plan starts: the runner calls this between trials.
     fn reset(&mut self) {
         // Same as new, with the same parameters.
         *self = TemplateDetector::new(self.config);
@@ -302,14 +314,14 @@ mod tests {
     // Test helpers from core: score checks, a test stream, parameter values.
     use echobench_core::detector::{check_scores, test_stream, ParamValue};
 
-    // Builds a detector with some parameters given by name.
+    // Plans a detector with some parameters given by name and starts a state.
     fn build(frame_s: f64, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
         // The suite would give (name, value) pairs like this.
         let given = [("frame_s".to_string(), ParamValue::Real(frame_s))];
         // Fill defaults and check ranges, as the harness does.
         let params = Params::resolve(ID, &PARAMS, &given)?;
-        // Then build.
-        TemplatePlugin.build(&params, info)
+        // Then plan, and start one state from the plan.
+        Ok(TemplatePlugin.plan(&params, info)?.start())
     }
 
     // Feeds `samples` in blocks of `block` and collects the scores.

@@ -63,12 +63,13 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    BandRole, Cost, Detector, DetectorFailure, DetectorPlugin, DopplerBand, ParamError, ParamSpec,
-    Params, Samples,
+    BandRole, Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, DopplerBand,
+    ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::{self, BandParams};
 use echobench_core::param_decl::RealParam;
 use echobench_core::{Channels, FrameScore, StreamInfo};
+use std::sync::Arc;
 
 /// The plugin's id in suite files.
 const ID: &str = "window-comparator";
@@ -161,9 +162,13 @@ impl DetectorPlugin for WindowComparatorPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
         let config = Config::from_params(params, info)?;
-        Ok(Box::new(WindowComparator::new(&config)))
+        Ok(PrototypePlan::shared(WindowComparator::new(&config)))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {

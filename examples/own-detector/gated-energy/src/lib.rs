@@ -16,11 +16,12 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::{
-    Cost, Detector, DetectorFailure, DetectorPlugin, FrameScore, ParamError, ParamSpec, Params,
-    Samples,
+    Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, FrameScore, ParamError,
+    ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::param_decl::RealParam;
 use echobench_core::{Channels, StreamInfo};
+use std::sync::Arc;
 
 const ID: &str = "gated-energy";
 
@@ -63,10 +64,14 @@ impl DetectorPlugin for GatedEnergyPlugin {
         &PARAMS
     }
 
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(GatedEnergy::new(Config::from_params(
-            params, info,
-        )?)))
+    fn plan(
+        &self,
+        params: &Params,
+        info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+        Ok(PrototypePlan::shared(GatedEnergy::new(
+            Config::from_params(params, info)?,
+        )))
     }
 
     fn check(&self, params: &Params, info: &StreamInfo) -> Result<(), ParamError> {
