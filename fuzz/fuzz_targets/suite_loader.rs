@@ -8,8 +8,7 @@ fuzz_target!(|data: &[u8]| {
     if let Ok(text) = std::str::from_utf8(data) {
         let plugins = echobench_detectors::with_external(true);
         let folder = concat!(env!("CARGO_MANIFEST_DIR"), "/../scenarios");
-        let source = echobench_harness::suite_file::FolderSource::new(folder);
-        let _ =
-            echobench_harness::suite_file::load_suite_text("fuzz.yaml", text, &source, &plugins);
+        let source = echobench_suite::FolderSource::new(folder);
+        let _ = echobench_suite::load_suite_text("fuzz.yaml", text, &source, &plugins);
     }
 });

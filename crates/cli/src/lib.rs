@@ -15,9 +15,9 @@
 //! `external` plugin is always added last, allowed to run programs only with `--allow-exec`.
 //!
 //! **Key design decision: this crate parses arguments and prints; it holds no logic a
-//! library user would need.** Loading is `echobench-harness::suite_file`, running is
-//! `echobench-harness::runner`, the run folder's files are `echobench-run-files`, the report
-//! is `echobench-report`. The `echobench` binary is [`main_with`] on the built-ins.
+//! library user would need.** Loading is `echobench-suite`, running and scoring are
+//! `echobench-harness`, the run folder's files are `echobench-run-files`, the report is
+//! `echobench-report`. The `echobench` binary is [`main_with`] on the built-ins.
 #![deny(missing_docs)]
 
 // First, so that its `print!` family shadows std's in everything below (quiet on closed pipes).
@@ -352,12 +352,11 @@ fn load_suite(
     plugins: &Plugins,
     path: Option<&Path>,
     allow_exec: bool,
-) -> Result<echobench_harness::suite::Suite> {
+) -> Result<echobench_suite::Suite> {
     let plugins = plugins.with_external(allow_exec);
     let loaded = match path {
-        Some(p) => echobench_harness::suite_file::load_suite_file(p, &plugins),
-        None => echobench_harness::suite_file::default_suite(&plugins)
-            .map(|suite| (suite, Default::default())),
+        Some(p) => echobench_suite::load_suite_file(p, &plugins),
+        None => echobench_suite::default_suite(&plugins).map(|suite| (suite, Default::default())),
     };
     match loaded {
         Ok((suite, warnings)) => {
@@ -375,7 +374,7 @@ fn load_suite(
 fn suite_text(path: Option<&Path>) -> Result<String> {
     match path {
         Some(p) => std::fs::read_to_string(p).with_context(|| format!("reading {}", p.display())),
-        None => Ok(echobench_harness::suite_file::DEFAULT_SUITE_YAML.to_string()),
+        None => Ok(echobench_suite::DEFAULT_SUITE_YAML.to_string()),
     }
 }
 
@@ -392,7 +391,7 @@ fn new_run_folder(suite_name: &str) -> PathBuf {
 fn write_run_outputs(
     plugins: &Plugins,
     staging: echobench_run_folder::Staging,
-    suite: &echobench_harness::suite::Suite,
+    suite: &echobench_suite::Suite,
     suite_text: &str,
     tallies: &echobench_harness::runner::Tallies,
     timing: Option<&echobench_harness::runner::Timing>,
@@ -965,7 +964,7 @@ fn run_check(plugins: &Plugins, files: &[PathBuf]) -> Result<ExitCode> {
         if is_suite_file(file) {
             // `check` never runs a program, so `external` detectors are checked as if allowed.
             let plugins = plugins.with_external(true);
-            match echobench_harness::suite_file::load_suite_file(file, &plugins) {
+            match echobench_suite::load_suite_file(file, &plugins) {
                 Ok((suite, warnings)) => {
                     eprint!("{}", shown(&warnings));
                     // Every limit `run` applies; the allow-exec gate only as a note.

@@ -8,7 +8,7 @@
 //! `scene @ 6` in tables).
 
 use crate::ExplainError;
-use echobench_harness::suite::Suite;
+use echobench_suite::Suite;
 
 /// What a calibration key starts with (the prefix of its scene id in the seed).
 pub const CALIBRATION_PREFIX: &str = "calibration/";

@@ -41,13 +41,13 @@ use echobench_harness::events::{TrialEventScore, TrialTruth};
 use echobench_harness::runner::{
     alarm_logic, DetectorTally, Tallies, TrialOutcome, SCHEMA_VERSION,
 };
-use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{
+use echobench_harness::summary::rate_label;
+use echobench_report::plot::format_number;
+use echobench_suite::Suite;
+use echobench_suite::{
     load_suite_text, EmbeddedSource, FolderSource, SceneSource, DEFAULT_SUITE_FILE_NAME,
     DEFAULT_SUITE_SOURCE, DEFAULT_SUITE_YAML,
 };
-use echobench_harness::summary::rate_label;
-use echobench_report::plot::format_number;
 use std::path::Path;
 
 /// Why a trial cannot be explained. Every variant says what to change.

@@ -9,7 +9,7 @@ use echobench_core::detector::{
 use echobench_core::{Score, StreamInfo};
 use echobench_harness::runner::trial_key;
 use echobench_harness::signal::{SignalTruth, TrialSignal};
-use echobench_harness::suite::Suite;
+use echobench_suite::Suite;
 use std::panic::{catch_unwind, AssertUnwindSafe};
 
 /// Sample instants per block fed to the detectors: the runner's block. Detectors give
@@ -55,15 +55,10 @@ pub(crate) fn resolve_detector<'a>(
             label: label.to_string(),
             message: format!("no plugin `{}` among those given", entry.plugin),
         })?;
-    let params = Params::resolve(&entry.label, plugin.params(), &entry.params).map_err(|e| {
-        ExplainError::Detector {
-            label: label.to_string(),
-            message: e.to_string(),
-        }
-    })?;
+    // The parameters the suite loader resolved, as the runner takes them.
     Ok(ReplayDetector {
         plugin: *plugin,
-        params,
+        params: entry.resolved.clone(),
     })
 }
 

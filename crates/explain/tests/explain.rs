@@ -8,8 +8,8 @@ use echobench_explain::{
     PickKind, TrialRef, MAX_GALLERY_PICTURES,
 };
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies, TrialOutcome};
-use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{load_suite_text, FolderSource};
+use echobench_suite::Suite;
+use echobench_suite::{load_suite_text, FolderSource};
 
 const SUITE: &str = r#"
 name: explain-check

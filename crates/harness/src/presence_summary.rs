@@ -8,10 +8,10 @@
 //! 1997), because it is a sum of episodes of unequal length, not a count.
 
 use crate::runner::{DetectorTally, VariantTally};
-use crate::suite::PresenceOutput;
 use crate::summary::{Estimate, CONFIDENCE};
 use echobench_core::atomic::write_atomically;
 use echobench_presence::{LatencyQuantile, OccupiedKind, PresenceTally, RateEstimate, Timer};
+use echobench_suite::PresenceOutput;
 use serde::{Deserialize, Serialize};
 use std::io;
 use std::path::Path;

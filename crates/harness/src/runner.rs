@@ -18,7 +18,6 @@
 
 use crate::events::{score_thresholds, AlarmLogic, MOfN, MatchWindow, TrialTruth};
 use crate::signal::TrialSignal;
-use crate::suite::{PresenceOutput, SceneLabel, Suite};
 use echobench_core::detector::{
     check_scores, Detector, DetectorPlugin, FrameScore, Params, Samples,
 };
@@ -27,6 +26,7 @@ use echobench_core::{Interval, Score};
 use echobench_presence::{
     false_switch_ons_at, score_trial, statistic_frames, PresenceTally, PresenceTruth, Timer,
 };
+use echobench_suite::{PresenceOutput, SceneLabel, Suite};
 use echobench_tail::TailAccumulator;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -237,7 +237,7 @@ pub struct VariantTally {
     #[serde(default)]
     pub sweep_field: Option<String>,
     /// The swept field's unit by the project's naming rule (the suffix of its name,
-    /// `crate::suite::unit_of_field`), when it has one.
+    /// `echobench_suite::unit_of_field`), when it has one.
     #[serde(default)]
     pub sweep_unit: Option<String>,
     /// `target`, `nuisance` (a room) or `event` (a rare event, scored per occurrence).
@@ -413,10 +413,12 @@ impl std::fmt::Display for RunError {
 
 impl std::error::Error for RunError {}
 
-/// Resolves the suite's detectors against the available plugins.
+/// The suite's detectors with their plugins, each configured with the parameters the suite
+/// loader resolved (kept in [`echobench_suite::DetectorEntry::resolved`]; they are not
+/// resolved a second time here).
 ///
 /// # Errors
-/// An unknown plugin id or a refused parameter (the suite loader catches these first).
+/// A detector whose plugin is not among `plugins` (a suite loaded with other plugins).
 pub fn resolve_detectors<'a>(
     suite: &Suite,
     plugins: &[&'a dyn DetectorPlugin],
@@ -434,12 +436,10 @@ pub fn resolve_detectors<'a>(
                         entry.label, entry.plugin
                     ))
                 })?;
-            let params = Params::resolve(&entry.label, plugin.params(), &entry.params)
-                .map_err(|e| RunError(e.to_string()))?;
             Ok(RunDetector {
                 label: entry.label.clone(),
                 plugin: *plugin,
-                params,
+                params: entry.resolved.clone(),
                 pinned: BTreeMap::new(),
             })
         })
@@ -1615,7 +1615,7 @@ fn rooms_of(suite: &Suite, grid_len: usize) -> Vec<RoomCounts> {
 /// does. A product without nuisance rooms falls back to the pooled rule.
 fn choose_operating_point(
     target: f64,
-    rule: crate::suite::ThresholdRule,
+    rule: echobench_suite::ThresholdRule,
     thresholds: &[f64],
     pooled_false_alarms: &[u64],
     pooled_exposure_ns: u64,
@@ -1627,7 +1627,7 @@ fn choose_operating_point(
         hours > 0.0 && false_alarms as f64 / hours <= target
     };
     let measured: Vec<&RoomCounts> = rooms.iter().filter(|r| r.exposure_ns > 0).collect();
-    let worst_room = rule == crate::suite::ThresholdRule::WorstRoom && !measured.is_empty();
+    let worst_room = rule == echobench_suite::ThresholdRule::WorstRoom && !measured.is_empty();
     let top = thresholds.len() - 1;
     let grid_index = if worst_room {
         (0..thresholds.len())
@@ -1669,9 +1669,9 @@ fn choose_operating_point(
         calibration_false_alarms: pooled_false_alarms[grid_index],
         calibration_exposure_ns: pooled_exposure_ns,
         rule: if worst_room {
-            crate::suite::ThresholdRule::WorstRoom.name().into()
+            echobench_suite::ThresholdRule::WorstRoom.name().into()
         } else {
-            crate::suite::ThresholdRule::Pooled.name().into()
+            echobench_suite::ThresholdRule::Pooled.name().into()
         },
         rooms: rooms
             .iter()
@@ -2019,7 +2019,11 @@ mod tests {
         assert_eq!(t.len(), TAIL_THRESHOLDS + 1);
         // The 999 maxima above the top are 11..=1009; the largest 32 are all there.
         for k in 0..TAIL_EXACT_TOP {
-            assert!(t.contains(&(1009.0 - k as f64)), "maximum {} missing", 1009 - k);
+            assert!(
+                t.contains(&(1009.0 - k as f64)),
+                "maximum {} missing",
+                1009 - k
+            );
         }
         assert_eq!(t[0], 11.0);
         assert!(t.windows(2).all(|w| w[0] < w[1]));
@@ -2034,7 +2038,7 @@ mod tests {
     #[test]
     fn calibration_jobs_by_index_are_the_listed_jobs() {
         let plugins = echobench_detectors::builtin();
-        let suite = crate::suite_file::default_suite(&plugins).unwrap();
+        let suite = echobench_suite::default_suite(&plugins).unwrap();
         let listed = jobs(&suite, true, None);
         let by_index = CalibrationJobs::new(&suite);
         assert_eq!(by_index.len(), listed.len());
@@ -2053,7 +2057,7 @@ mod tests {
     #[test]
     fn streamed_calibration_counts_equal_the_brute_force_counts() {
         let plugins = echobench_detectors::builtin();
-        let mut suite = crate::suite_file::default_suite(&plugins)
+        let mut suite = echobench_suite::default_suite(&plugins)
             .unwrap()
             .product_view("corridor-lights-2g4");
         suite

@@ -2,11 +2,11 @@
 //! to the scene's rate when needed, and with the scene's synthesized signal mixed in at a
 //! stated gain when the suite asks for it).
 
-use crate::suite::{CaptureSource, CaptureTrial, SceneVariant};
 use echobench_capture::{CaptureReader, Resampler};
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, StreamInfo};
 use echobench_scene::Synthesizer;
+use echobench_suite::{CaptureSource, CaptureTrial, SceneVariant};
 
 /// Frames read from a recording at a time.
 const READ_FRAMES: usize = 4096;

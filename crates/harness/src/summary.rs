@@ -5,8 +5,8 @@
 //! merged set of shards gives byte-identical outputs to the unsharded run.
 
 use crate::runner::{DetectorTally, Tallies, Timing, VariantTally, SCHEMA_VERSION};
-use crate::suite::Suite;
 use echobench_core::atomic::write_atomically;
+use echobench_suite::Suite;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::io::{self, Write};
@@ -387,7 +387,7 @@ fn summarise_detector(d: &DetectorTally) -> DetectorSummary {
                 })
                 .collect();
             let pooled_hours = op.calibration_exposure_ns as f64 / 3.6e12;
-            let resolved = if op.rule == crate::suite::ThresholdRule::WorstRoom.name() {
+            let resolved = if op.rule == echobench_suite::ThresholdRule::WorstRoom.name() {
                 calibration_rooms
                     .iter()
                     .filter(|r| r.exposure_hours > 0.0)
@@ -661,14 +661,14 @@ pub fn miss_reasons(tallies: &Tallies, suite: &Suite) -> Vec<MissReason> {
     out
 }
 
-fn summarise_product(product: &crate::suite::Product, suite: &Suite) -> ProductSummary {
-    let scenes: Vec<&crate::suite::SuiteScene> = suite
+fn summarise_product(product: &echobench_suite::Product, suite: &Suite) -> ProductSummary {
+    let scenes: Vec<&echobench_suite::SuiteScene> = suite
         .scenes
         .iter()
         .filter(|s| s.product == product.name)
         .collect();
     let sensor = scenes.first().map(|s| &s.variants[0].scene.sensor);
-    let rooms = |label: crate::suite::SceneLabel, event: bool| {
+    let rooms = |label: echobench_suite::SceneLabel, event: bool| {
         scenes
             .iter()
             .filter(|s| s.label == label && s.occurrences_per_day.is_some() == event)
@@ -690,9 +690,9 @@ fn summarise_product(product: &crate::suite::Product, suite: &Suite) -> ProductS
             _ => "real".into(),
         },
         threshold_rule: suite.scoring.threshold_rule.name().into(),
-        target_scenes: rooms(crate::suite::SceneLabel::Target, false),
-        nuisance_scenes: rooms(crate::suite::SceneLabel::Nuisance, false),
-        rare_events: rooms(crate::suite::SceneLabel::Nuisance, true),
+        target_scenes: rooms(echobench_suite::SceneLabel::Target, false),
+        nuisance_scenes: rooms(echobench_suite::SceneLabel::Nuisance, false),
+        rare_events: rooms(echobench_suite::SceneLabel::Nuisance, true),
     }
 }
 
@@ -1283,7 +1283,7 @@ pub fn calibration_statements(
         })
         .unwrap_or_default();
     let worst_room =
-        first_op.is_some_and(|o| o.rule == crate::suite::ThresholdRule::WorstRoom.name());
+        first_op.is_some_and(|o| o.rule == echobench_suite::ThresholdRule::WorstRoom.name());
     let (low, high) = hours
         .iter()
         .fold((f64::INFINITY, 0.0f64), |(l, h), x| (l.min(*x), h.max(*x)));

@@ -5,9 +5,9 @@
 
 use echobench_capture::{write_labels, Label};
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies};
-use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{load_suite_text, FolderSource};
 use echobench_scene::{export, synthesize, SceneSpec, StreamKey};
+use echobench_suite::Suite;
+use echobench_suite::{load_suite_text, FolderSource};
 use std::path::{Path, PathBuf};
 
 const SENSOR: &str = r#"

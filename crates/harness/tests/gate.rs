@@ -4,8 +4,8 @@
 
 use echobench_harness::gate::{gate, pin_to_baseline, GateSettings, Metric, Verdict};
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies};
-use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{default_suite, load_suite_file};
+use echobench_suite::Suite;
+use echobench_suite::{default_suite, load_suite_file};
 
 /// The default suite, cut down, with two detectors and operating points high enough that
 /// the test trials carry tens of false alarms (a gate needs counts to compare).

@@ -9,7 +9,7 @@
 //! but not what the test holds to.
 
 use echobench_harness::runner::{resolve_detectors, run_suite};
-use echobench_harness::suite_file::{load_suite_text, InlineOnly};
+use echobench_suite::{load_suite_text, InlineOnly};
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::process::Command;
 use std::sync::atomic::{AtomicUsize, Ordering};

@@ -8,8 +8,8 @@ use echobench_core::detector::{
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::presence_summary::presence_verdict;
 use echobench_harness::runner::{resolve_detectors, run_suite, DetectorTally, Tallies};
-use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{load_suite_text, InlineOnly};
+use echobench_suite::Suite;
+use echobench_suite::{load_suite_text, InlineOnly};
 /// A detector that never reaches any threshold a calibration can choose: one score of 0
 /// per block, so the grid's top (just above 0) is never reached.
 struct SilentPlugin;

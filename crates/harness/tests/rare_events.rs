@@ -7,9 +7,9 @@ use echobench_core::detector::{
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies};
-use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{load_suite_text, InlineOnly};
 use echobench_harness::summary::summarise;
+use echobench_suite::Suite;
+use echobench_suite::{load_suite_text, InlineOnly};
 /// The fraction of trials on which [`CoinPlugin`] looks at all.
 const FIRING_FRACTION: f64 = 0.3;
 

@@ -7,9 +7,9 @@ use echobench_core::detector::{
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{merge_tallies, resolve_detectors, run_suite, Shard, Tallies};
-use echobench_harness::suite::Suite;
-use echobench_harness::suite_file::{default_suite, load_suite_text, FolderSource};
 use echobench_harness::summary::{summarise, write_json, write_roc_csv};
+use echobench_suite::Suite;
+use echobench_suite::{default_suite, load_suite_text, FolderSource};
 
 fn plugins() -> Vec<&'static dyn DetectorPlugin> {
     echobench_detectors::builtin()
@@ -197,14 +197,13 @@ impl DetectorPlugin for NanPlugin {
 fn a_panicking_or_nan_detector_is_reported_and_the_others_complete() {
     let mut suite = small_default(2, 1);
     let clean = run(&suite, None, 2, &[]);
-    for (label, plugin) in [("panicking", "panicking"), ("nan", "nan")] {
-        suite
-            .detectors
-            .push(echobench_harness::suite::DetectorEntry {
-                label: label.into(),
-                plugin: plugin.into(),
-                params: vec![],
-            });
+    for plugin in [&PanickingPlugin as &dyn DetectorPlugin, &NanPlugin] {
+        suite.detectors.push(echobench_suite::DetectorEntry {
+            label: plugin.id().into(),
+            plugin: plugin.id().into(),
+            params: vec![],
+            resolved: Params::defaults(plugin.params()),
+        });
     }
     let tallies = run(&suite, None, 2, &[&PanickingPlugin, &NanPlugin]);
     // The last product's last two detectors.
@@ -394,9 +393,9 @@ fn detection_falls_with_range_at_a_fixed_threshold() {
     let mut suite = small_default(6, 2);
     // The range sweep plus the nuisance scenes, so that thresholds are calibrated
     // on nuisance time as in the default suite.
-    suite.scenes.retain(|s| {
-        s.sweep_field.is_some() || s.label == echobench_harness::suite::SceneLabel::Nuisance
-    });
+    suite
+        .scenes
+        .retain(|s| s.sweep_field.is_some() || s.label == echobench_suite::SceneLabel::Nuisance);
     suite.detectors.retain(|d| d.label == "energy");
     let tallies = run(&suite, None, 2, &[]);
     let d = &tallies.detectors[0];

@@ -3,9 +3,9 @@
 //! miss reason the summary prints goes away when its cause is removed.
 
 use echobench_harness::runner::{resolve_detectors, run_suite, DetectorTally, Tallies};
-use echobench_harness::suite::{SceneLabel, Suite, ThresholdRule};
-use echobench_harness::suite_file::default_suite;
 use echobench_harness::summary::{miss_reasons, MissReason};
+use echobench_suite::default_suite;
+use echobench_suite::{SceneLabel, Suite, ThresholdRule};
 
 fn run(suite: &Suite) -> Tallies {
     let plugins = echobench_detectors::builtin();
@@ -152,14 +152,14 @@ fn out_of_band_goes_away_with_the_band_in_metres_per_second() {
     // band-ratio with the old Hz bands on the 24 GHz module: the walker's torso is in its
     // nuisance band, which the loader's coverage check finds.
     let plugins = echobench_detectors::builtin();
-    let text = echobench_harness::suite_file::DEFAULT_SUITE_YAML.replace(
+    let text = echobench_suite::DEFAULT_SUITE_YAML.replace(
         "  - registered: all\n",
         "  - plugin: band-ratio\n    params: {band_units: hz, motion_low_hz: 10, motion_high_hz: 80, reference_low_hz: 100, reference_high_hz: 400}\n",
     );
-    let (in_hz, _) = echobench_harness::suite_file::load_suite_text(
-        echobench_harness::suite_file::DEFAULT_SUITE_FILE_NAME,
+    let (in_hz, _) = echobench_suite::load_suite_text(
+        echobench_suite::DEFAULT_SUITE_FILE_NAME,
         &text,
-        &echobench_harness::suite_file::EmbeddedSource::default_suite(),
+        &echobench_suite::EmbeddedSource::default_suite(),
         &plugins,
     )
     .unwrap();
@@ -224,10 +224,10 @@ scoring: {target_false_alarms_per_hour: [60]}
 #[test]
 fn out_of_range_goes_away_closer_in() {
     let plugins = echobench_detectors::builtin();
-    let (suite, _) = echobench_harness::suite_file::load_suite_text(
+    let (suite, _) = echobench_suite::load_suite_text(
         "weak-corridor.yaml",
         WEAK_CORRIDOR,
-        &echobench_harness::suite_file::EmbeddedSource::default_suite(),
+        &echobench_suite::EmbeddedSource::default_suite(),
         &plugins,
     )
     .unwrap();

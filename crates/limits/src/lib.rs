@@ -10,7 +10,7 @@
 
 #![deny(missing_docs)]
 
-use echobench_harness::suite::{CaptureSource, Suite};
+use echobench_suite::{CaptureSource, Suite};
 use std::path::{Path, PathBuf};
 
 /// Most trials (test and calibration, every scene variant) one suite may ask for.
@@ -281,7 +281,7 @@ mod tests {
     #[test]
     fn the_default_suite_is_counted_from_its_file_and_passes_every_cap() {
         let plugins = echobench_detectors::builtin();
-        let suite = echobench_harness::suite_file::default_suite(&plugins).unwrap();
+        let suite = echobench_suite::default_suite(&plugins).unwrap();
         let w = Workload::of(&suite);
         // Recount by hand from the suite: trials × variants × duration, scene by scene.
         let (mut trials, mut signal_s) = (0u64, 0.0f64);

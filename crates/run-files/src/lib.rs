@@ -18,9 +18,9 @@
 #![deny(missing_docs)]
 
 use echobench_harness::runner::{Tallies, Timing, SCHEMA_VERSION};
-use echobench_harness::suite::Suite;
 use echobench_harness::summary::{self, Summary};
 use echobench_run_folder::fault_point;
+use echobench_suite::Suite;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 

@@ -8,9 +8,9 @@ use echobench_core::detector::{
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{resolve_detectors, run_suite};
-use echobench_harness::suite_file::{load_suite_text, FolderSource};
 use echobench_harness::summary::summarise;
 use echobench_report::RunFolder;
+use echobench_suite::{load_suite_text, FolderSource};
 use std::sync::OnceLock;
 
 /// A suite small enough to run in about a second: a walker at two start ranges, a desk fan,

@@ -12,16 +12,16 @@
 //! must carry a line and column: an error a user cannot find is a bug.
 #![deny(missing_docs)]
 
-use echobench_core::detector::{Cost, DetectorPlugin, ParamError, Params};
+use echobench_core::detector::{Cost, DetectorPlugin, ParamError, ParamValue, Params};
 use echobench_core::{Channels, StreamInfo};
-use echobench_harness::suite::{SceneLabel, Suite};
-use echobench_harness::suite_file::{
-    default_suite, load_suite_file, load_suite_text, EmbeddedSource, InlineOnly,
-    DEFAULT_SUITE_FILE_NAME, DEFAULT_SUITE_SCENES, DEFAULT_SUITE_SOURCE, DEFAULT_SUITE_YAML,
-};
 use echobench_scene::actors::{ActorKind, Route};
 use echobench_scene::param::Param;
 use echobench_scene::SceneSpec;
+use echobench_suite::{
+    default_suite, load_suite_file, load_suite_text, EmbeddedSource, InlineOnly,
+    DEFAULT_SUITE_FILE_NAME, DEFAULT_SUITE_SCENES, DEFAULT_SUITE_SOURCE, DEFAULT_SUITE_YAML,
+};
+use echobench_suite::{SceneLabel, Suite};
 use echobench_yaml_reader::{parse, Limits, Node, Report, Severity, Value};
 use rand_chacha::rand_core::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -115,7 +115,7 @@ fn load_default() -> (Suite, Report) {
     .unwrap_or_else(|report| panic!("the default suite does not load:\n{report}"))
 }
 
-fn scene<'s>(suite: &'s Suite, id: &str) -> &'s echobench_harness::suite::SuiteScene {
+fn scene<'s>(suite: &'s Suite, id: &str) -> &'s echobench_suite::SuiteScene {
     suite
         .scenes
         .iter()
@@ -192,14 +192,68 @@ fn the_default_suite_holds_every_builtin_detector_once_and_the_rectangular_cfar(
     // No overlap: the hop equals the frame, so frames are independent in white noise.
     let rect = &suite.detectors[7];
     assert_eq!(rect.plugin, "ca-cfar");
-    let params = Params::resolve(
-        "ca-cfar",
-        echobench_detector_ca_cfar::CaCfarPlugin.params(),
-        &rect.params,
-    )
-    .expect("valid");
-    assert_eq!(params.text("window"), "rect");
-    assert_eq!(params.integer("hop"), params.integer("frame_len"));
+    assert_eq!(
+        value(&rect.resolved, "window"),
+        ParamValue::Text("rect".into())
+    );
+    assert_eq!(
+        value(&rect.resolved, "hop"),
+        value(&rect.resolved, "frame_len")
+    );
+}
+
+/// A resolved parameter's value.
+fn value(params: &Params, name: &str) -> ParamValue {
+    params
+        .iter()
+        .find(|(n, _)| *n == name)
+        .map(|(_, v)| v.clone())
+        .unwrap_or_else(|| panic!("no parameter `{name}`"))
+}
+
+/// Every resolved parameter, by name.
+fn values(params: &Params) -> Vec<(&'static str, ParamValue)> {
+    params.iter().map(|(n, v)| (n, v.clone())).collect()
+}
+
+#[test]
+fn each_detector_entry_carries_the_parameters_resolved_at_load() {
+    let (suite, _) = load_default();
+    let plugins = plugins();
+    for entry in &suite.detectors {
+        let plugin = plugins.iter().find(|p| p.id() == entry.plugin).unwrap();
+        // What the runner configures the detector with is what resolving the entry's
+        // written parameters gives: the suite's values where set, the defaults elsewhere.
+        let again = Params::resolve(plugin.id(), plugin.params(), &entry.params).expect("valid");
+        assert_eq!(entry.resolved, again, "{}", entry.label);
+        for spec in plugin.params() {
+            let written = entry.params.iter().find(|(name, _)| name == spec.name);
+            assert_eq!(entry.resolved.is_given(spec.name), written.is_some());
+        }
+    }
+    // The rectangular CA-CFAR sets three parameters; every other one keeps its default.
+    let rect = suite
+        .detectors
+        .iter()
+        .find(|d| d.label == "ca-cfar-rect")
+        .unwrap();
+    let defaults = Params::defaults(echobench_detector_ca_cfar::CaCfarPlugin.params());
+    assert_ne!(values(&rect.resolved), values(&defaults));
+    assert_eq!(
+        value(&defaults, "window"),
+        ParamValue::Text("hann".into()),
+        "the default window is not the suite's"
+    );
+    assert_eq!(
+        value(&rect.resolved, "window"),
+        ParamValue::Text("rect".into())
+    );
+    let plain = suite
+        .detectors
+        .iter()
+        .find(|d| d.label == "ca-cfar")
+        .unwrap();
+    assert_eq!(values(&plain.resolved), values(&defaults));
 }
 
 /// True when the scene holds an actor of `kind` (`walker`, `fan`, ...).
@@ -658,7 +712,7 @@ detectors:
     let (suite, report) = load_suite_text(
         "far.yaml",
         text,
-        &echobench_harness::suite_file::FolderSource::new(&scenes),
+        &echobench_suite::FolderSource::new(&scenes),
         &plugins(),
     )
     .unwrap_or_else(|report| panic!("warnings only:\n{report}"));

@@ -1,4 +1,4 @@
-//! Suite files: which scenes, how many trials, which detectors, and how to score them.
+//! The suite as read: which scenes, how many trials, which detectors, and how to score them.
 //!
 //! A suite is a YAML file (or the built-in default suite). Scenes are files
 //! (paths relative to the suite file) or inline mappings, each with a label
@@ -14,7 +14,7 @@
 //! module and its detector is tuned for that module alone. A suite without `products:` is
 //! one product named after the suite.
 
-use echobench_core::detector::ParamValue;
+use echobench_core::detector::{ParamValue, Params};
 use echobench_scene::SceneSpec;
 
 /// A whole suite, read and checked.
@@ -203,7 +203,7 @@ impl SuiteScene {
 /// every quantity (`start_m[0]` → `m`, `speed_mps` → `m/s`); `None` for a name without one.
 ///
 /// ```
-/// use echobench_harness::suite::unit_of_field;
+/// use echobench_suite::unit_of_field;
 /// assert_eq!(unit_of_field("actors[0].path.start_m[0]"), Some("m"));
 /// assert_eq!(unit_of_field("actors[1].speed_mps"), Some("m/s"));
 /// assert_eq!(unit_of_field("actors[0].kind"), None);
@@ -279,8 +279,13 @@ pub struct DetectorEntry {
     pub label: String,
     /// The plugin's id.
     pub plugin: String,
-    /// Parameters set by the suite (the rest take their defaults).
+    /// Parameters set by the suite (the rest take their defaults), as written (an `external`
+    /// command's relative path already joined to the suite's folder).
     pub params: Vec<(String, ParamValue)>,
+    /// Every declared parameter's value, resolved against the plugin at load (the given
+    /// ones checked, the rest at their defaults): what the runner configures the detector
+    /// with, so parameters are resolved once.
+    pub resolved: Params,
 }
 
 /// Alarm logic, the same for every detector.
