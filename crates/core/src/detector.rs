@@ -260,8 +260,22 @@ pub trait DetectorPlugin: Send + Sync {
     /// # Errors
     /// When the parameters do not fit together or do not fit the stream
     /// (a band above Nyquist, guard cells ≥ training cells, ...).
-    fn plan(&self, params: &Params, info: &StreamInfo)
-        -> Result<Arc<dyn DetectorPlan>, ParamError>;
+    ///
+    /// (Provided only while the runner moves from `build` to `plan`: a plugin
+    /// that overrides `build` alone still runs; one that overrides neither is
+    /// refused here. It becomes required once the runner plans.)
+    fn plan(
+        &self,
+        _params: &Params,
+        _info: &StreamInfo,
+    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+        Err(ParamError::new(
+            self.id(),
+            "plan",
+            "missing",
+            "the plugin implements neither `plan` nor `build`",
+        ))
+    }
 
     /// A plan and one state started from it, for a caller that runs one
     /// stream (a replay, a test).
