@@ -13,8 +13,8 @@ const FEW: &str = "#e2e2e2";
 const FEW_MARK: &str = "#9c9c9c";
 const FIRST: &str = "#c2410c";
 const BEAM: &str = "#5b3a8c";
-const BEAM_FILL_3DB: &str = "#dcd3ec";
-const BEAM_FILL_10DB: &str = "#f1edf7";
+const BEAM_FILL_3DB: &str = "#c9bbe2";
+const BEAM_FILL_10DB: &str = "#ebe5f4";
 const FONT_PX: f64 = 11.0;
 /// Stops of the probability ramp: pale sand at 0, sage at ½, deep slate at 1 (own choice,
 /// monotone in lightness so it reads in grey too).
@@ -267,14 +267,15 @@ pub fn floor_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zo
             .end();
     }
     svg.close("g");
-    // The sensor and its boresight.
+    // The sensor and its boresight, foreshortened by the tilt (none for one looking down).
     let (sx, sy) = px([sensor.position_m[0], sensor.position_m[1]]);
     let a = sensor.azimuth_deg.to_radians();
+    let shown_px = 22.0 * sensor.elevation_deg.to_radians().cos();
     svg.tag("line")
         .px("x1", sx)
         .px("y1", sy)
-        .px("x2", sx + 22.0 * a.cos())
-        .px("y2", sy - 22.0 * a.sin())
+        .px("x2", sx + shown_px * a.cos())
+        .px("y2", sy - shown_px * a.sin())
         .attr("stroke", INK)
         .attr("stroke-width", 2)
         .end();
@@ -383,7 +384,7 @@ pub fn side_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zon
         width: reach * scale,
         height: (top_m - bottom_m) * scale,
     };
-    let width = (area.right() + 190.0).ceil();
+    let width = (area.right() + 240.0).ceil();
     let height = (area.bottom() + 48.0).ceil();
     let x_axis = Axis::linear("horizontal range from the sensor, m", 0.0, reach);
     let y_axis = Axis::linear("height, m", bottom_m, top_m);
@@ -445,7 +446,7 @@ pub fn side_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zon
                     .px("x", x0)
                     .px("y", y0)
                     .px("width", x1 - x0)
-                    .px("height", y1 - y0 + 0.3)
+                    .px("height", y1 - y0 + 0.6)
                     .attr("fill", [BEAM_FILL_3DB, BEAM_FILL_10DB][which])
                     .end();
             }
@@ -522,7 +523,7 @@ pub fn side_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zon
             .px("x2", x)
             .px("y2", y1)
             .attr("stroke", FIRST)
-            .attr("stroke-opacity", 0.35)
+            .attr("stroke-opacity", 0.5)
             .end();
     }
     // The sensor and its boresight.

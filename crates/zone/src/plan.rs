@@ -568,6 +568,16 @@ pub(crate) mod tests {
         let Err(ZoneError::Spec(problems)) = bad.check() else {
             panic!("accepted");
         };
-        assert_eq!(problems.len(), 3, "{problems:?}");
+        // Cells, walkers, and the speed twice: beyond the scene's bound and the walking model's.
+        assert_eq!(problems.len(), 4, "{problems:?}");
+        // 4.5 m/s is a legal path speed but beyond the walking model for a 1.5 m walker
+        // (3 × 0.491 × 1.5 = 2.2095 m/s).
+        let mut fast = spec();
+        fast.speed_mps = Param::Fixed(4.5);
+        let Err(ZoneError::Spec(problems)) = fast.check() else {
+            panic!("accepted");
+        };
+        assert_eq!(problems.len(), 1, "{problems:?}");
+        assert!(problems[0].contains("2.209"), "{problems:?}");
     }
 }

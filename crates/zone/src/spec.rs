@@ -192,6 +192,16 @@ impl ZoneSpec {
                 "height_m: draws must lie in [0.5, 2.5] m, found [{height_low}, {height_high}]"
             ));
         }
+        // The walking model holds for speed / thigh height up to 3, the thigh 0.491 of the
+        // body height (Boulic 1990; docs/reference/people.md#p2): the fastest draw of the
+        // shortest walker must stay inside it, or a trial would be refused mid-run.
+        let fastest_allowed = 3.0 * 0.491 * height_low;
+        if speed_high > fastest_allowed {
+            problems.push(format!(
+                "speed_mps: up to {speed_high} m/s is beyond the walking model for a \
+                 {height_low} m walker (at most {fastest_allowed:.3} m/s)"
+            ));
+        }
         if self.kinds.is_empty() {
             problems.push("kinds: at least one kind of walk".to_string());
         }
