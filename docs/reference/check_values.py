@@ -89,6 +89,10 @@ for got, q in zip(taps, [1, 0.5, 0.375, 0.3125, 0.2734375]):
     check("pc26", got, q, 1e-12)
 check("pc27", 10 * log10(4 * np.sin(2 * pi * 10 * 5 / C) ** 2), -113.6, 5e-2)
 check("pc28", log(0.5) / log(np.cos(np.radians(40))), 2.601, 5e-4)
+n80 = log(0.5) / log(np.cos(np.radians(40)))
+for level_db, q in [(-3, 28.88), (-10, 50.04)]:
+    check("pc29", np.degrees(np.arccos((10 ** (level_db / 20)) ** (1 / n80))), q, 5e-3)
+check("pc29", sqrt(np.cos(np.radians(30)) ** n80), 0.829, 5e-4)
 
 # --- detectors (cv1-cv15) ----------------------------------------------------------------
 gamma_r = stats.chi2.isf(1e-3, 16)

@@ -137,7 +137,7 @@ mod tests {
         // Sensor at 1 m looking along +x, drawn at its own height: the outline is the azimuth
         // cut. The scene's default beam is 80° one-way at −3 dB, i.e. g = 0.5 at ±40°, and
         // g = cosⁿ(az) with n = 2.601 (docs/reference/check-values.md#pc28): the two-way
-        // −3 dB level (g = 10^(−3/20)) lies at az = acos(g^(1/n)) = 28.88° (computed).
+        // −3 dB level (g = 10^(−3/20)) lies at az = acos(g^(1/n)) = 28.88° (docs/reference/check-values.md#pc29).
         let view = BeamView::new(&sensor_at([0.0, 0.0, 1.0], 0.0));
         let n = echobench_scene::radar::cos_exponent_for_width(80.0);
         let expected_deg = 10f64.powf(-3.0 / 20.0).powf(1.0 / n).acos().to_degrees();
@@ -151,6 +151,14 @@ mod tests {
             .map(|p| p[1].atan2(p[0]).to_degrees().abs())
             .fold(0.0, f64::max);
         assert!((widest - expected_deg.floor()).abs() < 1e-9, "{widest}");
+        // The −10 dB level lies at 50.04° (docs/reference/check-values.md#pc29).
+        let polygons = view.outline_on_plane(1.0, -10.0, 8.0);
+        let widest = polygons[0]
+            .iter()
+            .filter(|p| p[0].hypot(p[1]) > 1.0)
+            .map(|p| p[1].atan2(p[0]).to_degrees().abs())
+            .fold(0.0, f64::max);
+        assert_eq!(widest.round(), 50.0, "{widest}");
         // Along boresight the level is 0 dB.
         assert!(view.level_db([5.0, 0.0, 1.0]).abs() < 1e-9);
     }
