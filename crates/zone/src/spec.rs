@@ -239,7 +239,7 @@ pub enum ZoneError {
         /// When the walker entered, s.
         enter_s: f64,
     },
-    /// A walk index the plan does not hold, or one recorded twice.
+    /// A walk the plan does not hold, one recorded twice, or a first detection that is no time.
     Walk(String),
     /// Two tallies of different plans cannot be merged.
     Mismatch(String),

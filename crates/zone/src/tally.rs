@@ -99,7 +99,8 @@ impl ZoneTally {
     /// threshold (the first alarm at or after `walk.enter_s`), or `None`.
     ///
     /// # Errors
-    /// A walk not in `plan`, a walk recorded before, or a detection before the entry.
+    /// A walk not in `plan`, a walk recorded before, a time that is not finite, or a
+    /// detection before the entry.
     pub fn record(
         &mut self,
         plan: &ZonePlan,
@@ -122,7 +123,13 @@ impl ZoneTally {
             Err(slot) => slot,
         };
         let at_ns = match first_detection_s {
-            Some(t) if t.is_nan() || t < walk.enter_s => {
+            Some(t) if !t.is_finite() => {
+                return Err(ZoneError::Walk(format!(
+                    "walk {}: first detection at {t} s is not a time",
+                    walk.index
+                )))
+            }
+            Some(t) if t < walk.enter_s => {
                 return Err(ZoneError::DetectionBeforeEntry {
                     walk: walk.index,
                     at_s: t,
@@ -359,6 +366,12 @@ mod tests {
             tally.record(&plan, walk, Some(walk.enter_s - 0.1)),
             Err(ZoneError::DetectionBeforeEntry { .. })
         ));
+        for bad in [f64::NAN, f64::INFINITY] {
+            assert!(matches!(
+                tally.record(&plan, walk, Some(bad)),
+                Err(ZoneError::Walk(_))
+            ));
+        }
         tally.record(&plan, walk, None).unwrap();
         assert!(tally.record(&plan, walk, None).is_err());
     }
