@@ -35,9 +35,10 @@
 //! let plan = ZonePlan::new(&spec, &template.sensor, suite_seed)?;
 //! // per detector (label → operating threshold from the product's calibration):
 //! let mut tallies: Vec<ZoneTally> = detectors.iter().map(|_| ZoneTally::new(&plan)).collect();
-//! for walk in plan.walks() /* this shard's: walk.index by the usual shard rule */ {
-//!     let scene = plan.trial_scene(&template, walk, walk.walker_actor());
+//! for walk in plan.walks() {
 //!     let key = plan.trial_key(&product_id, walk);
+//!     // this shard's walks only: the runner's rule, key.trial_hash() % count == index - 1
+//!     let scene = plan.trial_scene(&template, walk, walk.walker_actor());
 //!     // synthesize (scene, key) once, feed every detector; for each detector the first
 //!     // alarm at its threshold at or after walk.enter_s, in seconds (None if none):
 //!     tallies[d].record(&plan, walk, first_alarm_s)?;
