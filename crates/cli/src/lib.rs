@@ -421,7 +421,7 @@ fn write_run_outputs(
     let (manifest, placement) = staging.commit(echobench_run_folder::FolderKind::Run)?;
     print!(
         "{}",
-        echobench_harness::summary::console_table(&folder.summary, timing)
+        echobench_render::console::console_table(&folder.summary, timing)
     );
     let names: Vec<&str> = manifest.files.iter().map(|f| f.name.as_str()).collect();
     println!(
@@ -587,8 +587,8 @@ fn run_gate(
     let report = echobench_harness::gate::gate(&candidate, &base, &settings)?;
     let folder = if run.is_dir() { run } else { Path::new(".") };
     let json = folder.join("gate.json");
-    let markdown_text = report.markdown();
-    let junit_text = report.junit_xml();
+    let markdown_text = echobench_render::gate::markdown(&report);
+    let junit_text = echobench_render::gate::junit_xml(&report);
     // Files going into the run folder are added as a whole-folder amendment (the folder
     // stays sealed); files named elsewhere are written one by one, atomically.
     let mut into_run: Vec<(&str, Vec<u8>)> = Vec::new();
@@ -603,8 +603,7 @@ fn run_gate(
     };
     let markdown = place(markdown, "gate.md", markdown_text.into_bytes())?;
     let junit = place(junit, "gate-junit.xml", junit_text.into_bytes())?;
-    let mut json_bytes = serde_json::to_vec_pretty(&report).context("encoding gate.json")?;
-    json_bytes.push(b'\n');
+    let json_bytes = echobench_render::json::json_bytes(&report).context("encoding gate.json")?;
     place(None, "gate.json", json_bytes)?;
     if !into_run.is_empty() {
         echobench_run_folder::amend(run, |dir| {
@@ -616,9 +615,9 @@ fn run_gate(
     print!(
         "{}",
         if all {
-            report.full_table()
+            echobench_render::gate::full_table(&report)
         } else {
-            report.table()
+            echobench_render::gate::table(&report)
         }
     );
     println!(

@@ -193,14 +193,10 @@ pub struct Check {
     pub threshold: f64,
     /// `all scenes` or a scene id.
     pub group: String,
-    /// The baseline's counts, in words (`3 in 2.10 h`, `41 of 60 events`).
-    pub baseline: String,
-    /// The candidate's counts, in words.
-    pub candidate: String,
-    /// The baseline's counts as numbers (what the words say), when the check has counts.
-    pub baseline_counts: Option<Counts>,
-    /// The candidate's counts as numbers.
-    pub candidate_counts: Option<Counts>,
+    /// The baseline's side: its counts (or the budget) as numbers, and in words.
+    pub baseline: CheckSide,
+    /// The candidate's side.
+    pub candidate: CheckSide,
     /// Candidate ÷ baseline (rates or Pd), when defined.
     pub ratio: Option<f64>,
     /// A bound: the ratio's one-sided lower bound (rate test) or the candidate rate's upper
@@ -237,6 +233,42 @@ pub struct Counts {
 
 fn counts(count: f64, of: f64, unit: &'static str) -> Option<Counts> {
     Some(Counts { count, of, unit })
+}
+
+/// One run's side of a check, as numbers and in words. In `gate.json` the numbers are
+/// fields of their own (`count`, `of`, `unit`, `rate_per_hour`) and the words are `text`
+/// only, so a reader never parses prose.
+#[derive(Debug, Clone, PartialEq, Default, Serialize)]
+pub struct CheckSide {
+    /// The counts, when the check counts (absent in JSON otherwise).
+    #[serde(flatten)]
+    pub counts: Option<Counts>,
+    /// The rate this side stands for, per hour, when it is a rate rather than counts: the
+    /// budget of a budget check, or the calibration tail's rate at the pinned threshold.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rate_per_hour: Option<f64>,
+    /// The same in words, for tables (`3 in 2.10 h`, `41 of 60 events`, `budget 2/h`).
+    pub text: String,
+}
+
+impl CheckSide {
+    /// A side of counts.
+    fn counted(text: String, counts: Option<Counts>) -> CheckSide {
+        CheckSide {
+            counts,
+            rate_per_hour: None,
+            text,
+        }
+    }
+
+    /// A side that is a rate per hour.
+    fn rate(text: String, per_hour: f64) -> CheckSide {
+        CheckSide {
+            counts: None,
+            rate_per_hour: Some(per_hour),
+            text,
+        }
+    }
 }
 
 /// Every check of a gate run.
@@ -469,10 +501,8 @@ impl OperatingRef<'_> {
             target_per_hour: self.target_per_hour,
             threshold: self.threshold,
             group: group.to_string(),
-            baseline: String::new(),
-            candidate: String::new(),
-            baseline_counts: None,
-            candidate_counts: None,
+            baseline: CheckSide::default(),
+            candidate: CheckSide::default(),
             ratio: None,
             bound: None,
             rate_bounds_per_hour: None,
@@ -632,10 +662,14 @@ fn presence_checks(
             t.false_on_episodes
         )
     };
-    check.baseline = words(b);
-    check.candidate = words(c);
-    check.baseline_counts = counts(b.false_on_ns as f64 * 1e-9, empty_h(b), "h");
-    check.candidate_counts = counts(c.false_on_ns as f64 * 1e-9, empty_h(c), "h");
+    check.baseline = CheckSide::counted(
+        words(b),
+        counts(b.false_on_ns as f64 * 1e-9, empty_h(b), "h"),
+    );
+    check.candidate = CheckSide::counted(
+        words(c),
+        counts(c.false_on_ns as f64 * 1e-9, empty_h(c), "h"),
+    );
     if b.empty_ns == 0 || c.empty_ns == 0 {
         check.note = "no empty time in this group".into();
     } else if b.false_on_episodes.min(c.false_on_episodes) < MIN_FALSE_ON_EPISODES
@@ -687,10 +721,14 @@ fn count_rise_check(
     no_exposure: &str,
 ) -> Check {
     let mut check = at.check(metric, group);
-    check.baseline = rate_words(b_count, b_hours);
-    check.candidate = rate_words(c_count, c_hours);
-    check.baseline_counts = counts(b_count as f64, b_hours, "h");
-    check.candidate_counts = counts(c_count as f64, c_hours, "h");
+    check.baseline = CheckSide::counted(
+        rate_words(b_count, b_hours),
+        counts(b_count as f64, b_hours, "h"),
+    );
+    check.candidate = CheckSide::counted(
+        rate_words(c_count, c_hours),
+        counts(c_count as f64, c_hours, "h"),
+    );
     if b_hours <= 0.0 || c_hours <= 0.0 {
         check.note = no_exposure.into();
         return check;
@@ -749,10 +787,14 @@ fn paired_check(
     let baseline_only = outcomes.iter().filter(|(b, c)| *b && !*c).count() as u64;
     let candidate_only = outcomes.iter().filter(|(b, c)| !*b && *c).count() as u64;
     // Each side counts the trials where only that run did `what`.
-    check.baseline = format!("{baseline_only} of {} trials", outcomes.len());
-    check.candidate = format!("{candidate_only} of {} trials", outcomes.len());
-    check.baseline_counts = counts(baseline_only as f64, outcomes.len() as f64, "trials");
-    check.candidate_counts = counts(candidate_only as f64, outcomes.len() as f64, "trials");
+    check.baseline = CheckSide::counted(
+        format!("{baseline_only} of {} trials", outcomes.len()),
+        counts(baseline_only as f64, outcomes.len() as f64, "trials"),
+    );
+    check.candidate = CheckSide::counted(
+        format!("{candidate_only} of {} trials", outcomes.len()),
+        counts(candidate_only as f64, outcomes.len() as f64, "trials"),
+    );
     if outcomes.is_empty() {
         check.note = "no paired trials".into();
         return check;
@@ -820,13 +862,15 @@ fn budget_check(
     s: &GateSettings,
 ) -> Check {
     let mut check = at.check(Metric::FalseAlarmBudget, "all scenes");
-    check.candidate = rate_words(c.false_alarms, c.exposure_h);
-    check.candidate_counts = counts(c.false_alarms as f64, c.exposure_h, "h");
+    check.candidate = CheckSide::counted(
+        rate_words(c.false_alarms, c.exposure_h),
+        counts(c.false_alarms as f64, c.exposure_h, "h"),
+    );
     let Some(budget) = s.budget_per_hour else {
         check.note = "the suite sets no false_alarm_budget_per_hour".into();
         return check;
     };
-    check.baseline = format!("budget {budget}/h");
+    check.baseline = CheckSide::rate(format!("budget {budget}/h"), budget);
     // Without a calibration-tail rate (a product without rooms) the test trials judge it,
     // and the note says so (the counted notes name one-sided Poisson bounds).
     if let (true, Some(t)) = (s.budget_from_tail, tail) {
@@ -857,8 +901,10 @@ fn budget_check(
 /// one-sided 97.5 % bound, so with k operating points the family's false-fail rate is at most
 /// k × 2.5 % (Bonferroni; 5 % for the usual two), and the check carries no p-value for Holm.
 fn tail_budget_check(mut check: Check, t: &crate::rare_rates::RateAt, budget: f64) -> Check {
-    check.candidate = format!("{:.4}/h in {} ({})", t.rate_per_hour, t.room, t.method);
-    check.candidate_counts = None;
+    check.candidate = CheckSide::rate(
+        format!("{:.4}/h in {} ({})", t.rate_per_hour, t.room, t.method),
+        t.rate_per_hour,
+    );
     check.rate_bounds_per_hour = t.high.map(|high| [t.low, high]);
     check.bound = t.high;
     let high = t.high.map_or("∞".to_string(), |h| format!("{h:.4}"));
@@ -937,7 +983,7 @@ fn settle_budget(checks: &mut [Check], inputs: &[BudgetInput], s: &GateSettings)
                     note,
                     "; the lower bound is over the budget, but not after Holm across this \
                      detector's {family} budget checks (p Holm {})",
-                    fmt_p(Some(q))
+                    format_p(Some(q))
                 );
             }
             let _ = write!(note, "; {words}");
@@ -1030,10 +1076,14 @@ fn format_level(x: f64) -> String {
 
 fn detection_check(at: &OperatingRef, group: &str, b: &Sums, c: &Sums) -> Check {
     let mut check = at.check(Metric::Detection, group);
-    check.baseline = format!("{} of {} events", b.detected, b.events);
-    check.candidate = format!("{} of {} events", c.detected, c.events);
-    check.baseline_counts = counts(b.detected as f64, b.events as f64, "events");
-    check.candidate_counts = counts(c.detected as f64, c.events as f64, "events");
+    check.baseline = CheckSide::counted(
+        format!("{} of {} events", b.detected, b.events),
+        counts(b.detected as f64, b.events as f64, "events"),
+    );
+    check.candidate = CheckSide::counted(
+        format!("{} of {} events", c.detected, c.events),
+        counts(c.detected as f64, c.events as f64, "events"),
+    );
     if b.events == 0 || c.events == 0 {
         check.note = "no target events on one side".into();
         return check;
@@ -1082,33 +1132,13 @@ fn apply_holm(checks: &mut [Check], alpha: f64) {
     }
 }
 
-fn fmt_opt(x: Option<f64>, digits: usize) -> String {
-    x.map_or_else(|| "—".into(), |v| format!("{v:.digits$}"))
-}
-
-/// Four significant digits, enough to recognise a threshold.
-fn fmt_threshold(t: f64) -> String {
-    if t != 0.0 && (t.abs() < 1e-3 || t.abs() >= 1e6) {
-        format!("{t:.3e}")
-    } else {
-        format!("{}", (t * 1e4).round() / 1e4)
-    }
-}
-
-fn fmt_p(x: Option<f64>) -> String {
+/// A p-value as tables and notes print it: `—` when absent, four decimals, or two
+/// significant digits in exponent form below 10⁻⁴.
+pub fn format_p(x: Option<f64>) -> String {
     match x {
         None => "—".into(),
         Some(p) if p < 1e-4 => format!("{p:.1e}"),
         Some(p) => format!("{p:.4}"),
-    }
-}
-
-fn verdict_word(v: Verdict) -> &'static str {
-    match v {
-        Verdict::Pass => "pass",
-        Verdict::Regression => "REGRESSION",
-        Verdict::Inconclusive => "inconclusive",
-        Verdict::NotTested => "not tested",
     }
 }
 
@@ -1150,309 +1180,11 @@ impl GateReport {
     }
 
     /// Rows worth showing by default: every pooled check and every regression.
-    fn headline(&self) -> impl Iterator<Item = &Check> {
+    pub fn headline(&self) -> impl Iterator<Item = &Check> {
         self.checks
             .iter()
             .filter(|c| c.group == "all scenes" || c.verdict == Verdict::Regression)
     }
-
-    /// A plain-text table for the terminal: the pooled checks and every regression.
-    pub fn table(&self) -> String {
-        self.render_table(self.headline().collect())
-    }
-
-    /// A plain-text table of every check, per scene too.
-    pub fn full_table(&self) -> String {
-        self.render_table(self.checks.iter().collect())
-    }
-
-    fn render_table(&self, checks: Vec<&Check>) -> String {
-        let mut out = String::new();
-        let header = [
-            "detector",
-            "check",
-            "at /h",
-            "group",
-            "baseline",
-            "candidate",
-            "ratio",
-            "bound",
-            "p",
-            "p (Holm)",
-            "verdict",
-        ];
-        let rows: Vec<[String; 11]> = checks
-            .iter()
-            .map(|c| {
-                [
-                    c.key.label(),
-                    c.metric.name().into(),
-                    format!("{}", c.target_per_hour),
-                    c.group.clone(),
-                    c.baseline.clone(),
-                    c.candidate.clone(),
-                    fmt_opt(c.ratio, 2),
-                    fmt_opt(c.bound, 3),
-                    fmt_p(c.p_value),
-                    fmt_p(c.adjusted_p),
-                    verdict_word(c.verdict).into(),
-                ]
-            })
-            .collect();
-        let mut widths: Vec<usize> = header.iter().map(|h| h.chars().count()).collect();
-        for row in &rows {
-            for (w, cell) in widths.iter_mut().zip(row) {
-                *w = (*w).max(cell.chars().count());
-            }
-        }
-        let line = |cells: &[&str]| {
-            let mut l = String::new();
-            for (cell, w) in cells.iter().zip(&widths) {
-                let pad = w - cell.chars().count();
-                let _ = write!(l, "{cell}{}  ", " ".repeat(pad));
-            }
-            l.trim_end().to_string() + "\n"
-        };
-        out += &line(&header);
-        for row in &rows {
-            out += &line(&row.iter().map(String::as_str).collect::<Vec<_>>());
-        }
-        self.footer(&mut out, false);
-        out
-    }
-
-    fn footer(&self, out: &mut String, markdown: bool) {
-        let bullet = if markdown { "- " } else { "  " };
-        let tested = self
-            .checks
-            .iter()
-            .filter(|c| c.verdict != Verdict::NotTested)
-            .count();
-        let failed = self.regressions().count();
-        let inconclusive = self.inconclusive().count();
-        let _ = writeln!(
-            out,
-            "\n{} checks ({} tested), {} regression{}, {} inconclusive; rate margin ρ₀ = {}, α = {} (Holm within each detector and check){}",
-            self.checks.len(),
-            tested,
-            failed,
-            if failed == 1 { "" } else { "s" },
-            inconclusive,
-            self.settings.ratio_margin,
-            self.settings.alpha,
-            if self.paired { "; paired on the same seeds" } else { "" },
-        );
-        if let Some(budget) = self.settings.budget_per_hour {
-            let _ = writeln!(
-                out,
-                "{bullet}budget {budget}/h: pass when the one-sided {:.0} % upper bound is under it, regression when the lower bound is over it (Holm across each detector's operating points), otherwise inconclusive{}",
-                self.settings.budget_confidence * 100.0,
-                if self.settings.require_conclusive {
-                    ", which fails the gate (--require-conclusive)"
-                } else {
-                    ", which does not fail the gate"
-                }
-            );
-        }
-        if self.paired {
-            let _ = writeln!(
-                out,
-                "{bullet}paired rows count the trials where only that run alarmed falsely (or missed an event)"
-            );
-        }
-        for c in self.regressions() {
-            let _ = writeln!(
-                out,
-                "{bullet}{}: {} at {}/h (threshold {}), {}: baseline {}, candidate {}; {} (p = {}, Holm {})",
-                c.key.label(),
-                c.metric.name(),
-                c.target_per_hour,
-                fmt_threshold(c.threshold),
-                c.group,
-                c.baseline,
-                c.candidate,
-                c.note,
-                fmt_p(c.p_value),
-                fmt_p(c.adjusted_p),
-            );
-        }
-        for c in self.inconclusive() {
-            let _ = writeln!(
-                out,
-                "{bullet}{}: {} at {}/h (threshold {}), {}: {}; {}",
-                c.key.label(),
-                c.metric.name(),
-                c.target_per_hour,
-                fmt_threshold(c.threshold),
-                c.group,
-                c.candidate,
-                c.note,
-            );
-        }
-        for n in &self.notes {
-            let _ = writeln!(out, "{bullet}note: {n}");
-        }
-    }
-
-    /// A Markdown summary for a pull-request comment.
-    pub fn markdown(&self) -> String {
-        let mut out = format!(
-            "## echobench gate: {} — suite `{}`\n\n",
-            self.verdict_words(),
-            self.suite
-        );
-        out += "| detector | check | at /h | group | baseline | candidate | ratio | bound | p (Holm) | verdict |\n";
-        out += "|---|---|---|---|---|---|---|---|---|---|\n";
-        for c in self.headline() {
-            let _ = writeln!(
-                out,
-                "| {} | {} | {} | {} | {} | {} | {} | {} | {} | {} |",
-                md_escape(&c.key.label()),
-                c.metric.name(),
-                c.target_per_hour,
-                md_escape(&c.group),
-                c.baseline,
-                c.candidate,
-                fmt_opt(c.ratio, 2),
-                fmt_opt(c.bound, 3),
-                fmt_p(c.adjusted_p),
-                match c.verdict {
-                    Verdict::Regression => "**REGRESSION**",
-                    Verdict::Inconclusive => "*inconclusive*",
-                    v => verdict_word(v),
-                },
-            );
-        }
-        self.footer(&mut out, true);
-        out
-    }
-
-    /// A JUnit XML document: one test case per comparison key, metric and operating point; a
-    /// failing group makes its case fail, with every failing group in the message. A case
-    /// with an inconclusive check and no failure is skipped, its message naming the exposure
-    /// that would settle it (with `require_conclusive` too: the verdict is "cannot tell", the
-    /// exit status carries the policy).
-    pub fn junit_xml(&self) -> String {
-        type CaseKey = (ComparisonKey, Metric, String);
-        let mut cases: BTreeMap<CaseKey, Vec<&Check>> = BTreeMap::new();
-        let mut order: Vec<CaseKey> = Vec::new();
-        for c in &self.checks {
-            let key = (c.key.clone(), c.metric, format!("{}", c.target_per_hour));
-            if !cases.contains_key(&key) {
-                order.push(key.clone());
-            }
-            cases.entry(key).or_default().push(c);
-        }
-        let failures = order
-            .iter()
-            .filter(|k| cases[*k].iter().any(|c| c.verdict == Verdict::Regression))
-            .count();
-        let skip_reason = |group: &[&Check]| -> Option<String> {
-            if group.iter().any(|c| c.verdict == Verdict::Regression) {
-                return None;
-            }
-            let open: Vec<String> = group
-                .iter()
-                .filter(|c| c.verdict == Verdict::Inconclusive)
-                .map(|c| format!("{}: {}", c.group, c.note))
-                .collect();
-            if !open.is_empty() {
-                Some(open.join("; "))
-            } else if group.iter().all(|c| c.verdict == Verdict::NotTested) {
-                Some(group[0].note.clone())
-            } else {
-                None
-            }
-        };
-        let skipped = order
-            .iter()
-            .filter(|k| skip_reason(&cases[*k]).is_some())
-            .count();
-        let mut out = String::from("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
-        let _ = writeln!(
-            out,
-            "<testsuites name=\"echobench gate\" tests=\"{}\" failures=\"{failures}\" skipped=\"{skipped}\">",
-            order.len()
-        );
-        let _ = writeln!(
-            out,
-            "  <testsuite name=\"{}\" tests=\"{}\" failures=\"{failures}\" skipped=\"{skipped}\">",
-            xml_escape(&self.suite),
-            order.len()
-        );
-        for key in &order {
-            let group = &cases[key];
-            let (key, metric, target) = key;
-            let _ = write!(
-                out,
-                "    <testcase classname=\"echobench.gate.{}\" name=\"{} at {}/h\"",
-                xml_escape(&key.junit_class()),
-                metric.name(),
-                target
-            );
-            let failing: Vec<&&Check> = group
-                .iter()
-                .filter(|c| c.verdict == Verdict::Regression)
-                .collect();
-            if !failing.is_empty() {
-                let message = failing
-                    .iter()
-                    .map(|c| {
-                        format!(
-                            "{}: baseline {}, candidate {}, p (Holm) {}",
-                            c.group,
-                            c.baseline,
-                            c.candidate,
-                            fmt_p(c.adjusted_p)
-                        )
-                    })
-                    .collect::<Vec<_>>()
-                    .join("; ");
-                let detail = failing
-                    .iter()
-                    .map(|c| format!("{} — {}", c.group, c.note))
-                    .collect::<Vec<_>>()
-                    .join("\n");
-                let _ = writeln!(
-                    out,
-                    ">\n      <failure type=\"regression\" message=\"{}\">{}</failure>\n    </testcase>",
-                    xml_escape(&message),
-                    xml_escape(&detail)
-                );
-            } else if let Some(reason) = skip_reason(group) {
-                let _ = writeln!(
-                    out,
-                    ">\n      <skipped message=\"{}\"/>\n    </testcase>",
-                    xml_escape(&reason)
-                );
-            } else {
-                out += "/>\n";
-            }
-        }
-        out += "  </testsuite>\n</testsuites>\n";
-        out
-    }
-}
-
-fn xml_escape(s: &str) -> String {
-    let mut out = String::with_capacity(s.len());
-    for ch in s.chars() {
-        match ch {
-            '&' => out += "&amp;",
-            '<' => out += "&lt;",
-            '>' => out += "&gt;",
-            '"' => out += "&quot;",
-            '\'' => out += "&apos;",
-            // Characters XML 1.0 cannot carry at all.
-            c if (c as u32) < 0x20 && !matches!(c, '\n' | '\r' | '\t') => out.push(' '),
-            c => out.push(c),
-        }
-    }
-    out
-}
-
-fn md_escape(s: &str) -> String {
-    s.replace('|', "\\|")
 }
 
 #[cfg(test)]
@@ -1578,14 +1310,20 @@ mod tests {
             &GateSettings::default(),
         );
         assert_eq!(
-            checks[0].candidate_counts,
+            checks[0].candidate.counts,
             Some(Counts {
                 count: 20.0,
                 of: 10.0,
                 unit: "h"
             })
         );
-        assert_eq!(checks[0].candidate, "20 in 10.00 h");
+        assert_eq!(checks[0].candidate.text, "20 in 10.00 h");
+        // In gate.json the numbers are numbers, the words `text` only.
+        let json = serde_json::to_value(&checks[0]).unwrap();
+        assert_eq!(
+            json["candidate"],
+            serde_json::json!({"count": 20.0, "of": 10.0, "unit": "h", "text": "20 in 10.00 h"})
+        );
         // The same run: nothing regresses.
         assert_eq!(
             presence_verdicts(&baseline, &baseline),

@@ -7,7 +7,8 @@
 //! pure function of [`runner::Tallies`] (integer counts and nanoseconds), so shards add up
 //! bit for bit and any thread count gives the same result. Suites come in loaded and
 //! checked (`echobench-suite`), with each detector's parameters already resolved; this
-//! crate reads no suite file.
+//! crate reads no suite file and writes no output (`echobench-render` renders its results,
+//! `echobench-run-files` places them).
 #![deny(missing_docs)]
 
 pub mod events;

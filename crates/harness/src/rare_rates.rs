@@ -433,58 +433,6 @@ pub fn rare_thresholds(
         .collect()
 }
 
-/// Three significant digits, plain or in exponent form.
-fn sig3(x: f64) -> String {
-    if x == 0.0 {
-        "0".into()
-    } else if x.abs() >= 1e5 || x.abs() < 1e-3 {
-        format!("{x:.2e}")
-    } else {
-        let digits = (2 - x.abs().log10().floor() as i32).max(0) as usize;
-        format!("{x:.digits$}")
-    }
-}
-
-/// The console block: per detector, the extrapolated threshold for each rare rate with its
-/// interval, the counted one beside it where there is one, and why a cell is empty.
-pub fn console_block(detectors: &[&crate::summary::DetectorSummary]) -> String {
-    let rows: Vec<(&str, &Vec<RareThreshold>)> = detectors
-        .iter()
-        .filter(|d| !d.rare_thresholds.is_empty())
-        .map(|d| (d.label.as_str(), &d.rare_thresholds))
-        .collect();
-    if rows.is_empty() {
-        return String::new();
-    }
-    let columns: Vec<String> = REPORT_RATES_PER_HOUR
-        .iter()
-        .map(|r| crate::summary::rate_label(*r))
-        .collect();
-    let mut notes: Vec<String> = Vec::new();
-    let table_rows: Vec<(String, Vec<String>)> = rows
-        .iter()
-        .map(|(label, list)| {
-            let cells = list
-                .iter()
-                .map(|t| t.cell(&sig3, &mut notes, false))
-                .collect();
-            (label.to_string(), cells)
-        })
-        .collect();
-    let mut out = String::from(
-        "\nrare rates by tail extrapolation: threshold [95 % profile-likelihood interval] from a generalized Pareto fit of each room's declustered alarm maxima, the worst room's | the counted threshold where the product has that target (? not resolved by the calibration time):\n",
-    );
-    out.push_str(&crate::summary::grid_table(
-        "detector",
-        &columns,
-        &table_rows,
-    ));
-    for (k, note) in notes.iter().enumerate() {
-        out.push_str(&format!("  ({}) {note}\n", k + 1));
-    }
-    out
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -26,7 +26,7 @@ pub struct GridRocPoint {
 
 /// The event-level ROC of a detector over its threshold grid, ascending in threshold (so
 /// descending in Pd and false-alarm rate), pooled over scene variants exactly as
-/// `echobench_harness::summary::write_roc_csv` pools them.
+/// `echobench_render::csv_files::write_roc` pools them.
 pub fn grid_roc(detector: &DetectorTally) -> Vec<GridRocPoint> {
     let events: u64 = detector.variants.iter().map(|v| v.events).sum();
     let exposure_ns: u64 = detector.variants.iter().map(|v| v.exposure_ns).sum();

@@ -2,7 +2,7 @@
 
 use crate::html::Section;
 use crate::markup::Html;
-use echobench_harness::gate::{ComparisonKey, GateReport, Verdict};
+use echobench_harness::gate::{format_p, ComparisonKey, GateReport, Verdict};
 
 /// A section with the gate's verdict: one line per detector, then every failing check with its
 /// counts, ratio, bound and p-value, then the notes.
@@ -84,7 +84,7 @@ pub fn gate_section(report: &GateReport) -> Section {
             .element("td", &[], &d.label())
             .element("td", num, &tested.to_string())
             .element("td", num, &failed.to_string())
-            .element("td", num, &p_text(smallest))
+            .element("td", num, &format_p(smallest))
             .raw("<td>")
             .raw(verdict)
             .raw("</td></tr>");
@@ -106,11 +106,11 @@ pub fn gate_section(report: &GateReport) -> Section {
                 .element("td", &[], c.metric.name())
                 .element("td", num, &c.target_per_hour.to_string())
                 .element("td", &[], &c.group)
-                .element("td", &[], &c.baseline)
-                .element("td", &[], &c.candidate)
+                .element("td", &[], &c.baseline.text)
+                .element("td", &[], &c.candidate.text)
                 .element("td", num, &number(c.ratio, 2))
                 .element("td", num, &number(c.bound, 3))
-                .element("td", num, &p_text(c.adjusted_p))
+                .element("td", num, &format_p(c.adjusted_p))
                 .element("td", &[], &c.note)
                 .raw("</tr>");
         }
@@ -136,12 +136,4 @@ pub fn gate_section(report: &GateReport) -> Section {
     }
     // The gate checks every product; its section is about the whole run.
     Section::new("Regression gate against the baseline", html.into_string())
-}
-
-fn p_text(p: Option<f64>) -> String {
-    match p {
-        None => "—".into(),
-        Some(p) if p < 1e-4 => format!("{p:.1e}"),
-        Some(p) => format!("{p:.4}"),
-    }
 }

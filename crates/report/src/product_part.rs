@@ -14,9 +14,9 @@ use crate::markup::Html;
 use crate::plot::format_number;
 use echobench_harness::runner::room_name;
 use echobench_harness::summary::{
-    calibration_statements, DetectorSummary, Estimate, MissReason, OperatingSummary, SceneOutcome,
-    MISS_PD,
+    DetectorSummary, Estimate, MissReason, OperatingSummary, SceneOutcome, MISS_PD,
 };
+use echobench_render::console::calibration_statements;
 
 /// The threshold rule of a product in the console's words.
 pub(crate) fn rule_words(rule: &str) -> &'static str {

@@ -7,7 +7,7 @@
 mod common;
 
 use common::{two_products_run, two_products_with_a_zero};
-use echobench_harness::summary::console_table;
+use echobench_render::console::console_table;
 use echobench_report::{render_html, RunFolder, Section};
 
 const P1: &str = "corridor-2g4";

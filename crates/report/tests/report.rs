@@ -5,10 +5,19 @@
 mod common;
 
 use common::{has_drawn_data, small_run, svgs};
-use echobench_harness::runner::SCHEMA_VERSION;
-use echobench_harness::summary::{write_json, write_roc_csv};
+use echobench_harness::runner::{Tallies, SCHEMA_VERSION};
 use echobench_report::{grid_roc, render_html, trial_roc, RunFileError, RunFolder, Section};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+
+fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> std::io::Result<()> {
+    std::fs::write(path, echobench_render::json::json_bytes(value)?)
+}
+
+fn write_roc_csv(path: &Path, tallies: &Tallies) -> std::io::Result<()> {
+    let mut bytes = Vec::new();
+    echobench_render::csv_files::write_roc(&mut bytes, tallies)?;
+    std::fs::write(path, bytes)
+}
 
 fn scratch(name: &str) -> PathBuf {
     let dir = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join(format!("report-test-{name}"));

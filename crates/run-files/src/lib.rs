@@ -17,8 +17,11 @@
 //! the file.
 #![deny(missing_docs)]
 
+use echobench_core::atomic::write_atomically;
 use echobench_harness::runner::{Tallies, Timing, SCHEMA_VERSION};
 use echobench_harness::summary::{self, Summary};
+use echobench_render::csv_files;
+use echobench_render::json::write_json;
 use echobench_run_folder::fault_point;
 use echobench_suite::Suite;
 use std::io::Write;
@@ -175,35 +178,26 @@ impl RunFolder {
             let path = dir.join(name);
             move |source| RunFileError::Write { path, source }
         };
+        // Each file is rendered by `echobench-render` straight into its atomic writer.
+        let write = |name: &str, render: &dyn Fn(&mut dyn Write) -> std::io::Result<()>| {
+            write_atomically(&dir.join(name), |w| render(w)).map_err(at(name))?;
+            fault_point(name);
+            Ok::<(), RunFileError>(())
+        };
         if let Some(text) = &self.suite_text {
-            echobench_core::atomic::write_atomically(&dir.join("suite.yaml"), |w| {
-                w.write_all(text.as_bytes())
-            })
-            .map_err(at("suite.yaml"))?;
-            fault_point("suite.yaml");
+            write("suite.yaml", &|w| w.write_all(text.as_bytes()))?;
         }
-        summary::write_json(&dir.join("tallies.json"), &self.tallies)
-            .map_err(at("tallies.json"))?;
-        fault_point("tallies.json");
-        summary::write_json(&dir.join("summary.json"), &self.summary)
-            .map_err(at("summary.json"))?;
-        fault_point("summary.json");
-        summary::write_roc_csv(&dir.join("roc.csv"), &self.tallies).map_err(at("roc.csv"))?;
-        fault_point("roc.csv");
-        summary::write_events_csv(&dir.join("events.csv"), &self.summary)
-            .map_err(at("events.csv"))?;
-        fault_point("events.csv");
+        write("tallies.json", &|w| write_json(w, &self.tallies))?;
+        write("summary.json", &|w| write_json(w, &self.summary))?;
+        write("roc.csv", &|w| csv_files::write_roc(w, &self.tallies))?;
+        write("events.csv", &|w| csv_files::write_events(w, &self.summary))?;
         if self.summary.detectors.iter().any(|d| d.presence.is_some()) {
-            echobench_harness::presence_summary::write_presence_csv(
-                &dir.join("presence.csv"),
-                &self.summary,
-            )
-            .map_err(at("presence.csv"))?;
-            fault_point("presence.csv");
+            write("presence.csv", &|w| {
+                csv_files::write_presence(w, &self.summary)
+            })?;
         }
         if let Some(timing) = &self.timing {
-            summary::write_json(&dir.join("timing.json"), timing).map_err(at("timing.json"))?;
-            fault_point("timing.json");
+            write("timing.json", &|w| write_json(w, timing))?;
         }
         Ok(())
     }

@@ -1,9 +1,12 @@
-//! The regression gate on real runs: a run against itself passes, a doctored baseline with
-//! fewer false alarms fails and names the detector, a rerun with another seed (a change
-//! that is only noise) passes, and the JUnit output is well-formed XML carrying the failure.
+//! The regression gate on real runs, through to its files: a run against itself passes, a
+//! doctored baseline with fewer false alarms fails and names the detector in the table and the
+//! Markdown, a rerun with another seed (a change that is only noise) passes, and the JUnit
+//! output is well-formed XML carrying the failure (`echobench_harness::gate` judges,
+//! `echobench_render::gate` writes).
 
 use echobench_harness::gate::{gate, pin_to_baseline, GateSettings, Metric, Verdict};
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies};
+use echobench_render::gate::{junit_xml, markdown, table};
 use echobench_suite::Suite;
 use echobench_suite::{default_suite, load_suite_file};
 
@@ -60,7 +63,7 @@ fn gate_passes_on_itself_fails_on_a_doctored_baseline_and_passes_on_seed_noise()
     let same = run(&suite, Some(&baseline));
     let report = gate(&same, &baseline, &settings).unwrap();
     assert!(report.paired);
-    assert!(report.passed(), "{}", report.table());
+    assert!(report.passed(), "{}", table(&report));
     assert!(report
         .checks
         .iter()
@@ -88,7 +91,7 @@ fn gate_passes_on_itself_fails_on_a_doctored_baseline_and_passes_on_seed_noise()
     assert!(
         failing.iter().all(|c| c.key.detector == "energy"),
         "{}",
-        report.table()
+        table(&report)
     );
     for metric in [Metric::FalseAlarmRate, Metric::FalseAlarmPaired] {
         assert!(
@@ -96,18 +99,18 @@ fn gate_passes_on_itself_fails_on_a_doctored_baseline_and_passes_on_seed_noise()
                 .iter()
                 .any(|c| c.metric == metric && c.group == "all scenes"),
             "{metric:?} should fail:\n{}",
-            report.table()
+            table(&report)
         );
     }
-    let table = report.table();
+    let text = table(&report);
     assert!(
-        table.contains("REGRESSION") && table.contains("energy"),
-        "{table}"
+        text.contains("REGRESSION") && text.contains("energy"),
+        "{text}"
     );
-    assert!(report.markdown().contains("**REGRESSION**"));
+    assert!(markdown(&report).contains("**REGRESSION**"));
 
     // The JUnit document is well-formed XML and carries the failing case.
-    let xml = report.junit_xml();
+    let xml = junit_xml(&report);
     let doc = roxmltree::Document::parse(&xml).unwrap_or_else(|e| panic!("{e}\n{xml}"));
     let failed_cases: Vec<String> = doc
         .descendants()
@@ -146,7 +149,7 @@ fn gate_passes_on_itself_fails_on_a_doctored_baseline_and_passes_on_seed_noise()
             .all(|c| c.verdict == Verdict::NotTested),
         "paired tests need the same seeds"
     );
-    assert!(report.passed(), "{}", report.table());
+    assert!(report.passed(), "{}", table(&report));
 }
 
 /// A one-module suite of a swaying palm (a nuisance with tens of false alarms per hour at
@@ -216,7 +219,7 @@ fn a_budget_below_the_measured_rate_fails_and_an_unpinned_run_is_refused() {
         .collect();
     // Every detector has tens of false alarms per hour at the 200/h point: even the lower
     // bound of its rate is over a 0.5/h budget, which is what makes it a regression.
-    assert!(!over.is_empty(), "{}", report.table());
+    assert!(!over.is_empty(), "{}", table(&report));
     assert!(over
         .iter()
         .all(|c| c.rate_bounds_per_hour.is_some_and(|[low, _]| low > 0.5)));
@@ -299,12 +302,10 @@ fn the_budget_check_is_three_way_and_an_inconclusive_case_is_skipped_in_junit() 
     }
     assert!(report.passed(), "inconclusive is not a regression");
     assert_eq!(report.verdict_words(), "pass, 4 inconclusive");
-    assert!(report
-        .markdown()
-        .starts_with("## echobench gate: pass, 4 inconclusive"));
-    assert!(report.table().contains("inconclusive"));
+    assert!(markdown(&report).starts_with("## echobench gate: pass, 4 inconclusive"));
+    assert!(table(&report).contains("inconclusive"));
     // The JUnit case of each budget check is skipped, and says what would settle it.
-    let xml = report.junit_xml();
+    let xml = junit_xml(&report);
     let doc = roxmltree::Document::parse(&xml).unwrap_or_else(|e| panic!("{e}\n{xml}"));
     let skipped: Vec<(String, String)> = doc
         .descendants()
