@@ -97,7 +97,8 @@ fn detectors(c: &mut Criterion) {
         for &carrier_hz in carriers(plugin.id()) {
             let info = stream(carrier_hz);
             let mut detector = plugin
-                .build(&params, &info)
+                .plan(&params, &info)
+                .map(|plan| plan.start())
                 .unwrap_or_else(|e| panic!("{e}"));
             let mut scores: Vec<FrameScore> = Vec::with_capacity(input.len());
             // One checked pass first: the timed work must produce valid scores.

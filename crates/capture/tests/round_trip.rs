@@ -47,7 +47,10 @@ fn scores_of(
     block_values: usize,
 ) -> Result<Vec<echobench_core::FrameScore>, String> {
     let params = Params::defaults(plugin.params());
-    let mut detector = plugin.build(&params, info).map_err(|e| e.to_string())?;
+    let mut detector = plugin
+        .plan(&params, info)
+        .map(|plan| plan.start())
+        .map_err(|e| e.to_string())?;
     let mut scores = Vec::new();
     // Whole sample instants per block (pairs on I/Q streams).
     let per_instant = info.channels.count();

@@ -260,31 +260,8 @@ pub trait DetectorPlugin: Send + Sync {
     /// # Errors
     /// When the parameters do not fit together or do not fit the stream
     /// (a band above Nyquist, guard cells ≥ training cells, ...).
-    ///
-    /// (Provided only while the runner moves from `build` to `plan`: a plugin
-    /// that overrides `build` alone still runs; one that overrides neither is
-    /// refused here. It becomes required once the runner plans.)
-    fn plan(
-        &self,
-        _params: &Params,
-        _info: &StreamInfo,
-    ) -> Result<Arc<dyn DetectorPlan>, ParamError> {
-        Err(ParamError::new(
-            self.id(),
-            "plan",
-            "missing",
-            "the plugin implements neither `plan` nor `build`",
-        ))
-    }
-
-    /// A plan and one state started from it, for a caller that runs one
-    /// stream (a replay, a test).
-    ///
-    /// # Errors
-    /// As [`DetectorPlugin::plan`].
-    fn build(&self, params: &Params, info: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(self.plan(params, info)?.start())
-    }
+    fn plan(&self, params: &Params, info: &StreamInfo)
+        -> Result<Arc<dyn DetectorPlan>, ParamError>;
 
     /// Checks the parameters against the stream without planning anything:
     /// the refusals [`DetectorPlugin::plan`] would give. The suite loader

@@ -116,13 +116,15 @@ pub(crate) fn replay(
     let info = signal.info();
     let mut built: Vec<Result<Box<dyn Detector>, String>> = detectors
         .iter()
-        .map(
-            |d| match catch_unwind(AssertUnwindSafe(|| d.plugin.build(&d.params, &info))) {
+        .map(|d| {
+            match catch_unwind(AssertUnwindSafe(|| {
+                d.plugin.plan(&d.params, &info).map(|plan| plan.start())
+            })) {
                 Ok(Ok(detector)) => Ok(detector),
                 Ok(Err(e)) => Err(e.to_string()),
                 Err(p) => Err(echobench_core::detector::panic_message(p)),
-            },
-        )
+            }
+        })
         .collect();
     let mut scores: Vec<Vec<FrameScore>> = vec![Vec::new(); detectors.len()];
     let mut samples = Vec::new();

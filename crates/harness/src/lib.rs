@@ -13,6 +13,7 @@
 
 pub mod events;
 pub mod gate;
+mod planned;
 pub mod presence_summary;
 pub mod rare_events;
 pub mod rare_rates;

@@ -17,6 +17,7 @@
 //! shard split.
 
 use crate::events::{score_thresholds, AlarmLogic, MOfN, MatchWindow, TrialTruth};
+use crate::planned::PlannedDetectors;
 use crate::signal::TrialSignal;
 use echobench_core::detector::{
     check_scores, Detector, DetectorPlugin, FrameScore, Params, Samples,
@@ -588,7 +589,12 @@ struct TrialOutput {
 }
 
 /// Synthesizes a trial and feeds every detector, catching panics and bad scores per detector.
-fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<TrialOutput, RunError> {
+fn run_trial(
+    suite: &Suite,
+    planned: &PlannedDetectors,
+    job: &Job,
+) -> Result<TrialOutput, RunError> {
+    let detectors = planned.detectors();
     let entry = &suite.scenes[job.scene];
     let variant = &entry.variants[job.variant];
     let scene = &variant.scene;
@@ -604,15 +610,9 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
         |e: String| RunError(format!("scene `{}` trial {}: {e}", entry.id, job.key.trial));
     let mut synth = TrialSignal::new(variant, capture, &job.key).map_err(trial_error)?;
     let info = synth.info();
-    let mut built: Vec<Result<Box<dyn Detector>, String>> = detectors
-        .iter()
-        .map(
-            |d| match catch_unwind(AssertUnwindSafe(|| d.plugin.build(&d.params, &info))) {
-                Ok(Ok(det)) => Ok(det),
-                Ok(Err(e)) => Err(e.to_string()),
-                Err(p) => Err(echobench_core::detector::panic_message(p)),
-            },
-        )
+    // This thread's states, reset since their last trial (or fresh from the run's plans).
+    let mut built: Vec<Result<Box<dyn Detector>, String>> = (0..detectors.len())
+        .map(|i| planned.take(i, &info))
         .collect();
     let mut scores: Vec<Vec<FrameScore>> = vec![Vec::new(); detectors.len()];
     let mut busy = vec![0.0f64; detectors.len()];
@@ -652,9 +652,15 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
         .into_iter()
         .zip(scores)
         .zip(busy)
-        .map(|((slot, trace), busy_s)| match slot {
-            Err(message) => Trace::Failed(message),
-            Ok(_) => match check_scores(&trace) {
+        .enumerate()
+        .map(|(i, ((slot, trace), busy_s))| {
+            let state = match slot {
+                Err(message) => return Trace::Failed(message),
+                Ok(state) => state,
+            };
+            // Reset and kept for this thread's next trial of this stream shape.
+            planned.give_back(i, &info, state);
+            match check_scores(&trace) {
                 Ok(()) => Trace::Ok {
                     // The one place where frame ends become seconds.
                     scores: trace
@@ -664,7 +670,7 @@ fn run_trial(suite: &Suite, detectors: &[RunDetector], job: &Job) -> Result<Tria
                     busy_s,
                 },
                 Err((i, message)) => Trace::Failed(format!("score {i}: {message}")),
-            },
+            }
         })
         .collect();
     Ok(TrialOutput {
@@ -749,6 +755,8 @@ pub fn run_suite(
     let started = Instant::now();
     let mut timing = Timing::default();
     let mut all = Vec::with_capacity(suite.products.len() * detectors.len());
+    // One plan per (detector, stream shape) for the whole run, shared by every product.
+    let planned = PlannedDetectors::new(detectors);
     let (mut test_trials, mut test_signal_ms) = (0, 0);
     // Products run one after the other: each is calibrated on its own scenes only, so
     // its thresholds are those of a suite holding it alone.
@@ -757,7 +765,7 @@ pub fn run_suite(
         if view.scenes.is_empty() {
             continue;
         }
-        let part = run_product(&view, detectors, shard, progress)?;
+        let part = run_product(&view, &planned, shard, progress)?;
         all.extend(part.tallies);
         test_trials += part.test_trials;
         test_signal_ms += part.test_signal_ms;
@@ -798,10 +806,11 @@ struct ProductRun {
 /// Calibrates and tallies one product (`suite` is its [`Suite::product_view`]).
 fn run_product(
     suite: &Suite,
-    detectors: &[RunDetector],
+    planned: &PlannedDetectors,
     shard: Option<Shard>,
     progress: &(dyn Fn(Progress) + Sync),
 ) -> Result<ProductRun, RunError> {
+    let detectors = planned.detectors();
     let product = suite
         .products
         .first()
@@ -835,7 +844,7 @@ fn run_product(
         }
     }
     let (calibrated, calibration_signal_s) =
-        calibrate(suite, detectors, counting, &rare_rates, progress)?;
+        calibrate(suite, planned, counting, &rare_rates, progress)?;
     let mut tallies: Vec<DetectorTally> = Vec::with_capacity(detectors.len());
     for (detector, cal) in detectors.iter().zip(calibrated) {
         let Calibrated {
@@ -998,7 +1007,7 @@ fn run_product(
     let folded = test_jobs
         .par_iter()
         .try_fold(empty, |mut acc, job| -> Result<_, RunError> {
-            let trial = run_trial(suite, detectors, job)?;
+            let trial = run_trial(suite, planned, job)?;
             let truth = trial_truth(&trial, window)?;
             let occupancy = match presence {
                 Some(_) => Some(presence_truth(&trial)?),
@@ -1320,11 +1329,12 @@ fn tail_thresholds(top: f64, beyond: &[(usize, f64)]) -> Vec<f64> {
 ///    been kept.
 fn calibrate(
     suite: &Suite,
-    detectors: &[RunDetector],
+    planned: &PlannedDetectors,
     counting: Counting<'_>,
     rare_rates_per_hour: &[f64],
     progress: &(dyn Fn(Progress) + Sync),
 ) -> Result<(Vec<Calibrated>, f64), RunError> {
+    let detectors = planned.detectors();
     // The tail fit declusters with the hold that separates one counted alarm (or one
     // switch-on of a presence product's output) from the next.
     let (m, n, hold_s) = match counting {
@@ -1360,7 +1370,7 @@ fn calibrate(
     let pilot_outputs: Vec<TrialOutput> = pilot
         .par_iter()
         .map(|&i| {
-            let out = run_trial(suite, detectors, &all_jobs.get(i));
+            let out = run_trial(suite, planned, &all_jobs.get(i));
             tick();
             out
         })
@@ -1410,7 +1420,7 @@ fn calibrate(
             let mut acc = empty();
             for i in chunk {
                 let job = all_jobs.get(i);
-                let trial = run_trial(suite, detectors, &job)?;
+                let trial = run_trial(suite, planned, &job)?;
                 count_calibration_trial(
                     suite, &job, i, &trial, &grids, &room_of, counting, &mut acc, true,
                 )?;
@@ -1452,7 +1462,7 @@ fn calibrate(
         .par_iter()
         .try_fold(tail_empty, |mut acc, &i| -> Result<_, RunError> {
             let job = all_jobs.get(i);
-            let trial = run_trial(suite, detectors, &job)?;
+            let trial = run_trial(suite, planned, &job)?;
             count_calibration_trial(
                 suite, &job, i, &trial, &tails, &room_of, counting, &mut acc, false,
             )?;
@@ -2074,10 +2084,11 @@ mod tests {
             .detectors
             .retain(|d| d.label == "energy" || d.label == "band-ratio");
         let detectors = resolve_detectors(&suite, &plugins).unwrap();
+        let planned = PlannedDetectors::new(&detectors);
         let (logic, window) = alarm_logic(&suite).unwrap();
         let (calibrated, _) = calibrate(
             &suite,
-            &detectors,
+            &planned,
             Counting::Alarms {
                 logic: &logic,
                 window,
@@ -2095,7 +2106,7 @@ mod tests {
             let mut pooled = vec![0u64; cal.thresholds.len()];
             let mut room = vec![0u64; cal.thresholds.len()];
             for job in &all_jobs {
-                let trial = run_trial(&suite, &detectors, job).unwrap();
+                let trial = run_trial(&suite, &planned, job).unwrap();
                 let Trace::Ok { scores, .. } = &trial.traces[di] else {
                     panic!("no failures here")
                 };
@@ -2127,7 +2138,7 @@ mod tests {
                 .install(|| {
                     calibrate(
                         &suite,
-                        &detectors,
+                        &PlannedDetectors::new(&detectors),
                         Counting::Alarms {
                             logic: &logic,
                             window,

@@ -3,16 +3,19 @@
 //! sweep, and the summary's figures.
 
 use echobench_core::detector::{
-    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, ParamError, ParamSpec, Params,
+    PrototypePlan, Samples,
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::presence_summary::presence_verdict;
 use echobench_harness::runner::{resolve_detectors, run_suite, DetectorTally, Tallies};
 use echobench_suite::Suite;
 use echobench_suite::{load_suite_text, InlineOnly};
+use std::sync::Arc;
 /// A detector that never reaches any threshold a calibration can choose: one score of 0
 /// per block, so the grid's top (just above 0) is never reached.
 struct SilentPlugin;
+#[derive(Clone)]
 struct Silent {
     samples: u64,
 }
@@ -48,8 +51,8 @@ impl DetectorPlugin for SilentPlugin {
     fn params(&self) -> &'static [ParamSpec] {
         &NO_PARAMS
     }
-    fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(Silent { samples: 0 }))
+    fn plan(&self, _: &Params, _: &StreamInfo) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+        Ok(PrototypePlan::shared(Silent { samples: 0 }))
     }
     fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
         Ok(())

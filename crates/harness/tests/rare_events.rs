@@ -3,13 +3,15 @@
 //! is the occurrences per day times that fraction, and it changes nothing of the rooms.
 
 use echobench_core::detector::{
-    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, ParamError, ParamSpec, Params,
+    PrototypePlan, Samples,
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies};
 use echobench_harness::summary::summarise;
 use echobench_suite::Suite;
 use echobench_suite::{load_suite_text, InlineOnly};
+use std::sync::Arc;
 /// The fraction of trials on which [`CoinPlugin`] looks at all.
 const FIRING_FRACTION: f64 = 0.3;
 
@@ -20,6 +22,7 @@ const FIRING_FRACTION: f64 = 0.3;
 /// when the coin says so.
 struct CoinPlugin;
 
+#[derive(Clone)]
 struct Coin {
     seen: u64,
     hash: u64,
@@ -94,8 +97,8 @@ impl DetectorPlugin for CoinPlugin {
     fn params(&self) -> &'static [ParamSpec] {
         &NO_PARAMS
     }
-    fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(fresh()))
+    fn plan(&self, _: &Params, _: &StreamInfo) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+        Ok(PrototypePlan::shared(fresh()))
     }
     fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
         Ok(())

@@ -2,14 +2,15 @@
 //! detectors, and detection statistics through the whole chain.
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamKind,
-    ParamSpec, Params, Samples,
+    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, ParamError,
+    ParamKind, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{merge_tallies, resolve_detectors, run_suite, Shard, Tallies};
 use echobench_harness::summary::summarise;
 use echobench_suite::Suite;
 use echobench_suite::{default_suite, load_suite_text, FolderSource};
+use std::sync::Arc;
 
 fn plugins() -> Vec<&'static dyn DetectorPlugin> {
     echobench_detectors::builtin()
@@ -72,6 +73,7 @@ fn outputs_are_identical_for_one_and_two_threads_and_for_merged_shards() {
 
 /// Panics on any trial whose first sample is positive: about half the trials, always the same ones.
 struct PanickingPlugin;
+#[derive(Clone)]
 struct Panicking {
     first: bool,
 }
@@ -110,8 +112,8 @@ impl DetectorPlugin for PanickingPlugin {
     fn params(&self) -> &'static [ParamSpec] {
         &NO_PARAMS
     }
-    fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(Panicking { first: true }))
+    fn plan(&self, _: &Params, _: &StreamInfo) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+        Ok(PrototypePlan::shared(Panicking { first: true }))
     }
     fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
         Ok(())
@@ -127,6 +129,7 @@ impl DetectorPlugin for PanickingPlugin {
 
 /// Returns NaN scores.
 struct NanPlugin;
+#[derive(Clone)]
 struct NanDetector;
 
 static NAN_PARAMS: [ParamSpec; 1] = [ParamSpec {
@@ -168,8 +171,8 @@ impl DetectorPlugin for NanPlugin {
     fn params(&self) -> &'static [ParamSpec] {
         &NAN_PARAMS
     }
-    fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(NanDetector))
+    fn plan(&self, _: &Params, _: &StreamInfo) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+        Ok(PrototypePlan::shared(NanDetector))
     }
     fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
         Ok(())
@@ -347,7 +350,7 @@ fn energy_detector_pd_on_a_sinusoid_matches_the_noncentral_chi_square() {
         adc_bits: 16,
         carrier_hz: 24.125e9,
     };
-    let mut detector = plugin.build(&params, &info).unwrap();
+    let mut detector = plugin.plan(&params, &info).unwrap().start();
     let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(11);
     let frames = 40_000;
     let f0 = 400.0; // 4 whole cycles per 16-sample frame at 1600 Hz

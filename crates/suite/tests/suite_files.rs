@@ -30,7 +30,7 @@ use std::path::{Path, PathBuf};
 
 /// A stand-in for a built-in plugin whose crate is not used here: it declares
 /// no parameters and accepts every stream. The suite reader only needs ids,
-/// parameter specs and `cost`; nothing here builds a detector.
+/// parameter specs and `cost`; nothing here plans a detector.
 struct StandIn {
     id: &'static str,
 }
@@ -48,16 +48,16 @@ impl DetectorPlugin for StandIn {
         &[]
     }
 
-    fn build(
+    fn plan(
         &self,
         _params: &Params,
         _info: &StreamInfo,
-    ) -> Result<Box<dyn echobench_core::detector::Detector>, ParamError> {
+    ) -> Result<std::sync::Arc<dyn echobench_core::detector::DetectorPlan>, ParamError> {
         Err(ParamError::new(
             self.id,
             "",
             "",
-            "a stand-in cannot build a detector",
+            "a stand-in cannot plan a detector",
         ))
     }
 

@@ -36,7 +36,10 @@ environment:
 fn max_after(samples: &[f32], info: &echobench_core::StreamInfo, from_s: f64) -> Vec<(f64, f64)> {
     let plugin = EnergyPlugin;
     let params = Params::defaults(plugin.params());
-    let mut detector = plugin.build(&params, info).expect("energy detector");
+    let mut detector = plugin
+        .plan(&params, info)
+        .map(|plan| plan.start())
+        .expect("energy detector");
     let mut out = Vec::new();
     detector
         .process(Samples::Real(samples), &mut out)

@@ -71,7 +71,10 @@ fn frame_scores(samples: &[f32], info: &StreamInfo) -> Vec<FrameScore> {
         &[("normalise".to_string(), ParamValue::Text("none".into()))],
     )
     .expect("energy parameters");
-    let mut detector = plugin.build(&params, info).expect("energy detector");
+    let mut detector = plugin
+        .plan(&params, info)
+        .map(|plan| plan.start())
+        .expect("energy detector");
     let mut out = Vec::new();
     detector
         .process(Samples::Real(samples), &mut out)

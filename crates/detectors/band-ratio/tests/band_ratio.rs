@@ -41,7 +41,10 @@ fn pinned(given: &[(&str, ParamValue)]) -> Vec<(String, ParamValue)> {
 /// With no parameter set, as a suite with `plugin: band-ratio` alone.
 fn run_defaults(info: &StreamInfo, data: &[f32]) -> Vec<FrameScore> {
     let params = Params::resolve("band-ratio", BandRatioPlugin.params(), &[]).unwrap();
-    let mut detector = BandRatioPlugin.build(&params, info).expect("builds");
+    let mut detector = BandRatioPlugin
+        .plan(&params, info)
+        .map(|plan| plan.start())
+        .expect("builds");
     let mut out = Vec::new();
     let block = Samples::from_values(data, info.channels).expect("whole pairs");
     detector.process(block, &mut out).unwrap();
@@ -54,7 +57,10 @@ fn run(
     data: &[f32],
     block: usize,
 ) -> Vec<FrameScore> {
-    let mut detector = BandRatioPlugin.build(&params(given), info).expect("builds");
+    let mut detector = BandRatioPlugin
+        .plan(&params(given), info)
+        .map(|plan| plan.start())
+        .expect("builds");
     let mut out = Vec::new();
     // Blocks of `block` sample instants (whole pairs on I/Q streams).
     for chunk in data.chunks(block.max(1) * info.channels.count()) {
@@ -420,7 +426,10 @@ fn time_stamps_mark_the_end_of_each_frame() {
 fn reset_forgets_the_stream() {
     let info = test_stream(2000.0);
     let data = noise(4, 2000, 0.01);
-    let mut detector = BandRatioPlugin.build(&params(&[]), &info).unwrap();
+    let mut detector = BandRatioPlugin
+        .plan(&params(&[]), &info)
+        .map(|plan| plan.start())
+        .unwrap();
     let mut first = Vec::new();
     detector.process(Samples::Real(&data), &mut first).unwrap();
     detector.reset();
@@ -445,7 +454,7 @@ fn refuses_bad_parameters_naming_them() {
         );
         let error = match Params::resolve("band-ratio", BandRatioPlugin.params(), &given) {
             Err(e) => ParamError::from(e),
-            Ok(p) => match BandRatioPlugin.build(&p, info) {
+            Ok(p) => match BandRatioPlugin.plan(&p, info).map(|plan| plan.start()) {
                 Err(e) => e,
                 Ok(_) => panic!("{given:?} was accepted"),
             },

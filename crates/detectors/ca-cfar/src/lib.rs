@@ -698,7 +698,10 @@ mod tests {
             .map(|(n, v)| (n.to_string(), v.clone()))
             .collect();
         let params = Params::resolve(ID, &PARAMS, &given)?;
-        CaCfarPlugin.build(&params, info).map(|_| ())
+        CaCfarPlugin
+            .plan(&params, info)
+            .map(|plan| plan.start())
+            .map(|_| ())
     }
 
     #[test]

@@ -64,7 +64,10 @@ fn max_score(samples: &[f32]) -> (f64, usize) {
         ),
     ];
     let params = Params::resolve("ca-cfar", CaCfarPlugin.params(), &given).unwrap();
-    let mut detector = CaCfarPlugin.build(&params, &test_stream(2000.0)).unwrap();
+    let mut detector = CaCfarPlugin
+        .plan(&params, &test_stream(2000.0))
+        .map(|plan| plan.start())
+        .unwrap();
     let mut scores = Vec::new();
     detector
         .process(Samples::Real(samples), &mut scores)

@@ -70,10 +70,11 @@ fn built(info: &StreamInfo) -> Box<dyn Detector> {
         ),
     ];
     CaCfarPlugin
-        .build(
+        .plan(
             &Params::resolve("ca-cfar", CaCfarPlugin.params(), &given).unwrap(),
             info,
         )
+        .map(|plan| plan.start())
         .unwrap()
 }
 

@@ -348,7 +348,9 @@ mod tests {
             .iter()
             .map(|(name, value)| (name.to_string(), ParamValue::Integer(*value)))
             .collect();
-        EnergyCPlugin.build(&Params::resolve(ID, &PARAMS, &given)?, info)
+        EnergyCPlugin
+            .plan(&Params::resolve(ID, &PARAMS, &given)?, info)
+            .map(|plan| plan.start())
     }
 
     fn run(detector: &mut dyn Detector, samples: &[f32], block: usize) -> Vec<FrameScore> {

@@ -30,7 +30,10 @@ fn scores(
         given.push(("normalise".to_string(), ParamValue::Text("none".into())));
     }
     let params = Params::resolve(plugin.id(), plugin.params(), &given).expect("valid");
-    let mut detector = plugin.build(&params, &test_stream(2000.0)).expect("valid");
+    let mut detector = plugin
+        .plan(&params, &test_stream(2000.0))
+        .map(|plan| plan.start())
+        .expect("valid");
     let mut out = Vec::new();
     for block in samples.chunks(1000) {
         detector.process(Samples::Real(block), &mut out).unwrap();

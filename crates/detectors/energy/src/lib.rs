@@ -646,7 +646,9 @@ mod tests {
         given: &[(&str, ParamValue)],
         info: &StreamInfo,
     ) -> Result<Box<dyn Detector>, ParamError> {
-        EnergyPlugin.build(&params(given)?, info)
+        EnergyPlugin
+            .plan(&params(given)?, info)
+            .map(|plan| plan.start())
     }
 
     /// Feeds a real stream in blocks of `block` samples.
@@ -753,7 +755,8 @@ mod tests {
         assert_eq!(refused(&[("floor_gate", real(0.5))]).param, "floor_gate");
         assert_eq!(refused(&[("floor_s", real(0.0))]).param, "floor_s");
         let no_rate = EnergyPlugin
-            .build(&Params::defaults(&PARAMS), &test_stream(0.0))
+            .plan(&Params::defaults(&PARAMS), &test_stream(0.0))
+            .map(|plan| plan.start())
             .err()
             .expect("zero sample rate refused");
         assert_eq!(no_rate.param, "sample_rate_hz");

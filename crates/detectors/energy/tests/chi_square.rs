@@ -44,7 +44,10 @@ fn noise_scores(
         ("hop".to_string(), ParamValue::Integer(frame_len as i64)),
     ];
     let params = Params::resolve("energy", EnergyPlugin.params(), &given).expect("valid");
-    let mut detector = EnergyPlugin.build(&params, &info).expect("valid");
+    let mut detector = EnergyPlugin
+        .plan(&params, &info)
+        .map(|plan| plan.start())
+        .expect("valid");
     let mut rng = ChaCha8Rng::from_seed([seed; 32]);
     let normal = Normal::new(0.0, sigma).expect("valid sigma");
     let values = frames * frame_len * info.channels.count();

@@ -94,7 +94,8 @@ fn raw_mode_reproduces_the_reference_energy_scores() {
         // keeps that bound (the f64 sum adds ~1e-16): 1.2e-7 relative.
         let samples: Vec<f32> = volts.iter().map(|&v| v as f32).collect();
         let mut detector = EnergyPlugin
-            .build(&reference_params(), &info)
+            .plan(&reference_params(), &info)
+            .map(|plan| plan.start())
             .expect("valid");
         let mut scores = Vec::new();
         detector

@@ -278,7 +278,8 @@ fn without_allow_exec_nothing_runs() {
     assert!(!plugin.allows_exec());
     for error in [
         plugin
-            .build(&params, &test_stream(FS))
+            .plan(&params, &test_stream(FS))
+            .map(|plan| plan.start())
             .err()
             .expect("refused"),
         plugin
@@ -307,10 +308,11 @@ fn bad_parameters_are_refused_by_name() {
     .expect("refused");
     assert_eq!(error.param, "timeout_s");
     let error = ExternalPlugin::new(true)
-        .build(
+        .plan(
             &params("/bin/sh", "", &[]).expect("resolves"),
             &test_stream(0.0),
         )
+        .map(|plan| plan.start())
         .err()
         .expect("refused");
     assert_eq!(error.param, "sample_rate_hz");

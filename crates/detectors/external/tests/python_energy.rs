@@ -65,7 +65,10 @@ fn built_in(
         .map(|(n, v)| (n.to_string(), v.clone()))
         .collect();
     let params = Params::resolve("energy", EnergyPlugin.params(), &given).expect("valid");
-    let mut detector = EnergyPlugin.build(&params, info).expect("valid");
+    let mut detector = EnergyPlugin
+        .plan(&params, info)
+        .map(|plan| plan.start())
+        .expect("valid");
     run(detector.as_mut(), samples, 1000, info.channels)
 }
 

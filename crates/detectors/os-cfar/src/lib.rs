@@ -628,7 +628,10 @@ mod tests {
             .map(|(n, v)| (n.to_string(), v.clone()))
             .collect();
         let params = Params::resolve(ID, &PARAMS, &given)?;
-        OsCfarPlugin.build(&params, info).map(|_| ())
+        OsCfarPlugin
+            .plan(&params, info)
+            .map(|plan| plan.start())
+            .map(|_| ())
     }
 
     #[test]

@@ -70,10 +70,11 @@ fn built(info: &StreamInfo) -> Box<dyn Detector> {
         ),
     ];
     OsCfarPlugin
-        .build(
+        .plan(
             &Params::resolve("os-cfar", OsCfarPlugin.params(), &given).unwrap(),
             info,
         )
+        .map(|plan| plan.start())
         .unwrap()
 }
 

@@ -67,7 +67,8 @@ fn run(
     block: usize,
 ) -> Vec<FrameScore> {
     let mut detector = PeriodicityPlugin
-        .build(&params(given), info)
+        .plan(&params(given), info)
+        .map(|plan| plan.start())
         .expect("builds");
     let mut out = Vec::new();
     // Blocks of `block` sample instants (whole pairs on I/Q streams).
@@ -494,7 +495,7 @@ fn refuses_bad_parameters_naming_them() {
         let given = pinned(given);
         let error = match Params::resolve("periodicity", PeriodicityPlugin.params(), &given) {
             Err(e) => ParamError::from(e),
-            Ok(p) => match PeriodicityPlugin.build(&p, info) {
+            Ok(p) => match PeriodicityPlugin.plan(&p, info).map(|plan| plan.start()) {
                 Err(e) => {
                     assert!(PeriodicityPlugin.check(&p, info).is_err());
                     e

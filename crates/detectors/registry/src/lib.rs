@@ -71,7 +71,8 @@ mod tests {
         for plugin in plugins {
             let params = Params::defaults(plugin.params());
             let mut detector = plugin
-                .build(&params, &info)
+                .plan(&params, &info)
+                .map(|plan| plan.start())
                 .unwrap_or_else(|e| panic!("{e}"));
             let cost = plugin.cost(&params, &info).unwrap();
             assert!(

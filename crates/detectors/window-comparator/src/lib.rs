@@ -516,7 +516,8 @@ mod tests {
 
     fn build(given: &[(&str, f64)], fs: f64) -> Box<dyn Detector> {
         WindowComparatorPlugin
-            .build(&params(given), &test_stream(fs))
+            .plan(&params(given), &test_stream(fs))
+            .map(|plan| plan.start())
             .expect("valid parameters")
     }
 
@@ -711,7 +712,8 @@ mod tests {
         let fs = 1000.0;
         let refused = |given: &[(&str, f64)], info: StreamInfo| {
             WindowComparatorPlugin
-                .build(&params(given), &info)
+                .plan(&params(given), &info)
+                .map(|plan| plan.start())
                 .err()
                 .expect("refused")
                 .param

@@ -4,13 +4,15 @@
 #![allow(dead_code)]
 
 use echobench_core::detector::{
-    Cost, Detector, DetectorFailure, DetectorPlugin, ParamError, ParamSpec, Params, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, ParamError, ParamSpec, Params,
+    PrototypePlan, Samples,
 };
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{resolve_detectors, run_suite};
 use echobench_harness::summary::summarise;
 use echobench_report::RunFolder;
 use echobench_suite::{load_suite_text, FolderSource};
+use std::sync::Arc;
 use std::sync::OnceLock;
 
 /// A suite small enough to run in about a second: a walker at two start ranges, a desk fan,
@@ -309,6 +311,7 @@ pub fn two_products_run() -> &'static RunFolder {
 /// Scores the mean magnitude of each block, but fails (a NaN score) on any trial whose
 /// first block has a positive mean: about half the trials, always the same ones.
 pub struct FlakyPlugin;
+#[derive(Clone)]
 struct Flaky {
     samples: u64,
 }
@@ -349,8 +352,8 @@ impl DetectorPlugin for FlakyPlugin {
     fn params(&self) -> &'static [ParamSpec] {
         &NO_PARAMS
     }
-    fn build(&self, _: &Params, _: &StreamInfo) -> Result<Box<dyn Detector>, ParamError> {
-        Ok(Box::new(Flaky { samples: 0 }))
+    fn plan(&self, _: &Params, _: &StreamInfo) -> Result<Arc<dyn DetectorPlan>, ParamError> {
+        Ok(PrototypePlan::shared(Flaky { samples: 0 }))
     }
     fn check(&self, _: &Params, _: &StreamInfo) -> Result<(), ParamError> {
         Ok(())

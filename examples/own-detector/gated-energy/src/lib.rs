@@ -216,7 +216,8 @@ mod tests {
         let info = test_stream(2000.0);
         let params = Params::defaults(&PARAMS);
         let mut detector = GatedEnergyPlugin
-            .build(&params, &info)
+            .plan(&params, &info)
+            .map(|plan| plan.start())
             .expect("defaults fit");
         let mut out = Vec::new();
         for chunk in samples.chunks(block) {

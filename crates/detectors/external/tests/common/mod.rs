@@ -136,5 +136,7 @@ pub fn build(
     more: &[(&str, ParamValue)],
     info: &echobench_core::StreamInfo,
 ) -> Result<Box<dyn Detector>, ParamError> {
-    ExternalPlugin::new(true).build(&params(command, args, more)?, info)
+    ExternalPlugin::new(true)
+        .plan(&params(command, args, more)?, info)
+        .map(|plan| plan.start())
 }
