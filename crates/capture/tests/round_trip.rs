@@ -117,8 +117,13 @@ fn round_trip(scene_file: &str) -> usize {
     // refuse both alike.)
     let mut compared = 0;
     for plugin in echobench_detectors::builtin() {
-        let synthetic = scores_of(plugin, &trial.info, &trial.samples, trial.samples.len());
-        let recorded = scores_of(plugin, &info, &from_wav, 2 * 257);
+        let synthetic = scores_of(
+            plugin.as_ref(),
+            &trial.info,
+            &trial.samples,
+            trial.samples.len(),
+        );
+        let recorded = scores_of(plugin.as_ref(), &info, &from_wav, 2 * 257);
         if let Ok(scores) = &synthetic {
             assert!(!scores.is_empty(), "{}: no scores", plugin.id());
             compared += 1;

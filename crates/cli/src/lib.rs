@@ -3,7 +3,7 @@
 //! ```no_run
 //! fn main() -> std::process::ExitCode {
 //!     let mut plugins = echobench_detectors::builtin();
-//!     // plugins.push(&my_detector::MyPlugin); // a team's own plugins, after the built-ins
+//!     // plugins.push(Arc::new(my_detector::MyPlugin)); // a team's own, after the built-ins
 //!     echobench::main_with(plugins)
 //! }
 //! ```
@@ -32,6 +32,7 @@ use echobench_scene::{export, load_scene_file, synthesize, StreamKey};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
+use std::sync::Arc;
 
 #[derive(Parser)]
 #[command(
@@ -214,7 +215,7 @@ enum Command {
 /// Runs the command line (the process's arguments) with `plugins` as the detectors every verb
 /// knows, then `external`; returns the exit status (0 done, 1 a failed check or gate, 2 an
 /// error, 3 a detector that failed on every test trial).
-pub fn main_with(plugins: Vec<&'static dyn DetectorPlugin>) -> ExitCode {
+pub fn main_with(plugins: Vec<Arc<dyn DetectorPlugin>>) -> ExitCode {
     let plugins = Plugins { own: plugins };
     if let Some(id) = plugins.repeated_id() {
         // A suite names a detector by its id: two plugins with one id would be a coin toss.
@@ -328,7 +329,7 @@ pub fn main_with(plugins: Vec<&'static dyn DetectorPlugin>) -> ExitCode {
 
 /// The detectors every verb knows: the caller's list, then `external`.
 struct Plugins {
-    own: Vec<&'static dyn DetectorPlugin>,
+    own: Vec<Arc<dyn DetectorPlugin>>,
 }
 
 impl Plugins {
@@ -343,7 +344,7 @@ impl Plugins {
     }
 
     /// The caller's plugins and `external`, which may run programs only when `allow_exec`.
-    fn with_external(&self, allow_exec: bool) -> Vec<&'static dyn DetectorPlugin> {
+    fn with_external(&self, allow_exec: bool) -> Vec<Arc<dyn DetectorPlugin>> {
         echobench_detectors::add_external(self.own.clone(), allow_exec)
     }
 }
@@ -926,7 +927,7 @@ fn run_detectors(plugins: &Plugins, sample_rate_hz: f64, carrier_hz: f64) -> Res
             } else {
                 format!(" [{}]", spec.unit)
             };
-            let range = match spec.kind {
+            let range = match &spec.kind {
                 ParamKind::Real { min, max } => format!("{min} to {max}"),
                 ParamKind::Integer { min, max } => format!("{min} to {max}"),
                 ParamKind::Choice(names) => names.join(" | "),
@@ -1137,7 +1138,7 @@ mod tests {
         };
         assert_eq!(built_in.repeated_id(), None);
         let mut twice = echobench_detectors::builtin();
-        twice.push(twice[0]);
+        twice.push(Arc::clone(&twice[0]));
         let twice = Plugins { own: twice };
         assert_eq!(twice.repeated_id().as_deref(), Some("energy"));
     }

@@ -24,6 +24,7 @@ use crate::doppler::Framing;
 pub use crate::param_error::{ParamError, ParamOwner};
 use crate::suggest::nearest;
 use crate::{Channels, Score, StreamInfo};
+use std::borrow::Cow;
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
 use std::sync::Arc;
@@ -246,13 +247,13 @@ impl<D: Detector + Clone + Sync + 'static> DetectorPlan for PrototypePlan<D> {
 /// A kind of detector that can be planned from parameters.
 pub trait DetectorPlugin: Send + Sync {
     /// Stable identifier used in suite files, e.g. `"ca-cfar"`.
-    fn id(&self) -> &'static str;
+    fn id(&self) -> &str;
 
     /// One line for `echobench detectors`.
-    fn about(&self) -> &'static str;
+    fn about(&self) -> &str;
 
     /// The parameters it takes, with defaults and ranges.
-    fn params(&self) -> &'static [ParamSpec];
+    fn params(&self) -> &[ParamSpec];
 
     /// Plans a detector for a stream shape: checks the parameters against
     /// the stream and makes everything the states share ([`DetectorPlan`]).
@@ -371,8 +372,38 @@ pub struct Cost {
     pub ops_per_sample: f64,
 }
 
+/// The names a choice parameter accepts: a list fixed at compile time (a
+/// typed declaration's options) or names a plugin made at run time owns.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum ChoiceNames {
+    /// A list in the program.
+    Static(&'static [&'static str]),
+    /// Names made at run time.
+    Owned(Vec<String>),
+}
+
+impl ChoiceNames {
+    /// The names, in order.
+    pub fn names(&self) -> Vec<&str> {
+        match self {
+            ChoiceNames::Static(names) => names.to_vec(),
+            ChoiceNames::Owned(names) => names.iter().map(String::as_str).collect(),
+        }
+    }
+
+    /// True when `name` is one of them.
+    pub fn contains(&self, name: &str) -> bool {
+        self.names().contains(&name)
+    }
+
+    /// The names joined by `separator`, for listings and messages.
+    pub fn join(&self, separator: &str) -> String {
+        self.names().join(separator)
+    }
+}
+
 /// The kind and range of a parameter.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub enum ParamKind {
     /// A real number in `[min, max]`.
     Real {
@@ -389,7 +420,7 @@ pub enum ParamKind {
         max: i64,
     },
     /// One of a list of names.
-    Choice(&'static [&'static str]),
+    Choice(ChoiceNames),
     /// True or false.
     Flag,
     /// Free text (a program path, its arguments).
@@ -421,40 +452,44 @@ impl fmt::Display for ParamValue {
 }
 
 /// A declared parameter.
-#[derive(Debug, Clone, Copy, PartialEq)]
+///
+/// Its texts are `Cow`s: a typed declaration ([`crate::param_decl`]) borrows
+/// `'static` strings, and a plugin made at run time (from a file it reads,
+/// say) owns its names, so nothing needs to be leaked to make it.
+#[derive(Debug, Clone, PartialEq)]
 pub struct ParamSpec {
     /// Name, with its unit as a suffix where it has one (`frame_len`, `hold_s`, `low_hz`).
-    pub name: &'static str,
+    pub name: Cow<'static, str>,
     /// Unit for display ("Hz", "s", "samples", "" for none).
-    pub unit: &'static str,
+    pub unit: Cow<'static, str>,
     /// What it does, one line.
-    pub about: &'static str,
+    pub about: Cow<'static, str>,
     /// Kind and range.
     pub kind: ParamKind,
     /// Value used when the suite does not set it.
     pub default: DefaultValue,
 }
 
-/// A default that can live in a `static` table.
-#[derive(Debug, Clone, Copy, PartialEq)]
+/// A default that can live in a `static` table (or be owned by a plugin made at run time).
+#[derive(Debug, Clone, PartialEq)]
 pub enum DefaultValue {
     /// A real number.
     Real(f64),
     /// A whole number.
     Integer(i64),
     /// A name.
-    Text(&'static str),
+    Text(Cow<'static, str>),
     /// A flag.
     Flag(bool),
 }
 
 impl DefaultValue {
-    fn to_value(self) -> ParamValue {
+    fn to_value(&self) -> ParamValue {
         match self {
-            DefaultValue::Real(x) => ParamValue::Real(x),
-            DefaultValue::Integer(i) => ParamValue::Integer(i),
+            DefaultValue::Real(x) => ParamValue::Real(*x),
+            DefaultValue::Integer(i) => ParamValue::Integer(*i),
             DefaultValue::Text(s) => ParamValue::Text(s.to_string()),
-            DefaultValue::Flag(b) => ParamValue::Flag(b),
+            DefaultValue::Flag(b) => ParamValue::Flag(*b),
         }
     }
 }
@@ -462,7 +497,7 @@ impl DefaultValue {
 impl ParamSpec {
     /// The allowed values, for messages and listings.
     pub fn allowed(&self) -> String {
-        match self.kind {
+        match &self.kind {
             ParamKind::Real { min, max } => format!("a number in [{min}, {max}]"),
             ParamKind::Integer { min, max } => format!("a whole number in [{min}, {max}]"),
             ParamKind::Choice(names) => format!("one of {}", names.join(", ")),
@@ -477,21 +512,21 @@ impl ParamSpec {
     }
 
     fn check(&self, value: &ParamValue) -> Result<ParamValue, String> {
-        match (self.kind, value) {
+        match (&self.kind, value) {
             (ParamKind::Real { min, max }, ParamValue::Real(x))
-                if x.is_finite() && *x >= min && *x <= max =>
+                if x.is_finite() && *x >= *min && *x <= *max =>
             {
                 Ok(ParamValue::Real(*x))
             }
             (ParamKind::Real { min, max }, ParamValue::Integer(i))
-                if (*i as f64) >= min && (*i as f64) <= max =>
+                if (*i as f64) >= *min && (*i as f64) <= *max =>
             {
                 Ok(ParamValue::Real(*i as f64))
             }
-            (ParamKind::Integer { min, max }, ParamValue::Integer(i)) if *i >= min && *i <= max => {
+            (ParamKind::Integer { min, max }, ParamValue::Integer(i)) if i >= min && i <= max => {
                 Ok(ParamValue::Integer(*i))
             }
-            (ParamKind::Choice(names), ParamValue::Text(s)) if names.contains(&s.as_str()) => {
+            (ParamKind::Choice(names), ParamValue::Text(s)) if names.contains(s) => {
                 Ok(value.clone())
             }
             (ParamKind::Flag, ParamValue::Flag(_)) => Ok(value.clone()),
@@ -567,10 +602,10 @@ pub struct Params {
     /// The detector they were resolved for (empty for [`Params::defaults`]),
     /// for the messages of a read that finds no value.
     detector: String,
-    values: BTreeMap<&'static str, ParamValue>,
+    values: BTreeMap<String, ParamValue>,
     /// The names the suite set (the rest hold defaults): lets a plugin take
     /// a band's unit from the parameters actually written (see `doppler`).
-    given: BTreeSet<&'static str>,
+    given: BTreeSet<String>,
 }
 
 impl Params {
@@ -583,13 +618,15 @@ impl Params {
     ///
     /// ```
     /// use echobench_core::detector::{DefaultValue, ParamKind, ParamSpec, ParamValue, Params};
-    /// static SPECS: [ParamSpec; 1] = [ParamSpec {
-    ///     name: "frame_len", unit: "samples", about: "frame length",
+    /// // A table written by hand (plugins write `IntegerParam { .. }.spec()`; see
+    /// // `param_decl`), with an owned name as a plugin made at run time would have.
+    /// let specs = [ParamSpec {
+    ///     name: String::from("frame_len").into(), unit: "samples".into(), about: "frame length".into(),
     ///     kind: ParamKind::Integer { min: 8, max: 4096 }, default: DefaultValue::Integer(256),
     /// }];
-    /// let p = Params::resolve("demo", &SPECS, &[]).unwrap();
+    /// let p = Params::resolve("demo", &specs, &[]).unwrap();
     /// assert_eq!(p.value("frame_len"), Some(&ParamValue::Integer(256)));
-    /// let bad = Params::resolve("demo", &SPECS, &[
+    /// let bad = Params::resolve("demo", &specs, &[
     ///     ("frame_len".into(), ParamValue::Integer(-4)),
     ///     ("frame_ln".into(), ParamValue::Integer(64)),
     /// ]);
@@ -600,16 +637,18 @@ impl Params {
     /// ```
     pub fn resolve(
         detector: &str,
-        specs: &'static [ParamSpec],
+        specs: &[ParamSpec],
         given: &[(String, ParamValue)],
     ) -> Result<Params, ParamProblems> {
-        let mut values: BTreeMap<&'static str, ParamValue> =
-            specs.iter().map(|s| (s.name, s.default_value())).collect();
+        let mut values: BTreeMap<String, ParamValue> = specs
+            .iter()
+            .map(|s| (s.name.to_string(), s.default_value()))
+            .collect();
         let mut set = BTreeSet::new();
         let mut problems = Vec::new();
         for (name, value) in given {
-            let Some(spec) = specs.iter().find(|s| s.name == name) else {
-                let names: Vec<&str> = specs.iter().map(|s| s.name).collect();
+            let Some(spec) = specs.iter().find(|s| s.name == name.as_str()) else {
+                let names: Vec<&str> = specs.iter().map(|s| &*s.name).collect();
                 let hint = nearest(name, &names).map_or_else(
                     || format!("known parameters: {}", names.join(", ")),
                     |n| format!("did you mean `{n}`?"),
@@ -624,8 +663,8 @@ impl Params {
             };
             match spec.check(value) {
                 Ok(checked) => {
-                    values.insert(spec.name, checked);
-                    set.insert(spec.name);
+                    values.insert(spec.name.to_string(), checked);
+                    set.insert(spec.name.to_string());
                 }
                 Err(m) => problems.push(ParamError::new(detector, name, value, m)),
             }
@@ -642,10 +681,13 @@ impl Params {
     }
 
     /// The defaults of `specs`.
-    pub fn defaults(specs: &'static [ParamSpec]) -> Params {
+    pub fn defaults(specs: &[ParamSpec]) -> Params {
         Params {
             detector: String::new(),
-            values: specs.iter().map(|s| (s.name, s.default_value())).collect(),
+            values: specs
+                .iter()
+                .map(|s| (s.name.to_string(), s.default_value()))
+                .collect(),
             given: BTreeSet::new(),
         }
     }
@@ -668,8 +710,8 @@ impl Params {
     }
 
     /// All values, by name (for summaries).
-    pub fn iter(&self) -> impl Iterator<Item = (&'static str, &ParamValue)> {
-        self.values.iter().map(|(k, v)| (*k, v))
+    pub fn iter(&self) -> impl Iterator<Item = (&str, &ParamValue)> {
+        self.values.iter().map(|(k, v)| (k.as_str(), v))
     }
 }
 
@@ -734,23 +776,23 @@ mod tests {
 
     static SPECS: [ParamSpec; 3] = [
         ParamSpec {
-            name: "low_hz",
-            unit: "Hz",
-            about: "lower band edge",
+            name: Cow::Borrowed("low_hz"),
+            unit: Cow::Borrowed("Hz"),
+            about: Cow::Borrowed("lower band edge"),
             kind: ParamKind::Real { min: 0.0, max: 1e4 },
             default: DefaultValue::Real(10.0),
         },
         ParamSpec {
-            name: "window",
-            unit: "",
-            about: "window",
-            kind: ParamKind::Choice(&["hann", "rect"]),
-            default: DefaultValue::Text("hann"),
+            name: Cow::Borrowed("window"),
+            unit: Cow::Borrowed(""),
+            about: Cow::Borrowed("window"),
+            kind: ParamKind::Choice(ChoiceNames::Static(&["hann", "rect"])),
+            default: DefaultValue::Text(Cow::Borrowed("hann")),
         },
         ParamSpec {
-            name: "smooth",
-            unit: "",
-            about: "smoothing",
+            name: Cow::Borrowed("smooth"),
+            unit: Cow::Borrowed(""),
+            about: Cow::Borrowed("smoothing"),
             kind: ParamKind::Flag,
             default: DefaultValue::Flag(false),
         },

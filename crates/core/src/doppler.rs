@@ -35,7 +35,7 @@
 //!   rule), or up to ×2 with `frame_pow2`. The hop is then
 //!   `hop_fraction`·N samples (at least 1).
 
-use crate::detector::{ParamError, ParamSpec, Params};
+use crate::detector::{ParamError, Params};
 use crate::param_decl::{ChoiceParam, FlagParam, IntegerParam, RealParam};
 use crate::StreamInfo;
 
@@ -348,7 +348,7 @@ pub struct FrameDefaults {
 /// The frame family, each parameter declared once: `frame_units` (auto),
 /// `frame_len`/`hop` (samples), `frame_s`, `resolution_mps`, `hop_fraction`,
 /// `frame_pow2`, with the detector's defaults and [`FrameRules`]. The
-/// detector's table lists [`FrameParams::specs`]; [`resolve_frame`] reads them.
+/// detector's table lists each field's `spec()`; [`resolve_frame`] reads them.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FrameParams {
     /// `frame_units`: `auto` (`None`), `samples`, `s` or `mps`.
@@ -435,19 +435,6 @@ impl FrameParams {
             },
             rules,
         }
-    }
-
-    /// The seven entries for the detector's parameter table, in the order of the fields.
-    pub const fn specs(&self) -> [ParamSpec; 7] {
-        [
-            self.units.spec(),
-            self.frame_len.spec(),
-            self.hop.spec(),
-            self.frame_s.spec(),
-            self.resolution_mps.spec(),
-            self.hop_fraction.spec(),
-            self.pow2.spec(),
-        ]
     }
 }
 
@@ -630,7 +617,7 @@ pub const MOTION_MAX_MPS: f64 = 4.0;
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::detector::ParamValue;
+    use crate::detector::{ParamSpec, ParamValue};
 
     #[test]
     fn speed_and_doppler_convert_both_ways() {
@@ -722,23 +709,20 @@ mod tests {
             max_len: 65536,
         },
     );
-    static SPECS: [ParamSpec; 12] = {
-        let f = FRAME.specs();
-        [
-            BAND_UNITS.spec(),
-            BAND.low_hz.spec(),
-            BAND.high_hz.spec(),
-            BAND.low_mps.spec(),
-            BAND.high_mps.spec(),
-            f[0],
-            f[1],
-            f[2],
-            f[3],
-            f[4],
-            f[5],
-            f[6],
-        ]
-    };
+    static SPECS: [ParamSpec; 12] = [
+        BAND_UNITS.spec(),
+        BAND.low_hz.spec(),
+        BAND.high_hz.spec(),
+        BAND.low_mps.spec(),
+        BAND.high_mps.spec(),
+        FRAME.units.spec(),
+        FRAME.frame_len.spec(),
+        FRAME.hop.spec(),
+        FRAME.frame_s.spec(),
+        FRAME.resolution_mps.spec(),
+        FRAME.hop_fraction.spec(),
+        FRAME.pow2.spec(),
+    ];
 
     fn resolve(given: &[(&str, ParamValue)]) -> Result<Params, ParamError> {
         let given: Vec<(String, ParamValue)> = given

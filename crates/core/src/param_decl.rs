@@ -43,7 +43,10 @@
 //! checks them (and returns `ParamError` anyway), so the bug surfaces as a
 //! refusal naming the parameter, which the conformance kit reports.
 
-use crate::detector::{DefaultValue, ParamError, ParamKind, ParamSpec, ParamValue, Params};
+use crate::detector::{
+    ChoiceNames, DefaultValue, ParamError, ParamKind, ParamSpec, ParamValue, Params,
+};
+use std::borrow::Cow;
 
 /// The error of a `get` that found no value of the declared kind.
 fn not_resolved(params: &Params, name: &str, kind: &str) -> ParamError {
@@ -90,9 +93,9 @@ impl RealParam {
             "RealParam: default outside [min, max]"
         );
         ParamSpec {
-            name: self.name,
-            unit: self.unit,
-            about: self.about,
+            name: Cow::Borrowed(self.name),
+            unit: Cow::Borrowed(self.unit),
+            about: Cow::Borrowed(self.about),
             kind: ParamKind::Real {
                 min: self.min,
                 max: self.max,
@@ -147,9 +150,9 @@ impl IntegerParam {
             "IntegerParam: default outside [min, max]"
         );
         ParamSpec {
-            name: self.name,
-            unit: self.unit,
-            about: self.about,
+            name: Cow::Borrowed(self.name),
+            unit: Cow::Borrowed(self.unit),
+            about: Cow::Borrowed(self.about),
             kind: ParamKind::Integer {
                 min: self.min,
                 max: self.max,
@@ -190,9 +193,9 @@ impl FlagParam {
     /// The entry for the plugin's parameter table.
     pub const fn spec(&self) -> ParamSpec {
         ParamSpec {
-            name: self.name,
-            unit: "",
-            about: self.about,
+            name: Cow::Borrowed(self.name),
+            unit: Cow::Borrowed(""),
+            about: Cow::Borrowed(self.about),
             kind: ParamKind::Flag,
             default: DefaultValue::Flag(self.default),
         }
@@ -230,11 +233,11 @@ impl TextParam {
     /// The entry for the plugin's parameter table.
     pub const fn spec(&self) -> ParamSpec {
         ParamSpec {
-            name: self.name,
-            unit: "",
-            about: self.about,
+            name: Cow::Borrowed(self.name),
+            unit: Cow::Borrowed(""),
+            about: Cow::Borrowed(self.about),
             kind: ParamKind::Text,
-            default: DefaultValue::Text(self.default),
+            default: DefaultValue::Text(Cow::Borrowed(self.default)),
         }
     }
 
@@ -306,11 +309,11 @@ impl<T: Copy + 'static> ChoiceParam<T> {
         }
         assert!(found, "ChoiceParam: default is not one of the options");
         ParamSpec {
-            name: self.name,
-            unit: "",
-            about: self.about,
-            kind: ParamKind::Choice(self.options),
-            default: DefaultValue::Text(self.default),
+            name: Cow::Borrowed(self.name),
+            unit: Cow::Borrowed(""),
+            about: Cow::Borrowed(self.about),
+            kind: ParamKind::Choice(ChoiceNames::Static(self.options)),
+            default: DefaultValue::Text(Cow::Borrowed(self.default)),
         }
     }
 
@@ -393,15 +396,18 @@ mod tests {
         assert_eq!(
             TABLE[0],
             ParamSpec {
-                name: "low_hz",
-                unit: "Hz",
-                about: "lower band edge",
+                name: Cow::Borrowed("low_hz"),
+                unit: Cow::Borrowed("Hz"),
+                about: Cow::Borrowed("lower band edge"),
                 kind: ParamKind::Real { min: 0.0, max: 1e4 },
                 default: DefaultValue::Real(10.0),
             }
         );
-        assert_eq!(TABLE[2].kind, ParamKind::Choice(&["hann", "rect"]));
-        assert_eq!(TABLE[2].default, DefaultValue::Text("hann"));
+        assert_eq!(
+            TABLE[2].kind,
+            ParamKind::Choice(ChoiceNames::Static(&["hann", "rect"]))
+        );
+        assert_eq!(TABLE[2].default, DefaultValue::Text(Cow::Borrowed("hann")));
         // Defaults read back typed through the same constants.
         let p = Params::resolve("t", &TABLE, &[]).unwrap();
         assert_eq!(LOW_HZ.get(&p), Ok(10.0));

@@ -11,6 +11,7 @@ use echobench_report::Section;
 use echobench_svg::escape;
 use rayon::prelude::*;
 use std::fmt::Write as _;
+use std::sync::Arc;
 
 /// Most pictures in a report's gallery. A picture is about 50 kB of SVG on average (its
 /// spectrogram a compressed raster of at most 240 × 64 cells, shared by the pictures of the
@@ -263,7 +264,7 @@ fn share_spectrograms(figures: &mut [String], picks: &[GalleryPick]) {
 /// not in `plugins` is noted too. Products without a single pick get a sentence saying so.
 pub fn gallery_sections(
     run: &ExplainRun,
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
     per_detector: usize,
 ) -> Vec<Section> {
     let selection = select_gallery(&run.tallies, per_detector);

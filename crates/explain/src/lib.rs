@@ -49,6 +49,7 @@ use echobench_suite::{
     DEFAULT_SUITE_SOURCE, DEFAULT_SUITE_YAML,
 };
 use std::path::Path;
+use std::sync::Arc;
 
 /// Why a trial cannot be explained. Every variant says what to change.
 #[derive(Debug, thiserror::Error)]
@@ -134,7 +135,7 @@ impl ExplainRun {
     pub fn load(
         dir: &Path,
         suite_file: Option<&Path>,
-        plugins: &[&dyn DetectorPlugin],
+        plugins: &[Arc<dyn DetectorPlugin>],
     ) -> Result<ExplainRun, ExplainError> {
         echobench_run_folder::verify(dir, &["tallies.json", "suite.yaml"])
             .map_err(|e| ExplainError::Folder(e.to_string()))?;
@@ -161,7 +162,7 @@ impl ExplainRun {
         tallies: Tallies,
         run_dir: &Path,
         suite_file: Option<&Path>,
-        plugins: &[&dyn DetectorPlugin],
+        plugins: &[Arc<dyn DetectorPlugin>],
     ) -> Result<ExplainRun, ExplainError> {
         let embedded = EmbeddedSource::default_suite();
         let folder;
@@ -605,7 +606,7 @@ fn capitalised(text: &str) -> String {
 /// cannot be drawn.
 pub fn explain_trial(
     run: &ExplainRun,
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
     request: &ExplainRequest,
 ) -> Result<Explanation, ExplainError> {
     let suite = &run.suite;

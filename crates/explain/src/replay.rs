@@ -11,6 +11,7 @@ use echobench_harness::runner::trial_key;
 use echobench_harness::signal::{SignalTruth, TrialSignal};
 use echobench_suite::Suite;
 use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::sync::Arc;
 
 /// Sample instants per block fed to the detectors: the runner's block. Detectors give
 /// identical scores for any block split (their contract, tested per detector), so this only
@@ -29,7 +30,7 @@ pub(crate) struct ReplayDetector<'a> {
 pub(crate) fn resolve_detector<'a>(
     suite: &Suite,
     label: &str,
-    plugins: &[&'a dyn DetectorPlugin],
+    plugins: &'a [Arc<dyn DetectorPlugin>],
 ) -> Result<ReplayDetector<'a>, ExplainError> {
     let entry = suite
         .detectors
@@ -57,7 +58,7 @@ pub(crate) fn resolve_detector<'a>(
         })?;
     // The parameters the suite loader resolved, as the runner takes them.
     Ok(ReplayDetector {
-        plugin: *plugin,
+        plugin: plugin.as_ref(),
         params: entry.resolved.clone(),
     })
 }

@@ -10,6 +10,7 @@ use echobench_explain::{
 use echobench_harness::runner::{resolve_detectors, run_suite, Tallies, TrialOutcome};
 use echobench_suite::Suite;
 use echobench_suite::{load_suite_text, FolderSource};
+use std::sync::Arc;
 
 const SUITE: &str = r#"
 name: explain-check
@@ -48,7 +49,7 @@ detectors:
   - plugin: band-ratio
 "#;
 
-fn plugins() -> Vec<&'static dyn DetectorPlugin> {
+fn plugins() -> Vec<Arc<dyn DetectorPlugin>> {
     echobench_detectors::builtin()
 }
 

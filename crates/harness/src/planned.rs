@@ -46,8 +46,8 @@ type Plans = HashMap<(usize, Shape), Result<Arc<dyn DetectorPlan>, String>>;
 type Idle = HashMap<(ThreadId, usize, Shape), Box<dyn Detector>>;
 
 /// The plans and idle states of one run's detectors.
-pub(crate) struct PlannedDetectors<'r, 'p> {
-    detectors: &'r [RunDetector<'p>],
+pub(crate) struct PlannedDetectors<'r> {
+    detectors: &'r [RunDetector],
     /// Plans by (detector index, stream shape); a refusal or a panic is kept as its message,
     /// reported for every trial of that shape as a build error was.
     plans: Mutex<Plans>,
@@ -63,9 +63,9 @@ fn lock<T>(mutex: &Mutex<T>) -> MutexGuard<'_, T> {
         .unwrap_or_else(|poisoned| poisoned.into_inner())
 }
 
-impl<'r, 'p> PlannedDetectors<'r, 'p> {
+impl<'r> PlannedDetectors<'r> {
     /// Nothing planned yet for `detectors`.
-    pub(crate) fn new(detectors: &'r [RunDetector<'p>]) -> Self {
+    pub(crate) fn new(detectors: &'r [RunDetector]) -> Self {
         PlannedDetectors {
             detectors,
             plans: Mutex::new(HashMap::new()),
@@ -74,7 +74,7 @@ impl<'r, 'p> PlannedDetectors<'r, 'p> {
     }
 
     /// The run's detectors, in suite order.
-    pub(crate) fn detectors(&self) -> &'r [RunDetector<'p>] {
+    pub(crate) fn detectors(&self) -> &'r [RunDetector] {
         self.detectors
     }
 

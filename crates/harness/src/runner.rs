@@ -33,6 +33,7 @@ use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::sync::Arc;
 use std::time::Instant;
 
 /// Version of the tallies and summary schema.
@@ -79,11 +80,11 @@ impl Shard {
 }
 
 /// A detector of the run: its suite entry resolved against a plugin.
-pub struct RunDetector<'a> {
+pub struct RunDetector {
     /// Label in the suite.
     pub label: String,
     /// The plugin.
-    pub plugin: &'a dyn DetectorPlugin,
+    pub plugin: Arc<dyn DetectorPlugin>,
     /// Resolved parameters.
     pub params: Params,
     /// Thresholds fixed from a baseline run per product, tallied beside the calibrated
@@ -420,10 +421,10 @@ impl std::error::Error for RunError {}
 ///
 /// # Errors
 /// A detector whose plugin is not among `plugins` (a suite loaded with other plugins).
-pub fn resolve_detectors<'a>(
+pub fn resolve_detectors(
     suite: &Suite,
-    plugins: &[&'a dyn DetectorPlugin],
-) -> Result<Vec<RunDetector<'a>>, RunError> {
+    plugins: &[Arc<dyn DetectorPlugin>],
+) -> Result<Vec<RunDetector>, RunError> {
     suite
         .detectors
         .iter()
@@ -439,7 +440,7 @@ pub fn resolve_detectors<'a>(
                 })?;
             Ok(RunDetector {
                 label: entry.label.clone(),
-                plugin: *plugin,
+                plugin: Arc::clone(plugin),
                 params: entry.resolved.clone(),
                 pinned: BTreeMap::new(),
             })

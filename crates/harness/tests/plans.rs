@@ -152,8 +152,7 @@ scoring: {early_s: 0.5, late_s: 2, target_false_alarms_per_hour: [100]}
 #[test]
 fn one_plan_per_stream_shape_one_state_per_thread_and_reset_between_trials() {
     let counts = Arc::new(Counts::default());
-    let counting = CountingPlugin(counts.clone());
-    let plugins: Vec<&dyn DetectorPlugin> = vec![&counting];
+    let plugins: Vec<Arc<dyn DetectorPlugin>> = vec![Arc::new(CountingPlugin(counts.clone()))];
     let (suite, _) = load_suite_text("plans.yaml", SUITE, &InlineOnly, &plugins)
         .unwrap_or_else(|report| panic!("{report}"));
     let detectors = resolve_detectors(&suite, &plugins).unwrap();

@@ -66,8 +66,6 @@ impl DetectorPlugin for SilentPlugin {
     }
 }
 
-static SILENT: SilentPlugin = SilentPlugin;
-
 /// A 24 GHz room-lighting product: a visitor who walks in and stands still, a seated
 /// reader present from the start, and an empty room with a desk fan.
 const SUITE: &str = "\
@@ -146,7 +144,7 @@ const SENSOR: &str = "{position_m: [0, 0, 2.6], carrier_hz: 24.125e9, sample_rat
 
 fn load() -> Suite {
     let mut plugins = echobench_detectors::builtin();
-    plugins.push(&SILENT);
+    plugins.push(Arc::new(SilentPlugin));
     let text = SUITE.replace("{SENSOR}", SENSOR);
     let (suite, report) = load_suite_text("presence-run.yaml", &text, &InlineOnly, &plugins)
         .unwrap_or_else(|report| panic!("does not load:\n{report}"));
@@ -156,7 +154,7 @@ fn load() -> Suite {
 
 fn run(suite: &Suite) -> Tallies {
     let mut plugins = echobench_detectors::builtin();
-    plugins.push(&SILENT);
+    plugins.push(Arc::new(SilentPlugin));
     let detectors = resolve_detectors(suite, &plugins).unwrap();
     run_suite(suite, &detectors, None, &|_| {}).unwrap().0
 }

@@ -112,8 +112,6 @@ impl DetectorPlugin for CoinPlugin {
     }
 }
 
-static COIN: CoinPlugin = CoinPlugin;
-
 const SENSOR: &str = "{position_m: [0, 0, 2.3], carrier_hz: 2.45e9, sample_rate_hz: 2000, front_end: {high_pass_hz: [0.5], low_pass_hz: [100, 100], gain_db: 60, rails_v: [0, 3.3]}, adc: {bits: 12, full_scale_v: 3.3}}";
 
 /// A corridor module with a walker, a quiet room and (with `{DOOR}`) a storeroom door that
@@ -169,7 +167,7 @@ const DOOR: &str = "  - id: storeroom-door
 
 fn load(with_door: bool) -> Suite {
     let mut plugins = echobench_detectors::builtin();
-    plugins.push(&COIN);
+    plugins.push(Arc::new(CoinPlugin));
     let text = SUITE
         .replace("{DOOR}", if with_door { DOOR } else { "" })
         .replace("{SENSOR}", SENSOR);
@@ -181,7 +179,7 @@ fn load(with_door: bool) -> Suite {
 
 fn run(suite: &Suite) -> Tallies {
     let mut plugins = echobench_detectors::builtin();
-    plugins.push(&COIN);
+    plugins.push(Arc::new(CoinPlugin));
     let detectors = resolve_detectors(suite, &plugins).unwrap();
     run_suite(suite, &detectors, None, &|_| {}).unwrap().0
 }
@@ -246,7 +244,7 @@ fn a_door_that_fires_on_a_known_fraction_of_swings_gives_that_rate() {
 #[test]
 fn a_rare_event_must_be_a_synthesized_nuisance_without_calibration() {
     let mut plugins = echobench_detectors::builtin();
-    plugins.push(&COIN);
+    plugins.push(Arc::new(CoinPlugin));
     for (change, expected) in [
         ("occurrences_per_day: 12", "occurrences_per_day: -1"),
         (

@@ -2,9 +2,10 @@
 //! detectors, and detection statistics through the whole chain.
 
 use echobench_core::detector::{
-    Cost, DefaultValue, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, ParamError,
-    ParamKind, ParamSpec, Params, PrototypePlan, Samples,
+    Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, ParamError, ParamSpec, Params,
+    PrototypePlan, Samples,
 };
+use echobench_core::param_decl::IntegerParam;
 use echobench_core::{FrameScore, StreamInfo};
 use echobench_harness::runner::{merge_tallies, resolve_detectors, run_suite, Shard, Tallies};
 use echobench_harness::summary::summarise;
@@ -12,7 +13,7 @@ use echobench_suite::Suite;
 use echobench_suite::{default_suite, load_suite_text, FolderSource};
 use std::sync::Arc;
 
-fn plugins() -> Vec<&'static dyn DetectorPlugin> {
+fn plugins() -> Vec<Arc<dyn DetectorPlugin>> {
     echobench_detectors::builtin()
 }
 
@@ -30,7 +31,7 @@ fn run(
     suite: &Suite,
     shard: Option<Shard>,
     threads: usize,
-    extra: &[&'static dyn DetectorPlugin],
+    extra: &[Arc<dyn DetectorPlugin>],
 ) -> Tallies {
     let mut all = plugins();
     all.extend_from_slice(extra);
@@ -132,16 +133,15 @@ struct NanPlugin;
 #[derive(Clone)]
 struct NanDetector;
 
-static NAN_PARAMS: [ParamSpec; 1] = [ParamSpec {
+static NAN_PARAMS: [ParamSpec; 1] = [IntegerParam {
     name: "frame_len",
     unit: "samples",
     about: "frame",
-    kind: ParamKind::Integer {
-        min: 1,
-        max: 100_000,
-    },
-    default: DefaultValue::Integer(1000),
-}];
+    min: 1,
+    max: 100_000,
+    default: 1000,
+}
+.spec()];
 
 impl Detector for NanDetector {
     fn process(
@@ -190,7 +190,10 @@ impl DetectorPlugin for NanPlugin {
 fn a_panicking_or_nan_detector_is_reported_and_the_others_complete() {
     let mut suite = small_default(2, 1);
     let clean = run(&suite, None, 2, &[]);
-    for plugin in [&PanickingPlugin as &dyn DetectorPlugin, &NanPlugin] {
+    for plugin in [
+        Arc::new(PanickingPlugin) as Arc<dyn DetectorPlugin>,
+        Arc::new(NanPlugin),
+    ] {
         suite.detectors.push(echobench_suite::DetectorEntry {
             label: plugin.id().into(),
             plugin: plugin.id().into(),
@@ -198,7 +201,12 @@ fn a_panicking_or_nan_detector_is_reported_and_the_others_complete() {
             resolved: Params::defaults(plugin.params()),
         });
     }
-    let tallies = run(&suite, None, 2, &[&PanickingPlugin, &NanPlugin]);
+    let tallies = run(
+        &suite,
+        None,
+        2,
+        &[Arc::new(PanickingPlugin), Arc::new(NanPlugin)],
+    );
     // The last product's last two detectors.
     let panicking = &tallies.detectors[tallies.detectors.len() - 2];
     let nan = &tallies.detectors[tallies.detectors.len() - 1];

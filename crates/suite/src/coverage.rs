@@ -7,6 +7,7 @@ use crate::model::{CoverageFinding, SceneLabel, SuiteScene};
 use echobench_core::detector::DetectorPlugin;
 use echobench_yaml_reader::{Problem, Report, Severity};
 use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::sync::Arc;
 
 /// Trials whose kinematics the coverage check samples per target scene variant.
 const COVERAGE_TRIALS: u64 = 2;
@@ -16,7 +17,7 @@ const COVERAGE_TRIALS: u64 = 2;
 pub(crate) fn check_coverage(
     scenes: &[SuiteScene],
     detectors: &[DetectorRead],
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
     seed: u64,
     suite_file: &str,
     report: &mut Report,
@@ -43,7 +44,7 @@ pub(crate) fn check_coverage(
             };
             let info = stream_of(&variant.scene);
             for detector in detectors {
-                let plugin = plugins[detector.plugin_index];
+                let plugin = &plugins[detector.plugin_index];
                 let bands = match catch_unwind(AssertUnwindSafe(|| {
                     plugin.doppler_bands(&detector.entry.resolved, &info)
                 })) {

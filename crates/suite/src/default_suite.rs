@@ -5,6 +5,7 @@ use crate::model::Suite;
 use crate::sources::EmbeddedSource;
 use echobench_core::detector::DetectorPlugin;
 use echobench_yaml_reader::Report;
+use std::sync::Arc;
 
 /// How the built-in default suite is named in messages.
 pub const DEFAULT_SUITE_FILE_NAME: &str = "<built-in>/default-suite.yaml";
@@ -115,7 +116,7 @@ pub static DEFAULT_SUITE_SCENES: [(&str, &str); 22] = [
 /// # Errors
 /// Every problem found: none for the built-in detectors (a test holds it so),
 /// but a plugin list without one of them is refused.
-pub fn default_suite(plugins: &[&dyn DetectorPlugin]) -> Result<Suite, Report> {
+pub fn default_suite(plugins: &[Arc<dyn DetectorPlugin>]) -> Result<Suite, Report> {
     let (mut suite, _warnings) = load_suite_text(
         DEFAULT_SUITE_FILE_NAME,
         DEFAULT_SUITE_YAML,

@@ -12,6 +12,7 @@ use echobench_scene::SceneSpec;
 use echobench_yaml_reader::{suggest, Location, Node, Reader, Report, Value};
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::Path;
+use std::sync::Arc;
 
 /// A detector entry with what the stream checks need.
 pub(crate) struct DetectorRead {
@@ -29,7 +30,7 @@ pub(crate) struct DetectorRead {
 pub(crate) fn anchor_external_commands(
     list: Vec<DetectorRead>,
     source: &dyn SceneSource,
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
 ) -> Vec<DetectorRead> {
     list.into_iter()
         .map(|mut read| {
@@ -49,7 +50,7 @@ pub(crate) fn anchor_external_commands(
                     }
                 }
             }
-            let plugin = plugins[read.plugin_index];
+            let plugin = &plugins[read.plugin_index];
             if changed {
                 if let Ok(params) =
                     Params::resolve(plugin.id(), plugin.params(), &read.entry.params)
@@ -65,7 +66,7 @@ pub(crate) fn anchor_external_commands(
 pub(crate) fn read_detectors(
     node: &Node,
     suite_file: &str,
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
     report: &mut Report,
 ) -> Option<Vec<DetectorRead>> {
     let mut reader = Reader::new(suite_file);
@@ -169,7 +170,7 @@ pub(crate) fn read_detectors(
             continue;
         };
         // One resolve reports every refused parameter at once, each at its own line.
-        let plugin = plugins[plugin_index];
+        let plugin = &plugins[plugin_index];
         let param_locations: Vec<(String, Location)> = given
             .iter()
             .map(|(name, _, _, value_location)| (name.clone(), *value_location))
@@ -188,7 +189,7 @@ pub(crate) fn read_detectors(
                         reader.error(item.location, &params_path, problem.to_string());
                         continue;
                     };
-                    let known = plugin.params().iter().any(|s| s.name == name);
+                    let known = plugin.params().iter().any(|s| s.name == name.as_str());
                     let location = if known {
                         *value_location
                     } else {
@@ -242,7 +243,7 @@ pub(crate) fn read_detectors(
 /// `registered: all` (or a suite without `detectors`) means. A team that embeds echobench
 /// with plugins of its own gets them scored by the default suite this way.
 pub(crate) fn every_registered(
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
     location: Location,
     path: &str,
 ) -> Vec<DetectorRead> {
@@ -325,7 +326,7 @@ fn read_param_values(node: &Node, path: &str, reader: &mut Reader) -> Option<Vec
 pub(crate) fn check_streams(
     scenes: &[SuiteScene],
     detectors: &[DetectorRead],
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
     suite_file: &str,
     report: &mut Report,
 ) {
@@ -339,7 +340,7 @@ pub(crate) fn check_streams(
         }
     }
     for detector in detectors {
-        let plugin = plugins[detector.plugin_index];
+        let plugin = &plugins[detector.plugin_index];
         let mut refusals: Vec<String> = Vec::new();
         for (info, scene_id) in &streams {
             let outcome = catch_unwind(AssertUnwindSafe(|| {

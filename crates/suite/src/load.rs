@@ -12,6 +12,7 @@ use crate::sources::{FolderSource, SceneSource};
 use echobench_core::detector::DetectorPlugin;
 use echobench_yaml_reader::{parse, Limits, Location, Node, Problem, Reader, Report, Severity};
 use std::path::Path;
+use std::sync::Arc;
 
 /// Bounds on a suite file: inline scenes make it larger than a scene, so the default limits.
 const SUITE_LIMITS: Limits = Limits {
@@ -28,7 +29,7 @@ const SUITE_LIMITS: Limits = Limits {
 /// An unreadable file, or the report of every problem found in the suite and its scenes.
 pub fn load_suite_file(
     path: &Path,
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
 ) -> Result<(Suite, Report), Report> {
     let name = path.display().to_string();
     let text = std::fs::read_to_string(path).map_err(|e| Report {
@@ -53,7 +54,7 @@ pub fn load_suite_text(
     name: &str,
     text: &str,
     scenes: &dyn SceneSource,
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
 ) -> Result<(Suite, Report), Report> {
     let root = parse(name, text, &SUITE_LIMITS)?;
     let mut report = Report::default();
@@ -90,7 +91,7 @@ fn read_suite(
     root: &Node,
     name: &str,
     scenes: &dyn SceneSource,
-    plugins: &[&dyn DetectorPlugin],
+    plugins: &[Arc<dyn DetectorPlugin>],
     report: &mut Report,
 ) -> Option<Suite> {
     let default_name = Path::new(name)

@@ -27,6 +27,7 @@ use rand_chacha::rand_core::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
 
 /// A stand-in for a built-in plugin whose crate is not used here: it declares
 /// no parameters and accepts every stream. The suite reader only needs ids,
@@ -73,27 +74,27 @@ impl DetectorPlugin for StandIn {
     }
 }
 
-static ENERGY: StandIn = StandIn { id: "energy" };
-static WINDOW_COMPARATOR: StandIn = StandIn {
+const ENERGY: StandIn = StandIn { id: "energy" };
+const WINDOW_COMPARATOR: StandIn = StandIn {
     id: "window-comparator",
 };
-static BAND_RATIO: StandIn = StandIn { id: "band-ratio" };
-static PERIODICITY: StandIn = StandIn { id: "periodicity" };
-static ENERGY_C: StandIn = StandIn { id: "energy-c" };
+const BAND_RATIO: StandIn = StandIn { id: "band-ratio" };
+const PERIODICITY: StandIn = StandIn { id: "periodicity" };
+const ENERGY_C: StandIn = StandIn { id: "energy-c" };
 
 /// The built-in plugin ids in the registry's order: the two CFAR plugins are
 /// the real ones (the default suite sets CA-CFAR parameters, and their stream
 /// checks run), the others stand-ins (the registry crate does not build until
 /// every detector crate is finished).
-fn plugins() -> Vec<&'static dyn DetectorPlugin> {
+fn plugins() -> Vec<Arc<dyn DetectorPlugin>> {
     vec![
-        &ENERGY,
-        &WINDOW_COMPARATOR,
-        &echobench_detector_ca_cfar::CaCfarPlugin,
-        &echobench_detector_os_cfar::OsCfarPlugin,
-        &BAND_RATIO,
-        &PERIODICITY,
-        &ENERGY_C,
+        Arc::new(ENERGY),
+        Arc::new(WINDOW_COMPARATOR),
+        Arc::new(echobench_detector_ca_cfar::CaCfarPlugin),
+        Arc::new(echobench_detector_os_cfar::OsCfarPlugin),
+        Arc::new(BAND_RATIO),
+        Arc::new(PERIODICITY),
+        Arc::new(ENERGY_C),
     ]
 }
 
@@ -212,8 +213,11 @@ fn value(params: &Params, name: &str) -> ParamValue {
 }
 
 /// Every resolved parameter, by name.
-fn values(params: &Params) -> Vec<(&'static str, ParamValue)> {
-    params.iter().map(|(n, v)| (n, v.clone())).collect()
+fn values(params: &Params) -> Vec<(String, ParamValue)> {
+    params
+        .iter()
+        .map(|(n, v)| (n.to_string(), v.clone()))
+        .collect()
 }
 
 #[test]
@@ -227,8 +231,8 @@ fn each_detector_entry_carries_the_parameters_resolved_at_load() {
         let again = Params::resolve(plugin.id(), plugin.params(), &entry.params).expect("valid");
         assert_eq!(entry.resolved, again, "{}", entry.label);
         for spec in plugin.params() {
-            let written = entry.params.iter().find(|(name, _)| name == spec.name);
-            assert_eq!(entry.resolved.is_given(spec.name), written.is_some());
+            let written = entry.params.iter().find(|(name, _)| *name == spec.name);
+            assert_eq!(entry.resolved.is_given(&spec.name), written.is_some());
         }
     }
     // The rectangular CA-CFAR sets three parameters; every other one keeps its default.
@@ -501,7 +505,7 @@ fn a_missing_plugin_makes_the_default_suite_fail_with_the_entry_located() {
     // `registered: all` takes whichever plugins are registered, so a missing one is simply
     // not scored; the rectangular CA-CFAR entry names its plugin, so without `ca-cfar` the
     // suite fails there.
-    let without_ca_cfar: Vec<&dyn DetectorPlugin> = plugins()
+    let without_ca_cfar: Vec<Arc<dyn DetectorPlugin>> = plugins()
         .into_iter()
         .filter(|p| p.id() != "ca-cfar")
         .collect();
@@ -519,7 +523,7 @@ fn a_missing_plugin_makes_the_default_suite_fail_with_the_entry_located() {
         text.contains("`detectors[1].plugin`: unknown detector plugin `ca-cfar`"),
         "{text}"
     );
-    let without_periodicity: Vec<&dyn DetectorPlugin> = plugins()
+    let without_periodicity: Vec<Arc<dyn DetectorPlugin>> = plugins()
         .into_iter()
         .filter(|p| p.id() != "periodicity")
         .collect();

@@ -333,37 +333,34 @@ const PFA: RealParam = RealParam {
     default: 1e-3,
 };
 
-static PARAMS: [ParamSpec; 26] = {
-    let [f0, f1, f2, f3, f4, f5, f6] = FRAME.specs();
-    [
-        doppler::BAND_UNITS.spec(),
-        MOTION.low_mps.spec(),
-        MOTION.high_mps.spec(),
-        REFERENCE.low_mps.spec(),
-        REFERENCE.high_mps.spec(),
-        SWAY.low_mps.spec(),
-        SWAY.high_mps.spec(),
-        MOTION.low_hz.spec(),
-        MOTION.high_hz.spec(),
-        REFERENCE.low_hz.spec(),
-        REFERENCE.high_hz.spec(),
-        SWAY_IN_REFERENCE.spec(),
-        SWAY.low_hz.spec(),
-        SWAY.high_hz.spec(),
-        MAINS_HZ.spec(),
-        NOTCH_WIDTH_HZ.spec(),
-        STATISTIC.spec(),
-        WINDOW.spec(),
-        f0,
-        f1,
-        f2,
-        f3,
-        f4,
-        f5,
-        f6,
-        PFA.spec(),
-    ]
-};
+static PARAMS: [ParamSpec; 26] = [
+    doppler::BAND_UNITS.spec(),
+    MOTION.low_mps.spec(),
+    MOTION.high_mps.spec(),
+    REFERENCE.low_mps.spec(),
+    REFERENCE.high_mps.spec(),
+    SWAY.low_mps.spec(),
+    SWAY.high_mps.spec(),
+    MOTION.low_hz.spec(),
+    MOTION.high_hz.spec(),
+    REFERENCE.low_hz.spec(),
+    REFERENCE.high_hz.spec(),
+    SWAY_IN_REFERENCE.spec(),
+    SWAY.low_hz.spec(),
+    SWAY.high_hz.spec(),
+    MAINS_HZ.spec(),
+    NOTCH_WIDTH_HZ.spec(),
+    STATISTIC.spec(),
+    WINDOW.spec(),
+    FRAME.units.spec(),
+    FRAME.frame_len.spec(),
+    FRAME.hop.spec(),
+    FRAME.frame_s.spec(),
+    FRAME.resolution_mps.spec(),
+    FRAME.hop_fraction.spec(),
+    FRAME.pow2.spec(),
+    PFA.spec(),
+];
 
 /// How the bins of a band are combined.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -175,26 +175,23 @@ const FLOOR_GATE: RealParam = RealParam {
     default: 4.0,
 };
 
-static PARAMS: [ParamSpec; 15] = {
-    let [f0, f1, f2, f3, f4, f5, f6] = FRAME.specs();
-    [
-        f0,
-        f1,
-        f2,
-        f3,
-        f4,
-        f5,
-        f6,
-        doppler::BAND_UNITS.spec(),
-        BAND.low_mps.spec(),
-        BAND.high_mps.spec(),
-        BAND.low_hz.spec(),
-        BAND.high_hz.spec(),
-        NORMALISE.spec(),
-        FLOOR_S.spec(),
-        FLOOR_GATE.spec(),
-    ]
-};
+static PARAMS: [ParamSpec; 15] = [
+    FRAME.units.spec(),
+    FRAME.frame_len.spec(),
+    FRAME.hop.spec(),
+    FRAME.frame_s.spec(),
+    FRAME.resolution_mps.spec(),
+    FRAME.hop_fraction.spec(),
+    FRAME.pow2.spec(),
+    doppler::BAND_UNITS.spec(),
+    BAND.low_mps.spec(),
+    BAND.high_mps.spec(),
+    BAND.low_hz.spec(),
+    BAND.high_hz.spec(),
+    NORMALISE.spec(),
+    FLOOR_S.spec(),
+    FLOOR_GATE.spec(),
+];
 
 /// The energy detector plugin (id `energy`).
 pub struct EnergyPlugin;

@@ -27,8 +27,7 @@
 //! and `check` refuse with a [`ParamError`] on `command` that says so, so a
 //! suite file from an untrusted branch cannot start programs on a CI machine
 //! by itself (and the suite loader, which calls `check`, reports it before any
-//! trial runs). `new` is a `const fn`, so a registry can keep both variants in
-//! `static`s, as the plugin traits' `&'static` ids and tables expect.
+//! trial runs).
 //!
 //! # Parameters
 //!

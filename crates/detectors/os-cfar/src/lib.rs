@@ -188,28 +188,25 @@ const PFA: RealParam = RealParam {
     default: 1e-3,
 };
 
-static PARAMS: [ParamSpec; 17] = {
-    let [f0, f1, f2, f3, f4, f5, f6] = FRAME.specs();
-    [
-        WINDOW.spec(),
-        f0,
-        f1,
-        f2,
-        f3,
-        f4,
-        f5,
-        f6,
-        GUARD.spec(),
-        TRAIN.spec(),
-        RANK.spec(),
-        doppler::BAND_UNITS.spec(),
-        BAND.low_mps.spec(),
-        BAND.high_mps.spec(),
-        BAND.low_hz.spec(),
-        BAND.high_hz.spec(),
-        PFA.spec(),
-    ]
-};
+static PARAMS: [ParamSpec; 17] = [
+    WINDOW.spec(),
+    FRAME.units.spec(),
+    FRAME.frame_len.spec(),
+    FRAME.hop.spec(),
+    FRAME.frame_s.spec(),
+    FRAME.resolution_mps.spec(),
+    FRAME.hop_fraction.spec(),
+    FRAME.pow2.spec(),
+    GUARD.spec(),
+    TRAIN.spec(),
+    RANK.spec(),
+    doppler::BAND_UNITS.spec(),
+    BAND.low_mps.spec(),
+    BAND.high_mps.spec(),
+    BAND.low_hz.spec(),
+    BAND.high_hz.spec(),
+    PFA.spec(),
+];
 
 /// Typed settings of an OS-CFAR detector.
 ///

@@ -330,29 +330,26 @@ const FLASH_MIN_HZ: RealParam = RealParam {
     default: 5.0,
 };
 
-static PARAMS: [ParamSpec; 18] = {
-    let [f0, f1, f2, f3, f4, f5, f6] = FRAME.specs();
-    [
-        doppler::BAND_UNITS.spec(),
-        MOTION.low_mps.spec(),
-        MOTION.high_mps.spec(),
-        MOTION.low_hz.spec(),
-        MOTION.high_hz.spec(),
-        f0,
-        f1,
-        f2,
-        f3,
-        f4,
-        f5,
-        f6,
-        WINDOW.spec(),
-        ANALYSIS_S.spec(),
-        DECISION_HOP_S.spec(),
-        STEP_LOW_HZ.spec(),
-        STEP_HIGH_HZ.spec(),
-        FLASH_MIN_HZ.spec(),
-    ]
-};
+static PARAMS: [ParamSpec; 18] = [
+    doppler::BAND_UNITS.spec(),
+    MOTION.low_mps.spec(),
+    MOTION.high_mps.spec(),
+    MOTION.low_hz.spec(),
+    MOTION.high_hz.spec(),
+    FRAME.units.spec(),
+    FRAME.frame_len.spec(),
+    FRAME.hop.spec(),
+    FRAME.frame_s.spec(),
+    FRAME.resolution_mps.spec(),
+    FRAME.hop_fraction.spec(),
+    FRAME.pow2.spec(),
+    WINDOW.spec(),
+    ANALYSIS_S.spec(),
+    DECISION_HOP_S.spec(),
+    STEP_LOW_HZ.spec(),
+    STEP_HIGH_HZ.spec(),
+    FLASH_MIN_HZ.spec(),
+];
 
 /// A validated configuration: the bins, the envelope sampling and the analysis layout.
 ///

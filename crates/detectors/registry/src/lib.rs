@@ -6,52 +6,43 @@
 #![deny(missing_docs)]
 
 use echobench_core::detector::DetectorPlugin;
+use std::sync::Arc;
 
 /// Every built-in plugin, in the order `echobench detectors` lists them.
-pub fn builtin() -> Vec<&'static dyn DetectorPlugin> {
+pub fn builtin() -> Vec<Arc<dyn DetectorPlugin>> {
     vec![
-        &echobench_detector_energy::EnergyPlugin,
-        &echobench_detector_window_comparator::WindowComparatorPlugin,
-        &echobench_detector_ca_cfar::CaCfarPlugin,
-        &echobench_detector_os_cfar::OsCfarPlugin,
-        &echobench_detector_band_ratio::BandRatioPlugin,
-        &echobench_detector_periodicity::PeriodicityPlugin,
-        &echobench_detector_energy_c::EnergyCPlugin,
+        Arc::new(echobench_detector_energy::EnergyPlugin),
+        Arc::new(echobench_detector_window_comparator::WindowComparatorPlugin),
+        Arc::new(echobench_detector_ca_cfar::CaCfarPlugin),
+        Arc::new(echobench_detector_os_cfar::OsCfarPlugin),
+        Arc::new(echobench_detector_band_ratio::BandRatioPlugin),
+        Arc::new(echobench_detector_periodicity::PeriodicityPlugin),
+        Arc::new(echobench_detector_energy_c::EnergyCPlugin),
     ]
 }
-
-/// The external-program plugin, refusing to run anything.
-static EXTERNAL_REFUSED: echobench_detector_external::ExternalPlugin =
-    echobench_detector_external::ExternalPlugin::new(false);
-
-/// The external-program plugin, allowed to run the programs a suite names.
-static EXTERNAL_ALLOWED: echobench_detector_external::ExternalPlugin =
-    echobench_detector_external::ExternalPlugin::new(true);
 
 /// The built-ins plus the `external` plugin, which runs a program named in the suite as a
 /// detector. Running programs is off unless `allow_exec` is set (the command line's
 /// `--allow-exec`): a suite file from an untrusted branch must not start programs on a CI
 /// machine by itself. Without it, a suite that names `external` is refused when loaded.
-pub fn with_external(allow_exec: bool) -> Vec<&'static dyn DetectorPlugin> {
+pub fn with_external(allow_exec: bool) -> Vec<Arc<dyn DetectorPlugin>> {
     add_external(builtin(), allow_exec)
 }
 
 /// `plugins` (the built-ins and a team's own, say) with the `external` plugin appended, as
 /// [`with_external`] does for the built-ins alone.
 pub fn add_external(
-    mut plugins: Vec<&'static dyn DetectorPlugin>,
+    mut plugins: Vec<Arc<dyn DetectorPlugin>>,
     allow_exec: bool,
-) -> Vec<&'static dyn DetectorPlugin> {
-    plugins.push(if allow_exec {
-        &EXTERNAL_ALLOWED
-    } else {
-        &EXTERNAL_REFUSED
-    });
+) -> Vec<Arc<dyn DetectorPlugin>> {
+    plugins.push(Arc::new(echobench_detector_external::ExternalPlugin::new(
+        allow_exec,
+    )));
     plugins
 }
 
 /// The plugin with this id.
-pub fn find(id: &str) -> Option<&'static dyn DetectorPlugin> {
+pub fn find(id: &str) -> Option<Arc<dyn DetectorPlugin>> {
     builtin().into_iter().find(|p| p.id() == id)
 }
 

@@ -183,12 +183,22 @@ fn guide_names_files_names_and_commands_that_exist() {
     assert!(root_manifest.contains("[workspace.dependencies]"));
     assert!(root_manifest.contains("echobench-detector-dsp = { path = \"crates/detectors/dsp\" }"));
 
-    // Step 4: the registry line names the renamed crate and plugin.
+    // Step 4: the registry line names the renamed crate and plugin, in the form of the
+    // registry's own lines.
     let registry_line = format!(
-        "&echobench_detector_{}::{NEW_TYPE}Plugin,",
+        "Arc::new(echobench_detector_{}::{NEW_TYPE}Plugin),",
         NEW_NAME.replace('-', "_")
     );
     assert!(blocks_of("rust").iter().any(|b| b.trim() == registry_line));
+    let template_line = registry_line
+        .replace(&NEW_NAME.replace('-', "_"), "energy")
+        .replace(NEW_TYPE, "Energy");
+    assert!(
+        read(&root.join("crates/detectors/registry/src/lib.rs"))
+            .lines()
+            .any(|l| l.trim() == template_line),
+        "the registry has no line like `{template_line}`"
+    );
     assert!(
         text.contains("add one line to `crates/detectors/registry/src/lib.rs`'s `builtin()` list")
             || text.contains(

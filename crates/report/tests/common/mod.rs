@@ -367,11 +367,9 @@ impl DetectorPlugin for FlakyPlugin {
     }
 }
 
-static FLAKY: FlakyPlugin = FlakyPlugin;
-
-fn plugins() -> Vec<&'static dyn DetectorPlugin> {
+fn plugins() -> Vec<Arc<dyn DetectorPlugin>> {
     let mut all = echobench_detectors::builtin();
-    all.push(&FLAKY);
+    all.push(Arc::new(FlakyPlugin));
     all
 }
 
