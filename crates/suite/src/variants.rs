@@ -6,8 +6,7 @@
 
 use crate::load::problem;
 use echobench_scene::{load_scene_node, scene_sanity, SceneSpec};
-use echobench_yaml_reader::Value;
-use echobench_yaml_reader::{FieldPath, Location, Node, Problem, Reader, Report, Severity};
+use echobench_yaml_reader::{FieldPath, Location, Node, Problem, Reader, Report, Severity, Value};
 
 /// A problem of a variant, with whether it is about the swept value itself
 /// (then already moved to the value in the suite).
