@@ -104,7 +104,7 @@ impl Framer {
 pub enum Window {
     /// No taper: independent bins for white noise (what the CFAR closed forms assume).
     Rectangular,
-    /// Periodic Hann, w[n] = 0.5 − 0.5 cos(2πn/N) (the `scipy.signal.get_window('hann', N)` default).
+    /// Periodic Hann, w\[n\] = 0.5 − 0.5 cos(2πn/N) (the `scipy.signal.get_window('hann', N)` default).
     Hann,
 }
 

@@ -170,11 +170,11 @@
 //!
 //! Once the program exits early, writes something that is not a message
 //! (garbage, a stray `print`, a short record), breaks a rule above, or the
-//! budget runs out, the host kills and reaps it, records a message for
-//! [`Detector::failure`], e.g.
+//! budget runs out, the host kills and reaps it and `process` returns a
+//! [`DetectorFailure`] with a message, e.g.
 //! `external \`crash.sh\`: exited with status 3 after 2 blocks; stderr:
-//! calibration file missing`, and from then on `process` pushes nothing (the
-//! harness reports the trial as failed for this detector). The answer that
+//! calibration file missing`, from then on on every call (the harness reports
+//! the trial as failed for this detector; a reset starts a new program). The answer that
 //! broke a rule is not pushed at all. Nothing here panics on the program's
 //! behaviour.
 //!
