@@ -34,7 +34,10 @@ fn scratch(name: &str) -> PathBuf {
 #[test]
 fn the_team_detector_is_known_to_every_verb() {
     let listed = ok(bench().arg("detectors"));
-    assert!(listed.contains("gated-energy: mean square above a speed gate"), "{listed}");
+    assert!(
+        listed.contains("gated-energy: mean square above a speed gate"),
+        "{listed}"
+    );
     let checked = ok(bench().arg("check").arg(suite()));
     assert!(checked.contains("2 detectors"), "{checked}");
 
