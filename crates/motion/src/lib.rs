@@ -165,6 +165,17 @@ pub trait MotionModel: Send {
         0.0
     }
 
+    /// The node rate, Hz, at which this model's ranges stay within the phase
+    /// tolerance and its slow amplitudes within 1 % when the renderer takes the
+    /// amplitudes by a cubic through four nodes (slopes by central differences,
+    /// Catmull–Rom) instead of a line through two; `None` (the default) when the
+    /// model does not offer it (amplitudes with steps, which a cubic would ring
+    /// around). The synthesizer uses it where it is below
+    /// [`flash_node_rate_hz`](MotionModel::flash_node_rate_hz).
+    fn cubic_amplitude_node_rate_hz(&self, _wavelength_m: f64) -> Option<f64> {
+        None
+    }
+
     /// Number of echoes [`echoes`](MotionModel::echoes) appends on every call.
     fn echo_count(&self) -> usize;
 

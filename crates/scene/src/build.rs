@@ -405,10 +405,14 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
                 let saved_hz = in_nodes_hz - per_sample_hz;
                 model.set_vibration_per_sample(saved_hz * VIBRATION_SAMPLES_PER_NODE > sim_rate_hz);
             }
-            let samples_per_node = (sim_rate_hz / model.flash_node_rate_hz(lambda))
-                .floor()
-                .max(1.0) as usize;
-            ActorTrack::new(model, samples_per_node, sim_rate_hz, &radar)
+            // Amplitudes by a cubic through four nodes where that lowers the rate.
+            let linear_hz = model.flash_node_rate_hz(lambda);
+            let (rate_hz, cubic) = match model.cubic_amplitude_node_rate_hz(lambda) {
+                Some(cubic_hz) if cubic_hz < linear_hz => (cubic_hz, true),
+                _ => (linear_hz, false),
+            };
+            let samples_per_node = (sim_rate_hz / rate_hz).floor().max(1.0) as usize;
+            ActorTrack::new(model, samples_per_node, sim_rate_hz, &radar, cubic)
         })
         .collect();
 

@@ -142,6 +142,14 @@ pub struct ActorTrack {
     vibration: Option<Vibration>,
     start_swing: Vec<[f64; 2]>,
     end_swing: Vec<[f64; 2]>,
+    /// The amplitudes go by a Catmull–Rom cubic through the nodes before the
+    /// segment, at both ends and after it: the amplitudes of the node before
+    /// (empty in the first segment) and the whole node after are kept.
+    cubic: bool,
+    before_amplitude: Vec<f64>,
+    after: Vec<EchoNode>,
+    after_flash: Vec<Flash>,
+    after_swing: Vec<[f64; 2]>,
     /// (cos, sin) of ωt + ψ at the last resynchronisation, and of k·ω/f_sim
     /// for k = 0…`RESYNC_SAMPLES` (exact, from the sine of each angle).
     vibration_phasor: [f64; 2],
@@ -161,12 +169,15 @@ pub struct ActorTrack {
 }
 
 impl ActorTrack {
-    /// A track for `model` with nodes every `samples_per_node` samples of the internal rate `sim_rate_hz`.
+    /// A track for `model` with nodes every `samples_per_node` samples of the
+    /// internal rate `sim_rate_hz`; with `cubic`, the amplitudes go by a cubic
+    /// through four nodes (see [`MotionModel::cubic_amplitude_node_rate_hz`]).
     pub fn new(
         model: Box<dyn MotionModel>,
         samples_per_node: usize,
         sim_rate_hz: f64,
         radar: &RadarGeometry,
+        cubic: bool,
     ) -> Self {
         let samples_per_node = samples_per_node.max(1);
         let vibration = model.vibration();
@@ -190,6 +201,11 @@ impl ActorTrack {
             vibration,
             start_swing: Vec::new(),
             end_swing: Vec::new(),
+            cubic,
+            before_amplitude: Vec::new(),
+            after: Vec::new(),
+            after_flash: Vec::new(),
+            after_swing: Vec::new(),
             vibration_phasor: [1.0, 0.0],
             vibration_turns,
             sines: vec![0.0; RESYNC_SAMPLES],
@@ -208,6 +224,12 @@ impl ActorTrack {
         track.evaluate_into(1, radar, &mut end, &mut end_flash, &mut end_swing);
         (track.start, track.start_flash, track.start_swing) = (start, start_flash, start_swing);
         (track.end, track.end_flash, track.end_swing) = (end, end_flash, end_swing);
+        if cubic {
+            let (mut after, mut after_flash, mut after_swing) =
+                (Vec::new(), Vec::new(), Vec::new());
+            track.evaluate_into(2, radar, &mut after, &mut after_flash, &mut after_swing);
+            (track.after, track.after_flash, track.after_swing) = (after, after_flash, after_swing);
+        }
         track
     }
 
@@ -335,13 +357,37 @@ impl ActorTrack {
         }
     }
 
-    /// Moves to the next node interval: its start is the old end, its end is evaluated.
+    /// Moves to the next node interval: its start is the old end, its end is
+    /// evaluated (or, with cubic amplitudes, is the old node after, and the
+    /// new node after is evaluated).
     fn next_node(&mut self, radar: &RadarGeometry) {
         self.offset = 0;
         self.segment += 1;
+        if self.cubic {
+            self.before_amplitude.clear();
+            (self.before_amplitude).extend(self.start.iter().map(|e| e.amplitude_v));
+        }
         std::mem::swap(&mut self.start, &mut self.end);
         std::mem::swap(&mut self.start_flash, &mut self.end_flash);
         std::mem::swap(&mut self.start_swing, &mut self.end_swing);
+        if self.cubic {
+            std::mem::swap(&mut self.end, &mut self.after);
+            std::mem::swap(&mut self.end_flash, &mut self.after_flash);
+            std::mem::swap(&mut self.end_swing, &mut self.after_swing);
+            let mut after = std::mem::take(&mut self.after);
+            let mut after_flash = std::mem::take(&mut self.after_flash);
+            let mut after_swing = std::mem::take(&mut self.after_swing);
+            self.evaluate_into(
+                self.segment + 2,
+                radar,
+                &mut after,
+                &mut after_flash,
+                &mut after_swing,
+            );
+            (self.after, self.after_flash, self.after_swing) = (after, after_flash, after_swing);
+            self.groups_ready = false;
+            return;
+        }
         let mut end = std::mem::take(&mut self.end);
         let mut end_flash = std::mem::take(&mut self.end_flash);
         let mut end_swing = std::mem::take(&mut self.end_swing);
@@ -370,7 +416,21 @@ impl ActorTrack {
         let vibrating = self.vibration.is_some();
         for (index, ((a, b), (fa, fb))) in echoes.zip(flashes).enumerate() {
             let (a0, da) = (a.amplitude_v, b.amplitude_v - a.amplitude_v);
-            if a0 == 0.0 && da == 0.0 {
+            // Amplitude a0 + a1 u + a2 u² + a3 u³: a line, or the Hermite cubic
+            // with slopes (A₊ − A₋)/2 per node interval (Catmull–Rom; one-sided,
+            // (−3A₀ + 4A₁ − A₂)/2, in the first interval).
+            let [a1, a2, a3] = if self.cubic {
+                let after = self.after[index].amplitude_v;
+                let m0 = match self.before_amplitude.get(index) {
+                    Some(before) => 0.5 * (b.amplitude_v - before),
+                    None => 0.5 * (4.0 * b.amplitude_v - 3.0 * a0 - after),
+                };
+                let m1 = 0.5 * (after - a0);
+                [m0, 3.0 * da - 2.0 * m0 - m1, m0 + m1 - 2.0 * da]
+            } else {
+                [da, 0.0, 0.0]
+            };
+            if a0 == 0.0 && a1 == 0.0 && a2 == 0.0 && a3 == 0.0 {
                 continue;
             }
             if used == 0 || groups[used - 1].count == LANES {
@@ -378,6 +438,7 @@ impl ActorTrack {
                     groups.push(EchoGroup::default());
                 }
                 (groups[used].count, groups[used].flash) = (0, false);
+                groups[used].cubic = self.cubic;
                 groups[used].vibrating = vibrating;
                 used += 1;
             }
@@ -396,7 +457,9 @@ impl ActorTrack {
             };
             group.phase.set(lane, &phase, step);
             group.a0[lane] = a0;
-            group.da[lane] = da;
+            group.da[lane] = a1;
+            group.a2[lane] = a2;
+            group.a3[lane] = a3;
             if vibrating {
                 let ([b0, g0], [b1, g1]) = (self.start_swing[index], self.end_swing[index]);
                 (group.b0[lane], group.db[lane]) = (b0, b1 - b0);
@@ -550,7 +613,8 @@ fn complex_multiply(a: &mut [[f64; LANES]; 2], b: &[[f64; LANES]; 2]) {
     }
 }
 
-/// Up to four echoes of one node interval: amplitude a0 + da·u, phase and
+/// Up to four echoes of one node interval: amplitude a0 + da·u (+ a2·u² + a3·u³
+/// when `cubic`), phase and
 /// (for a blade) flash argument as cubics in u, with their running phasors.
 /// Lanes past `count` are never added.
 #[derive(Default, Clone)]
@@ -558,6 +622,9 @@ struct EchoGroup {
     count: usize,
     a0: [f64; LANES],
     da: [f64; LANES],
+    cubic: bool,
+    a2: [f64; LANES],
+    a3: [f64; LANES],
     /// Round-trip phase φ; the phasor is e^{−jφ}.
     phase: Polynomials,
     /// Whether any lane has a flash; `argument` then holds x, with phasor e^{jx}.
@@ -645,19 +712,34 @@ impl EchoGroup {
         out_i: &mut [f64],
         out_q: Option<&mut [f64]>,
     ) {
-        if self.vibrating {
-            match (out_q, self.flash) {
-                (None, false) => self.add_lanes::<false, false, true>(units, sines, out_i, &mut []),
-                (None, true) => self.add_lanes::<false, true, true>(units, sines, out_i, &mut []),
-                (Some(q), false) => self.add_lanes::<true, false, true>(units, sines, out_i, q),
-                (Some(q), true) => self.add_lanes::<true, true, true>(units, sines, out_i, q),
+        match (self.vibrating, self.cubic) {
+            (false, false) => self.add_kind::<false, false>(units, sines, out_i, out_q),
+            (false, true) => self.add_kind::<false, true>(units, sines, out_i, out_q),
+            (true, false) => self.add_kind::<true, false>(units, sines, out_i, out_q),
+            (true, true) => self.add_kind::<true, true>(units, sines, out_i, out_q),
+        }
+    }
+
+    #[inline(always)]
+    fn add_kind<const VIBRATION: bool, const CUBIC: bool>(
+        &mut self,
+        units: &[f64],
+        sines: &[f64],
+        out_i: &mut [f64],
+        out_q: Option<&mut [f64]>,
+    ) {
+        match (out_q, self.flash) {
+            (None, false) => {
+                self.add_lanes::<false, false, VIBRATION, CUBIC>(units, sines, out_i, &mut [])
             }
-        } else {
-            match (out_q, self.flash) {
-                (None, false) => self.add_lanes::<false, false, false>(units, &[], out_i, &mut []),
-                (None, true) => self.add_lanes::<false, true, false>(units, &[], out_i, &mut []),
-                (Some(q), false) => self.add_lanes::<true, false, false>(units, &[], out_i, q),
-                (Some(q), true) => self.add_lanes::<true, true, false>(units, &[], out_i, q),
+            (None, true) => {
+                self.add_lanes::<false, true, VIBRATION, CUBIC>(units, sines, out_i, &mut [])
+            }
+            (Some(q), false) => {
+                self.add_lanes::<true, false, VIBRATION, CUBIC>(units, sines, out_i, q)
+            }
+            (Some(q), true) => {
+                self.add_lanes::<true, true, VIBRATION, CUBIC>(units, sines, out_i, q)
             }
         }
     }
@@ -665,7 +747,7 @@ impl EchoGroup {
     // Lane loops index several fixed arrays at once; LLVM turns each into one vector operation.
     #[allow(clippy::needless_range_loop)]
     #[inline(always)]
-    fn add_lanes<const IQ: bool, const FLASH: bool, const VIBRATION: bool>(
+    fn add_lanes<const IQ: bool, const FLASH: bool, const VIBRATION: bool, const CUBIC: bool>(
         &mut self,
         units: &[f64],
         sines: &[f64],
@@ -676,7 +758,11 @@ impl EchoGroup {
         for (n, &u) in units.iter().enumerate() {
             let mut amplitude = [0.0; LANES];
             for lane in 0..LANES {
-                amplitude[lane] = self.a0[lane] + self.da[lane] * u;
+                amplitude[lane] = if CUBIC {
+                    self.a0[lane] + u * (self.da[lane] + u * (self.a2[lane] + u * self.a3[lane]))
+                } else {
+                    self.a0[lane] + self.da[lane] * u
+                };
             }
             if FLASH {
                 let x = &self.argument.coefficients;
@@ -837,7 +923,12 @@ mod tests {
                     let c = |p: &Polynomials, j: usize| p.coefficients[j][lane];
                     let cubic =
                         |p: &Polynomials| c(p, 0) + u * (c(p, 1) + u * (c(p, 2) + u * c(p, 3)));
-                    let mut amplitude = group.a0[lane] + group.da[lane] * u;
+                    let mut amplitude = if group.cubic {
+                        group.a0[lane]
+                            + u * (group.da[lane] + u * (group.a2[lane] + u * group.a3[lane]))
+                    } else {
+                        group.a0[lane] + group.da[lane] * u
+                    };
                     if group.flash {
                         let x = cubic(&group.argument);
                         amplitude *= sinc_of(sin_cos(x).0, x);
@@ -922,6 +1013,18 @@ mod tests {
         direct: bool,
         wide: bool,
     ) -> (Vec<f64>, Vec<f64>) {
+        render_models_with(models, radar, run, direct, wide, false)
+    }
+
+    /// [`render_models`] with the amplitudes by cubics (`cubic`) or lines.
+    fn render_models_with(
+        models: Models,
+        radar: &RadarGeometry,
+        run: &Run,
+        direct: bool,
+        wide: bool,
+        cubic: bool,
+    ) -> (Vec<f64>, Vec<f64>) {
         let Run {
             samples_per_node,
             sim_rate_hz,
@@ -930,7 +1033,7 @@ mod tests {
         } = *run;
         let mut tracks: Vec<ActorTrack> = models
             .into_iter()
-            .map(|m| ActorTrack::new(m, samples_per_node, sim_rate_hz, radar))
+            .map(|m| ActorTrack::new(m, samples_per_node, sim_rate_hz, radar, cubic))
             .collect();
         let (mut i, mut q) = (vec![0.0; samples], vec![0.0; samples]);
         for track in &mut tracks {
@@ -1141,6 +1244,85 @@ mod tests {
         }
         fn motion_speed_mps(&mut self, t_s: f64) -> f64 {
             self.0.motion_speed_mps(t_s)
+        }
+    }
+
+    /// A walker 1.8 m tall at 1.4 m/s passing 1 m from the radar.
+    fn walker() -> Box<dyn MotionModel> {
+        use echobench_gait::Gait;
+        use echobench_motion::path::Path;
+        use echobench_motion::walker::Walker;
+        let gait = Gait::new(1.8, 1.4).unwrap();
+        let path = Path::straight([6.0, 1.0], std::f64::consts::PI, 1.4, 0.2, 100.0, vec![]);
+        Box::new(Walker::new(gait, path, 1.0).unwrap())
+    }
+
+    #[test]
+    fn cubic_amplitudes_at_their_lower_rate_follow_the_exact_walker_as_well() {
+        // The exact signal: the walker's echoes at every sample (beam, R⁻²,
+        // phase 4πR/λ). Rendered with cubic amplitudes at the walker's
+        // `cubic_amplitude_node_rate_hz` (100 Hz at 2.45 GHz), the rms error
+        // is within 1e-3 of the signal's rms (measured 8.2e-5, against 6.9e-5
+        // for the line amplitudes at their 250 Hz: the ranges' Hermite error
+        // grows at the lower rate, inside the phase tolerance); the recurrence
+        // keeps its 1e-9 of the direct formula, and any block split gives the
+        // same bits.
+        let carrier_hz = 2.45e9;
+        let r = radar(carrier_hz);
+        let lambda = wavelength_m(carrier_hz);
+        let sim_rate_hz = 4000.0;
+        let samples = 16_000;
+        let mut exact_model = walker();
+        let (mut exact_i, mut exact_q) = (vec![0.0; samples], vec![0.0; samples]);
+        let mut echoes = Vec::new();
+        for n in 0..samples {
+            echoes.clear();
+            exact_model.echoes(n as f64 / sim_rate_hz, r.position_m, &mut echoes);
+            for echo in &echoes {
+                let seen = r.see(echo);
+                let phase = r.phase_per_m * seen.range_m;
+                exact_i[n] += seen.amplitude_v * phase.cos();
+                exact_q[n] -= seen.amplitude_v * phase.sin();
+            }
+        }
+        let power = |i: &[f64], q: &[f64]| {
+            (0..samples)
+                .map(|n| (i[n] - exact_i[n]).powi(2) + (q[n] - exact_q[n]).powi(2))
+                .sum::<f64>()
+        };
+        let signal = power(&vec![0.0; samples], &vec![0.0; samples]);
+        let rendered = |cubic: bool, direct: bool, block: usize| {
+            let model = walker();
+            let rate_hz = if cubic {
+                model.cubic_amplitude_node_rate_hz(lambda).unwrap()
+            } else {
+                model.node_rate_hz(lambda)
+            };
+            let run = Run {
+                samples_per_node: (sim_rate_hz / rate_hz).floor() as usize,
+                sim_rate_hz,
+                samples,
+                block,
+            };
+            render_models_with(vec![model], &r, &run, direct, false, cubic)
+        };
+        let (ci, cq) = rendered(true, false, 1000);
+        let (li, lq) = rendered(false, false, 1000);
+        let (cubic_error, line_error) = (power(&ci, &cq), power(&li, &lq));
+        assert!(
+            cubic_error < 2.0 * line_error,
+            "{cubic_error:e} vs {line_error:e}"
+        );
+        assert!(cubic_error < 1e-6 * signal, "{cubic_error:e} vs {signal:e}");
+        let (di, dq) = rendered(true, true, 1000);
+        let scale = di.iter().chain(&dq).fold(0.0f64, |m, x| m.max(x.abs()));
+        for n in 0..samples {
+            assert!((ci[n] - di[n]).abs().max((cq[n] - dq[n]).abs()) <= 1e-9 * scale);
+        }
+        for block in [1, 7, 100_000] {
+            let (bi, bq) = rendered(true, false, block);
+            assert!(bi.iter().zip(&ci).all(|(a, b)| a.to_bits() == b.to_bits()));
+            assert!(bq.iter().zip(&cq).all(|(a, b)| a.to_bits() == b.to_bits()));
         }
     }
 
