@@ -52,6 +52,7 @@ use crate::standing::{StandingMotion, COM_HEIGHT_FRACTION};
 use crate::{Echo, MotionModel, Vec3};
 use echobench_gait::{CycleTable, Gait, Pose, SegmentKind, SEGMENT_COUNT};
 use std::f64::consts::PI;
+use std::sync::Arc;
 
 /// Phases sampled per cycle when bounding the segment speeds.
 const SPEED_SAMPLES_PER_CYCLE: usize = 512;
@@ -108,7 +109,7 @@ pub struct Walker {
     gait: Gait,
     /// The gait's cycle tabulated once: a node reads the pose from it instead
     /// of evaluating the joint curves and the forward kinematics three times.
-    table: CycleTable,
+    table: Arc<CycleTable>,
     path: Path,
     rcs_scale: f64,
     /// √rcs_scale, the factor on every echo's amplitude.
@@ -181,7 +182,7 @@ impl Walker {
         let mut standing = Pose::default();
         gait.standing_pose(&mut standing);
         let mut walker = Walker {
-            table: CycleTable::new(&gait),
+            table: CycleTable::shared(&gait),
             easings: easings(&path, settle_s),
             gait,
             path,
