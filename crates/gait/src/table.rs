@@ -225,7 +225,10 @@ mod tests {
     fn a_shared_table_is_the_table_of_its_gait() {
         let (a, b) = (Gait::new(1.8, 1.4).unwrap(), Gait::new(1.7, 1.2).unwrap());
         let first = CycleTable::shared(&a);
-        assert!(Arc::ptr_eq(&first, &CycleTable::shared(&a)), "kept for an equal gait");
+        assert!(
+            Arc::ptr_eq(&first, &CycleTable::shared(&a)),
+            "kept for an equal gait"
+        );
         let other = CycleTable::shared(&b);
         assert_eq!(*other, CycleTable::new(&b));
         assert_eq!(*first, CycleTable::new(&a));
