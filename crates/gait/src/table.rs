@@ -12,6 +12,8 @@
 
 use crate::pchip::wrap_unit;
 use crate::{Gait, Pose, SEGMENT_COUNT};
+use std::cell::RefCell;
+use std::sync::Arc;
 
 /// Uniform grid points per cycle (the knot phases come on top).
 pub const UNIFORM_POINTS_PER_CYCLE: usize = 256;
@@ -92,6 +94,28 @@ impl CycleTable {
             bin_start,
             template: pose,
         }
+    }
+
+    /// The table of `gait`, shared: a trial builds its walker twice from the
+    /// same gait (once for the ground truth, once to render it), so the last
+    /// table made on this thread is kept and handed out again for an equal
+    /// gait. The values are those of [`CycleTable::new`] either way, so
+    /// nothing depends on the cache.
+    pub fn shared(gait: &Gait) -> Arc<CycleTable> {
+        thread_local! {
+            static LAST: RefCell<Option<(Gait, Arc<CycleTable>)>> = const { RefCell::new(None) };
+        }
+        LAST.with(|last| {
+            let mut last = last.borrow_mut();
+            if let Some((made_for, table)) = last.as_ref() {
+                if made_for == gait {
+                    return Arc::clone(table);
+                }
+            }
+            let table = Arc::new(CycleTable::new(gait));
+            *last = Some((gait.clone(), Arc::clone(&table)));
+            table
+        })
     }
 
     /// Number of grid points (uniform and knot phases).
@@ -195,6 +219,19 @@ mod tests {
             }
         }
         (center, velocity, axis)
+    }
+
+    #[test]
+    fn a_shared_table_is_the_table_of_its_gait() {
+        let (a, b) = (Gait::new(1.8, 1.4).unwrap(), Gait::new(1.7, 1.2).unwrap());
+        let first = CycleTable::shared(&a);
+        assert!(
+            Arc::ptr_eq(&first, &CycleTable::shared(&a)),
+            "kept for an equal gait"
+        );
+        let other = CycleTable::shared(&b);
+        assert_eq!(*other, CycleTable::new(&b));
+        assert_eq!(*first, CycleTable::new(&a));
     }
 
     #[test]

@@ -47,7 +47,7 @@
 use crate::reflector::{
     add, cross, hermite_node_rate_hz, scale, Check, ParamError, MIN_NODE_RATE_HZ, NODES_PER_CYCLE,
 };
-use crate::{dot, norm, sub, Echo, Flash, MotionModel, Vec3};
+use crate::{dot, norm, sub, Echo, Flash, MotionModel, Vec3, Vibration, MAX_VIBRATION_PHASE_RAD};
 use echobench_core::fastmath::sin_cos;
 use std::f64::consts::PI;
 
@@ -144,6 +144,8 @@ pub struct Fan {
     blade_tilt: (f64, f64),
     blade_step: (f64, f64),
     in_plane_v: Vec3,
+    /// The renderer may take the axial hum per sample (see [`Fan::vibration`]).
+    vibration_per_sample: bool,
 }
 
 /// sin x / x, 1 at 0.
@@ -234,6 +236,7 @@ impl Fan {
             blade_tilt: params.blade_tilt_rad.sin_cos(),
             blade_step: (2.0 * PI / params.blade_count as f64).sin_cos(),
             in_plane_v,
+            vibration_per_sample: true,
         })
     }
 
@@ -312,9 +315,17 @@ impl Fan {
 
     /// Hub displacement and velocity at `t_s`, given the rotor angle's (sin, cos)
     /// and the speed fraction f and its rate.
-    fn hub_motion(&self, t_s: f64, rotor: (f64, f64), fraction: (f64, f64)) -> (Vec3, Vec3) {
+    /// Without `mains` the axial vibration is left out (the renderer adds it per sample).
+    fn hub_motion(
+        &self,
+        t_s: f64,
+        rotor: (f64, f64),
+        fraction: (f64, f64),
+        mains: bool,
+    ) -> (Vec3, Vec3) {
         let p = &self.params;
-        if p.imbalance_whirl_m == 0.0 && p.mains_vibration_m == 0.0 {
+        let mains_m = if mains { p.mains_vibration_m } else { 0.0 };
+        if p.imbalance_whirl_m == 0.0 && mains_m == 0.0 {
             return ([0.0; 3], [0.0; 3]);
         }
         let (f, f_rate) = fraction;
@@ -326,13 +337,13 @@ impl Fan {
         let (sm, cm) = sin_cos(omega_mains * t_s);
         let displacement = add(
             scale(radial, p.imbalance_whirl_m),
-            scale(p.axis, f * p.mains_vibration_m * sm),
+            scale(p.axis, f * mains_m * sm),
         );
         let velocity = add(
             scale(tangential, p.imbalance_whirl_m * omega),
             scale(
                 p.axis,
-                f * p.mains_vibration_m * omega_mains * cm + f_rate * p.mains_vibration_m * sm,
+                f * mains_m * omega_mains * cm + f_rate * mains_m * sm,
             ),
         );
         (displacement, velocity)
@@ -341,7 +352,8 @@ impl Fan {
 
 impl Fan {
     /// The echoes at `t_s`; with `flashes`, the blades' sinc factors are left
-    /// out of their amplitudes and given there instead (with their rates).
+    /// out of their amplitudes and given there instead (with their rates), and
+    /// so is the axial vibration when it is rendered per sample ([`Fan::vibration`]).
     fn echoes_into(
         &self,
         t_s: f64,
@@ -356,7 +368,9 @@ impl Fan {
         // The rotor angle of blade 0 (the whirl turns with it); the other
         // blades by rotating its (sin, cos) through 2π/B, one turn each.
         let rotor = sin_cos(omega_full * running_s + p.initial_angle_rad);
-        let (hub_shift, hub_velocity) = self.hub_motion(t_s, rotor, (fraction, fraction_rate));
+        let mains = flashes.is_none() || self.vibration().is_none();
+        let (hub_shift, hub_velocity) =
+            self.hub_motion(t_s, rotor, (fraction, fraction_rate), mains);
         let hub = add(p.hub_m, hub_shift);
         let centre_radius_m = 0.5 * (p.root_radius_m + p.tip_radius_m);
         let blade_length_m = p.tip_radius_m - p.root_radius_m;
@@ -422,8 +436,8 @@ impl Fan {
     }
 
     /// Node rate for the ranges alone (Hermite phase error, eight nodes per
-    /// revolution and per mains vibration cycle), without the flashes.
-    fn range_node_rate_hz(&self, wavelength_m: f64) -> f64 {
+    /// revolution and, with `mains`, per mains vibration cycle), without the flashes.
+    fn range_node_rate_hz(&self, wavelength_m: f64, mains: bool) -> f64 {
         let p = &self.params;
         let omega = self.angular_rate_rad_s().abs();
         let omega_mains = 2.0 * PI * 2.0 * p.mains_hz;
@@ -431,11 +445,15 @@ impl Fan {
         // Circular motion of radius r has |d⁴p/dt⁴| = rΩ⁴.
         let fourth = (centre_radius_m * p.blade_tilt_rad.cos() + p.imbalance_whirl_m)
             * omega.powi(4)
-            + p.mains_vibration_m * omega_mains.powi(4);
+            + if mains {
+                p.mains_vibration_m * omega_mains.powi(4)
+            } else {
+                0.0
+            };
         let mut rate = MIN_NODE_RATE_HZ
             .max(NODES_PER_CYCLE * p.revolutions_per_s.abs())
             .max(hermite_node_rate_hz(fourth, wavelength_m));
-        if p.mains_vibration_m > 0.0 {
+        if mains && p.mains_vibration_m > 0.0 {
             rate = rate.max(NODES_PER_CYCLE * 2.0 * p.mains_hz);
         }
         rate
@@ -457,6 +475,31 @@ impl MotionModel for Fan {
         self.echoes_into(t_s, sensor_m, out, Some(flashes));
     }
 
+    /// The axial hum at 2·f_mains, when its phase excursion is small enough
+    /// for the renderer to add it per sample: then the nodes need not follow
+    /// it (eight nodes per hum cycle, 800 per second at 50 Hz, were most of a
+    /// desk fan's cost).
+    fn vibration(&self) -> Option<Vibration> {
+        let p = &self.params;
+        let excursion_rad = 4.0 * PI / self.wavelength_m * p.mains_vibration_m;
+        let small = p.mains_vibration_m > 0.0 && excursion_rad <= MAX_VIBRATION_PHASE_RAD;
+        (self.vibration_per_sample && small).then_some(Vibration {
+            direction: p.axis,
+            angular_rate_rad_s: 2.0 * PI * 2.0 * p.mains_hz,
+            phase_rad: 0.0,
+            max_amplitude_m: p.mains_vibration_m,
+        })
+    }
+
+    fn set_vibration_per_sample(&mut self, per_sample: bool) {
+        self.vibration_per_sample = per_sample;
+    }
+
+    /// The hum scales with the speed fraction (see the module doc).
+    fn vibration_amplitude_m(&self, t_s: f64) -> f64 {
+        self.running(t_s).1 * self.params.mains_vibration_m
+    }
+
     /// The ranges' rate, and the same Hermite criterion for the flash argument
     /// x = (4π/λ)·(L/2)·ℓ: as if (L/2)·ℓ were a range, whose fourth derivative
     /// is at most (L/2)·cos(tilt)·Ω⁴ for a blade direction turning at Ω (far
@@ -466,7 +509,7 @@ impl MotionModel for Fan {
         let half_length_m = 0.5 * (p.tip_radius_m - p.root_radius_m);
         let fourth = half_length_m * p.blade_tilt_rad.cos() * self.angular_rate_rad_s().powi(4);
         // The blades' sinc arguments are scaled by the wavelength given at construction.
-        self.range_node_rate_hz(wavelength_m)
+        self.range_node_rate_hz(wavelength_m, self.vibration().is_none())
             .max(hermite_node_rate_hz(fourth, self.wavelength_m))
     }
 
@@ -477,7 +520,7 @@ impl MotionModel for Fan {
     fn node_rate_hz(&self, wavelength_m: f64) -> f64 {
         let p = &self.params;
         let omega = self.angular_rate_rad_s().abs();
-        let mut rate = self.range_node_rate_hz(wavelength_m);
+        let mut rate = self.range_node_rate_hz(wavelength_m, true);
         // The blade amplitudes depend on the wavelength given at construction.
         let blade_length_m = p.tip_radius_m - p.root_radius_m;
         if omega > 0.0 && p.blade_rcs_m2 > 0.0 {
@@ -839,6 +882,9 @@ mod tests {
         let sensor = sensor_at(2.0, 0.4);
         let mut whole = Fan::new(params, lambda).unwrap();
         let mut split = Fan::new(params, lambda).unwrap();
+        // The hum stays in the echoes here (its own split is tested below).
+        split.set_vibration_per_sample(false);
+        assert_eq!(split.vibration(), None);
         for i in 0..3000 {
             let t = i as f64 * 1.7e-5;
             let mut full = Vec::new();
@@ -856,6 +902,66 @@ mod tests {
                 "the hub has no flash"
             );
         }
+    }
+
+    #[test]
+    fn the_hum_left_to_the_renderer_is_the_displacement_the_echoes_lose() {
+        // With the hum rendered per sample, every echo of the split misses
+        // exactly A(t)·sin(ωt)·axis and its derivative, A = f(t)·a from the
+        // switching profile; `echoes` keeps it. Spinning up, so A changes too.
+        let lambda = C / 24.125e9;
+        let params = FanParams {
+            imbalance_whirl_m: 1e-4,
+            mains_vibration_m: 1e-5,
+            switch_on_s: 0.0,
+            spin_up_s: 0.5,
+            ..desk_fan(3)
+        };
+        let sensor = sensor_at(2.0, 0.4);
+        let mut whole = Fan::new(params, lambda).unwrap();
+        let mut split = Fan::new(params, lambda).unwrap();
+        let vibration = split.vibration().expect("a small hum goes per sample");
+        assert_eq!(vibration.direction, split.params().axis);
+        assert_eq!(vibration.angular_rate_rad_s, 2.0 * PI * 100.0);
+        for i in 0..2000 {
+            let t = i as f64 * 3.1e-4;
+            let mut full = Vec::new();
+            whole.echoes(t, sensor, &mut full);
+            let (echoes, _) = split_at(&mut split, t, sensor);
+            let (_, fraction, fraction_rate) = split.running(t);
+            let omega = vibration.angular_rate_rad_s;
+            let amplitude = split.vibration_amplitude_m(t);
+            assert_eq!(amplitude, fraction * 1e-5);
+            let (sin, cos) = (omega * t).sin_cos();
+            let shift = amplitude * sin;
+            let speed = amplitude * omega * cos + fraction_rate * 1e-5 * sin;
+            for (e, exact) in echoes.iter().zip(&full) {
+                for k in 0..3 {
+                    let axis = vibration.direction[k];
+                    let position = e.position_m[k] + shift * axis;
+                    assert!((position - exact.position_m[k]).abs() < 1e-13, "t {t}");
+                    let velocity = e.velocity_mps[k] + speed * axis;
+                    assert!((velocity - exact.velocity_mps[k]).abs() < 1e-12, "t {t}");
+                }
+            }
+        }
+        // Past MAX_VIBRATION_PHASE_RAD the hum stays in the echoes and nodes.
+        let loud = FanParams {
+            mains_vibration_m: 1.1 * MAX_VIBRATION_PHASE_RAD * lambda / (4.0 * PI),
+            ..params
+        };
+        let loud = Fan::new(loud, lambda).unwrap();
+        assert_eq!(loud.vibration(), None);
+        assert_eq!(loud.flash_node_rate_hz(lambda), {
+            let mut kept = Fan::new(loud.params, lambda).unwrap();
+            kept.set_vibration_per_sample(false);
+            kept.flash_node_rate_hz(lambda)
+        });
+        // Rendered per sample, the hum no longer sets eight nodes per cycle (800 Hz).
+        let mut kept = Fan::new(params, lambda).unwrap();
+        kept.set_vibration_per_sample(false);
+        assert!(kept.flash_node_rate_hz(lambda) >= 800.0);
+        assert!(split.flash_node_rate_hz(lambda) < 400.0);
     }
 
     #[test]

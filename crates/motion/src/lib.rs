@@ -72,6 +72,36 @@ impl Flash {
     };
 }
 
+/// A fast sinusoidal displacement shared by every echo of a model,
+/// A(t)·sin(ωt + ψ) along a fixed unit direction D̂ (a housing humming at
+/// twice the mains frequency), which the renderer adds per sample instead of
+/// following it with nodes.
+///
+/// For an echo at unit line of sight û (from the sensor) the displacement
+/// changes the range by A·sin(ωt + ψ)·(û·D̂) to first order, so its phase
+/// gains β·sin(ωt + ψ) with β = (4π/λ)·A·(û·D̂) and its R⁻² amplitude a
+/// factor 1 + γ·sin(ωt + ψ), γ = −2A·(û·D̂)/R; the renderer takes β and γ
+/// from the nodes (linear between them, as the slow amplitudes) and the sine
+/// at every sample. Second-order terms are left out (4e-7 rad for A = 2e-5 m
+/// at 24 GHz and R ≥ 1 m; docs/reference/radar-physics.md#r11).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Vibration {
+    /// Direction of the displacement, a unit vector.
+    pub direction: Vec3,
+    /// ω, rad/s.
+    pub angular_rate_rad_s: f64,
+    /// ψ, the phase at t = 0, rad.
+    pub phase_rad: f64,
+    /// The largest amplitude A over the trial, m.
+    pub max_amplitude_m: f64,
+}
+
+/// The largest phase excursion (4π/λ)·A, rad, of a [`Vibration`] the renderer
+/// takes per sample: it evaluates e^{−jβ·sin} by a short series (error below
+/// 1e-11 up to this bound). A model whose vibration swings the phase further
+/// keeps it in its echoes and its node rate.
+pub const MAX_VIBRATION_PHASE_RAD: f64 = 0.25;
+
 /// A moving thing, seen as point echoes.
 pub trait MotionModel: Send {
     /// Appends this model's echoes at time `t_s` (seconds from trial start).
@@ -109,6 +139,41 @@ pub trait MotionModel: Send {
     /// By default the same as `node_rate_hz`.
     fn flash_node_rate_hz(&self, wavelength_m: f64) -> f64 {
         self.node_rate_hz(wavelength_m)
+    }
+
+    /// A fast vibration the renderer adds per sample: when this returns `Some`,
+    /// [`echoes_with_flashes`](MotionModel::echoes_with_flashes) leaves the
+    /// vibration's displacement (and its velocity) out of every echo,
+    /// [`vibration_amplitude_m`](MotionModel::vibration_amplitude_m) gives
+    /// its amplitude, and [`flash_node_rate_hz`](MotionModel::flash_node_rate_hz)
+    /// need not follow it; (4π/λ)·`max_amplitude_m` is at most
+    /// [`MAX_VIBRATION_PHASE_RAD`] at the model's wavelength. `echoes` still
+    /// includes it. By default there is none.
+    fn vibration(&self) -> Option<Vibration> {
+        None
+    }
+
+    /// Whether the model may hand its vibration to the renderer (`true`, the
+    /// default) or must keep it in its echoes and node rate (`false`: then
+    /// [`vibration`](MotionModel::vibration) returns `None`). The synthesizer
+    /// chooses whichever costs less (per-sample work against nodes saved).
+    fn set_vibration_per_sample(&mut self, _per_sample: bool) {}
+
+    /// The amplitude A of [`vibration`](MotionModel::vibration) at `t_s`, m
+    /// (a slow function of time: the renderer interpolates it linearly between nodes).
+    fn vibration_amplitude_m(&self, _t_s: f64) -> f64 {
+        0.0
+    }
+
+    /// The node rate, Hz, at which this model's ranges stay within the phase
+    /// tolerance and its slow amplitudes within 1 % when the renderer takes the
+    /// amplitudes by a cubic through four nodes (slopes by central differences,
+    /// Catmull–Rom) instead of a line through two; `None` (the default) when the
+    /// model does not offer it (amplitudes with steps, which a cubic would ring
+    /// around). The synthesizer uses it where it is below
+    /// [`flash_node_rate_hz`](MotionModel::flash_node_rate_hz).
+    fn cubic_amplitude_node_rate_hz(&self, _wavelength_m: f64) -> Option<f64> {
+        None
     }
 
     /// Number of echoes [`echoes`](MotionModel::echoes) appends on every call.

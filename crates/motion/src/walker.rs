@@ -52,6 +52,7 @@ use crate::standing::{StandingMotion, COM_HEIGHT_FRACTION};
 use crate::{Echo, MotionModel, Vec3};
 use echobench_gait::{CycleTable, Gait, Pose, SegmentKind, SEGMENT_COUNT};
 use std::f64::consts::PI;
+use std::sync::Arc;
 
 /// Phases sampled per cycle when bounding the segment speeds.
 const SPEED_SAMPLES_PER_CYCLE: usize = 512;
@@ -69,6 +70,12 @@ const KNOT_ERROR_DIVISOR: f64 = 30.0;
 /// aspect-dependent segment RCS within 1 % up to 2.6 m/s (measured by
 /// `node_rate_keeps_hermite_interpolation_within_the_phase_tolerance`: 1.6 % at 196 Hz).
 const NODE_RATE_FLOOR_HZ: f64 = 250.0;
+
+/// Lowest node rate, Hz, when the renderer takes the amplitudes by a cubic
+/// through four nodes (`cubic_amplitude_node_rate_hz`): keeps them within 1 %
+/// up to 2.6 m/s (measured by
+/// `cubic_amplitudes_stay_within_one_percent_at_their_node_rate`).
+const CUBIC_NODE_RATE_FLOOR_HZ: f64 = 100.0;
 
 /// Index of the torso echo (it carries the chest and gives the motion speed).
 pub const TORSO_ECHO: usize = SegmentKind::Torso as usize;
@@ -102,7 +109,7 @@ pub struct Walker {
     gait: Gait,
     /// The gait's cycle tabulated once: a node reads the pose from it instead
     /// of evaluating the joint curves and the forward kinematics three times.
-    table: CycleTable,
+    table: Arc<CycleTable>,
     path: Path,
     rcs_scale: f64,
     /// √rcs_scale, the factor on every echo's amplitude.
@@ -120,6 +127,10 @@ pub struct Walker {
     /// Largest segment-centre acceleration, m/s² (sets the node rate for
     /// sensors close to the body, where the range curves fastest).
     max_acceleration_mps2: f64,
+    /// The sampled cycle's largest segment speed (at least the walking speed), m/s.
+    walking_peak_mps: f64,
+    /// The sampled cycle's largest segment distance from the standing pose, m.
+    largest_offset_m: f64,
 }
 
 /// Raised-cosine ramp R(x) = (1 − cos πx)/2 on [0, 1].
@@ -128,6 +139,21 @@ fn ramp(x: f64) -> f64 {
 }
 
 impl Walker {
+    /// The node rate the phase criteria ask for (see `node_rate_hz`), without a floor.
+    fn phase_node_rate_hz(&self, wavelength_m: f64) -> f64 {
+        if !(wavelength_m.is_finite() && wavelength_m > 0.0) {
+            return 0.0;
+        }
+        let range_tolerance_m =
+            crate::reflector::NODE_PHASE_TOLERANCE_RAD * wavelength_m / (4.0 * PI);
+        let knot_rate_hz =
+            (self.acceleration_jump_mps2 / (KNOT_ERROR_DIVISOR * range_tolerance_m)).sqrt();
+        let harmonic_rad_s = 2.0 * PI * 8.0 / self.gait.cycle_s();
+        let fourth_derivative = self.max_acceleration_mps2 * harmonic_rad_s * harmonic_rad_s;
+        let smooth_rate_hz =
+            crate::reflector::hermite_node_rate_hz(fourth_derivative, wavelength_m);
+        knot_rate_hz.max(smooth_rate_hz)
+    }
     /// A person walking `gait` along `path`; `rcs_scale` multiplies every
     /// segment's cross-section (1 for the ellipsoid body of Chen 2011). While
     /// standing the person sways and breathes as [`StandingMotion::quiet_adult`]
@@ -156,7 +182,7 @@ impl Walker {
         let mut standing = Pose::default();
         gait.standing_pose(&mut standing);
         let mut walker = Walker {
-            table: CycleTable::new(&gait),
+            table: CycleTable::shared(&gait),
             easings: easings(&path, settle_s),
             gait,
             path,
@@ -168,15 +194,19 @@ impl Walker {
             max_speed_mps: 0.0,
             acceleration_jump_mps2: 0.0,
             max_acceleration_mps2: 0.0,
+            walking_peak_mps: 0.0,
+            largest_offset_m: 0.0,
         };
-        walker.bound_kinematics();
+        walker.sample_cycle();
+        walker.bound_speed();
         Ok(walker)
     }
 
     /// The same walker with `residual` as its motion while standing.
     pub fn with_standing_motion(mut self, residual: StandingMotion) -> Walker {
         self.residual = residual;
-        self.bound_kinematics();
+        // The gait cycle's samples do not depend on the standing motion.
+        self.bound_speed();
         self
     }
 
@@ -201,7 +231,7 @@ impl Walker {
     }
 
     /// Samples one gait cycle for the speed bound and the node-rate inputs.
-    fn bound_kinematics(&mut self) {
+    fn sample_cycle(&mut self) {
         let table = &self.table;
         let cycle_s = self.gait.cycle_s();
         let v = self.gait.speed_mps();
@@ -220,6 +250,35 @@ impl Walker {
                 largest_offset = largest_offset.max(crate::norm(offset));
             }
         }
+        self.walking_peak_mps = walking_peak;
+        self.largest_offset_m = largest_offset;
+
+        // Accelerations by differences of the velocities; a knot of the C¹
+        // gait curves shows as a jump between neighbouring samples, a smooth
+        // change as a difference of order (da/dt)·dt, which the jump estimate
+        // therefore over-counts slightly (a safe side).
+        let mut previous_acceleration = [[0.0; 3]; SEGMENT_COUNT];
+        let mut max_acceleration: f64 = 0.0;
+        let mut max_jump: f64 = 0.0;
+        for i in 0..=n {
+            let ahead = &velocities[(i + 1) % n];
+            let behind = &velocities[i % n];
+            for k in 0..SEGMENT_COUNT {
+                let a = crate::sub(ahead[k], behind[k]).map(|d| d / dt);
+                max_acceleration = max_acceleration.max(crate::norm(a));
+                if i > 0 {
+                    max_jump = max_jump.max(crate::norm(crate::sub(a, previous_acceleration[k])));
+                }
+                previous_acceleration[k] = a;
+            }
+        }
+        self.max_acceleration_mps2 = max_acceleration;
+        self.acceleration_jump_mps2 = max_jump;
+    }
+
+    /// The speed bound from the sampled cycle, the easings and the standing motion.
+    fn bound_speed(&mut self) {
+        let (walking_peak, largest_offset) = (self.walking_peak_mps, self.largest_offset_m);
         // Across an easing a segment moves at s·(path + (1−w)·gait velocity)
         // + ẇ·(standing − walking pose): at most (1 − R)·A + R'·B/W with A the
         // walking peak (≥ v) and B the largest offset, whose largest value
@@ -250,28 +309,6 @@ impl Walker {
             } else {
                 easing_peak + residual
             };
-
-        // Accelerations by differences of the velocities; a knot of the C¹
-        // gait curves shows as a jump between neighbouring samples, a smooth
-        // change as a difference of order (da/dt)·dt, which the jump estimate
-        // therefore over-counts slightly (a safe side).
-        let mut previous_acceleration = [[0.0; 3]; SEGMENT_COUNT];
-        let mut max_acceleration: f64 = 0.0;
-        let mut max_jump: f64 = 0.0;
-        for i in 0..=n {
-            let ahead = &velocities[(i + 1) % n];
-            let behind = &velocities[i % n];
-            for k in 0..SEGMENT_COUNT {
-                let a = crate::sub(ahead[k], behind[k]).map(|d| d / dt);
-                max_acceleration = max_acceleration.max(crate::norm(a));
-                if i > 0 {
-                    max_jump = max_jump.max(crate::norm(crate::sub(a, previous_acceleration[k])));
-                }
-                previous_acceleration[k] = a;
-            }
-        }
-        self.max_acceleration_mps2 = max_acceleration;
-        self.acceleration_jump_mps2 = max_jump;
     }
 
     /// Eased progress at `t_s` (inside the time on the path).
@@ -506,19 +543,18 @@ impl MotionModel for Walker {
     /// interpolation of the aspect-dependent amplitudes well inside 1 %; the
     /// knot term takes over above ≈ 2.6 m/s at 24 GHz.
     fn node_rate_hz(&self, wavelength_m: f64) -> f64 {
-        let floor_hz = NODE_RATE_FLOOR_HZ;
-        if !(wavelength_m.is_finite() && wavelength_m > 0.0) {
-            return floor_hz;
-        }
-        let range_tolerance_m =
-            crate::reflector::NODE_PHASE_TOLERANCE_RAD * wavelength_m / (4.0 * PI);
-        let knot_rate_hz =
-            (self.acceleration_jump_mps2 / (KNOT_ERROR_DIVISOR * range_tolerance_m)).sqrt();
-        let harmonic_rad_s = 2.0 * PI * 8.0 / self.gait.cycle_s();
-        let fourth_derivative = self.max_acceleration_mps2 * harmonic_rad_s * harmonic_rad_s;
-        let smooth_rate_hz =
-            crate::reflector::hermite_node_rate_hz(fourth_derivative, wavelength_m);
-        floor_hz.max(knot_rate_hz).max(smooth_rate_hz)
+        self.phase_node_rate_hz(wavelength_m)
+            .max(NODE_RATE_FLOOR_HZ)
+    }
+
+    /// The phase criteria alone, with a floor of [`CUBIC_NODE_RATE_FLOOR_HZ`]
+    /// for the amplitudes: at 2.45 GHz this is 90–200 Hz where the linear
+    /// amplitudes need 250 Hz.
+    fn cubic_amplitude_node_rate_hz(&self, wavelength_m: f64) -> Option<f64> {
+        Some(
+            self.phase_node_rate_hz(wavelength_m)
+                .max(CUBIC_NODE_RATE_FLOOR_HZ),
+        )
     }
 
     fn max_speed_mps(&self) -> f64 {
@@ -823,12 +859,27 @@ mod tests {
     /// the echoes, as the synthesizer does), against the exact ranges at
     /// quarter points, and the largest error of linear amplitude interpolation
     /// relative to the echo's peak amplitude.
+    /// Worst phase error of the ranges' Hermite cubic and worst amplitude
+    /// error (relative to each echo's peak) of the amplitudes' line through
+    /// two nodes, or with `cubic` of their Catmull–Rom cubic through four
+    /// (slopes (A₊ − A₋)/2 per node interval), at quarter points between nodes.
     fn interpolation_errors(
         walker: &mut Walker,
         rate_hz: f64,
         wavelength_m: f64,
         sensor_m: Vec3,
         (t0, t1): (f64, f64),
+    ) -> (f64, f64) {
+        interpolation_errors_with(walker, rate_hz, wavelength_m, sensor_m, (t0, t1), false)
+    }
+
+    fn interpolation_errors_with(
+        walker: &mut Walker,
+        rate_hz: f64,
+        wavelength_m: f64,
+        sensor_m: Vec3,
+        (t0, t1): (f64, f64),
+        cubic: bool,
     ) -> (f64, f64) {
         let h = 1.0 / rate_hz;
         let range_and_rate = |e: &Echo| {
@@ -840,6 +891,7 @@ mod tests {
         let mut peak_amplitude = [0.0f64; SEGMENT_COUNT];
         let mut amplitude_misses = [0.0f64; SEGMENT_COUNT];
         let (mut a, mut b, mut mid) = (Vec::new(), Vec::new(), Vec::new());
+        let (mut before, mut after) = (Vec::new(), Vec::new());
         let nodes = ((t1 - t0) * rate_hz) as usize;
         for i in 0..nodes {
             let ta = t0 + i as f64 * h;
@@ -847,6 +899,10 @@ mod tests {
             b.clear();
             walker.echoes(ta, sensor_m, &mut a);
             walker.echoes(ta + h, sensor_m, &mut b);
+            before.clear();
+            after.clear();
+            walker.echoes(ta - h, sensor_m, &mut before);
+            walker.echoes(ta + 2.0 * h, sensor_m, &mut after);
             for q in 1..4 {
                 let s = q as f64 / 4.0;
                 mid.clear();
@@ -862,9 +918,19 @@ mod tests {
                         + (s3 - s2) * h * d1;
                     phase_error =
                         phase_error.max(4.0 * PI * (interpolated - exact).abs() / wavelength_m);
-                    let linear = (1.0 - s) * a[k].amplitude_m + s * b[k].amplitude_m;
+                    let (a0, a1) = (a[k].amplitude_m, b[k].amplitude_m);
+                    let estimate = if cubic {
+                        let m0 = 0.5 * (a1 - before[k].amplitude_m);
+                        let m1 = 0.5 * (after[k].amplitude_m - a0);
+                        (2.0 * s3 - 3.0 * s2 + 1.0) * a0
+                            + (s3 - 2.0 * s2 + s) * m0
+                            + (-2.0 * s3 + 3.0 * s2) * a1
+                            + (s3 - s2) * m1
+                    } else {
+                        (1.0 - s) * a0 + s * a1
+                    };
                     amplitude_misses[k] =
-                        amplitude_misses[k].max((linear - mid[k].amplitude_m).abs());
+                        amplitude_misses[k].max((estimate - mid[k].amplitude_m).abs());
                     peak_amplitude[k] = peak_amplitude[k].max(mid[k].amplitude_m);
                 }
             }
@@ -873,6 +939,41 @@ mod tests {
             amplitude_error = amplitude_error.max(amplitude_misses[k] / peak_amplitude[k]);
         }
         (phase_error, amplitude_error)
+    }
+
+    #[test]
+    fn cubic_amplitudes_stay_within_one_percent_at_their_node_rate() {
+        // As the test below, with the amplitudes by a cubic through four nodes
+        // at `cubic_amplitude_node_rate_hz`: the phase tolerance and 1 %, at
+        // rates below the linear amplitudes' 250 Hz where the carrier allows.
+        let tolerance = crate::reflector::NODE_PHASE_TOLERANCE_RAD;
+        for (height_m, speed_mps) in [(1.8, 1.4), (1.8, 2.6), (1.2, 1.0), (1.75, 0.5)] {
+            for carrier_hz in [2.45e9, 5.8e9, 24.125e9] {
+                let wavelength_m = C_MPS / carrier_hz;
+                let gait = Gait::new(height_m, speed_mps).expect("valid gait");
+                let path = Path::straight([2.0, 0.3], PI, speed_mps, 0.0, 100.0, vec![]);
+                let mut walker = Walker::new(gait, path, 1.0).expect("valid walker");
+                let rate = walker.cubic_amplitude_node_rate_hz(wavelength_m).unwrap();
+                let label = format!("H {height_m} v {speed_mps} f {carrier_hz}: {rate} Hz");
+                assert!(
+                    (CUBIC_NODE_RATE_FLOOR_HZ..=2000.0).contains(&rate),
+                    "{label}"
+                );
+                if carrier_hz < 3e9 {
+                    assert!(rate < NODE_RATE_FLOOR_HZ, "{label}");
+                }
+                let (phase, amplitude) = interpolation_errors_with(
+                    &mut walker,
+                    rate,
+                    wavelength_m,
+                    [0.0, 0.0, 0.5],
+                    (0.5, 2.5),
+                    true,
+                );
+                assert!(phase < tolerance, "{label}: {phase}");
+                assert!(amplitude < 0.01, "{label}: {amplitude}");
+            }
+        }
     }
 
     #[test]

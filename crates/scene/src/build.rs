@@ -164,6 +164,13 @@ pub fn build_model(
 /// M ≥ 8 where aliasing matters).
 pub const SIM_RATE_PER_DOPPLER: f64 = 8.0;
 
+/// How many internal samples of a vibration rendered per sample
+/// (`MotionModel::vibration`) cost as much as one node of a fan: measured
+/// with `perf record` on the corridor bench scenes (a desk fan's node, about
+/// 1.2 µs, against 37 ns per sample for the vibration on its group of
+/// echoes; 2026-12-05, 2-core machine under load).
+const VIBRATION_SAMPLES_PER_NODE: f64 = 30.0;
+
 /// The internal oversampling factor for a highest signal frequency `max_doppler_hz` at
 /// ADC rate `sample_rate_hz`: 1 when 8× that frequency fits in the ADC rate, else enough
 /// that the internal rate is 8× the highest frequency.
@@ -387,13 +394,25 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
     let sim_rate_hz = s.sample_rate_hz * oversampling as f64;
     let tracks: Vec<ActorTrack> = models
         .into_iter()
-        .map(|model| {
+        .map(|mut model| {
             // The renderer takes the fast sinc factors per sample (`echoes_with_flashes`),
             // so the nodes need only follow ranges, slow amplitudes and flash arguments.
-            let samples_per_node = (sim_rate_hz / model.flash_node_rate_hz(lambda))
-                .floor()
-                .max(1.0) as usize;
-            ActorTrack::new(model, samples_per_node, sim_rate_hz, &radar)
+            // A vibration goes per sample too where the nodes it saves cost more.
+            if model.vibration().is_some() {
+                let per_sample_hz = model.flash_node_rate_hz(lambda);
+                model.set_vibration_per_sample(false);
+                let in_nodes_hz = model.flash_node_rate_hz(lambda);
+                let saved_hz = in_nodes_hz - per_sample_hz;
+                model.set_vibration_per_sample(saved_hz * VIBRATION_SAMPLES_PER_NODE > sim_rate_hz);
+            }
+            // Amplitudes by a cubic through four nodes where that lowers the rate.
+            let linear_hz = model.flash_node_rate_hz(lambda);
+            let (rate_hz, cubic) = match model.cubic_amplitude_node_rate_hz(lambda) {
+                Some(cubic_hz) if cubic_hz < linear_hz => (cubic_hz, true),
+                _ => (linear_hz, false),
+            };
+            let samples_per_node = (sim_rate_hz / rate_hz).floor().max(1.0) as usize;
+            ActorTrack::new(model, samples_per_node, sim_rate_hz, &radar, cubic)
         })
         .collect();
 
