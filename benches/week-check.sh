@@ -22,7 +22,8 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 out_file="${1:-benches/results/week-check.txt}"
 work="$(mktemp -d)"
-trap 'rm -rf "$work"' EXIT
+# WEEK_CHECK_KEEP=DIR keeps the two run folders there (to look at, or to rerun the comparison).
+if [ -n "${WEEK_CHECK_KEEP:-}" ]; then work="$WEEK_CHECK_KEEP"; mkdir -p "$work"; else trap 'rm -rf "$work"' EXIT; fi
 
 # ECHOBENCH_BIN and WEEK_CHECK_BIN may name binaries built beforehand (then nothing is built).
 bin="${ECHOBENCH_BIN:-target/release/echobench}"
@@ -39,8 +40,8 @@ sed -i "s|file: ../../scenarios/|file: $PWD/scenarios/|" "$work/short.yaml" "$wo
 grep -q "calibration_hours: 168" "$work/long.yaml"
 
 start=$(date +%s)
-"$bin" run "$work/short.yaml" --out "$work/short" > "$work/short.log" 2>&1
-"$bin" run "$work/long.yaml" --out "$work/long" > "$work/long.log" 2>&1
+"$bin" run "$work/short.yaml" --out "$work/short" --replace > "$work/short.log" 2>&1
+"$bin" run "$work/long.yaml" --out "$work/long" --replace > "$work/long.log" 2>&1
 seconds=$(( $(date +%s) - start ))
 
 {

@@ -23,6 +23,7 @@
 use echobench_harness::rare_rates::{RareThreshold, RoomTail};
 use echobench_harness::runner::Tallies;
 use echobench_harness::summary::{DetectorSummary, Summary};
+use echobench_tail::{TailFit, ThresholdRule};
 use std::path::Path;
 use std::process::ExitCode;
 
@@ -44,51 +45,20 @@ fn number(x: Option<f64>) -> String {
     x.map_or_else(|| "—".to_string(), |v| format!("{v:.4}"))
 }
 
-/// The fitted clusters per hour above `x`: the exceedance rate of the fit threshold times the
-/// generalized Pareto survival of the excess (docs/reference/statistics.md#s10).
-fn fitted_rate_per_h(room: &RoomTail, x: f64) -> Option<f64> {
-    let (u, k, xi, sigma) = (
-        room.fit_threshold?,
-        room.exceedances?,
-        room.xi?,
-        room.sigma?,
-    );
-    let hours = room.exposure_ns as f64 / 3.6e12;
-    if x < u || hours <= 0.0 {
-        return None;
-    }
-    let z = (x - u) / sigma;
-    let survival = if xi.abs() < 1e-12 {
-        (-z).exp()
-    } else {
-        let base = 1.0 + xi * z;
-        if base <= 0.0 {
-            0.0
-        } else {
-            base.powf(-1.0 / xi)
-        }
-    };
-    Some(k as f64 / hours * survival)
-}
-
-/// The fit's 95 % band at `x`, interpolated (log-linear) between the stored band points.
-fn band_at(room: &RoomTail, x: f64) -> Option<(f64, f64)> {
-    let band = &room.band;
-    let i = band.windows(2).position(|w| w[0].0 <= x && x <= w[1].0)?;
-    let (a, b) = (band[i], band[i + 1]);
-    let f = if b.0 > a.0 {
-        (x - a.0) / (b.0 - a.0)
-    } else {
-        0.0
-    };
-    let lerp_log = |p: f64, q: f64| {
-        if p > 0.0 && q > 0.0 {
-            (p.ln() + f * (q.ln() - p.ln())).exp()
-        } else {
-            p + f * (q - p)
-        }
-    };
-    Some((lerp_log(a.2, b.2), lerp_log(a.3, b.3)))
+/// The short fit's expected clusters in a week above `x`, with its 95 % profile-likelihood
+/// interval: the room's fit is remade from the excesses its tallies keep
+/// (docs/reference/statistics.md#s10). `None` below the fit threshold or without a fit.
+fn weekly_clusters_above(room: &RoomTail, x: f64) -> Option<(f64, f64, f64)> {
+    let u = room.fit_threshold?;
+    let fit = TailFit::from_excesses(
+        u,
+        &room.excesses,
+        room.exposure_ns as f64 / 3.6e12,
+        ThresholdRule::default().shape_floor,
+    )
+    .ok()?;
+    let e = fit.rate_interval(x, 0.95).ok()?;
+    Some((e.value * 168.0, e.lower * 168.0, e.upper * 168.0))
 }
 
 fn main() -> ExitCode {
@@ -147,12 +117,10 @@ fn main() -> ExitCode {
             ),
             None => format!("— ({})", r.extrapolated.note.as_deref().unwrap_or("no fit")),
         };
-        let expected = week.counted_threshold.zip(room).and_then(|(t, room)| {
-            let point = fitted_rate_per_h(room, t)? * 168.0;
-            let (low, high) =
-                band_at(room, t).map_or((point, point), |(l, h)| (l * 168.0, h * 168.0));
-            Some((point, low, high))
-        });
+        let expected = week
+            .counted_threshold
+            .zip(room)
+            .and_then(|(t, room)| weekly_clusters_above(room, t));
         let (shown, verdict) = match expected {
             Some((point, low, high)) => {
                 let verdict = if high < SECOND_POINT_95.0 {

@@ -73,6 +73,37 @@ pub struct RoomTail {
     /// that sets the product's one-per-day threshold only (what the report draws).
     #[serde(default)]
     pub band: Vec<(f64, f64, f64, f64)>,
+    /// The threshold-stability table the fit threshold was chosen from (`echobench_tail`'s
+    /// threshold module; Coles 2001, §4.3.4), one row per candidate u, ascending. Kept, like
+    /// `band`, for the room that sets the product's one-per-day threshold only (the report
+    /// draws it); empty for the others and without a table.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub stability: Vec<StabilityPoint>,
+    /// The excesses over the fit threshold of the cluster maxima the drawn fit was made from,
+    /// ascending, so that a reader can refit it (`echobench_tail::TailFit::from_excesses` with
+    /// `fit_threshold` and `exposure_ns`) and read the rate, with its interval, at any
+    /// threshold. Kept with `band` (the room that sets the one-per-day threshold); empty for
+    /// the others.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub excesses: Vec<f64>,
+}
+
+/// One candidate threshold of a room's stability table, as the report draws it: above a
+/// valid threshold the shape ξ and the modified scale σ* = σ − ξu stay constant within their
+/// intervals.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct StabilityPoint {
+    /// The candidate threshold u.
+    pub threshold: f64,
+    /// Cluster maxima above u.
+    pub exceedances: u64,
+    /// ξ and its 95 % profile-likelihood interval `(value, low, high)` (`high` `None`:
+    /// unbounded); `None` without a regular fit here.
+    pub xi: Option<(f64, f64, Option<f64>)>,
+    /// σ* and its 95 % delta-method interval, as `xi`.
+    pub modified_scale: Option<(f64, f64, Option<f64>)>,
+    /// Whether this is the chosen fit threshold.
+    pub chosen: bool,
 }
 
 impl RoomTail {
@@ -114,6 +145,8 @@ pub fn fit_room(
         gof_p: None,
         thresholds: Vec::new(),
         band: Vec::new(),
+        stability: Vec::new(),
+        excesses: Vec::new(),
     };
     let none = |rate: f64, note: &str| RateThreshold {
         rate_per_hour: rate,
@@ -137,6 +170,19 @@ pub fn fit_room(
                 Status::NoStableThreshold => "no stable threshold",
             }
             .to_string();
+            let triple = |e: &echobench_tail::Estimate| (e.value, e.lower, finite(e.upper));
+            room.stability = x
+                .table
+                .iter()
+                .enumerate()
+                .map(|(i, row)| StabilityPoint {
+                    threshold: row.threshold,
+                    exceedances: row.exceedances as u64,
+                    xi: row.xi.as_ref().map(triple),
+                    modified_scale: row.modified_scale.as_ref().map(triple),
+                    chosen: x.chosen == Some(i),
+                })
+                .collect();
             if let Some(fit) = &x.fit {
                 room.fit_threshold = Some(fit.threshold());
                 room.exceedances = Some(fit.exceedances() as u64);
@@ -259,11 +305,19 @@ pub fn add_band(room: &mut RoomTail, acc: &TailAccumulator) {
     let Some(u) = room.fit_threshold else {
         return;
     };
-    let Ok(fit) =
-        echobench_tail::TailFit::from_accumulator(acc, u, ThresholdRule::default().shape_floor)
-    else {
+    let Ok(mut excesses) = acc.excesses(u) else {
         return;
     };
+    let Ok(fit) = echobench_tail::TailFit::from_excesses(
+        u,
+        &excesses,
+        acc.exposure_h(),
+        ThresholdRule::default().shape_floor,
+    ) else {
+        return;
+    };
+    excesses.sort_by(f64::total_cmp);
+    room.excesses = excesses;
     let top = room
         .thresholds
         .iter()
@@ -461,9 +515,32 @@ mod tests {
         // The drawn curve: from the fit threshold up, falling with the threshold, inside its
         // band (whether the band holds the truth is a coverage question, measured over many
         // seeds in the tail crate; one seed's pointwise band may miss it).
+        // The stability table: ascending candidates, the chosen one is the fit threshold,
+        // and on an exponential tail (ξ = 0) the chosen row's shape interval holds 0 (the
+        // floor ξ >= 0 puts the low end at 0 or above; 0 must not lie above the high end).
+        let chosen: Vec<&StabilityPoint> = room.stability.iter().filter(|p| p.chosen).collect();
+        assert_eq!(chosen.len(), 1);
+        assert_eq!(Some(chosen[0].threshold), room.fit_threshold);
+        let (_, xi_low, xi_high) = chosen[0].xi.unwrap();
+        assert!(xi_low <= 0.0 + 1e-9 && xi_high.is_none_or(|h| h >= 0.0));
+        assert!(room
+            .stability
+            .windows(2)
+            .all(|w| w[0].threshold < w[1].threshold));
         let mut room = room;
         add_band(&mut room, &acc);
         assert_eq!(room.band.len(), BAND_POINTS);
+        // The stored excesses refit to the same curve.
+        let refit = echobench_tail::TailFit::from_excesses(
+            room.fit_threshold.unwrap(),
+            &room.excesses,
+            room.exposure_ns as f64 / 3.6e12,
+            ThresholdRule::default().shape_floor,
+        )
+        .unwrap();
+        for b in &room.band {
+            assert_eq!(refit.rate_per_h(b.0), b.1);
+        }
         for pair in room.band.windows(2) {
             assert!(pair[1].0 > pair[0].0 && pair[1].1 < pair[0].1);
         }
@@ -540,6 +617,8 @@ mod tests {
                 note: value.is_none().then(|| "too few clusters".to_string()),
             }],
             band: Vec::new(),
+            stability: Vec::new(),
+            excesses: Vec::new(),
         }
     }
 

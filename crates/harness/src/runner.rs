@@ -1511,14 +1511,19 @@ fn calibrate(
                     )
                 })
                 .collect();
-            // The fitted curve of the room that sets the one-per-day threshold, for the
-            // report's picture of counted against extrapolated rates.
+            // The fitted curve and the stability table of the room that sets the
+            // one-per-day threshold, for the report's pictures; the other rooms' tables go.
             let per_day = crate::rare_rates::REPORT_RATES_PER_HOUR[1];
-            if let Some((_, Some(limiting))) =
-                crate::rare_rates::worst_room(&tail_rooms, &[per_day]).first()
-            {
-                if let Some(i) = tail_rooms.iter().position(|r| r.name() == *limiting) {
-                    crate::rare_rates::add_band(&mut tail_rooms[i], &c.tails[i]);
+            let limiting = match crate::rare_rates::worst_room(&tail_rooms, &[per_day]).first() {
+                Some((_, Some(name))) => tail_rooms.iter().position(|r| r.name() == *name),
+                _ => None,
+            };
+            if let Some(i) = limiting {
+                crate::rare_rates::add_band(&mut tail_rooms[i], &c.tails[i]);
+            }
+            for (i, room) in tail_rooms.iter_mut().enumerate() {
+                if Some(i) != limiting {
+                    room.stability.clear();
                 }
             }
             Calibrated {

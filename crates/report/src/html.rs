@@ -1932,6 +1932,13 @@ fn product_entries(
             );
             html.push_str(&page.figure(&render_chart(&chart), &caption));
         }
+        for (label, room, chart) in rare_part::stability_charts(part, &|i| style_for(i, false)) {
+            let caption = Html::filled(
+                "{}: how the fit threshold was chosen in {}. For each candidate threshold u, the shape ξ of the generalized Pareto tail fitted to the cluster maxima above u, with its {} profile-likelihood interval (fits held at ξ ≥ 0). Above a threshold where the tail model holds, ξ stays level within the intervals; the chosen u (vertical line) is the lowest candidate whose fit passes its goodness-of-fit test and whose model also describes the maxima above every higher candidate.",
+                &[&label, &room, &data::confidence_percent()],
+            );
+            html.push_str(&page.figure(&render_chart(&chart), &caption));
+        }
         add(
             "rare-rates",
             "Rare false-alarm rates: thresholds by tail extrapolation",

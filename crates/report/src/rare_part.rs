@@ -189,3 +189,101 @@ pub(crate) fn rate_charts(
     }
     out
 }
+
+/// Per detector with a stability table: the shape ξ of the tail fitted above each candidate
+/// threshold, with its profile-likelihood interval, in the room that sets its one-per-day
+/// threshold; the chosen fit threshold drawn as a vertical line. Above a valid threshold the
+/// points stay level within their intervals (Coles 2001, §4.3.4). `(label, room, chart)`.
+pub(crate) fn stability_charts(
+    part: &Part,
+    style: &dyn Fn(usize) -> crate::plot::Style,
+) -> Vec<(String, String, crate::plot::Chart)> {
+    use crate::plot::{Axis, Chart, MarkedPoint, Marker, ReferenceLine, Series, Style};
+    let mut out = Vec::new();
+    for (i, d) in part.tallies().into_iter().enumerate() {
+        let Some(room) = d.tail.iter().find(|r| !r.stability.is_empty()) else {
+            continue;
+        };
+        let points: Vec<MarkedPoint> = room
+            .stability
+            .iter()
+            .filter_map(|p| {
+                let (xi, low, high) = p.xi?;
+                let mut m = MarkedPoint::at(p.threshold, xi);
+                m.y_interval = Some((low, high.unwrap_or(f64::INFINITY)));
+                m.note = format!(
+                    "u = {}: {} cluster maxima above, ξ = {} [{}, {}]{}",
+                    format_number(p.threshold, 4),
+                    p.exceedances,
+                    format_number(xi, 3),
+                    format_number(low, 3),
+                    high.map_or("∞".to_string(), |h| format_number(h, 3)),
+                    if p.chosen { " (chosen)" } else { "" }
+                );
+                Some(m)
+            })
+            .collect();
+        if points.is_empty() {
+            continue;
+        }
+        let (x_low, x_high) = points
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
+                (a.min(p.x), b.max(p.x))
+            });
+        // The shape's intervals can be wide at the top candidates: the axis shows ξ from
+        // −0.5 to 1.5 at most, enough to tell a light tail from a heavy one.
+        let finite_ends = points.iter().flat_map(|p| {
+            let (l, h) = p.y_interval.unwrap_or((p.y, p.y));
+            [p.y, l, if h.is_finite() { h } else { p.y }]
+        });
+        let (y_low, y_high) = finite_ends.fold((0.0f64, 0.0f64), |(a, b), y| (a.min(y), b.max(y)));
+        let (axis_low, axis_high) = (y_low.max(-0.5) - 0.05, y_high.min(1.5) + 0.05);
+        // An unbounded or far interval end is drawn to the axis edge.
+        let points: Vec<MarkedPoint> = points
+            .into_iter()
+            .map(|mut p| {
+                p.y_interval = p
+                    .y_interval
+                    .map(|(l, h)| (l.max(axis_low), h.min(axis_high)));
+                p
+            })
+            .collect();
+        let pad = 0.05 * (x_high - x_low).max(f64::MIN_POSITIVE);
+        let mut chart = Chart::new(
+            &format!(
+                "{}: fitted tail shape against threshold in {}",
+                d.label,
+                room.name()
+            ),
+            Axis::linear("candidate threshold u", x_low - pad, x_high + pad),
+            Axis::linear("shape ξ of the tail above u", axis_low, axis_high),
+        );
+        chart.height = 300.0;
+        chart.series = vec![Series {
+            name: "ξ with its interval".into(),
+            style: Style {
+                marker: Marker::Circle,
+                ..style(i)
+            },
+            line: Vec::new(),
+            markers: points,
+        }];
+        chart.vertical_lines = room
+            .stability
+            .iter()
+            .filter(|p| p.chosen)
+            .map(|p| ReferenceLine {
+                value: p.threshold,
+                label: "chosen u".into(),
+            })
+            .collect();
+        chart.horizontal_lines = vec![ReferenceLine {
+            value: 0.0,
+            label: "ξ = 0 (exponential tail)".into(),
+        }];
+        chart.empty_message = "no candidate threshold with a fit".into();
+        out.push((d.label.clone(), room.name(), chart));
+    }
+    out
+}
