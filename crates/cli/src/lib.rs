@@ -575,16 +575,20 @@ fn run_gate(
     all: bool,
 ) -> Result<ExitCode> {
     use echobench_core::atomic::write_atomically;
-    let candidate = echobench_run_files::read_tallies(run)?;
-    let base = echobench_run_files::read_tallies(baseline)?;
-    if run.is_dir() {
+    // A run folder is opened once (its manifest verified once, its summary and tallies
+    // checked to be of one run); a bare tallies file is read as it is.
+    let candidate = if run.is_dir() {
+        let folder = echobench_run_files::RunFolder::open(run)?;
         // The suite's budget (unless given on the command line) and its evidence.
-        let summary = echobench_run_files::read_summary(run)?;
         if settings.budget_per_hour.is_none() {
-            settings.budget_per_hour = summary.false_alarm_budget_per_hour;
+            settings.budget_per_hour = folder.summary.false_alarm_budget_per_hour;
         }
-        settings.budget_from_tail |= summary.budget_from_tail;
-    }
+        settings.budget_from_tail |= folder.summary.budget_from_tail;
+        folder.tallies
+    } else {
+        echobench_run_files::read_tallies(run)?
+    };
+    let base = echobench_run_files::read_tallies(baseline)?;
     let report = echobench_harness::gate::gate(&candidate, &base, &settings)?;
     let folder = if run.is_dir() { run } else { Path::new(".") };
     let json = folder.join("gate.json");

@@ -173,7 +173,14 @@ impl DetectorPlugin for DescribedPlugin {
 }
 
 fn described() -> DescribedPlugin {
-    let path = std::env::temp_dir().join(format!("echobench-described-{}.txt", std::process::id()));
+    // One file per call: the tests run in parallel threads of one process, and a file shared
+    // by them could be read while another rewrites it.
+    static CALLS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+    let call = CALLS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    let path = std::env::temp_dir().join(format!(
+        "echobench-described-{}-{call}.txt",
+        std::process::id()
+    ));
     std::fs::write(&path, DESCRIPTION).unwrap();
     let plugin = DescribedPlugin::from_file(&path);
     std::fs::remove_file(&path).unwrap();

@@ -1097,7 +1097,7 @@ fn run_product(
 /// Calibration trials per scene variant whose score traces are kept to place the
 /// threshold grid (the first ones by trial index); the others are scored and dropped.
 /// The grid only has to span the scores (its counts are exact either way, see
-/// [`calibrate`]); 24 is the test-trial count of the default suite, whose trials were
+/// `calibrate`); 24 is the test-trial count of the default suite, whose trials were
 /// enough to place its grid before calibration was streamed, and keeps the pilot's
 /// memory to a few megabytes per product.
 pub const PILOT_TRIALS: u64 = 24;
