@@ -89,10 +89,7 @@ use echobench_core::detector::{
     BandRole, Cost, Detector, DetectorFailure, DetectorPlan, DetectorPlugin, DopplerBand,
     ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
-use echobench_core::doppler::{
-    self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
-    DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS, MOTION_MIN_MPS,
-};
+use echobench_core::doppler::{self, Framing};
 use echobench_core::param_decl::{ChoiceParam, IntegerParam, RealParam};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::cfar_cells::CellPlan;
@@ -106,61 +103,8 @@ const MIN_FRAME_LEN: i64 = 8;
 const MAX_FRAME_LEN: i64 = 65_536;
 const MAX_CELLS: i64 = 4_096;
 
-/// The frame family: a velocity resolution of [`DEFAULT_RESOLUTION_MPS`] by
-/// default (0.245 s at 2.45 GHz, 0.0249 s at 24.125 GHz), hop half a frame;
-/// 256/128 samples when the frame is given in samples.
-pub const FRAME: FrameParams = FrameParams::new(
-    FrameDefaults {
-        frame_len: 256,
-        hop: 128,
-        frame_s: 0.128,
-        resolution_mps: DEFAULT_RESOLUTION_MPS,
-        hop_fraction: 0.5,
-    },
-    FrameRules {
-        default_units: FrameUnits::Mps,
-        min_len: 8,
-        max_len: 65_536,
-    },
-);
-
-/// The cells-under-test band's edge parameters.
-pub const BAND: BandParams = BandParams {
-    // The historic Hz band (right at 2.45 GHz only): band_units = hz, or set in the suite.
-    low_hz: RealParam {
-        name: "low_hz",
-        unit: "Hz",
-        about: "lowest |Doppler| of the cells under test (Hz units)",
-        min: 0.0,
-        max: 1e7,
-        default: 1.0,
-    },
-    high_hz: RealParam {
-        name: "high_hz",
-        unit: "Hz",
-        about: "highest |Doppler| of the cells under test (Hz units, at most fs/2)",
-        min: 0.0,
-        max: 1e7,
-        default: 100.0,
-    },
-    // Cells under test over a walker's torso to limbs, 0.3–4 m/s (echobench_core::doppler).
-    low_mps: RealParam {
-        name: "low_mps",
-        unit: "m/s",
-        about: "lowest radial speed of the cells under test",
-        min: 0.0,
-        max: 100.0,
-        default: MOTION_MIN_MPS,
-    },
-    high_mps: RealParam {
-        name: "high_mps",
-        unit: "m/s",
-        about: "highest radial speed of the cells under test (default: clipped to Nyquist)",
-        min: 0.0,
-        max: 100.0,
-        default: MOTION_MAX_MPS,
-    },
-};
+/// The frame family and the cells-under-test band, shared with the other CFAR detector.
+pub use echobench_detector_dsp::cfar_cells::{BAND, FRAME};
 
 const WINDOW: ChoiceParam<Window> = Window::param(
     "taper applied to each frame before the FFT (rect keeps white-noise bins independent)",
