@@ -18,6 +18,7 @@
 
 use echobench_integration_tests::workspace_root;
 use echobench_scene::load_scene_file;
+use echobench_yaml_reader::fixture::Expectations;
 use echobench_yaml_reader::{Report, Severity};
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
@@ -31,46 +32,6 @@ const MIN_TESTED_FILES: usize = 15;
 /// the alias bomb must fail on its node budget, not after expanding (common practice:
 /// a reader is bounded so that hostile input cannot cost more than honest input).
 const LOAD_BUDGET: Duration = Duration::from_secs(2);
-
-/// What a bad-scene file says its report must hold.
-#[derive(Debug, Default)]
-struct Expectations {
-    substrings: Vec<String>,
-    first_error_line: Option<usize>,
-    error_count: Option<usize>,
-    known_gap: Vec<String>,
-}
-
-/// Reads the directives from the comment lines at the top of a file.
-fn expectations(text: &str) -> Result<Expectations, String> {
-    let mut found = Expectations::default();
-    for line in text.lines().take_while(|l| l.trim_start().starts_with('#')) {
-        let comment = line.trim_start().trim_start_matches('#').trim_start();
-        let parse_count = |value: &str, name: &str| {
-            value
-                .trim()
-                .parse::<usize>()
-                .map_err(|e| format!("`# {name}: {value}` is not a whole number: {e}"))
-        };
-        if let Some(value) = comment.strip_prefix("expect:") {
-            let value = value.trim();
-            if value.is_empty() {
-                return Err("an empty `# expect:` line".into());
-            }
-            found.substrings.push(value.to_string());
-        } else if let Some(value) = comment.strip_prefix("expect-line:") {
-            found.first_error_line = Some(parse_count(value, "expect-line")?);
-        } else if let Some(value) = comment.strip_prefix("expect-errors:") {
-            found.error_count = Some(parse_count(value, "expect-errors")?);
-        } else if let Some(value) = comment.strip_prefix("known-gap:") {
-            found.known_gap.push(value.trim().to_string());
-        }
-    }
-    if found.substrings.is_empty() {
-        return Err("no `# expect:` line at the top of the file".into());
-    }
-    Ok(found)
-}
 
 fn bad_scene_dir() -> PathBuf {
     workspace_root().join("tests").join("bad-scenes")
@@ -102,63 +63,19 @@ fn load_without_panic(
     })
 }
 
-/// Every way `report` (for the file `name`) falls short of `expected`.
+/// Every way `report` (for the file `name`) falls short of `expected`, and every error
+/// that names another file (a scene's errors are all its own).
 fn shortcomings(name: &str, report: &Report, expected: &Expectations) -> Vec<String> {
-    let text = report.to_string();
-    let mut wrong = Vec::new();
-    if !report.has_errors() {
-        wrong.push("the report holds no error".into());
-    }
-    if !text.contains(name) {
-        wrong.push(format!("the report does not name the file `{name}`"));
-    }
-    for substring in &expected.substrings {
-        if !text.contains(substring.as_str()) {
-            wrong.push(format!("the report lacks `{substring}`"));
-        }
-    }
+    let mut wrong = expected.shortcomings(name, report);
     for problem in report
         .problems
         .iter()
-        .filter(|p| p.severity == Severity::Error)
+        .filter(|p| p.severity == Severity::Error && p.file != name)
     {
-        if problem.file != name {
-            wrong.push(format!(
-                "an error names the file `{}`, not `{name}`: {problem}",
-                problem.file
-            ));
-        }
-        match problem.location {
-            None => wrong.push(format!("an error carries no line and column: {problem}")),
-            Some(at) if at.line == 0 || at.column == 0 => wrong.push(format!(
-                "an error has a location not counted from 1: {problem}"
-            )),
-            Some(_) => {}
-        }
-    }
-    if let Some(line) = expected.first_error_line {
-        let first = report
-            .problems
-            .iter()
-            .find(|p| p.severity == Severity::Error);
-        match first.and_then(|p| p.location) {
-            Some(at) if at.line == line => {}
-            Some(at) => wrong.push(format!(
-                "the first error is on line {}, expected line {line}",
-                at.line
-            )),
-            None => wrong.push(format!(
-                "the first error has no location, expected line {line}"
-            )),
-        }
-    }
-    if let Some(count) = expected.error_count {
-        if report.error_count() != count {
-            wrong.push(format!(
-                "the report holds {} errors, expected {count}",
-                report.error_count()
-            ));
-        }
+        wrong.push(format!(
+            "an error names the file `{}`, not `{name}`: {problem}",
+            problem.file
+        ));
     }
     wrong
 }
@@ -172,7 +89,7 @@ fn every_bad_scene_is_refused_with_a_located_report() {
         let name = path.display().to_string();
         let text =
             std::fs::read_to_string(path).unwrap_or_else(|e| panic!("cannot read {name}: {e}"));
-        let expected = match expectations(&text) {
+        let expected = match Expectations::read(&text) {
             Ok(expected) => expected,
             Err(why) => {
                 failures.push(format!("{name}: {why}"));
@@ -229,9 +146,9 @@ fn every_bad_scene_is_refused_with_a_located_report() {
 fn the_directives_are_read_as_written() {
     // The harness itself must fail when it should: a file without `# expect:` is
     // refused, and a report that misses an expected text or line is caught.
-    assert!(expectations("name: x\n").is_err());
-    assert!(expectations("# expect-line: two\n# expect: x\n").is_err());
-    let expected = expectations("# expect: `a.b`: bad\n# expect-line: 3\n# expect-errors: 2\n# known-gap: why\nname: x\n# expect: later lines are not directives\n")
+    assert!(Expectations::read("name: x\n").is_err());
+    assert!(Expectations::read("# expect-line: two\n# expect: x\n").is_err());
+    let expected = Expectations::read("# expect: `a.b`: bad\n# expect-line: 3\n# expect-errors: 2\n# known-gap: why\nname: x\n# expect: later lines are not directives\n")
         .expect("valid directives");
     assert_eq!(expected.substrings, vec!["`a.b`: bad".to_string()]);
     assert_eq!(expected.first_error_line, Some(3));
@@ -245,14 +162,15 @@ fn the_directives_are_read_as_written() {
         &report,
         &Expectations {
             first_error_line: Some(2),
-            ..expectations("# expect: nowhere\n").unwrap()
+            ..Expectations::read("# expect: nowhere\n").unwrap()
         },
     );
     assert_eq!(wrong.len(), 2, "{wrong:?}");
     assert!(shortcomings(
         "probe.yaml",
         &report,
-        &expectations("# expect: `sensor`: missing required field\n# expect-line: 1\n").unwrap()
+        &Expectations::read("# expect: `sensor`: missing required field\n# expect-line: 1\n")
+            .unwrap()
     )
     .is_empty());
 }

@@ -18,6 +18,7 @@
 #![deny(missing_docs)]
 
 mod field_path;
+pub mod fixture;
 mod reader;
 mod tree;
 
