@@ -202,19 +202,7 @@ pub fn floor_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zo
         &ticks_without_grid(),
     );
     draw_ticks(&mut svg, &area, &y_axis, Edge::Left, &ticks_without_grid());
-    svg.text_at(
-        area.left + 0.5 * area.width,
-        area.bottom() + 36.0,
-        "middle",
-        FONT_PX,
-    )
-    .content(&x_axis.label);
-    svg.text_at(14.0, area.top + 0.5 * area.height, "middle", FONT_PX)
-        .attr(
-            "transform",
-            format_args!("rotate(-90 14 {:.1})", area.top + 0.5 * area.height),
-        )
-        .content(&y_axis.label);
+    axis_labels(&mut svg, &area, &x_axis, &y_axis);
     svg.tag("rect")
         .px("x", area.left)
         .px("y", area.top)
@@ -455,19 +443,7 @@ pub fn side_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zon
     }
     draw_ticks(&mut svg, &area, &x_axis, Edge::Bottom, &TICKS);
     draw_ticks(&mut svg, &area, &y_axis, Edge::Left, &TICKS);
-    svg.text_at(
-        area.left + 0.5 * area.width,
-        area.bottom() + 36.0,
-        "middle",
-        FONT_PX,
-    )
-    .content(&x_axis.label);
-    svg.text_at(14.0, area.top + 0.5 * area.height, "middle", FONT_PX)
-        .attr(
-            "transform",
-            format_args!("rotate(-90 14 {:.1})", area.top + 0.5 * area.height),
-        )
-        .content(&y_axis.label);
+    axis_labels(&mut svg, &area, &x_axis, &y_axis);
     // The floor line.
     let (fx0, fy) = px(0.0, 0.0);
     let (fx1, _) = px(reach, 0.0);
@@ -576,6 +552,24 @@ pub fn side_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zon
         .content("strip: P(detected) by range ring");
     svg.close("svg");
     svg
+}
+
+/// The two axis titles: the x title centred under the plot, the y title turned upright
+/// along its left edge.
+fn axis_labels(svg: &mut Svg, area: &PlotArea, x_axis: &Axis, y_axis: &Axis) {
+    svg.text_at(
+        area.left + 0.5 * area.width,
+        area.bottom() + 36.0,
+        "middle",
+        FONT_PX,
+    )
+    .content(&x_axis.label);
+    svg.text_at(14.0, area.top + 0.5 * area.height, "middle", FONT_PX)
+        .attr(
+            "transform",
+            format_args!("rotate(-90 14 {:.1})", area.top + 0.5 * area.height),
+        )
+        .content(&y_axis.label);
 }
 
 #[cfg(test)]
