@@ -128,6 +128,34 @@ pub(crate) struct Session {
     budget: Duration,
 }
 
+/// How long a start waits for a program file that another process still holds open
+/// for writing.
+const BUSY_FILE_PATIENCE: Duration = Duration::from_secs(2);
+
+/// Spawns `command`, retrying while the kernel answers "text file busy".
+///
+/// Why: a program written just before it is started (a team's build step, a test's
+/// script) can be refused with ETXTBSY when any thread of this process forks in
+/// the short window in which the written file's descriptor is still open: the forked
+/// child holds a copy until it execs. The file is complete; waiting a few
+/// milliseconds is the usual remedy (common practice); no other error is retried.
+fn spawn_when_not_busy(command: &mut Command) -> io::Result<Child> {
+    let started = Instant::now();
+    let mut pause = Duration::from_millis(1);
+    loop {
+        match command.spawn() {
+            Err(e)
+                if e.kind() == io::ErrorKind::ExecutableFileBusy
+                    && started.elapsed() < BUSY_FILE_PATIENCE =>
+            {
+                std::thread::sleep(pause);
+                pause = (pause * 2).min(Duration::from_millis(50));
+            }
+            other => return other,
+        }
+    }
+}
+
 impl Session {
     /// Starts `path` with `args`, its three pipes and their threads; the
     /// host will wait for it `budget` in all.
@@ -135,12 +163,13 @@ impl Session {
     /// # Errors
     /// When the program cannot be started or a thread cannot be created.
     pub(crate) fn start(path: &Path, args: &[String], budget: Duration) -> io::Result<Session> {
-        let mut child = Command::new(path)
-            .args(args)
-            .stdin(Stdio::piped())
-            .stdout(Stdio::piped())
-            .stderr(Stdio::piped())
-            .spawn()?;
+        let mut child = spawn_when_not_busy(
+            Command::new(path)
+                .args(args)
+                .stdin(Stdio::piped())
+                .stdout(Stdio::piped())
+                .stderr(Stdio::piped()),
+        )?;
         match Self::attach(&mut child, budget) {
             Ok(session_parts) => Ok(session_parts.into_session(child)),
             Err(e) => {
