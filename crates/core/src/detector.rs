@@ -468,6 +468,9 @@ pub struct ParamSpec {
     pub kind: ParamKind,
     /// Value used when the suite does not set it.
     pub default: DefaultValue,
+    /// Whether a tuner may search this parameter, and over which range and scale
+    /// (`None`: fixed at its given or default value; see [`crate::param_decl::TuneRange`]).
+    pub tune: Option<crate::param_decl::TuneRange>,
 }
 
 /// A default that can live in a `static` table (or be owned by a plugin made at run time).
@@ -623,6 +626,7 @@ impl Params {
     /// let specs = [ParamSpec {
     ///     name: String::from("frame_len").into(), unit: "samples".into(), about: "frame length".into(),
     ///     kind: ParamKind::Integer { min: 8, max: 4096 }, default: DefaultValue::Integer(256),
+    ///     tune: None,
     /// }];
     /// let p = Params::resolve("demo", &specs, &[]).unwrap();
     /// assert_eq!(p.value("frame_len"), Some(&ParamValue::Integer(256)));
@@ -781,6 +785,7 @@ mod tests {
             about: Cow::Borrowed("lower band edge"),
             kind: ParamKind::Real { min: 0.0, max: 1e4 },
             default: DefaultValue::Real(10.0),
+            tune: None,
         },
         ParamSpec {
             name: Cow::Borrowed("window"),
@@ -788,6 +793,7 @@ mod tests {
             about: Cow::Borrowed("window"),
             kind: ParamKind::Choice(ChoiceNames::Static(&["hann", "rect"])),
             default: DefaultValue::Text(Cow::Borrowed("hann")),
+            tune: None,
         },
         ParamSpec {
             name: Cow::Borrowed("smooth"),
@@ -795,6 +801,7 @@ mod tests {
             about: Cow::Borrowed("smoothing"),
             kind: ParamKind::Flag,
             default: DefaultValue::Flag(false),
+            tune: None,
         },
     ];
 

@@ -36,6 +36,14 @@
 //! assert!(WINDOW.is_given(&p) && !FRAME_LEN.is_given(&p));
 //! ```
 //!
+//! **Tunable parameters say so in the table.** A declaration's `spec_tuned(range)` is its
+//! `spec()` with a [`TuneRange`]: the values a tuner may try and the scale it spreads its
+//! samples on (linear, logarithmic, whole numbers, every option). A tuner reads it from the
+//! plugin's `params()` and needs to know nothing else about the plugin; `spec()` alone means
+//! "not tunable" (a threshold, a program path, a switch that changes what is measured).
+//! The range must lie inside the declared `[min, max]`, checked at compile time like the
+//! default.
+//!
 //! **Reading never panics.** `get` returns a [`ParamError`] when the resolved
 //! parameters do not hold the declared name with the declared kind: a
 //! declaration missing from the plugin's table, or parameters resolved for
@@ -61,6 +69,101 @@ fn not_resolved(params: &Params, name: &str, kind: &str) -> ParamError {
              the plugin's parameter table and resolve the parameters with that table"
         ),
     )
+}
+
+/// Over which values a tuner searches a parameter, and on which scale it spreads them.
+///
+/// A tuner maps a point `u` in `[0, 1)` of a low-discrepancy sequence to a value
+/// ([`TuneRange::value_at`]): evenly on the linear scale, evenly in the logarithm on the
+/// log scale (a frame length, a time constant: a factor matters, not a difference), each
+/// whole number or option with equal width.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum TuneRange {
+    /// Real values in `[low, high]`, spread evenly.
+    Linear {
+        /// Smallest value tried.
+        low: f64,
+        /// Largest value tried.
+        high: f64,
+    },
+    /// Real values in `[low, high]` (`low > 0`), spread evenly in their logarithm.
+    Log {
+        /// Smallest value tried.
+        low: f64,
+        /// Largest value tried.
+        high: f64,
+    },
+    /// Whole numbers `low..=high`, each equally likely.
+    Integer {
+        /// Smallest value tried.
+        low: i64,
+        /// Largest value tried.
+        high: i64,
+    },
+    /// Whole numbers `low..=high` (`low > 0`), spread evenly in their logarithm.
+    IntegerLog {
+        /// Smallest value tried.
+        low: i64,
+        /// Largest value tried.
+        high: i64,
+    },
+    /// Every option of a choice, each equally likely (the options come from the
+    /// parameter's [`ParamKind::Choice`]).
+    Choice,
+}
+
+impl TuneRange {
+    /// The scale's name, for listings: `linear`, `log`, `integer`, `integer-log`, `choice`.
+    pub fn scale_name(&self) -> &'static str {
+        match self {
+            TuneRange::Linear { .. } => "linear",
+            TuneRange::Log { .. } => "log",
+            TuneRange::Integer { .. } => "integer",
+            TuneRange::IntegerLog { .. } => "integer-log",
+            TuneRange::Choice => "choice",
+        }
+    }
+
+    /// The value at `u` in `[0, 1)` (clamped there) for a parameter of `kind`: `None` when
+    /// the range does not fit the kind (a hand-written table's mistake).
+    ///
+    /// Whole numbers and options are cells of equal width in `u` (on the log scale, in
+    /// `ln`), so `n` evenly spread points give each of `n` values one point.
+    pub fn value_at(&self, u: f64, kind: &ParamKind) -> Option<ParamValue> {
+        let u = if u.is_finite() {
+            u.clamp(0.0, 1.0 - f64::EPSILON)
+        } else {
+            0.0
+        };
+        match (self, kind) {
+            (TuneRange::Linear { low, high }, ParamKind::Real { .. }) => {
+                Some(ParamValue::Real(low + u * (high - low)))
+            }
+            (TuneRange::Log { low, high }, ParamKind::Real { .. }) if *low > 0.0 => Some(
+                ParamValue::Real((low.ln() + u * (high / low).ln()).exp().clamp(*low, *high)),
+            ),
+            (TuneRange::Integer { low, high }, ParamKind::Integer { .. }) => {
+                let span = (high - low + 1) as f64;
+                Some(ParamValue::Integer(
+                    (low + (u * span).floor() as i64).min(*high),
+                ))
+            }
+            (TuneRange::IntegerLog { low, high }, ParamKind::Integer { .. }) if *low > 0 => {
+                // Cells of equal width in ln over [low, high + 1), so every whole number
+                // is reachable and the largest is not squeezed out.
+                let (a, b) = ((*low as f64).ln(), ((high + 1) as f64).ln());
+                let x = (a + u * (b - a)).exp().floor() as i64;
+                Some(ParamValue::Integer(x.clamp(*low, *high)))
+            }
+            (TuneRange::Choice, ParamKind::Choice(names)) => {
+                let names = names.names();
+                let i =
+                    ((u * names.len() as f64).floor() as usize).min(names.len().checked_sub(1)?);
+                Some(ParamValue::Text(names[i].to_string()))
+            }
+            _ => None,
+        }
+    }
 }
 
 /// A real-number parameter in `[min, max]`.
@@ -101,7 +204,33 @@ impl RealParam {
                 max: self.max,
             },
             default: DefaultValue::Real(self.default),
+            tune: None,
         }
+    }
+
+    /// [`RealParam::spec`], marked tunable over `range` ([`TuneRange::Linear`] or
+    /// [`TuneRange::Log`], inside `[min, max]`).
+    ///
+    /// # Panics
+    /// At compile time in a `const`/`static` table: as `spec`, or for another kind of
+    /// range, an empty one, one outside `[min, max]`, or a logarithmic one reaching 0.
+    pub const fn spec_tuned(&self, range: TuneRange) -> ParamSpec {
+        match range {
+            TuneRange::Linear { low, high } | TuneRange::Log { low, high } => {
+                assert!(low < high, "RealParam: empty tuning range");
+                assert!(
+                    low >= self.min && high <= self.max,
+                    "RealParam: tuning range outside [min, max]"
+                );
+                if let TuneRange::Log { .. } = range {
+                    assert!(low > 0.0, "RealParam: a log tuning range must be positive");
+                }
+            }
+            _ => panic!("RealParam: tune a real parameter on a Linear or Log range"),
+        }
+        let mut spec = self.spec();
+        spec.tune = Some(range);
+        spec
     }
 
     /// The resolved value.
@@ -158,7 +287,32 @@ impl IntegerParam {
                 max: self.max,
             },
             default: DefaultValue::Integer(self.default),
+            tune: None,
         }
+    }
+
+    /// [`IntegerParam::spec`], marked tunable over `range` ([`TuneRange::Integer`] or
+    /// [`TuneRange::IntegerLog`], inside `[min, max]`).
+    ///
+    /// # Panics
+    /// As [`RealParam::spec_tuned`].
+    pub const fn spec_tuned(&self, range: TuneRange) -> ParamSpec {
+        match range {
+            TuneRange::Integer { low, high } | TuneRange::IntegerLog { low, high } => {
+                assert!(low < high, "IntegerParam: empty tuning range");
+                assert!(
+                    low >= self.min && high <= self.max,
+                    "IntegerParam: tuning range outside [min, max]"
+                );
+                if let TuneRange::IntegerLog { .. } = range {
+                    assert!(low > 0, "IntegerParam: a log tuning range must be positive");
+                }
+            }
+            _ => panic!("IntegerParam: tune a whole number on an Integer or IntegerLog range"),
+        }
+        let mut spec = self.spec();
+        spec.tune = Some(range);
+        spec
     }
 
     /// The resolved value.
@@ -198,6 +352,7 @@ impl FlagParam {
             about: Cow::Borrowed(self.about),
             kind: ParamKind::Flag,
             default: DefaultValue::Flag(self.default),
+            tune: None,
         }
     }
 
@@ -238,6 +393,7 @@ impl TextParam {
             about: Cow::Borrowed(self.about),
             kind: ParamKind::Text,
             default: DefaultValue::Text(Cow::Borrowed(self.default)),
+            tune: None,
         }
     }
 
@@ -314,7 +470,18 @@ impl<T: Copy + 'static> ChoiceParam<T> {
             about: Cow::Borrowed(self.about),
             kind: ParamKind::Choice(ChoiceNames::Static(self.options)),
             default: DefaultValue::Text(Cow::Borrowed(self.default)),
+            tune: None,
         }
+    }
+
+    /// [`ChoiceParam::spec`], marked tunable over every option ([`TuneRange::Choice`]).
+    ///
+    /// # Panics
+    /// As [`ChoiceParam::spec`].
+    pub const fn spec_tuned(&self) -> ParamSpec {
+        let mut spec = self.spec();
+        spec.tune = Some(TuneRange::Choice);
+        spec
     }
 
     /// The value of the resolved option.
@@ -401,6 +568,7 @@ mod tests {
                 about: Cow::Borrowed("lower band edge"),
                 kind: ParamKind::Real { min: 0.0, max: 1e4 },
                 default: DefaultValue::Real(10.0),
+                tune: None,
             }
         );
         assert_eq!(
@@ -453,6 +621,76 @@ mod tests {
         };
         let e = LOW_AS_FLAG.get(&p).unwrap_err();
         assert_eq!(e.value, "10");
+    }
+
+    #[test]
+    fn a_tuned_declaration_carries_its_range_and_maps_unit_points_onto_it() {
+        const FRAME: IntegerParam = IntegerParam {
+            name: "frame_len",
+            unit: "samples",
+            about: "frame",
+            min: 8,
+            max: 4096,
+            default: 256,
+        };
+        static TUNED: [ParamSpec; 3] = [
+            LOW_HZ.spec_tuned(TuneRange::Log {
+                low: 1.0,
+                high: 100.0,
+            }),
+            FRAME.spec_tuned(TuneRange::Integer { low: 60, high: 63 }),
+            TAPER.spec_tuned(),
+        ];
+        assert_eq!(TABLE[0].tune, None);
+        assert_eq!(
+            TUNED[0].tune,
+            Some(TuneRange::Log {
+                low: 1.0,
+                high: 100.0
+            })
+        );
+        // Log scale: the middle of [0, 1) is the geometric mean, 10 Hz.
+        let mid = TUNED[0].tune.unwrap().value_at(0.5, &TUNED[0].kind);
+        assert!(matches!(mid, Some(ParamValue::Real(x)) if (x - 10.0).abs() < 1e-9));
+        // Four whole numbers: four cells of width 1/4, each reached by its own quarter.
+        let r = TUNED[1].tune.unwrap();
+        let got: Vec<_> = [0.0, 0.26, 0.5, 0.99]
+            .iter()
+            .map(|&u| r.value_at(u, &TUNED[1].kind))
+            .collect();
+        assert_eq!(
+            got,
+            [60, 61, 62, 63]
+                .map(|i| Some(ParamValue::Integer(i)))
+                .to_vec()
+        );
+        let choice = TUNED[2].tune.unwrap();
+        assert_eq!(
+            choice.value_at(0.7, &TUNED[2].kind),
+            Some(ParamValue::Text("rect".into()))
+        );
+        // A range that does not fit the kind maps to nothing rather than a wrong value.
+        assert_eq!(r.value_at(0.5, &TUNED[0].kind), None);
+        // Integer-log: every whole number of a small range is reachable, the top included.
+        let il = TuneRange::IntegerLog { low: 1, high: 4 };
+        let kind = ParamKind::Integer { min: 1, max: 4 };
+        let mut seen: Vec<i64> = (0..1000)
+            .filter_map(|k| match il.value_at(k as f64 / 1000.0, &kind) {
+                Some(ParamValue::Integer(i)) => Some(i),
+                _ => None,
+            })
+            .collect();
+        seen.dedup();
+        assert_eq!(seen, vec![1, 2, 3, 4]);
+    }
+
+    #[test]
+    #[should_panic(expected = "tuning range outside")]
+    fn a_tuning_range_outside_the_declared_range_is_refused() {
+        let _ = LOW_HZ.spec_tuned(TuneRange::Linear {
+            low: 0.0,
+            high: 2e4,
+        });
     }
 
     #[test]

@@ -52,6 +52,7 @@ impl DescribedPlugin {
                         max: 1 << 20,
                     },
                     default: DefaultValue::Integer(200),
+                    tune: None,
                 },
                 ParamSpec {
                     name: statistic_name.into(),
@@ -62,6 +63,7 @@ impl DescribedPlugin {
                         "peak".to_string(),
                     ])),
                     default: DefaultValue::Text(String::from("mean").into()),
+                    tune: None,
                 },
             ],
         }
