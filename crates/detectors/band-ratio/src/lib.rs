@@ -115,7 +115,7 @@ use echobench_core::doppler::{
     self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing, ResolvedBand,
     DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS, MOTION_MIN_MPS,
 };
-use echobench_core::param_decl::{ChoiceParam, FlagParam, IntegerParam, RealParam};
+use echobench_core::param_decl::{ChoiceParam, FlagParam, IntegerParam, RealParam, TuneRange};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
@@ -334,9 +334,17 @@ const PFA: RealParam = RealParam {
 };
 
 static PARAMS: [ParamSpec; 26] = [
+    // Tunable (`echobench tune`): the frame, the band and the smoothing; never the threshold,
+    // which the runner calibrates.
     doppler::BAND_UNITS.spec(),
-    MOTION.low_mps.spec(),
-    MOTION.high_mps.spec(),
+    MOTION.low_mps.spec_tuned(TuneRange::Linear {
+        low: 0.1,
+        high: 0.6,
+    }),
+    MOTION.high_mps.spec_tuned(TuneRange::Linear {
+        low: 2.0,
+        high: 4.4,
+    }),
     REFERENCE.low_mps.spec(),
     REFERENCE.high_mps.spec(),
     SWAY.low_mps.spec(),
@@ -350,13 +358,16 @@ static PARAMS: [ParamSpec; 26] = [
     SWAY.high_hz.spec(),
     MAINS_HZ.spec(),
     NOTCH_WIDTH_HZ.spec(),
-    STATISTIC.spec(),
-    WINDOW.spec(),
+    STATISTIC.spec_tuned(),
+    WINDOW.spec_tuned(),
     FRAME.units.spec(),
     FRAME.frame_len.spec(),
     FRAME.hop.spec(),
     FRAME.frame_s.spec(),
-    FRAME.resolution_mps.spec(),
+    FRAME.resolution_mps.spec_tuned(TuneRange::Log {
+        low: 0.1,
+        high: 0.6,
+    }),
     FRAME.hop_fraction.spec(),
     FRAME.pow2.spec(),
     PFA.spec(),

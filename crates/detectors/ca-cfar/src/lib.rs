@@ -90,7 +90,7 @@ use echobench_core::detector::{
     ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::{self, Framing};
-use echobench_core::param_decl::{ChoiceParam, IntegerParam, RealParam};
+use echobench_core::param_decl::{ChoiceParam, IntegerParam, RealParam, TuneRange};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::cfar_cells::CellPlan;
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
@@ -138,19 +138,30 @@ const PFA: RealParam = RealParam {
 };
 
 static PARAMS: [ParamSpec; 16] = [
-    WINDOW.spec(),
+    // Tunable (`echobench tune`): the frame, the band and the smoothing; never the threshold,
+    // which the runner calibrates.
+    WINDOW.spec_tuned(),
     FRAME.units.spec(),
     FRAME.frame_len.spec(),
     FRAME.hop.spec(),
     FRAME.frame_s.spec(),
-    FRAME.resolution_mps.spec(),
+    FRAME.resolution_mps.spec_tuned(TuneRange::Log {
+        low: 0.1,
+        high: 0.6,
+    }),
     FRAME.hop_fraction.spec(),
     FRAME.pow2.spec(),
-    GUARD.spec(),
-    TRAIN.spec(),
+    GUARD.spec_tuned(TuneRange::Integer { low: 0, high: 4 }),
+    TRAIN.spec_tuned(TuneRange::Integer { low: 4, high: 16 }),
     doppler::BAND_UNITS.spec(),
-    BAND.low_mps.spec(),
-    BAND.high_mps.spec(),
+    BAND.low_mps.spec_tuned(TuneRange::Linear {
+        low: 0.1,
+        high: 0.5,
+    }),
+    BAND.high_mps.spec_tuned(TuneRange::Linear {
+        low: 2.0,
+        high: 6.0,
+    }),
     BAND.low_hz.spec(),
     BAND.high_hz.spec(),
     PFA.spec(),

@@ -75,7 +75,7 @@ use echobench_core::detector::{
     ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::Framing;
-use echobench_core::param_decl::IntegerParam;
+use echobench_core::param_decl::{IntegerParam, TuneRange};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use std::ffi::{c_int, c_void};
 use std::sync::Arc;
@@ -119,7 +119,14 @@ const HOP: IntegerParam = IntegerParam {
     default: 128,
 };
 
-static PARAMS: [ParamSpec; 2] = [FRAME_LEN.spec(), HOP.spec()];
+// Tunable (`echobench tune`): frame and hop on a log scale (a factor matters, not a difference).
+static PARAMS: [ParamSpec; 2] = [
+    FRAME_LEN.spec_tuned(TuneRange::IntegerLog {
+        low: 64,
+        high: 1024,
+    }),
+    HOP.spec_tuned(TuneRange::IntegerLog { low: 32, high: 512 }),
+];
 
 /// The C energy detector plugin (id `energy-c`).
 pub struct EnergyCPlugin;

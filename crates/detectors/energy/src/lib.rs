@@ -75,7 +75,7 @@ use echobench_core::detector::{
 use echobench_core::doppler::{
     self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
 };
-use echobench_core::param_decl::{ChoiceParam, RealParam};
+use echobench_core::param_decl::{ChoiceParam, RealParam, TuneRange};
 use echobench_core::{FrameScore, StreamInfo};
 use std::sync::Arc;
 
@@ -176,21 +176,35 @@ const FLOOR_GATE: RealParam = RealParam {
 };
 
 static PARAMS: [ParamSpec; 15] = [
+    // Tunable (`echobench tune`): the frame, the band and the smoothing; never the threshold,
+    // which the runner calibrates.
     FRAME.units.spec(),
     FRAME.frame_len.spec(),
     FRAME.hop.spec(),
-    FRAME.frame_s.spec(),
+    FRAME.frame_s.spec_tuned(TuneRange::Log {
+        low: 0.032,
+        high: 0.5,
+    }),
     FRAME.resolution_mps.spec(),
     FRAME.hop_fraction.spec(),
     FRAME.pow2.spec(),
     doppler::BAND_UNITS.spec(),
-    BAND.low_mps.spec(),
+    BAND.low_mps.spec_tuned(TuneRange::Linear {
+        low: 0.0,
+        high: 0.4,
+    }),
     BAND.high_mps.spec(),
     BAND.low_hz.spec(),
     BAND.high_hz.spec(),
     NORMALISE.spec(),
-    FLOOR_S.spec(),
-    FLOOR_GATE.spec(),
+    FLOOR_S.spec_tuned(TuneRange::Log {
+        low: 1.0,
+        high: 100.0,
+    }),
+    FLOOR_GATE.spec_tuned(TuneRange::Log {
+        low: 2.0,
+        high: 20.0,
+    }),
 ];
 
 /// The energy detector plugin (id `energy`).

@@ -141,7 +141,7 @@ use echobench_core::doppler::{
     self, BandParams, FrameDefaults, FrameParams, FrameRules, FrameUnits, Framing,
     DEFAULT_RESOLUTION_MPS, MOTION_MAX_MPS, MOTION_MIN_MPS,
 };
-use echobench_core::param_decl::{ChoiceParam, RealParam};
+use echobench_core::param_decl::{ChoiceParam, RealParam, TuneRange};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use echobench_detector_dsp::{ComplexPowerSpectrum, Framer, PowerSpectrum, Window};
 use realfft::num_complex::Complex;
@@ -331,24 +331,41 @@ const FLASH_MIN_HZ: RealParam = RealParam {
 };
 
 static PARAMS: [ParamSpec; 18] = [
+    // Tunable (`echobench tune`): the frame, the band and the smoothing; never the threshold,
+    // which the runner calibrates.
     doppler::BAND_UNITS.spec(),
-    MOTION.low_mps.spec(),
-    MOTION.high_mps.spec(),
+    MOTION.low_mps.spec_tuned(TuneRange::Linear {
+        low: 0.1,
+        high: 0.6,
+    }),
+    MOTION.high_mps.spec_tuned(TuneRange::Linear {
+        low: 2.0,
+        high: 6.0,
+    }),
     MOTION.low_hz.spec(),
     MOTION.high_hz.spec(),
     FRAME.units.spec(),
     FRAME.frame_len.spec(),
     FRAME.hop.spec(),
     FRAME.frame_s.spec(),
-    FRAME.resolution_mps.spec(),
+    FRAME.resolution_mps.spec_tuned(TuneRange::Log {
+        low: 0.1,
+        high: 0.6,
+    }),
     FRAME.hop_fraction.spec(),
     FRAME.pow2.spec(),
     WINDOW.spec(),
-    ANALYSIS_S.spec(),
+    ANALYSIS_S.spec_tuned(TuneRange::Log {
+        low: 2.0,
+        high: 8.0,
+    }),
     DECISION_HOP_S.spec(),
     STEP_LOW_HZ.spec(),
     STEP_HIGH_HZ.spec(),
-    FLASH_MIN_HZ.spec(),
+    FLASH_MIN_HZ.spec_tuned(TuneRange::Log {
+        low: 2.0,
+        high: 20.0,
+    }),
 ];
 
 /// A validated configuration: the bins, the envelope sampling and the analysis layout.

@@ -67,7 +67,7 @@ use echobench_core::detector::{
     ParamError, ParamSpec, Params, PrototypePlan, Samples,
 };
 use echobench_core::doppler::{self, BandParams};
-use echobench_core::param_decl::RealParam;
+use echobench_core::param_decl::{RealParam, TuneRange};
 use echobench_core::{Channels, FrameScore, StreamInfo};
 use std::sync::Arc;
 
@@ -137,13 +137,24 @@ const RETRIGGER_S: RealParam = RealParam {
 };
 
 static PARAMS: [ParamSpec; 7] = [
+    // Tunable (`echobench tune`): the frame, the band and the smoothing; never the threshold,
+    // which the runner calibrates.
     doppler::BAND_UNITS.spec(),
-    BAND.low_mps.spec(),
+    BAND.low_mps.spec_tuned(TuneRange::Linear {
+        low: 0.02,
+        high: 0.3,
+    }),
     BAND.high_mps.spec(),
     BAND.low_hz.spec(),
     BAND.high_hz.spec(),
-    DECISION_S.spec(),
-    RETRIGGER_S.spec(),
+    DECISION_S.spec_tuned(TuneRange::Log {
+        low: 0.02,
+        high: 0.25,
+    }),
+    RETRIGGER_S.spec_tuned(TuneRange::Linear {
+        low: 0.25,
+        high: 3.0,
+    }),
 ];
 
 /// The window-comparator plugin (id `window-comparator`).
