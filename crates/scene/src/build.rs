@@ -12,6 +12,7 @@ use crate::render::{ActorTrack, RadarGeometry};
 use crate::spec::SceneSpec;
 use crate::synth::SynthError;
 use crate::truth::{active_intervals, target_timeline, NuisanceActivity, TargetEvent, Truth};
+use crate::upsample::{track_rate, InterpolatedTrack, Interpolator, Track};
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, StreamInfo};
 use echobench_frontend::{Adc, AnalogChain, AnalogChainParams, Decimator, OutputSwing};
@@ -29,7 +30,7 @@ pub struct TrialParts {
     pub(crate) oversampling: usize,
     pub(crate) total_samples: usize,
     pub(crate) radar: RadarGeometry,
-    pub(crate) tracks: Vec<ActorTrack>,
+    pub(crate) tracks: Vec<Track>,
     pub(crate) noise_i: Vec<Box<dyn noise::AdditiveNoise>>,
     pub(crate) noise_q: Vec<Box<dyn noise::AdditiveNoise>>,
     pub(crate) dc_v: [f64; 2],
@@ -392,9 +393,23 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
         ((highest_corner / (0.45 * s.sample_rate_hz)).ceil() as usize).clamp(1, MAX_OVERSAMPLING),
     );
     let sim_rate_hz = s.sample_rate_hz * oversampling as f64;
-    let tracks: Vec<ActorTrack> = models
+    let tracks: Vec<Track> = models
         .into_iter()
         .map(|mut model| {
+            // An actor far slower than the internal rate is rendered at f_sim/D
+            // (at least 4× its own highest frequency) and interpolated up
+            // (`upsample`), with the nodes it would have had.
+            let max_doppler_hz = model.max_doppler_hz(lambda);
+            let slowest_rate_hz = |model: &dyn MotionModel| {
+                let linear_hz = model.flash_node_rate_hz(lambda);
+                match model.cubic_amplitude_node_rate_hz(lambda) {
+                    Some(cubic_hz) if cubic_hz < linear_hz => cubic_hz,
+                    _ => linear_hz,
+                }
+            };
+            let factor =
+                track_rate(max_doppler_hz, slowest_rate_hz(model.as_ref()), sim_rate_hz).factor;
+            let track_rate_hz = sim_rate_hz / factor as f64;
             // The renderer takes the fast sinc factors per sample (`echoes_with_flashes`),
             // so the nodes need only follow ranges, slow amplitudes and flash arguments.
             // A vibration goes per sample too where the nodes it saves cost more.
@@ -403,7 +418,9 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
                 model.set_vibration_per_sample(false);
                 let in_nodes_hz = model.flash_node_rate_hz(lambda);
                 let saved_hz = in_nodes_hz - per_sample_hz;
-                model.set_vibration_per_sample(saved_hz * VIBRATION_SAMPLES_PER_NODE > sim_rate_hz);
+                model.set_vibration_per_sample(
+                    saved_hz * VIBRATION_SAMPLES_PER_NODE > track_rate_hz,
+                );
             }
             // Amplitudes by a cubic through four nodes where that lowers the rate.
             let linear_hz = model.flash_node_rate_hz(lambda);
@@ -411,8 +428,19 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
                 Some(cubic_hz) if cubic_hz < linear_hz => (cubic_hz, true),
                 _ => (linear_hz, false),
             };
-            let samples_per_node = (sim_rate_hz / rate_hz).floor().max(1.0) as usize;
-            ActorTrack::new(model, samples_per_node, sim_rate_hz, &radar, cubic)
+            let rate = track_rate(max_doppler_hz, rate_hz, sim_rate_hz);
+            let track_rate_hz = sim_rate_hz / rate.factor as f64;
+            let track = ActorTrack::new(model, rate.samples_per_node, track_rate_hz, &radar, cubic);
+            if rate.factor == 1 {
+                Track::Direct(Box::new(track))
+            } else {
+                let interpolator = Interpolator::new(rate.factor, max_doppler_hz / track_rate_hz);
+                Track::Interpolated(Box::new(InterpolatedTrack::new(
+                    track,
+                    interpolator,
+                    &radar,
+                )))
+            }
         })
         .collect();
 

@@ -23,6 +23,7 @@ pub mod render;
 pub mod spec;
 mod synth;
 pub mod truth;
+pub mod upsample;
 
 pub use build::{build_model, oversampling_for, radar_geometry, trial_truth, MAX_OVERSAMPLING};
 pub use echobench_core::seed::StreamKey;

@@ -269,6 +269,41 @@ impl ActorTrack {
         })
     }
 
+    /// The contribution (I, Q) `back` samples before t = 0, by the first node
+    /// interval's polynomials continued backwards and evaluated directly (a
+    /// sine and cosine per echo): what an interpolator weighing samples before
+    /// the start reads there ([`crate::upsample`]). Call it before rendering.
+    pub(crate) fn value_before_start(&self, radar: &RadarGeometry, back: usize) -> (f64, f64) {
+        let mut groups = Vec::new();
+        self.segment_groups(radar, &mut groups);
+        let u = -(back as f64) / self.samples_per_node as f64;
+        let vibration_sin = self.vibration.map_or(0.0, |v| {
+            let t_s = -(back as f64) / self.sim_rate_hz;
+            (v.angular_rate_rad_s * t_s + v.phase_rad).sin()
+        });
+        let (mut i, mut q) = (0.0, 0.0);
+        for group in &groups {
+            for lane in 0..group.count {
+                let c = |p: &Polynomials, j: usize| p.coefficients[j][lane];
+                let cubic = |p: &Polynomials| c(p, 0) + u * (c(p, 1) + u * (c(p, 2) + u * c(p, 3)));
+                let mut amplitude = group.a0[lane]
+                    + u * (group.da[lane] + u * (group.a2[lane] + u * group.a3[lane]));
+                if group.flash {
+                    let x = cubic(&group.argument);
+                    amplitude *= sinc_of(x.sin(), x);
+                }
+                let mut phase = cubic(&group.phase);
+                if group.vibrating {
+                    phase += (group.b0[lane] + group.db[lane] * u) * vibration_sin;
+                    amplitude *= 1.0 + (group.g0[lane] + group.dg[lane] * u) * vibration_sin;
+                }
+                i += amplitude * phase.cos();
+                q -= amplitude * phase.sin();
+            }
+        }
+        (i, q)
+    }
+
     /// The actor's contribution (I, Q) at t = 0, so the front end can start
     /// settled on everything already present when the trial begins.
     pub fn value_at_start(&self, radar: &RadarGeometry) -> (f64, f64) {
@@ -808,7 +843,7 @@ impl EchoGroup {
 }
 
 /// Whether [`EchoGroup::add`] may take the AVX2 path on this CPU.
-fn wide_vectors_available() -> bool {
+pub(crate) fn wide_vectors_available() -> bool {
     #[cfg(target_arch = "x86_64")]
     {
         std::arch::is_x86_feature_detected!("avx2")
