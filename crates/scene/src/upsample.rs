@@ -462,7 +462,6 @@ pub struct TrackRate {
 /// with f_sim/D ≥ [`SLOW_RATE_PER_DOPPLER`]·B that gives the fewest nodes per
 /// second (the largest such D among equals; D = 1 when none is at least 2 or
 /// a node interval would be shorter than two slow samples).
-
 pub fn track_rate(max_doppler_hz: f64, node_rate_hz: f64, sim_rate_hz: f64) -> TrackRate {
     let direct_spacing = (sim_rate_hz / node_rate_hz).floor().max(1.0) as usize;
     let direct = TrackRate {
