@@ -101,9 +101,9 @@ pub struct Interpolator {
     /// Row r (output kD + r) holds the weights of low-rate samples
     /// k − L/2 + 1 ..= k + L/2, in that order.
     weights: Vec<f64>,
-    /// The same weights by column, four phases at a time: for phases
-    /// 4c … 4c + 3, column j holds their weights of sample k − L/2 + 1 + j
-    /// (zero past the last phase).
+    /// The weights of phases 1 … D − 1 by column, four phases at a time: for
+    /// phases 4c + 1 … 4c + 4, column j holds their weights of sample
+    /// k − L/2 + 1 + j (zero past the last phase).
     columns: Vec<f64>,
 }
 
@@ -138,10 +138,10 @@ impl Interpolator {
                 *weight /= sum;
             }
         }
-        let mut columns = vec![0.0; taps * factor.div_ceil(4) * 4];
-        for (r, row) in weights.chunks(taps).enumerate() {
+        let mut columns = vec![0.0; taps * (factor - 1).div_ceil(4) * 4];
+        for (r, row) in weights.chunks(taps).enumerate().skip(1) {
             for (j, &weight) in row.iter().enumerate() {
-                columns[((r / 4) * taps + j) * 4 + r % 4] = weight;
+                columns[(((r - 1) / 4) * taps + j) * 4 + (r - 1) % 4] = weight;
             }
         }
         Interpolator {
@@ -191,9 +191,9 @@ impl Interpolator {
     ///
     /// Each output sums its L terms in the order of the samples, one
     /// multiply and one add each, starting from zero: its bits do not depend
-    /// on which other outputs are computed with it. Four phases go side by
-    /// side (a column of weights per sample) and four steps at once, so
-    /// sixteen independent sums fill the pipeline; on the AVX2 path when
+    /// on which other outputs are computed with it. Phase 0 is copied; the
+    /// others go sixteen independent sums at a time (phases side by side,
+    /// steps side by side, or both), which fills the pipeline; on the AVX2 path when
     /// `wide` is set (the same operations, no fused multiply-adds; a test
     /// compares the two).
     fn interpolate(&self, low: &[f64], steps: usize, out: &mut [f64], wide: bool) {
@@ -218,12 +218,27 @@ impl Interpolator {
     fn interpolate_portable(&self, low: &[f64], steps: usize, out: &mut [f64]) {
         let (taps, factor) = (self.taps, self.factor);
         assert!(low.len() + 1 >= steps + taps && out.len() >= steps * factor);
-        if factor == 2 {
-            self.interpolate_by_two(low, steps, out);
-            return;
+        // Phase 0 is the low-rate sample itself (its row is 1 at the centre
+        // and 0 elsewhere, so its sum would give exactly this).
+        for k in 0..steps {
+            out[k * factor] = low[k + taps / 2 - 1];
         }
+        match factor {
+            1 => {}
+            2 => self.interpolate_one_phase(low, steps, out),
+            3 => self.interpolate_two_phases(low, steps, out),
+            _ => self.interpolate_by_columns(low, steps, out),
+        }
+    }
+
+    /// Phases 1 … D − 1, four side by side (a column of weights per sample),
+    /// four steps at once: sixteen independent sums.
+    #[allow(clippy::needless_range_loop)]
+    #[inline(always)]
+    fn interpolate_by_columns(&self, low: &[f64], steps: usize, out: &mut [f64]) {
+        let (taps, factor) = (self.taps, self.factor);
         for (chunk, columns) in self.columns.chunks_exact(4 * taps).enumerate() {
-            let first_phase = 4 * chunk;
+            let first_phase = 1 + 4 * chunk;
             let lanes = (factor - first_phase).min(4);
             let mut k = 0;
             while k < steps {
@@ -256,17 +271,46 @@ impl Interpolator {
             }
         }
     }
-}
 
-impl Interpolator {
-    /// [`Interpolator::interpolate_portable`] for D = 2: two steps to a
-    /// vector (lanes: phase 0 and 1 of step k, then of k + 1), four vectors at
-    /// once, so no lane is padding; the same sums in the same order.
+    /// D = 2: phase 1 alone, four steps to a vector and four vectors at once.
     #[allow(clippy::needless_range_loop)]
     #[inline(always)]
-    fn interpolate_by_two(&self, low: &[f64], steps: usize, out: &mut [f64]) {
+    fn interpolate_one_phase(&self, low: &[f64], steps: usize, out: &mut [f64]) {
         let taps = self.taps;
-        let (first, second) = self.weights.split_at(taps);
+        let row = &self.weights[taps..2 * taps];
+        let mut k = 0;
+        while k + 16 <= steps {
+            let mut sums = [[0.0; 4]; 4];
+            for (j, &weight) in row.iter().enumerate() {
+                for m in 0..4 {
+                    let samples = &low[k + 4 * m + j..k + 4 * m + j + 4];
+                    for lane in 0..4 {
+                        sums[m][lane] += weight * samples[lane];
+                    }
+                }
+            }
+            for m in 0..4 {
+                for lane in 0..4 {
+                    out[2 * (k + 4 * m + lane) + 1] = sums[m][lane];
+                }
+            }
+            k += 16;
+        }
+        for step in k..steps {
+            let mut sum = 0.0;
+            for (j, &weight) in row.iter().enumerate() {
+                sum += weight * low[step + j];
+            }
+            out[2 * step + 1] = sum;
+        }
+    }
+
+    /// D = 3: phases 1 and 2 of two steps to a vector, four vectors at once.
+    #[allow(clippy::needless_range_loop)]
+    #[inline(always)]
+    fn interpolate_two_phases(&self, low: &[f64], steps: usize, out: &mut [f64]) {
+        let taps = self.taps;
+        let (first, second) = (&self.weights[taps..2 * taps], &self.weights[2 * taps..]);
         let mut k = 0;
         while k + 8 <= steps {
             let mut sums = [[0.0; 4]; 4];
@@ -281,8 +325,9 @@ impl Interpolator {
                 }
             }
             for (m, sum) in sums.iter().enumerate() {
-                let at = 2 * (k + 2 * m);
-                out[at..at + 4].copy_from_slice(sum);
+                let at = 3 * (k + 2 * m);
+                out[at + 1..at + 3].copy_from_slice(&sum[..2]);
+                out[at + 4..at + 6].copy_from_slice(&sum[2..]);
             }
             k += 8;
         }
@@ -293,7 +338,7 @@ impl Interpolator {
                 sum[0] += first[j] * x;
                 sum[1] += second[j] * x;
             }
-            out[2 * step..2 * step + 2].copy_from_slice(&sum);
+            out[3 * step + 1..3 * step + 3].copy_from_slice(&sum);
         }
     }
 }
@@ -555,13 +600,14 @@ mod tests {
 
     #[test]
     fn every_path_sums_each_output_in_the_order_of_its_samples() {
-        // The vector paths (phases side by side, D = 2 with two steps to a
-        // vector, the last steps one by one) give the bits of the plain sum
-        // Σⱼ wᵣ[j]·x[k + j] in the order of j, from zero, for any number of steps.
-        for factor in [2, 3, 4, 5, 9] {
+        // The vector paths (phases side by side, D = 2 with four steps to a
+        // vector, D = 3 with two, the last steps one by one, phase 0 copied)
+        // give the bits of the plain sum Σⱼ wᵣ[j]·x[k + j] in the order of
+        // j, from zero, for any number of steps.
+        for factor in [2, 3, 4, 5, 6, 9] {
             let interpolator = Interpolator::new(factor, 0.2);
             let taps = interpolator.taps();
-            for steps in [1, 3, 8, 13] {
+            for steps in [1, 3, 8, 13, 16, 37] {
                 let low: Vec<f64> = (0..steps + taps)
                     .map(|j| (j as f64 * 1.3).sin() + 0.1 * j as f64)
                     .collect();
