@@ -49,6 +49,7 @@
 //! order, and exposure is summed in integer nanoseconds, so results are bit-identical for
 //! any split.
 
+use crate::dispersion::TrialDispersion;
 use crate::error::{parameter, TailError};
 use echobench_core::alarm_statistic::{MOfN, MOfNStatistic};
 use std::collections::BTreeMap;
@@ -211,6 +212,9 @@ pub struct TailAccumulator {
     kept: usize,
     /// Trials with kept frames, by key (so queries visit them in key order).
     trials: BTreeMap<u64, Frames>,
+    /// The noise-only time of each trial in `trials`, ns (the dispersion test weighs each
+    /// trial's cluster count by its time).
+    trial_ns: BTreeMap<u64, u64>,
     trial_count: u64,
     frame_count: u64,
     exposure_ns: u64,
@@ -236,6 +240,7 @@ impl TailAccumulator {
             floor: pre_threshold,
             kept: 0,
             trials: BTreeMap::new(),
+            trial_ns: BTreeMap::new(),
             trial_count: 0,
             frame_count: 0,
             exposure_ns: 0,
@@ -276,10 +281,15 @@ impl TailAccumulator {
         if scan.frames.iter().any(|f| f.1 >= self.floor) && self.trials.contains_key(&scan.key) {
             return Err(TailError::DuplicateTrial { trial: scan.key });
         }
+        let ns = (duration_s * 1e9).round() as u64;
         self.trial_count += 1;
         self.frame_count += scan.frames_seen;
-        self.exposure_ns += (duration_s * 1e9).round() as u64;
-        self.absorb(scan.floor, BTreeMap::from([(scan.key, scan.frames)]));
+        self.exposure_ns += ns;
+        self.absorb(
+            scan.floor,
+            BTreeMap::from([(scan.key, scan.frames)]),
+            BTreeMap::from([(scan.key, ns)]),
+        );
         Ok(())
     }
 
@@ -316,11 +326,16 @@ impl TailAccumulator {
         self.trial_count += other.trial_count;
         self.frame_count += other.frame_count;
         self.exposure_ns += other.exposure_ns;
-        self.absorb(other.floor, other.trials);
+        self.absorb(other.floor, other.trials, other.trial_ns);
         Ok(())
     }
 
-    fn absorb(&mut self, other_floor: f64, trials: BTreeMap<u64, Frames>) {
+    fn absorb(
+        &mut self,
+        other_floor: f64,
+        trials: BTreeMap<u64, Frames>,
+        trial_ns: BTreeMap<u64, u64>,
+    ) {
         if other_floor > self.floor {
             self.floor = other_floor;
             self.prune_below_floor();
@@ -331,6 +346,7 @@ impl TailAccumulator {
             if !frames.is_empty() {
                 self.kept += frames.len();
                 self.trials.insert(key, frames);
+                self.trial_ns.insert(key, trial_ns.get(&key).copied().unwrap_or(0));
             }
         }
         if self.kept > self.max_kept.saturating_mul(2) {
@@ -347,6 +363,8 @@ impl TailAccumulator {
             kept += frames.len();
         }
         self.trials.retain(|_, frames| !frames.is_empty());
+        let trials = &self.trials;
+        self.trial_ns.retain(|key, _| trials.contains_key(key));
         self.kept = kept;
     }
 
@@ -463,6 +481,29 @@ impl TailAccumulator {
     /// As [`TailAccumulator::clusters`].
     pub fn alarm_count(&self, level: f64) -> Result<u64, TailError> {
         Ok(self.clusters(level)?.len() as u64)
+    }
+
+    /// The trial-to-trial dispersion of the number of clusters whose maximum is strictly
+    /// above `u` (the clusters whose excesses a fit at `u` uses): Fisher's index-of-dispersion
+    /// test against Poisson counts, and the quasi-likelihood scale factor that widens the
+    /// fit's intervals when the counts are over-dispersed ([`crate::dispersion`]).
+    ///
+    /// # Errors
+    /// As [`TailAccumulator::clusters`].
+    pub fn trial_dispersion(&self, u: f64) -> Result<TrialDispersion, TailError> {
+        let mut per_trial: BTreeMap<u64, u64> = BTreeMap::new();
+        for c in self.clusters(u)?.into_iter().filter(|c| c.max > u) {
+            *per_trial.entry(c.trial).or_insert(0) += 1;
+        }
+        let counts: Vec<(u64, u64)> = per_trial
+            .into_iter()
+            .map(|(key, n)| (n, self.trial_ns.get(&key).copied().unwrap_or(0)))
+            .collect();
+        Ok(TrialDispersion::from_counts(
+            &counts,
+            self.trial_count,
+            self.exposure_ns,
+        ))
     }
 
     /// The excesses `max − u` of the clusters at level `u` whose maximum is strictly above

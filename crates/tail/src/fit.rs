@@ -36,6 +36,7 @@
 //! itself, since for every parameter value `λ(x)` decreases in `x`.
 
 use crate::alarm::TailAccumulator;
+use crate::dispersion::TrialDispersion;
 use crate::error::{check_confidence, parameter, TailError};
 use crate::gof::{anderson_darling, judge, GoodnessOfFit};
 use crate::gpd::{
@@ -88,6 +89,7 @@ pub struct TailFit {
     exposure_h: f64,
     fit: GpdFit,
     gof: GoodnessOfFit,
+    dispersion: TrialDispersion,
 }
 
 /// Where a maximum over w or ξ found nothing (every candidate outside the support).
@@ -102,7 +104,9 @@ const RANGE_MARGIN: f64 = 2.0;
 
 impl TailFit {
     /// Fits the clusters of `acc` declustered at `u` (their maxima strictly above `u`), with
-    /// the shape constrained to `ξ >= shape_floor` ([`crate::NO_SHAPE_FLOOR`]: none).
+    /// the shape constrained to `ξ >= shape_floor` ([`crate::NO_SHAPE_FLOOR`]: none), and
+    /// widens its intervals by the trial-to-trial over-dispersion of the cluster counts
+    /// ([`TailAccumulator::trial_dispersion`], [`TailFit::with_dispersion`]).
     ///
     /// # Errors
     /// As [`TailAccumulator::excesses`] and [`TailFit::from_excesses`].
@@ -111,7 +115,32 @@ impl TailFit {
         u: f64,
         shape_floor: f64,
     ) -> Result<Self, TailError> {
-        TailFit::from_excesses(u, &acc.excesses(u)?, acc.exposure_h(), shape_floor)
+        TailFit::from_excesses(u, &acc.excesses(u)?, acc.exposure_h(), shape_floor)?
+            .with_dispersion(acc.trial_dispersion(u)?)
+    }
+
+    /// The same fit with intervals widened by `dispersion.scale` (the log-likelihood cut
+    /// multiplied by it: quasi-likelihood, [`crate::dispersion`]). Point estimates do not
+    /// change. A fit made by [`TailFit::from_excesses`] assumes no over-dispersion until
+    /// given one; one from [`TailFit::from_accumulator`] has its own.
+    ///
+    /// # Errors
+    /// When the scale is not finite and >= 1.
+    pub fn with_dispersion(mut self, dispersion: TrialDispersion) -> Result<Self, TailError> {
+        if !(dispersion.scale.is_finite() && dispersion.scale >= 1.0) {
+            return Err(parameter(
+                "dispersion.scale",
+                dispersion.scale,
+                "finite and >= 1",
+            ));
+        }
+        self.dispersion = dispersion;
+        Ok(self)
+    }
+
+    /// The trial-to-trial dispersion the intervals are widened by.
+    pub fn dispersion(&self) -> TrialDispersion {
+        self.dispersion
     }
 
     /// Fits excesses over `u` observed in `exposure_h` hours, with the shape constrained to
@@ -141,6 +170,7 @@ impl TailFit {
             exposure_h,
             fit,
             gof,
+            dispersion: TrialDispersion::NONE,
         })
     }
 
@@ -208,7 +238,8 @@ impl TailFit {
         if !(x.is_finite() && x >= self.threshold) {
             return Err(parameter("x", x, "finite and >= the fit threshold"));
         }
-        let q = chi2_1_quantile(confidence);
+        // Quasi-likelihood: log-likelihood differences divided by φ, i.e. the cut times φ.
+        let q = chi2_1_quantile(confidence) * self.dispersion.scale;
         let profile = JointProfile::new(self, q);
         let d = x - self.threshold;
         let cut = profile.max - 0.5 * q;
@@ -285,7 +316,8 @@ impl TailFit {
         let g = self.gpd();
         let x_hat = self.threshold
             + excess_for_log_survival(g.xi(), g.sigma(), (rate_per_h / lambda_u).ln());
-        let q = chi2_1_quantile(confidence);
+        // Quasi-likelihood: log-likelihood differences divided by φ, i.e. the cut times φ.
+        let q = chi2_1_quantile(confidence) * self.dispersion.scale;
         let profile = JointProfile::new(self, q);
         let cut = profile.max - 0.5 * q;
         let c = rate_per_h.ln();

@@ -75,6 +75,7 @@
 #![deny(missing_docs)]
 
 pub mod alarm;
+pub mod dispersion;
 mod error;
 pub mod extrapolate;
 pub mod fit;
@@ -86,6 +87,7 @@ pub mod threshold;
 pub use alarm::{
     alarm_statistic, AlarmRule, Cluster, TailAccumulator, TrialScan, HOLD_TOLERANCE_S,
 };
+pub use dispersion::TrialDispersion;
 pub use error::TailError;
 pub use extrapolate::{extrapolate, Extrapolation, Status, TargetThreshold};
 pub use fit::{Estimate, TailFit, Verdict};
