@@ -23,6 +23,7 @@
 // First, so that its `print!` family shadows std's in everything below (quiet on closed pipes).
 #[macro_use]
 mod output;
+mod zone_verb;
 
 use anyhow::{bail, Context, Result};
 use clap::{Parser, Subcommand};
@@ -120,6 +121,32 @@ enum Command {
         /// The HTML file to write (default RUN/report.html).
         #[arg(long)]
         out: Option<PathBuf>,
+    },
+    /// Map where each detector of a run first sees a walker: the detection zone of every
+    /// product whose suite declares a `zone:`, at the run's operating thresholds, added to
+    /// the run folder (zone.json, zone.csv, floor-plan pictures, the report).
+    Zone {
+        /// The run folder (its thresholds are used, and the zone is added to it).
+        run: PathBuf,
+        /// The suite file that was run, when it names scene files (they are read beside it);
+        /// not needed for the built-in default suite.
+        #[arg(long)]
+        suite: Option<PathBuf>,
+        /// Walk only shard K of N (e.g. 2/4) into the folder `--part`; combine with `--parts`.
+        #[arg(long)]
+        shard: Option<String>,
+        /// The folder a shard's part is written to (refused if it exists).
+        #[arg(long)]
+        part: Option<PathBuf>,
+        /// Combine these shards' part folders into the run instead of walking.
+        #[arg(long, num_args = 1..)]
+        parts: Vec<PathBuf>,
+        /// Worker threads (default: one per core; at most 256).
+        #[arg(long, value_parser = parse_threads)]
+        threads: Option<usize>,
+        /// Let detectors of the `external` plugin run the programs the suite names.
+        #[arg(long)]
+        allow_exec: bool,
     },
     /// Keep a whole run's results as a reference folder, for `run --against` and `gate`.
     Keep {
@@ -281,6 +308,27 @@ pub fn main_with(plugins: Vec<Arc<dyn DetectorPlugin>>) -> ExitCode {
             as_folder,
             replace,
         } => keep_reference(&run, &as_folder, replace),
+        Command::Zone {
+            run,
+            suite,
+            shard,
+            part,
+            parts,
+            threads,
+            allow_exec,
+        } => set_threads(threads).and_then(|()| {
+            zone_verb::run_zone(
+                &plugins,
+                zone_verb::ZoneRequest {
+                    run: &run,
+                    suite: suite.as_deref(),
+                    shard: shard.as_deref(),
+                    part,
+                    parts: &parts,
+                    allow_exec,
+                },
+            )
+        }),
         Command::Report { run, against, out } => {
             run_report(&plugins, &run, against.as_deref(), out)
         }
@@ -452,6 +500,17 @@ fn detectors_failed_everywhere(tallies: &echobench_harness::runner::Tallies) -> 
         .collect()
 }
 
+/// Sets the worker threads of the process's one pool (default: one per core).
+fn set_threads(threads: Option<usize>) -> Result<()> {
+    if let Some(n) = threads {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build_global()
+            .context("setting the thread count")?;
+    }
+    Ok(())
+}
+
 fn parse_threads(text: &str) -> Result<usize, String> {
     let n: usize = text
         .parse()
@@ -524,12 +583,7 @@ fn run_suite(
         .map(Shard::parse)
         .transpose()
         .map_err(anyhow::Error::msg)?;
-    if let Some(n) = threads {
-        rayon::ThreadPoolBuilder::new()
-            .num_threads(n)
-            .build_global()
-            .context("setting the thread count")?;
-    }
+    set_threads(threads)?;
     let mut detectors = resolve_detectors(&suite, &plugins.with_external(allow_exec))?;
     if let Some(dir) = baseline {
         let base = echobench_run_files::read_tallies(dir)?;

@@ -20,3 +20,4 @@ pub mod rare_rates;
 pub mod runner;
 pub mod signal;
 pub mod summary;
+pub mod zone_walks;

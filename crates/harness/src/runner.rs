@@ -27,7 +27,9 @@ use echobench_core::{Interval, Score};
 use echobench_presence::{
     false_switch_ons_at, score_trial, statistic_frames, PresenceTally, PresenceTruth, Timer,
 };
-use echobench_suite::{PresenceOutput, SceneLabel, Suite};
+use echobench_suite::{
+    CaptureSource, CaptureTrial, PresenceOutput, SceneLabel, SceneVariant, Suite,
+};
 use echobench_tail::TailAccumulator;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -74,7 +76,7 @@ impl Shard {
         Ok(Shard { index, count })
     }
 
-    fn owns(&self, key: &StreamKey) -> bool {
+    pub(crate) fn owns(&self, key: &StreamKey) -> bool {
         key.trial_hash() % self.count == self.index - 1
     }
 }
@@ -573,20 +575,20 @@ fn jobs(suite: &Suite, calibration: bool, shard: Option<Shard>) -> Vec<Job> {
 }
 
 /// One detector's output on one trial.
-enum Trace {
+pub(crate) enum Trace {
     Ok { scores: Vec<Score>, busy_s: f64 },
     Failed(String),
 }
 
-struct TrialOutput {
-    traces: Vec<Trace>,
+pub(crate) struct TrialOutput {
+    pub(crate) traces: Vec<Trace>,
     truth: Vec<Interval>,
     /// Present, not moving: ignored by intrusion scoring.
     still: Vec<Interval>,
     nuisances: Vec<(Interval, String)>,
     duration_s: f64,
     synthesis_s: f64,
-    samples: u64,
+    pub(crate) samples: u64,
 }
 
 /// Synthesizes a trial and feeds every detector, catching panics and bad scores per detector.
@@ -595,10 +597,8 @@ fn run_trial(
     planned: &PlannedDetectors,
     job: &Job,
 ) -> Result<TrialOutput, RunError> {
-    let detectors = planned.detectors();
     let entry = &suite.scenes[job.scene];
     let variant = &entry.variants[job.variant];
-    let scene = &variant.scene;
     let capture = entry.capture.as_ref().map(|c| {
         let list = if job.calibration {
             &c.calibration
@@ -607,9 +607,24 @@ fn run_trial(
         };
         (c, &list[job.key.trial as usize])
     });
-    let trial_error =
-        |e: String| RunError(format!("scene `{}` trial {}: {e}", entry.id, job.key.trial));
-    let mut synth = TrialSignal::new(variant, capture, &job.key).map_err(trial_error)?;
+    let what = format!("scene `{}` trial {}", entry.id, job.key.trial);
+    feed_trial(variant, capture, &job.key, planned, &what)
+}
+
+/// Synthesizes (or reads) one trial of `variant` under `key` and feeds every detector of
+/// `planned`; `what` names the trial in errors. The one place trials meet detectors: the
+/// suite's trials and the zone's walks both come through here.
+pub(crate) fn feed_trial(
+    variant: &SceneVariant,
+    capture: Option<(&CaptureSource, &CaptureTrial)>,
+    key: &StreamKey,
+    planned: &PlannedDetectors,
+    what: &str,
+) -> Result<TrialOutput, RunError> {
+    let detectors = planned.detectors();
+    let scene = &variant.scene;
+    let trial_error = |e: String| RunError(format!("{what}: {e}"));
+    let mut synth = TrialSignal::new(variant, capture, key).map_err(trial_error)?;
     let info = synth.info();
     // This thread's states, reset since their last trial (or fresh from the run's plans).
     let mut built: Vec<Result<Box<dyn Detector>, String>> = (0..detectors.len())

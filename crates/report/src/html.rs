@@ -6,6 +6,7 @@ use crate::plot::{
     format_number, render_bar_chart, render_chart, Axis, Bar, BarChart, BarGroup, Chart,
     MarkedPoint, Marker, ReferenceLine, Series, Style,
 };
+use crate::zone_part;
 use crate::{events_part, presence_part, product_part, rare_part};
 use echobench_harness::runner::DetectorTally;
 use echobench_harness::summary::{
@@ -1942,6 +1943,17 @@ fn product_entries(
         add(
             "rare-rates",
             "Rare false-alarm rates: thresholds by tail extrapolation",
+            html,
+        );
+    }
+    if let Some(zone) = zone_part::zone_of(part) {
+        let mut html = zone_part::zone_table(part, zone).into_string();
+        for (svg, caption) in zone_part::zone_pictures(part, zone) {
+            html.push_str(&page.figure(svg, &caption));
+        }
+        add(
+            "zone",
+            "Detection zone: where each detector first sees a walker",
             html,
         );
     }

@@ -43,6 +43,7 @@ pub mod plot;
 mod presence_part;
 mod product_part;
 mod rare_part;
+mod zone_part;
 
 pub use data::{fold_back_cut, grid_roc, trial_roc, GridRocPoint, TrialRoc};
 pub use echobench_run_files::{RunFileError, RunFolder};

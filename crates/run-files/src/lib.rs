@@ -17,13 +17,17 @@
 //! the file.
 #![deny(missing_docs)]
 
+pub mod zone;
+
 use echobench_core::atomic::write_atomically;
 use echobench_harness::runner::{Tallies, Timing, SCHEMA_VERSION};
 use echobench_harness::summary::{self, Summary};
+use echobench_harness::zone_walks::ZoneRecord;
 use echobench_render::csv_files;
 use echobench_render::json::write_json;
 use echobench_run_folder::fault_point;
 use echobench_suite::Suite;
+use std::collections::BTreeMap;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
@@ -86,6 +90,12 @@ pub enum RunFileError {
         /// The I/O error.
         source: std::io::Error,
     },
+    /// A zone that does not fit the suite (another suite's `zone.json`, or edited).
+    #[error("zone: {message}")]
+    Zone {
+        /// What does not fit.
+        message: String,
+    },
     /// The files of the folder do not belong to the same run.
     #[error("{}: {message}", dir.display())]
     Mismatch {
@@ -107,6 +117,10 @@ pub struct RunFolder {
     pub timing: Option<Timing>,
     /// `suite.yaml`, the suite's text, when the folder has it.
     pub suite_text: Option<String>,
+    /// `zone.json`, when `echobench zone` mapped the run's zones.
+    pub zone: Option<ZoneRecord>,
+    /// The zone's pictures, file name → SVG text (those `zone.json` lists).
+    pub zone_pictures: BTreeMap<String, String>,
 }
 
 fn read_text(path: &Path) -> Result<Option<String>, RunFileError> {
@@ -164,6 +178,8 @@ impl RunFolder {
             tallies,
             timing,
             suite_text: Some(suite_text.to_string()),
+            zone: None,
+            zone_pictures: BTreeMap::new(),
         }
     }
 
@@ -243,11 +259,17 @@ impl RunFolder {
                 None => None,
             };
         let suite_text = read_text(&dir.join("suite.yaml"))?;
+        let (zone, zone_pictures) = match zone::read_zone(dir)? {
+            Some((record, pictures)) => (Some(record), pictures),
+            None => (None, BTreeMap::new()),
+        };
         let run = RunFolder {
             summary,
             tallies,
             timing,
             suite_text,
+            zone,
+            zone_pictures,
         };
         run.check_consistent()
             .map_err(|message| RunFileError::Mismatch {

@@ -61,6 +61,7 @@ mod scenes;
 mod settings;
 mod sources;
 mod variants;
+mod zone_block;
 
 pub use default_suite::{
     default_suite, DEFAULT_SUITE_FILE_NAME, DEFAULT_SUITE_SCENES, DEFAULT_SUITE_SOURCE,
@@ -69,7 +70,8 @@ pub use default_suite::{
 pub use load::{load_suite_file, load_suite_text};
 pub use model::{
     unit_of_field, AlarmSpec, CaptureSource, CaptureTrial, CoverageFinding, DetectorEntry,
-    PresenceOutput, Product, ProductKind, SceneLabel, SceneVariant, ScoringSpec, Suite, SuiteScene,
+    PresenceOutput, Product, ProductKind, ProductZone, SceneLabel, SceneVariant, ScoringSpec, Suite,
+    SuiteScene,
     ThresholdRule,
 };
 pub use products::module_differences;

@@ -9,6 +9,7 @@ use crate::products::{check_products, read_products};
 use crate::scenes::read_scenes;
 use crate::settings::{read_alarm, read_scoring};
 use crate::sources::{FolderSource, SceneSource};
+use crate::zone_block::{check_zone_scene, read_zone};
 use echobench_core::detector::DetectorPlugin;
 use echobench_yaml_reader::{parse, Limits, Location, Node, Problem, Reader, Report, Severity};
 use std::path::Path;
@@ -128,6 +129,13 @@ fn read_suite(
     let detectors_node = f.raw("detectors");
     let alarm_node = f.raw("alarm");
     let scoring_node = f.raw("scoring");
+    let zone_node = f.raw("zone");
+    if zone_node.is_some() && products_node.is_some() {
+        f.error_at(
+            "zone",
+            "a zone belongs to a product: move it under the product whose room it maps",
+        );
+    }
     if suite_name.trim().is_empty() {
         f.error_at("name", "must not be empty");
     }
@@ -163,13 +171,17 @@ fn read_suite(
     };
     let products_read = match (scenes_node, products_node) {
         (Some(node), None) => {
+            let mut zone_reader = Reader::new(name);
+            let zone = zone_node.and_then(|n| read_zone(n, "zone", &mut zone_reader));
+            let zone_failed = zone_node.is_some() && zone.is_none();
             let product = Product {
                 name: suite_name.clone(),
                 about: String::new(),
                 module: None,
                 kind: ProductKind::Intrusion,
+                zone,
             };
-            read_scenes(
+            let list = read_scenes(
                 node,
                 "scenes",
                 &product.name,
@@ -177,8 +189,15 @@ fn read_suite(
                 scenes,
                 defaults,
                 report,
-            )
-            .map(|list| vec![(product, list, node.location)])
+            );
+            if let (Some(zone), Some(list)) = (&product.zone, &list) {
+                check_zone_scene(zone, "zone", list, &mut zone_reader);
+            }
+            let problems = zone_reader.finish();
+            let zone_failed = zone_failed || problems.has_errors();
+            report.extend(problems);
+            list.filter(|_| !zone_failed)
+                .map(|list| vec![(product, list, node.location)])
         }
         (None, Some(node)) => read_products(node, name, scenes, defaults, report),
         _ => None,

@@ -73,6 +73,21 @@ pub struct Product {
     pub module: Option<echobench_scene::spec::SensorSpec>,
     /// What the product's output is for, and how it is judged.
     pub kind: ProductKind,
+    /// The detection zone to map for it (`echobench zone`), when the suite asks for one.
+    pub zone: Option<ProductZone>,
+}
+
+/// A product's detection zone: the floor its walkers cross, and the scene that gives the
+/// room, the module's placement and the noise they walk through.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ProductZone {
+    /// Id of one of the product's synthetic scenes: its room, placement, noise and
+    /// nuisances stay, its targets are replaced by each walk's walker (first sweep point).
+    pub scene: String,
+    /// Floor, grid, walkers and timing.
+    pub spec: echobench_zone::ZoneSpec,
+    /// Where the block is in the suite file.
+    pub location: echobench_yaml_reader::Location,
 }
 
 /// What a product's output is for.

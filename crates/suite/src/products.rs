@@ -6,6 +6,7 @@ use crate::load::{error, TrialCounts};
 use crate::model::{PresenceOutput, Product, ProductKind, SuiteScene};
 use crate::scenes::read_scenes;
 use crate::sources::SceneSource;
+use crate::zone_block::{check_zone_scene, read_zone};
 use echobench_yaml_reader::{FromNode, Location, Node, Reader, Report, Value};
 
 /// Largest number of products in one suite (each is calibrated on its own).
@@ -64,6 +65,8 @@ pub(crate) fn read_products(
         let budget_node = f.raw("budget");
         let budget_path = f.path_of("budget");
         let hold_sweep_s: Option<Vec<f64>> = f.optional("hold_sweep_s");
+        let zone_node = f.raw("zone");
+        let zone_path = f.path_of("zone");
         if let Some(sweep) = hold_sweep_s.as_ref().filter(|sweep| {
             sweep.is_empty()
                 || sweep.len() > MAX_HOLD_SWEEP
@@ -133,8 +136,10 @@ pub(crate) fn read_products(
         });
         let module_failed = module_node.is_some() && module.is_none();
         f.finish();
+        let zone = zone_node.and_then(|n| read_zone(n, &zone_path, &mut reader));
+        let zone_failed = zone_node.is_some() && zone.is_none();
         let problems = reader.finish();
-        let failed = problems.has_errors() || module_failed;
+        let failed = problems.has_errors() || module_failed || zone_failed;
         report.extend(problems);
         let (Some(name), Some(scenes_node), Some(kind), false) = (name, scenes_node, kind, failed)
         else {
@@ -159,6 +164,7 @@ pub(crate) fn read_products(
             about,
             module,
             kind,
+            zone,
         };
         match read_scenes(
             scenes_node,
@@ -169,7 +175,16 @@ pub(crate) fn read_products(
             defaults,
             report,
         ) {
-            Some(list) => out.push((product, list, scenes_node.location)),
+            Some(list) => {
+                if let Some(zone) = &product.zone {
+                    let mut reader = Reader::new(suite_file);
+                    check_zone_scene(zone, &zone_path, &list, &mut reader);
+                    let problems = reader.finish();
+                    ok &= !problems.has_errors();
+                    report.extend(problems);
+                }
+                out.push((product, list, scenes_node.location));
+            }
             None => ok = false,
         }
     }

@@ -44,7 +44,8 @@
 //!     tallies[d].record(&plan, walk, first_alarm_s)?;
 //! }
 //! // shards: tally.merge(&other)?   (exact, any order)
-//! let csv: Vec<u8> = zone_csv(&plan, &[(label, &tally), …], 0.95)?;   // write atomically
+//! let part = ZoneCsvPart { product: &product_id, plan: &plan, tallies: &[(label, &tally), …] };
+//! let csv: Vec<u8> = zone_csv(&[part, …], 0.95)?;   // write atomically
 //! for kind in WalkKind::ALL {
 //!     let floor = floor_picture(&plan, label, kind, &tally);      // Svg
 //!     if is_ceiling_mount(&plan) { let side = side_picture(&plan, label, kind, &tally); }
@@ -57,6 +58,7 @@
 #![deny(missing_docs)]
 
 mod beam;
+mod figures;
 mod picture;
 mod plan;
 mod spec;
@@ -64,8 +66,9 @@ mod table;
 mod tally;
 
 pub use beam::BeamView;
+pub use figures::{zone_figures, ZoneFigures};
 pub use picture::{floor_picture, is_ceiling_mount, probability_colour, side_picture};
 pub use plan::{Grid, Walk, ZonePlan};
 pub use spec::{FloorRect, WalkKind, ZoneError, ZoneSpec, MAX_WALKS};
-pub use table::{zone_csv, ZoneRow};
+pub use table::{zone_csv, ZoneCsvPart, ZoneRow};
 pub use tally::{CellResult, FirstDetection, KindTally, ZoneTally};

@@ -212,7 +212,16 @@ pub fn floor_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zo
         .attr("stroke", INK)
         .end();
     // Beam outlines, clipped to the floor.
-    svg.tag("clipPath").attr("id", "floor").open();
+    // The id names its rectangle, so pictures of different floors can share one page (an
+    // HTML report inlines many): same id, same rectangle.
+    let clip_id = format!(
+        "floor-{:x}-{:x}-{:x}-{:x}",
+        floor.x_min_m.to_bits(),
+        floor.x_max_m.to_bits(),
+        floor.y_min_m.to_bits(),
+        floor.y_max_m.to_bits()
+    );
+    svg.tag("clipPath").attr("id", &clip_id).open();
     svg.tag("rect")
         .px("x", area.left)
         .px("y", area.top)
@@ -231,7 +240,9 @@ pub fn floor_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zo
     .map(|c| (c[0] - sensor.position_m[0]).hypot(c[1] - sensor.position_m[1]))
     .fold(0.0, f64::max);
     let view = BeamView::new(sensor);
-    svg.tag("g").attr("clip-path", "url(#floor)").open();
+    svg.tag("g")
+        .attr("clip-path", format!("url(#{clip_id})"))
+        .open();
     for (level, dash) in LEVELS_DB.iter().zip(["", "5 4"]) {
         for polygon in view.outline_on_plane(plan.spec().beam_plane_height_m, *level, reach) {
             svg.tag("path")

@@ -8,6 +8,8 @@ use serde::Serialize;
 /// One row of the zone CSV.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ZoneRow<'a> {
+    /// Product name.
+    pub product: &'a str,
     /// Detector label.
     pub detector: &'a str,
     /// `approach` or `cross`.
@@ -42,45 +44,56 @@ pub struct ZoneRow<'a> {
     pub enough_walkers: bool,
 }
 
-/// The CSV of every detector's tallies (in the order given), both kinds, every cell, with
-/// intervals at `confidence`; the caller writes the bytes (atomically).
+/// One product's part of the zone CSV: its plan and its detectors' tallies, in order.
+#[derive(Debug, Clone, Copy)]
+pub struct ZoneCsvPart<'a> {
+    /// Product name (the first column).
+    pub product: &'a str,
+    /// The product's plan.
+    pub plan: &'a ZonePlan,
+    /// (detector label, tallies), in the order of the rows.
+    pub tallies: &'a [(&'a str, &'a ZoneTally)],
+}
+
+/// The CSV of every product's detectors (in the order given), each planned kind, every
+/// cell, with intervals at `confidence`; the caller writes the bytes (atomically).
 ///
 /// # Errors
 /// When the CSV writer fails (it writes into memory, so only on a bug).
-pub fn zone_csv(
-    plan: &ZonePlan,
-    tallies: &[(&str, &ZoneTally)],
-    confidence: f64,
-) -> Result<Vec<u8>, ZoneError> {
+pub fn zone_csv(parts: &[ZoneCsvPart<'_>], confidence: f64) -> Result<Vec<u8>, ZoneError> {
     let mut writer = csv::Writer::from_writer(Vec::new());
-    let radius_m = plan.grid().radius_m();
     let csv_error = |e: csv::Error| ZoneError::Csv(format!("zone CSV: {e}"));
-    for &(detector, tally) in tallies {
-        for kind in WalkKind::ALL {
-            if tally.kind(kind).walks == 0 && !plan.spec().kinds.contains(&kind) {
-                continue;
-            }
-            for cell in tally.cells(plan, kind, confidence) {
-                writer
-                    .serialize(ZoneRow {
-                        detector,
-                        kind: kind.name(),
-                        cell_x: cell.ix,
-                        cell_y: cell.iy,
-                        centre_x_m: cell.centre_m[0],
-                        centre_y_m: cell.centre_m[1],
-                        radius_m,
-                        walkers: cell.passed,
-                        detected: cell.detected,
-                        p_detected: cell.probability,
-                        p_low: cell.interval.map(|i| i.low),
-                        p_high: cell.interval.map(|i| i.high),
-                        confidence,
-                        first_detections: cell.first_detections,
-                        first_density_per_m2: cell.first_density_per_m2,
-                        enough_walkers: cell.enough,
-                    })
-                    .map_err(csv_error)?;
+    for part in parts {
+        let plan = part.plan;
+        let radius_m = plan.grid().radius_m();
+        for &(detector, tally) in part.tallies {
+            for kind in WalkKind::ALL {
+                if tally.kind(kind).walks == 0 && !plan.spec().kinds.contains(&kind) {
+                    continue;
+                }
+                for cell in tally.cells(plan, kind, confidence) {
+                    writer
+                        .serialize(ZoneRow {
+                            product: part.product,
+                            detector,
+                            kind: kind.name(),
+                            cell_x: cell.ix,
+                            cell_y: cell.iy,
+                            centre_x_m: cell.centre_m[0],
+                            centre_y_m: cell.centre_m[1],
+                            radius_m,
+                            walkers: cell.passed,
+                            detected: cell.detected,
+                            p_detected: cell.probability,
+                            p_low: cell.interval.map(|i| i.low),
+                            p_high: cell.interval.map(|i| i.high),
+                            confidence,
+                            first_detections: cell.first_detections,
+                            first_density_per_m2: cell.first_density_per_m2,
+                            enough_walkers: cell.enough,
+                        })
+                        .map_err(csv_error)?;
+                }
             }
         }
     }
@@ -113,12 +126,16 @@ mod tests {
         let mut tally = ZoneTally::new(&plan);
         let walk = &plan.walks()[0];
         tally.record(&plan, walk, Some(walk.enter_s + 0.5)).unwrap();
-        let text =
-            String::from_utf8(zone_csv(&plan, &[("energy", &tally)], 0.95).unwrap()).unwrap();
+        let part = ZoneCsvPart {
+            product: "hall",
+            plan: &plan,
+            tallies: &[("energy", &tally)],
+        };
+        let text = String::from_utf8(zone_csv(&[part], 0.95).unwrap()).unwrap();
         let mut lines = text.lines();
         assert_eq!(
             lines.next().unwrap(),
-            "detector,kind,cell_x,cell_y,centre_x_m,centre_y_m,radius_m,walkers,detected,\
+            "product,detector,kind,cell_x,cell_y,centre_x_m,centre_y_m,radius_m,walkers,detected,\
              p_detected,p_low,p_high,confidence,first_detections,first_density_per_m2,\
              enough_walkers"
         );
@@ -126,16 +143,17 @@ mod tests {
         assert_eq!(rows.len(), 4, "approach only, 2 × 2 cells");
         for row in &rows {
             let fields: Vec<&str> = row.split(',').collect();
-            assert_eq!(fields[0], "energy");
-            assert_eq!(fields[1], "approach");
-            let walkers: u64 = fields[7].parse().unwrap();
+            assert_eq!(fields[0], "hall");
+            assert_eq!(fields[1], "energy");
+            assert_eq!(fields[2], "approach");
+            let walkers: u64 = fields[8].parse().unwrap();
             if walkers == 0 {
-                assert_eq!(fields[9], "");
+                assert_eq!(fields[10], "");
             } else {
-                let p: f64 = fields[9].parse().unwrap();
+                let p: f64 = fields[10].parse().unwrap();
                 assert!((0.0..=1.0).contains(&p));
             }
-            let _: f64 = fields[4].parse().unwrap();
+            let _: f64 = fields[5].parse().unwrap();
         }
     }
 }

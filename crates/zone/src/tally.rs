@@ -3,9 +3,10 @@
 use crate::plan::{Walk, ZonePlan};
 use crate::spec::{WalkKind, ZoneError};
 use echobench_stats::{clopper_pearson_interval, Interval};
+use serde::{Deserialize, Serialize};
 
 /// Counts of one kind of walk, per cell (indexed as [`crate::Grid`]).
-#[derive(Debug, Clone, PartialEq, Eq, Default)]
+#[derive(Debug, Clone, PartialEq, Eq, Default, Serialize, Deserialize)]
 pub struct KindTally {
     /// Walks recorded.
     pub walks: u64,
@@ -20,7 +21,7 @@ pub struct KindTally {
 }
 
 /// One walk's first detection, in integer nanoseconds from the trial's start.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
 pub struct FirstDetection {
     /// The walk.
     pub walk: u32,
@@ -30,7 +31,10 @@ pub struct FirstDetection {
 
 /// A detector's zone tallies: integer counts only, so merging shards or threads in any order
 /// gives the same numbers as one pass (addition of integers is exact and commutative).
-#[derive(Debug, Clone, PartialEq, Eq)]
+///
+/// Serialized as its counts (a run's `zone.json`, shard parts); [`ZoneTally::merge`] and
+/// [`ZoneTally::check_plan`] refuse one whose lengths do not fit a plan.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct ZoneTally {
     cells: usize,
     kinds: [KindTally; 2],
@@ -174,6 +178,8 @@ impl ZoneTally {
     /// # Errors
     /// Tallies of a different grid, or a walk recorded in both.
     pub fn merge(&mut self, other: &ZoneTally) -> Result<(), ZoneError> {
+        self.check_lengths()?;
+        other.check_lengths()?;
         if other.cells != self.cells {
             return Err(ZoneError::Mismatch(format!(
                 "zone tallies of {} and {} cells cannot be merged",
@@ -206,6 +212,50 @@ impl ZoneTally {
         }
         self.first.extend_from_slice(&other.first);
         self.first.sort_unstable();
+        Ok(())
+    }
+
+    /// Checks that every per-cell list has one count per cell (a tally read from a file).
+    fn check_lengths(&self) -> Result<(), ZoneError> {
+        let bad = self.kinds.iter().any(|k| {
+            k.passed.len() != self.cells
+                || k.detected.len() != self.cells
+                || k.first_here.len() != self.cells
+        });
+        if bad {
+            return Err(ZoneError::Mismatch(format!(
+                "zone tallies of {} cells hold lists of another length",
+                self.cells
+            )));
+        }
+        Ok(())
+    }
+
+    /// Checks that these tallies (read from a file) belong to `plan`: one count per cell of
+    /// its grid, and every walk recorded or first detected one of its walks.
+    ///
+    /// # Errors
+    /// The first mismatch found.
+    pub fn check_plan(&self, plan: &ZonePlan) -> Result<(), ZoneError> {
+        self.check_lengths()?;
+        if self.cells != plan.grid().cell_count() {
+            return Err(ZoneError::Mismatch(format!(
+                "zone tallies of {} cells do not fit a grid of {}",
+                self.cells,
+                plan.grid().cell_count()
+            )));
+        }
+        let walks = plan.walks().len();
+        if let Some(w) = self
+            .recorded
+            .iter()
+            .chain(self.first.iter().map(|f| &f.walk))
+            .find(|w| **w as usize >= walks)
+        {
+            return Err(ZoneError::Walk(format!(
+                "walk {w} is not in the plan of {walks} walks"
+            )));
+        }
         Ok(())
     }
 

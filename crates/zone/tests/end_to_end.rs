@@ -8,7 +8,7 @@ use echobench_core::seed::StreamKey;
 use echobench_detector_energy::EnergyPlugin;
 use echobench_scene::{load_scene_text, synthesize, SceneSpec};
 use echobench_zone::{
-    floor_picture, side_picture, zone_csv, FloorRect, Walk, WalkKind, ZonePlan, ZoneSpec, ZoneTally,
+    floor_picture, side_picture, zone_csv, FloorRect, ZoneCsvPart, Walk, WalkKind, ZonePlan, ZoneSpec, ZoneTally,
 };
 use rayon::prelude::*;
 
@@ -61,7 +61,12 @@ fn first_alarm(template: &SceneSpec, plan: &ZonePlan, walk: &Walk, threshold: f6
 }
 
 fn outputs(plan: &ZonePlan, tally: &ZoneTally) -> (Vec<u8>, String) {
-    let csv = zone_csv(plan, &[("energy", tally)], 0.95).unwrap();
+    let part = ZoneCsvPart {
+        product: "small-room",
+        plan,
+        tallies: &[("energy", tally)],
+    };
+    let csv = zone_csv(&[part], 0.95).unwrap();
     let mut pictures = String::new();
     for kind in WalkKind::ALL {
         pictures.push_str(floor_picture(plan, "energy", kind, tally).as_str());

@@ -5,6 +5,9 @@
 
 mod presence;
 mod rare;
+mod zone;
+
+pub use zone::zone_table;
 
 use echobench_harness::presence_summary::{budget_label, PresenceVerdict};
 use echobench_harness::runner::{room_name, Timing};

@@ -385,6 +385,8 @@ pub fn run_text(text: &str) -> RunFolder {
         tallies,
         timing: Some(timing),
         suite_text: Some(text.to_string()),
+        zone: None,
+        zone_pictures: Default::default(),
     }
 }
 
