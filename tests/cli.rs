@@ -432,3 +432,119 @@ fn detectors_prints_bands_and_frames_in_both_units_at_a_carrier() {
         );
     }
 }
+
+/// `zone` adds a run's detection zone to its folder (data, pictures, report), and the parts
+/// of two shards combine into the same `zone.json`, byte for byte; a missing shard is refused.
+#[test]
+fn zone_adds_the_zone_to_the_run_and_shard_parts_combine_to_the_same_files() {
+    let echobench = binary();
+    let dir = scratch("zone");
+    let suite = dir.join("suite.yaml");
+    std::fs::write(
+        &suite,
+        r#"
+name: zone-check
+seed: 9
+trials: 2
+calibration_trials: 2
+scenes:
+  - id: hall
+    label: nuisance
+    scene:
+      duration_s: 6
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 1000
+        position_m: [0, 0, 1.2]
+        front_end: {high_pass_hz: [0.5], low_pass_hz: [80], gain_db: 60}
+        adc: {bits: 12, full_scale_v: 3.3}
+zone:
+  scene: hall
+  floor_m: {x: [0.5, 6.5], y: [-3, 3]}
+  cells: [3, 3]
+  walkers_per_cell: 2
+detectors:
+  - plugin: energy
+  - plugin: band-ratio
+"#,
+    )
+    .unwrap();
+    let run = dir.join("run");
+    let (suite_arg, run_arg) = (suite.to_str().unwrap(), run.to_str().unwrap());
+    succeed(&echobench, &["run", suite_arg, "--out", run_arg]);
+    let out = succeed(&echobench, &["zone", run_arg, "--suite", suite_arg]);
+    let console = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        console.contains("Detection zone of zone-check"),
+        "{console}"
+    );
+    let whole = std::fs::read(run.join("zone.json")).unwrap();
+    let csv = std::fs::read_to_string(run.join("zone.csv")).unwrap();
+    assert!(csv.starts_with("product,detector,kind,cell_x"), "{csv}");
+    // 2 detectors × 2 kinds × 9 cells.
+    assert_eq!(csv.lines().count(), 1 + 2 * 2 * 9);
+    for picture in [
+        "zone-zone-check-energy-approach-floor.svg",
+        "zone-zone-check-band-ratio-cross-floor.svg",
+    ] {
+        let svg = std::fs::read_to_string(run.join(picture)).unwrap();
+        assert!(svg.starts_with("<svg"), "{picture}");
+    }
+    let report = std::fs::read_to_string(run.join("report.html")).unwrap();
+    assert!(report.contains("Detection zone: where each detector first sees a walker"));
+    // The amended folder is sealed: every reader still opens it.
+    succeed(
+        &echobench,
+        &[
+            "report",
+            run_arg,
+            "--out",
+            dir.join("again.html").to_str().unwrap(),
+        ],
+    );
+
+    let part = |k: &str| dir.join(format!("part{k}"));
+    for k in ["1", "2"] {
+        succeed(
+            &echobench,
+            &[
+                "zone",
+                run_arg,
+                "--suite",
+                suite_arg,
+                "--shard",
+                &format!("{k}/2"),
+                "--part",
+                part(k).to_str().unwrap(),
+            ],
+        );
+    }
+    let missing = Command::new(&echobench)
+        .args(["zone", run_arg, "--suite", suite_arg, "--parts"])
+        .arg(part("1"))
+        .output()
+        .unwrap();
+    assert!(!missing.status.success());
+    assert!(
+        String::from_utf8_lossy(&missing.stderr).contains("give every shard of one split"),
+        "{}",
+        String::from_utf8_lossy(&missing.stderr)
+    );
+    succeed(
+        &echobench,
+        &[
+            "zone",
+            run_arg,
+            "--suite",
+            suite_arg,
+            "--parts",
+            part("1").to_str().unwrap(),
+            part("2").to_str().unwrap(),
+        ],
+    );
+    assert!(
+        std::fs::read(run.join("zone.json")).unwrap() == whole,
+        "the combined parts differ from the zone walked in one pass"
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
+}

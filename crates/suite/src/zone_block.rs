@@ -6,7 +6,7 @@
 use crate::model::{ProductZone, SuiteScene};
 use echobench_scene::param::{Bounds, ParamFields};
 use echobench_yaml_reader::{Node, Reader};
-use echobench_zone::{FloorRect, WalkKind, ZoneSpec};
+use echobench_zone::{FloorRect, WalkKind, ZoneError, ZoneSpec};
 
 /// Reads a `zone:` mapping at `path`; every problem goes to `reader`.
 pub(crate) fn read_zone(node: &Node, path: &str, reader: &mut Reader) -> Option<ProductZone> {
@@ -81,9 +81,6 @@ pub(crate) fn read_zone(node: &Node, path: &str, reader: &mut Reader) -> Option<
         })
     });
     let (scene, floor, cells, walkers_per_cell) = (scene?, floor?, cells?, walkers_per_cell?);
-    if !kinds_ok {
-        return None;
-    }
     let spec = ZoneSpec {
         floor,
         cells_x: cells[0],
@@ -97,8 +94,21 @@ pub(crate) fn read_zone(node: &Node, path: &str, reader: &mut Reader) -> Option<
         stop_short_m,
         beam_plane_height_m,
     };
-    if let Err(e) = spec.check() {
-        reader.error(location, path, e.to_string());
+    // With a kind refused the spec is not checked further (its list may be empty); the
+    // zone is still returned, so the scene is checked too and every problem is reported.
+    if let (true, Err(ZoneError::Spec(problems))) = (kinds_ok, spec.check()) {
+        for problem in problems {
+            // Each problem starts with the spec's field name: report it at that field.
+            let field = problem.split(':').next().unwrap_or_default();
+            let key = match field {
+                "floor" => "floor_m",
+                other => other,
+            };
+            match node.get(key) {
+                Some(child) => reader.error(child.location, &format!("{path}.{key}"), problem),
+                None => reader.error(location, path, problem),
+            }
+        }
         return None;
     }
     Some(ProductZone {
