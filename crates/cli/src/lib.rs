@@ -23,6 +23,7 @@
 // First, so that its `print!` family shadows std's in everything below (quiet on closed pipes).
 #[macro_use]
 mod output;
+mod tune_verb;
 mod zone_verb;
 
 use anyhow::{bail, Context, Result};
@@ -121,6 +122,48 @@ enum Command {
         /// The HTML file to write (default RUN/report.html).
         #[arg(long)]
         out: Option<PathBuf>,
+    },
+    /// Tune every detector's tunable parameters on tuning trials of their own (a Sobol sample
+    /// cut by successive halving), then judge the tuned detectors beside their defaults on the
+    /// suite's own trials; writes the tuned suite file and the summary into `--out`.
+    Tune {
+        /// The suite file (YAML); omit it for the built-in default suite.
+        suite: Option<PathBuf>,
+        /// Output folder (complete or absent). An existing folder is refused unless `--replace`.
+        #[arg(long)]
+        out: PathBuf,
+        /// Replace an existing `--out` folder as a whole.
+        #[arg(long)]
+        replace: bool,
+        /// Sampled configurations per detector at the first rung (the default is tried too).
+        #[arg(long, default_value_t = 16)]
+        configs: usize,
+        /// Rungs of successive halving.
+        #[arg(long, default_value_t = 3)]
+        rungs: usize,
+        /// After each rung, one configuration in this many goes on.
+        #[arg(long, default_value_t = 3)]
+        keep_one_in: usize,
+        /// The last rung's trials as a share of the suite's own (0 < share ≤ 1).
+        #[arg(long, default_value_t = 1.0)]
+        last_rung_share: f64,
+        /// Rank configurations whose median latency at the operating point exceeds this, s,
+        /// below the others.
+        #[arg(long)]
+        latency_limit_s: Option<f64>,
+        /// Skip the judgement that leaves each nuisance room out of tuning in turn (it repeats
+        /// the search once per room).
+        #[arg(long)]
+        without_room_check: bool,
+        /// Worker threads (default: one per core; at most 256).
+        #[arg(long, value_parser = parse_threads)]
+        threads: Option<usize>,
+        /// Override the suite's seed (the judging trials; the tuning seed derives from it).
+        #[arg(long)]
+        seed: Option<u64>,
+        /// Let detectors of the `external` plugin run the programs the suite names.
+        #[arg(long)]
+        allow_exec: bool,
     },
     /// Map where each detector of a run first sees a walker: the detection zone of every
     /// product whose suite declares a `zone:`, at the run's operating thresholds, added to
@@ -308,6 +351,39 @@ pub fn main_with(plugins: Vec<Arc<dyn DetectorPlugin>>) -> ExitCode {
             as_folder,
             replace,
         } => keep_reference(&run, &as_folder, replace),
+        Command::Tune {
+            suite,
+            out,
+            replace,
+            configs,
+            rungs,
+            keep_one_in,
+            last_rung_share,
+            latency_limit_s,
+            without_room_check,
+            threads,
+            seed,
+            allow_exec,
+        } => tune_verb::run_tune(
+            &plugins,
+            tune_verb::TuneRequest {
+                suite,
+                out,
+                replace,
+                settings: echobench_tune::TuneSettings {
+                    configs,
+                    keep_one_in,
+                    rungs,
+                    last_rung_share,
+                    tuning_seed: None,
+                    latency_limit_s,
+                    leave_one_out: !without_room_check,
+                },
+                threads,
+                seed,
+                allow_exec,
+            },
+        ),
         Command::Zone {
             run,
             suite,
