@@ -83,11 +83,12 @@ pub struct ProductZoneRun {
 /// One picture file of a product's zone.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct ZonePicture {
-    /// Detector label.
+    /// Detector label (empty for an overview of every detector).
     pub detector: String,
     /// `approach` or `cross`.
     pub kind: String,
-    /// `floor` (plan view) or `side` (height against range, ceiling mounts).
+    /// `overview` (every detector side by side), `floor` (one detector's plan view) or
+    /// `side` (height against range, ceiling mounts).
     pub view: String,
     /// File name in the run folder.
     pub file: String,

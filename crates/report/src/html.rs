@@ -1948,8 +1948,16 @@ fn product_entries(
     }
     if let Some(zone) = zone_part::zone_of(part) {
         let mut html = zone_part::zone_table(part, zone).into_string();
-        for (svg, caption) in zone_part::zone_pictures(part, zone) {
+        for (svg, caption) in zone_part::zone_pictures(part, zone, true) {
             html.push_str(&page.figure(svg, &caption));
+        }
+        let each = zone_part::zone_pictures(part, zone, false);
+        if !each.is_empty() {
+            html.push_str("<details><summary>Each detector's floor plan, with where walkers were first detected</summary>");
+            for (svg, caption) in each {
+                html.push_str(&page.figure(svg, &caption));
+            }
+            html.push_str("</details>");
         }
         add(
             "zone",

@@ -20,7 +20,7 @@ pub(crate) fn zone_of<'a>(part: &Part<'a>) -> Option<&'a ProductZoneRun> {
 pub(crate) fn zone_table(part: &Part, zone: &ProductZoneRun) -> Html {
     let pct = |v: Option<f64>| v.map_or("—".to_string(), |v| format!("{:.0} %", 100.0 * v));
     let mut h = Html::new();
-    h.raw("<p>Where each detector sees a walker, at the operating threshold this run calibrated for it (its first target). Walkers enter the floor of the room named here along straight walks, toward the sensor (approach: radial, the full Doppler of the walking speed) or across its view (cross: tangential, little Doppler but the limbs'), with speeds and heights drawn per walk; each walk is a trial of its own, with the room's noise and nuisances. A cell's probability is that of a walker passing through the disc about the cell's centre (radius half the cell diagonal) having been detected by the time it left the disc, with its Clopper–Pearson interval in <code>zone.csv</code>; the floor areas count the cells with the planned number of walkers at that probability or above. The first-detection range is measured on the floor from the sensor.</p>");
+    h.raw("<p>Where each detector sees a walker, at the operating threshold this run calibrated for it (its first target). Walkers enter the floor of the room named here along straight walks, toward the sensor (approach: radial, the full Doppler of the walking speed) or across its view (cross: tangential, little Doppler but the limbs'), with speeds and heights drawn per walk; each walk is a trial of its own, with the room's noise and nuisances. A cell's probability is that of a walker passing through the disc about the cell's centre (radius half the cell diagonal) having been detected by the time it left the disc, with its Clopper–Pearson interval in <code>zone.csv</code>; the floor areas count the cells with the planned number of walkers at that probability or above. The first-detection range is measured on the floor from the sensor. The thresholds are the product's, set by its worst nuisance room: a zone drawn in a quiet room is what a detector held quiet in the noisiest room still sees.</p>");
     h.open("p", &[]).text(&format!(
         "{} walks through the room of `{}`.",
         zone.walks_run, zone.scene
@@ -117,13 +117,24 @@ pub(crate) fn zone_table(part: &Part, zone: &ProductZoneRun) -> Html {
     h
 }
 
-/// The pictures of the zone, in `zone.json`'s order: (SVG text, caption).
-pub(crate) fn zone_pictures<'a>(part: &Part<'a>, zone: &ProductZoneRun) -> Vec<(&'a str, Html)> {
+/// The pictures of the zone of one `view` kind (`overview`, or else each detector's), in
+/// `zone.json`'s order: (SVG text, caption).
+pub(crate) fn zone_pictures<'a>(
+    part: &Part<'a>,
+    zone: &ProductZoneRun,
+    overview: bool,
+) -> Vec<(&'a str, Html)> {
     zone.pictures
         .iter()
+        .filter(|p| (p.view == "overview") == overview)
         .filter_map(|p| {
             let svg = part.run.zone_pictures.get(&p.file)?;
-            let caption = if p.view == "side" {
+            let caption = if p.view == "overview" {
+                Html::filled(
+                    "Every detector's zone for {} walks, side by side: each cell shaded by the probability that a walker passing it had been detected by the time it left the cell's disc (grey: fewer walkers than planned), the sensor (dot) and the beam's −3 dB two-way outline ({}).",
+                    &[&p.kind, &p.file],
+                )
+            } else if p.view == "side" {
                 Html::filled(
                     "{}, {} walks, side view: height against range of the first detections, with the beam's outline ({}).",
                     &[&p.detector, &p.kind, &p.file],

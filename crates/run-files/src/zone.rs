@@ -9,7 +9,8 @@ use echobench_harness::zone_walks::{
 };
 use echobench_suite::Suite;
 use echobench_zone::{
-    floor_picture, is_ceiling_mount, side_picture, zone_csv, WalkKind, ZoneCsvPart,
+    floor_picture, is_ceiling_mount, overview_picture, side_picture, zone_csv, WalkKind,
+    ZoneCsvPart,
 };
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -64,6 +65,31 @@ pub fn zone_files(
             .map_err(|e| fail(e.0))?
             .ok_or_else(|| fail(format!("product `{}` has no zone", product.product)))?;
         product.pictures.clear();
+        // First the detectors side by side, one picture per kind of walk.
+        let all: Vec<(&str, &echobench_zone::ZoneTally)> = product
+            .detectors
+            .iter()
+            .map(|d| (d.label.as_str(), &d.tally))
+            .collect();
+        for kind in WalkKind::ALL {
+            if !plan.spec().kinds.contains(&kind) {
+                continue;
+            }
+            let file = format!(
+                "zone-{}-overview-{}.svg",
+                file_part(&product.product),
+                kind.name()
+            );
+            used.insert(file.clone());
+            let svg = overview_picture(&plan, &product.product, kind, &all);
+            files.push((file.clone(), svg.as_str().as_bytes().to_vec()));
+            product.pictures.push(ZonePicture {
+                detector: String::new(),
+                kind: kind.name().to_string(),
+                view: "overview".to_string(),
+                file,
+            });
+        }
         for d in &product.detectors {
             for kind in WalkKind::ALL {
                 if !plan.spec().kinds.contains(&kind) {
@@ -164,9 +190,7 @@ pub type ZonePictures = BTreeMap<String, String>;
 ///
 /// # Errors
 /// As [`read_zone_record`], and a picture `zone.json` lists that is missing or unreadable.
-pub(crate) fn read_zone(
-    dir: &Path,
-) -> Result<Option<(ZoneRecord, ZonePictures)>, RunFileError> {
+pub(crate) fn read_zone(dir: &Path) -> Result<Option<(ZoneRecord, ZonePictures)>, RunFileError> {
     let Some(record) = read_zone_record(&dir.join(ZONE_FILE))? else {
         return Ok(None);
     };

@@ -59,6 +59,7 @@
 
 mod beam;
 mod figures;
+mod overview;
 mod picture;
 mod plan;
 mod spec;
@@ -67,6 +68,7 @@ mod tally;
 
 pub use beam::BeamView;
 pub use figures::{zone_figures, ZoneFigures};
+pub use overview::overview_picture;
 pub use picture::{floor_picture, is_ceiling_mount, probability_colour, side_picture};
 pub use plan::{Grid, Walk, ZonePlan};
 pub use spec::{FloorRect, WalkKind, ZoneError, ZoneSpec, MAX_WALKS};

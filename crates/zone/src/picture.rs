@@ -7,12 +7,12 @@ use crate::tally::ZoneTally;
 use echobench_svg::axis::{draw_ticks, format_number, Axis, Edge, PlotArea, TickStyle};
 use echobench_svg::{Svg, SVG_NAMESPACE};
 
-const INK: &str = "#262626";
+pub(crate) const INK: &str = "#262626";
 const GRID: &str = "#ececec";
-const FEW: &str = "#e2e2e2";
+pub(crate) const FEW: &str = "#e2e2e2";
 const FEW_MARK: &str = "#9c9c9c";
 const FIRST: &str = "#c2410c";
-const BEAM: &str = "#5b3a8c";
+pub(crate) const BEAM: &str = "#5b3a8c";
 const BEAM_FILL_3DB: &str = "#c9bbe2";
 const BEAM_FILL_10DB: &str = "#ebe5f4";
 const FONT_PX: f64 = 11.0;
@@ -65,7 +65,7 @@ pub fn is_ceiling_mount(plan: &ZonePlan) -> bool {
     plan.sensor().elevation_deg <= -45.0
 }
 
-fn polyline_d(points: impl Iterator<Item = (f64, f64)>, close: bool) -> String {
+pub(crate) fn polyline_d(points: impl Iterator<Item = (f64, f64)>, close: bool) -> String {
     let mut d = String::new();
     for (i, (x, y)) in points.enumerate() {
         d.push_str(&format!("{}{x:.1},{y:.1}", if i == 0 { 'M' } else { 'L' }));
