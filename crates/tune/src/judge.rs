@@ -12,7 +12,7 @@
 //! with the threshold pinned (the runner tallies pinned thresholds beside its own), and its
 //! false alarms per hour there are reported with their exact Garwood interval. A room
 //! *fails* when the interval's lower end is above the target: shown to be over it, not
-//! merely unlucky (`docs/reference/statistics.md#s17`).
+//! merely unlucky (`docs/reference/tuning.md#t4`).
 
 use crate::search::{product_figures, rung_label, search, ProductPd, SearchResult};
 use crate::space::Configuration;
@@ -141,9 +141,10 @@ pub struct LeftOutRoom {
     pub threshold: f64,
     /// The target, per hour.
     pub target_per_hour: f64,
-    /// False alarms in the room's test trials at that threshold.
+    /// False alarms in the room's test trials at that threshold (a presence product: false
+    /// switch-ons of its output).
     pub false_alarms: u64,
-    /// The room's test time, h.
+    /// The room's test time, h (a presence product: its empty time).
     pub exposure_hours: f64,
     /// False alarms per hour with the Garwood interval.
     pub rate: Estimate,
@@ -227,10 +228,20 @@ pub fn leave_one_out(
                 else {
                     continue;
                 };
+                // An intrusion product counts alarms over the room's time; a presence product
+                // its output's false switch-ons over empty time (what its thresholds are cut on).
                 let (mut false_alarms, mut exposure_ns) = (0, 0);
                 for v in d.variants.iter().filter(|v| &v.scene == room) {
-                    false_alarms += v.pinned.first().map_or(0, |t| t.false_alarms);
-                    exposure_ns += v.exposure_ns;
+                    match v.pinned_presence.first() {
+                        Some(p) => {
+                            false_alarms += p.false_switch_ons;
+                            exposure_ns += p.empty_ns;
+                        }
+                        None => {
+                            false_alarms += v.pinned.first().map_or(0, |t| t.false_alarms);
+                            exposure_ns += v.exposure_ns;
+                        }
+                    }
                 }
                 let hours = exposure_ns as f64 / 3.6e12;
                 let rate = Estimate::rate(false_alarms, hours);

@@ -18,7 +18,7 @@
 //! for any thread count, as every run is. The search is a low-discrepancy sample of each
 //! detector's space (Owen-scrambled Sobol points, `sobol_burley`) plus its default
 //! configuration, cut by successive halving (Jamieson & Talwalkar 2016): each rung runs more
-//! trials for fewer survivors (`docs/reference/statistics.md#s17`).
+//! trials for fewer survivors (`docs/reference/tuning.md#t1`).
 //!
 //! A rung is judged on Pd at the suite's first false-alarm target when its calibration time
 //! can resolve that rate in every room (`harness::summary::resolves`), and on the trial AUC

@@ -8,7 +8,7 @@
 //! survivors are ranked on more evidence, never on other luck. After each rung but the last,
 //! each entry keeps the best `ceil(n / keep_one_in)` of its `n` configurations.
 //!
-//! Ranking (`docs/reference/statistics.md#s17`): first the configurations that keep the
+//! Ranking (`docs/reference/tuning.md#t2`): first the configurations that keep the
 //! latency limit; then the rung's criterion, the mean over products of either Pd at the
 //! suite's first false-alarm target (when every product's calibration rooms resolve that
 //! rate at this rung's size) or the trial AUC; then the other criterion; then the lower

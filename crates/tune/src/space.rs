@@ -13,7 +13,8 @@
 //! scrambled Sobol sequence put one point in each of 2^m equal cells of every dimension, so a
 //! single parameter's values are spread at a known step (1/2^m of its range); the scramble
 //! seed comes from the tuning seed and the entry's label, so configurations are the same on
-//! every machine and do not change when another entry is added.
+//! every machine and do not change when another entry is added
+//! (`docs/reference/tuning.md#t1`).
 
 use crate::TuneError;
 use echobench_core::detector::{DetectorPlugin, ParamKind, ParamValue, Params};
