@@ -15,7 +15,9 @@
 //! output names the room and why: the counted (brute-force) bound is then all there is.
 
 use crate::runner::room_name;
-use echobench_tail::{extrapolate, AlarmRule, Status, TailAccumulator, ThresholdRule};
+use echobench_tail::{
+    extrapolate, AlarmRule, Status, TailAccumulator, ThresholdRule, TrialDispersion,
+};
 use serde::{Deserialize, Serialize};
 
 /// The rates reported for every detector, per hour: one per hour, day, week and month (30 days).
@@ -52,7 +54,8 @@ pub struct RoomTail {
     pub scene: String,
     /// Swept value, if swept.
     pub sweep_value: Option<String>,
-    /// `fitted`, `too few clusters` or `no stable threshold`.
+    /// `fitted`, `too few clusters`, `no stable threshold` or
+    /// `scores too coarse for a tail fit (…)` (with the lattice step found).
     pub status: String,
     /// Noise-only time fed to the fit, ns.
     pub exposure_ns: u64,
@@ -86,6 +89,122 @@ pub struct RoomTail {
     /// the others.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub excesses: Vec<f64>,
+    /// The trial-to-trial dispersion of the cluster counts above the fit threshold (Fisher's
+    /// index-of-dispersion test) and the scale factor that widened the fit's intervals
+    /// (`echobench_tail::dispersion`; docs/reference/statistics.md#s12). A reader refitting
+    /// from `excesses` applies it with `TailFit::with_dispersion`. `None` without a fit.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub dispersion: Option<TrialDispersion>,
+    /// What was fitted: alarm clusters (declustered by the hold) or trial maxima (one per
+    /// trial); [`fit_room`] fits both and keeps the one that is more cautious at the rarest
+    /// rate (docs/reference/statistics.md#s13). A reader refitting from `excesses` declusters
+    /// the same way.
+    #[serde(default)]
+    pub basis: Basis,
+    /// Why this basis, and what the other one gave.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub basis_note: Option<String>,
+    /// The room's largest alarm peaks counted, not fitted: entry `k` (from 0) is the highest
+    /// level at which the calibration holds at least `k + 1` alarm clusters (`M₁`, `M₂`, …;
+    /// docs/reference/statistics.md#s11), up to [`ALARM_PEAKS`] of them, exact at the
+    /// statistic's own values.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub alarm_peaks: Vec<f64>,
+}
+
+/// How many of a room's largest alarm peaks [`RoomTail::alarm_peaks`] keeps.
+pub const ALARM_PEAKS: usize = 5;
+
+/// `M₁ … M_k` of `acc` (see [`RoomTail::alarm_peaks`]): the kept statistics are walked down
+/// from the top, re-forming clusters at each level (one burst can hold two peaks a hold apart,
+/// so the count is not read off a single low level).
+fn alarm_peaks(acc: &TailAccumulator, k: usize) -> Vec<f64> {
+    let mut levels = acc.kept_statistics();
+    levels.dedup();
+    let mut peaks = Vec::new();
+    for v in levels {
+        let Ok(count) = acc.alarm_count(v) else {
+            break;
+        };
+        while (peaks.len() as u64) < count.min(k as u64) {
+            peaks.push(v);
+        }
+        if peaks.len() >= k {
+            break;
+        }
+    }
+    peaks
+}
+
+/// What a room's tail fit was made of (docs/reference/statistics.md#s13).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Basis {
+    /// Alarm clusters, declustered by the hold: the rate of alarms, right when trials are
+    /// alike.
+    #[default]
+    Clusters,
+    /// Each trial's largest statistic: the tail of the mixture over trials whose parameters
+    /// differ; its rate counts trials with an alarm (at most the alarm rate, equal far out).
+    TrialMaxima,
+}
+
+impl Basis {
+    /// The accumulator this basis declusters.
+    pub fn view(self, acc: &TailAccumulator) -> std::borrow::Cow<'_, TailAccumulator> {
+        match self {
+            Basis::Clusters => std::borrow::Cow::Borrowed(acc),
+            Basis::TrialMaxima => std::borrow::Cow::Owned(acc.by_trial()),
+        }
+    }
+
+    /// `alarm clusters` or `trial maxima`.
+    pub fn label(self) -> &'static str {
+        match self {
+            Basis::Clusters => "alarm clusters",
+            Basis::TrialMaxima => "trial maxima",
+        }
+    }
+}
+
+/// Fits one room's tail twice, on alarm clusters and on trial maxima, and reads the
+/// thresholds of `rates_per_hour` from the one that is more cautious (the higher threshold)
+/// at the rarest of them; a basis whose fit fails leaves the other
+/// (docs/reference/statistics.md#s13).
+///
+/// Why both: clusters are the right units when every trial is like every other, and they
+/// count every alarm; when a room's parameters are drawn per trial, the far tail belongs to
+/// the worst trials, which a fit dominated by the many ordinary clusters of a short run
+/// under-states, while trial maxima are independent, identically distributed draws of the
+/// mixture. Each can be optimistic where the other is not (trial maxima count a trial with
+/// two alarms once), so the more cautious of the two is kept, as the worst room is.
+pub fn fit_room(
+    scene: &str,
+    sweep_value: Option<&str>,
+    acc: &TailAccumulator,
+    rates_per_hour: &[f64],
+) -> RoomTail {
+    let clusters = fit_declustered(scene, sweep_value, acc, rates_per_hour);
+    let trials = fit_declustered(scene, sweep_value, &acc.by_trial(), rates_per_hour);
+    let rarest = rates_per_hour.iter().copied().fold(f64::INFINITY, f64::min);
+    let at_rarest = |room: &RoomTail| {
+        room.thresholds
+            .iter()
+            .find(|t| t.rate_per_hour == rarest)
+            .and_then(|t| t.threshold)
+    };
+    let describe = |room: &RoomTail| match at_rarest(room) {
+        Some(t) => format!("{} gave {t:.6} at {rarest:.3e}/h", room.basis.label()),
+        None => format!("{}: {}", room.basis.label(), room.status),
+    };
+    let (mut kept, other) = match (at_rarest(&clusters), at_rarest(&trials)) {
+        (Some(c), Some(t)) if t > c => (trials, clusters),
+        (None, Some(_)) => (trials, clusters),
+        _ => (clusters, trials),
+    };
+    kept.basis_note = Some(format!("kept {}; {}", kept.basis.label(), describe(&other)));
+    kept.alarm_peaks = alarm_peaks(acc, ALARM_PEAKS);
+    kept
 }
 
 /// One candidate threshold of a room's stability table, as the report draws it: above a
@@ -127,7 +246,7 @@ fn finite(x: f64) -> Option<f64> {
 }
 
 /// Fits one room's tail and reads the thresholds of `rates_per_hour`.
-pub fn fit_room(
+fn fit_declustered(
     scene: &str,
     sweep_value: Option<&str>,
     acc: &TailAccumulator,
@@ -147,6 +266,14 @@ pub fn fit_room(
         band: Vec::new(),
         stability: Vec::new(),
         excesses: Vec::new(),
+        dispersion: None,
+        basis: if acc.is_by_trial() {
+            Basis::TrialMaxima
+        } else {
+            Basis::Clusters
+        },
+        basis_note: None,
+        alarm_peaks: Vec::new(),
     };
     let none = |rate: f64, note: &str| RateThreshold {
         rate_per_hour: rate,
@@ -165,11 +292,14 @@ pub fn fit_room(
         }
         Ok(x) => {
             room.status = match x.status {
-                Status::Fitted => "fitted",
-                Status::TooFewClusters => "too few clusters",
-                Status::NoStableThreshold => "no stable threshold",
-            }
-            .to_string();
+                Status::Fitted => "fitted".to_string(),
+                Status::TooFewClusters => "too few clusters".to_string(),
+                Status::NoStableThreshold => "no stable threshold".to_string(),
+                Status::CoarseScores { step, distinct } => format!(
+                    "scores too coarse for a tail fit ({distinct} distinct cluster maxima{})",
+                    step.map_or(String::new(), |s| format!(", on a lattice of step {s:.3e}"))
+                ),
+            };
             let triple = |e: &echobench_tail::Estimate| (e.value, e.lower, finite(e.upper));
             room.stability = x
                 .table
@@ -189,6 +319,7 @@ pub fn fit_room(
                 room.xi = Some(fit.gpd().xi());
                 room.sigma = Some(fit.gpd().sigma());
                 room.gof_p = fit.goodness_of_fit().p_value.map(|p| p.value());
+                room.dispersion = Some(fit.dispersion());
             }
             room.thresholds = if x.status == Status::Fitted {
                 x.targets
@@ -240,7 +371,7 @@ pub fn rate_at(room: &RoomTail, acc: &TailAccumulator, x: f64) -> Option<RateAt>
     if let (true, Some(u)) = (fitted, room.fit_threshold) {
         if x >= u {
             let fit = echobench_tail::TailFit::from_accumulator(
-                acc,
+                &room.basis.view(acc),
                 u,
                 ThresholdRule::default().shape_floor,
             )
@@ -305,7 +436,7 @@ pub fn add_band(room: &mut RoomTail, acc: &TailAccumulator) {
     let Some(u) = room.fit_threshold else {
         return;
     };
-    let Ok(mut excesses) = acc.excesses(u) else {
+    let Ok(mut excesses) = room.basis.view(acc).excesses(u) else {
         return;
     };
     let Ok(fit) = echobench_tail::TailFit::from_excesses(
@@ -313,7 +444,8 @@ pub fn add_band(room: &mut RoomTail, acc: &TailAccumulator) {
         &excesses,
         acc.exposure_h(),
         ThresholdRule::default().shape_floor,
-    ) else {
+    )
+    .and_then(|f| f.with_dispersion(room.dispersion.unwrap_or(TrialDispersion::NONE))) else {
         return;
     };
     excesses.sort_by(f64::total_cmp);
@@ -537,6 +669,8 @@ mod tests {
             room.exposure_ns as f64 / 3.6e12,
             ThresholdRule::default().shape_floor,
         )
+        .unwrap()
+        .with_dispersion(room.dispersion.unwrap())
         .unwrap();
         for b in &room.band {
             assert_eq!(refit.rate_per_h(b.0), b.1);
@@ -593,6 +727,77 @@ mod tests {
         }
     }
 
+    /// A room whose trials differ: 5 % of 300 trials are "gusty" (exponential scores of scale
+    /// 1.6 instead of 1, 1800 frames each). Far out the gusty trials set the rate, so the
+    /// mixture's one-per-month threshold solves `3600·(0.95 e^(−x) + 0.05 e^(−x/1.6)) = 1/720`
+    /// per hour of frames. Both bases are fitted, the kept one has the higher threshold at the
+    /// rarest rate, the note names the other, and the kept interval holds the mixture's truth.
+    #[test]
+    fn a_mixture_of_trials_keeps_the_more_cautious_basis() {
+        let mut acc = accumulator(1, 1, 0.5).unwrap();
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(11);
+        for trial in 0..300u64 {
+            let scale = if trial % 20 == 7 { 1.6 } else { 1.0 };
+            let mut scan = acc.scan(trial);
+            for k in 0..1800 {
+                let u: f64 = rng.random();
+                scan.push(k as f64 + 1.0, -scale * (1.0 - u).ln()).unwrap();
+            }
+            acc.add(scan, 1800.0).unwrap();
+        }
+        let rates = [1.0 / 24.0, 1.0 / 720.0];
+        let room = fit_room("porch", None, &acc, &rates);
+        let clusters = fit_declustered("porch", None, &acc, &rates);
+        let trials = fit_declustered("porch", None, &acc.by_trial(), &rates);
+        let at = |r: &RoomTail| r.thresholds[1].threshold.unwrap_or(f64::NEG_INFINITY);
+        assert_eq!(at(&room), at(&clusters).max(at(&trials)));
+        let other = if room.basis == Basis::Clusters {
+            "trial maxima"
+        } else {
+            "alarm clusters"
+        };
+        assert!(room.basis_note.as_deref().unwrap().contains(other));
+        // The mixture's truth by bisection of its rate (exact for 1-of-1 frames).
+        let rate = |x: f64| 3600.0 * (0.95 * (-x).exp() + 0.05 * (-x / 1.6).exp());
+        let (mut lo, mut hi) = (0.0, 40.0);
+        for _ in 0..100 {
+            let mid = 0.5 * (lo + hi);
+            if rate(mid) > 1.0 / 720.0 {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        let t = &room.thresholds[1];
+        println!(
+            "truth {lo:.3}; clusters {:?}; trial maxima {:?}",
+            clusters.thresholds[1], trials.thresholds[1]
+        );
+        assert!(
+            t.low.unwrap() <= lo && lo <= t.high.unwrap_or(f64::INFINITY),
+            "truth {lo} outside {t:?} ({:?})",
+            room.basis
+        );
+        // The counted peaks: M₁ is the largest score, and each next one is lower.
+        let top = acc.kept_statistics()[0];
+        assert_eq!(room.alarm_peaks[0], top);
+        assert!(room.alarm_peaks.windows(2).all(|w| w[0] > w[1]));
+        assert_eq!(room.alarm_peaks.len(), ALARM_PEAKS);
+    }
+
+    #[test]
+    fn alarm_peaks_re_form_clusters_at_each_level() {
+        // One trial, hold 1 s: frames 9 and 8 at 0.0 s and 0.5 s form one cluster at level 8
+        // (M₁ = 9), but at level 5 the frame 6 at 1.0 s joins them, and the frame 7 at 3.0 s is a
+        // second cluster: M₂ = 7. A frame 8.5 in another trial makes M₂ = 8.5 instead.
+        let mut acc = accumulator(1, 1, 1.0).unwrap();
+        acc.add_trace(0, 5.0, &[0.0, 0.5, 1.0, 3.0], &[9.0, 8.0, 6.0, 7.0])
+            .unwrap();
+        assert_eq!(alarm_peaks(&acc, 3), vec![9.0, 7.0]);
+        acc.add_trace(1, 5.0, &[1.0], &[8.5]).unwrap();
+        assert_eq!(alarm_peaks(&acc, 3), vec![9.0, 8.5, 7.0]);
+    }
+
     fn room(name: &str, value: Option<f64>, low: f64, high: Option<f64>) -> RoomTail {
         RoomTail {
             scene: name.into(),
@@ -619,6 +824,10 @@ mod tests {
             band: Vec::new(),
             stability: Vec::new(),
             excesses: Vec::new(),
+            dispersion: None,
+            basis: Basis::Clusters,
+            basis_note: None,
+            alarm_peaks: Vec::new(),
         }
     }
 

@@ -218,6 +218,9 @@ pub struct TailAccumulator {
     trial_count: u64,
     frame_count: u64,
     exposure_ns: u64,
+    /// Declustered by trial (one cluster per trial: its maximum) instead of by the hold
+    /// ([`TailAccumulator::by_trial`]).
+    by_trial: bool,
 }
 
 impl TailAccumulator {
@@ -244,6 +247,7 @@ impl TailAccumulator {
             trial_count: 0,
             frame_count: 0,
             exposure_ns: 0,
+            by_trial: false,
         })
     }
 
@@ -317,6 +321,7 @@ impl TailAccumulator {
         if self.rule != other.rule
             || self.pre_threshold.to_bits() != other.pre_threshold.to_bits()
             || self.max_kept != other.max_kept
+            || self.by_trial != other.by_trial
         {
             return Err(TailError::RuleMismatch);
         }
@@ -346,7 +351,8 @@ impl TailAccumulator {
             if !frames.is_empty() {
                 self.kept += frames.len();
                 self.trials.insert(key, frames);
-                self.trial_ns.insert(key, trial_ns.get(&key).copied().unwrap_or(0));
+                self.trial_ns
+                    .insert(key, trial_ns.get(&key).copied().unwrap_or(0));
             }
         }
         if self.kept > self.max_kept.saturating_mul(2) {
@@ -386,6 +392,25 @@ impl TailAccumulator {
         } else {
             self.floor
         }
+    }
+
+    /// The same frames declustered by trial: every trial's frames above a level form one
+    /// cluster, whose maximum is the trial's largest statistic (runs declustering with a gap
+    /// longer than any trial). Cluster maxima of different trials are independent and, when
+    /// a room's parameters are drawn per trial, identically distributed draws of the mixture
+    /// over those parameters, so a tail fitted to them is the tail of the mixture
+    /// (docs/reference/statistics.md#s13). Its rate counts trials with an alarm, a lower bound
+    /// of the alarm rate that meets it where trials rarely hold two alarms.
+    pub fn by_trial(&self) -> TailAccumulator {
+        TailAccumulator {
+            by_trial: true,
+            ..self.clone()
+        }
+    }
+
+    /// Whether clusters are whole trials ([`TailAccumulator::by_trial`]).
+    pub fn is_by_trial(&self) -> bool {
+        self.by_trial
     }
 
     /// Trials added.
@@ -437,7 +462,11 @@ impl TailAccumulator {
         if level.is_nan() || level < floor {
             return Err(TailError::BelowFloor { level, floor });
         }
-        let gap = self.rule.hold_s - HOLD_TOLERANCE_S;
+        let gap = if self.by_trial {
+            f64::INFINITY
+        } else {
+            self.rule.hold_s - HOLD_TOLERANCE_S
+        };
         let mut out = Vec::new();
         for (&key, frames) in &self.trials {
             let mut current: Option<Cluster> = None;

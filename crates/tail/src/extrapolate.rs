@@ -16,6 +16,15 @@ pub enum Status {
     /// No candidate threshold satisfied the rule (unstable estimates, or every fit rejected,
     /// untestable or on the boundary): use the brute-force bound.
     NoStableThreshold,
+    /// No candidate qualified and the lowest one with enough clusters was too coarse for a
+    /// continuous tail ([`Verdict::Coarse`], [`crate::lattice`]): use the brute-force bound
+    /// and say why.
+    CoarseScores {
+        /// The lattice step of its excesses, if one was found.
+        step: Option<f64>,
+        /// Its distinct excesses.
+        distinct: usize,
+    },
 }
 
 /// The threshold for one target rate.
@@ -71,8 +80,17 @@ pub fn extrapolate(
     };
     let (table, chosen) = choose_from(acc, &candidates, rule)?;
     let Some(i) = chosen else {
+        let coarse = table
+            .iter()
+            .find(|r| r.exceedances >= rule.min_exceedances && r.verdict.is_some())
+            .and_then(|r| match r.verdict {
+                Some(Verdict::Coarse { step, distinct }) => {
+                    Some(Status::CoarseScores { step, distinct })
+                }
+                _ => None,
+            });
         return Ok(Extrapolation {
-            status: Status::NoStableThreshold,
+            status: coarse.unwrap_or(Status::NoStableThreshold),
             table,
             chosen,
             fit: None,

@@ -43,6 +43,7 @@ use crate::gpd::{
     chi2_1_quantile, crossing, excess_for_log_survival, log_likelihood, max_over_xi, Gpd, GpdFit,
     XI_MIN,
 };
+use crate::lattice::{MAX_STEP_TO_SCALE, MIN_DISTINCT};
 use crate::solve::{brent_root, grid_then_brent_max};
 
 /// A value with a two-sided interval.
@@ -79,6 +80,17 @@ pub enum Verdict {
     Untestable,
     /// The maximum lies on the edge of the searched shapes: not a regular fit.
     Boundary,
+    /// The excesses are too coarse for a continuous tail: fewer than
+    /// [`crate::lattice::MIN_DISTINCT`] distinct values, or on a lattice whose step exceeds
+    /// [`crate::lattice::MAX_STEP_TO_SCALE`] of the fitted scale ([`crate::lattice`]). Do
+    /// not use it; the report says why.
+    Coarse {
+        /// The lattice step of the excesses (`None`: no lattice found, too few distinct
+        /// values).
+        step: Option<f64>,
+        /// Distinct excesses.
+        distinct: usize,
+    },
 }
 
 /// A peaks-over-threshold fit at threshold `u`: the exceedance rate and the GPD of the
@@ -209,6 +221,9 @@ impl TailFit {
         if self.fit.at_boundary() {
             return Verdict::Boundary;
         }
+        if let Some(coarse) = self.coarseness() {
+            return coarse;
+        }
         match self.gof.rejects(level) {
             None => Verdict::Untestable,
             Some(true) => Verdict::Rejected {
@@ -216,6 +231,16 @@ impl TailFit {
             },
             Some(false) => Verdict::Usable,
         }
+    }
+
+    /// `Some(Verdict::Coarse { .. })` when the excesses are too coarse for the continuous
+    /// likelihood ([`crate::lattice`]), else `None`.
+    pub fn coarseness(&self) -> Option<Verdict> {
+        let y = self.fit.excesses();
+        let distinct = crate::lattice::distinct(y);
+        let step = crate::lattice::lattice_step(y);
+        let too_coarse = step.is_some_and(|s| s > MAX_STEP_TO_SCALE * self.gpd().sigma());
+        (distinct < MIN_DISTINCT || too_coarse).then_some(Verdict::Coarse { step, distinct })
     }
 
     /// `n_u / T`, per hour.

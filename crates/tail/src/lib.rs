@@ -81,6 +81,7 @@ pub mod extrapolate;
 pub mod fit;
 pub mod gof;
 pub mod gpd;
+pub mod lattice;
 mod solve;
 pub mod threshold;
 
