@@ -18,7 +18,12 @@
 //!    that fails it (or cannot be tested) says so through [`Verdict`], so the caller falls
 //!    back to the brute-force bound;
 //! 6. [`extrapolate()`]: all of it in one call for a runner, ending in a [`Status`] that says
-//!    whether to use the fit or the brute-force bound.
+//!    whether to use the fit or the brute-force bound;
+//! 7. [`dispersion`]: **trials that differ** — Fisher's dispersion test of per-trial cluster
+//!    counts and the quasi-likelihood widening of the intervals by it
+//!    ([`TailAccumulator::by_trial`] declusters by trial for a fit of the mixture's tail);
+//! 8. [`lattice`]: **scores on a lattice** — the step of tied maxima, and a
+//!    [`Verdict::Coarse`] where it is too coarse for a continuous tail.
 //!
 //! `TAIL.md` in this crate states the formulas, sources and limits for the README.
 //!
