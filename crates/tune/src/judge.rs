@@ -21,7 +21,7 @@ use echobench_core::detector::DetectorPlugin;
 use echobench_harness::runner::{run_suite, PinnedPoint, RunDetector};
 use echobench_harness::summary::{summarise, Estimate};
 use echobench_suite::{DetectorEntry, SceneLabel, Suite};
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::sync::Arc;
 
@@ -127,7 +127,7 @@ pub fn judge(
 }
 
 /// One (room, detector) of the leave-one-room-out judgement.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LeftOutRoom {
     /// Product.
     pub product: String,
@@ -138,7 +138,7 @@ pub struct LeftOutRoom {
     /// The configuration tuned without the room: searched values.
     pub tuned_params: BTreeMap<String, String>,
     /// Its operating threshold, cut on the other rooms.
-    pub threshold: f64,
+    pub threshold: Option<f64>,
     /// The target, per hour.
     pub target_per_hour: f64,
     /// False alarms in the room's test trials at that threshold (a presence product: false
@@ -250,7 +250,7 @@ pub fn leave_one_out(
                     room: room.clone(),
                     detector: label.clone(),
                     tuned_params: found.configurations[e][found.chosen[e]].shown(),
-                    threshold: d.pinned.first().map_or(f64::NAN, |p| p.threshold),
+                    threshold: d.pinned.first().map(|p| p.threshold),
                     target_per_hour: target,
                     false_alarms,
                     exposure_hours: hours,

@@ -46,7 +46,7 @@ pub use space::{configurations, tuning_space, Configuration, Space, TunedParam};
 use echobench_core::detector::DetectorPlugin;
 use echobench_harness::summary::Estimate;
 use echobench_suite::Suite;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::sync::Arc;
 
@@ -63,7 +63,7 @@ pub fn tuning_seed(suite_seed: u64) -> u64 {
 }
 
 /// How much searching, and on what.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TuneSettings {
     /// Sampled configurations per detector at the first rung (the default configuration is
     /// tried beside them); a power of two keeps the Sobol points balanced.
@@ -149,7 +149,7 @@ impl TuneError {
 }
 
 /// One detector's tuning, from its defaults to its held-out verdict.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DetectorTuning {
     /// Label in the suite (kept in the tuned suite).
     pub label: String,
@@ -174,7 +174,7 @@ pub struct DetectorTuning {
 }
 
 /// Everything a tuning produced: what the summary files show.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TuneSummary {
     /// [`TUNE_SCHEMA_VERSION`].
     pub schema: u32,
@@ -281,4 +281,24 @@ pub fn write_outputs(
         write_atomically(&dir.join(&name), |w| w.write_all(text.as_bytes()))?;
     }
     Ok(())
+}
+
+/// Reads a tuning's summary back from its JSON (`tune-summary.json` of an output folder),
+/// for the report.
+///
+/// # Errors
+/// Unreadable or not a tuning summary of this schema.
+pub fn read_summary(path: &std::path::Path) -> Result<TuneSummary, TuneError> {
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| TuneError::new(format!("{}: {e}", path.display())))?;
+    let summary: TuneSummary = serde_json::from_str(&text)
+        .map_err(|e| TuneError::new(format!("{}: {e}", path.display())))?;
+    if summary.schema != TUNE_SCHEMA_VERSION {
+        return Err(TuneError::new(format!(
+            "{}: tuning summary schema {} (this echobench reads {TUNE_SCHEMA_VERSION})",
+            path.display(),
+            summary.schema
+        )));
+    }
+    Ok(summary)
 }

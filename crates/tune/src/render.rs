@@ -242,7 +242,7 @@ pub fn history_svg(summary: &TuneSummary) -> String {
                 .filter_map(|h| {
                     Some((
                         area.x(&x_axis, h.rung as f64 + offset)?,
-                        area.y(&y_axis, h.value)?,
+                        area.y(&y_axis, h.value?)?,
                     ))
                 })
                 .collect();

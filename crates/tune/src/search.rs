@@ -19,11 +19,11 @@ use crate::{TuneError, TuneSettings};
 use echobench_harness::runner::{run_suite, RunDetector, Tallies};
 use echobench_harness::summary::{summarise, DetectorSummary, Estimate, Summary};
 use echobench_suite::Suite;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 /// What a rung was judged on.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Criterion {
     /// Mean over products of the trial AUC (max score per trial, targets against rooms).
@@ -43,7 +43,7 @@ impl Criterion {
 }
 
 /// One rung.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct RungInfo {
     /// 0, 1, ...
     pub index: usize,
@@ -58,7 +58,7 @@ pub struct RungInfo {
 }
 
 /// One configuration at one rung.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct HistoryRow {
     /// Rung index.
     pub rung: usize,
@@ -72,8 +72,8 @@ pub struct HistoryRow {
     pub auc: Option<f64>,
     /// Mean Pd at the target over products.
     pub pd: Option<f64>,
-    /// The rung criterion's value.
-    pub value: f64,
+    /// The rung criterion's value (`None` when it was not run).
+    pub value: Option<f64>,
     /// Whether it keeps the latency limit (always, without one).
     pub within_latency: bool,
     /// Whether it went on to the next rung (at the last rung: whether it was chosen).
@@ -83,7 +83,7 @@ pub struct HistoryRow {
 }
 
 /// Per product, Pd at the operating point with its interval, and the median latency.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ProductPd {
     /// Product.
     pub product: String,
@@ -92,7 +92,7 @@ pub struct ProductPd {
     /// Median latency at the operating point, s.
     pub latency_median_s: Option<f64>,
     /// The operating threshold.
-    pub threshold: f64,
+    pub threshold: Option<f64>,
     /// Whether the calibration resolved the target rate.
     pub resolved: bool,
 }
@@ -166,7 +166,7 @@ pub(crate) fn product_figures(summary: &Summary, label: &str) -> Vec<(ProductPd,
                         |o| o.outcome.pd,
                     ),
                     latency_median_s: op.and_then(|o| o.latency_median_s),
-                    threshold: op.map_or(f64::NAN, |o| o.threshold),
+                    threshold: op.map(|o| o.threshold),
                     resolved: op.is_some_and(|o| o.resolved),
                 },
                 d.trial_auc,
@@ -235,7 +235,7 @@ pub fn search(
                             params: c.shown(),
                             auc: None,
                             pd: None,
-                            value: f64::NAN,
+                            value: None,
                             within_latency: false,
                             kept: false,
                             refused: Some(why.clone()),
@@ -341,7 +341,7 @@ pub fn search(
                     params: configs[e][s.config].shown(),
                     auc: s.auc,
                     pd: s.pd,
-                    value: s.first,
+                    value: Some(s.first),
                     within_latency: s.within,
                     kept: rank < keep,
                     refused: None,

@@ -21,11 +21,11 @@ use echobench_core::detector::{DetectorPlugin, ParamKind, ParamValue, Params};
 use echobench_core::param_decl::TuneRange;
 use echobench_core::StreamInfo;
 use echobench_suite::{DetectorEntry, Suite};
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::sync::Arc;
 
 /// One searched parameter.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TunedParam {
     /// Its name.
     pub name: String,
@@ -33,10 +33,6 @@ pub struct TunedParam {
     pub scale: String,
     /// The range as text: `[0.032, 0.5]`, or the options.
     pub range: String,
-    #[serde(skip)]
-    range_value: TuneRange,
-    #[serde(skip)]
-    kind: ParamKind,
 }
 
 /// A detector entry's space.
@@ -50,6 +46,8 @@ pub struct Space {
     pub params: Vec<TunedParam>,
     /// Tunable parameters left out, with why.
     pub not_searched: Vec<String>,
+    /// Each searched parameter's range and kind, in the order of `params`.
+    ranges: Vec<(TuneRange, ParamKind)>,
 }
 
 /// One configuration of an entry.
@@ -149,6 +147,7 @@ pub fn tuning_space(
                     ))
                 })?;
             let mut params = Vec::new();
+            let mut ranges = Vec::new();
             let mut not_searched = Vec::new();
             for spec in plugin.params() {
                 let Some(range) = spec.tune else { continue };
@@ -177,15 +176,15 @@ pub fn tuning_space(
                     name: spec.name.to_string(),
                     scale: range.scale_name().to_string(),
                     range: range_text,
-                    range_value: range,
-                    kind: spec.kind.clone(),
                 });
+                ranges.push((range, spec.kind.clone()));
             }
             Ok(Space {
                 entry: entry.clone(),
                 plugin,
                 params,
                 not_searched,
+                ranges,
             })
         })
         .collect()
@@ -218,13 +217,12 @@ pub fn configurations(
         let values: Vec<(String, ParamValue)> = space
             .params
             .iter()
+            .zip(&space.ranges)
             .enumerate()
-            .filter_map(|(d, p)| {
+            .filter_map(|(d, (p, (range, kind)))| {
                 // sobol_burley holds 256 dimensions; the tables here have at most a handful.
                 let u = f64::from(sobol_burley::sample(i as u32, (d % 256) as u32, seed));
-                p.range_value
-                    .value_at(u, &p.kind)
-                    .map(|v| (p.name.clone(), v))
+                range.value_at(u, kind).map(|v| (p.name.clone(), v))
             })
             .collect();
         let resolved = resolve_with(&space.entry, space.plugin.as_ref(), &values, &streams);

@@ -244,6 +244,12 @@ fn with_the_judging_seed_the_tuning_pd_is_the_judged_pd_and_otherwise_not() {
     let (summary, _) = tune(&suite, &plugins(), &same, &|_| {}).unwrap();
     let d = &summary.detectors[0];
     assert_eq!(d.tuning, d.held_out, "same trials, same figures");
+    // The summary reads back from its JSON as it was (what the report reads).
+    let path = std::env::temp_dir().join(format!("echobench-tune-{}.json", std::process::id()));
+    std::fs::write(&path, echobench_tune::summary_json(&summary).unwrap()).unwrap();
+    let back = echobench_tune::read_summary(&path);
+    let _ = std::fs::remove_file(&path);
+    assert_eq!(back.unwrap(), summary);
     // The tuning seed of an ordinary tuning is not the suite's, and its trials are others:
     // the chosen configuration's threshold and Pd move.
     let (summary, _) = tune(
