@@ -356,20 +356,8 @@ pub(crate) fn draw(input: &PictureInput<'_>) -> Result<String, ExplainError> {
             .attr("fill-opacity", 0.18)
             .end();
     }
-    out.tag("text")
-        .attr("x", 0)
-        .attr("y", 0)
-        .attr("font-size", 13)
+    out.upright_text_at(x0 - 70.0, (score_top + score_bottom) / 2.0, 0.0, 13.0)
         .attr("fill", "#1a1a1a")
-        .attr("text-anchor", "middle")
-        .attr(
-            "transform",
-            format_args!(
-                "translate({:.1},{:.1}) rotate(-90)",
-                x0 - 70.0,
-                (score_top + score_bottom) / 2.0
-            ),
-        )
         .content("score");
     match score_axis(input.scores, input.threshold) {
         None => text(

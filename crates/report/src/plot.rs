@@ -471,13 +471,7 @@ pub fn render_chart(chart: &Chart) -> String {
         14.0,
     )
     .content(&chart.x.label);
-    let label_x = 16.0;
-    let label_y = frame.top + frame.height / 2.0;
-    body.text_at(label_x, label_y, "middle", 14.0)
-        .attr(
-            "transform",
-            format_args!("rotate(-90 {label_x:.1} {label_y:.1})"),
-        )
+    body.upright_text_at(16.0, frame.top + frame.height / 2.0, 0.0, 14.0)
         .content(&chart.y.label);
 
     // Reference lines.

@@ -707,13 +707,8 @@ impl Picture {
         )
         .attr("fill", TEXT)
         .content("Time (s)");
-        let (label_x, label_y) = (plot.left - 66.0, plot.top + plot.height / 2.0);
-        svg.text_at(label_x, label_y, "middle", 15.0)
+        svg.upright_text_at(plot.left - 66.0, plot.top + plot.height / 2.0, 0.0, 15.0)
             .attr("fill", TEXT)
-            .attr(
-                "transform",
-                format_args!("rotate(-90 {label_x:.1} {label_y:.1})"),
-            )
             .content(figure.freq_axis_title);
 
         // Target edges across the heat map.
@@ -868,18 +863,13 @@ fn draw_colour_bar(svg: &mut Svg, figure: &Figure, plot: PlotArea) {
             .end();
         centred_text(svg, x1 + 8.0, y, "start", 12.0, TEXT).content(&format_number(tick_db, 1));
     }
-    let (label_x, label_y) = (x1 + 66.0, plot.top + plot.height / 2.0);
-    svg.text_at(
-        label_x,
-        label_y + CENTRE_TO_BASELINE_EM * 14.0,
-        "middle",
+    svg.upright_text_at(
+        x1 + 66.0,
+        plot.top + plot.height / 2.0,
+        CENTRE_TO_BASELINE_EM * 14.0,
         14.0,
     )
     .attr("fill", TEXT)
-    .attr(
-        "transform",
-        format_args!("rotate(-90 {label_x:.1} {label_y:.1})"),
-    )
     .content("PSD (dB re 1 V²/Hz)");
 }
 

@@ -68,6 +68,20 @@ impl Svg {
             .attr("font-size", font_px)
     }
 
+    /// A `<text>` turned upright (read from bottom to top) about (`x`, `y`) px, centred on
+    /// that point, its baseline `baseline_drop_px` below it before the turn: the title of a
+    /// vertical axis, as every picture of the project draws it. Finish with [`Tag::content`].
+    pub fn upright_text_at(
+        &mut self,
+        x: f64,
+        y: f64,
+        baseline_drop_px: f64,
+        font_px: f64,
+    ) -> Tag<'_> {
+        self.text_at(x, y + baseline_drop_px, "middle", font_px)
+            .attr("transform", format_args!("rotate(-90 {x:.1} {y:.1})"))
+    }
+
     /// Markup written by this crate (a fragment or a whole document, e.g. to nest it).
     pub fn append(&mut self, other: &Svg) {
         self.0.push_str(&other.0);

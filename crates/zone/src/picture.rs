@@ -575,11 +575,7 @@ fn axis_labels(svg: &mut Svg, area: &PlotArea, x_axis: &Axis, y_axis: &Axis) {
         FONT_PX,
     )
     .content(&x_axis.label);
-    svg.text_at(14.0, area.top + 0.5 * area.height, "middle", FONT_PX)
-        .attr(
-            "transform",
-            format_args!("rotate(-90 14 {:.1})", area.top + 0.5 * area.height),
-        )
+    svg.upright_text_at(14.0, area.top + 0.5 * area.height, 0.0, FONT_PX)
         .content(&y_axis.label);
 }
 
