@@ -465,6 +465,12 @@ impl MotionModel for Fan {
         self.echoes_into(t_s, sensor_m, out, None);
     }
 
+    /// The rotor turns steadily and spins up and down with raised-cosine
+    /// rate profiles: no velocity steps.
+    fn band_limited(&self) -> bool {
+        true
+    }
+
     fn echoes_with_flashes(
         &mut self,
         t_s: f64,

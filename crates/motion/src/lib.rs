@@ -197,6 +197,19 @@ pub trait MotionModel: Send {
         2.0 * self.max_speed_mps() / wavelength_m
     }
 
+    /// Whether the echoes' sum stays within ±[`max_doppler_hz`](MotionModel::max_doppler_hz)
+    /// closely enough to be rendered at a few times that rate and brought up to
+    /// the internal rate by a band-limited interpolator (the scene crate's
+    /// `upsample`): true only for a model whose velocities and amplitudes never
+    /// step (eased starts and stops, raised-cosine ramps). A velocity step (a
+    /// reflector stopping dead) is a kink in the phase, whose spectrum falls
+    /// only as 1/f²: interpolated from four samples per Doppler cycle it is
+    /// off by per cents near the kink, so such a model is rendered at the
+    /// internal rate. By default false.
+    fn band_limited(&self) -> bool {
+        false
+    }
+
     /// Intervals (seconds) in which any part of the actor moves at all, clipped to
     /// `[0, duration_s]`: the truth lists a nuisance over these (any motion may
     /// cause a false alarm), and samples [`motion_speed_mps`](MotionModel::motion_speed_mps)

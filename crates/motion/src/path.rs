@@ -107,6 +107,20 @@ impl Path {
         Path::polyline(vec![start_m, end], speed_mps, enter_s, leave_s, pauses)
     }
 
+    /// Whether the polyline turns anywhere: the heading, and so the velocity,
+    /// steps at each turn (a straight path, or points along one line, does not).
+    pub fn has_corners(&self) -> bool {
+        self.points.windows(3).any(|w| {
+            let (a, b) = (
+                [w[1][0] - w[0][0], w[1][1] - w[0][1]],
+                [w[2][0] - w[1][0], w[2][1] - w[1][1]],
+            );
+            let cross = a[0] * b[1] - a[1] * b[0];
+            let dot = a[0] * b[0] + a[1] * b[1];
+            cross.abs() > 1e-12 * (a[0].hypot(a[1]) * b[0].hypot(b[1])) || dot <= 0.0
+        })
+    }
+
     /// Entry time, seconds.
     pub fn enter_s(&self) -> f64 {
         self.enter_s

@@ -494,6 +494,13 @@ fn easings(path: &Path, settle_s: f64) -> Vec<Easing> {
 }
 
 impl MotionModel for Walker {
+    /// The walk eases its stops and starts, presence ramps by a raised
+    /// cosine and the gait's joint curves are C¹: no velocity steps, unless
+    /// the path turns a corner (the heading steps there).
+    fn band_limited(&self) -> bool {
+        !self.path.has_corners()
+    }
+
     fn echoes(&mut self, t_s: f64, sensor_m: Vec3, out: &mut Vec<Echo>) {
         let presence = self.path.presence(t_s);
         // Any pose will do as the starting value: `kinematics` overwrites it.
@@ -604,6 +611,30 @@ mod tests {
         let gait = Gait::new(1.8, speed_mps).expect("valid gait");
         let path = Path::straight([12.0, 0.0], PI, speed_mps, 1.0, 7.0, pauses);
         Walker::new(gait, path, 1.0).expect("valid walker")
+    }
+
+    #[test]
+    fn only_a_walk_without_corners_is_band_limited() {
+        assert!(walker_towards_sensor(1.4, vec![]).band_limited());
+        let gait = Gait::new(1.8, 1.0).expect("valid gait");
+        let turning = Path::polyline(
+            vec![[9.0, 1.0], [1.8, 0.2], [2.2, 6.5]],
+            1.0,
+            1.0,
+            30.0,
+            vec![],
+        );
+        assert!(!Walker::new(gait.clone(), turning, 1.0)
+            .unwrap()
+            .band_limited());
+        let along = Path::polyline(
+            vec![[0.0, 0.0], [1.0, 1.0], [3.0, 3.0]],
+            1.0,
+            1.0,
+            30.0,
+            vec![],
+        );
+        assert!(Walker::new(gait, along, 1.0).unwrap().band_limited());
     }
 
     /// Closing speed (positive approaching) of an echo as seen from `sensor_m`.

@@ -396,9 +396,10 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
     let tracks: Vec<Track> = models
         .into_iter()
         .map(|mut model| {
-            // An actor far slower than the internal rate is rendered at f_sim/D
-            // (at least 4× its own highest frequency) and interpolated up
-            // (`upsample`), with the nodes it would have had.
+            // An actor far slower than the internal rate, and without velocity
+            // steps, is rendered at f_sim/D (at least 4× its own highest
+            // frequency) and interpolated up (`upsample`), with the nodes it
+            // would have had.
             let max_doppler_hz = model.max_doppler_hz(lambda);
             let slowest_rate_hz = |model: &dyn MotionModel| {
                 let linear_hz = model.flash_node_rate_hz(lambda);
@@ -407,8 +408,16 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
                     _ => linear_hz,
                 }
             };
-            let factor =
-                track_rate(max_doppler_hz, slowest_rate_hz(model.as_ref()), sim_rate_hz).factor;
+            // Only a model without velocity steps (`band_limited`) is interpolated.
+            let band_limited = model.band_limited();
+            let rate_of = |node_rate_hz: f64| {
+                if band_limited {
+                    track_rate(max_doppler_hz, node_rate_hz, sim_rate_hz)
+                } else {
+                    track_rate(0.0, node_rate_hz, sim_rate_hz)
+                }
+            };
+            let factor = rate_of(slowest_rate_hz(model.as_ref())).factor;
             let track_rate_hz = sim_rate_hz / factor as f64;
             // The renderer takes the fast sinc factors per sample (`echoes_with_flashes`),
             // so the nodes need only follow ranges, slow amplitudes and flash arguments.
@@ -428,7 +437,7 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
                 Some(cubic_hz) if cubic_hz < linear_hz => (cubic_hz, true),
                 _ => (linear_hz, false),
             };
-            let rate = track_rate(max_doppler_hz, rate_hz, sim_rate_hz);
+            let rate = rate_of(rate_hz);
             let track_rate_hz = sim_rate_hz / rate.factor as f64;
             let track = ActorTrack::new(model, rate.samples_per_node, track_rate_hz, &radar, cubic);
             if rate.factor == 1 {
@@ -530,6 +539,30 @@ pub fn build_trial(scene: &SceneSpec, key: &StreamKey) -> Result<TrialParts, Syn
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn only_band_limited_actors_are_interpolated() {
+        // The reference workload's walker (2 kHz, its Doppler under 110 Hz)
+        // goes at a quarter of the rate; its link-budget reflector, which
+        // stops dead (a velocity step), is rendered at the internal rate.
+        let root = concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/../../scenarios/bench/reference-workload/"
+        );
+        let kinds = |file: &str| {
+            let path = format!("{root}{file}");
+            let text = std::fs::read_to_string(&path).unwrap();
+            let scene = crate::load_scene_text(&path, &text).unwrap();
+            let parts = build_trial(&scene, &StreamKey::new(1, "x", 0)).unwrap();
+            parts
+                .tracks
+                .iter()
+                .map(|t| matches!(t, Track::Interpolated(_)))
+                .collect::<Vec<_>>()
+        };
+        assert_eq!(kinds("walker.yaml"), [true]);
+        assert_eq!(kinds("link-budget-check.yaml"), [false]);
+    }
 
     #[test]
     fn oversampling_follows_the_largest_doppler() {

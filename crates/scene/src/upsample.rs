@@ -4,7 +4,9 @@
 //! Doppler): at 24 GHz a desk fan's 3 kHz blades put it at 26 kHz, while a
 //! walker's echoes stay below 1 kHz. Rendering the walker's twelve phasors at
 //! 26 kHz spends most of their work on samples a band-limited interpolator can
-//! give far more cheaply. So an actor whose highest frequency B
+//! give far more cheaply. So an actor without velocity steps
+//! ([`echobench_motion::MotionModel::band_limited`]: the walker and the fan)
+//! whose highest frequency B
 //! ([`echobench_motion::MotionModel::max_doppler_hz`], the bound the internal
 //! rate is chosen from) lies well below the internal rate is rendered at
 //! f_low = f_sim / D, at least [`SLOW_RATE_PER_DOPPLER`]·B, and its sum of
