@@ -18,7 +18,7 @@ pub enum SectionKind {
 /// Bilinear transform with pre-warping (docs/reference/front-end-and-noise.md#f10, verified with
 /// scipy.signal.bilinear): K = tan(π f_c/f_s), a1 = (K − 1)/(K + 1);
 /// low-pass b0 = b1 = K/(1 + K); high-pass b0 = 1/(1 + K), b1 = −b0;
-/// y[n] = b0·x[n] + b1·x[n−1] − a1·y[n−1]. Pre-warping puts the −3 dB point
+/// y\[n\] = b0·x\[n\] + b1·x\[n−1\] − a1·y\[n−1\]. Pre-warping puts the −3 dB point
 /// exactly at f_c (|H| = 1/√2), whatever f_c/f_s.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FirstOrderSection {
@@ -89,7 +89,7 @@ impl FirstOrderSection {
         Self::new(SectionKind::HighPass, corner_hz, sample_rate_hz)
     }
 
-    /// The coefficients (b0, b1, a1) of y[n] = b0·x[n] + b1·x[n−1] − a1·y[n−1].
+    /// The coefficients (b0, b1, a1) of y\[n\] = b0·x\[n\] + b1·x\[n−1\] − a1·y\[n−1\].
     pub fn coefficients(&self) -> (f64, f64, f64) {
         (self.b0, self.b1, self.a1)
     }

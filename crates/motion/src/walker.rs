@@ -554,7 +554,7 @@ impl MotionModel for Walker {
             .max(NODE_RATE_FLOOR_HZ)
     }
 
-    /// The phase criteria alone, with a floor of [`CUBIC_NODE_RATE_FLOOR_HZ`]
+    /// The phase criteria alone, with a floor of `CUBIC_NODE_RATE_FLOOR_HZ`
     /// for the amplitudes: at 2.45 GHz this is 90–200 Hz where the linear
     /// amplitudes need 250 Hz.
     fn cubic_amplitude_node_rate_hz(&self, wavelength_m: f64) -> Option<f64> {

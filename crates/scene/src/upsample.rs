@@ -164,7 +164,7 @@ impl Interpolator {
         self.taps
     }
 
-    /// Largest error |Σⱼ wᵣ[j]·e^{i2πf(j − L/2 + 1)} − e^{i2πf·r/D}| over every
+    /// Largest error |Σⱼ wᵣ(j)·e^{i2πf(j − L/2 + 1)} − e^{i2πf·r/D}| over every
     /// phase r and `points` frequencies f from 0 to `band_fraction` cycles per
     /// low-rate sample: the interpolation error for a unit phasor (real
     /// weights, so −f gives the same).
