@@ -843,7 +843,7 @@ impl EchoGroup {
 }
 
 /// Whether [`EchoGroup::add`] may take the AVX2 path on this CPU.
-pub(crate) fn wide_vectors_available() -> bool {
+fn wide_vectors_available() -> bool {
     #[cfg(target_arch = "x86_64")]
     {
         std::arch::is_x86_feature_detected!("avx2")
