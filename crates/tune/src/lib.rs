@@ -20,10 +20,12 @@
 //! configuration, cut by successive halving (Jamieson & Talwalkar 2016): each rung runs more
 //! trials for fewer survivors (`docs/reference/tuning.md#t1`).
 //!
-//! A rung is judged on Pd at the suite's first false-alarm target when its calibration time
-//! can resolve that rate in every room (`harness::summary::resolves`), and on the trial AUC
-//! (Mann–Whitney) before that, where Pd at a rare rate is mostly noise; the summary says
-//! which rung used which. A suite's detector entries are shared by its products, so one
+//! The last rung is judged on the objective, Pd at the suite's first false-alarm target (the
+//! product's operating point), as is any rung whose calibration time resolves that rate in
+//! every room (`harness::summary::resolves`); the others on the trial AUC (Mann–Whitney),
+//! where Pd at a rare rate is mostly noise. The summary says which rung used which. The
+//! default configuration is carried to the last rung, so the choice is never worse than the
+//! default on the tuning trials' objective. A suite's detector entries are shared by its products, so one
 //! configuration is chosen per entry, maximising the mean over products.
 //!
 //! **Leave one room out**: for each nuisance room in turn the search is repeated without it,

@@ -6,13 +6,16 @@
 //! at least one). So the configurations of a rung share every trial (common random numbers),
 //! and rung `k + 1` re-runs the first trials of rung `k` and more (same seed, same keys): the
 //! survivors are ranked on more evidence, never on other luck. After each rung but the last,
-//! each entry keeps the best `ceil(n / keep_one_in)` of its `n` configurations.
+//! each entry keeps the best `ceil(n / keep_one_in)` of its `n` configurations, and its
+//! default configuration besides (a smoother criterion must not cut the one the objective
+//! may prefer).
 //!
 //! Ranking (`docs/reference/tuning.md#t2`): first the configurations that keep the
 //! latency limit; then the rung's criterion, the mean over products of either Pd at the
-//! suite's first false-alarm target (when every product's calibration rooms resolve that
-//! rate at this rung's size) or the trial AUC; then the other criterion; then the lower
-//! configuration index (the default first), so ties resolve the same way everywhere.
+//! suite's first false-alarm target (at the last rung, and wherever every product's
+//! calibration rooms resolve that rate at the rung's size) or the trial AUC; then the other
+//! criterion; then the lower configuration index (the default first), so ties resolve the
+//! same way everywhere.
 
 use crate::space::{configurations, tuning_space, Configuration, Space};
 use crate::{TuneError, TuneSettings};
@@ -281,7 +284,9 @@ pub fn search(
             .detectors
             .iter()
             .all(|d| d.operating_points.first().is_some_and(|o| o.resolved));
-        let criterion = if resolved {
+        // The last rung is ranked on the objective itself, whatever its size.
+        let last = k + 1 == settings.rungs;
+        let criterion = if resolved || last {
             Criterion::PdAtTarget
         } else {
             Criterion::TrialAuc
@@ -293,7 +298,6 @@ pub fn search(
             criterion,
             configurations: detectors.len(),
         });
-        let last = k + 1 == settings.rungs;
         for (e, list) in alive.iter_mut().enumerate() {
             let mut scored: Vec<Scored> = list
                 .iter()
@@ -333,6 +337,9 @@ pub fn search(
             } else {
                 list.len().div_ceil(settings.keep_one_in.max(1)).max(1)
             };
+            // The default goes on to every rung (never cut on a smoother criterion), so the
+            // last rung weighs the search's best against it on the objective.
+            let goes_on = |rank: usize, config: usize| rank < keep || (!last && config == 0);
             for (rank, s) in scored.iter().enumerate() {
                 history.push(HistoryRow {
                     rung: k,
@@ -343,11 +350,16 @@ pub fn search(
                     pd: s.pd,
                     value: Some(s.first),
                     within_latency: s.within,
-                    kept: rank < keep,
+                    kept: goes_on(rank, s.config),
                     refused: None,
                 });
             }
-            *list = scored.iter().take(keep).map(|s| s.config).collect();
+            *list = scored
+                .iter()
+                .enumerate()
+                .filter(|(rank, s)| goes_on(*rank, s.config))
+                .map(|(_, s)| s.config)
+                .collect();
         }
         last_tallies = Some(tallies);
     }
