@@ -113,6 +113,9 @@ pub enum Metric {
     /// Presence products: false-on time per empty hour, large-sample test of two weighted
     /// Poisson sums with a margin.
     FalseOnTime,
+    /// A rare event (`occurrences_per_day`): occurrences that raised a false alarm, per
+    /// occurrence, exact conditional test with a margin.
+    RareEventAlarms,
 }
 
 impl Metric {
@@ -127,6 +130,7 @@ impl Metric {
             Metric::FalseSwitchOns => "false switch-ons",
             Metric::Dropouts => "drop-outs",
             Metric::FalseOnTime => "false-on time",
+            Metric::RareEventAlarms => "rare-event alarms",
         }
     }
 }
@@ -227,7 +231,7 @@ pub struct Counts {
     pub count: f64,
     /// What it is counted over.
     pub of: f64,
-    /// `h` (exposure hours), `events` or `trials`.
+    /// `h` (exposure hours), `events`, `trials` or `occurrences`.
     pub unit: &'static str,
 }
 
@@ -360,6 +364,16 @@ pub fn gate(
     let paired = candidate.seed == baseline.seed;
     let mut checks = Vec::new();
     let mut notes = Vec::new();
+    if baseline
+        .detectors
+        .iter()
+        .any(|d| d.variants.iter().any(|v| v.label == "event"))
+    {
+        notes.push(
+            "rare events (`occurrences_per_day`) are judged per occurrence (the share that raised a false alarm) and kept out of the pooled rate and the budget"
+                .into(),
+        );
+    }
     if settings.budget_per_hour.is_none() {
         notes.push(
             "no false-alarm budget is set (suite `false_alarm_budget_per_hour` or --budget-per-hour): \
@@ -431,11 +445,29 @@ pub fn gate(
                 threshold: op.threshold,
             };
             for group in groups(b) {
-                let pairs = matched_variants(b, c, group.as_deref())?;
+                let mut pairs = matched_variants(b, c, group.as_deref())?;
+                if group.is_none() {
+                    // A rare event is scored per occurrence, never as steady noise time: it
+                    // stays out of the pooled rate and the budget, as in the summary.
+                    pairs.retain(|(vb, _)| vb.label != "event");
+                }
+                let is_event = !pairs.is_empty() && pairs.iter().all(|(vb, _)| vb.label == "event");
                 let side = |pick: Side| sums(&pairs, o, p, pick);
                 let (sb, sc) = (side(Side::Baseline), side(Side::Candidate));
                 let name = group.clone().unwrap_or_else(|| "all scenes".into());
-                detector_checks.push(rate_check(&at, &name, &sb, &sc, settings));
+                if is_event {
+                    let (xb, nb) = alarmed_occurrences(&pairs, o, p, Side::Baseline);
+                    let (xc, nc) = alarmed_occurrences(&pairs, o, p, Side::Candidate);
+                    detector_checks.push(occurrence_rise_check(
+                        &at,
+                        &name,
+                        (xb, nb),
+                        (xc, nc),
+                        settings,
+                    ));
+                } else {
+                    detector_checks.push(rate_check(&at, &name, &sb, &sc, settings));
+                }
                 detector_checks.push(paired_flags_check(
                     &at,
                     Metric::FalseAlarmPaired,
@@ -580,6 +612,76 @@ fn sums(pairs: &[(&VariantTally, &VariantTally)], o: usize, p: usize, side: Side
     }
     s.exposure_h = exposure_ns as f64 / 3.6e12;
     s
+}
+
+/// Occurrences of a rare event (one per test trial) that raised a false alarm, and all
+/// occurrences, on one side at its operating point (baseline) or pinned threshold (candidate).
+fn alarmed_occurrences(
+    pairs: &[(&VariantTally, &VariantTally)],
+    o: usize,
+    p: usize,
+    side: Side,
+) -> (u64, u64) {
+    pairs.iter().fold((0, 0), |(alarmed, all), (vb, vc)| {
+        let trials = match side {
+            Side::Baseline => &vb.operating[o].trials,
+            Side::Candidate => &vc.pinned[p].trials,
+        };
+        (
+            alarmed + trials.iter().filter(|t| t.false_alarms > 0).count() as u64,
+            all + trials.len() as u64,
+        )
+    })
+}
+
+/// A one-sided test that the share of a rare event's occurrences raising a false alarm rose
+/// by more than the ratio margin (its rate per day is the occurrence rate times that share,
+/// so the same margin applies): the exact conditional test of two counts, each over its
+/// number of occurrences. Treating the alarmed occurrences as Poisson counts is the usual
+/// approximation for a small share (common practice); for a large share it overstates the
+/// variance, so it errs toward passing, never toward a false regression.
+fn occurrence_rise_check(
+    at: &OperatingRef,
+    group: &str,
+    (b_alarmed, b_all): (u64, u64),
+    (c_alarmed, c_all): (u64, u64),
+    s: &GateSettings,
+) -> Check {
+    let mut check = at.check(Metric::RareEventAlarms, group);
+    check.baseline = CheckSide::counted(
+        format!("{b_alarmed} of {b_all} occurrences"),
+        counts(b_alarmed as f64, b_all as f64, "occurrences"),
+    );
+    check.candidate = CheckSide::counted(
+        format!("{c_alarmed} of {c_all} occurrences"),
+        counts(c_alarmed as f64, c_all as f64, "occurrences"),
+    );
+    if b_all == 0 || c_all == 0 {
+        check.note = "no occurrences in this group".into();
+        return check;
+    }
+    let candidate = EventCount {
+        events: c_alarmed,
+        exposure: c_all as f64,
+    };
+    let base = EventCount {
+        events: b_alarmed,
+        exposure: b_all as f64,
+    };
+    match rate_ratio_test(candidate, base, s.ratio_margin, 1.0 - s.alpha) {
+        Ok(t) => {
+            check.ratio = t.ratio.is_finite().then_some(t.ratio);
+            check.bound = Some(t.lower_bound);
+            check.p_value = Some(t.p_value);
+            check.verdict = Verdict::Pass;
+            check.note = format!(
+                "exact conditional test of alarmed occurrences per occurrence, ratio > {} (one-sided)",
+                s.ratio_margin
+            );
+        }
+        Err(e) => check.note = format!("not tested: {e}"),
+    }
+    check
 }
 
 fn rate_words(k: u64, hours: f64) -> String {

@@ -358,3 +358,72 @@ fn the_budget_check_is_three_way_and_an_inconclusive_case_is_skipped_in_junit() 
         assert!(c.rate_bounds_per_hour.unwrap()[1] < 1e6);
     }
 }
+
+/// A rare event is gated per occurrence: a baseline doctored to have had no alarmed door
+/// swing fails the candidate on the event's own check, and on nothing pooled, since events
+/// stay out of the pooled rate (as in the summary).
+#[test]
+fn a_rare_event_is_gated_per_occurrence_and_kept_out_of_the_pooled_rate() {
+    let mut suite = small_suite(13);
+    suite.detectors.retain(|d| d.label == "energy");
+    for scene in &mut suite.scenes {
+        if scene.occurrences_per_day.is_some() {
+            scene.trials = 40;
+        }
+    }
+    let event = suite
+        .scenes
+        .iter()
+        .find(|s| s.occurrences_per_day.is_some())
+        .expect("the corridor product has a rare event")
+        .id
+        .clone();
+    let baseline = run(&suite, None);
+    let candidate = run(&suite, Some(&baseline));
+    let settings = GateSettings::default();
+    let report = gate(&candidate, &baseline, &settings).unwrap();
+    assert!(report.passed(), "{}", table(&report));
+    let own: Vec<_> = report
+        .checks
+        .iter()
+        .filter(|c| c.metric == Metric::RareEventAlarms)
+        .collect();
+    assert!(!own.is_empty() && own.iter().all(|c| c.group == event));
+    assert!(report.notes.iter().any(|n| n.contains("per occurrence")));
+    let alarmed: u64 = own[0]
+        .candidate
+        .counts
+        .as_ref()
+        .map_or(0, |c| c.count as u64);
+    assert!(
+        alarmed >= 12,
+        "the door must alarm often enough at 60/h for the test to mean something: {alarmed}"
+    );
+
+    let mut doctored = baseline.clone();
+    for d in &mut doctored.detectors {
+        for v in d.variants.iter_mut().filter(|v| v.label == "event") {
+            for op in &mut v.operating {
+                op.false_alarms = 0;
+                op.false_alarms_by_source.clear();
+                for t in &mut op.trials {
+                    t.false_alarms = 0;
+                }
+            }
+        }
+    }
+    let report = gate(&candidate, &doctored, &settings).unwrap();
+    let failing: Vec<_> = report.regressions().collect();
+    assert!(
+        failing
+            .iter()
+            .any(|c| c.metric == Metric::RareEventAlarms && c.group == event),
+        "{}",
+        table(&report)
+    );
+    assert!(
+        failing.iter().all(|c| c.group == event),
+        "only the event's own checks may fail: {}",
+        table(&report)
+    );
+}
