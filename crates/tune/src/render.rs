@@ -175,8 +175,6 @@ pub fn history_svg(summary: &TuneSummary) -> String {
     svg.tag("svg")
         .attr("xmlns", "http://www.w3.org/2000/svg")
         .view_box(width, height)
-        .attr("width", width)
-        .attr("height", height)
         .open();
     svg.tag("rect")
         .px("x", 0.0)

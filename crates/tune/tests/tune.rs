@@ -315,7 +315,12 @@ fn tuning_is_bit_identical_for_one_and_two_threads() {
             format!("{:?}", tuned.detectors),
         )
     };
-    assert_eq!(run(1), run(2));
+    let one = run(1);
+    assert_eq!(one, run(2));
+    // The history plot is well-formed SVG with one line or dot per configuration run.
+    let svg = roxmltree::Document::parse(&one.1).expect("the history plot parses as XML");
+    assert_eq!(svg.root_element().tag_name().name(), "svg");
+    assert!(svg.descendants().any(|n| n.has_tag_name("circle")));
 }
 
 #[test]
