@@ -83,15 +83,20 @@ pub fn markdown(summary: &TuneSummary) -> String {
          tuning Pd minus the held-out Pd.\n\n",
         summary.suite, summary.tuning_seed, summary.suite_seed
     ));
-    out.push_str("## Rungs\n\n| rung | share of trials | test trials | configurations | ranked on |\n|---|---|---|---|---|\n");
+    out.push_str("## Rungs\n\n| rung | share of trials | test trials | configurations | ranked on | target resolved in calibration |\n|---|---|---|---|---|---|\n");
     for r in &summary.rungs {
         out.push_str(&format!(
-            "| {} | {:.3} | {} | {} | {} |\n",
+            "| {} | {:.3} | {} | {} | {} | {} |\n",
             r.index + 1,
             r.share,
             r.test_trials,
             r.configurations,
-            r.criterion.name()
+            r.criterion.name(),
+            if r.resolved {
+                "yes"
+            } else {
+                "no (threshold stricter)"
+            }
         ));
     }
     out.push_str("\n## Default against tuned\n\n");

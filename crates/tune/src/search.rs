@@ -56,6 +56,9 @@ pub struct RungInfo {
     pub test_trials: u64,
     /// What it was ranked on.
     pub criterion: Criterion,
+    /// Whether every product's calibration rooms resolved the target rate at this size
+    /// (when not, the operating threshold is stricter than the target).
+    pub resolved: bool,
     /// Configurations run (all entries).
     pub configurations: usize,
 }
@@ -296,6 +299,7 @@ pub fn search(
             share,
             test_trials: tallies.test_trials,
             criterion,
+            resolved,
             configurations: detectors.len(),
         });
         for (e, list) in alive.iter_mut().enumerate() {
