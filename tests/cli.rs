@@ -548,3 +548,110 @@ detectors:
     );
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// `report --tuning DIR` carries a tuning's verdict: the table of default against tuned and
+/// the search history; a tuning of another suite is refused.
+#[test]
+fn the_report_carries_a_tuning_of_its_suite() {
+    let echobench = binary();
+    let dir = scratch("tuning-report");
+    let suite = dir.join("suite.yaml");
+    std::fs::write(
+        &suite,
+        r#"
+name: tuning-check
+seed: 4
+trials: 3
+calibration_trials: 2
+scenes:
+  - id: walk-in
+    label: target
+    scene:
+      duration_s: 6
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 1000
+        front_end: {high_pass_hz: [0.5], low_pass_hz: [80], gain_db: 60}
+        adc: {bits: 12, full_scale_v: 3.3}
+      actors:
+        - kind: walker
+          path: {start_m: [{uniform: [3, 6]}, 0], heading_deg: 180, speed_mps: 1.2, enter_s: 1}
+  - id: hall
+    label: nuisance
+    scene:
+      duration_s: 6
+      sensor:
+        carrier_hz: 2.45e9
+        sample_rate_hz: 1000
+        front_end: {high_pass_hz: [0.5], low_pass_hz: [80], gain_db: 60}
+        adc: {bits: 12, full_scale_v: 3.3}
+detectors:
+  - plugin: energy
+"#,
+    )
+    .unwrap();
+    let (run, tuning) = (dir.join("run"), dir.join("tuning"));
+    let suite_arg = suite.to_str().unwrap();
+    succeed(
+        &echobench,
+        &["run", suite_arg, "--out", run.to_str().unwrap()],
+    );
+    succeed(
+        &echobench,
+        &[
+            "tune",
+            suite_arg,
+            "--out",
+            tuning.to_str().unwrap(),
+            "--configs",
+            "2",
+            "--rungs",
+            "1",
+            "--without-room-check",
+        ],
+    );
+    let html = dir.join("report.html");
+    succeed(
+        &echobench,
+        &[
+            "report",
+            run.to_str().unwrap(),
+            "--tuning",
+            tuning.to_str().unwrap(),
+            "--out",
+            html.to_str().unwrap(),
+        ],
+    );
+    let page = std::fs::read_to_string(&html).unwrap();
+    assert!(page.contains("Tuning: each detector tuned on its own trials"));
+    assert!(page.contains("data-check=\"tuning\""));
+    assert!(page.contains("tuned Pd (held-out)"));
+
+    // A tuning of another suite is refused by name.
+    let other_suite = dir.join("other.yaml");
+    let text = std::fs::read_to_string(&suite).unwrap();
+    std::fs::write(
+        &other_suite,
+        text.replace("name: tuning-check", "name: other-check"),
+    )
+    .unwrap();
+    let other = dir.join("other-run");
+    succeed(
+        &echobench,
+        &[
+            "run",
+            other_suite.to_str().unwrap(),
+            "--out",
+            other.to_str().unwrap(),
+        ],
+    );
+    let refused = Command::new(&echobench)
+        .args(["report", other.to_str().unwrap(), "--tuning"])
+        .arg(&tuning)
+        .args(["--out", dir.join("x.html").to_str().unwrap()])
+        .output()
+        .unwrap();
+    assert!(!refused.status.success());
+    assert!(String::from_utf8_lossy(&refused.stderr).contains("not of this run's suite"));
+    std::fs::remove_dir_all(&dir).unwrap();
+}

@@ -122,6 +122,10 @@ enum Command {
         /// The HTML file to write (default RUN/report.html).
         #[arg(long)]
         out: Option<PathBuf>,
+        /// A tuning's output folder (`echobench tune --out DIR`): its verdict and search history
+        /// become a section of the report.
+        #[arg(long)]
+        tuning: Option<PathBuf>,
     },
     /// Tune every detector's tunable parameters on tuning trials of their own (a Sobol sample
     /// cut by successive halving), then judge the tuned detectors beside their defaults on the
@@ -405,9 +409,12 @@ pub fn main_with(plugins: Vec<Arc<dyn DetectorPlugin>>) -> ExitCode {
                 },
             )
         }),
-        Command::Report { run, against, out } => {
-            run_report(&plugins, &run, against.as_deref(), out)
-        }
+        Command::Report {
+            run,
+            against,
+            out,
+            tuning,
+        } => run_report_with(&plugins, &run, against.as_deref(), out, tuning.as_deref()),
         Command::Merge {
             runs,
             out,
@@ -775,10 +782,34 @@ fn run_report(
     baseline: Option<&Path>,
     out: Option<PathBuf>,
 ) -> Result<ExitCode> {
+    run_report_with(plugins, run, baseline, out, None)
+}
+
+fn run_report_with(
+    plugins: &Plugins,
+    run: &Path,
+    baseline: Option<&Path>,
+    out: Option<PathBuf>,
+    tuning: Option<&Path>,
+) -> Result<ExitCode> {
     use echobench_report::{gate_section, render_html};
     let folder = RunFolder::open(run)?;
     let base = baseline.map(RunFolder::open).transpose()?;
     let mut extra = Vec::new();
+    if let Some(dir) = tuning {
+        echobench_run_folder::verify(dir, &[])?;
+        let summary = echobench_tune::read_summary(&dir.join(echobench_tune::SUMMARY_JSON_FILE))
+            .map_err(|e| anyhow::anyhow!("{e}"))?;
+        if summary.suite != folder.summary.suite {
+            bail!(
+                "{}: a tuning of suite `{}`, not of this run's suite `{}`",
+                dir.display(),
+                summary.suite,
+                folder.summary.suite
+            );
+        }
+        extra.push(echobench_report::tuning_section(&summary));
+    }
     if let Some(b) = &base {
         let settings = echobench_harness::gate::GateSettings {
             budget_per_hour: folder.summary.false_alarm_budget_per_hour,

@@ -43,9 +43,11 @@ pub mod plot;
 mod presence_part;
 mod product_part;
 mod rare_part;
+mod tuning_section;
 mod zone_part;
 
 pub use data::{fold_back_cut, grid_roc, trial_roc, GridRocPoint, TrialRoc};
 pub use echobench_run_files::{RunFileError, RunFolder};
 pub use gate_section::gate_section;
 pub use html::{render_html, Section};
+pub use tuning_section::tuning_section;
