@@ -70,9 +70,8 @@ pub use default_suite::{
 pub use load::{load_suite_file, load_suite_text};
 pub use model::{
     unit_of_field, AlarmSpec, CaptureSource, CaptureTrial, CoverageFinding, DetectorEntry,
-    PresenceOutput, Product, ProductKind, ProductZone, SceneLabel, SceneVariant, ScoringSpec, Suite,
-    SuiteScene,
-    ThresholdRule,
+    PresenceOutput, Product, ProductKind, ProductZone, SceneLabel, SceneVariant, ScoringSpec,
+    Suite, SuiteScene, ThresholdRule,
 };
 pub use products::module_differences;
 pub use sources::{EmbeddedSource, FolderSource, InlineOnly, SceneSource};

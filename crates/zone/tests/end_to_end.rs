@@ -8,7 +8,8 @@ use echobench_core::seed::StreamKey;
 use echobench_detector_energy::EnergyPlugin;
 use echobench_scene::{load_scene_text, synthesize, SceneSpec};
 use echobench_zone::{
-    floor_picture, side_picture, zone_csv, FloorRect, ZoneCsvPart, Walk, WalkKind, ZonePlan, ZoneSpec, ZoneTally,
+    floor_picture, side_picture, zone_csv, FloorRect, Walk, WalkKind, ZoneCsvPart, ZonePlan,
+    ZoneSpec, ZoneTally,
 };
 use rayon::prelude::*;
 
