@@ -22,6 +22,7 @@ use crate::signal::TrialSignal;
 use echobench_core::detector::{
     check_scores, Detector, DetectorPlugin, FrameScore, Params, Samples,
 };
+use echobench_core::alarm_statistic::MOfNStatistic;
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, Score};
 use echobench_presence::{
@@ -1122,7 +1123,7 @@ pub const PILOT_TRIALS: u64 = 24;
 /// rates' tail is resolved as finely as the grid's own upper tail (a choice of ours).
 const TAIL_THRESHOLDS: usize = 64;
 
-/// Of those, the largest trial maxima kept one by one: a counted threshold for a rare
+/// Of those, the largest trial maxima (of the alarm statistic) kept one by one: a counted threshold for a rare
 /// target allows at most `target × calibration hours` alarms, a handful in a soak (one in a
 /// week at one per week), so the thresholds that decide it are the few largest maxima.
 /// Spaced evenly in rank over a week's hundreds of maxima, the grid skipped them and the
@@ -1152,8 +1153,8 @@ struct CalibrationCounts {
     /// Per room (in [`rooms_of`] order): false alarms per grid threshold and exposure.
     rooms: Vec<(Vec<u64>, u64)>,
     failures: Vec<Failure>,
-    /// Indices (into the calibration jobs) of trials whose largest score reaches the
-    /// pilot grid's top, with that score.
+    /// Indices (into the calibration jobs) of trials whose alarm statistic reaches the
+    /// pilot grid's top, with its largest value.
     beyond_top: Vec<(usize, f64)>,
     /// Per room: the exceedance frames of the alarm statistic, for the tail fit.
     tails: Vec<TailAccumulator>,
@@ -1218,6 +1219,10 @@ fn count_calibration_trial(
         },
     };
     let room = room_of(job);
+    let rule = match counting {
+        Counting::Alarms { logic, .. } => logic.m_of_n(),
+        Counting::SwitchOns { rule, .. } => rule,
+    };
     for (di, count) in counts.iter_mut().enumerate() {
         match &trial.traces[di] {
             Trace::Ok { scores, .. } => {
@@ -1264,9 +1269,15 @@ fn count_calibration_trial(
                     }
                 }
                 if add_exposure {
+                    // The largest value of the alarm statistic (the M-th largest of the last N
+                    // scores), not of the raw scores: the alarm condition holds exactly where
+                    // the statistic reaches the threshold, so the counts change only at its
+                    // values, and a threshold placed at a trial's largest raw score would sit
+                    // above the alarm peak it stands for.
+                    let mut statistic = MOfNStatistic::new(rule);
                     let max = scores
                         .iter()
-                        .map(|s| s.value)
+                        .map(|s| statistic.push(s.value))
                         .filter(|v| v.is_finite())
                         .fold(f64::NEG_INFINITY, f64::max);
                     if grid.last().is_some_and(|top| max >= *top) {
@@ -1290,11 +1301,11 @@ fn count_calibration_trial(
     Ok(())
 }
 
-/// Thresholds above the pilot grid's top: the largest scores of the trials that reach it
-/// (at most [`TAIL_THRESHOLDS`] of them, evenly spaced in rank), and one just above the
-/// largest, where nothing alarms. Counts change only where the alarm statistic crosses a
-/// threshold, and only these trials' statistics get there, so these are the thresholds at
-/// which the rare false-alarm rates are decided.
+/// Thresholds above the pilot grid's top: the largest alarm statistics (M-th largest of the
+/// last N scores) of the trials that reach it (at most [`TAIL_THRESHOLDS`] of them, evenly
+/// spaced in rank), and one just above the largest, where nothing alarms. Counts change only
+/// where the alarm statistic crosses a threshold, and only these trials' statistics get
+/// there, so these are the thresholds at which the rare false-alarm rates are decided.
 fn tail_thresholds(top: f64, beyond: &[(usize, f64)]) -> Vec<f64> {
     let mut maxima: Vec<f64> = beyond
         .iter()
@@ -1337,10 +1348,10 @@ fn tail_thresholds(top: f64, beyond: &[(usize, f64)]) -> Vec<f64> {
 ///    ([`threshold_grid`]);
 /// 2. every calibration trial (the pilot from its kept traces, the others as they are
 ///    synthesized, then dropped) is scored at that grid: false alarms per threshold, per
-///    room and pooled, and the trials whose largest score reaches the grid's top;
-/// 3. thresholds are added above the top at those trials' largest scores
+///    room and pooled, and the trials whose alarm statistic reaches the grid's top;
+/// 3. thresholds are added above the top at those trials' largest alarm statistics
 ///    ([`tail_thresholds`]), and only those trials are synthesized again and scored there:
-///    every other trial's scores stay below the top, so it has no alarm at these
+///    every other trial's statistic stays below the top, so it has no alarm at these
 ///    thresholds. The counts at every threshold are therefore exact, as if all traces had
 ///    been kept.
 fn calibrate(
@@ -2126,11 +2137,22 @@ mod tests {
             tails += cal.thresholds.len().saturating_sub(grid_len);
             let mut pooled = vec![0u64; cal.thresholds.len()];
             let mut room = vec![0u64; cal.thresholds.len()];
+            let (mut peaks, mut pilot_scores) = (Vec::new(), Vec::new());
             for job in &all_jobs {
                 let trial = run_trial(&suite, &planned, job).unwrap();
                 let Trace::Ok { scores, .. } = &trial.traces[di] else {
                     panic!("no failures here")
                 };
+                let mut statistic = MOfNStatistic::new(logic.m_of_n());
+                peaks.push(
+                    scores
+                        .iter()
+                        .map(|s| statistic.push(s.value))
+                        .fold(f64::NEG_INFINITY, f64::max),
+                );
+                if job.key.trial < PILOT_TRIALS {
+                    pilot_scores.extend(scores.iter().map(|s| s.value));
+                }
                 let truth = trial_truth(&trial, window).unwrap();
                 for (g, r) in score_thresholds(scores, &truth, &logic, &cal.thresholds)
                     .iter()
@@ -2144,6 +2166,18 @@ mod tests {
             }
             assert_eq!(pooled, cal.false_alarms, "detector {di}");
             assert_eq!(room, cal.rooms[0].false_alarms, "detector {di}");
+            // Above the pilot grid the thresholds are values of the alarm statistic (the 2nd
+            // largest of 3 scores here), where the counts change: the last but one is the
+            // calibration's largest alarm peak, not its largest raw score.
+            let pilot_len = threshold_grid(pilot_scores, suite.scoring.threshold_count).len();
+            if let Some((last, beyond)) = cal.thresholds[pilot_len..].split_last() {
+                let largest = peaks.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+                assert!(*last > largest, "detector {di}");
+                for t in beyond {
+                    assert!(peaks.contains(t), "detector {di}: {t} is no trial's alarm peak");
+                }
+                assert_eq!(beyond.last(), Some(&largest), "detector {di}");
+            }
         }
         assert!(
             tails > 0,
