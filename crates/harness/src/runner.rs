@@ -19,10 +19,10 @@
 use crate::events::{score_thresholds, AlarmLogic, MOfN, MatchWindow, TrialTruth};
 use crate::planned::PlannedDetectors;
 use crate::signal::TrialSignal;
+use echobench_core::alarm_statistic::MOfNStatistic;
 use echobench_core::detector::{
     check_scores, Detector, DetectorPlugin, FrameScore, Params, Samples,
 };
-use echobench_core::alarm_statistic::MOfNStatistic;
 use echobench_core::seed::StreamKey;
 use echobench_core::{Interval, Score};
 use echobench_presence::{
@@ -2174,7 +2174,10 @@ mod tests {
                 let largest = peaks.iter().copied().fold(f64::NEG_INFINITY, f64::max);
                 assert!(*last > largest, "detector {di}");
                 for t in beyond {
-                    assert!(peaks.contains(t), "detector {di}: {t} is no trial's alarm peak");
+                    assert!(
+                        peaks.contains(t),
+                        "detector {di}: {t} is no trial's alarm peak"
+                    );
                 }
                 assert_eq!(beyond.last(), Some(&largest), "detector {di}");
             }
