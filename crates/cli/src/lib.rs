@@ -1018,6 +1018,7 @@ impl ProgressDisplay {
 fn run_detectors(plugins: &Plugins, sample_rate_hz: f64, carrier_hz: f64) -> Result<ExitCode> {
     use echobench_core::detector::{ParamKind, Params};
     use echobench_core::doppler::{doppler_hz, speed_mps, wavelength_m};
+    use echobench_core::param_decl::TuneRange;
     if !(sample_rate_hz.is_finite() && sample_rate_hz > 0.0) {
         anyhow::bail!("--sample-rate-hz must be a positive number, got {sample_rate_hz}");
     }
@@ -1099,13 +1100,25 @@ fn run_detectors(plugins: &Plugins, sample_rate_hz: f64, carrier_hz: f64) -> Res
                 ParamKind::Flag => "true | false".to_string(),
                 ParamKind::Text => "text".to_string(),
             };
+            // What `echobench tune` may search, as the table declares it.
+            let tuned = match spec.tune {
+                Some(r @ (TuneRange::Linear { low, high } | TuneRange::Log { low, high })) => {
+                    format!("; tunable, {} {low} to {high}", r.scale_name())
+                }
+                Some(
+                    r @ (TuneRange::Integer { low, high } | TuneRange::IntegerLog { low, high }),
+                ) => format!("; tunable, {} {low} to {high}", r.scale_name()),
+                Some(TuneRange::Choice) => "; tunable, every option".to_string(),
+                None => String::new(),
+            };
             println!(
-                "  {:<22} default {:<10} range {:<22} {}{}",
+                "  {:<22} default {:<10} range {:<22} {}{}{}",
                 spec.name,
                 spec.default_value(),
                 range,
                 spec.about,
-                unit
+                unit,
+                tuned
             );
         }
         println!();
