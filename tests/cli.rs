@@ -587,6 +587,7 @@ scenes:
         adc: {bits: 12, full_scale_v: 3.3}
 detectors:
   - plugin: energy
+  - {plugin: energy, label: energy-b}
 "#,
     )
     .unwrap();
@@ -610,6 +611,35 @@ detectors:
             "--without-room-check",
         ],
     );
+    // The same tuning in two shards of one entry each, merged: the same files.
+    let tune_args = ["--configs", "2", "--rungs", "1", "--without-room-check"];
+    for k in ["1", "2"] {
+        let mut args = vec!["tune", suite_arg, "--shard"];
+        let shard = format!("{k}/2");
+        let out = dir.join(format!("part{k}"));
+        args.extend([shard.as_str(), "--out", out.to_str().unwrap()]);
+        args.extend(tune_args);
+        succeed(&echobench, &args);
+    }
+    let merged = dir.join("merged");
+    let mut args = vec![
+        "tune",
+        suite_arg,
+        "--out",
+        merged.to_str().unwrap(),
+        "--parts",
+    ];
+    let (p1, p2) = (dir.join("part1"), dir.join("part2"));
+    args.extend([p1.to_str().unwrap(), p2.to_str().unwrap()]);
+    args.extend(tune_args);
+    succeed(&echobench, &args);
+    for file in ["tune-summary.json", "tuned-suite.yaml", "tune-history.svg"] {
+        assert!(
+            std::fs::read(tuning.join(file)).unwrap() == std::fs::read(merged.join(file)).unwrap(),
+            "{file} differs between the merged parts and the whole tuning"
+        );
+    }
+
     let html = dir.join("report.html");
     succeed(
         &echobench,

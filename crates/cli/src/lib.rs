@@ -165,6 +165,13 @@ enum Command {
         /// Override the suite's seed (the judging trials; the tuning seed derives from it).
         #[arg(long)]
         seed: Option<u64>,
+        /// Tune only shard K of N of the detector entries (every N-th entry) into `--out`;
+        /// merge the parts with `--parts`.
+        #[arg(long)]
+        shard: Option<String>,
+        /// Merge these shards' output folders into `--out` instead of tuning.
+        #[arg(long, num_args = 1..)]
+        parts: Vec<PathBuf>,
         /// Let detectors of the `external` plugin run the programs the suite names.
         #[arg(long)]
         allow_exec: bool,
@@ -367,6 +374,8 @@ pub fn main_with(plugins: Vec<Arc<dyn DetectorPlugin>>) -> ExitCode {
             without_room_check,
             threads,
             seed,
+            shard,
+            parts,
             allow_exec,
         } => tune_verb::run_tune(
             &plugins,
@@ -386,6 +395,8 @@ pub fn main_with(plugins: Vec<Arc<dyn DetectorPlugin>>) -> ExitCode {
                 threads,
                 seed,
                 allow_exec,
+                shard,
+                parts,
             },
         ),
         Command::Zone {

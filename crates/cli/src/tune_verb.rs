@@ -14,6 +14,10 @@ pub(crate) struct TuneRequest {
     pub threads: Option<usize>,
     pub seed: Option<u64>,
     pub allow_exec: bool,
+    /// Tune only shard K/N's detector entries (a part, to be merged with `parts`).
+    pub shard: Option<String>,
+    /// Merge these parts' folders instead of tuning.
+    pub parts: Vec<PathBuf>,
 }
 
 /// The file name a built-in scene is written under: its stem kept (the stem is the scene's
@@ -47,11 +51,38 @@ pub(crate) fn run_tune(plugins: &crate::Plugins, request: TuneRequest) -> Result
             .build_global()
             .context("setting the thread count")?;
     }
+    let shard = request
+        .shard
+        .as_deref()
+        .map(echobench_harness::runner::Shard::parse)
+        .transpose()
+        .map_err(anyhow::Error::msg)?;
+    if shard.is_some() && !request.parts.is_empty() {
+        bail!("--parts merges the parts of a split; it does not tune a shard");
+    }
     let staging = echobench_run_folder::Staging::begin(&request.out, request.replace)?;
     let all = plugins.with_external(request.allow_exec);
     let note = |text: &str| eprintln!("tune: {text}");
-    let (summary, tuned) = echobench_tune::tune(&suite, &all, &request.settings, &note)
-        .map_err(|e| anyhow::anyhow!("{e}"))?;
+    let (summary, tuned) = if !request.parts.is_empty() {
+        merge_part_folders(&suite, &all, &request.parts)?
+    } else if let Some(shard) = shard {
+        let part = echobench_tune::entries_of_shard(&suite, shard);
+        if part.detectors.is_empty() {
+            bail!(
+                "shard {}/{} holds no detector entry (the suite has {}): use fewer shards",
+                shard.index,
+                shard.count,
+                suite.detectors.len()
+            );
+        }
+        let (mut summary, tuned) = echobench_tune::tune(&part, &all, &request.settings, &note)
+            .map_err(|e| anyhow::anyhow!("{e}"))?;
+        summary.shards = vec![shard];
+        (summary, tuned)
+    } else {
+        echobench_tune::tune(&suite, &all, &request.settings, &note)
+            .map_err(|e| anyhow::anyhow!("{e}"))?
+    };
     // The tuned suite finds its scenes from the output folder: a suite file's scene paths
     // made absolute; the built-in suite's scenes written beside it.
     let text = crate::suite_text(request.suite.as_deref())?;
@@ -121,4 +152,40 @@ pub(crate) fn run_tune(plugins: &crate::Plugins, request: TuneRequest) -> Result
     print!("{}", echobench_tune::markdown(&summary));
     println!("\nwritten: {}", request.out.display());
     Ok(ExitCode::SUCCESS)
+}
+
+/// The parts of one split (`tune --shard K/N` folders) merged: their summaries
+/// ([`echobench_tune::merge_parts`]) and their tuned entries, back in suite order.
+fn merge_part_folders(
+    suite: &echobench_suite::Suite,
+    plugins: &[std::sync::Arc<dyn echobench_core::detector::DetectorPlugin>],
+    parts: &[PathBuf],
+) -> Result<(echobench_tune::TuneSummary, echobench_suite::Suite)> {
+    let mut summaries = Vec::new();
+    let mut entries = Vec::new();
+    for dir in parts {
+        echobench_run_folder::verify(dir, &[echobench_tune::SUMMARY_JSON_FILE, TUNED_SUITE_FILE])?;
+        summaries.push(
+            echobench_tune::read_summary(&dir.join(echobench_tune::SUMMARY_JSON_FILE))
+                .map_err(|e| anyhow::anyhow!("{e}"))?,
+        );
+        let (part, _) = echobench_suite::load_suite_file(&dir.join(TUNED_SUITE_FILE), plugins)
+            .map_err(|report| anyhow::anyhow!("{}: {report}", dir.display()))?;
+        entries.extend(part.detectors);
+    }
+    let summary =
+        echobench_tune::merge_parts(suite, summaries).map_err(|e| anyhow::anyhow!("{e}"))?;
+    let mut tuned = suite.clone();
+    tuned.detectors = suite
+        .detectors
+        .iter()
+        .map(|d| {
+            entries
+                .iter()
+                .find(|e| e.label == d.label)
+                .cloned()
+                .with_context(|| format!("no part holds detector `{}`", d.label))
+        })
+        .collect::<Result<_>>()?;
+    Ok((summary, tuned))
 }

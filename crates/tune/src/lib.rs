@@ -28,6 +28,9 @@
 //! default on the tuning trials' objective. A suite's detector entries are shared by its products, so one
 //! configuration is chosen per entry, maximising the mean over products.
 //!
+//! **Sharded by detector entry** (`shard`): entries never meet in the search, so shard K of N
+//! tunes every N-th entry and the parts merge into the whole tuning's summary, bit for bit.
+//!
 //! **Leave one room out**: for each nuisance room in turn the search is repeated without it,
 //! the thresholds are cut on the other rooms, and the configuration found is scored on that
 //! room's fresh trials at those thresholds (pinned, as the gate pins a baseline's). A
@@ -37,12 +40,14 @@
 mod judge;
 mod render;
 mod search;
+mod shard;
 mod space;
 pub mod suite_file;
 
 pub use judge::{judge, leave_one_out, tuned_suite, JudgedFigure, LeftOutRoom, DEFAULT_SUFFIX};
 pub use render::{history_svg, markdown, summary_json, tuning_table};
 pub use search::{search, Criterion, HistoryRow, ProductPd, RungInfo, SearchResult};
+pub use shard::{entries_of_shard, merge_parts};
 pub use space::{configurations, tuning_space, Configuration, Space, TunedParam};
 
 use echobench_core::detector::DetectorPlugin;
@@ -198,6 +203,10 @@ pub struct TuneSummary {
     pub left_out: Vec<LeftOutRoom>,
     /// The false-alarm target the search and the verdict are at, per hour.
     pub target_per_hour: f64,
+    /// The shard this summary is a part of (`tune --shard K/N`); empty for a whole tuning,
+    /// merged parts included ([`merge_parts`]).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub shards: Vec<echobench_harness::runner::Shard>,
 }
 
 /// Searches, judges and (when asked) leaves each room out: the whole of `echobench tune`
@@ -232,6 +241,7 @@ pub fn tune(
             history: found.history.clone(),
             left_out,
             target_per_hour: found.target_per_hour,
+            shards: Vec::new(),
         },
         tuned_suite,
     ))

@@ -372,3 +372,47 @@ fn the_tuned_suite_file_loads_back_with_the_same_scenes_and_detectors() {
     }
     assert_eq!(back.detectors.len(), detectors.len());
 }
+
+/// Shards tune every N-th detector entry; their parts merge into the summary of the whole
+/// tuning, byte for byte, and into the same tuned entries (rooms left out included).
+#[test]
+fn parts_of_a_split_merge_into_the_whole_tuning() {
+    use echobench_harness::runner::Shard;
+    let mut suite = planted_suite(9, 8);
+    let entry = suite.detectors[0].clone();
+    suite.detectors = ["tone-a", "tone-b", "tone-c"]
+        .iter()
+        .map(|label| echobench_suite::DetectorEntry {
+            label: label.to_string(),
+            ..entry.clone()
+        })
+        .collect();
+    let small = TuneSettings {
+        configs: 4,
+        leave_one_out: true,
+        ..settings()
+    };
+    let (whole, whole_tuned) = tune(&suite, &plugins(), &small, &|_| {}).unwrap();
+    let mut parts = Vec::new();
+    let mut entries = Vec::new();
+    // Given in reverse: the merge puts the rows back in suite order.
+    for index in [2, 1] {
+        let shard = Shard { index, count: 2 };
+        let part = echobench_tune::entries_of_shard(&suite, shard);
+        assert!(part.detectors.len() < suite.detectors.len());
+        let (mut summary, tuned) = tune(&part, &plugins(), &small, &|_| {}).unwrap();
+        summary.shards = vec![shard];
+        parts.push(summary);
+        entries.extend(tuned.detectors);
+    }
+    let merged = echobench_tune::merge_parts(&suite, parts.clone()).unwrap();
+    assert_eq!(
+        echobench_tune::summary_json(&merged).unwrap(),
+        echobench_tune::summary_json(&whole).unwrap()
+    );
+    entries.sort_by_key(|e| suite.detectors.iter().position(|d| d.label == e.label));
+    assert_eq!(entries, whole_tuned.detectors);
+    // A missing shard is refused.
+    let error = echobench_tune::merge_parts(&suite, parts[..1].to_vec()).unwrap_err();
+    assert!(error.to_string().contains("give every shard"), "{error}");
+}
