@@ -216,11 +216,7 @@ pub fn history_svg(summary: &TuneSummary) -> String {
         svg.text_at(x, area.bottom() + 30.0, "middle", 10.0)
             .content(r.criterion.name());
     }
-    svg.text_at(14.0, area.top + area.height / 2.0, "middle", 11.0)
-        .attr(
-            "transform",
-            format!("rotate(-90 14 {:.1})", area.top + area.height / 2.0),
-        )
+    svg.upright_text_at(14.0, area.top + area.height / 2.0, 0.0, 11.0)
         .content(&y_axis.label);
     svg.text_at(area.left, 18.0, "start", 13.0)
         .content(&format!("Search history of suite {}", summary.suite));
