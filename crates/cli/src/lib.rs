@@ -1001,9 +1001,15 @@ fn progress_bar() -> ProgressDisplay {
 impl ProgressDisplay {
     fn update(&self, p: echobench_harness::runner::Progress) {
         let phase = if p.calibration { "calibration" } else { "test" };
+        self.update_as(phase, p);
+    }
+
+    /// As [`ProgressDisplay::update`], with the phase named by the caller (e.g. the zone's
+    /// walks, which are neither calibration nor test trials).
+    fn update_as(&self, phase: &str, p: echobench_harness::runner::Progress) {
         match &self.bar {
             Some(bar) => {
-                bar.set_message(phase);
+                bar.set_message(phase.to_string());
                 bar.set_length(p.total);
                 bar.set_position(p.done);
             }

@@ -69,7 +69,7 @@ pub(crate) fn run_zone(plugins: &Plugins, request: ZoneRequest<'_>) -> Result<Ex
     let record = if request.parts.is_empty() {
         let detectors = resolve_detectors(&suite, &with_external)?;
         let bar = progress_bar();
-        let report = |p: Progress| bar.update(p);
+        let report = |p: Progress| bar.update_as("zone walks", p);
         let products = run_zones(&suite, &detectors, &folder.tallies, shard, &report)?;
         bar.finish();
         ZoneRecord {
