@@ -660,13 +660,32 @@ fn occurrence_rise_check(
         check.note = "no occurrences in this group".into();
         return check;
     }
+    ratio_test(
+        check,
+        (c_alarmed, c_all as f64),
+        (b_alarmed, b_all as f64),
+        s,
+        "alarmed occurrences per occurrence, ratio",
+    )
+}
+
+/// `check` with the exact conditional test of the candidate's count over its exposure
+/// against the baseline's, one-sided, H0: ratio ≤ the margin; `what` names the ratio in the
+/// note.
+fn ratio_test(
+    mut check: Check,
+    (c_count, c_exposure): (u64, f64),
+    (b_count, b_exposure): (u64, f64),
+    s: &GateSettings,
+    what: &str,
+) -> Check {
     let candidate = EventCount {
-        events: c_alarmed,
-        exposure: c_all as f64,
+        events: c_count,
+        exposure: c_exposure,
     };
     let base = EventCount {
-        events: b_alarmed,
-        exposure: b_all as f64,
+        events: b_count,
+        exposure: b_exposure,
     };
     match rate_ratio_test(candidate, base, s.ratio_margin, 1.0 - s.alpha) {
         Ok(t) => {
@@ -675,7 +694,7 @@ fn occurrence_rise_check(
             check.p_value = Some(t.p_value);
             check.verdict = Verdict::Pass;
             check.note = format!(
-                "exact conditional test of alarmed occurrences per occurrence, ratio > {} (one-sided)",
+                "exact conditional test of {what} > {} (one-sided)",
                 s.ratio_margin
             );
         }
@@ -835,28 +854,13 @@ fn count_rise_check(
         check.note = no_exposure.into();
         return check;
     }
-    let candidate = EventCount {
-        events: c_count,
-        exposure: c_hours,
-    };
-    let base = EventCount {
-        events: b_count,
-        exposure: b_hours,
-    };
-    match rate_ratio_test(candidate, base, s.ratio_margin, 1.0 - s.alpha) {
-        Ok(t) => {
-            check.ratio = t.ratio.is_finite().then_some(t.ratio);
-            check.bound = Some(t.lower_bound);
-            check.p_value = Some(t.p_value);
-            check.verdict = Verdict::Pass;
-            check.note = format!(
-                "exact conditional test of rate ratio > {} (one-sided)",
-                s.ratio_margin
-            );
-        }
-        Err(e) => check.note = format!("not tested: {e}"),
-    }
-    check
+    ratio_test(
+        check,
+        (c_count, c_hours),
+        (b_count, b_hours),
+        s,
+        "rate ratio",
+    )
 }
 
 /// Per-trial outcomes of both runs, matched by variant and trial index.
