@@ -3,7 +3,7 @@
 //! detectors at a glance before opening each one's full picture.
 
 use crate::beam::BeamView;
-use crate::picture::{polyline_d, probability_colour, BEAM, FEW, INK};
+use crate::picture::{floor_clip, polyline_d, probability_colour, reach_m, BEAM, FEW, INK};
 use crate::plan::ZonePlan;
 use crate::spec::WalkKind;
 use crate::tally::ZoneTally;
@@ -49,15 +49,7 @@ pub fn overview_picture(
         plan.spec().beam_plane_height_m
     ));
     let sensor = plan.sensor();
-    let reach = [
-        [floor.x_min_m, floor.y_min_m],
-        [floor.x_max_m, floor.y_min_m],
-        [floor.x_min_m, floor.y_max_m],
-        [floor.x_max_m, floor.y_max_m],
-    ]
-    .iter()
-    .map(|c| (c[0] - sensor.position_m[0]).hypot(c[1] - sensor.position_m[1]))
-    .fold(0.0, f64::max);
+    let reach = reach_m(plan);
     let outline =
         BeamView::new(sensor).outline_on_plane(plan.spec().beam_plane_height_m, -3.0, reach);
     let [cell_w, cell_d] = grid.cell_size_m();
@@ -102,23 +94,13 @@ pub fn overview_picture(
                 .attr("fill", &fill)
                 .end();
         }
-        // The outline, clipped to the panel (ids name the panel's place and the floor, so
-        // pictures sharing a page share an id only where they share the rectangle).
-        let clip_id = format!(
-            "overview-{i}-{:x}-{:x}-{:x}-{:x}",
-            floor.x_min_m.to_bits(),
-            floor.x_max_m.to_bits(),
-            floor.y_min_m.to_bits(),
-            floor.y_max_m.to_bits()
+        // The outline, clipped to the panel.
+        let clip_id = floor_clip(
+            &mut svg,
+            &format!("overview-{i}"),
+            &floor,
+            [left, panel_top, panel_w, panel_h],
         );
-        svg.tag("clipPath").attr("id", &clip_id).open();
-        svg.tag("rect")
-            .px("x", left)
-            .px("y", panel_top)
-            .px("width", panel_w)
-            .px("height", panel_h)
-            .end();
-        svg.close("clipPath");
         svg.tag("g")
             .attr("clip-path", format!("url(#{clip_id})"))
             .open();

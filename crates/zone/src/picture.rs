@@ -2,7 +2,7 @@
 
 use crate::beam::BeamView;
 use crate::plan::ZonePlan;
-use crate::spec::WalkKind;
+use crate::spec::{FloorRect, WalkKind};
 use crate::tally::ZoneTally;
 use echobench_svg::axis::{draw_ticks, format_number, Axis, Edge, PlotArea, TickStyle};
 use echobench_svg::{Svg, SVG_NAMESPACE};
@@ -74,6 +74,44 @@ pub(crate) fn polyline_d(points: impl Iterator<Item = (f64, f64)>, close: bool) 
         d.push('Z');
     }
     d
+}
+
+/// The horizontal distance from the sensor to the floor's farthest corner, m: how far the
+/// beam outline must be traced.
+pub(crate) fn reach_m(plan: &ZonePlan) -> f64 {
+    let floor = plan.grid().floor;
+    let sensor = plan.sensor().position_m;
+    [
+        [floor.x_min_m, floor.y_min_m],
+        [floor.x_max_m, floor.y_min_m],
+        [floor.x_min_m, floor.y_max_m],
+        [floor.x_max_m, floor.y_max_m],
+    ]
+    .iter()
+    .map(|c| (c[0] - sensor[0]).hypot(c[1] - sensor[1]))
+    .fold(0.0, f64::max)
+}
+
+/// Writes a clip path of the rectangle `[x, y, width, height]` px and returns its id. The id
+/// names `stem` and the floor's corners, so pictures of other floors can share one page (an
+/// HTML report inlines many): the same id always stands for the same rectangle.
+pub(crate) fn floor_clip(svg: &mut Svg, stem: &str, floor: &FloorRect, rect: [f64; 4]) -> String {
+    let id = format!(
+        "{stem}-{:x}-{:x}-{:x}-{:x}",
+        floor.x_min_m.to_bits(),
+        floor.x_max_m.to_bits(),
+        floor.y_min_m.to_bits(),
+        floor.y_max_m.to_bits()
+    );
+    svg.tag("clipPath").attr("id", &id).open();
+    svg.tag("rect")
+        .px("x", rect[0])
+        .px("y", rect[1])
+        .px("width", rect[2])
+        .px("height", rect[3])
+        .end();
+    svg.close("clipPath");
+    id
 }
 
 fn legend_swatch(svg: &mut Svg, x: f64, y: f64, fill: &str, stroke: Option<(&str, &str)>) {
@@ -212,33 +250,14 @@ pub fn floor_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zo
         .attr("stroke", INK)
         .end();
     // Beam outlines, clipped to the floor.
-    // The id names its rectangle, so pictures of different floors can share one page (an
-    // HTML report inlines many): same id, same rectangle.
-    let clip_id = format!(
-        "floor-{:x}-{:x}-{:x}-{:x}",
-        floor.x_min_m.to_bits(),
-        floor.x_max_m.to_bits(),
-        floor.y_min_m.to_bits(),
-        floor.y_max_m.to_bits()
+    let clip_id = floor_clip(
+        &mut svg,
+        "floor",
+        &floor,
+        [area.left, area.top, area.width, area.height],
     );
-    svg.tag("clipPath").attr("id", &clip_id).open();
-    svg.tag("rect")
-        .px("x", area.left)
-        .px("y", area.top)
-        .px("width", area.width)
-        .px("height", area.height)
-        .end();
-    svg.close("clipPath");
     let sensor = plan.sensor();
-    let reach = [
-        [floor.x_min_m, floor.y_min_m],
-        [floor.x_max_m, floor.y_min_m],
-        [floor.x_min_m, floor.y_max_m],
-        [floor.x_max_m, floor.y_max_m],
-    ]
-    .iter()
-    .map(|c| (c[0] - sensor.position_m[0]).hypot(c[1] - sensor.position_m[1]))
-    .fold(0.0, f64::max);
+    let reach = reach_m(plan);
     let view = BeamView::new(sensor);
     svg.tag("g")
         .attr("clip-path", format!("url(#{clip_id})"))
@@ -359,19 +378,10 @@ fn ticks_without_grid() -> TickStyle {
 /// by range ring (cells pooled by the distance of their centre, rings one cell wide).
 pub fn side_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &ZoneTally) -> Svg {
     let grid = plan.grid();
-    let floor = grid.floor;
     let sensor = plan.sensor();
     let sensor_floor = [sensor.position_m[0], sensor.position_m[1]];
     let range_of = |p: [f64; 2]| (p[0] - sensor_floor[0]).hypot(p[1] - sensor_floor[1]);
-    let reach = [
-        [floor.x_min_m, floor.y_min_m],
-        [floor.x_max_m, floor.y_min_m],
-        [floor.x_min_m, floor.y_max_m],
-        [floor.x_max_m, floor.y_max_m],
-    ]
-    .iter()
-    .map(|&c| range_of(c))
-    .fold(0.0, f64::max);
+    let reach = reach_m(plan);
     let tallest = plan.walks().iter().map(|w| w.height_m).fold(0.0, f64::max);
     let top_m = sensor.position_m[2].max(tallest) + 0.3;
     let strip_m = 0.5;
