@@ -3,7 +3,8 @@
 //! A run folder holds `suite.yaml` (the suite's text as run), `tallies.json` (the integer
 //! counts everything else is computed from), `summary.json`, `roc.csv`, `events.csv`,
 //! `presence.csv` (when a product is a presence product) and `timing.json` (absent for merged
-//! runs); `report.html` and the gate's files are added by their own writers. This crate is
+//! runs); `report.html` and the gate's files are added by their own writers, and the
+//! detection zone's (`zone.json`, `zone.csv`, `zone-*.svg`; [`zone`]) by `echobench zone`. This crate is
 //! the one place that knows that list: [`RunFolder::write_into`] writes the data files into a
 //! staged folder, [`RunFolder::open`] reads a sealed folder back, and [`read_tallies`] takes
 //! the tallies of a run, a reference or a bare `tallies.json`. The command line, the report
