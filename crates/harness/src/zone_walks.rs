@@ -119,12 +119,14 @@ pub struct ZoneRecord {
     pub products: Vec<ProductZoneRun>,
 }
 
-/// Fills each detector's [`ZoneDetector::figures`] from its tallies and the product's plan.
+/// Fills each detector's [`ZoneDetector::figures`] from its tallies and the product's plan;
+/// returns the plans, one per product of `record` in its order, for the pictures and the CSV.
 ///
 /// # Errors
 /// A product the suite does not hold, a plan refused, or tallies that do not fit the plan
 /// (a `zone.json` from another suite or edited by hand).
-pub fn fill_figures(suite: &Suite, record: &mut ZoneRecord) -> Result<(), RunError> {
+pub fn fill_figures(suite: &Suite, record: &mut ZoneRecord) -> Result<Vec<ZonePlan>, RunError> {
+    let mut plans = Vec::with_capacity(record.products.len());
     for product in &mut record.products {
         let (plan, _) = product_zone_plan(suite, &product.product)?.ok_or_else(|| {
             RunError(format!(
@@ -138,8 +140,9 @@ pub fn fill_figures(suite: &Suite, record: &mut ZoneRecord) -> Result<(), RunErr
             })?;
             d.figures = zone_figures(&plan, &d.tally, record.confidence);
         }
+        plans.push(plan);
     }
-    Ok(())
+    Ok(plans)
 }
 
 /// The plan of `product`'s zone (deterministic: the suite's seed, the zone block and the

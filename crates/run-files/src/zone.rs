@@ -4,9 +4,7 @@
 //! shard's part holds `zone-part.json` only.
 
 use crate::{read_text, RunFileError};
-use echobench_harness::zone_walks::{
-    fill_figures, product_zone_plan, ZonePicture, ZoneRecord, ZONE_SCHEMA_VERSION,
-};
+use echobench_harness::zone_walks::{fill_figures, ZonePicture, ZoneRecord, ZONE_SCHEMA_VERSION};
 use echobench_suite::Suite;
 use echobench_zone::{
     floor_picture, is_ceiling_mount, overview_picture, side_picture, zone_csv, WalkKind,
@@ -56,14 +54,10 @@ pub fn zone_files(
     record: &mut ZoneRecord,
 ) -> Result<Vec<(String, Vec<u8>)>, RunFileError> {
     let fail = |message: String| RunFileError::Zone { message };
-    fill_figures(suite, record).map_err(|e| fail(e.0))?;
+    let plans = fill_figures(suite, record).map_err(|e| fail(e.0))?;
     let mut files = Vec::new();
-    let mut plans = Vec::new();
     let mut used = std::collections::BTreeSet::new();
-    for product in &mut record.products {
-        let (plan, _) = product_zone_plan(suite, &product.product)
-            .map_err(|e| fail(e.0))?
-            .ok_or_else(|| fail(format!("product `{}` has no zone", product.product)))?;
+    for (product, plan) in record.products.iter_mut().zip(&plans) {
         product.pictures.clear();
         // First the detectors side by side, one picture per kind of walk.
         let all: Vec<(&str, &echobench_zone::ZoneTally)> = product
@@ -81,7 +75,7 @@ pub fn zone_files(
                 kind.name()
             );
             used.insert(file.clone());
-            let svg = overview_picture(&plan, &product.product, kind, &all);
+            let svg = overview_picture(plan, &product.product, kind, &all);
             files.push((file.clone(), svg.as_str().as_bytes().to_vec()));
             product.pictures.push(ZonePicture {
                 detector: String::new(),
@@ -95,9 +89,9 @@ pub fn zone_files(
                 if !plan.spec().kinds.contains(&kind) {
                     continue;
                 }
-                let mut views = vec![("floor", floor_picture(&plan, &d.label, kind, &d.tally))];
-                if is_ceiling_mount(&plan) {
-                    views.push(("side", side_picture(&plan, &d.label, kind, &d.tally)));
+                let mut views = vec![("floor", floor_picture(plan, &d.label, kind, &d.tally))];
+                if is_ceiling_mount(plan) {
+                    views.push(("side", side_picture(plan, &d.label, kind, &d.tally)));
                 }
                 for (view, svg) in views {
                     let stem = format!(
@@ -124,7 +118,6 @@ pub fn zone_files(
                 }
             }
         }
-        plans.push(plan);
     }
     let labelled: Vec<Vec<(&str, &echobench_zone::ZoneTally)>> = record
         .products

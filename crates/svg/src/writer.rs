@@ -82,6 +82,22 @@ impl Svg {
             .attr("transform", format_args!("rotate(-90 {x:.1} {y:.1})"))
     }
 
+    /// Opens a standalone picture of `width` × `height` px: the `<svg>` root (namespace, view
+    /// box, sans-serif text) and a white background, as the zone and tuning pictures start.
+    /// Close it with `close("svg")`.
+    pub fn white_page(&mut self, width: f64, height: f64) {
+        self.tag("svg")
+            .attr("xmlns", SVG_NAMESPACE)
+            .view_box(width, height)
+            .attr("font-family", "sans-serif")
+            .open();
+        self.tag("rect")
+            .attr("width", width)
+            .attr("height", height)
+            .attr("fill", "#ffffff")
+            .end();
+    }
+
     /// Markup written by this crate (a fragment or a whole document, e.g. to nest it).
     pub fn append(&mut self, other: &Svg) {
         self.0.push_str(&other.0);

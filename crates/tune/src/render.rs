@@ -177,17 +177,7 @@ pub fn history_svg(summary: &TuneSummary) -> String {
     let x_axis = Axis::linear("rung", -0.5, rungs as f64 - 0.5);
     let y_axis = Axis::linear("criterion (mean over products)", 0.0, 1.0);
     let mut svg = Svg::new();
-    svg.tag("svg")
-        .attr("xmlns", "http://www.w3.org/2000/svg")
-        .view_box(width, height)
-        .open();
-    svg.tag("rect")
-        .px("x", 0.0)
-        .px("y", 0.0)
-        .attr("width", width)
-        .attr("height", height)
-        .attr("fill", "#ffffff")
-        .end();
+    svg.white_page(width, height);
     let style = TickStyle {
         ink: "#444444",
         grid: Some("#e6e6e6"),

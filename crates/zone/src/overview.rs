@@ -7,7 +7,7 @@ use crate::picture::{floor_clip, polyline_d, probability_colour, reach_m, BEAM, 
 use crate::plan::ZonePlan;
 use crate::spec::WalkKind;
 use crate::tally::ZoneTally;
-use echobench_svg::{Svg, SVG_NAMESPACE};
+use echobench_svg::Svg;
 
 /// Largest drawing of the floor in a panel, px.
 const PANEL_BOX_PX: f64 = 190.0;
@@ -33,16 +33,7 @@ pub fn overview_picture(
     let width = (gap + columns as f64 * (panel_w + gap)).ceil();
     let height = (top + rows as f64 * (panel_h + title_h + gap)).ceil();
     let mut svg = Svg::new();
-    svg.tag("svg")
-        .attr("xmlns", SVG_NAMESPACE)
-        .view_box(width, height)
-        .attr("font-family", "sans-serif")
-        .open();
-    svg.tag("rect")
-        .attr("width", width)
-        .attr("height", height)
-        .attr("fill", "#ffffff")
-        .end();
+    svg.white_page(width, height);
     svg.text_at(gap, 20.0, "start", 13.0).content(&format!(
         "{product}: {} walks, P(detected by leaving a cell) per detector; line: beam −3 dB two-way at {} m",
         kind.name(),

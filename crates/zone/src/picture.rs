@@ -5,7 +5,7 @@ use crate::plan::ZonePlan;
 use crate::spec::{FloorRect, WalkKind};
 use crate::tally::ZoneTally;
 use echobench_svg::axis::{draw_ticks, format_number, Axis, Edge, PlotArea, TickStyle};
-use echobench_svg::{Svg, SVG_NAMESPACE};
+use echobench_svg::Svg;
 
 pub(crate) const INK: &str = "#262626";
 const GRID: &str = "#ececec";
@@ -156,16 +156,7 @@ pub fn floor_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zo
         )
     };
     let mut svg = Svg::new();
-    svg.tag("svg")
-        .attr("xmlns", SVG_NAMESPACE)
-        .view_box(width, height)
-        .attr("font-family", "sans-serif")
-        .open();
-    svg.tag("rect")
-        .attr("width", width)
-        .attr("height", height)
-        .attr("fill", "#ffffff")
-        .end();
+    svg.white_page(width, height);
     let radius = grid.radius_m();
     svg.text_at(area.left, 18.0, "start", 13.0)
         .content(&format!(
@@ -404,16 +395,7 @@ pub fn side_picture(plan: &ZonePlan, detector: &str, kind: WalkKind, tally: &Zon
         )
     };
     let mut svg = Svg::new();
-    svg.tag("svg")
-        .attr("xmlns", SVG_NAMESPACE)
-        .view_box(width, height)
-        .attr("font-family", "sans-serif")
-        .open();
-    svg.tag("rect")
-        .attr("width", width)
-        .attr("height", height)
-        .attr("fill", "#ffffff")
-        .end();
+    svg.white_page(width, height);
     svg.text_at(area.left, 18.0, "start", 13.0)
         .content(&format!(
             "{detector}: {} walks, side view along the boresight azimuth",

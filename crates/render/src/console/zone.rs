@@ -9,9 +9,12 @@ use echobench_harness::zone_walks::ZoneRecord;
 pub fn zone_table(record: &ZoneRecord) -> String {
     let mut out = String::new();
     let pct = |v: Option<f64>| v.map_or("—".to_string(), |v| format!("{:.0} %", 100.0 * v));
-    for product in &record.products {
+    for (i, product) in record.products.iter().enumerate() {
+        if i > 0 {
+            out.push('\n');
+        }
         out.push_str(&format!(
-            "\nDetection zone of {} ({} walks through the room of `{}`; each detector at its \
+            "Detection zone of {} ({} walks through the room of `{}`; each detector at its \
              first operating threshold):\n",
             product.product, product.walks_run, product.scene
         ));
